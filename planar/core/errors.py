@@ -1,0 +1,86 @@
+"""The one exception hierarchy of planar.
+
+Every error a user can cause is a :class:`PlanarError`; its message says what is wrong and how to fix
+it, and lists the valid choices where there are some. The command line prints these in one or two
+lines without a traceback.
+"""
+from __future__ import annotations
+
+from typing import Iterable
+
+__all__ = [
+    "PlanarError",
+    "InputError",
+    "MeshError",
+    "ElementError",
+    "MaterialError",
+    "NameNotFoundError",
+    "SupportError",
+    "SolverError",
+    "PluginError",
+    "GeometryError",
+    "ResourceError",
+]
+
+
+class PlanarError(Exception):
+    """Base class of every error planar raises on purpose."""
+
+
+class InputError(PlanarError, ValueError):
+    """A value given by the user is out of range or of the wrong kind."""
+
+
+class MeshError(PlanarError):
+    """A mesh is empty, malformed, or cannot be read."""
+
+
+class ElementError(MeshError):
+    """Elements are inverted, degenerate or too distorted to integrate."""
+
+
+class MaterialError(InputError):
+    """Material constants that do not describe a stable elastic solid."""
+
+
+class NameNotFoundError(PlanarError, KeyError):
+    """A name (edge, point, region, element type, load kind, load case) that does not exist."""
+
+    def __str__(self) -> str:  # KeyError would quote the message
+        return str(self.args[0]) if self.args else ""
+
+
+class SupportError(PlanarError):
+    """Supports that leave the model free to move, or that contradict each other."""
+
+
+class SolverError(PlanarError):
+    """A linear solve that failed or did not converge."""
+
+
+class PluginError(PlanarError):
+    """A plugin that cannot be loaded or declares something invalid."""
+
+
+class GeometryError(PlanarError):
+    """A plate geometry that cannot be built or meshed."""
+
+
+class ResourceError(PlanarError):
+    """A job too large for the memory or time at hand."""
+
+
+def choices(names: Iterable[str]) -> str:
+    """Format a list of valid names for an error message."""
+    names = sorted(str(n) for n in names)
+    if not names:
+        return "(none defined)"
+    return ", ".join(repr(n) for n in names)
+
+
+def unknown_name(what: str, name: str, valid: Iterable[str], hint: str = "") -> NameNotFoundError:
+    """Build the standard "unknown X" error listing what exists."""
+    msg = f"unknown {what} {name!r}; pick one of: {choices(valid)}"
+    if hint:
+        msg += f". {hint}"
+    return NameNotFoundError(msg)

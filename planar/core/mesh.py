@@ -1,0 +1,308 @@
+"""The mesh: node coordinates, cell blocks by element type, and named sets.
+
+A mesh built by a geometry script and a mesh read from a file (through meshio) are the same object,
+so everything after this point works on numpy arrays alone.
+"""
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field
+from typing import Mapping
+
+import numpy as np
+
+from .errors import MeshError, unknown_name
+
+__all__ = ["Mesh", "MESHIO_TO_LAYOUT", "LAYOUT_TO_MESHIO"]
+
+#: meshio cell type -> built-in element layout name
+MESHIO_TO_LAYOUT = {"triangle": "T3", "triangle6": "T6", "quad": "Q4", "quad8": "Q8", "quad9": "Q9"}
+LAYOUT_TO_MESHIO = {v: k for k, v in MESHIO_TO_LAYOUT.items()}
+_NODES_PER_LAYOUT = {"T3": 3, "T6": 6, "Q4": 4, "Q8": 8, "Q9": 9}
+_EDGE_TYPES = {"line": 2, "line3": 3}
+
+
+def _index_dtype(n: int):
+    return np.int32 if n < 2**31 - 1 else np.int64
+
+
+@dataclass
+class Mesh:
+    """A 2D finite-element mesh with named sets.
+
+    Parameters
+    ----------
+    nodes : array_like, shape (n, 2)
+        Node coordinates in the user's length unit.
+    cells : mapping of str to array_like of shape (e, k)
+        Cell blocks keyed by element layout name (``"T3"``, ``"T6"``, ``"Q4"``, ``"Q8"``, ``"Q9"``,
+        or a plugin's layout), each row the node numbers of one cell in the element's node order.
+    edge_sets : mapping of str to array_like of shape (m, 2) or (m, 3), optional
+        Named boundary pieces as edge segments, nodes ordered (start, end[, middle]).
+    node_sets : mapping of str to array_like of int, optional
+        Named node groups (single points for point forces and point supports, or any group).
+    regions : mapping of str to mapping of str to array_like of int, optional
+        Named regions: for each, the cell indices in each cell block. Cells in no named region belong
+        to the region ``"plate"``.
+
+    Notes
+    -----
+    Every edge set also defines a node set of the same name (its unique nodes) unless a node set of
+    that name is given.
+    """
+
+    nodes: np.ndarray
+    cells: dict[str, np.ndarray]
+    edge_sets: dict[str, np.ndarray] = field(default_factory=dict)
+    node_sets: dict[str, np.ndarray] = field(default_factory=dict)
+    regions: dict[str, dict[str, np.ndarray]] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        nodes = np.asarray(self.nodes, dtype=float)
+        if nodes.ndim != 2 or nodes.shape[1] not in (2, 3):
+            raise MeshError(f"node coordinates must have shape (n, 2), got {nodes.shape}")
+        if nodes.shape[1] == 3:
+            if np.any(np.abs(nodes[:, 2]) > 1e-12 * max(1.0, np.abs(nodes).max())):
+                raise MeshError("the mesh is not flat: node z coordinates are not all zero")
+            nodes = nodes[:, :2]
+        if nodes.shape[0] == 0:
+            raise MeshError("the mesh has no nodes")
+        if not np.all(np.isfinite(nodes)):
+            raise MeshError("node coordinates contain NaN or infinite values")
+        self.nodes = np.ascontiguousarray(nodes)
+        n = nodes.shape[0]
+        idt = _index_dtype(n)
+        cells = {}
+        for name, block in dict(self.cells).items():
+            block = np.asarray(block)
+            if block.size == 0:
+                continue
+            if block.ndim != 2 or not np.issubdtype(block.dtype, np.integer):
+                raise MeshError(f"cell block {name!r} must be a 2D integer array, got {block.dtype} {block.shape}")
+            k = _NODES_PER_LAYOUT.get(name)
+            if k is not None and block.shape[1] != k:
+                raise MeshError(f"cell block {name!r} has {block.shape[1]} nodes per cell, expected {k}")
+            if block.min() < 0 or block.max() >= n:
+                raise MeshError(f"cell block {name!r} refers to node numbers outside 0..{n - 1}")
+            cells[name] = np.ascontiguousarray(block, dtype=idt)
+        if not cells:
+            raise MeshError("the mesh has no 2D cells (triangles or quadrilaterals)")
+        self.cells = cells
+        edge_sets = {}
+        for name, seg in dict(self.edge_sets).items():
+            seg = np.asarray(seg)
+            if seg.ndim != 2 or seg.shape[1] not in (2, 3):
+                raise MeshError(f"edge set {name!r} must have shape (m, 2) or (m, 3), got {seg.shape}")
+            if seg.size and (seg.min() < 0 or seg.max() >= n):
+                raise MeshError(f"edge set {name!r} refers to node numbers outside 0..{n - 1}")
+            edge_sets[str(name)] = np.ascontiguousarray(seg, dtype=idt)
+        self.edge_sets = edge_sets
+        node_sets = {}
+        for name, ids in dict(self.node_sets).items():
+            ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+            if ids.size and (ids.min() < 0 or ids.max() >= n):
+                raise MeshError(f"node set {name!r} refers to node numbers outside 0..{n - 1}")
+            node_sets[str(name)] = ids.astype(idt)
+        for name, seg in edge_sets.items():
+            node_sets.setdefault(name, np.unique(seg).astype(idt))
+        self.node_sets = node_sets
+        regions = {}
+        for name, blocks in dict(self.regions).items():
+            reg = {}
+            for t, ids in dict(blocks).items():
+                if t not in cells:
+                    raise MeshError(f"region {name!r} names cell block {t!r}, which the mesh lacks")
+                ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+                if ids.size and (ids.min() < 0 or ids.max() >= cells[t].shape[0]):
+                    raise MeshError(f"region {name!r} refers to cells outside block {t!r}")
+                reg[t] = ids
+            regions[str(name)] = reg
+        self.regions = regions
+
+    # ------------------------------------------------------------------ sizes and names
+    @property
+    def n_nodes(self) -> int:
+        return int(self.nodes.shape[0])
+
+    @property
+    def n_cells(self) -> int:
+        return int(sum(b.shape[0] for b in self.cells.values()))
+
+    @property
+    def n_dofs(self) -> int:
+        """Unknowns before supports: two per node."""
+        return 2 * self.n_nodes
+
+    def names(self) -> dict[str, list[str]]:
+        """The names a user can refer to: edges, points (node sets) and regions."""
+        return {
+            "edges": sorted(self.edge_sets),
+            "points": sorted(k for k in self.node_sets if k not in self.edge_sets),
+            "regions": sorted(self.region_names()),
+        }
+
+    def region_names(self) -> list[str]:
+        names = list(self.regions)
+        if self._unassigned_mask_any():
+            names.append("plate")
+        return names
+
+    def _unassigned_mask_any(self) -> bool:
+        for t, block in self.cells.items():
+            used = np.zeros(block.shape[0], dtype=bool)
+            for reg in self.regions.values():
+                if t in reg:
+                    used[reg[t]] = True
+            if not used.all():
+                return True
+        return False
+
+    def edge(self, name: str) -> np.ndarray:
+        """Edge segments of the edge set ``name``, shape (m, 2) or (m, 3)."""
+        if name not in self.edge_sets:
+            raise unknown_name("edge", name, self.edge_sets)
+        return self.edge_sets[name]
+
+    def nodes_of(self, name: str) -> np.ndarray:
+        """Node numbers of a named edge or point set."""
+        if name not in self.node_sets:
+            raise unknown_name("edge or point", name, self.node_sets)
+        return self.node_sets[name]
+
+    def region_cells(self, name: str) -> dict[str, np.ndarray]:
+        """Cell indices per block of region ``name`` (``"plate"`` is every cell in no named region)."""
+        if name in self.regions:
+            return self.regions[name]
+        if name == "plate" and "plate" not in self.regions:
+            out = {}
+            for t, block in self.cells.items():
+                used = np.zeros(block.shape[0], dtype=bool)
+                for reg in self.regions.values():
+                    if t in reg:
+                        used[reg[t]] = True
+                out[t] = np.flatnonzero(~used)
+            return out
+        raise unknown_name("region", name, self.region_names())
+
+    def region_ids(self) -> tuple[list[str], dict[str, np.ndarray]]:
+        """Region number of every cell: (names, {block: (e,) int array indexing names})."""
+        names = self.region_names()
+        ids = {t: np.full(b.shape[0], -1, dtype=np.int32) for t, b in self.cells.items()}
+        for i, name in enumerate(names):
+            for t, c in self.region_cells(name).items():
+                ids[t][c] = np.where(ids[t][c] < 0, i, ids[t][c])
+        return names, ids
+
+    def bounding_box(self) -> tuple[float, float, float, float]:
+        lo, hi = self.nodes.min(axis=0), self.nodes.max(axis=0)
+        return float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])
+
+    def size(self) -> float:
+        """Diagonal of the bounding box (a length scale for tolerances)."""
+        x0, y0, x1, y1 = self.bounding_box()
+        return float(np.hypot(x1 - x0, y1 - y0))
+
+    def used_nodes(self) -> np.ndarray:
+        """Boolean mask of nodes that belong to at least one cell."""
+        used = np.zeros(self.n_nodes, dtype=bool)
+        for block in self.cells.values():
+            used[block.ravel()] = True
+        return used
+
+    def nearest_node(self, point) -> int:
+        """Number of the node closest to ``point`` (x, y)."""
+        p = np.asarray(point, dtype=float).reshape(2)
+        used = np.flatnonzero(self.used_nodes())
+        d = np.sum((self.nodes[used] - p) ** 2, axis=1)
+        return int(used[np.argmin(d)])
+
+    def with_nodes(self, nodes: np.ndarray) -> "Mesh":
+        """The same mesh with other node coordinates (e.g. the deformed shape)."""
+        return Mesh(nodes, self.cells, self.edge_sets, self.node_sets, self.regions)
+
+    def summary(self) -> str:
+        blocks = ", ".join(f"{b.shape[0]} {t}" for t, b in self.cells.items())
+        return f"{self.n_nodes} nodes, {blocks}; edges: {', '.join(sorted(self.edge_sets)) or '-'}"
+
+    # ------------------------------------------------------------------ file input
+    @classmethod
+    def read(cls, path: str | os.PathLike) -> "Mesh":
+        """Read a mesh file through meshio (gmsh .msh with physical groups as named sets, .vtu).
+
+        Parameters
+        ----------
+        path : str or path-like
+
+        Raises
+        ------
+        MeshError
+            If the file is missing, truncated, of an unknown format, or holds no 2D cells.
+        """
+        import meshio
+
+        path = os.fspath(path)
+        if not os.path.exists(path):
+            raise MeshError(f"mesh file {path!r} does not exist")
+        try:
+            m = meshio.read(path)
+        except Exception as exc:  # meshio raises many kinds; name the file and the cause
+            raise MeshError(
+                f"cannot read mesh file {path!r} ({type(exc).__name__}: {exc}); "
+                "give a gmsh .msh (version 2 or 4) or a VTK .vtu file"
+            ) from None
+        return cls.from_meshio(m)
+
+    @classmethod
+    def from_meshio(cls, m) -> "Mesh":
+        """Build a Mesh from a ``meshio.Mesh``; gmsh physical groups become named sets."""
+        pts = np.asarray(m.points, dtype=float)
+        cells: dict[str, list[np.ndarray]] = {}
+        edges_blocks: list[tuple[int, str, np.ndarray]] = []
+        vertex_blocks: list[tuple[int, np.ndarray]] = []
+        offsets: list[tuple[str, int] | None] = []
+        for bi, block in enumerate(m.cells):
+            data = np.asarray(block.data)
+            if block.type in MESHIO_TO_LAYOUT:
+                lay = MESHIO_TO_LAYOUT[block.type]
+                start = sum(c.shape[0] for c in cells.get(lay, []))
+                cells.setdefault(lay, []).append(data)
+                offsets.append((lay, start))
+            elif block.type in _EDGE_TYPES:
+                edges_blocks.append((bi, block.type, data))
+                offsets.append(None)
+            elif block.type == "vertex":
+                vertex_blocks.append((bi, data))
+                offsets.append(None)
+            else:
+                offsets.append(None)
+        if not cells:
+            raise MeshError("the mesh file holds no triangles or quadrilaterals")
+        cell_arrays = {k: np.vstack(v) for k, v in cells.items()}
+        edge_sets: dict[str, list[np.ndarray]] = {}
+        node_sets: dict[str, list[np.ndarray]] = {}
+        regions: dict[str, dict[str, list[np.ndarray]]] = {}
+        for name, per_block in (m.cell_sets or {}).items():
+            if name.startswith("gmsh:"):
+                continue
+            for bi, ids in enumerate(per_block):
+                if ids is None or len(ids) == 0 or bi >= len(m.cells):
+                    continue
+                ids = np.asarray(ids, dtype=np.int64)
+                block = m.cells[bi]
+                if block.type in MESHIO_TO_LAYOUT:
+                    lay, start = offsets[bi]
+                    regions.setdefault(name, {}).setdefault(lay, []).append(ids + start)
+                elif block.type in _EDGE_TYPES:
+                    edge_sets.setdefault(name, []).append(np.asarray(block.data)[ids])
+                elif block.type == "vertex":
+                    node_sets.setdefault(name, []).append(np.asarray(block.data)[ids].ravel())
+        regions_out = {n: {t: np.concatenate(v) for t, v in d.items()} for n, d in regions.items()}
+        # a single region covering everything carries no information beyond "plate"
+        mesh = cls(
+            pts,
+            cell_arrays,
+            edge_sets={n: np.vstack(v) for n, v in edge_sets.items()},
+            node_sets={n: np.concatenate(v) for n, v in node_sets.items()},
+            regions=regions_out,
+        )
+        return mesh
