@@ -1,0 +1,419 @@
+"""Assembly: element checks, stiffness and load vectors, block by block.
+
+Element matrices are computed for a whole block of same-type elements at once (batched over
+element chunks that stay small in memory), then gathered COO -> CSR once. No Python loop runs over
+elements.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Iterator
+
+import numpy as np
+import scipy.sparse as sp
+
+from .errors import ElementError, InputError, MeshError
+from .loads import EdgeGeometry, LoadContext
+from .mesh import Mesh, _NODES_PER_LAYOUT
+from .quadrature import Rule, rule_for
+from .registry import element_type
+
+__all__ = ["Block", "Assembly", "prepare", "strain_matrix", "jacobian"]
+
+#: default chunk of elements per batched evaluation
+CHUNK = 4096
+
+
+def jacobian(etype, coords: np.ndarray, points: np.ndarray):
+    """Jacobian data of a batch of elements at reference points.
+
+    Parameters
+    ----------
+    coords : ndarray, shape (e, k, 2)
+    points : ndarray, shape (q, 2)
+
+    Returns
+    -------
+    detJ : ndarray, shape (e, q)
+    dNdx : ndarray, shape (e, q, k, 2)
+        Shape-function derivatives in x, y.
+    """
+    dN = etype.shape_derivatives(points)  # (q, k, 2)
+    J = np.einsum("eki,qkj->eqij", coords, dN)
+    det = J[..., 0, 0] * J[..., 1, 1] - J[..., 0, 1] * J[..., 1, 0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        inv = np.empty_like(J)
+        inv[..., 0, 0] = J[..., 1, 1] / det
+        inv[..., 1, 1] = J[..., 0, 0] / det
+        inv[..., 0, 1] = -J[..., 0, 1] / det
+        inv[..., 1, 0] = -J[..., 1, 0] / det
+    dNdx = np.einsum("qkj,eqji->eqki", dN, inv)
+    return det, dNdx
+
+
+def strain_matrix(dNdx: np.ndarray) -> np.ndarray:
+    """Strain-displacement matrices B from shape-function derivatives.
+
+    Parameters
+    ----------
+    dNdx : ndarray, shape (e, q, k, 2)
+
+    Returns
+    -------
+    ndarray, shape (e, q, 3, 2k)
+        Rows (eps_xx, eps_yy, gamma_xy); columns (u_1, v_1, u_2, v_2, ...).
+    """
+    e, q, k, _ = dNdx.shape
+    B = np.zeros((e, q, 3, 2 * k))
+    B[:, :, 0, 0::2] = dNdx[..., 0]
+    B[:, :, 1, 1::2] = dNdx[..., 1]
+    B[:, :, 2, 0::2] = dNdx[..., 1]
+    B[:, :, 2, 1::2] = dNdx[..., 0]
+    return B
+
+
+def _reduced(etype, rule_full: Rule) -> Rule:
+    if etype.cell == "quad":
+        n = int(round(np.sqrt(rule_full.n_points)))
+        return rule_for("quad", max(1, n - 1))
+    return rule_for("triangle", max(1, rule_full.degree - 1))
+
+
+def _check_points(etype) -> np.ndarray:
+    """Reference points where the Jacobian is checked: the full rule's points and the corners."""
+    rule = etype.default_rule()
+    return np.vstack([rule.points, etype.ref_nodes[: etype.corner_count()]])
+
+
+def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_limit: float = 1e-3) -> Mesh:
+    """Check every element's Jacobian and return the mesh with clockwise elements turned round.
+
+    Parameters
+    ----------
+    mesh : Mesh
+    elements : mapping, optional
+        Element formulation per layout (see :class:`~planar.core.model.Model`).
+    distortion_limit : float
+        Smallest accepted ratio of the least to the largest Jacobian determinant in an element.
+
+    Raises
+    ------
+    ElementError
+        For elements with a zero, changing-sign or badly distorted Jacobian, naming their ids.
+    """
+    elements = elements or {}
+    cells = {}
+    for layout, conn in mesh.cells.items():
+        etype = element_type(elements.get(layout, layout))
+        if conn.shape[1] != etype.n_nodes:
+            raise MeshError(
+                f"element {etype.name} has {etype.n_nodes} nodes but the mesh block {layout!r} has "
+                f"{conn.shape[1]} per cell"
+            )
+        pts = _check_points(etype)
+        det = np.empty((conn.shape[0], pts.shape[0]))
+        for s in range(0, conn.shape[0], CHUNK):
+            c = mesh.nodes[conn[s : s + CHUNK]]
+            det[s : s + CHUNK], _ = jacobian(etype, c, pts)
+        scale = np.max(np.abs(det), axis=1)
+        size = mesh.size()
+        tiny = scale <= (1e-14 * size) ** 2
+        neg = np.all(det < 0, axis=1) & ~tiny
+        pos = np.all(det > 0, axis=1) & ~tiny
+        bad = ~(neg | pos)
+        if np.any(bad):
+            ids = np.flatnonzero(bad)
+            what = "collapsed (zero area)" if np.all(tiny[ids]) else "folded or collapsed: the Jacobian is zero or changes sign inside"
+            raise ElementError(
+                f"{ids.size} {etype.name} element(s) are {what}: cell ids {ids[:10].tolist()}"
+                f"{' ...' if ids.size > 10 else ''} of block {layout!r} (first at "
+                f"{tuple(np.round(mesh.nodes[conn[ids[0]]].mean(axis=0), 6))}); remesh, or check the "
+                "node order and the mid-side node positions"
+            )
+        ratio = np.min(np.abs(det), axis=1) / scale
+        distorted = ratio < distortion_limit
+        if np.any(distorted):
+            ids = np.flatnonzero(distorted)
+            raise ElementError(
+                f"{ids.size} {etype.name} element(s) are badly distorted (least/largest Jacobian "
+                f"{ratio[ids].min():.2e} < {distortion_limit:g}): cell ids {ids[:10].tolist()} of "
+                f"block {layout!r}; remesh with better-shaped elements"
+            )
+        if np.any(neg):
+            conn = conn.copy()
+            conn[neg] = conn[neg][:, etype.reversed_order]
+        cells[layout] = conn
+    if all(cells[k] is mesh.cells[k] for k in cells):
+        return mesh
+    return Mesh(mesh.nodes, cells, mesh.edge_sets, mesh.node_sets, mesh.regions)
+
+
+@dataclass
+class Block:
+    """Cells of one element type and one region, with their section.
+
+    Attributes
+    ----------
+    etype : element type class
+    layout : str
+        Mesh cell block name.
+    region : str
+    cells : ndarray, shape (e,)
+        Indices into the mesh cell block.
+    conn : ndarray, shape (e, k)
+    material, thickness, D (3, 3)
+    rule : Rule
+        Stiffness rule (the element's full rule unless the model says otherwise).
+    rule_mode : {"full", "reduced", "selective", "custom"}
+    """
+
+    etype: Any
+    layout: str
+    region: str
+    cells: np.ndarray
+    conn: np.ndarray
+    material: Any
+    thickness: float
+    D: np.ndarray
+    rule: Rule
+    rule_mode: str = "full"
+    _geo: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def n(self) -> int:
+        return int(self.conn.shape[0])
+
+    def dofs(self, start: int = 0, stop: int | None = None) -> np.ndarray:
+        c = self.conn[start:stop].astype(np.int64)
+        k = c.shape[1]
+        d = np.empty((c.shape[0], 2 * k), dtype=np.int64)
+        d[:, 0::2] = 2 * c
+        d[:, 1::2] = 2 * c + 1
+        return d
+
+    def geometry(self, nodes: np.ndarray, rule: Rule | None = None):
+        """x_gauss (e, q, 2), dvol (e, q) = w detJ t, N (q, k) at the rule's points."""
+        rule = rule or self.rule
+        key = id(rule)
+        if key not in self._geo:
+            N = self.etype.shape(rule.points)
+            xg = np.empty((self.n, rule.n_points, 2))
+            dv = np.empty((self.n, rule.n_points))
+            for s in range(0, self.n, CHUNK):
+                c = nodes[self.conn[s : s + CHUNK]]
+                det, _ = jacobian(self.etype, c, rule.points)
+                xg[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, c)
+                dv[s : s + CHUNK] = det * rule.weights[None, :] * self.thickness
+            self._geo[key] = (xg, dv, N)
+        return self._geo[key]
+
+
+class _BlockView:
+    """What a load kind sees of a block: conn, N, x_gauss, dvol, region, material."""
+
+    def __init__(self, block: Block, nodes: np.ndarray):
+        self.block = block
+        self.conn = block.conn
+        self.region = block.region
+        self.material = block.material
+        self.x_gauss, self.dvol, self.N = block.geometry(nodes)
+
+
+class Assembly:
+    """Element blocks of a model and the operators built from them.
+
+    Parameters
+    ----------
+    model : Model
+    distortion_limit : float
+        See :func:`prepare`.
+    """
+
+    def __init__(self, model, *, distortion_limit: float = 1e-3):
+        self.model = model
+        self.mesh = prepare(model.mesh, model.elements, distortion_limit=distortion_limit)
+        self.analysis = model.analysis
+        self.blocks = self._blocks()
+        self._edge_cache: dict[str, EdgeGeometry] = {}
+        self.context = LoadContext(self.mesh, self.analysis, self._edge_geometry, self._cell_views)
+
+    # ------------------------------------------------------------------ blocks
+    def _blocks(self) -> list[Block]:
+        mesh, model = self.mesh, self.model
+        names, ids = mesh.region_ids()
+        blocks = []
+        for layout, conn in mesh.cells.items():
+            etype = element_type(model.elements.get(layout, layout))
+            spec = model.quadrature.get(etype.name, "full")
+            full = etype.default_rule()
+            if isinstance(spec, int):
+                rule, mode = rule_for(etype.cell, spec), "custom"
+            elif spec == "reduced":
+                rule, mode = _reduced(etype, full), "reduced"
+            else:
+                rule, mode = full, spec
+            for r, rname in enumerate(names):
+                sel = np.flatnonzero(ids[layout] == r)
+                if sel.size == 0:
+                    continue
+                sec = model.section(rname)
+                D = np.asarray(sec.material.D(self.analysis), dtype=float)
+                blocks.append(Block(etype, layout, rname, sel, conn[sel], sec.material, sec.thickness, D, rule, mode))
+        return blocks
+
+    def _cell_views(self, region: str | None):
+        if region is not None and region not in self.mesh.region_names():
+            from .errors import unknown_name
+
+            raise unknown_name("region", region, self.mesh.region_names())
+        return [_BlockView(b, self.mesh.nodes) for b in self.blocks if region is None or b.region == region]
+
+    # ------------------------------------------------------------------ edges
+    def _edge_geometry(self, name: str) -> EdgeGeometry:
+        if name in self._edge_cache:
+            return self._edge_cache[name]
+        seg = self.mesh.edge(name)
+        n = self.mesh.n_nodes
+        keys, owner_nodes, owner_t = [], [], []
+        for b in self.blocks:
+            ed = b.etype.edges  # (ne, 2|3)
+            cn = b.conn[:, ed]  # (e, ne, 2|3)
+            a, c = cn[..., 0].astype(np.int64), cn[..., 1].astype(np.int64)
+            keys.append((np.minimum(a, c) * n + np.maximum(a, c)).ravel())
+            owner_nodes.append(cn.reshape(-1, ed.shape[1]))
+            owner_t.append(np.full(cn.shape[0] * cn.shape[1], b.thickness))
+        keys = np.concatenate(keys)
+        width = max(o.shape[1] for o in owner_nodes)
+        owner = np.vstack([np.pad(o, ((0, 0), (0, width - o.shape[1])), constant_values=-1) for o in owner_nodes])
+        thick = np.concatenate(owner_t)
+        order = np.argsort(keys, kind="stable")
+        ks = keys[order]
+        a, c = seg[:, 0].astype(np.int64), seg[:, 1].astype(np.int64)
+        want = np.minimum(a, c) * n + np.maximum(a, c)
+        pos = np.searchsorted(ks, want)
+        pos = np.minimum(pos, ks.size - 1)
+        found = ks[pos] == want
+        if not np.all(found):
+            bad = np.flatnonzero(~found)
+            raise MeshError(
+                f"edge set {name!r}: {bad.size} segment(s) are not edges of any cell (first at "
+                f"{tuple(self.mesh.nodes[seg[bad[0], 0]])}); the edge set does not belong to this mesh"
+            )
+        idx = order[pos]
+        nodes = owner[idx][:, : seg.shape[1]]
+        if seg.shape[1] != nodes.shape[1] or np.any(nodes < 0):
+            raise MeshError(f"edge set {name!r} has {seg.shape[1]} nodes per segment but the cells it bounds have other edges")
+        eg = EdgeGeometry(name, nodes, self.mesh.nodes[nodes], thick[idx])
+        self._edge_cache[name] = eg
+        return eg
+
+    # ------------------------------------------------------------------ stiffness
+    def element_matrices(self, block: Block, start: int, stop: int) -> np.ndarray:
+        """Element stiffness matrices of block cells start:stop, shape (c, 2k, 2k)."""
+        coords = self.mesh.nodes[block.conn[start:stop]]
+        et = block.etype
+        if getattr(et, "stiffness", None) is not None:
+            return np.asarray(et.stiffness(coords, block.D, block.thickness, block.rule))
+        if block.rule_mode == "selective":
+            full = et.default_rule()
+            red = _reduced(et, full)
+            Dn = block.D.copy(); Dn[2, :] = 0; Dn[:, 2] = 0
+            Ds = block.D - Dn
+            return self._ke(et, coords, Dn, block.thickness, full) + self._ke(et, coords, Ds, block.thickness, red)
+        return self._ke(et, coords, block.D, block.thickness, block.rule)
+
+    @staticmethod
+    def _ke(et, coords, D, t, rule):
+        det, dNdx = jacobian(et, coords, rule.points)
+        B = strain_matrix(dNdx)  # (c, q, 3, 2k)
+        w = det * rule.weights[None, :] * t  # (c, q)
+        DB = np.einsum("ab,cqbj->cqaj", D, B)
+        c, q, _, m = B.shape
+        Bw = (B * w[:, :, None, None]).reshape(c, q * 3, m)
+        return np.matmul(Bw.transpose(0, 2, 1), DB.reshape(c, q * 3, m))
+
+    def stiffness(self, timer=None) -> sp.csr_matrix:
+        """Global stiffness matrix K (2n x 2n), CSR."""
+        ndof = 2 * self.mesh.n_nodes
+        idt = np.int32 if ndof < 2**31 - 1 else np.int64
+        nnz = sum(b.n * (2 * b.etype.n_nodes) ** 2 for b in self.blocks)
+        rows = np.empty(nnz, dtype=idt)
+        cols = np.empty(nnz, dtype=idt)
+        vals = np.empty(nnz)
+        pos = 0
+        for b in self.blocks:
+            m = 2 * b.etype.n_nodes
+            for s in range(0, b.n, CHUNK):
+                ke = self.element_matrices(b, s, s + CHUNK)
+                d = b.dofs(s, s + CHUNK)
+                c = d.shape[0]
+                sl = slice(pos, pos + c * m * m)
+                rows[sl] = np.broadcast_to(d[:, :, None], (c, m, m)).ravel()
+                cols[sl] = np.broadcast_to(d[:, None, :], (c, m, m)).ravel()
+                vals[sl] = ke.ravel()
+                pos += c * m * m
+        if timer is not None:
+            timer.lap("element matrices")
+        K = sp.csr_matrix((vals, (rows, cols)), shape=(ndof, ndof))
+        K.sum_duplicates()
+        if timer is not None:
+            timer.lap("COO to CSR")
+        return K
+
+    # ------------------------------------------------------------------ loads
+    def initial_strains(self, case: str) -> list[np.ndarray | None]:
+        """Initial strain (e, q, 4) per block for a load case (None where there is none)."""
+        out: list[np.ndarray | None] = [None] * len(self.blocks)
+        for load in self.model.cases[case]:
+            for i, b in enumerate(self.blocks):
+                e0 = load.initial_strain(self.context, _BlockView(b, self.mesh.nodes))
+                if e0 is None:
+                    continue
+                e0 = np.asarray(e0, dtype=float)
+                xg, _, _ = b.geometry(self.mesh.nodes)
+                if e0.shape != xg.shape[:2] + (4,):
+                    raise InputError(f"load {load.describe()} gave an initial strain of shape {e0.shape}, expected {xg.shape[:2] + (4,)}")
+                out[i] = e0 if out[i] is None else out[i] + e0
+        return out
+
+    def effective_initial_strain(self, block: Block, e0: np.ndarray) -> np.ndarray:
+        """In-plane initial strain (e, q, 3) such that sigma = D (eps - eps0_eff).
+
+        In plane strain the restrained out-of-plane part adds D^-1 C_iz eps0_zz.
+        """
+        idx = [0, 1, 3]
+        eff = e0[..., idx]
+        if self.analysis == "plane strain" and np.any(e0[..., 2] != 0):
+            C = np.linalg.inv(block.material.compliance3d())
+            corr = np.linalg.solve(block.D, C[idx, 2])
+            eff = eff + e0[..., 2:3] * corr
+        return eff
+
+    def load_vector(self, case: str) -> tuple[np.ndarray, list]:
+        """Consistent nodal forces of a load case, shape (2n,), and its initial strains per block."""
+        if case not in self.model.cases:
+            from .errors import unknown_name
+
+            raise unknown_name("load case", case, self.model.cases)
+        f = np.zeros((self.mesh.n_nodes, 2))
+        for load in self.model.cases[case]:
+            fl = np.asarray(load.nodal_forces(self.context), dtype=float)
+            if fl.shape != f.shape:
+                raise InputError(f"load {load.describe()} returned forces of shape {fl.shape}, expected {f.shape}")
+            if not np.all(np.isfinite(fl)):
+                raise InputError(f"load {load.describe()} gives NaN or infinite nodal forces")
+            f += fl
+        e0s = self.initial_strains(case)
+        for b, e0 in zip(self.blocks, e0s):
+            if e0 is None:
+                continue
+            xg, dv, N = b.geometry(self.mesh.nodes)
+            eff = self.effective_initial_strain(b, e0)
+            for s in range(0, b.n, CHUNK):
+                coords = self.mesh.nodes[b.conn[s : s + CHUNK]]
+                det, dNdx = jacobian(b.etype, coords, b.rule.points)
+                B = strain_matrix(dNdx)
+                sig0 = np.einsum("ab,cqb->cqa", b.D, eff[s : s + CHUNK])
+                fe = np.einsum("cqaj,cqa,cq->cj", B, sig0, dv[s : s + CHUNK])
+                np.add.at(f.reshape(-1), b.dofs(s, s + CHUNK).ravel(), fe.ravel())
+        return f.reshape(-1), e0s

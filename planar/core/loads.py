@@ -1,0 +1,453 @@
+"""Load kinds (natural conditions): traction, pressure, point force, body force, temperature change.
+
+Every load kind, built-in or plugin, is a class registered in the ``planar.loads`` entry-point group.
+An instance knows where it acts (a named edge, point or region) and turns itself into consistent
+nodal forces through :meth:`LoadKind.nodal_forces`, given a :class:`LoadContext` that exposes the
+geometry and integrates with Gauss quadrature on the element's own edge or cell shape functions.
+
+Units are the user's: tractions and pressures in force per area, point forces in force, body forces
+in force per volume, temperature changes in the unit of the material's alpha.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any, Callable, ClassVar, Union
+
+import numpy as np
+
+from .errors import InputError, MeshError, unknown_name
+from .elements import line_shape
+from .quadrature import gauss_line
+
+__all__ = [
+    "LoadKind",
+    "LoadContext",
+    "EdgeGeometry",
+    "Traction",
+    "Pressure",
+    "PointForce",
+    "BodyForce",
+    "TemperatureChange",
+]
+
+Value = Union[float, Callable[[np.ndarray, np.ndarray], np.ndarray]]
+
+
+def _check_value(name: str, v: Any) -> Any:
+    if v is None or callable(v):
+        return v
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number or a function f(x, y), got {v!r}") from None
+    if not math.isfinite(f):
+        raise InputError(f"{name} = {v!r} is not a finite number")
+    return f
+
+
+def _evaluate(name: str, v: Value | None, x: np.ndarray) -> np.ndarray:
+    """Evaluate a constant or a function f(x, y) at points x (..., 2)."""
+    if v is None:
+        return np.zeros(x.shape[:-1])
+    if callable(v):
+        out = np.asarray(v(x[..., 0], x[..., 1]), dtype=float)
+        out = np.broadcast_to(out, x.shape[:-1])
+    else:
+        out = np.full(x.shape[:-1], float(v))
+    if not np.all(np.isfinite(out)):
+        raise InputError(f"{name} evaluates to NaN or infinite values on the mesh; check the function")
+    return out
+
+
+@dataclass
+class EdgeGeometry:
+    """A named edge set seen from the cells it bounds.
+
+    Attributes
+    ----------
+    name : str
+    nodes : ndarray, shape (m, 2 or 3)
+        Node numbers (start, end[, middle]), oriented counter-clockwise around the owning cell, so the
+        outward normal is the tangent turned clockwise.
+    coords : ndarray, shape (m, 2 or 3, 2)
+    thickness : ndarray, shape (m,)
+        Thickness of the cell each segment belongs to.
+    """
+
+    name: str
+    nodes: np.ndarray
+    coords: np.ndarray
+    thickness: np.ndarray
+
+    def gauss(self, n_points: int | None = None):
+        """Quadrature data on the segments.
+
+        Returns
+        -------
+        x : ndarray, shape (m, q, 2)
+            Gauss point coordinates.
+        normal : ndarray, shape (m, q, 2)
+            Unit outward normal.
+        wdl : ndarray, shape (m, q)
+            Weight times length element times thickness (area element for tractions).
+        N : ndarray, shape (q, nn)
+            Edge shape functions.
+        """
+        nn = self.nodes.shape[1]
+        q = n_points or (3 if nn == 2 else 4)
+        rule = gauss_line(q)
+        N, dN = line_shape(nn, rule.points[:, 0])
+        x = np.einsum("qa,mai->mqi", N, self.coords)
+        tang = np.einsum("qa,mai->mqi", dN, self.coords)
+        jac = np.linalg.norm(tang, axis=-1)
+        if np.any(jac <= 0):
+            raise MeshError(f"edge set {self.name!r} has segments of zero length")
+        normal = np.stack([tang[..., 1], -tang[..., 0]], axis=-1) / jac[..., None]
+        wdl = rule.weights[None, :] * jac * self.thickness[:, None]
+        return x, normal, wdl, N
+
+    def length(self) -> float:
+        x, n, wdl, N = self.gauss()
+        return float(np.sum(wdl / self.thickness[:, None]))
+
+
+class LoadContext:
+    """What a load kind sees of the model: geometry by name, and consistent integration.
+
+    Built by the assembly; a plugin uses its methods and never the assembly's internals.
+    """
+
+    def __init__(self, mesh, analysis: str, edge_owner: Callable[[str], EdgeGeometry],
+                 cell_blocks: Callable[[str | None], list], material_of=None):
+        self.mesh = mesh
+        self.analysis = analysis
+        self._edge_owner = edge_owner
+        self._cell_blocks = cell_blocks
+        self.material_of = material_of
+
+    @property
+    def n_nodes(self) -> int:
+        return self.mesh.n_nodes
+
+    def edge(self, name: str) -> EdgeGeometry:
+        """Geometry of a named edge set, oriented with outward normals."""
+        return self._edge_owner(name)
+
+    def point(self, name: str) -> int:
+        """Node number of a named single point."""
+        ids = self.mesh.nodes_of(name)
+        if ids.size != 1:
+            raise InputError(
+                f"{name!r} holds {ids.size} nodes; a point force needs a named single point "
+                "(use a traction for a load spread along an edge)"
+            )
+        return int(ids[0])
+
+    def integrate_traction(self, name: str, traction: Callable[[np.ndarray, np.ndarray], np.ndarray],
+                           n_points: int | None = None) -> np.ndarray:
+        """Consistent nodal forces of a traction on a named edge.
+
+        Parameters
+        ----------
+        traction : callable
+            ``traction(x, normal) -> t`` with x, normal of shape (m, q, 2) and t of shape (m, q, 2),
+            force per unit area in global components.
+
+        Returns
+        -------
+        ndarray, shape (n_nodes, 2)
+            f_a = sum over segments of sum_q N_a(t_q) t(x_q) w_q |dx/dt| thickness.
+        """
+        eg = self.edge(name)
+        x, normal, wdl, N = eg.gauss(n_points)
+        t = np.asarray(traction(x, normal), dtype=float)
+        if t.shape != x.shape:
+            raise InputError(f"a traction function must return shape {x.shape}, got {t.shape}")
+        if not np.all(np.isfinite(t)):
+            raise InputError(f"the traction on {name!r} has NaN or infinite values")
+        fe = np.einsum("qa,mqi,mq->mai", N, t, wdl)
+        out = np.zeros((self.n_nodes, 2))
+        np.add.at(out, eg.nodes.ravel(), fe.reshape(-1, 2))
+        return out
+
+    def integrate_body(self, region: str | None, body: Callable[[np.ndarray], np.ndarray]) -> np.ndarray:
+        """Consistent nodal forces of a force per unit volume over a region (all cells if None).
+
+        Parameters
+        ----------
+        body : callable
+            ``body(x) -> b`` with x of shape (e, q, 2) and b of shape (e, q, 2).
+        """
+        out = np.zeros((self.n_nodes, 2))
+        for blk in self._cell_blocks(region):
+            b = np.asarray(body(blk.x_gauss), dtype=float)
+            if b.shape != blk.x_gauss.shape:
+                raise InputError(f"a body-force function must return shape {blk.x_gauss.shape}, got {b.shape}")
+            if not np.all(np.isfinite(b)):
+                raise InputError("the body force has NaN or infinite values")
+            fe = np.einsum("qa,eqi,eq->eai", blk.N, b, blk.dvol)
+            np.add.at(out, blk.conn.ravel(), fe.reshape(-1, 2))
+        return out
+
+    def cell_blocks(self, region: str | None):
+        """Per cell block of a region: conn, N, x_gauss (e, q, 2), dvol (e, q) = w detJ t, cells."""
+        return self._cell_blocks(region)
+
+
+class LoadKind:
+    """Base of every load kind.
+
+    A subclass sets ``kind`` (its registered name) and implements :meth:`nodal_forces`; a thermal-type
+    load also implements :meth:`initial_strain`.
+    """
+
+    kind: ClassVar[str] = ""
+
+    def nodal_forces(self, ctx: LoadContext) -> np.ndarray:
+        """Consistent nodal forces, shape (n_nodes, 2)."""
+        raise NotImplementedError
+
+    def initial_strain(self, ctx: LoadContext, block) -> np.ndarray | None:
+        """Initial strain (xx, yy, zz, xy-engineering) at the block's Gauss points, (e, q, 4), or None."""
+        return None
+
+    def names_used(self) -> list[tuple[str, str]]:
+        """(what, name) pairs this load refers to, checked against the mesh when added."""
+        return []
+
+    def describe(self) -> str:
+        return self.kind
+
+
+class Traction(LoadKind):
+    """Distributed force per unit area on a named edge.
+
+    Parameters
+    ----------
+    where : str
+        Edge name.
+    tx, ty : float or callable f(x, y), optional
+        Global components.
+    normal, tangential : float or callable f(x, y), optional
+        Components along the outward normal (positive pulls outward, tension) and along the tangent
+        (the normal turned counter-clockwise). Give either (tx, ty) or (normal, tangential).
+
+    Examples
+    --------
+    >>> Traction("right", tx=100.0)            # 100 MPa tension on the right edge
+    Traction('right', tx=100.0, ty=None)
+    """
+
+    kind = "traction"
+
+    def __init__(self, where: str, tx: Value | None = None, ty: Value | None = None, *,
+                 normal: Value | None = None, tangential: Value | None = None):
+        if (tx is not None or ty is not None) and (normal is not None or tangential is not None):
+            raise InputError("give a traction either by global components (tx, ty) or by "
+                             "(normal, tangential), not both")
+        if all(v is None for v in (tx, ty, normal, tangential)):
+            raise InputError(f"the traction on {where!r} has no value: give tx/ty or normal/tangential")
+        self.where = str(where)
+        self.tx = _check_value("tx", tx)
+        self.ty = _check_value("ty", ty)
+        self.normal = _check_value("normal", normal)
+        self.tangential = _check_value("tangential", tangential)
+
+    def __repr__(self) -> str:
+        if self.normal is not None or self.tangential is not None:
+            return f"Traction({self.where!r}, normal={self.normal!r}, tangential={self.tangential!r})"
+        return f"Traction({self.where!r}, tx={self.tx!r}, ty={self.ty!r})"
+
+    def names_used(self):
+        return [("edge", self.where)]
+
+    def traction(self, x: np.ndarray, n: np.ndarray) -> np.ndarray:
+        if self.normal is not None or self.tangential is not None:
+            tn = _evaluate("normal traction", self.normal, x)
+            tt = _evaluate("tangential traction", self.tangential, x)
+            tvec = np.stack([-n[..., 1], n[..., 0]], axis=-1)
+            return tn[..., None] * n + tt[..., None] * tvec
+        return np.stack([_evaluate("tx", self.tx, x), _evaluate("ty", self.ty, x)], axis=-1)
+
+    def nodal_forces(self, ctx):
+        return ctx.integrate_traction(self.where, self.traction)
+
+    def describe(self):
+        return repr(self)
+
+
+class Pressure(LoadKind):
+    """Pressure normal to a named edge, positive pushing into the material.
+
+    Parameters
+    ----------
+    where : str
+        Edge name.
+    p : float or callable f(x, y)
+        Pressure (force per area); positive acts inward (compression), negative is suction.
+    """
+
+    kind = "pressure"
+
+    def __init__(self, where: str, p: Value):
+        self.where = str(where)
+        self.p = _check_value("pressure p", p)
+        if self.p is None:
+            raise InputError("a pressure needs a value p")
+
+    def __repr__(self):
+        return f"Pressure({self.where!r}, p={self.p!r})"
+
+    def names_used(self):
+        return [("edge", self.where)]
+
+    def nodal_forces(self, ctx):
+        return ctx.integrate_traction(
+            self.where, lambda x, n: -_evaluate("pressure", self.p, x)[..., None] * n
+        )
+
+    def describe(self):
+        return repr(self)
+
+
+class PointForce(LoadKind):
+    """A concentrated force at a named point (or at the node nearest to given coordinates).
+
+    Parameters
+    ----------
+    where : str or (x, y)
+        Point name, or coordinates: the nearest node must then lie within 1e-6 of the model size.
+    fx, fy : float
+        Force components.
+
+    Notes
+    -----
+    A point force gives an infinite stress under it in 2D elasticity (Flamant's solution); read the
+    stresses away from its point of action.
+    """
+
+    kind = "point-force"
+
+    def __init__(self, where, fx: float = 0.0, fy: float = 0.0):
+        self.where = where if isinstance(where, str) else tuple(float(c) for c in where)
+        self.fx = _check_value("fx", fx)
+        self.fy = _check_value("fy", fy)
+        if callable(self.fx) or callable(self.fy):
+            raise InputError("a point force takes numbers fx, fy, not functions")
+
+    def __repr__(self):
+        return f"PointForce({self.where!r}, fx={self.fx!r}, fy={self.fy!r})"
+
+    def names_used(self):
+        return [("point", self.where)] if isinstance(self.where, str) else []
+
+    def node(self, ctx) -> int:
+        if isinstance(self.where, str):
+            return ctx.point(self.where)
+        i = ctx.mesh.nearest_node(self.where)
+        d = float(np.hypot(*(ctx.mesh.nodes[i] - np.asarray(self.where))))
+        if d > 1e-6 * ctx.mesh.size():
+            raise InputError(
+                f"no node at {self.where}: the nearest is {d:g} away at {tuple(ctx.mesh.nodes[i])}; "
+                "add a named point to the geometry there"
+            )
+        return i
+
+    def nodal_forces(self, ctx):
+        out = np.zeros((ctx.n_nodes, 2))
+        out[self.node(ctx)] = (self.fx, self.fy)
+        return out
+
+    def describe(self):
+        return repr(self)
+
+
+class BodyForce(LoadKind):
+    """Force per unit volume over a region (all of the plate when ``region`` is None).
+
+    Parameters
+    ----------
+    bx, by : float or callable f(x, y)
+        Components, force per volume (e.g. density times acceleration).
+    region : str, optional
+    """
+
+    kind = "body-force"
+
+    def __init__(self, bx: Value = 0.0, by: Value = 0.0, region: str | None = None):
+        self.bx = _check_value("bx", bx)
+        self.by = _check_value("by", by)
+        self.region = region
+
+    def __repr__(self):
+        return f"BodyForce(bx={self.bx!r}, by={self.by!r}, region={self.region!r})"
+
+    def names_used(self):
+        return [("region", self.region)] if self.region is not None else []
+
+    def nodal_forces(self, ctx):
+        return ctx.integrate_body(
+            self.region, lambda x: np.stack([_evaluate("bx", self.bx, x), _evaluate("by", self.by, x)], -1)
+        )
+
+    def describe(self):
+        return repr(self)
+
+
+class TemperatureChange(LoadKind):
+    """A temperature change from the stress-free state, as an initial (thermal) strain.
+
+    Parameters
+    ----------
+    dT : float, callable f(x, y), or ndarray of shape (n_nodes,)
+        Temperature change: uniform, a function of position, or given per node (interpolated with
+        the element shape functions).
+    region : str, optional
+        Only this region is heated (all of the plate when None).
+
+    Notes
+    -----
+    The initial strain is alpha dT in every normal direction (the material's alpha, or alpha1..3
+    for an orthotropic material); stresses are D (eps - eps0). In plane strain the restrained
+    out-of-plane expansion adds sigma_zz = nu (sigma_xx + sigma_yy) - E alpha dT.
+    """
+
+    kind = "temperature-change"
+
+    def __init__(self, dT, region: str | None = None):
+        if isinstance(dT, np.ndarray):
+            if not np.all(np.isfinite(dT)):
+                raise InputError("the nodal temperature changes contain NaN or infinite values")
+            self.dT = np.asarray(dT, dtype=float)
+        else:
+            self.dT = _check_value("temperature change dT", dT)
+        self.region = region
+
+    def __repr__(self):
+        d = f"array({self.dT.shape[0]} nodes)" if isinstance(self.dT, np.ndarray) else repr(self.dT)
+        return f"TemperatureChange({d}, region={self.region!r})"
+
+    def names_used(self):
+        return [("region", self.region)] if self.region is not None else []
+
+    def nodal_forces(self, ctx):
+        return np.zeros((ctx.n_nodes, 2))  # the assembly adds the equivalent of the initial strain
+
+    def temperature(self, ctx, blk) -> np.ndarray:
+        if isinstance(self.dT, np.ndarray):
+            if self.dT.shape != (ctx.n_nodes,):
+                raise InputError(
+                    f"nodal temperature changes need one value per node ({ctx.n_nodes}), got {self.dT.shape}"
+                )
+            return np.einsum("qa,ea->eq", blk.N, self.dT[blk.conn])
+        return _evaluate("temperature change", self.dT, blk.x_gauss)
+
+    def initial_strain(self, ctx, blk):
+        if self.region is not None and blk.region != self.region:
+            return None
+        dT = self.temperature(ctx, blk)
+        return dT[..., None] * blk.material.thermal_strain()
+
+    def describe(self):
+        return repr(self)

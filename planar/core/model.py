@@ -1,0 +1,186 @@
+"""The model: plain data saying what acts where. It computes nothing.
+
+A model holds the mesh, the analysis (plane stress or plane strain), the material and thickness of
+each region, the supports (shared by every load case) and the loads of each named load case.
+Names are checked against the mesh as they are added, so a typo fails at once with the list of
+names that exist.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from .errors import InputError, unknown_name
+from .loads import LoadKind
+from .materials import Isotropic, Orthotropic, check_analysis
+from .mesh import Mesh
+from .supports import Support
+
+__all__ = ["Model", "Section"]
+
+_RULE_WORDS = ("full", "reduced", "selective")
+
+
+@dataclass
+class Section:
+    """Material and thickness of a region."""
+
+    material: Any
+    thickness: float
+
+
+def _check_thickness(t) -> float:
+    try:
+        v = float(t)
+    except (TypeError, ValueError):
+        raise InputError(f"thickness must be a number, got {t!r}") from None
+    if not math.isfinite(v) or v <= 0:
+        raise InputError(f"thickness must be positive and finite, got {t!r}")
+    return v
+
+
+def _check_material(m):
+    if not isinstance(m, (Isotropic, Orthotropic)) and not hasattr(m, "D"):
+        raise InputError(f"a material must be Isotropic or Orthotropic (or provide D()), got {m!r}")
+    return m
+
+
+class Model:
+    """Materials, thickness, supports and load cases on a mesh.
+
+    Parameters
+    ----------
+    mesh : Mesh
+    material : Isotropic or Orthotropic, optional
+        Material of every region not assigned otherwise.
+    thickness : float, default 1.0
+        Plate thickness of every region not assigned otherwise (set 1 for plane strain per unit depth).
+    analysis : {"plane stress", "plane strain"}
+    elements : mapping of str to str, optional
+        Element formulation per mesh layout, e.g. ``{"Q4": "Q4i"}`` to use a plugin's element on the
+        mesh's 4-node quadrilaterals. Default: the layout's own element.
+    quadrature : mapping of str to int or str, optional
+        Integration rule per element name: an int (points per direction for quads, degree for
+        triangles) or ``"full"`` (default), ``"reduced"``, ``"selective"`` (shear terms reduced).
+    units : str, optional
+        Free text naming the consistent units (for reports), e.g. ``"N, mm, MPa"``.
+
+    Examples
+    --------
+    >>> from planar.geometry.structured import rectangle_mesh
+    >>> from planar.core.materials import Isotropic
+    >>> from planar.core.supports import Fixed
+    >>> from planar.core.loads import Traction
+    >>> model = Model(rectangle_mesh(100.0, 20.0, 10, 2), Isotropic(70e3, 0.33), thickness=2.0)
+    >>> model.add_support(Fixed("left"))
+    Fixed('left')
+    >>> model.add_load(Traction("right", ty=-5.0), case="tip shear")
+    Traction('right', tx=None, ty=-5.0)
+    """
+
+    def __init__(self, mesh: Mesh, material=None, thickness: float = 1.0, *,
+                 analysis: str = "plane stress", elements: dict[str, str] | None = None,
+                 quadrature: dict[str, Any] | None = None, units: str = "consistent units"):
+        if not isinstance(mesh, Mesh):
+            raise InputError(f"Model needs a planar Mesh, got {type(mesh).__name__}")
+        self.mesh = mesh
+        self.analysis = check_analysis(analysis)
+        self.default = Section(_check_material(material) if material is not None else None,
+                               _check_thickness(thickness))
+        self.sections: dict[str, Section] = {}
+        self.supports: list[Support] = []
+        self.cases: dict[str, list[LoadKind]] = {}
+        self.elements = dict(elements or {})
+        self.quadrature = dict(quadrature or {})
+        self.units = units
+        for layout in self.elements:
+            if layout not in mesh.cells:
+                raise unknown_name("mesh cell layout", layout, mesh.cells)
+        for name, q in self.quadrature.items():
+            if not (isinstance(q, int) or q in _RULE_WORDS):
+                raise InputError(f"quadrature for {name!r} must be an int or one of {_RULE_WORDS}, got {q!r}")
+
+    # ------------------------------------------------------------------ building
+    def assign(self, region: str, material=None, thickness: float | None = None) -> Section:
+        """Give a named region its own material and/or thickness."""
+        if region not in self.mesh.region_names():
+            raise unknown_name("region", region, self.mesh.region_names())
+        old = self.sections.get(region, Section(self.default.material, self.default.thickness))
+        sec = Section(_check_material(material) if material is not None else old.material,
+                      _check_thickness(thickness) if thickness is not None else old.thickness)
+        self.sections[region] = sec
+        return sec
+
+    def section(self, region: str) -> Section:
+        """Material and thickness of a region (the model default where not assigned)."""
+        sec = self.sections.get(region, self.default)
+        if sec.material is None:
+            raise InputError(
+                f"region {region!r} has no material: pass material= to Model or call "
+                f"model.assign({region!r}, material=...)"
+            )
+        return sec
+
+    def _check_names(self, pairs):
+        names = self.mesh.names()
+        for what, name in pairs:
+            if what == "edge" and name not in self.mesh.edge_sets:
+                raise unknown_name("edge", name, self.mesh.edge_sets)
+            if what in ("point", "node set") and name not in self.mesh.node_sets:
+                raise unknown_name("point or edge", name, self.mesh.node_sets)
+            if what == "region" and name not in names["regions"]:
+                raise unknown_name("region", name, names["regions"])
+
+    def add_support(self, support: Support) -> Support:
+        """Add a support (it acts in every load case)."""
+        if not isinstance(support, Support):
+            raise InputError(f"add_support takes Fixed, Roller, Prescribed or Symmetry, got {support!r}")
+        self._check_names([("node set", support.where)])
+        self.supports.append(support)
+        return support
+
+    def add_load(self, load: LoadKind | str, case: str = "load case 1", **params) -> LoadKind:
+        """Add a load to a named load case.
+
+        Parameters
+        ----------
+        load : LoadKind or str
+            A load object, or the registered name of a load kind (e.g. ``"pressure"``), built with
+            ``params``.
+        case : str
+            Load case name; created on first use.
+        """
+        if isinstance(load, str):
+            from .registry import load_kind
+
+            cls = load_kind(load)
+            try:
+                load = cls(**params)
+            except TypeError as exc:
+                raise InputError(f"load kind {cls.kind or cls.__name__!r}: {exc}") from None
+        elif params:
+            raise InputError("keyword parameters go with a load kind name, not with a load object")
+        if not hasattr(load, "nodal_forces"):
+            raise InputError(f"not a load: {load!r}")
+        self._check_names(load.names_used())
+        self.cases.setdefault(str(case), []).append(load)
+        return load
+
+    def case_names(self) -> list[str]:
+        return list(self.cases)
+
+    def describe(self) -> dict[str, Any]:
+        """A summary for reports: analysis, sections, supports and loads."""
+        regions = self.mesh.region_names()
+        return {
+            "analysis": self.analysis,
+            "units": self.units,
+            "regions": {
+                r: {"material": getattr(self.section(r).material, "describe", lambda: repr(self.section(r).material))(),
+                    "thickness": self.section(r).thickness}
+                for r in regions
+            },
+            "supports": [s.describe() for s in self.supports],
+            "cases": {c: [l.describe() for l in ls] for c, ls in self.cases.items()},
+        }

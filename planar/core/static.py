@@ -1,0 +1,269 @@
+"""Linear static solution: supports eliminated, rigid-body motion refused, one factorization for
+every load case.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from .assembly import Assembly
+from .errors import SupportError, unknown_name
+from .result import Result
+from .solvers import factorize
+from .supports import gather
+from .timing import Timer
+
+__all__ = ["solve", "Constrained", "constrain"]
+
+
+@dataclass
+class Constrained:
+    """Supports turned into unknowns.
+
+    Attributes
+    ----------
+    dofs : ndarray
+        Prescribed global unknowns (in the rotated basis where ``rotation`` is set).
+    values : ndarray
+        Their values.
+    rotation : sparse matrix or None
+        T with u_global = T u_local, for nodes held along an inclined direction.
+    rows : Constraints
+        The raw rows, for the rigid-body check.
+    """
+
+    dofs: np.ndarray
+    values: np.ndarray
+    rotation: sp.csr_matrix | None
+    rows: object
+
+
+def constrain(mesh, supports) -> Constrained:
+    """Turn support rows into prescribed unknowns; refuse contradictions.
+
+    Raises
+    ------
+    SupportError
+        Two supports prescribe different values for one displacement.
+    """
+    rows = gather(mesh, supports)
+    n = mesh.n_nodes
+    node, d, v, lab = rows.node, rows.direction, rows.value, rows.label
+    ax = (np.abs(d[:, 0]) > 1 - 1e-12) | (np.abs(d[:, 1]) > 1 - 1e-12)
+    dofs, vals = [], []
+    # axis-aligned rows: unknown 2 node + component; sign of direction folds into the value
+    comp = np.where(np.abs(d[:, 0]) > 0.5, 0, 1)
+    sgn = np.where(comp == 0, d[:, 0], d[:, 1])
+    skew_nodes = np.unique(node[~ax])
+    on_skew = np.isin(node, skew_nodes)
+    sel = ax & ~on_skew
+    dofs.append(2 * node[sel] + comp[sel]); vals.append(v[sel] * np.sign(sgn[sel]))
+    T = None
+    if skew_nodes.size:
+        T = sp.lil_matrix((2 * n, 2 * n))
+        T.setdiag(1.0)
+        for p in skew_nodes:  # nodes on inclined supports only; few
+            r = np.flatnonzero(node == p)
+            A, b = d[r], v[r]
+            if np.linalg.matrix_rank(A, tol=1e-9) == 2:
+                u = np.linalg.lstsq(A, b, rcond=None)[0]
+                if np.max(np.abs(A @ u - b)) > 1e-9 * max(1.0, np.abs(b).max()):
+                    _conflict(mesh, supports, p, lab[r])
+                dofs.append(np.array([2 * p, 2 * p + 1])); vals.append(u)
+            else:
+                nrm = A[0] / np.hypot(*A[0])
+                proj = A @ nrm
+                vv = b / proj
+                if np.ptp(vv) > 1e-9 * max(1.0, np.abs(vv).max()):
+                    _conflict(mesh, supports, p, lab[r])
+                tan = np.array([-nrm[1], nrm[0]])
+                T[2 * p, 2 * p], T[2 * p + 1, 2 * p] = nrm
+                T[2 * p, 2 * p + 1], T[2 * p + 1, 2 * p + 1] = tan
+                dofs.append(np.array([2 * p])); vals.append(vv[:1])
+        T = T.tocsr()
+    dofs = np.concatenate(dofs) if dofs else np.zeros(0, np.int64)
+    vals = np.concatenate(vals) if vals else np.zeros(0)
+    order = np.argsort(dofs, kind="stable")
+    dofs, vals = dofs[order], vals[order]
+    if dofs.size:
+        first = np.r_[True, dofs[1:] != dofs[:-1]]
+        start = np.flatnonzero(first)
+        spread = np.maximum.reduceat(vals, start) - np.minimum.reduceat(vals, start)
+        scale = max(1.0, np.abs(vals).max())
+        if np.any(spread > 1e-12 * scale):
+            k = dofs[start[np.argmax(spread)]]
+            _conflict(mesh, supports, k // 2, np.unique(lab[node == k // 2]))
+        dofs, vals = dofs[first], vals[first]
+    return Constrained(dofs.astype(np.int64), vals, T, rows)
+
+
+def _conflict(mesh, supports, p, labels):
+    names = ", ".join(supports[int(i)].describe() for i in np.unique(labels))
+    raise SupportError(
+        f"supports contradict each other at node {int(p)} {tuple(np.round(mesh.nodes[int(p)], 6))}: "
+        f"{names} prescribe different displacements there; remove or change one of them"
+    )
+
+
+def rigid_body_check(mesh, cons: Constrained) -> None:
+    """Refuse a model that can still move as a rigid body, naming the free motions.
+
+    Each connected piece of the mesh must have its three rigid motions (translation x, y and
+    rotation) stopped by the supports; the check uses the constraint directions and positions alone,
+    before any factorization.
+    """
+    used = mesh.used_nodes()
+    n = mesh.n_nodes
+    rr, cc = [], []
+    for block in mesh.cells.values():
+        k = block.shape[1]
+        rr.append(np.repeat(block[:, :1], k, axis=1).ravel())
+        cc.append(block.ravel())
+    r = np.concatenate(rr); c = np.concatenate(cc)
+    G = sp.coo_matrix((np.ones(r.size, dtype=np.int8), (r, c)), shape=(n, n))
+    ncomp, label = connected_components(G, directed=False)
+    rows = cons.rows
+    problems = []
+    comps = np.unique(label[used])
+    for comp in comps:
+        members = np.flatnonzero((label == comp) & used)
+        xy = mesh.nodes[members]
+        xc = xy.mean(axis=0)
+        L = max(np.ptp(xy[:, 0]), np.ptp(xy[:, 1]), 1e-300)
+        sel = np.isin(rows.node, members)
+        if not np.any(sel):
+            A = np.zeros((1, 3))
+        else:
+            p = mesh.nodes[rows.node[sel]] - xc
+            dd = rows.direction[sel]
+            A = np.column_stack([dd[:, 0], dd[:, 1], (-dd[:, 0] * p[:, 1] + dd[:, 1] * p[:, 0]) / L])
+        _, s, vt = np.linalg.svd(A, full_matrices=True)
+        s = np.r_[s, np.zeros(3 - s.size)]
+        free = vt[s < 1e-8 * max(1.0, s.max())]
+        if free.shape[0] == 0:
+            continue
+        problems.append(_describe_free(free, xc, L, len(comps) > 1, xy))
+    if problems:
+        raise SupportError(
+            "the model can still move as a rigid body, so it has no unique answer: "
+            + "; ".join(problems)
+        )
+
+
+def _describe_free(free, xc, L, several, xy) -> str:
+    words = []
+    if free.shape[0] == 3:
+        words.append("translation x, translation y and rotation are all free (no support at all)")
+    else:
+        for v in free:
+            a, b, c = v[0], v[1], v[2] / L
+            if abs(v[2]) < 1e-6:
+                t = np.array([a, b]) / np.hypot(a, b)
+                if abs(t[0]) > 1 - 1e-6:
+                    words.append("translation x is free: add a support that holds ux (Roller(..., fixed='x'), Fixed or Prescribed)")
+                elif abs(t[1]) > 1 - 1e-6:
+                    words.append("translation y is free: add a support that holds uy (Roller(..., fixed='y'), Fixed or Prescribed)")
+                else:
+                    words.append(f"translation along ({t[0]:.3g}, {t[1]:.3g}) is free: add a support that holds that direction")
+            else:
+                px, py = xc[0] - b / c, xc[1] + a / c
+                words.append(
+                    f"rotation about ({px:.6g}, {py:.6g}) is free: add a support away from that point "
+                    "that holds the motion across the line joining them (e.g. a second roller)"
+                )
+    where = ""
+    if several:
+        where = f"a separate piece of the mesh near ({xy[:, 0].mean():.6g}, {xy[:, 1].mean():.6g}): "
+    return where + ", ".join(words)
+
+
+def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool = False,
+          distortion_limit: float = 1e-3, timer: Timer | None = None) -> dict[str, Result]:
+    """Assemble and solve a model for its load cases with one factorization.
+
+    Parameters
+    ----------
+    model : Model
+    cases : list of str, optional
+        Load cases to solve (default: all of them).
+    solver : {"auto", "cholmod", "superlu"}
+    verbose : bool
+        Print the stage times.
+
+    Returns
+    -------
+    dict of str to Result
+        One result per load case, in the order of ``cases``.
+
+    Raises
+    ------
+    SupportError
+        Supports that leave a rigid motion free, or that contradict each other.
+    SolverError
+        A singular stiffness matrix (a mechanism).
+    """
+    timer = timer or Timer(verbose)
+    if not model.cases:
+        raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)")
+    cases = list(model.cases) if cases is None else [str(c) for c in cases]
+    for c in cases:
+        if c not in model.cases:
+            raise unknown_name("load case", c, model.cases)
+    if not model.supports:
+        raise SupportError(
+            "the model has no supports, so it can move freely: add at least Fixed(edge), or rollers "
+            "that hold translation x, translation y and rotation"
+        )
+    asm = Assembly(model, distortion_limit=distortion_limit)
+    mesh = asm.mesh
+    cons = constrain(mesh, model.supports)
+    rigid_body_check(mesh, cons)
+    timer.lap("checks")
+    K = asm.stiffness(timer)
+    loads = [asm.load_vector(c) for c in cases]
+    F = np.column_stack([f for f, _ in loads])
+    timer.lap("load vectors")
+    ndof = K.shape[0]
+    unused = np.flatnonzero(~mesh.used_nodes())
+    pres = np.zeros(ndof, dtype=bool)
+    pres[cons.dofs] = True
+    pres[2 * unused] = True
+    pres[2 * unused + 1] = True
+    up = np.zeros(ndof)
+    up[cons.dofs] = cons.values
+    Kl, Fl = K, F
+    if cons.rotation is not None:
+        T = cons.rotation
+        Kl = (T.T @ K @ T).tocsr()
+        Fl = T.T @ F
+    free = np.flatnonzero(~pres)
+    Kff = Kl[free][:, free]
+    rhs = Fl[free] - (Kl[free][:, pres] @ up[pres])[:, None]
+    timer.lap("eliminate supports")
+    fac = factorize(Kff.tocsc() if solver == "superlu" else Kff, solver)
+    timer.lap("factorization")
+    ul = np.zeros((ndof, len(cases)))
+    ul[pres] = up[pres][:, None]
+    ul[free] = fac.solve(rhs).reshape(free.size, len(cases))
+    timer.lap("solve")
+    U = cons.rotation @ ul if cons.rotation is not None else ul
+    R = K @ U - F
+    R[~_reaction_mask(cons, mesh, ndof)] = 0.0
+    results = {}
+    for j, c in enumerate(cases):
+        results[c] = Result(asm, c, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), F[:, j].reshape(-1, 2),
+                            loads[j][1], solver=fac.name, timer=timer)
+    timer.lap("stresses")
+    return results
+
+
+def _reaction_mask(cons: Constrained, mesh, ndof) -> np.ndarray:
+    """Unknowns at supported nodes (both components, so inclined reactions are whole)."""
+    m = np.zeros(ndof, dtype=bool)
+    nodes = np.unique(cons.rows.node)
+    m[2 * nodes] = True
+    m[2 * nodes + 1] = True
+    return m
