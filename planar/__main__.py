@@ -1,1 +1,3 @@
-from .cli import main; main()
+from .cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,48 @@
+"""planar: stress checks of flat parts under in-plane loads.
+
+Linear elastic, small strain, static 2D analysis (plane stress or plane strain) with T3, T6, Q4, Q8
+and Q9 elements. Units are the user's and must be consistent (e.g. N, mm, MPa).
+
+Results are linear-elastic and static figures: no buckling, fatigue, fracture or plasticity check is
+made, and in-plane compression can buckle a thin plate. They need review by a qualified engineer
+under the applicable codes, which take precedence.
+
+Examples
+--------
+>>> import planar
+>>> mesh = planar.rectangle_mesh(100.0, 20.0, 20, 4, "Q8")          # mm
+>>> model = planar.Model(mesh, planar.Isotropic(E=70e3, nu=0.33), thickness=2.0)   # MPa, mm
+>>> model.add_support(planar.Roller("left", fixed="x"))
+Roller('left', fixed='x')
+>>> model.add_support(planar.Roller("corner_00", fixed="y"))
+Roller('corner_00', fixed='y')
+>>> model.add_load(planar.Traction("right", tx=50.0), case="pull")   # MPa
+Traction('right', tx=50.0, ty=None)
+>>> result = planar.solve(model)["pull"]
+>>> round(result.max("von_mises")[0], 6)
+50.0
+"""
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from .core.errors import (ElementError, GeometryError, InputError, MaterialError, MeshError,
+                          NameNotFoundError, PlanarError, PluginError, SolverError, SupportError)
+from .core.loads import BodyForce, LoadKind, PointForce, Pressure, TemperatureChange, Traction
+from .core.materials import Isotropic, Orthotropic
+from .core.mesh import Mesh
+from .core.model import Model
+from .core.result import Result
+from .core.static import solve
+from .core.supports import Fixed, Prescribed, Roller, Symmetry
+from .geometry.structured import rectangle_mesh
+from .post.vtk import write_vtu
+
+__all__ = [
+    "Mesh", "Model", "Result", "solve", "write_vtu", "rectangle_mesh",
+    "Isotropic", "Orthotropic",
+    "Fixed", "Roller", "Prescribed", "Symmetry",
+    "Traction", "Pressure", "PointForce", "BodyForce", "TemperatureChange", "LoadKind",
+    "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
+    "SupportError", "SolverError", "PluginError", "GeometryError",
+]
