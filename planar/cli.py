@@ -104,7 +104,7 @@ def _load_commands() -> None:
     """Import the modules that add sub-commands (each registers itself with @command)."""
     import importlib
 
-    for mod in ("planar.commands",):
+    for mod in ("planar.commands", "planar.demo", "planar.studies"):
         try:
             importlib.import_module(mod)
         except ModuleNotFoundError as exc:

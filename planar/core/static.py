@@ -170,6 +170,7 @@ def _describe_free(free, xc, L, several, xy) -> str:
                     words.append(f"translation along ({t[0]:.3g}, {t[1]:.3g}) is free: add a support that holds that direction")
             else:
                 px, py = xc[0] - b / c, xc[1] + a / c
+                px, py = (0.0 if abs(px) < 1e-9 * L else px), (0.0 if abs(py) < 1e-9 * L else py)
                 words.append(
                     f"rotation about ({px:.6g}, {py:.6g}) is free: add a support away from that point "
                     "that holds the motion across the line joining them (e.g. a second roller)"

@@ -1,0 +1,52 @@
+"""VTK output read back through meshio (a reference library): cell types and fields.
+
+Source of the expected values: uniform tension of a strip, sigma_xx = P / A everywhere (common
+practice).
+"""
+import meshio
+import numpy as np
+import pytest
+
+from planar import Isotropic, Model, Roller, Traction, rectangle_mesh, solve, write_vtu
+from planar.core.errors import InputError
+
+TYPES = {"T3": "triangle", "T6": "triangle6", "Q4": "quad", "Q8": "quad8", "Q9": "quad9"}
+
+
+@pytest.mark.parametrize("el", list(TYPES))
+def test_vtu_round_trip(tmp_path, el):
+    mesh = rectangle_mesh(30.0, 10.0, 3, 2, el)
+    model = Model(mesh, Isotropic(210e3, 0.3), thickness=4.0)
+    model.add_support(Roller("left", fixed="x"))
+    model.add_support(Roller("corner_00", fixed="y"))
+    model.add_load(Traction("right", tx=120.0), case="pull")
+    r = solve(model)["pull"]
+    path = write_vtu(tmp_path / "out.vtu", r)
+    m = meshio.read(path)
+    assert [c.type for c in m.cells] == [TYPES[el]]
+    np.testing.assert_array_equal(m.cells[0].data, mesh.cells[el])
+    np.testing.assert_allclose(m.points[:, :2], mesh.nodes)
+    np.testing.assert_allclose(m.point_data["displacement"][:, :2], r.u)
+    np.testing.assert_allclose(m.point_data["sigma_xx"], 120.0, rtol=1e-9)
+    np.testing.assert_allclose(m.point_data["von_mises"], 120.0, rtol=1e-9)
+    np.testing.assert_allclose(m.cell_data["element_sigma_xx"][0], 120.0, rtol=1e-9)
+    assert "region_id" in m.cell_data
+    # no temporary files left behind
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.vtu"]
+
+
+def test_vtu_write_keeps_old_file_on_failure(tmp_path):
+    mesh = rectangle_mesh(30.0, 10.0, 3, 2, "Q4")
+    model = Model(mesh, Isotropic(210e3, 0.3))
+    model.add_support(Roller("left", fixed="x"))
+    model.add_support(Roller("corner_00", fixed="y"))
+    model.add_load(Traction("right", tx=1.0), case="a")
+    r = solve(model)["a"]
+    target = tmp_path / "keep.vtu"
+    target.write_text("previous result")
+    with pytest.raises(InputError):
+        write_vtu(target, r, cell_fields={"bad": np.zeros(5)})
+    assert target.read_text() == "previous result"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["keep.vtu"]
+    with pytest.raises(InputError, match=".vtu"):
+        write_vtu(tmp_path / "x.txt", r)
