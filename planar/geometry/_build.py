@@ -1,0 +1,201 @@
+"""Turn a :class:`~planar.geometry.plate.Plate` recipe into a gmsh OpenCASCADE model with names.
+
+Booleans are done by OpenCASCADE. Afterwards every boundary curve is named geometrically: a few
+points along the curve are compared with the named pieces of the recipe, and the curve takes the
+name of the first piece (symmetry cuts, then later operations, then the outline) that all its
+points lie on, within ``REL_TOL`` (1e-6) times the plate's size. Regions come from the fragment
+map (which piece of the plate came from which region shape); named points are embedded vertices.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..core.errors import GeometryError, InputError
+from ._curves import _Line, _segment_distance
+from ._session import _Session, _stage
+from .plate import REL_TOL, Plate
+
+#: fractions of a curve's parameter range where it is sampled for naming
+_SAMPLE_AT = np.array([0.11, 0.3, 0.5, 0.7, 0.89])
+
+
+@dataclass
+class _Built:
+    edges: dict[str, list[int]]
+    points: dict[str, int]
+    regions: dict[str, list[int]]  # including "plate" when some surface is in no named region
+    surfaces: list[int]
+    area: float
+    scale: float
+    bbox: tuple[float, float, float, float]
+    region_order: list[str] = field(default_factory=list)
+
+
+def build_geometry(plate: Plate, verbose: bool = False) -> _Built:
+    """Build ``plate`` in a throw-away gmsh session and return its names and area."""
+    with _Session(verbose) as s:
+        return _build(plate, s)
+
+
+def _mass(occ, dimtags) -> float:
+    return float(sum(occ.getMass(d, t) for d, t in dimtags if d == 2))
+
+
+def _build(plate: Plate, session: _Session) -> _Built:
+    g = session.gmsh
+    occ = g.model.occ
+    scale = plate._scale()
+    tol = REL_TOL * scale
+    with _stage("build the plate outline", session, "check the outline's points and arcs"):
+        S = [(2, plate._base._occ(occ))]
+    for op in plate._ops:
+        with _stage(f"apply {op.label}", session):
+            T = [(2, op.shape._occ(occ))]
+            n0 = len(S)
+            if op.kind == "union":
+                S, _ = occ.fuse(S, T)
+                S = [d for d in S if d[0] == 2]
+                if len(S) > n0:
+                    raise GeometryError(f"{op.label} does not overlap the plate along an edge; move it so that it overlaps")
+                continue
+            a_before = _mass(occ, S)
+            a_tool = _mass(occ, T)
+            S, _ = occ.cut(S, T)
+            S = [d for d in S if d[0] == 2]
+            if not S:
+                raise GeometryError(f"{op.label} removes the whole plate")
+            if len(S) > n0:
+                raise GeometryError(f"{op.label} cuts the plate into {len(S)} separate pieces; make it smaller")
+            if op.kind == "hole":
+                a_after = _mass(occ, S)
+                if abs(a_before - a_tool - a_after) > 1e-9 * max(a_before, 1e-300):
+                    raise GeometryError(
+                        f"{op.label} is not wholly inside the plate or overlaps another cut-out "
+                        f"(it removes {a_before - a_after:g} instead of its area {a_tool:g}); move it"
+                    )
+    x0, y0, x1, y1 = plate._bbox()
+    big = 2.0 * scale
+    for (axis, at, sign), line in zip(plate._keep, plate._symmetry):
+        with _stage(f"cut the plate along {line.name}", session):
+            if axis == 0:
+                xa, xb = (at, x1 + big) if sign > 0 else (x0 - big, at)
+                ya, yb = y0 - big, y1 + big
+            else:
+                xa, xb = x0 - big, x1 + big
+                ya, yb = (at, y1 + big) if sign > 0 else (y0 - big, at)
+            box = occ.addRectangle(xa, ya, 0.0, xb - xa, yb - ya)
+            S, _ = occ.intersect(S, [(2, box)])
+            S = [d for d in S if d[0] == 2]
+            if not S:
+                raise GeometryError(f"the symmetry cut {line.name} at {at:g} leaves nothing of the plate; check its centre")
+    regions_in: list[tuple[str, list]] = []
+    for name, shape in plate._regions:
+        with _stage(f"make region {name!r}", session):
+            T = [(2, shape._occ(occ))]
+            cp = occ.copy(S)
+            inter, _ = occ.intersect(T, cp)
+            inter = [d for d in inter if d[0] == 2]
+            if not inter or _mass(occ, inter) <= (tol * tol):
+                if inter:
+                    occ.remove(inter, recursive=True)
+                raise GeometryError(f"region {name!r} does not overlap the (cut) plate; move its shape onto the plate")
+            regions_in.append((name, inter))
+    point_in: list[tuple[str, tuple[int, int]]] = []
+    for name, (px, py) in plate._points:
+        point_in.append((name, (0, occ.addPoint(px, py, 0.0))))
+    region_of: dict[int, str] = {}
+    point_tag: dict[str, int] = {}
+    if regions_in or point_in:
+        tools = [dt for _, dts in regions_in for dt in dts] + [dt for _, dt in point_in]
+        with _stage("join the regions and points to the plate", session):
+            _, omap = occ.fragment(S, tools)
+        k = len(S)
+        plate_surfs = {t for i in range(len(S)) for d, t in omap[i] if d == 2}
+        for name, dts in regions_in:
+            for _ in dts:
+                for d, t in omap[k]:
+                    if d == 2:
+                        region_of[t] = name
+                k += 1
+        for name, _ in point_in:
+            tags = [t for d, t in omap[k] if d == 0]
+            k += 1
+            if tags:
+                point_tag[name] = tags[0]
+        stray = [t for t in region_of if t not in plate_surfs]
+        if stray:  # cannot happen (regions were clipped to the plate); be safe
+            occ.remove([(2, t) for t in stray], recursive=True)
+            for t in stray:
+                region_of.pop(t)
+    with _stage("synchronize the model", session):
+        occ.synchronize()
+    surfaces = sorted(t for _, t in g.model.getEntities(2))
+    if not surfaces:
+        raise GeometryError("nothing of the plate is left after the cut-outs")
+    # ---- named points must be vertices of the plate (on its edge, or embedded inside it)
+    on_plate = {abs(t) for _, t in g.model.getBoundary([(2, s) for s in surfaces], combined=False,
+                                                       oriented=False, recursive=True)}
+    for s in surfaces:
+        on_plate.update(t for d, t in g.model.mesh.getEmbedded(2, s) if d == 0)
+    for name, (px, py) in plate._points:
+        t = point_tag.get(name)
+        if t is None or t not in on_plate:
+            why = " (it is on the side removed by the symmetry cut)" if plate._keep else ""
+            raise GeometryError(f"point {name!r} at ({px:g}, {py:g}) is not on the plate{why}; move it onto the plate")
+    # ---- name the boundary curves
+    bnd = g.model.getBoundary([(2, s) for s in surfaces], combined=True, oriented=False)
+    curves = sorted({abs(t) for d, t in bnd if d == 1})
+    edges = _name_curves(g, curves, plate._all_named_pieces(), tol)
+    clash = set(edges) & set(point_tag)
+    if clash:
+        raise InputError(f"the name(s) {sorted(clash)} are used for both an edge and a point; rename one")
+    regions: dict[str, list[int]] = {}
+    order = []
+    for name, _ in plate._regions:
+        if name not in order:
+            order.append(name)
+    for s in surfaces:
+        nm = region_of.get(s, "plate")
+        regions.setdefault(nm, []).append(s)
+    area = _mass(occ, [(2, s) for s in surfaces])
+    return _Built(edges, point_tag, regions, surfaces, area, scale, (x0, y0, x1, y1),
+                  [n for n in order if n in regions])
+
+
+def _name_curves(g, curves: list[int], pieces: list, tol: float) -> dict[str, list[int]]:
+    """Name each boundary curve after the first piece that all its sample points lie on."""
+    if not curves:
+        return {}
+    pts = []
+    for c in curves:
+        lo, hi = g.model.getParametrizationBounds(1, c)
+        u = lo[0] + (hi[0] - lo[0]) * _SAMPLE_AT
+        pts.append(np.asarray(g.model.getValue(1, c, u.tolist()), float).reshape(-1, 3)[:, :2])
+    P = np.vstack(pts)  # (curves * k, 2)
+    k = _SAMPLE_AT.size
+    D = np.empty((P.shape[0], len(pieces)))
+    line_idx = [i for i, p in enumerate(pieces) if isinstance(p, _Line)]
+    if line_idx:
+        a = np.array([pieces[i].p0 for i in line_idx], float)
+        b = np.array([pieces[i].p1 for i in line_idx], float)
+        D[:, line_idx] = _segment_distance(P, a, b)
+    for i, p in enumerate(pieces):
+        if not isinstance(p, _Line):
+            D[:, i] = p.distance(P)
+    near = (D <= tol).reshape(len(curves), k, len(pieces))
+    all_on = near.all(axis=1)
+    most = near.sum(axis=1)
+    out: dict[str, list[int]] = {}
+    for ci, c in enumerate(curves):
+        hit = np.flatnonzero(all_on[ci])
+        if hit.size:
+            j = int(hit[0])
+        elif most[ci].max() > 0:
+            j = int(np.argmax(most[ci]))  # first piece with the most points on it
+        else:
+            out.setdefault("unnamed", []).append(c)
+            continue
+        out.setdefault(pieces[j].name, []).append(c)
+    return out

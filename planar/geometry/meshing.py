@@ -1,0 +1,501 @@
+"""Mesh a plate with gmsh and hand back a :class:`planar.core.mesh.Mesh`.
+
+Sizes: the element size is the smallest of the global ``size``, every :class:`Refine` (a size at
+named edges or points that grows linearly with distance, ``h(d) = size + (growth - 1) * d``, the
+size reached by elements that grow by the factor ``growth`` from one to the next), and a
+``size_function(x, y)``. The size function is evaluated once, vectorized, on a quadtree of points
+over the plate (cells no larger than 1.5 times the local size) and handed to gmsh as a background
+view, so a function given as numpy code costs little even for meshes of 10^5 elements and more.
+"""
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass
+from typing import Callable, Sequence
+
+import numpy as np
+
+from ..core.errors import GeometryError, InputError, MeshError, ResourceError, unknown_name
+from ..core.mesh import Mesh
+from ._build import _Built, _build
+from ._session import _Session, _stage
+from .plate import Plate
+from .shapes import Shape
+
+__all__ = ["Refine", "mesh"]
+
+#: gmsh element type number -> (layout name, nodes per cell)
+_GMSH_CELLS = {2: ("T3", 3), 9: ("T6", 6), 3: ("Q4", 4), 16: ("Q8", 8), 10: ("Q9", 9)}
+_GMSH_EDGES = {1: 2, 8: 3}
+_ALGORITHMS = {"frontal-delaunay": 6, "delaunay": 5, "adaptive": 1, "frontal-quads": 8}
+#: node order of the mirror image of each layout (fixes clockwise cells)
+_FLIP = {
+    "T3": [0, 2, 1],
+    "T6": [0, 2, 1, 5, 4, 3],
+    "Q4": [0, 3, 2, 1],
+    "Q8": [0, 3, 2, 1, 7, 6, 5, 4],
+    "Q9": [0, 3, 2, 1, 7, 6, 5, 4, 8],
+}
+
+
+@dataclass(frozen=True)
+class Refine:
+    """Local refinement: element size ``size`` at the named edges, points or regions ``at``.
+
+    The size grows with the distance d from them as ``size + (growth - 1) * (d - within)`` until
+    it reaches the global size.
+
+    Parameters
+    ----------
+    at : str, sequence of str, or (x, y)
+        Names of edges, points or regions (a region means its boundary), or a point given by its
+        coordinates.
+    size : float
+        Element size at the entities.
+    growth : float, default 1.3
+        Ratio of the sizes of neighbouring elements away from the entities (> 1).
+    within : float, default 0
+        Keep ``size`` up to this distance before it starts to grow.
+
+    Examples
+    --------
+    >>> Refine("bolt_hole", size=0.5, growth=1.2)
+    Refine(at='bolt_hole', size=0.5, growth=1.2, within=0.0)
+    """
+
+    at: object
+    size: float
+    growth: float = 1.3
+    within: float = 0.0
+
+    def __post_init__(self):
+        at = self.at
+        if isinstance(at, str):
+            pass
+        elif _is_xy(at):
+            at = (float(at[0]), float(at[1]))
+        elif isinstance(at, (list, tuple)) and at and all(isinstance(a, str) for a in at):
+            at = tuple(at)
+        else:
+            raise InputError(f"Refine(at=...) takes a name, a list of names, or a point (x, y); got {at!r}")
+        object.__setattr__(self, "at", at)
+        object.__setattr__(self, "size", _size(self.size, "Refine size"))
+        g = _number(self.growth, "Refine growth")
+        if not g > 1.0:
+            raise InputError(f"Refine growth must be greater than 1 (e.g. 1.2), got {self.growth!r}")
+        object.__setattr__(self, "growth", g)
+        w = _number(self.within, "Refine within")
+        if w < 0:
+            raise InputError(f"Refine within must not be negative, got {self.within!r}")
+        object.__setattr__(self, "within", w)
+
+
+def _is_xy(a) -> bool:
+    if isinstance(a, (str, bytes)) or not isinstance(a, (tuple, list, np.ndarray)) or len(a) != 2:
+        return False
+    return all(isinstance(v, (int, float, np.floating, np.integer)) and not isinstance(v, bool) for v in a)
+
+
+def _number(v, what) -> float:
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} must be a number, got {v!r}") from None
+    if not math.isfinite(x):
+        raise InputError(f"{what} must be finite, got {v!r}")
+    return x
+
+
+def _size(v, what) -> float:
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} must be a number (an element side length), got {v!r}") from None
+    if not (math.isfinite(x) and x > 0):
+        raise InputError(
+            f"{what} must be a positive element side length in the plate's length unit, got {v!r}"
+        )
+    return x
+
+
+def mesh(
+    geometry: Plate | Shape,
+    size: float | None = None,
+    *,
+    order: int = 1,
+    quads: bool = False,
+    quadratic: str = "Q8",
+    refine: Sequence[Refine] | Refine = (),
+    size_function: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
+    algorithm: str | None = None,
+    circle_elements: int = 12,
+    seed: int | None = None,
+    max_elements: int = 5_000_000,
+    save_msh: str | os.PathLike | None = None,
+    verbose: bool = False,
+) -> Mesh:
+    """Mesh a plate with triangles or quadrilaterals, linear or quadratic.
+
+    Parameters
+    ----------
+    geometry : Plate or Shape
+        The plate (a bare shape is taken as a plate outline).
+    size : float, optional
+        Global element size (side length). Required unless ``size_function`` is given.
+    order : {1, 2}
+        1 gives T3 or Q4 cells, 2 gives T6 or Q8/Q9 with the mid-side nodes on the true curves.
+    quads : bool, default False
+        Quadrilaterals by recombination of triangles.
+    quadratic : {"Q8", "Q9"}
+        The quadratic quadrilateral: 8 nodes (serendipity) or 9 (Lagrange).
+    refine : Refine or sequence of Refine
+        Local sizes at named edges, points or regions.
+    size_function : callable, optional
+        ``h(x, y)`` for numpy arrays x, y (same shape), returning the element size at each point.
+        Used by adaptive remeshing. Must be vectorized (it is called a few times with large arrays).
+    algorithm : {"frontal-delaunay", "delaunay", "adaptive", "frontal-quads"}, optional
+        gmsh's 2D algorithm; default "frontal-delaunay" for triangles, "frontal-quads" for quads.
+    circle_elements : int, default 12
+        At least this many element sides per full turn of a curved edge (0 turns it off).
+    seed : int, optional
+        Seed of gmsh's random numbers; the same input and seed give the same mesh.
+    max_elements : int, default 5_000_000
+        Refuse a job whose estimated element count is larger (it would exhaust memory or time).
+    save_msh : path, optional
+        Also write the gmsh mesh (format 4.1) with a physical group for every named edge, point and
+        region (including ``"plate"``); :meth:`Mesh.read` reads it back with the same names.
+    verbose : bool, default False
+        Let gmsh print its progress.
+
+    Returns
+    -------
+    Mesh
+        Nodes (n, 2); cells by layout name with corners counter-clockwise then mid-side nodes (gmsh
+        and VTK order); ``edge_sets`` for every named boundary piece ((m, 2) or (m, 3): start, end,
+        middle); ``node_sets`` for named points; ``regions`` for named regions (the rest is
+        ``"plate"``). Unused nodes are removed and nodes numbered 0..n-1.
+
+    Raises
+    ------
+    InputError
+        Bad sizes or options.
+    NameNotFoundError
+        A refinement names something the plate does not have (the message lists what exists).
+    GeometryError
+        The geometry cannot be built or meshed.
+    ResourceError
+        The estimated element count exceeds ``max_elements``.
+
+    Examples
+    --------
+    >>> from planar.geometry import Plate, Circle, Refine, mesh
+    >>> plate = Plate.rectangle(200.0, 80.0).cut(Circle((100.0, 40.0), 10.0, name="bolt_hole"))
+    >>> m = mesh(plate, size=8.0, order=2, refine=[Refine("bolt_hole", size=2.0)])
+    >>> sorted(m.cells), sorted(m.edge_sets)
+    (['T6'], ['bolt_hole', 'bottom', 'left', 'right', 'top'])
+    """
+    plate = geometry if isinstance(geometry, Plate) else Plate(geometry) if isinstance(geometry, Shape) else None
+    if plate is None:
+        raise InputError(f"mesh() needs a Plate or a Shape, got {type(geometry).__name__}")
+    if size is None and size_function is None:
+        raise InputError("give a mesh size (size=...) or a size function (size_function=...)")
+    h = None if size is None else _size(size, "mesh size")
+    if order not in (1, 2) or isinstance(order, bool):
+        raise InputError(f"order must be 1 (linear) or 2 (quadratic), got {order!r}")
+    if quadratic not in ("Q8", "Q9"):
+        raise InputError(f"quadratic must be 'Q8' or 'Q9', got {quadratic!r}")
+    if isinstance(refine, Refine):
+        refine = [refine]
+    refine = list(refine)
+    for r in refine:
+        if not isinstance(r, Refine):
+            raise InputError(f"refine= takes Refine(...) items, got {type(r).__name__}")
+    if size_function is not None and not callable(size_function):
+        raise InputError("size_function must be a callable h(x, y)")
+    if algorithm is None:
+        algorithm = "frontal-quads" if quads else "frontal-delaunay"
+    if algorithm not in _ALGORITHMS:
+        raise InputError(f"unknown algorithm {algorithm!r}; pick one of {', '.join(sorted(_ALGORITHMS))}")
+    try:
+        circle_elements = int(circle_elements)
+    except (TypeError, ValueError):
+        raise InputError(f"circle_elements must be a whole number, got {circle_elements!r}") from None
+    if circle_elements < 0:
+        raise InputError("circle_elements must not be negative")
+
+    with _Session(verbose) as s:
+        g = s.gmsh
+        built = _build(plate, s)
+        hmax = h if h is not None else built.scale
+        fields = []
+        with _stage("set up the mesh sizes", s):
+            for r in refine:
+                fields.append(_refine_field(g, built, r, hmax))
+            if size_function is not None:
+                fields.append(_size_function_field(g, plate, built, size_function, hmax, quads, max_elements))
+            if fields:
+                fmin = g.model.mesh.field.add("Min")
+                g.model.mesh.field.setNumbers(fmin, "FieldsList", fields)
+                g.model.mesh.field.setAsBackgroundMesh(fmin)
+        if h is not None:
+            est = built.area / ((1.0 if quads else math.sqrt(3) / 4) * h * h)
+            if est > max_elements:
+                raise ResourceError(
+                    f"a mesh of size {h:g} would have about {est:.3g} elements, more than "
+                    f"max_elements={max_elements}; use a larger size or raise max_elements"
+                )
+        s.set("Mesh.MeshSizeMax", hmax)
+        s.set("Mesh.MeshSizeMin", 0.0)
+        s.set("Mesh.MeshSizeFromPoints", 0)
+        s.set("Mesh.MeshSizeFromCurvature", circle_elements)
+        s.set("Mesh.MeshSizeExtendFromBoundary", 1)
+        s.set("Mesh.Algorithm", _ALGORITHMS[algorithm])
+        s.set("Mesh.RecombineAll", 1 if quads else 0)
+        if quads:
+            s.set("Mesh.RecombinationAlgorithm", 3)  # blossom full-quad: no triangles left
+        s.set("Mesh.ElementOrder", 1)
+        s.set("Mesh.SecondOrderIncomplete", 1 if (quads and quadratic == "Q8") else 0)
+        s.set("Mesh.HighOrderOptimize", 0)
+        if seed is not None:
+            s.set("Mesh.RandomSeed", int(seed))
+        with _stage("mesh the plate", s, "try another size or algorithm, or check for very thin parts"):
+            g.model.mesh.generate(2)
+            if order == 2:
+                g.model.mesh.setOrder(2)
+        out, flipped = _to_mesh(g, built, s)
+        if save_msh is not None:
+            _write_msh(g, built, save_msh, flipped, s)
+        return out
+
+
+# -------------------------------------------------------------------------------------- size fields
+def _refine_field(g, built: _Built, r: Refine, hmax: float) -> int:
+    F = g.model.mesh.field
+    if isinstance(r.at, tuple) and len(r.at) == 2 and not isinstance(r.at[0], str):
+        x0, y0 = r.at
+        dist = F.add("MathEval")
+        F.setString(dist, "F", f"Sqrt((x-({x0!r}))^2+(y-({y0!r}))^2)")
+    else:
+        names = [r.at] if isinstance(r.at, str) else list(r.at)
+        curves: list[int] = []
+        points: list[int] = []
+        for nm in names:
+            if nm in built.edges:
+                curves += built.edges[nm]
+            elif nm in built.points:
+                points.append(built.points[nm])
+            elif nm in built.regions:
+                bnd = g.model.getBoundary([(2, t) for t in built.regions[nm]], combined=True, oriented=False)
+                curves += [abs(t) for d, t in bnd if d == 1]
+            else:
+                valid = list(built.edges) + list(built.points) + list(built.regions)
+                raise unknown_name("edge, point or region", nm, valid, "Refine(at=...) names where to refine")
+        dist = F.add("Distance")
+        if curves:
+            longest = max(g.model.occ.getMass(1, c) for c in curves)
+            F.setNumbers(dist, "CurvesList", sorted(set(curves)))
+            F.setNumber(dist, "Sampling", int(min(max(20, math.ceil(2.0 * longest / r.size)), 20000)))
+        if points:
+            F.setNumbers(dist, "PointsList", sorted(set(points)))
+    th = F.add("Threshold")
+    F.setNumber(th, "InField", dist)
+    F.setNumber(th, "SizeMin", r.size)
+    F.setNumber(th, "SizeMax", max(hmax, r.size))
+    F.setNumber(th, "DistMin", r.within)
+    F.setNumber(th, "DistMax", r.within + max(hmax - r.size, 0.0) / (r.growth - 1.0) + 1e-12 * built.scale)
+    return th
+
+
+def _eval_size(fn, x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    try:
+        v = fn(x, y)
+        v = np.broadcast_to(np.asarray(v, dtype=float), x.shape)
+    except Exception as exc:
+        raise InputError(
+            f"size_function(x, y) failed for numpy arrays ({type(exc).__name__}: {exc}); it must accept "
+            "arrays x, y and return an array of element sizes of the same shape"
+        ) from None
+    bad = ~(np.isfinite(v) & (v > 0))
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError(
+            f"size_function returned {float(v.flat[i]):g} at ({x.flat[i]:g}, {y.flat[i]:g}); sizes must be positive "
+            "and finite everywhere over the plate's bounding box"
+        )
+    return v
+
+
+def _size_quadtree(fn, bbox, hmax: float, ratio: float = 1.5, max_cells: int = 1_000_000):
+    """Leaves (x0, y0, side) of a quadtree with sides <= ratio * local size, and h at their corners."""
+    x0, y0, x1, y1 = bbox
+    w, hgt = x1 - x0, y1 - y0
+    side = max(w, hgt) / 8.0
+    nx, ny = max(1, math.ceil(w / side)), max(1, math.ceil(hgt / side))
+    I, J = np.meshgrid(np.arange(nx), np.arange(ny), indexing="ij")
+    cx = x0 + side * I.ravel().astype(float)
+    cy = y0 + side * J.ravel().astype(float)
+    cs = np.full(cx.shape, side)
+    leaves = []
+    offs = np.array([[0, 0], [1, 0], [1, 1], [0, 1], [0.5, 0.5]])
+    total = 0
+    for _ in range(40):
+        px = cx[:, None] + cs[:, None] * offs[None, :, 0]
+        py = cy[:, None] + cs[:, None] * offs[None, :, 1]
+        hv = np.minimum(_eval_size(fn, px, py), hmax)
+        split = cs > ratio * hv.min(axis=1)
+        if total + 4 * np.count_nonzero(split) > max_cells:
+            split[:] = False
+        keep = ~split
+        leaves.append((cx[keep], cy[keep], cs[keep], hv[keep, :4]))
+        total += int(np.count_nonzero(keep))
+        if not split.any():
+            break
+        sx, sy, ss = cx[split], cy[split], cs[split] / 2
+        cx = np.concatenate([sx, sx + ss, sx, sx + ss])
+        cy = np.concatenate([sy, sy, sy + ss, sy + ss])
+        cs = np.concatenate([ss, ss, ss, ss])
+    X = np.concatenate([l[0] for l in leaves])
+    Y = np.concatenate([l[1] for l in leaves])
+    Sd = np.concatenate([l[2] for l in leaves])
+    H = np.vstack([l[3] for l in leaves])
+    return X, Y, Sd, H
+
+
+def _size_function_field(g, plate: Plate, built: _Built, fn, hmax: float, quads: bool, max_elements: int) -> int:
+    x0, y0, x1, y1 = g.model.getBoundingBox(-1, -1)[:2] + g.model.getBoundingBox(-1, -1)[3:5]
+    pad = 1e-3 * built.scale
+    X, Y, Sd, H = _size_quadtree(fn, (x0 - pad, y0 - pad, x1 + pad, y1 + pad), hmax)
+    # element-count estimate: integral of 1 / (area of one element) over the plate
+    frac = built.area / max((x1 - x0 + 2 * pad) * (y1 - y0 + 2 * pad), 1e-300)
+    hm = H.mean(axis=1)
+    est = frac * float(np.sum(Sd * Sd / ((1.0 if quads else math.sqrt(3) / 4) * hm * hm)))
+    if est > max_elements:
+        raise ResourceError(
+            f"the size function asks for about {est:.3g} elements, more than max_elements={max_elements}; "
+            "use larger sizes or raise max_elements"
+        )
+    xs = np.column_stack([X, X + Sd, X + Sd, X])
+    ys = np.column_stack([Y, Y, Y + Sd, Y + Sd])
+    tri = np.array([[0, 1, 2], [0, 2, 3]])
+    n = X.size
+    data = np.empty((2, n, 12))
+    for k in range(2):
+        data[k, :, 0:3] = xs[:, tri[k]]
+        data[k, :, 3:6] = ys[:, tri[k]]
+        data[k, :, 6:9] = 0.0
+        data[k, :, 9:12] = H[:, tri[k]]
+    view = g.view.add("planar size function")
+    g.view.addListData(view, "ST", 2 * n, np.ascontiguousarray(data.reshape(-1)))
+    F = g.model.mesh.field
+    f = F.add("PostView")
+    F.setNumber(f, "ViewTag", view)
+    return f
+
+
+# -------------------------------------------------------------------------------------- conversion
+def _to_mesh(g, built: _Built, s: _Session) -> tuple[Mesh, dict[int, bool]]:
+    with _stage("read the mesh back", s):
+        ntags, ncoord, _ = g.model.mesh.getNodes(returnParametricCoord=False)
+    ntags = np.asarray(ntags, dtype=np.int64)
+    if ntags.size == 0:
+        raise GeometryError("gmsh produced no mesh; " + ("; ".join(s.errors()[-3:]) or "check the geometry and size"))
+    xy = np.asarray(ncoord, float).reshape(-1, 3)[:, :2]
+    lookup = np.full(int(ntags.max()) + 1, -1, dtype=np.int64)
+    lookup[ntags] = np.arange(ntags.size)
+    blocks: dict[str, list[np.ndarray]] = {}
+    counts: dict[str, int] = {}
+    region_cells: dict[str, dict[str, list[np.ndarray]]] = {}
+    surf_region = {t: nm for nm, ts in built.regions.items() for t in ts}
+    flipped_surf: dict[int, bool] = {}
+    for surf in built.surfaces:
+        types, _, enodes = g.model.mesh.getElements(2, surf)
+        if not len(types):
+            raise GeometryError(
+                f"gmsh left part of the plate (surface {surf}, region {surf_region.get(surf)!r}) without elements; "
+                + ("; ".join(s.errors()[-3:]) or "try a smaller size")
+            )
+        nflip = ntot = 0
+        for t, en in zip(types, enodes):
+            if int(t) not in _GMSH_CELLS:
+                raise MeshError(f"gmsh made cells of type {int(t)}, which planar has no element for")
+            lay, k = _GMSH_CELLS[int(t)]
+            conn = lookup[np.asarray(en, dtype=np.int64).reshape(-1, k)]
+            conn, nf = _counter_clockwise(lay, conn, xy)
+            nflip += nf
+            ntot += conn.shape[0]
+            start = counts.get(lay, 0)
+            blocks.setdefault(lay, []).append(conn)
+            counts[lay] = start + conn.shape[0]
+            nm = surf_region.get(surf, "plate")
+            if nm != "plate":
+                region_cells.setdefault(nm, {}).setdefault(lay, []).append(np.arange(start, start + conn.shape[0]))
+        flipped_surf[surf] = nflip * 2 > ntot
+    cells = {lay: np.vstack(v) for lay, v in blocks.items()}
+    # ---- named edges and points
+    edge_sets: dict[str, np.ndarray] = {}
+    for nm, curves in built.edges.items():
+        segs = []
+        for c in curves:
+            types, _, enodes = g.model.mesh.getElements(1, c)
+            for t, en in zip(types, enodes):
+                k = _GMSH_EDGES.get(int(t))
+                if k is not None:
+                    segs.append(lookup[np.asarray(en, dtype=np.int64).reshape(-1, k)])
+        if segs:
+            edge_sets[nm] = np.vstack(segs)
+    node_sets: dict[str, np.ndarray] = {}
+    for nm, tag in built.points.items():
+        tags, _, _ = g.model.mesh.getNodes(0, tag, returnParametricCoord=False)
+        if len(tags) == 0:
+            raise GeometryError(f"gmsh put no node at point {nm!r}")
+        node_sets[nm] = lookup[np.asarray(tags, dtype=np.int64)]
+    # ---- drop nodes that no cell uses, number the rest 0..n-1
+    used = np.zeros(ntags.size, dtype=bool)
+    for c in cells.values():
+        used[c.ravel()] = True
+    new = np.cumsum(used) - 1
+    for nm, ids in node_sets.items():
+        if not used[ids].all():
+            raise GeometryError(f"point {nm!r} did not become a node of the mesh; move it onto the plate")
+    idt = np.int32 if used.sum() < 2**31 - 1 else np.int64
+    cells = {k: new[v].astype(idt) for k, v in cells.items()}
+    edge_sets = {k: new[v].astype(idt) for k, v in edge_sets.items()}
+    node_sets = {k: new[v].astype(idt) for k, v in node_sets.items()}
+    regions = {nm: {lay: np.concatenate(ix) for lay, ix in d.items()} for nm, d in region_cells.items()}
+    return Mesh(xy[used], cells, edge_sets=edge_sets, node_sets=node_sets, regions=regions), flipped_surf
+
+
+def _counter_clockwise(lay: str, conn: np.ndarray, xy: np.ndarray) -> tuple[np.ndarray, int]:
+    """Reorder clockwise cells (negative corner area) to counter-clockwise."""
+    nc = 3 if lay[0] == "T" else 4
+    p = xy[conn[:, :nc]]
+    x, y = p[..., 0], p[..., 1]
+    area2 = np.sum(x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y, axis=1)
+    neg = area2 < 0
+    nf = int(np.count_nonzero(neg))
+    if nf:
+        conn = conn.copy()
+        conn[neg] = conn[neg][:, _FLIP[lay]]
+    return conn, nf
+
+
+def _write_msh(g, built: _Built, path, flipped: dict[int, bool], s: _Session) -> None:
+    path = os.fspath(path)
+    folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise InputError(f"cannot write {path!r}: the folder {folder!r} does not exist")
+    with _stage(f"write the mesh file {path!r}", s):
+        rev = [(2, t) for t, f in flipped.items() if f]
+        if rev:
+            g.model.mesh.reverse(rev)
+        for nm, curves in built.edges.items():
+            g.model.addPhysicalGroup(1, curves, name=nm)
+        for nm, tag in built.points.items():
+            g.model.addPhysicalGroup(0, [tag], name=nm)
+        for nm, surfs in built.regions.items():
+            g.model.addPhysicalGroup(2, surfs, name=nm)
+        s.set("Mesh.MshFileVersion", 4.1)
+        s.set("Mesh.SaveAll", 0)
+        s.set("Mesh.Binary", 0)
+        g.write(path)
