@@ -208,6 +208,68 @@ class Block:
         return self._geo[key]
 
 
+@dataclass
+class ReducedSystem:
+    """K_ff as its lower triangle (CSC, free numbering) and the prescribed rows K_p (CSR, all columns)."""
+
+    lower: sp.csc_matrix
+    prescribed_rows: sp.csr_matrix
+
+    def matvec(self, x: np.ndarray) -> np.ndarray:
+        """K_ff @ x from the lower triangle."""
+        L = self.lower
+        return L @ x + L.T @ x - L.diagonal()[:, None] * x if x.ndim == 2 else L @ x + L.T @ x - L.diagonal() * x
+
+
+@dataclass
+class Rotation:
+    """Nodes whose two unknowns are expressed in a local basis: u_global = R u_local.
+
+    Attributes
+    ----------
+    nodes : ndarray, shape (s,)
+    R : ndarray, shape (s, 2, 2)
+        Columns are the local basis vectors (normal, tangent) in global components.
+    """
+
+    nodes: np.ndarray
+    R: np.ndarray
+
+    def __post_init__(self):
+        self._lookup = {}
+
+    def apply(self, ke: np.ndarray, dofs: np.ndarray) -> np.ndarray:
+        """T^T ke T for the elements that hold rotated nodes (others unchanged)."""
+        node_of = dofs[:, 0::2] // 2  # (c, k)
+        pos = np.searchsorted(self.nodes, node_of)
+        pos = np.minimum(pos, self.nodes.size - 1)
+        hit = self.nodes[pos] == node_of
+        el = np.flatnonzero(hit.any(axis=1))
+        if el.size == 0:
+            return ke
+        k = node_of.shape[1]
+        T = np.zeros((el.size, k, 2, k, 2))
+        eye = np.eye(2)
+        blocks = np.where(hit[el][:, :, None, None], self.R[pos[el]], eye)  # (c', k, 2, 2)
+        idx = np.arange(k)
+        T[:, idx, :, idx, :] = blocks.transpose(1, 0, 2, 3)
+        T = T.reshape(el.size, 2 * k, 2 * k)
+        ke = ke.copy()
+        ke[el] = np.einsum("eai,eab,ebj->eij", T, ke[el], T)
+        return ke
+
+    def to_local(self, f: np.ndarray) -> np.ndarray:
+        """Nodal vectors (n, 2, ...) from global to local components at the rotated nodes."""
+        out = f.copy()
+        out[self.nodes] = np.einsum("sba,sb...->sa...", self.R, f[self.nodes])
+        return out
+
+    def to_global(self, u: np.ndarray) -> np.ndarray:
+        out = u.copy()
+        out[self.nodes] = np.einsum("sab,sb...->sa...", self.R, u[self.nodes])
+        return out
+
+
 class _BlockView:
     """What a load kind sees of a block: conn, N, x_gauss, dvol, region, material."""
 
@@ -359,6 +421,72 @@ class Assembly:
         if timer is not None:
             timer.lap("COO to CSR")
         return K
+
+    def system(self, free_index: np.ndarray, pres_index: np.ndarray, rotation: "Rotation | None" = None,
+               timer=None) -> "ReducedSystem":
+        """The stiffness split by supports, in the lean form the solvers take.
+
+        Only the lower triangle of K_ff (free rows and columns, in free numbering) is gathered, and
+        the rows of the prescribed unknowns as a separate small matrix K_p (for the coupling to
+        prescribed values and for the reactions), so the full K is never built or sliced.
+
+        Parameters
+        ----------
+        free_index : ndarray, shape (2n,)
+            Free number of each global unknown, -1 where prescribed.
+        pres_index : ndarray, shape (2n,)
+            Prescribed number of each unknown, -1 where free.
+        rotation : Rotation, optional
+            Nodes whose unknowns are turned to a local (normal, tangent) basis.
+        """
+        nf = int(np.count_nonzero(free_index >= 0))
+        npres = int(np.count_nonzero(pres_index >= 0))
+        idt = np.int32 if 2 * self.mesh.n_nodes < 2**31 - 1 else np.int64
+        rows_l, cols_l, vals_l = [], [], []
+        rows_p, cols_p, vals_p = [], [], []
+        for b in self.blocks:
+            m = 2 * b.etype.n_nodes
+            la, lb = np.tril_indices(m)
+            for s in range(0, b.n, CHUNK):
+                ke = self.element_matrices(b, s, s + CHUNK)
+                d = b.dofs(s, s + CHUNK)
+                if rotation is not None:
+                    ke = rotation.apply(ke, d)
+                fi = free_index[d]
+                r, c = fi[:, la], fi[:, lb]
+                v = ke[:, la, lb]
+                keep = (r >= 0) & (c >= 0)
+                r, c, v = r[keep], c[keep], v[keep]
+                hi = np.maximum(r, c)
+                rows_l.append(hi.astype(idt)); cols_l.append((r + c - hi).astype(idt)); vals_l.append(v)
+                pi = pres_index[d]
+                touch = np.flatnonzero(np.any(pi >= 0, axis=1))
+                if touch.size:
+                    pt = pi[touch]
+                    rr = np.broadcast_to(pt[:, :, None], (touch.size, m, m))
+                    cc = np.broadcast_to(d[touch][:, None, :], (touch.size, m, m))
+                    kk = ke[touch]
+                    sel = rr >= 0
+                    rows_p.append(rr[sel]); cols_p.append(cc[sel]); vals_p.append(kk[sel])
+        if timer is not None:
+            timer.lap("element matrices")
+        r = np.concatenate(rows_l) if rows_l else np.zeros(0, idt)
+        c = np.concatenate(cols_l) if cols_l else np.zeros(0, idt)
+        v = np.concatenate(vals_l) if vals_l else np.zeros(0)
+        del rows_l, cols_l, vals_l
+        L = sp.csc_matrix((v, (r, c)), shape=(nf, nf))
+        del r, c, v
+        L.sum_duplicates()
+        ndof = 2 * self.mesh.n_nodes
+        if rows_p:
+            Kp = sp.csr_matrix((np.concatenate(vals_p), (np.concatenate(rows_p), np.concatenate(cols_p))),
+                               shape=(npres, ndof))
+            Kp.sum_duplicates()
+        else:
+            Kp = sp.csr_matrix((npres, ndof))
+        if timer is not None:
+            timer.lap("COO to CSR")
+        return ReducedSystem(L, Kp)
 
     # ------------------------------------------------------------------ loads
     def initial_strains(self, case: str) -> list[np.ndarray | None]:

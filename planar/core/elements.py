@@ -47,8 +47,8 @@ class ElementType:
 
     ``stiffness(coords, D, thickness, rule) -> (e, 2k, 2k)``
         Own element stiffness, e.g. with condensed internal unknowns.
-    ``stress(coords, D, u_element, rule) -> (e, q, 3) strains``
-        Own strain evaluation at the rule's points.
+    ``strain(coords, D, u_element, rule) -> (e, q, 3)``
+        Own strain evaluation at the rule's points (stresses follow as D (strain - initial strain)).
     """
 
     name: ClassVar[str]

@@ -4,6 +4,11 @@ Built-in parts register through the package's own ``planar.elements`` and ``plan
 points, the same path plugins use. A plugin that fails to import or declares something invalid is
 reported by name with its error and skipped; two distributions claiming one name is an error naming
 both.
+
+Discovery itself never raises: every problem (an import error, an invalid declaration, a name
+claimed twice) is recorded in :attr:`Registry.problems`, shown by ``planar plugins``, and raised as a
+:class:`~planar.core.errors.PluginError` only when the name in question is asked for, so one bad
+plugin leaves every other name usable.
 """
 from __future__ import annotations
 
@@ -15,19 +20,34 @@ import numpy as np
 
 from .errors import PluginError, unknown_name
 
-__all__ = ["Registry", "PluginProblem", "element_type", "load_kind", "registry", "reload_plugins"]
+__all__ = ["Registry", "Entry", "PluginProblem", "element_type", "load_kind", "registry", "reload_plugins"]
 
 GROUPS = {"element": "planar.elements", "load": "planar.loads"}
+KIND_WORDS = {"element": "element type", "load": "load kind"}
 
 
 @dataclass
 class PluginProblem:
-    """A plugin entry that could not be used."""
+    """A plugin entry that could not be used.
+
+    Attributes
+    ----------
+    kind : {"element", "load"}
+    name : str
+        The entry-point name.
+    distribution : str
+        The distribution(s) that declare it (two, comma-separated, for a name claimed twice).
+    error : str
+        What went wrong: the exception type and message, or the conflict.
+    version : str
+        Version of the distribution ("" when unknown or for a conflict).
+    """
 
     kind: str
     name: str
     distribution: str
     error: str
+    version: str = ""
 
     def __str__(self) -> str:
         return f"{self.kind} plugin {self.name!r} from {self.distribution}: {self.error}"
@@ -35,6 +55,20 @@ class PluginProblem:
 
 @dataclass
 class Entry:
+    """A usable registered element type or load kind.
+
+    Attributes
+    ----------
+    kind : {"element", "load"}
+    name : str
+    obj : class
+        The element type or load kind class.
+    distribution, version : str
+        The distribution that provides it (``"planar"`` for the built-in parts).
+    value : str
+        The entry-point target, ``"module:attribute"``.
+    """
+
     kind: str
     name: str
     obj: Any
@@ -43,30 +77,63 @@ class Entry:
     value: str
 
 
-def _validate_element(obj: Any) -> None:
+def _validate_element(obj: Any, name: str) -> None:
     needed = ["cell", "n_nodes", "degree", "ref_nodes", "edges", "default_order", "meshio_type",
-              "reversed_order", "shape", "shape_derivatives"]
+              "reversed_order", "shape", "shape_derivatives", "default_rule"]
     missing = [a for a in needed if not hasattr(obj, a)]
     if missing:
-        raise PluginError(f"element type lacks {', '.join(missing)}")
+        raise PluginError(f"element type lacks {', '.join(missing)} (subclass planar.core.elements.ElementType)")
+    own = getattr(obj, "name", None)
+    if own != name:
+        raise PluginError(f"the entry point is named {name!r} but the element type calls itself {own!r}; "
+                          "make its `name` attribute equal to the entry-point name")
     if obj.cell not in ("triangle", "quad"):
         raise PluginError(f"element cell must be 'triangle' or 'quad', not {obj.cell!r}")
+    if obj.degree not in (1, 2):
+        raise PluginError(f"element degree must be 1 or 2, not {obj.degree!r}")
+    if not isinstance(obj.meshio_type, str) or not obj.meshio_type:
+        raise PluginError(f"meshio_type must be a meshio cell type name such as 'quad', not {obj.meshio_type!r}")
+    for hook in ("stiffness", "strain"):
+        h = getattr(obj, hook, None)
+        if h is not None and not callable(h):
+            raise PluginError(f"the optional hook {hook} must be callable or None, not {h!r}")
+    k = int(obj.n_nodes)
     ref = np.asarray(obj.ref_nodes, dtype=float)
-    if ref.shape != (obj.n_nodes, 2):
-        raise PluginError(f"ref_nodes has shape {ref.shape}, expected ({obj.n_nodes}, 2)")
+    if ref.shape != (k, 2):
+        raise PluginError(f"ref_nodes has shape {ref.shape}, expected ({k}, 2)")
+    perm = np.asarray(obj.reversed_order)
+    if perm.shape != (k,) or sorted(perm.tolist()) != list(range(k)):
+        raise PluginError(f"reversed_order must be a permutation of 0..{k - 1}, got {perm.tolist()}")
+    edges = np.asarray(obj.edges)
+    if edges.ndim != 2 or edges.shape[1] not in (2, 3) or edges.min() < 0 or edges.max() >= k:
+        raise PluginError(f"edges must be an (n_edges, 2 or 3) array of local node numbers 0..{k - 1}")
     n = np.asarray(obj.shape(ref))
-    if n.shape != (obj.n_nodes, obj.n_nodes) or not np.allclose(n, np.eye(obj.n_nodes), atol=1e-10):
+    if n.shape != (k, k) or not np.allclose(n, np.eye(k), atol=1e-10):
         raise PluginError("shape functions are not 1 at their own node and 0 at the others")
     dn = np.asarray(obj.shape_derivatives(ref))
-    if dn.shape != (obj.n_nodes, obj.n_nodes, 2):
+    if dn.shape != (k, k, 2):
         raise PluginError(f"shape_derivatives returned shape {dn.shape}, expected (q, n_nodes, 2)")
+    # a point inside either reference cell: the functions must reproduce a constant (partition of unity)
+    inner = np.array([[0.21, 0.17]])
+    if not np.allclose(np.sum(obj.shape(inner), axis=1), 1.0, atol=1e-10) or \
+            not np.allclose(np.sum(obj.shape_derivatives(inner), axis=1), 0.0, atol=1e-10):
+        raise PluginError("shape functions do not sum to 1 (or their derivatives to 0) inside the cell")
+    rule = obj.default_rule()
+    if getattr(rule, "cell", obj.cell) != obj.cell:
+        raise PluginError(f"default_rule() is a rule on a {rule.cell}, the element is a {obj.cell}")
 
 
-def _validate_load(obj: Any) -> None:
+def _validate_load(obj: Any, name: str) -> None:
     if not isinstance(obj, type):
-        raise PluginError("a load kind must be a class")
-    if not hasattr(obj, "nodal_forces"):
-        raise PluginError("load kind lacks nodal_forces(context)")
+        raise PluginError("a load kind must be a class (subclass planar.core.loads.LoadKind)")
+    missing = [a for a in ("nodal_forces", "initial_strain", "names_used", "describe")
+               if not callable(getattr(obj, a, None))]
+    if missing:
+        raise PluginError(f"load kind lacks {', '.join(missing)} (subclass planar.core.loads.LoadKind)")
+    own = getattr(obj, "kind", None)
+    if own != name:
+        raise PluginError(f"the entry point is named {name!r} but the load kind calls itself {own!r}; "
+                          "make its `kind` attribute equal to the entry-point name")
 
 
 _VALIDATORS = {"element": _validate_element, "load": _validate_load}
@@ -74,13 +141,26 @@ _VALIDATORS = {"element": _validate_element, "load": _validate_load}
 
 @dataclass
 class Registry:
-    """Element types and load kinds found through entry points."""
+    """Element types and load kinds found through entry points.
+
+    Attributes
+    ----------
+    entries : dict
+        ``{"element": {name: Entry}, "load": {name: Entry}}``, the usable entries.
+    problems : list of PluginProblem
+        Entries that failed to import, declared something invalid, or claim a name twice.
+    conflicts : dict
+        ``{(kind, name): [Entry, Entry, ...]}`` for names claimed by more than one distribution;
+        such a name is in no table and asking for it raises a PluginError naming every claimant.
+    """
 
     entries: dict[str, dict[str, Entry]] = field(default_factory=lambda: {"element": {}, "load": {}})
     problems: list[PluginProblem] = field(default_factory=list)
+    conflicts: dict[tuple[str, str], list[Entry]] = field(default_factory=dict)
 
     @classmethod
     def discover(cls) -> "Registry":
+        """Read both entry-point groups; never raises for a bad plugin (see :attr:`problems`)."""
         reg = cls()
         for kind, group in GROUPS.items():
             for ep in _md.entry_points(group=group):
@@ -88,38 +168,67 @@ class Registry:
                 version = ep.dist.version if ep.dist is not None else "?"
                 try:
                     obj = ep.load()
-                    _VALIDATORS[kind](obj)
-                except Exception as exc:  # a broken plugin never breaks the core
-                    reg.problems.append(PluginProblem(kind, ep.name, dist, f"{type(exc).__name__}: {exc}"))
+                    _VALIDATORS[kind](obj, ep.name)
+                except (Exception, SystemExit) as exc:  # a broken plugin never breaks the core
+                    reg.problems.append(PluginProblem(kind, ep.name, dist, f"{type(exc).__name__}: {exc}", version))
                     continue
                 reg._add(Entry(kind, ep.name, obj, dist, version, ep.value))
+        for (kind, name), claims in reg.conflicts.items():
+            reg.problems.append(PluginProblem(kind, name, ", ".join(e.distribution for e in claims),
+                                              reg._conflict_message(kind, name)))
         return reg
 
     def _add(self, entry: Entry) -> None:
         table = self.entries[entry.kind]
+        key = (entry.kind, entry.name)
+        if key in self.conflicts:
+            self.conflicts[key].append(entry)
+            return
         old = table.get(entry.name)
-        if old is not None and old.value != entry.value:
-            raise PluginError(
-                f"two distributions claim the {entry.kind} name {entry.name!r}: "
-                f"{old.distribution} ({old.value}) and {entry.distribution} ({entry.value}); "
-                "uninstall one of them or rename its entry point"
-            )
-        table[entry.name] = entry
+        if old is None:
+            table[entry.name] = entry
+        elif old.distribution == entry.distribution and old.value == entry.value:
+            return  # the same declaration seen twice (one distribution on two path entries)
+        else:
+            self.conflicts[key] = [table.pop(entry.name), entry]
+
+    def _conflict_message(self, kind: str, name: str) -> str:
+        claims = self.conflicts[(kind, name)]
+        who = " and ".join(f"{e.distribution} {e.version} ({e.value})" for e in claims)
+        return (f"two distributions claim the {KIND_WORDS[kind]} name {name!r}: {who}; "
+                "uninstall one of them or rename its entry point")
 
     def get(self, kind: str, name: str) -> Any:
+        """The class registered under ``name``.
+
+        Raises
+        ------
+        PluginError
+            If two distributions claim the name.
+        NameNotFoundError
+            If no usable entry has the name (listing those that exist, and the load error of an
+            installed plugin of that name that could not be loaded).
+        """
         table = self.entries[kind]
+        if (kind, name) in self.conflicts:
+            raise PluginError(self._conflict_message(kind, name))
         if name not in table:
             hint = ""
             if not self.entries["element"]:
                 hint = "No element types are registered at all: install planar (pip install -e .)"
             bad = [p for p in self.problems if p.kind == kind and p.name == name]
             if bad:
-                hint = f"It is installed but could not be loaded: {bad[0].error}"
-            raise unknown_name("element type" if kind == "element" else "load kind", name, table, hint)
+                hint = f"It is installed (by {bad[0].distribution}) but could not be loaded: {bad[0].error}"
+            raise unknown_name(KIND_WORDS[kind], name, table, hint)
         return table[name].obj
 
     def names(self, kind: str) -> list[str]:
         return sorted(self.entries[kind])
+
+    def entry(self, kind: str, name: str) -> Entry:
+        """The :class:`Entry` (with distribution and version) registered under ``name``."""
+        self.get(kind, name)
+        return self.entries[kind][name]
 
 
 _REGISTRY: Registry | None = None

@@ -138,7 +138,8 @@ class Result:
         Back end that solved it.
     """
 
-    def __init__(self, assembly, case: str, u, reactions, applied, initial_strains, *, solver="", timer=None):
+    def __init__(self, assembly, case: str, u, reactions, applied, initial_strains, *, solver="", timer=None,
+                 solver_info=None):
         self.assembly = assembly
         self.model = assembly.model
         self.mesh = assembly.mesh
@@ -147,6 +148,7 @@ class Result:
         self.reactions = reactions
         self.applied = applied
         self.solver = solver
+        self.solver_info = solver_info or {}
         self.timer = timer
         self._e0 = initial_strains
         self._nodal_cache: dict[str, np.ndarray] = {}

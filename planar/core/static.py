@@ -9,7 +9,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from .assembly import Assembly
+from .assembly import Assembly, Rotation
 from .errors import SupportError, unknown_name
 from .result import Result
 from .solvers import factorize
@@ -29,15 +29,15 @@ class Constrained:
         Prescribed global unknowns (in the rotated basis where ``rotation`` is set).
     values : ndarray
         Their values.
-    rotation : sparse matrix or None
-        T with u_global = T u_local, for nodes held along an inclined direction.
+    rotation : Rotation or None
+        Nodes held along an inclined direction, whose unknowns are (normal, tangent) components.
     rows : Constraints
         The raw rows, for the rigid-body check.
     """
 
     dofs: np.ndarray
     values: np.ndarray
-    rotation: sp.csr_matrix | None
+    rotation: Rotation | None
     rows: object
 
 
@@ -62,9 +62,8 @@ def constrain(mesh, supports) -> Constrained:
     sel = ax & ~on_skew
     dofs.append(2 * node[sel] + comp[sel]); vals.append(v[sel] * np.sign(sgn[sel]))
     T = None
+    rot_nodes, rot_R = [], []
     if skew_nodes.size:
-        T = sp.lil_matrix((2 * n, 2 * n))
-        T.setdiag(1.0)
         for p in skew_nodes:  # nodes on inclined supports only; few
             r = np.flatnonzero(node == p)
             A, b = d[r], v[r]
@@ -80,10 +79,10 @@ def constrain(mesh, supports) -> Constrained:
                 if np.ptp(vv) > 1e-9 * max(1.0, np.abs(vv).max()):
                     _conflict(mesh, supports, p, lab[r])
                 tan = np.array([-nrm[1], nrm[0]])
-                T[2 * p, 2 * p], T[2 * p + 1, 2 * p] = nrm
-                T[2 * p, 2 * p + 1], T[2 * p + 1, 2 * p + 1] = tan
+                rot_nodes.append(p); rot_R.append(np.column_stack([nrm, tan]))
                 dofs.append(np.array([2 * p])); vals.append(vv[:1])
-        T = T.tocsr()
+        if rot_nodes:
+            T = Rotation(np.array(rot_nodes, dtype=np.int64), np.array(rot_R))
     dofs = np.concatenate(dofs) if dofs else np.zeros(0, np.int64)
     vals = np.concatenate(vals) if vals else np.zeros(0)
     order = np.argsort(dofs, kind="stable")
@@ -182,7 +181,8 @@ def _describe_free(free, xc, L, several, xy) -> str:
 
 
 def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool = False,
-          distortion_limit: float = 1e-3, timer: Timer | None = None) -> dict[str, Result]:
+          distortion_limit: float = 1e-3, timer: Timer | None = None,
+          keep_system: bool = False) -> dict[str, Result]:
     """Assemble and solve a model for its load cases with one factorization.
 
     Parameters
@@ -190,9 +190,14 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     model : Model
     cases : list of str, optional
         Load cases to solve (default: all of them).
-    solver : {"auto", "cholmod", "superlu"}
+    solver : {"auto", "pardiso", "cholmod", "amg", "superlu"}
+        Linear solver back end (see :mod:`planar.core.solvers`); ``"auto"`` picks by size, memory and
+        what is installed.
     verbose : bool
         Print the stage times.
+    keep_system : bool
+        Keep the reduced system and right-hand sides on ``result.assembly.system`` (for benchmarks
+        and checks; costs the matrix's memory for as long as the results live).
 
     Returns
     -------
@@ -222,12 +227,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
     rigid_body_check(mesh, cons)
-    timer.lap("checks")
-    K = asm.stiffness(timer)
-    loads = [asm.load_vector(c) for c in cases]
-    F = np.column_stack([f for f, _ in loads])
-    timer.lap("load vectors")
-    ndof = K.shape[0]
+    ndof = 2 * mesh.n_nodes
     unused = np.flatnonzero(~mesh.used_nodes())
     pres = np.zeros(ndof, dtype=bool)
     pres[cons.dofs] = True
@@ -235,36 +235,61 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     pres[2 * unused + 1] = True
     up = np.zeros(ndof)
     up[cons.dofs] = cons.values
-    Kl, Fl = K, F
-    if cons.rotation is not None:
-        T = cons.rotation
-        Kl = (T.T @ K @ T).tocsr()
-        Fl = T.T @ F
     free = np.flatnonzero(~pres)
-    Kff = Kl[free][:, free]
-    rhs = Fl[free] - (Kl[free][:, pres] @ up[pres])[:, None]
-    timer.lap("eliminate supports")
-    fac = factorize(Kff.tocsc() if solver == "superlu" else Kff, solver)
+    pdofs = np.flatnonzero(pres)
+    free_index = np.full(ndof, -1, dtype=np.int64)
+    free_index[free] = np.arange(free.size)
+    pres_index = np.full(ndof, -1, dtype=np.int64)
+    pres_index[pdofs] = np.arange(pdofs.size)
+    timer.lap("checks")
+    system = asm.system(free_index, pres_index, cons.rotation, timer)
+    loads = [asm.load_vector(c) for c in cases]
+    F = np.column_stack([f for f, _ in loads])
+    Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+    Kpf = system.prescribed_rows[:, free]
+    rhs = Fl[free] - (Kpf.T @ up[pdofs])[:, None]
+    timer.lap("load vectors")
+    modes = None
+    if solver in ("amg", "auto"):
+        modes = _rigid_modes(mesh.nodes, cons.rotation)[free]
+    if keep_system:
+        asm.system = system
+        asm.rhs = rhs
+    fac = factorize(system.lower, solver, rigid_modes=modes)
     timer.lap("factorization")
     ul = np.zeros((ndof, len(cases)))
-    ul[pres] = up[pres][:, None]
+    ul[pdofs] = up[pdofs][:, None]
     ul[free] = fac.solve(rhs).reshape(free.size, len(cases))
     timer.lap("solve")
-    U = cons.rotation @ ul if cons.rotation is not None else ul
-    R = K @ U - F
-    R[~_reaction_mask(cons, mesh, ndof)] = 0.0
+    Rl = np.zeros((ndof, len(cases)))
+    Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
+    Rl[2 * unused] = 0.0
+    Rl[2 * unused + 1] = 0.0
+    if cons.rotation is not None:
+        U = cons.rotation.to_global(ul.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+        R = cons.rotation.to_global(Rl.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+    else:
+        U, R = ul, Rl
     results = {}
     for j, c in enumerate(cases):
         results[c] = Result(asm, c, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), F[:, j].reshape(-1, 2),
-                            loads[j][1], solver=fac.name, timer=timer)
-    timer.lap("stresses")
+                            loads[j][1], solver=fac.name, timer=timer, solver_info=dict(fac.info))
+    del system
     return results
 
 
-def _reaction_mask(cons: Constrained, mesh, ndof) -> np.ndarray:
-    """Unknowns at supported nodes (both components, so inclined reactions are whole)."""
-    m = np.zeros(ndof, dtype=bool)
-    nodes = np.unique(cons.rows.node)
-    m[2 * nodes] = True
-    m[2 * nodes + 1] = True
-    return m
+def _rigid_modes(xy: np.ndarray, rotation) -> np.ndarray:
+    """Translations and the in-plane rotation as nodal vectors (2n, 3), in the local bases."""
+    n = xy.shape[0]
+    c = xy.mean(axis=0)
+    B = np.zeros((n, 2, 3))
+    B[:, 0, 0] = 1.0
+    B[:, 1, 1] = 1.0
+    L = max(np.ptp(xy[:, 0]), np.ptp(xy[:, 1]), 1e-300)
+    B[:, 0, 2] = -(xy[:, 1] - c[1]) / L
+    B[:, 1, 2] = (xy[:, 0] - c[0]) / L
+    if rotation is not None:
+        B = rotation.to_local(B)
+    return B.reshape(2 * n, 3)
+
+

@@ -1,0 +1,137 @@
+"""Benchmark of the whole pipeline on a plate with a hole: mesh, assembly, solve, recovery, VTK.
+
+Usage::
+
+    python benchmarks/run.py --dofs 1000000 [--element T6] [--solver auto] [--json out.json]
+
+Prints and writes (JSON) the time of each stage, the peak resident memory and the unknowns, and the
+time of the bare factorization and solve of the same matrix by the fastest installed back end,
+measured in the same run so the ratios hold on a noisy machine. Not a timed test.
+"""
+from __future__ import annotations
+
+import argparse
+import gc
+import json
+import os
+import resource
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+
+def _rss_mb() -> float:
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
+def _plate(width=400.0, height=160.0, radius=20.0):
+    from planar.geometry import Circle, Plate
+
+    plate = Plate.rectangle(width, height).cut(Circle((width / 2, height / 2), radius, name="hole"))
+    return plate.add_point("anchor", (0.0, 0.0))
+
+
+def _mesh(plate, element: str, size: float):
+    from planar.geometry import mesh
+
+    quads = element.startswith("Q")
+    kw = dict(order=1 if element in ("T3", "Q4") else 2, quads=quads)
+    if element in ("Q8", "Q9"):
+        kw["quadratic"] = element
+    return mesh(plate, size=size, **kw)
+
+
+def size_for(plate, element: str, dofs: int) -> float:
+    """Global element size that gives about ``dofs`` unknowns (from a coarse trial mesh)."""
+    area = plate.area()
+    h = float(np.sqrt(area / 2000.0))
+    m = _mesh(plate, element, h)
+    return h * float(np.sqrt(m.n_dofs / dofs))
+
+
+def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | None = None) -> dict:
+    import planar
+    from planar.core.solvers import available_solvers, factorize
+    from planar.core.timing import Timer
+    from planar.post.vtk import write_vtu
+
+    plate = _plate()
+    h = size_for(plate, element, dofs)
+    gc.collect()
+    stages: dict[str, float] = {}
+    t_start = time.perf_counter()
+    t = time.perf_counter()
+    mesh = _mesh(plate, element, h)
+    stages["mesh"] = time.perf_counter() - t
+    model = planar.Model(mesh, planar.Isotropic(72e3, 0.33), thickness=4.0, units="N, mm, MPa")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("anchor", fixed="y"))
+    model.add_load(planar.Traction("right", tx=100.0), case="tension")
+    timer = Timer()
+    res = planar.solve(model, solver=solver, timer=timer, keep_system=True)["tension"]
+    for k, v in timer.stages.items():
+        stages[k] = v
+    t = time.perf_counter()
+    res.nodal_stress("spr")
+    stages["recovery (SPR)"] = time.perf_counter() - t
+    t = time.perf_counter()
+    with tempfile.TemporaryDirectory(dir=out_dir) as tmp:
+        write_vtu(Path(tmp) / "plate.vtu", res, recovery="spr")
+        stages["VTK output"] = time.perf_counter() - t
+    end_to_end = time.perf_counter() - t_start
+    peak = _rss_mb()
+    system, rhs = res.assembly.system, res.assembly.rhs
+    peak_vm, loc, _ = res.max("von_mises", method="spr")
+    used_solver = res.solver
+    del res
+    gc.collect()
+    fastest = available_solvers()[0]
+    t = time.perf_counter()
+    fac = factorize(system.lower, fastest)
+    fac.solve(rhs)
+    bare = time.perf_counter() - t
+    return {
+        "dofs": int(mesh.n_dofs),
+        "element": element,
+        "elements": int(mesh.n_cells),
+        "stages": {k: round(v, 4) for k, v in stages.items()},
+        "bare_solve_s": round(bare, 4),
+        "bare_solver": fastest,
+        "end_to_end_s": round(end_to_end, 4),
+        "ratio_end_to_end_over_bare": round(end_to_end / bare, 3),
+        "ratio_assembly_over_bare": round((stages.get("element matrices", 0) + stages.get("COO to CSR", 0)) / bare, 3),
+        "peak_rss_mb": round(peak, 1),
+        "solver": used_solver,
+        "peak_von_mises": round(peak_vm, 3),
+        "peak_location": [round(loc[0], 4), round(loc[1], 4)],
+    }
+
+
+def main(argv=None) -> int:
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--dofs", type=int, default=200_000, help="target number of unknowns")
+    p.add_argument("--element", default="T6", choices=["T3", "T6", "Q4", "Q8", "Q9"])
+    p.add_argument("--solver", default="auto", help="solver back end (auto, pardiso, cholmod, amg, superlu)")
+    p.add_argument("--json", metavar="PATH", help="write the figures as JSON")
+    args = p.parse_args(argv)
+    rec = run(args.dofs, args.element, args.solver)
+    print(f"{rec['dofs']:,} unknowns, {rec['elements']:,} {rec['element']} elements, solver {rec['solver']}")
+    for k, v in rec["stages"].items():
+        print(f"  {k:<22s} {v:8.3f} s")
+    print(f"  end to end             {rec['end_to_end_s']:8.3f} s")
+    print(f"  bare solve ({rec['bare_solver']})  {rec['bare_solve_s']:8.3f} s")
+    print(f"  end to end / bare      {rec['ratio_end_to_end_over_bare']:8.3f}")
+    print(f"  assembly / bare        {rec['ratio_assembly_over_bare']:8.3f}")
+    print(f"  peak memory            {rec['peak_rss_mb']:8.1f} MB")
+    if args.json:
+        from planar.post.files import atomic_write_text
+
+        atomic_write_text(args.json, json.dumps(rec, indent=1))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
