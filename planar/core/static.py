@@ -246,8 +246,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     loads = [asm.load_vector(c) for c in cases]
     F = np.column_stack([f for f, _ in loads])
     Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-    Kpf = system.prescribed_rows[:, free]
-    rhs = Fl[free] - (Kpf.T @ up[pdofs])[:, None]
+    coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
+    rhs = Fl[free] - coupling[free][:, None]
     timer.lap("load vectors")
     modes = None
     if solver in ("amg", "auto"):
