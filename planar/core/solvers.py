@@ -78,13 +78,19 @@ def available_memory() -> int:
     return 1 << 62
 
 
-def estimate_memory(n: int, method: str) -> int:
+def estimate_memory(n: int, method: str, matrix_entries: int = 0) -> int:
     """Rough peak bytes a back end needs for n unknowns of a 2D elasticity system.
 
     Fitted to measurements on this project's benchmark (structured and gmsh plates, T3 to Q9):
-    direct factors grow like n log n; AMG like n.
+    direct factors grow like n log n; AMG like n. ``matrix_entries`` (element-matrix entries of the
+    lower triangle) adds the assembly's own arrays, 32 bytes each at the peak.
     """
     n = max(int(n), 1)
+    extra = 32 * int(matrix_entries)
+    return _solver_memory(n, method) + extra
+
+
+def _solver_memory(n: int, method: str) -> int:
     logn = max(np.log2(n), 1.0)
     if method in ("cholmod", "pardiso"):
         return int(110 * n * logn)
@@ -296,7 +302,7 @@ _INSTALL = {"pardiso": "pip install 'planar[fast]' (pypardiso, x86 only)", "chol
             "amg": "pip install pyamg", "superlu": "pip install scipy"}
 
 
-def choose(n: int, method: str = "auto", *, memory: int | None = None) -> str:
+def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_entries: int = 0) -> str:
     """The back end ``factorize`` would use for n unknowns.
 
     Raises
@@ -310,7 +316,7 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None) -> str:
     if method != "auto":
         if not _importable(_MODULES[method]):
             raise SolverError(f"the {method!r} solver is not installed: {_INSTALL[method]}")
-        need = estimate_memory(n, method)
+        need = estimate_memory(n, method, matrix_entries)
         if need > memory:
             raise ResourceError(
                 f"{n:,} unknowns with the {method!r} solver need about {need / 2**30:.1f} GiB but "
@@ -326,9 +332,9 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None) -> str:
     for name in order:
         if name == "superlu" and n > 200_000:
             continue
-        if estimate_memory(n, name) <= memory:
+        if estimate_memory(n, name, matrix_entries) <= memory:
             return name
-    best = min(estimate_memory(n, m) for m in ("amg", "cholmod"))
+    best = min(estimate_memory(n, m, matrix_entries) for m in ("amg", "cholmod"))
     raise ResourceError(
         f"{n:,} unknowns need about {best / 2**30:.1f} GiB even with the leanest solver, but "
         f"{memory / 2**30:.1f} GiB is available; coarsen the mesh away from the stress raisers or "
@@ -360,5 +366,5 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
     n = lower.shape[0]
     if n == 0:
         raise SolverError("there are no free unknowns left: every displacement is prescribed")
-    name = choose(n, method)
+    name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
     return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol)

@@ -12,7 +12,7 @@ from scipy.sparse.csgraph import connected_components
 from .assembly import Assembly, Rotation
 from .errors import SupportError, unknown_name
 from .result import Result
-from .solvers import factorize
+from .solvers import choose, factorize
 from .supports import gather
 from .timing import Timer
 
@@ -241,6 +241,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     free_index[free] = np.arange(free.size)
     pres_index = np.full(ndof, -1, dtype=np.int64)
     pres_index[pdofs] = np.arange(pdofs.size)
+    entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
+    solver = choose(free.size, solver, matrix_entries=entries)  # refuse up front what cannot fit
     timer.lap("checks")
     system = asm.system(free_index, pres_index, cons.rotation, timer)
     loads = [asm.load_vector(c) for c in cases]
