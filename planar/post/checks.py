@@ -1,0 +1,535 @@
+"""Engineering checks of a result: stress concentration factor, margin of safety, cuts through a part.
+
+All values are in the model's own consistent units (for example N, mm, MPa); nothing is converted.
+
+Every check is a linear-elastic, static figure: it does not replace the applicable design code or a
+review by a qualified engineer (see :data:`CAUTION`).
+
+Examples
+--------
+>>> import planar
+>>> from planar.post.checks import kt, margin_of_safety, nominal_gross
+>>> mesh = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")          # mm
+>>> model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0)
+>>> _ = model.add_support(planar.Roller("left", fixed="x"))
+>>> _ = model.add_support(planar.Roller("corner_00", fixed="y"))
+>>> _ = model.add_load(planar.Traction("right", tx=50.0), case="pull")   # 50 MPa = 2000 N
+>>> r = planar.solve(model)["pull"]
+>>> round(kt(r, nominal=nominal_gross(2000.0, width=20.0, thickness=2.0), field="sigma_xx").Kt, 6)
+1.0
+>>> round(margin_of_safety(r, allowable=250.0, factor_of_safety=1.5).margin, 4)
+2.3333
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..core.errors import InputError
+from ..core.quadrature import gauss_line
+from ..core.result import STRESS_FIELDS
+
+__all__ = [
+    "CAUTION",
+    "StressConcentration",
+    "Margin",
+    "PathStresses",
+    "CutResultant",
+    "nominal_gross",
+    "nominal_net",
+    "kt",
+    "margin_of_safety",
+    "path_stresses",
+    "cut_resultant",
+]
+
+#: the caution that goes with every check
+CAUTION = ("Linear-elastic, static result: no buckling, fatigue, fracture or plasticity check is made. "
+           "It does not replace the applicable design code or a review by a qualified engineer.")
+
+_METHODS = ("spr", "average")
+
+
+def _check_field(name: str) -> str:
+    if name not in STRESS_FIELDS:
+        raise InputError(f"unknown stress field {name!r}; pick one of {', '.join(STRESS_FIELDS)}")
+    return name
+
+
+def _check_method(method: str) -> str:
+    if method not in _METHODS:
+        raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(_METHODS)}")
+    return method
+
+
+def _positive(value, what: str) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} must be a number, got {value!r}") from None
+    if not (math.isfinite(v) and v > 0):
+        raise InputError(f"{what} must be positive and finite, got {value!r}")
+    return v
+
+
+def _point(p, what: str) -> np.ndarray:
+    a = np.asarray(p, dtype=float).reshape(-1)
+    if a.shape != (2,) or not np.all(np.isfinite(a)):
+        raise InputError(f"{what} must be a point (x, y), got {p!r}")
+    return a
+
+
+# ---------------------------------------------------------------------------- nominal stresses
+def nominal_gross(load: float, width: float, thickness: float) -> float:
+    """Gross-section nominal stress P / (W t).
+
+    Parameters
+    ----------
+    load : float
+        Axial force P carried by the section.
+    width : float
+        Full width W of the section.
+    thickness : float
+        Plate thickness t.
+
+    Returns
+    -------
+    float
+
+    Examples
+    --------
+    >>> nominal_gross(12000.0, width=60.0, thickness=4.0)
+    50.0
+    """
+    return float(load) / (_positive(width, "width") * _positive(thickness, "thickness"))
+
+
+def nominal_net(load: float, width: float, hole_diameter: float, thickness: float) -> float:
+    """Net-section nominal stress P / ((W - d) t) of a plate with a central hole.
+
+    Parameters
+    ----------
+    load : float
+        Axial force P.
+    width : float
+        Full width W.
+    hole_diameter : float
+        Hole diameter d (0 <= d < W).
+    thickness : float
+        Thickness t.
+
+    Returns
+    -------
+    float
+
+    Notes
+    -----
+    The net-section convention of stress-concentration charts (W. D. Pilkey and D. F. Pilkey,
+    Peterson's Stress Concentration Factors, 3rd ed., 2008, chart 4.1); Kt_net = Kt_gross (1 - d/W).
+
+    Examples
+    --------
+    >>> nominal_net(12000.0, width=60.0, hole_diameter=20.0, thickness=4.0)
+    75.0
+    """
+    W = _positive(width, "width")
+    d = float(hole_diameter)
+    if not (math.isfinite(d) and 0 <= d < W):
+        raise InputError(f"hole_diameter must be at least 0 and less than the width {W:g}, got {hole_diameter!r}")
+    return float(load) / ((W - d) * _positive(thickness, "thickness"))
+
+
+# ---------------------------------------------------------------------------- Kt and margins
+@dataclass
+class StressConcentration:
+    """A stress concentration factor Kt = peak / nominal.
+
+    Attributes
+    ----------
+    Kt : float
+    peak : float
+        Peak nodal value of ``field`` (stress unit of the model).
+    nominal : float
+        Nominal stress it is referred to.
+    field : str
+    method : str
+        Stress recovery of the peak (``"spr"`` or ``"average"``).
+    location : (float, float)
+        Where the peak is.
+    node : int
+    caution : str
+    """
+
+    Kt: float
+    peak: float
+    nominal: float
+    field: str
+    method: str
+    location: tuple[float, float]
+    node: int
+    caution: str = CAUTION
+
+    def summary(self) -> str:
+        x, y = self.location
+        return (f"Kt = {self.Kt:.4g} ({self.field} peak {self.peak:.6g} at ({x:.6g}, {y:.6g}) over nominal "
+                f"{self.nominal:.6g}, {self.method} recovery). {self.caution}")
+
+    __str__ = summary
+
+
+def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
+       absolute: bool = False) -> StressConcentration:
+    """Stress concentration factor of a result.
+
+    Parameters
+    ----------
+    result : Result
+    nominal : float
+        Nominal stress (non-zero): a given value, or one of :func:`nominal_gross` /
+        :func:`nominal_net`.
+    field : str, default "von_mises"
+        Stress field whose peak is taken, e.g. ``"sigma_xx"``, ``"sigma_1"``, ``"von_mises"``.
+    method : {"spr", "average"}
+        Nodal recovery of the peak.
+    absolute : bool
+        Take the largest magnitude instead of the largest signed value (for compressive peaks).
+
+    Returns
+    -------
+    StressConcentration
+
+    Raises
+    ------
+    InputError
+        Unknown field or method, or a zero or non-finite nominal stress.
+    """
+    _check_field(field)
+    _check_method(method)
+    try:
+        nom = float(nominal)
+    except (TypeError, ValueError):
+        raise InputError(f"nominal must be a stress value, got {nominal!r}") from None
+    if not math.isfinite(nom) or nom == 0:
+        raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
+    peak, loc, node = result.max(field, method=method, absolute=absolute)
+    return StressConcentration(peak / nom, peak, nom, field, method, loc, node)
+
+
+@dataclass
+class Margin:
+    """Margin of safety MS = allowable / (FS x peak) - 1.
+
+    Attributes
+    ----------
+    margin : float
+        Positive: the part holds with the factor of safety; negative: it does not.
+    allowable : float
+    factor_of_safety : float
+    peak : float
+        Peak applied stress (magnitude) in the model's stress unit.
+    field, method : str
+    location : (float, float)
+    caution : str
+    """
+
+    margin: float
+    allowable: float
+    factor_of_safety: float
+    peak: float
+    field: str
+    method: str
+    location: tuple[float, float]
+    caution: str = CAUTION
+
+    @property
+    def passed(self) -> bool:
+        """True when the margin is zero or positive."""
+        return self.margin >= 0.0
+
+    def summary(self) -> str:
+        x, y = self.location
+        verdict = "holds" if self.passed else "DOES NOT hold"
+        return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g} / "
+                f"({self.factor_of_safety:g} x {self.field} peak {self.peak:.6g} at ({x:.6g}, {y:.6g})) - 1, "
+                f"{self.method} recovery. {self.caution}")
+
+    __str__ = summary
+
+
+def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float = 1.0, *,
+                     field: str = "von_mises", method: str = "spr") -> Margin:
+    """Margin of safety of the peak stress against an allowable.
+
+    Parameters
+    ----------
+    result_or_peak : Result or float
+        A result (its peak of ``field`` is used, by magnitude) or a peak stress value.
+    allowable : float
+        Allowable stress (> 0), in the model's stress unit.
+    factor_of_safety : float, default 1.0
+        Factor applied to the peak (> 0).
+    field : str
+        Stress field of the peak (ignored for a given peak value).
+    method : {"spr", "average"}
+
+    Returns
+    -------
+    Margin
+
+    Notes
+    -----
+    MS = allowable / (FS sigma_peak) - 1 (common practice, e.g. E. F. Bruhn, Analysis and Design of
+    Flight Vehicle Structures, 1973, section A1.5, from memory). A zero peak gives an infinite margin.
+
+    Examples
+    --------
+    >>> round(margin_of_safety(200.0, allowable=276.0, factor_of_safety=1.15).margin, 6)
+    0.2
+    """
+    allow = _positive(allowable, "allowable")
+    fs = _positive(factor_of_safety, "factor_of_safety")
+    if isinstance(result_or_peak, (int, float, np.floating, np.integer)):
+        peak = abs(float(result_or_peak))
+        if not math.isfinite(peak):
+            raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
+        loc, fname, meth = (float("nan"), float("nan")), "given", "given"
+    else:
+        _check_field(field)
+        _check_method(method)
+        peak, loc, _ = result_or_peak.max(field, method=method, absolute=True)
+        peak = abs(peak)
+        fname, meth = field, method
+    ms = math.inf if peak == 0 else allow / (fs * peak) - 1.0
+    return Margin(ms, allow, fs, peak, fname, meth, loc)
+
+
+# ---------------------------------------------------------------------------- cuts and paths
+def _check_path(result, a: np.ndarray, b: np.ndarray, n_check: int = 64) -> None:
+    from ..core.locate import locate
+
+    if np.allclose(a, b):
+        raise InputError(f"the path starts and ends at the same point {tuple(a)}; give two different points")
+    t = np.linspace(0.0, 1.0, n_check)
+    pts = a + t[:, None] * (b - a)
+    try:
+        locate(result.mesh, pts)
+    except InputError:
+        for p in pts:  # find the first point outside, to say where the path leaves the plate
+            try:
+                locate(result.mesh, p[None, :])
+            except InputError:
+                raise InputError(
+                    f"the path from {tuple(np.round(a, 6))} to {tuple(np.round(b, 6))} leaves the mesh near "
+                    f"{tuple(np.round(p, 6))}; a cut must run inside the plate (a cut through a hole needs "
+                    "two paths, one on each side)"
+                ) from None
+        raise
+
+
+@dataclass
+class PathStresses:
+    """Stresses along a straight path.
+
+    Attributes
+    ----------
+    start, end : (float, float)
+    distance : ndarray, shape (p,)
+        Distance from ``start``.
+    points : ndarray, shape (p, 2)
+    values : dict of str to ndarray
+        Field name -> values at the points.
+    method : str
+    """
+
+    start: tuple[float, float]
+    end: tuple[float, float]
+    distance: np.ndarray
+    points: np.ndarray
+    values: dict[str, np.ndarray]
+    method: str
+
+    def summary(self) -> str:
+        lines = [f"path {self.start} -> {self.end}, {self.distance.size} points, {self.method} recovery"]
+        for k, v in self.values.items():
+            i = int(np.argmax(np.abs(v)))
+            lines.append(f"  {k}: max |.| {abs(v[i]):.6g} at distance {self.distance[i]:.6g}; mean {v.mean():.6g}")
+        return "\n".join(lines)
+
+    __str__ = summary
+
+
+def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", "von_mises"), *,
+                  n_points: int = 101, method: str = "spr") -> PathStresses:
+    """Recovered stresses along the straight path from ``start`` to ``end``.
+
+    Parameters
+    ----------
+    result : Result
+    start, end : (x, y)
+    fields : str or sequence of str
+    n_points : int
+    method : {"spr", "average"}
+
+    Returns
+    -------
+    PathStresses
+
+    Raises
+    ------
+    InputError
+        Unknown field or method, or a path that leaves the mesh.
+    """
+    a, b = _point(start, "start"), _point(end, "end")
+    names = [fields] if isinstance(fields, str) else list(fields)
+    for f in names:
+        _check_field(f)
+    _check_method(method)
+    if int(n_points) < 2:
+        raise InputError(f"a path needs at least 2 points, got n_points={n_points!r}")
+    _check_path(result, a, b)
+    values = {}
+    dist = pts = None
+    for f in names:
+        dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), method=method)
+    return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, method)
+
+
+@dataclass
+class CutResultant:
+    """Resultant of the stresses on a straight cut (force in the model's unit).
+
+    Attributes
+    ----------
+    force : (float, float)
+        Resultant (Fx, Fy) of the traction sigma . n over the cut times the thickness, with n the unit
+        normal of the cut (the path direction turned clockwise). By statics it equals the total load
+        applied to the part on the side the normal points to.
+    normal_force : float
+        Component along n.
+    shear_force : float
+        Component along the cut direction.
+    moment : float
+        Moment of the traction about the cut's midpoint (counter-clockwise positive).
+    length : float
+    normal : (float, float)
+    applied : (float, float) or None
+        The load it is compared with.
+    relative_difference : float or None
+        |force - applied| / |applied|.
+    method : str
+    n_points : int
+    """
+
+    force: tuple[float, float]
+    normal_force: float
+    shear_force: float
+    moment: float
+    length: float
+    normal: tuple[float, float]
+    applied: tuple[float, float] | None
+    relative_difference: float | None
+    method: str
+    n_points: int
+    caution: str = field(default=CAUTION, repr=False)
+
+    def summary(self) -> str:
+        s = (f"cut of length {self.length:.6g}: resultant ({self.force[0]:.6g}, {self.force[1]:.6g}), "
+             f"normal {self.normal_force:.6g}, shear {self.shear_force:.6g}, moment about the midpoint "
+             f"{self.moment:.6g} ({self.method} stresses, {self.n_points} points)")
+        if self.applied is not None:
+            s += (f"; applied ({self.applied[0]:.6g}, {self.applied[1]:.6g}), relative difference "
+                  f"{self.relative_difference:.3e}")
+        return s
+
+    __str__ = summary
+
+
+def _thickness_at(result, pts: np.ndarray) -> np.ndarray:
+    from ..core.locate import locate
+
+    blk, cell, _ = locate(result.mesh, pts)
+    lookup = {t: np.zeros(b.shape[0]) for t, b in result.mesh.cells.items()}
+    for b in result.assembly.blocks:
+        lookup[b.layout][b.cells] = b.thickness
+    out = np.empty(pts.shape[0])
+    for t, arr in lookup.items():
+        sel = blk == t
+        out[sel] = arr[cell[sel]]
+    return out
+
+
+def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segments: int = 64,
+                  order: int = 4) -> CutResultant:
+    """Resultant force of the stresses on a straight cut, to check statics against the applied load.
+
+    Parameters
+    ----------
+    result : Result
+    start, end : (x, y)
+        Ends of the cut; it must run inside the plate.
+    applied : float or (float, float), optional
+        The load the cut should carry: a vector (Fx, Fy), or a number compared with the normal force.
+    method : {"spr", "average"}
+        Stresses sampled with ``result.at`` from these nodal values.
+    segments, order : int
+        The cut is split into ``segments`` equal pieces with an ``order``-point Gauss-Legendre rule on
+        each (composite rule; exact for piecewise polynomials of degree 2 order - 1 whose breaks fall
+        on the pieces' ends, and converging for the rest).
+
+    Returns
+    -------
+    CutResultant
+
+    Notes
+    -----
+    F = integral over the cut of t(s) sigma(s) . n ds with n the unit normal (path direction turned
+    clockwise) and t the local thickness. The free body of the part on the side the normal points to
+    carries its applied loads and the traction -sigma . n from the other side, so F equals the loads
+    applied to that part (common practice); for a cut across a bar in tension, with the normal along
+    the pull, F is the pull.
+
+    Raises
+    ------
+    InputError
+        Bad points, a cut that leaves the mesh, unknown method.
+    """
+    a, b = _point(start, "start"), _point(end, "end")
+    _check_method(method)
+    if int(segments) < 1 or not 1 <= int(order) <= 10:
+        raise InputError(f"need segments >= 1 and 1 <= order <= 10, got {segments!r}, {order!r}")
+    _check_path(result, a, b)
+    d = b - a
+    L = float(np.hypot(*d))
+    tdir = d / L
+    n = np.array([tdir[1], -tdir[0]])
+    rule = gauss_line(int(order))
+    m = int(segments)
+    u = ((np.arange(m)[:, None] + 0.5 * (rule.points[None, :, 0] + 1.0)) / m).ravel()
+    w = np.tile(rule.weights / 2.0, m) / m * L
+    pts = a + u[:, None] * d
+    sxx = result.at(pts, "sigma_xx", method=method)
+    syy = result.at(pts, "sigma_yy", method=method)
+    txy = result.at(pts, "tau_xy", method=method)
+    th = _thickness_at(result, pts)
+    tx = sxx * n[0] + txy * n[1]
+    ty = txy * n[0] + syy * n[1]
+    Fx = float(np.sum(w * th * tx))
+    Fy = float(np.sum(w * th * ty))
+    mid = 0.5 * (a + b)
+    r = pts - mid
+    M = float(np.sum(w * th * (r[:, 0] * ty - r[:, 1] * tx)))
+    app = rel = None
+    if applied is not None:
+        av = np.asarray(applied, dtype=float).reshape(-1)
+        if av.size == 1:
+            av = av[0] * n
+        if av.shape != (2,) or not np.all(np.isfinite(av)):
+            raise InputError(f"applied must be a force (Fx, Fy) or a number, got {applied!r}")
+        scale = float(np.hypot(*av))
+        diff = float(np.hypot(Fx - av[0], Fy - av[1]))
+        rel = diff / scale if scale > 0 else diff
+        app = (float(av[0]), float(av[1]))
+    return CutResultant((Fx, Fy), float(Fx * n[0] + Fy * n[1]), float(Fx * tdir[0] + Fy * tdir[1]), M, L,
+                        (float(n[0]), float(n[1])), app, rel, method, int(pts.shape[0]))
