@@ -17,7 +17,7 @@ Roller('left', fixed='x')
 >>> model.add_support(planar.Roller("corner_00", fixed="y"))
 Roller('corner_00', fixed='y')
 >>> model.add_load(planar.Traction("right", tx=50.0), case="pull")   # MPa
-Traction('right', tx=50.0, ty=None)
+Traction('right', tx=50, ty=None)
 >>> result = planar.solve(model)["pull"]
 >>> round(result.max("von_mises")[0], 6)
 50.0
@@ -38,8 +38,15 @@ from .core.supports import Fixed, Prescribed, Roller, Symmetry
 from .geometry.structured import rectangle_mesh
 from .post.vtk import write_vtu
 
+
+def output_dir():
+    """The output folder of a script run by ``planar run SCRIPT --out DIR`` (./planar-out otherwise)."""
+    from .demo import output_dir as _output_dir
+
+    return _output_dir()
+
 __all__ = [
-    "Mesh", "Model", "Result", "solve", "write_vtu", "rectangle_mesh",
+    "Mesh", "Model", "Result", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic",
     "Fixed", "Roller", "Prescribed", "Symmetry",
     "Traction", "Pressure", "PointForce", "BodyForce", "TemperatureChange", "LoadKind",

@@ -1,0 +1,717 @@
+"""The user's front: ``planar demo``, ``planar run`` and ``planar show``.
+
+``planar demo`` runs the whole job of a stress check on a built-in part, a fictional aluminium
+splice strap with an open bolt hole pulled in tension: gmsh mesh of quadratic triangles, static
+solution, stresses by superconvergent patch recovery, a convergence study on a family of meshes,
+the net-section stress concentration factor against the handbook curve, the margin of safety
+against an allowable with a factor of safety, and the estimated discretisation error. It writes the
+VTK result, PNG figures and the HTML report into one folder and prints a summary table.
+
+``planar run SCRIPT.py`` runs a user's script with the output folder set (see :func:`output_dir`).
+
+``planar show RESULT.vtu`` draws a field of a written result as a PNG picture.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+import runpy
+import sys
+import time
+import traceback
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .cli import command
+from .core.errors import InputError, PlanarError
+
+__all__ = ["SpliceStrap", "run_demo", "output_dir", "DemoOutcome", "format_summary"]
+
+#: environment variable holding the output folder of ``planar run`` (and read by output_dir())
+OUT_ENV = "PLANAR_OUT"
+DEFAULT_OUT = "planar-out"
+
+
+# ---------------------------------------------------------------------------------------- output folder
+def output_dir(default: str | os.PathLike = DEFAULT_OUT) -> Path:
+    """The folder a script should write its files into; created if missing.
+
+    Under ``planar run SCRIPT.py --out DIR`` this is DIR (the command sets the environment variable
+    ``PLANAR_OUT`` and the script's global ``OUTPUT_DIR``). A script run with plain ``python`` gets
+    ``$PLANAR_OUT`` if set, else ``default`` (``./planar-out``).
+
+    Examples
+    --------
+    >>> import os, tempfile
+    >>> from planar.demo import output_dir
+    >>> os.environ["PLANAR_OUT"] = tempfile.mkdtemp()
+    >>> output_dir().is_dir()
+    True
+    >>> del os.environ["PLANAR_OUT"]
+    """
+    p = Path(os.environ.get(OUT_ENV) or default)
+    try:
+        p.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(f"cannot create the output folder {str(p)!r}: {exc.strerror}") from None
+    return p
+
+
+class _Progress:
+    """One line per long step on the terminal (stderr); silent in scripts and tests unless asked."""
+
+    def __init__(self, enabled: bool | None = None, prefix: str = "planar"):
+        self.enabled = sys.stderr.isatty() if enabled is None else bool(enabled)
+        self.prefix = prefix
+        self.t0 = time.perf_counter()
+
+    def __call__(self, text: str) -> None:
+        if self.enabled:
+            print(f"{self.prefix}: [{time.perf_counter() - self.t0:6.1f} s] {text}", file=sys.stderr, flush=True)
+
+
+# ---------------------------------------------------------------------------------------- the demo part
+@dataclass(frozen=True)
+class SpliceStrap:
+    """The built-in demo part: an aluminium splice strap with an open bolt hole, in tension.
+
+    A fictional part (values are for demonstration, not design data). Units N, mm, MPa. The strap
+    is clamped at its left end, where it is bolted into the joint, and pulled at its right end by a
+    uniform tension. The hole is in the middle of the strap, far (two widths) from both ends.
+
+    Attributes
+    ----------
+    length, width, thickness : float
+        Strap size [mm].
+    hole_diameter : float
+        Diameter of the open bolt hole [mm], centred on the strap.
+    load : float
+        Axial tension [N].
+    E, nu : float
+        Young's modulus [MPa] and Poisson's ratio of the aluminium alloy sheet.
+    allowable : float
+        Allowable stress [MPa] for the peak elastic stress (a demonstration value).
+    factor_of_safety : float
+        Factor applied to the computed stress before comparing it with the allowable.
+    sizes : tuple of float
+        Element size at the hole edge for the meshes of the convergence study, coarse to fine; the
+        size away from the hole is four times as large on each mesh.
+    """
+
+    length: float = 200.0
+    width: float = 50.0
+    thickness: float = 3.0
+    hole_diameter: float = 20.0
+    load: float = 6000.0
+    E: float = 71_000.0
+    nu: float = 0.33
+    allowable: float = 290.0
+    factor_of_safety: float = 1.5
+    sizes: tuple = (1.6, 1.07, 0.71, 0.47)
+    units: str = "N, mm, MPa"
+    name: str = "splice strap SP-50 with open bolt hole (demo part)"
+
+    @property
+    def net_area(self) -> float:
+        """Net cross-section through the hole, (W - d) t [mm^2]."""
+        return (self.width - self.hole_diameter) * self.thickness
+
+    @property
+    def net_stress(self) -> float:
+        """Nominal net-section stress P / ((W - d) t) [MPa]."""
+        return self.load / self.net_area
+
+    @property
+    def gross_stress(self) -> float:
+        """Nominal gross-section stress P / (W t) [MPa]."""
+        return self.load / (self.width * self.thickness)
+
+    def peterson_kt(self) -> float:
+        """Net-section Kt of a central circular hole in a finite-width strip in tension.
+
+        Notes
+        -----
+        Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3, valid for 0 <= d/W <= 1
+        (W. D. Pilkey and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., Wiley,
+        2008, chart 4.1, the Heywood-type fit; coefficients from memory).
+        """
+        q = self.hole_diameter / self.width
+        return 3.00 - 3.13 * q + 3.66 * q**2 - 1.53 * q**3
+
+    def plate(self):
+        """The strap as a geometry-layer plate: centred on the origin, hole named ``bolt_hole``."""
+        from .geometry import Circle, Plate
+
+        r = self.hole_diameter / 2
+        return (Plate.rectangle(self.length, self.width, centre=(0.0, 0.0))
+                .cut(Circle((0.0, 0.0), r, name="bolt_hole"))
+                .add_point("hole_top", (0.0, r)).add_point("hole_bottom", (0.0, -r)))
+
+    def mesh(self, hole_size: float):
+        """Quadratic triangles (T6), ``hole_size`` at the hole growing to 4 x ``hole_size`` away."""
+        from .geometry import Refine, mesh
+
+        return mesh(self.plate(), size=4.0 * hole_size, order=2, seed=1,
+                    refine=[Refine("bolt_hole", size=hole_size, growth=1.15, within=0.5 * self.hole_diameter)])
+
+    def model(self, mesh):
+        """Material, thickness, the clamped end and the tension on the far end (case ``tension``)."""
+        from .core.loads import Traction
+        from .core.materials import Isotropic
+        from .core.model import Model
+        from .core.supports import Fixed
+
+        model = Model(mesh, Isotropic(E=self.E, nu=self.nu), thickness=self.thickness, units=self.units)
+        model.add_support(Fixed("left"))
+        model.add_load(Traction("right", tx=self.load / (self.width * self.thickness)), case="tension")
+        return model
+
+    def part_rows(self) -> list[tuple[str, str]]:
+        return [
+            ("part", self.name),
+            ("strap", f"{self.length:g} mm long, {self.width:g} mm wide, {self.thickness:g} mm thick"),
+            ("open bolt hole", f"diameter {self.hole_diameter:g} mm at the centre; "
+                               f"d/W = {self.hole_diameter / self.width:.3f}"),
+            ("material", f"aluminium alloy sheet, E = {self.E:g} MPa, nu = {self.nu:g} (demo values)"),
+            ("support", "left end clamped (bolted into the joint)"),
+            ("load", f"{self.load:g} N axial tension on the right end (uniform traction "
+                     f"{self.gross_stress:.2f} MPa; net-section stress {self.net_stress:.2f} MPa)"),
+            ("allowable", f"{self.allowable:g} MPa for the peak elastic stress, factor of safety "
+                          f"{self.factor_of_safety:g} (demonstration values, not design data)"),
+        ]
+
+
+# ---------------------------------------------------------------------------------------- the demo job
+@dataclass
+class DemoOutcome:
+    """What ``planar demo`` found and wrote.
+
+    Attributes
+    ----------
+    summary : dict
+        The numbers of the check (also written as ``summary.json``).
+    files : dict of str to Path
+        The files written, by role.
+    convergence : GridConvergence
+        The convergence study of the peak stress (:mod:`planar.post.convergence`).
+    """
+
+    summary: dict[str, Any]
+    files: dict[str, Path] = field(default_factory=dict)
+    convergence: Any = None
+
+
+def _json_safe(v):
+    """NaN and infinities (e.g. no extrapolation of an oscillating study) become null."""
+    if isinstance(v, dict):
+        return {k: _json_safe(x) for k, x in v.items()}
+    if isinstance(v, (list, tuple)):
+        return [_json_safe(x) for x in v]
+    if isinstance(v, float) and not math.isfinite(v):
+        return None
+    return v
+
+
+def _fmt_int(n: int) -> str:
+    return f"{int(n):,}".replace(",", " ")
+
+
+def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None = None,
+             verbose: bool | None = None) -> DemoOutcome:
+    """Run the demo stress check and write its files into ``out``.
+
+    Steps: for each element size of ``part.sizes``, mesh (T6), solve and take the peak stresses by
+    superconvergent patch recovery; study their convergence (observed order, Richardson
+    extrapolation, GCI); on the finest mesh, the net-section Kt against the handbook curve, the
+    margin of safety, the Zienkiewicz-Zhu error estimate, the net-section resultant against the
+    applied load, and the equilibrium of the whole strap. Writes ``splice_strap.vtu``, PNG figures,
+    ``report.html`` and ``summary.json``.
+
+    Parameters
+    ----------
+    out : path
+        Output folder (created if missing).
+    part : SpliceStrap, optional
+        The part; default the built-in strap.
+    verbose : bool, optional
+        Progress on stderr; default: only when stderr is a terminal.
+
+    Returns
+    -------
+    DemoOutcome
+    """
+    from .core.static import solve
+    from .post.checks import cut_resultant, kt, margin_of_safety, nominal_net
+    from .post.convergence import grid_convergence
+    from .post.estimate import estimate_error
+    from .post.vtk import write_vtu
+
+    part = part or SpliceStrap()
+    say = _Progress(verbose, "planar demo")
+    out = output_dir(out)
+    t_start = time.perf_counter()
+    r = part.hole_diameter / 2
+
+    # -- the mesh family: mesh, solve, recovered peaks ----------------------------------------
+    meshes, fine = [], None
+    for k, h in enumerate(part.sizes, 1):
+        say(f"mesh {k} of {len(part.sizes)}: quadratic triangles, {h:g} mm at the hole edge")
+        t = time.perf_counter()
+        m = part.mesh(h)
+        t_mesh = time.perf_counter() - t
+        say(f"  solving {_fmt_int(m.n_dofs)} unknowns ({m.n_cells} T6 elements)")
+        res = solve(part.model(m))["tension"]
+        say("  recovering stresses at the nodes (superconvergent patch recovery)")
+        vm, vm_at, _ = res.max("von_mises", method="spr")
+        sxx, sxx_at, _ = res.max("sigma_xx", method="spr")
+        meshes.append({"hole_edge_size": h, "elements": m.n_cells, "nodes": m.n_nodes,
+                       "unknowns": res.n_dofs, "peak_von_mises": vm, "peak_sigma_xx": sxx,
+                       "peak_location": list(vm_at), "seconds": time.perf_counter() - t,
+                       "mesh_seconds": t_mesh})
+        fine = res
+    t_solved = time.perf_counter()
+
+    # -- convergence, checks and the error estimate on the finest mesh -------------------------
+    say("convergence study of the peak stress (Richardson extrapolation, GCI)")
+    nominal = nominal_net(part.load, part.width, part.hole_diameter, part.thickness)
+    dofs = [mm["unknowns"] for mm in meshes]
+    conv = grid_convergence([mm["peak_von_mises"] for mm in meshes], dofs=dofs,
+                            name="peak von Mises stress", unit="MPa")
+    conv_kt = grid_convergence([mm["peak_sigma_xx"] / nominal for mm in meshes], dofs=dofs,
+                               name="Kt (net section)")
+    conc = kt(fine, nominal, field="sigma_xx", method="spr")
+    margin = margin_of_safety(fine, part.allowable, part.factor_of_safety, field="von_mises", method="spr")
+    margin_band = margin_of_safety(conv.band()[1], part.allowable, part.factor_of_safety)
+    say("estimating the discretisation error (Zienkiewicz-Zhu, energy norm)")
+    est = estimate_error(fine, recovery="spr")
+    eps = 1e-9 * part.width
+    cut_top = cut_resultant(fine, (0.0, r + eps), (0.0, part.width / 2 - eps))
+    cut_bottom = cut_resultant(fine, (0.0, -part.width / 2 + eps), (0.0, -r - eps))
+    # both cuts run in +y, so their normals point to +x, towards the loaded end: F_x is the pull
+    net_force = cut_top.force[0] + cut_bottom.force[0]
+    vm_peak, vm_at, _ = fine.max("von_mises", method="spr")
+    t_checked = time.perf_counter()
+
+    # -- files: result, figures, report ----------------------------------------------------------
+    files: dict[str, Path] = {}
+    say("writing the result for VTK viewers (splice_strap.vtu)")
+    files["result"] = write_vtu(out / "splice_strap.vtu", fine, recovery="spr", cell_fields=est.cell_fields())
+    say("drawing the figures")
+    figs = _demo_figures(part, fine, conv, out)
+    files.update({k: v[0] for k, v in figs.items()})
+    t_figures = time.perf_counter()
+
+    summary = {
+        "part": part.name,
+        "units": part.units,
+        "length": part.length, "width": part.width, "thickness": part.thickness,
+        "hole_diameter": part.hole_diameter, "load": part.load,
+        "peak_von_mises": vm_peak,
+        "peak_location": [float(vm_at[0]), float(vm_at[1])],
+        "peak_sigma_xx": conc.peak,
+        "net_stress": nominal,
+        "kt": conc.Kt,
+        "kt_handbook": part.peterson_kt(),
+        "kt_difference": conc.Kt / part.peterson_kt() - 1.0,
+        "kt_extrapolated": conv_kt.extrapolated,
+        "allowable": part.allowable,
+        "factor_of_safety": part.factor_of_safety,
+        "margin_of_safety": margin.margin,
+        "margin_of_safety_upper_band": margin_band.margin,
+        "error_estimate": est.relative,
+        "extrapolated_peak": conv.extrapolated,
+        "gci": conv.gci_fine,
+        "observed_order": conv.order,
+        "convergence": conv.kind,
+        "net_section_force": net_force,
+        "equilibrium_error": fine.equilibrium_error(),
+        "unknowns": fine.n_dofs,
+        "elements": fine.mesh.n_cells,
+        "solver": fine.solver,
+        "meshes": meshes,
+    }
+    summary["seconds_by_step"] = {"meshes and solutions": t_solved - t_start,
+                                  "checks and error estimate": t_checked - t_solved,
+                                  "result file and figures": t_figures - t_checked}
+    say("writing the report (report.html)")
+    report = _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs)
+    from .post.report import write_report
+
+    files["report"] = write_report(out / "report.html", report)
+    summary["seconds"] = time.perf_counter() - t_start
+    summary["seconds_by_step"]["report"] = time.perf_counter() - t_figures
+    from .post.files import atomic_write_text
+
+    files["summary"] = atomic_write_text(out / "summary.json",
+                                         json.dumps(_json_safe(summary), indent=2, allow_nan=False) + "\n")
+    say(f"done in {summary['seconds']:.1f} s")
+    return DemoOutcome(summary, files, conv)
+
+
+def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[Path, str]]:
+    """The PNG figures of the demo: {role: (path, caption)}."""
+    from .post.plots import plot_along, plot_field
+
+    r = part.hole_diameter / 2
+    w = part.width / 2
+    figs: dict[str, tuple[Path, str]] = {}
+    p = out / "von_mises.png"
+    plot_field(fine, "von_mises", recovery="spr", path=p,
+               title=f"von Mises stress in the splice strap, {part.load / 1000:g} kN tension")
+    figs["von_mises"] = (p, "von Mises stress on the deformed strap (displacements magnified), "
+                            "recovered by superconvergent patch recovery; the peak is marked.")
+    p = out / "hole_close_up.png"
+    plot_field(fine, "von_mises", recovery="spr", path=p, mesh_lines=True, scale=None,
+               window=(-2.5 * r, -w, 2.5 * r, w), title="von Mises stress around the bolt hole, finest mesh")
+    figs["hole_close_up"] = (p, "Close-up of the bolt hole on the undeformed shape with the finest mesh: "
+                                "quadratic triangles whose sides follow the hole.")
+    p = out / "sigma_xx.png"
+    plot_field(fine, "sigma_xx", recovery="spr", path=p, title=r"axial stress $\sigma_{xx}$")
+    figs["sigma_xx"] = (p, "Axial stress sigma_xx (diverging colours centred on zero: red tension, "
+                           "blue compression).")
+    p = out / "net_section.png"
+    plot_along(fine, (0.0, r), (0.0, w), "sigma_xx", recovery="spr", n_points=201, path=p,
+               lines={"net-section stress P/((W-d)t)": part.net_stress,
+                      "handbook peak Kt x net stress": part.peterson_kt() * part.net_stress},
+               title="axial stress across the net section, from the hole edge to the strap edge")
+    figs["net_section"] = (p, "sigma_xx along the net section (x = 0) from the hole edge to the free edge, "
+                              "with the nominal net-section stress and the handbook peak.")
+    p = out / "convergence.png"
+    conv.plot(p, title="peak von Mises stress against the number of unknowns")
+    figs["convergence"] = (p, f"Peak von Mises stress on the {len(part.sizes)} meshes, with the Richardson "
+                              "extrapolation and the grid convergence index band on the finest mesh.")
+    return figs
+
+
+def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs):
+    from .post.report import Figure, KeyValues, Notice, Paragraph, Table, stress_check_report
+
+    def fig(role):
+        path, caption = figs[role]
+        return Figure(path.read_bytes(), caption)
+
+    x, y = summary["peak_location"]
+    on_hole = abs(math.hypot(x, y) - part.hole_diameter / 2) < 1e-6 * part.width
+    kt_hb = part.peterson_kt()
+    ms_status = "pass" if margin.passed else "fail"
+    headline = [
+        ("peak von Mises stress", f"{summary['peak_von_mises']:.1f} MPa",
+         f"at ({x:.1f}, {y:.1f}) mm" + (", edge of the bolt hole" if on_hole else ""), ""),
+        ("Kt, net section", f"{conc.Kt:.3f}", f"handbook {kt_hb:.3f} ({100 * summary['kt_difference']:+.1f} %)", ""),
+        ("margin of safety", f"{margin.margin:+.2f}",
+         f"allowable {part.allowable:g} MPa, factor of safety {part.factor_of_safety:g}", ms_status),
+        ("estimated error", f"{100 * est.relative:.2f} %", "energy norm (Zienkiewicz-Zhu), finest mesh", ""),
+        ("unknowns", _fmt_int(fine.n_dofs), f"finest of {len(summary['meshes'])} meshes", ""),
+    ]
+    results = [
+        Table(["quantity", "value", "where / how"], [
+            ["peak von Mises stress [MPa]", f"{summary['peak_von_mises']:.2f}", f"({x:.2f}, {y:.2f}) mm, SPR"],
+            ["peak sigma_xx [MPa]", f"{conc.peak:.2f}",
+             f"({conc.location[0]:.2f}, {conc.location[1]:.2f}) mm, SPR"],
+            ["nominal net-section stress P/((W-d)t) [MPa]", f"{part.net_stress:.2f}",
+             f"{part.load:g} N / ({part.width - part.hole_diameter:g} mm x {part.thickness:g} mm)"],
+            ["nominal gross-section stress P/(Wt) [MPa]", f"{part.gross_stress:.2f}", "far from the hole"],
+            ["largest displacement [mm]", f"{float((fine.u ** 2).sum(axis=1).max() ** 0.5):.4f}", "loaded end"],
+        ], caption="Peak stresses on the finest mesh (stresses recovered by superconvergent patch recovery)"),
+        fig("von_mises"), fig("hole_close_up"), fig("sigma_xx"), fig("net_section"),
+    ]
+    checks = [
+        Table(["check", "computed", "reference", "difference / margin", "status"], [
+            ["Kt, net section (sigma_xx peak / net-section stress)", f"{conc.Kt:.4f}",
+             f"{kt_hb:.4f} (Peterson's chart 4.1)", f"{100 * summary['kt_difference']:+.2f} %",
+             "pass" if abs(summary["kt_difference"]) < 0.03 else "note"],
+            ["margin of safety, finest-mesh peak", f"{summary['peak_von_mises']:.2f} MPa x {part.factor_of_safety:g}",
+             f"allowable {part.allowable:g} MPa", f"{margin.margin:+.3f}", ms_status],
+            ["margin of safety, upper end of the convergence band",
+             f"{margin_band.peak:.2f} MPa x {part.factor_of_safety:g}", f"allowable {part.allowable:g} MPa",
+             f"{margin_band.margin:+.3f}", "pass" if margin_band.passed else "fail"],
+            ["load carried by the net section (stress resultant of the two ligaments)",
+             f"{net_force:.1f} N", f"{part.load:g} N applied", f"{100 * abs(net_force / part.load - 1):.3f} %",
+             "pass" if abs(net_force / part.load - 1) < 0.01 else "fail"],
+        ], status_column=4,
+            caption="Checks. Handbook curve: Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3 "
+                    "(W. D. and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., 2008, "
+                    "chart 4.1). Margin of safety MS = allowable / (factor of safety x peak) - 1."),
+        Paragraph(f"d/W = {part.hole_diameter / part.width:.3f}. The handbook curve is for a long strip; "
+                  f"here the hole is {part.length / 2 / part.width:g} widths from the clamped and the "
+                  f"loaded ends, far enough for their effect on the peak to be small. The allowable and "
+                  f"the factor of safety are demonstration values, not design data."),
+        Notice([margin.caution], kind="note"),
+    ]
+    conv_rows = []
+    for i, mm in enumerate(summary["meshes"], 1):
+        conv_rows.append([str(i), f"{mm['hole_edge_size']:g}", str(mm["elements"]), _fmt_int(mm["unknowns"]),
+                          f"{mm['peak_von_mises']:.3f}", f"{mm['peak_sigma_xx'] / part.net_stress:.4f}"])
+    lo, hi = conv.band()
+    ratio = (part.sizes[0] / part.sizes[-1]) ** (1.0 / max(len(part.sizes) - 1, 1))
+    convergence = [
+        Table(["mesh", "element size at the hole [mm]", "elements", "unknowns", "peak von Mises [MPa]",
+               "Kt, net section"], conv_rows,
+              caption=f"The same strap on {len(part.sizes)} meshes, each about {ratio:.2g} times finer than "
+                      "the last (sizes away from the hole scale with those at the hole)."),
+        KeyValues([
+            ("behaviour", conv.kind),
+            ("observed order of convergence", f"{conv.order:.2f}"),
+            ("Richardson extrapolation of the peak", f"{conv.extrapolated:.2f} MPa"),
+            ("grid convergence index, finest mesh", f"{100 * conv.gci_fine:.3f} % (factor of safety "
+                                                      f"{conv.safety_factor:g})"),
+            ("band on the finest peak", f"{lo:.2f} to {hi:.2f} MPa"),
+            ("Kt extrapolated", f"{conv_kt.extrapolated:.4f}" if conv_kt.extrapolated == conv_kt.extrapolated
+             else "-"),
+            ("estimated error in the energy norm (Zienkiewicz-Zhu)", f"{100 * est.relative:.3f} %"),
+        ], caption="Convergence of the peak (P. J. Roache, 1998; I. B. Celik et al., J. Fluids Eng. 130, "
+                   "2008): order from the three finest meshes"),
+        fig("convergence"),
+    ] + ([Notice(conv.notes, kind="note")] if conv.notes else [])
+    import numpy, scipy, matplotlib
+
+    from . import __version__
+
+    run_rows = [(f"time: {k}", f"{v:.1f} s") for k, v in summary.get("seconds_by_step", {}).items()]
+    run_rows += [("versions", f"planar {__version__}, numpy {numpy.__version__}, scipy {scipy.__version__}, "
+                              f"matplotlib {matplotlib.__version__}")]
+    return stress_check_report(
+        fine, title="Stress check: splice strap with an open bolt hole",
+        subtitle=f"{part.name}; {part.load:g} N axial tension; units {part.units}",
+        part=part.part_rows(), headline=headline, results=results, checks=checks, convergence=convergence,
+        mesh_rows=[("element type", "T6, quadratic triangles (curved sides on the hole)"),
+                   ("element size", f"{part.sizes[-1]:g} mm at the hole edge, growing to "
+                                    f"{4 * part.sizes[-1]:g} mm away from it"),
+                   ("mesher", "gmsh, through planar.geometry")],
+        run_rows=run_rows)
+
+
+def format_summary(outcome: DemoOutcome) -> str:
+    """The summary table printed by ``planar demo``."""
+    s = outcome.summary
+    x, y = s["peak_location"]
+    on_hole = abs(math.hypot(x, y) - s["hole_diameter"] / 2) < 1e-6 * s["width"]
+    ext = s["extrapolated_peak"]
+    rows = [
+        ("peak von Mises (SPR)", f"{s['peak_von_mises']:.1f} MPa",
+         f"at ({x:.1f}, {y:.1f}) mm" + (", edge of the bolt hole" if on_hole else "")),
+        ("converged peak", f"{ext:.1f} MPa" if ext is not None and math.isfinite(ext) else "-",
+         f"Richardson extrapolation; GCI {100 * s['gci']:.2f} % ({s['convergence']})"
+         if ext is not None and math.isfinite(ext) else f"no extrapolation ({s['convergence']} convergence)"),
+        ("Kt (net section)", f"{s['kt']:.3f}",
+         f"handbook {s['kt_handbook']:.3f} (Peterson chart 4.1), {100 * s['kt_difference']:+.1f} %"),
+        ("margin of safety", f"{s['margin_of_safety']:+.2f}",
+         f"allowable {s['allowable']:g} MPa, factor of safety {s['factor_of_safety']:g}"),
+        ("estimated error (ZZ)", f"{100 * s['error_estimate']:.2f} %", "energy norm, finest mesh"),
+        ("unknowns", _fmt_int(s["unknowns"]), f"finest of {len(s['meshes'])} meshes, {_fmt_int(s['elements'])} T6 elements"),
+        ("time", f"{s['seconds']:.1f} s", "meshing, solutions, checks, figures and report"),
+    ]
+    w0 = max(len(r[0]) for r in rows)
+    w1 = max(len(r[1]) for r in rows)
+    lines = [f"planar demo: {s['part']}, {s['load']:g} N tension (units {s['units']})", "",
+             f"  {'quantity':<{w0}}  {'value':>{w1}}  remark",
+             f"  {'-' * w0}  {'-' * w1}  {'-' * 40}"]
+    lines += [f"  {a:<{w0}}  {b:>{w1}}  {c}" for a, b, c in rows]
+    import textwrap
+
+    folder = Path(outcome.files["report"]).parent
+    names = ", ".join(sorted(p.name for p in outcome.files.values()))
+    lines += ["", f"  written to {folder}{os.sep}"]
+    lines += textwrap.wrap(names, 96, initial_indent="    ", subsequent_indent="    ")
+    lines += ["  open report.html in a browser; splice_strap.vtu in any VTK viewer",
+              "", "  Linear-elastic, static results: no buckling, fatigue, fracture or plasticity check.",
+              "  They need review by a qualified engineer under the applicable codes."]
+    return "\n".join(lines)
+
+
+# ---------------------------------------------------------------------------------------- commands
+class _Formatter(argparse.RawDescriptionHelpFormatter):
+    """Keeps the line breaks of the (pre-wrapped) description and of the examples."""
+
+
+def _wrap(text: str, width: int = 78) -> str:
+    """Wrap each paragraph (separated by blank lines) of a help text."""
+    import textwrap
+
+    return "\n\n".join(textwrap.fill(par, width) for par in text.split("\n\n"))
+
+
+def _demo_args(p: argparse.ArgumentParser) -> None:
+    p.formatter_class = _Formatter
+    p.description = _wrap(
+        "Run a complete stress check on a built-in part: a fictional aluminium splice strap, "
+        "200 x 50 x 3 mm, with an open 20 mm bolt hole, pulled with 6 kN (units N, mm, MPa).\n\n"
+        "Steps: mesh with quadratic triangles (gmsh), solve, recover the stresses at the hole edge "
+        "by superconvergent patch recovery, repeat on a family of finer meshes to show convergence "
+        "(Richardson extrapolation and grid convergence index), compare the net-section stress "
+        "concentration factor Kt with the handbook curve, work out the margin of safety against "
+        "an allowable with a factor of safety, and estimate the discretisation error.\n\n"
+        "Writes into the output folder: the result for any VTK viewer (.vtu, quadratic cells, "
+        "displacement and stress fields), PNG figures, and a self-contained HTML report; prints a "
+        "summary table. Needs no input files and no network.")
+    p.epilog = ("examples:\n  planar demo\n  planar demo --out /tmp/strap-check\n\n"
+                "Linear-elastic, static results; no buckling, fatigue, fracture or plasticity check.")
+    p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
+                   help=f"folder for the result files, figures and report, created if missing "
+                        f"(default: ./{DEFAULT_OUT})")
+    p.add_argument("--verbose", action="store_true",
+                   help="report each step on stderr even when it is not a terminal")
+
+
+@command("demo", "run a complete stress check on a built-in splice strap and write result, figures and report")
+def _demo(args) -> int:
+    outcome = run_demo(args.out, verbose=True if args.verbose else None)
+    print(format_summary(outcome))
+    return 0
+
+
+_demo.arguments = _demo_args
+
+
+def _run_args(p: argparse.ArgumentParser) -> None:
+    p.formatter_class = _Formatter
+    p.description = _wrap(
+        "Run your own geometry-and-model script (plain Python that uses planar) with the output "
+        "folder set.\n\n"
+        "Inside the script the folder is available three ways: the global variable OUTPUT_DIR "
+        "(a pathlib.Path), the environment variable PLANAR_OUT, and planar.demo.output_dir(). "
+        "The script runs as __main__ in the current working directory, with its own folder first "
+        "on the import path, as with 'python SCRIPT.py'.\n\n"
+        "A planar error in the script (an unknown edge name, a model that can still move, ...) is "
+        "printed in two lines with the line of the script that caused it; any other error shows "
+        "the script's traceback.")
+    p.epilog = ("example script:\n"
+                "  import planar\n"
+                "  from planar.demo import output_dir\n"
+                "  mesh = planar.rectangle_mesh(100.0, 20.0, 20, 4, \"Q8\")\n"
+                "  model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0, units=\"N, mm, MPa\")\n"
+                "  model.add_support(planar.Fixed(\"left\"))\n"
+                "  model.add_load(planar.Traction(\"right\", tx=50.0), case=\"pull\")\n"
+                "  planar.write_vtu(output_dir() / \"strap.vtu\", planar.solve(model)[\"pull\"])\n\n"
+                "examples:\n  planar run strap.py\n  planar run strap.py --out results/strap")
+    p.add_argument("script", metavar="SCRIPT.py", help="the Python script to run")
+    p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
+                   help=f"output folder handed to the script, created if missing (default: ./{DEFAULT_OUT})")
+
+
+def _script_frames(tb, script: Path):
+    """Traceback entries that belong to the user's script (and what it called)."""
+    first = None
+    last = None
+    while tb is not None:
+        fn = tb.tb_frame.f_code.co_filename
+        try:
+            same = Path(fn).resolve() == script
+        except OSError:
+            same = False
+        if same:
+            first = first or tb
+            last = tb
+        tb = tb.tb_next
+    return first, last
+
+
+@command("run", "run your geometry-and-model script with the output folder set")
+def _run(args) -> int:
+    script = Path(args.script)
+    if not script.is_file():
+        raise InputError(f"script {str(script)!r} does not exist (give the path of a .py file)")
+    script = script.resolve()
+    out = output_dir(args.out).resolve()
+    saved = (os.environ.get(OUT_ENV), list(sys.argv), list(sys.path))
+    os.environ[OUT_ENV] = str(out)
+    sys.argv = [str(script)]
+    sys.path.insert(0, str(script.parent))
+    try:
+        runpy.run_path(str(script), init_globals={"OUTPUT_DIR": out}, run_name="__main__")
+    except SystemExit as exc:
+        code = exc.code
+        if code is None:
+            return 0
+        if isinstance(code, int):
+            return code
+        print(code, file=sys.stderr)
+        return 1
+    except PlanarError as exc:
+        _, last = _script_frames(exc.__traceback__, script)
+        print(f"planar run: error: {exc}", file=sys.stderr)
+        if last is not None:
+            import linecache
+
+            line = linecache.getline(str(script), last.tb_lineno).strip()
+            print(f"  in {script.name}, line {last.tb_lineno}: {line}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        raise
+    except BaseException as exc:  # the user's own code: show their traceback, from their script on
+        first, _ = _script_frames(exc.__traceback__, script)
+        traceback.print_exception(type(exc), exc, first or exc.__traceback__, file=sys.stderr)
+        print(f"planar run: {script.name} stopped with {type(exc).__name__} (traceback above)", file=sys.stderr)
+        return 1
+    finally:
+        old_out, sys.argv, sys.path[:] = saved[0], saved[1], saved[2]
+        if old_out is None:
+            os.environ.pop(OUT_ENV, None)
+        else:
+            os.environ[OUT_ENV] = old_out
+    return 0
+
+
+_run.arguments = _run_args
+
+
+def _show_args(p: argparse.ArgumentParser) -> None:
+    p.formatter_class = _Formatter
+    p.description = _wrap(
+        "Draw a field of a written result file (.vtu) as a PNG picture: a colour contour on the "
+        "deformed shape (the displacement magnification is chosen so that the largest "
+        "displacement is about 6 % of the part and is stated on the picture), quadratic "
+        "elements drawn with their curved edges, the peak marked.\n\n"
+        "Point fields (displacement, ux, uy, sigma_xx, sigma_yy, tau_xy, von_mises, tresca, "
+        "sigma_1, sigma_2, ...) are drawn smooth; cell fields (element_von_mises, ...) one "
+        "colour per element. Signed fields use a diverging colour map centred on zero.")
+    p.epilog = ("examples:\n  planar show planar-out/splice_strap.vtu\n"
+                "  planar show result.vtu --field sigma_xx --png sxx.png --units \"N, mm, MPa\" --mesh\n"
+                "  planar show result.vtu --list")
+    p.add_argument("result", metavar="RESULT.vtu", help="result file written by planar (or any .vtu)")
+    p.add_argument("--field", default="von_mises",
+                   help="field to draw (default: von_mises); --list shows what the file holds")
+    p.add_argument("--png", metavar="FILE",
+                   help="picture to write (default: RESULT-FIELD.png beside the result file)")
+    p.add_argument("--units", metavar="TEXT",
+                   help="units of the model, e.g. \"N, mm, MPa\" (stress unit last), or just the "
+                        "field's unit; a .vtu file does not record units")
+    p.add_argument("--mesh", action="store_true", help="draw the element sides")
+    p.add_argument("--undeformed", action="store_true", help="draw on the undeformed shape")
+    p.add_argument("--scale", type=float, metavar="FACTOR",
+                   help="displacement magnification (default: chosen automatically)")
+    p.add_argument("--bands", type=int, metavar="N", help="draw N colour bands instead of a smooth field")
+    p.add_argument("--list", action="store_true", help="list the fields in the file and stop")
+
+
+@command("show", "draw a field of a written result file (.vtu) as a PNG picture")
+def _show(args) -> int:
+    from .post.plots import field_unit, length_unit, plot_vtu, vtu_fields
+
+    if args.list:
+        f = vtu_fields(args.result)
+        print(f"point fields: {', '.join(f['point']) or '-'}")
+        print(f"cell fields:  {', '.join(f['cell']) or '-'}")
+        return 0
+    png = Path(args.png) if args.png else Path(args.result).with_name(
+        f"{Path(args.result).stem}-{args.field}.png")
+    if png.suffix.lower() != ".png":
+        raise InputError(f"--png needs a file name ending in .png, got {str(png)!r}")
+    unit = length = ""
+    if args.units:
+        if len([u for u in args.units.replace(";", ",").split(",") if u.strip()]) >= 3:
+            unit, length = field_unit(args.field, args.units), length_unit(args.units)
+        else:
+            unit = args.units.strip()
+    if args.scale is not None and args.scale < 0:
+        raise InputError(f"--scale must not be negative, got {args.scale:g}")
+    plot_vtu(args.result, args.field, png=png, units=unit, length=length, deformed=not args.undeformed,
+             scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands)
+    print(f"wrote {png}")
+    return 0
+
+
+_show.arguments = _show_args

@@ -1,0 +1,813 @@
+"""PNG figures of results: contours on the deformed shape, stress along a path.
+
+Every figure is drawn on a matplotlib :class:`~matplotlib.figure.Figure` with the Agg canvas (no
+display, no pyplot state), or into axes the caller passes. PNG files are written atomically.
+
+Quadratic elements (T6, Q8, Q9) are drawn as they are computed: each element is cut into small
+linear triangles whose corners are mapped with the element's own shape functions, for the
+geometry and for the field alike, so curved edges stay curved and fields vary smoothly inside an
+element. The subdivision is one batched ``einsum`` per element block.
+
+Colour maps: ``viridis`` for fields that are positive by nature (von Mises, Tresca, displacement
+magnitude); the diverging ``RdBu_r``, centred on zero, for signed fields (sigma_xx, tau_xy, ux, ...).
+"""
+from __future__ import annotations
+
+import math
+import os
+import re
+from pathlib import Path
+from typing import Any, Mapping, Sequence
+
+import numpy as np
+
+from ..core.elements import Q4, Q8, Q9, T3, T6
+from ..core.errors import InputError, MeshError
+from ..core.mesh import MESHIO_TO_LAYOUT
+from .files import atomic_path
+
+__all__ = [
+    "plot_field",
+    "plot_nodal_field",
+    "plot_vtu",
+    "vtu_fields",
+    "plot_along",
+    "save_figure",
+    "figure_png",
+    "stress_unit",
+    "length_unit",
+    "force_unit",
+    "field_unit",
+    "field_label",
+    "deformation_scale",
+    "subdivide",
+    "SIGNED_FIELDS",
+]
+
+#: fields that take both signs: drawn with a diverging colour map centred on zero
+SIGNED_FIELDS = frozenset({"ux", "uy", "sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "sigma_1",
+                           "sigma_2", "eps_xx", "eps_yy", "gamma_xy", "principal_angle"})
+_STRESS = frozenset({"sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1",
+                     "sigma_2"})
+_LENGTH = frozenset({"ux", "uy", "displacement"})
+_STRAIN = frozenset({"eps_xx", "eps_yy", "gamma_xy"})
+_LABELS = {
+    "von_mises": "von Mises stress",
+    "tresca": "Tresca stress",
+    "sigma_xx": r"$\sigma_{xx}$",
+    "sigma_yy": r"$\sigma_{yy}$",
+    "tau_xy": r"$\tau_{xy}$",
+    "sigma_zz": r"$\sigma_{zz}$",
+    "sigma_1": r"major principal stress $\sigma_1$",
+    "sigma_2": r"minor principal stress $\sigma_2$",
+    "principal_angle": "angle of $\\sigma_1$ from x",
+    "ux": "displacement $u_x$",
+    "uy": "displacement $u_y$",
+    "displacement": "displacement magnitude",
+    "eps_xx": r"strain $\varepsilon_{xx}$",
+    "eps_yy": r"strain $\varepsilon_{yy}$",
+    "gamma_xy": r"shear strain $\gamma_{xy}$",
+}
+#: geometric interpolation of the standard cell layouts (the layout fixes the geometry)
+_LAYOUT_TYPES = {"T3": T3, "T6": T6, "Q4": Q4, "Q8": Q8, "Q9": Q9}
+#: cap on the number of plotted small triangles (keeps big meshes drawable)
+_MAX_TRIANGLES = 1_500_000
+
+
+# ---------------------------------------------------------------------------------------- units
+def _unit_items(units: str | None) -> list[str]:
+    if not units:
+        return []
+    items = [u.strip() for u in re.split(r"[,;/]", str(units)) if u.strip()]
+    if len(items) == 1 and items[0].lower().startswith("consistent"):
+        return []
+    return items
+
+
+def stress_unit(units: str | None) -> str:
+    """The stress unit in a free-text units string: its last item (``"N, mm, MPa"`` -> ``"MPa"``).
+
+    Returns ``""`` when the text names no units (e.g. the default ``"consistent units"``).
+
+    Examples
+    --------
+    >>> stress_unit("N, mm, MPa"), stress_unit("lbf; in; psi"), stress_unit("consistent units")
+    ('MPa', 'psi', '')
+    """
+    items = _unit_items(units)
+    return items[-1] if items else ""
+
+
+def length_unit(units: str | None) -> str:
+    """The length unit: the second of three items (force, length, stress), else ``""``.
+
+    Examples
+    --------
+    >>> length_unit("N, mm, MPa")
+    'mm'
+    """
+    items = _unit_items(units)
+    return items[1] if len(items) >= 3 else ""
+
+
+def force_unit(units: str | None) -> str:
+    """The force unit: the first of three items (force, length, stress), else ``""``.
+
+    Examples
+    --------
+    >>> force_unit("N, mm, MPa")
+    'N'
+    """
+    items = _unit_items(units)
+    return items[0] if len(items) >= 3 else ""
+
+
+def field_unit(name: str, units: str | None) -> str:
+    """Unit of a named field given the model's units text (strains are dimensionless)."""
+    if name in _STRESS or name.startswith("element_"):
+        return stress_unit(units)
+    if name in _LENGTH:
+        return length_unit(units)
+    if name == "principal_angle":
+        return "deg"
+    return ""
+
+
+def field_label(name: str, unit: str = "") -> str:
+    """Axis or colour-bar label of a field, with its unit in brackets."""
+    base = _LABELS.get(name, name.replace("_", " "))
+    if name.startswith("element_") and name[8:] in _LABELS:
+        base = _LABELS[name[8:]] + " (element mean)"
+    return f"{base} [{unit}]" if unit else base
+
+
+# ---------------------------------------------------------------------------------------- subdivision
+def _tri_lattice(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Reference points and small triangles of an n-fold subdivided reference triangle."""
+    idx = -np.ones((n + 1, n + 1), dtype=np.int64)
+    pts = []
+    for i in range(n + 1):
+        for j in range(n + 1 - i):
+            idx[i, j] = len(pts)
+            pts.append((i / n, j / n))
+    tris = []
+    for i in range(n):
+        for j in range(n - i):
+            tris.append((idx[i, j], idx[i + 1, j], idx[i, j + 1]))
+            if i + j < n - 1:
+                tris.append((idx[i + 1, j], idx[i + 1, j + 1], idx[i, j + 1]))
+    return np.array(pts, dtype=float), np.array(tris, dtype=np.int64)
+
+
+def _quad_lattice(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Reference points and small triangles of an n x n subdivided reference square [-1, 1]^2."""
+    t = np.linspace(-1.0, 1.0, n + 1)
+    X, Y = np.meshgrid(t, t, indexing="ij")
+    pts = np.column_stack([X.ravel(), Y.ravel()])
+    i, j = np.meshgrid(np.arange(n), np.arange(n), indexing="ij")
+    a = (i * (n + 1) + j).ravel()
+    b, c, d = a + (n + 1), a + (n + 2), a + 1
+    tris = np.vstack([np.column_stack([a, b, c]), np.column_stack([a, c, d])])
+    return pts, tris
+
+
+def _lattice(etype, n: int):
+    return _tri_lattice(n) if etype.cell == "triangle" else _quad_lattice(n)
+
+
+def _etype_of(layout: str, etypes: Mapping[str, Any] | None = None):
+    if etypes and layout in etypes:
+        return etypes[layout]
+    if layout in _LAYOUT_TYPES:
+        return _LAYOUT_TYPES[layout]
+    raise MeshError(f"cannot draw cells of layout {layout!r}; drawable layouts: {', '.join(_LAYOUT_TYPES)}")
+
+
+def _auto_subdivisions(cells: Mapping[str, np.ndarray], etypes=None) -> dict[str, int]:
+    """Subdivisions per layout: 4 for quadratic cells, 2 for Q4, 1 for T3; fewer for huge meshes."""
+    out = {}
+    for layout, conn in cells.items():
+        et = _etype_of(layout, etypes)
+        out[layout] = 4 if et.degree >= 2 else (2 if et.cell == "quad" else 1)
+    while True:
+        total = 0
+        for layout, conn in cells.items():
+            et = _etype_of(layout, etypes)
+            n = out[layout]
+            total += conn.shape[0] * (n * n if et.cell == "triangle" else 2 * n * n)
+        if total <= _MAX_TRIANGLES or all(v == 1 for v in out.values()):
+            return out
+        out = {k: max(1, v - 1) for k, v in out.items()}
+
+
+def subdivide(nodes: np.ndarray, cells: Mapping[str, np.ndarray], values: np.ndarray | None = None, *,
+              subdivisions: int | Mapping[str, int] | None = None, etypes: Mapping[str, Any] | None = None,
+              cell_values: Mapping[str, np.ndarray] | None = None):
+    """Cut every cell into small linear triangles mapped with the cell's shape functions.
+
+    Parameters
+    ----------
+    nodes : ndarray, shape (n, 2)
+        Node coordinates (undeformed or deformed).
+    cells : mapping of str to ndarray of shape (e, k)
+        Cell blocks by layout name (``"T3"``, ``"T6"``, ``"Q4"``, ``"Q8"``, ``"Q9"``).
+    values : ndarray, shape (n,), optional
+        A nodal field, interpolated with the same shape functions.
+    subdivisions : int or mapping, optional
+        Subdivisions per cell side; default 4 for quadratic cells, 2 for Q4 and 1 for T3.
+    etypes : mapping of str to element type, optional
+        Element types of layouts other than the standard five.
+    cell_values : mapping of str to ndarray of shape (e,), optional
+        A constant value per cell instead of a nodal field.
+
+    Returns
+    -------
+    points : ndarray, shape (p, 2)
+    triangles : ndarray, shape (t, 3)
+    point_values : ndarray, shape (p,) or None
+    triangle_values : ndarray, shape (t,) or None
+        Only when ``cell_values`` is given.
+
+    Notes
+    -----
+    For the reference points xi_j of the lattice and shape functions N_a, the points are
+    x_ej = sum_a N_a(xi_j) x_{e a} and the values v_ej = sum_a N_a(xi_j) v_{e a}, evaluated as one
+    ``einsum`` per block (isoparametric mapping, e.g. Zienkiewicz, Taylor and Zhu, The Finite
+    Element Method: Its Basis and Fundamentals, 7th ed., 2013, ch. 5).
+    """
+    nodes = np.asarray(nodes, dtype=float)
+    if isinstance(subdivisions, int):
+        subdiv = {k: max(1, int(subdivisions)) for k in cells}
+    else:
+        subdiv = _auto_subdivisions(cells, etypes)
+        subdiv.update(dict(subdivisions or {}))
+    P, T, V, TV = [], [], [], []
+    offset = 0
+    for layout, conn in cells.items():
+        conn = np.asarray(conn)
+        if conn.size == 0:
+            continue
+        et = _etype_of(layout, etypes)
+        ref, tri = _lattice(et, subdiv[layout])
+        N = np.asarray(et.shape(ref))                       # (p, k)
+        x = np.einsum("pk,ekd->epd", N, nodes[conn])        # (e, p, 2)
+        e, p = x.shape[:2]
+        P.append(x.reshape(-1, 2))
+        T.append((tri[None, :, :] + (offset + p * np.arange(e))[:, None, None]).reshape(-1, 3))
+        if values is not None:
+            V.append(np.einsum("pk,ek->ep", N, np.asarray(values, float)[conn]).ravel())
+        if cell_values is not None:
+            TV.append(np.repeat(np.asarray(cell_values[layout], float), tri.shape[0]))
+        offset += e * p
+    if not P:
+        raise MeshError("there are no cells to draw")
+    return (np.vstack(P), np.vstack(T), np.concatenate(V) if values is not None else None,
+            np.concatenate(TV) if cell_values is not None else None)
+
+
+def _cells_in_window(nodes, cells, cell_values, window):
+    """The cells with a node inside the box (x0, y0, x1, y1), and their cell values."""
+    try:
+        x0, y0, x1, y1 = (float(v) for v in window)
+    except (TypeError, ValueError):
+        raise InputError(f"window must be (x0, y0, x1, y1), got {window!r}") from None
+    if not (x1 > x0 and y1 > y0):
+        raise InputError(f"window must have x1 > x0 and y1 > y0, got {window!r}")
+    inside = (nodes[:, 0] >= x0) & (nodes[:, 0] <= x1) & (nodes[:, 1] >= y0) & (nodes[:, 1] <= y1)
+    out, cv = {}, ({} if cell_values is not None else None)
+    for layout, conn in cells.items():
+        keep = inside[conn].any(axis=1)
+        if keep.any():
+            out[layout] = conn[keep]
+            if cv is not None:
+                cv[layout] = np.asarray(cell_values[layout])[keep]
+    if not out:
+        raise InputError(f"no part of the plate lies in the window {tuple(window)}")
+    return out, cv
+
+
+def _outline_segments(nodes: np.ndarray, cells: Mapping[str, np.ndarray], etypes=None,
+                      samples: int = 6) -> np.ndarray:
+    """Element sides as polylines along the (curved) edges, each shared side once: (s, m, 2)."""
+    segs, keys = [], []
+    t = np.linspace(0.0, 1.0, samples)
+    for layout, conn in cells.items():
+        conn = np.asarray(conn)
+        if conn.size == 0:
+            continue
+        et = _etype_of(layout, etypes)
+        m = samples if et.degree >= 2 else 2
+        tt = t if m == samples else np.array([0.0, 1.0])
+        ed = np.asarray(et.edges)
+        ref = np.asarray(et.ref_nodes, float)
+        a, b = ref[ed[:, 0]], ref[ed[:, 1]]
+        xi = (a[:, None, :] * (1 - tt)[None, :, None] + b[:, None, :] * tt[None, :, None]).reshape(-1, 2)
+        N = np.asarray(et.shape(xi))
+        x = np.einsum("pk,ekd->epd", N, nodes[conn]).reshape(conn.shape[0], ed.shape[0], m, 2)
+        if m != samples:  # straight sides: resample so all polylines have the same length
+            x = x[:, :, :1, :] + (x[:, :, 1:, :] - x[:, :, :1, :]) * t[None, None, :, None]
+        segs.append(x.reshape(-1, samples, 2))
+        k = np.sort(np.stack([conn[:, ed[:, 0]], conn[:, ed[:, 1]]], axis=-1), axis=-1)
+        keys.append(k.reshape(-1, 2))
+    segs, keys = np.vstack(segs), np.vstack(keys)
+    _, first = np.unique(keys, axis=0, return_index=True)
+    return segs[np.sort(first)]
+
+
+# ---------------------------------------------------------------------------------------- helpers
+def _nice(x: float) -> float:
+    """Round down to 1, 2 or 5 times a power of ten."""
+    if not (x > 0 and math.isfinite(x)):
+        return 0.0
+    e = math.floor(math.log10(x))
+    m = x / 10**e
+    return (5 if m >= 5 else 2 if m >= 2 else 1) * 10.0**e
+
+
+def deformation_scale(nodes: np.ndarray, u: np.ndarray, fraction: float = 0.06) -> float:
+    """A round displacement magnification that makes the largest displacement about ``fraction``
+    of the model size (the larger side of the bounding box).
+
+    Returns 0 when nothing moves. The scale is rounded down to 1, 2 or 5 times a power of ten, so
+    the largest drawn displacement is between 2.4 % and 6 % of the model size for the default.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> deformation_scale(np.array([[0.0, 0.0], [100.0, 0.0]]), np.array([[0.0, 0.0], [0.05, 0.0]]))
+    100.0
+    """
+    nodes = np.asarray(nodes, float)
+    u = np.asarray(u, float)
+    size = float(np.max(nodes.max(axis=0) - nodes.min(axis=0)))
+    umax = float(np.max(np.hypot(u[:, 0], u[:, 1]))) if u.size else 0.0
+    if umax <= 1e-14 * max(size, 1e-300):
+        return 0.0
+    return _nice(fraction * size / umax)
+
+
+def _fmt(v: float) -> str:
+    if v == 0 or not math.isfinite(v):
+        return f"{v:g}"
+    a = abs(v)
+    if a >= 1e5 or a < 1e-3:
+        return f"{v:.3e}"
+    return f"{v:.4g}" if a < 1 else f"{v:.1f}" if a < 1e4 else f"{v:.0f}"
+
+
+def _fmt_point(p, nodes) -> str:
+    """(x, y) rounded to about 1/1000 of the model size."""
+    size = float(np.max(np.ptp(np.asarray(nodes)[:, :2], axis=0))) or 1.0
+    dec = int(max(0, 3 - math.floor(math.log10(size))))
+    return f"({p[0]:.{dec}f}, {p[1]:.{dec}f})"
+
+
+def _new_figure(aspect: float, width: float = 8.0):
+    from matplotlib.figure import Figure
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    aspect = max(aspect, 1e-3)
+    # room for the title lines and a colour bar below (wide parts) or beside (the others)
+    h = width / aspect + 2.0 if aspect > 1.4 else (width - 1.6) / aspect + 1.4
+    h = float(np.clip(h, 3.2, 9.0))
+    fig = Figure(figsize=(width, h), dpi=120, layout="constrained")
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def figure_png(fig, dpi: int = 120) -> bytes:
+    """The figure as PNG bytes (for embedding in a report)."""
+    import io
+
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=dpi)
+    return buf.getvalue()
+
+
+def save_figure(fig, path: str | os.PathLike, dpi: int = 120) -> Path:
+    """Write a figure to a PNG file atomically (temporary file in the same folder, then a rename)."""
+    path = Path(path)
+    if path.suffix.lower() != ".png":
+        raise InputError(f"figures are written as PNG; give a file name ending in .png, got {str(path)!r}")
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, format="png", dpi=dpi)
+    return path
+
+
+# ---------------------------------------------------------------------------------------- contour
+def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str = "field",
+                     unit: str = "", length: str = "", scale: float | str | None = "auto",
+                     mesh_lines: bool = False, mark_peak: bool = True, levels: int | None = None,
+                     cmap: str | None = None, title: str | None = None, note: str | None = None,
+                     cell_values: Mapping[str, np.ndarray] | None = None, etypes=None,
+                     subdivisions=None, window: Sequence[float] | None = None, ax=None,
+                     path: str | os.PathLike | None = None):
+    """Contour of a nodal field on plain arrays (the drawing engine behind :func:`plot_field`).
+
+    Parameters
+    ----------
+    nodes : ndarray, shape (n, 2)
+    cells : mapping of str to ndarray of shape (e, k)
+        Cell blocks by layout name.
+    values : ndarray, shape (n,), optional
+        Nodal field; or give ``cell_values`` (one value per cell) instead.
+    displacement : ndarray, shape (n, 2), optional
+        Displacements for the deformed shape.
+    name : str
+        Field name (sets the label and whether the colour map is diverging, see ``SIGNED_FIELDS``).
+    unit, length : str
+        Unit of the field and of lengths, for the colour bar and the peak label.
+    scale : float, "auto" or None
+        Displacement magnification; "auto" picks a round factor that makes the largest displacement
+        about 6 % of the model size (:func:`deformation_scale`); 0 or None draws the undeformed shape.
+    mesh_lines : bool
+        Draw the element sides (along curved edges).
+    mark_peak : bool
+        Mark and label the largest value (the largest magnitude for signed fields).
+    levels : int, optional
+        Draw that many filled bands instead of a smooth (Gouraud-shaded) colour field.
+    cmap : str, optional
+        Colour map; default viridis, or RdBu_r centred on zero for signed fields.
+    title, note : str, optional
+        Figure title and a line of text under it (the scale factor is always stated).
+    window : (x0, y0, x1, y1), optional
+        Show only this box (of the drawn, deformed shape), e.g. a close-up of a hole; the colour
+        range and the peak are those of the cells in view.
+    ax : matplotlib Axes, optional
+        Draw into these axes; otherwise a new Agg figure is made.
+    path : path, optional
+        Also write the figure as PNG (atomically).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    from matplotlib.collections import LineCollection
+    from matplotlib.colors import Normalize
+    from matplotlib.tri import Triangulation
+
+    nodes = np.asarray(nodes, float)[:, :2]
+    cells = {k: np.asarray(v) for k, v in cells.items() if np.asarray(v).size}
+    if values is None and cell_values is None:
+        raise InputError("give nodal values or cell values to draw")
+    if displacement is not None:
+        displacement = np.asarray(displacement, float)[:, :2]
+    if scale == "auto":
+        scale = deformation_scale(nodes, displacement) if displacement is not None else 0.0
+    scale = float(scale or 0.0)
+    if scale < 0 or not math.isfinite(scale):
+        raise InputError(f"the displacement scale must be a positive number or 'auto', got {scale!r}")
+    drawn = nodes + scale * displacement if (displacement is not None and scale > 0) else nodes
+    if window is not None:
+        cells, cell_values = _cells_in_window(drawn, cells, cell_values, window)
+
+    pts, tris, pv, tv = subdivide(drawn, cells, values, subdivisions=subdivisions, etypes=etypes,
+                                  cell_values=cell_values)
+    data = pv if pv is not None else tv
+    finite = data[np.isfinite(data)]
+    if finite.size == 0:
+        raise InputError(f"the field {name!r} has no finite values to draw")
+    vmin, vmax = float(finite.min()), float(finite.max())
+    signed = name in SIGNED_FIELDS or (name.startswith("element_") and name[8:] in SIGNED_FIELDS)
+    if signed:
+        lim = max(abs(vmin), abs(vmax)) or 1.0
+        norm = Normalize(-lim, lim)
+        cmap = cmap or "RdBu_r"
+    else:
+        norm = Normalize(vmin, vmax if vmax > vmin else vmin + (abs(vmin) or 1.0))
+        cmap = cmap or "viridis"
+
+    if window is not None:
+        x0, y0, x1, y1 = (float(v) for v in window)
+    else:
+        x0, y0 = pts.min(axis=0)
+        x1, y1 = pts.max(axis=0)
+    aspect = (x1 - x0) / max(y1 - y0, 1e-12 * max(x1 - x0, 1.0))
+    own = ax is None
+    if own:
+        fig = _new_figure(aspect)
+        ax = fig.add_subplot()
+    else:
+        fig = ax.figure
+    tri = Triangulation(pts[:, 0], pts[:, 1], tris)
+    if pv is not None and levels:
+        bounds = np.linspace(norm.vmin, norm.vmax, int(levels) + 1)
+        art = ax.tricontourf(tri, np.nan_to_num(pv, nan=norm.vmin), levels=bounds, cmap=cmap, norm=norm)
+    elif pv is not None:
+        art = ax.tripcolor(tri, np.nan_to_num(pv, nan=norm.vmin), shading="gouraud", cmap=cmap, norm=norm,
+                           rasterized=True)
+    else:
+        art = ax.tripcolor(tri, facecolors=tv, cmap=cmap, norm=norm, edgecolors="none")
+    if mesh_lines:
+        segs = _outline_segments(drawn, cells, etypes)
+        ax.add_collection(LineCollection(segs, colors="0.15", linewidths=0.25, alpha=0.7))
+    horizontal = aspect > 1.4
+    cb = fig.colorbar(art, ax=ax, orientation="horizontal" if horizontal else "vertical",
+                      shrink=0.8 if horizontal else 0.9, pad=0.02 if not horizontal else 0.04,
+                      aspect=40 if horizontal else 25)
+    cb.set_label(field_label(name, unit))
+
+    if mark_peak:
+        if pv is not None:
+            used = np.zeros(nodes.shape[0], dtype=bool)
+            for conn in cells.values():
+                used[conn.ravel()] = True
+            vals = np.asarray(values, float)
+            w = np.where(used & np.isfinite(vals), np.abs(vals) if signed else vals, -np.inf)
+            i = int(np.argmax(w))
+            peak, at, where = float(vals[i]), nodes[i], drawn[i]
+        else:
+            allv = np.concatenate([np.asarray(cell_values[k], float) for k in cells])
+            j = int(np.nanargmax(np.abs(allv) if signed else allv))
+            peak = float(allv[j])
+            k = j
+            for layout, conn in cells.items():  # cell centre of the peak cell
+                if k < conn.shape[0]:
+                    at = nodes[conn[k]].mean(axis=0)
+                    where = drawn[conn[k]].mean(axis=0)
+                    break
+                k -= conn.shape[0]
+        word = "max" if peak >= 0 or not signed else "min"
+        label = f"{word} {_fmt(peak)}{' ' + unit if unit else ''}\nat {_fmt_point(at, nodes)}" \
+                f"{' ' + length if length else ''}"
+        ax.plot([where[0]], [where[1]], marker="o", ms=7, mfc="none", mec="black", mew=1.6, zorder=5)
+        ax.plot([where[0]], [where[1]], marker="+", ms=10, color="black", mew=1.0, zorder=5)
+        # put the label on the side away from the middle of the part (into the material beside
+        # a hole-edge peak, inside the axes at an outer-edge peak)
+        cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+        fx = (where[0] - cx) / max(0.5 * (x1 - x0), 1e-300)
+        fy = (where[1] - cy) / max(0.5 * (y1 - y0), 1e-300)
+        dx = (1 if fx >= 0 else -1) * (-1 if abs(fx) > 0.6 else 1)
+        dy = (1 if fy >= 0 else -1) * (-1 if abs(fy) > 0.6 else 1)
+        ax.annotate(label, xy=(where[0], where[1]), xytext=(dx * 48, dy * 30), textcoords="offset points",
+                    ha="center", va="center", fontsize=8.5, zorder=6,
+                    bbox=dict(boxstyle="round,pad=0.3", fc="white", ec="0.3", alpha=0.92),
+                    arrowprops=dict(arrowstyle="-", color="0.2", lw=0.9))
+
+    ax.set_aspect("equal")
+    if window is not None:
+        ax.set_xlim(x0, x1)
+        ax.set_ylim(y0, y1)
+    else:
+        ax.set_xlim(x0 - 0.02 * (x1 - x0), x1 + 0.02 * (x1 - x0))
+        ax.set_ylim(y0 - 0.04 * (y1 - y0), y1 + 0.04 * (y1 - y0))
+    ax.set_xlabel(f"x [{length}]" if length else "x")
+    ax.set_ylabel(f"y [{length}]" if length else "y")
+    for s in ("top", "right"):
+        ax.spines[s].set_visible(False)
+    if displacement is not None and scale > 0:
+        umax = float(np.max(np.hypot(displacement[:, 0], displacement[:, 1])))
+        shape_note = (f"deformed shape, displacements magnified {scale:g} times "
+                      f"(largest displacement {_fmt(umax)}{' ' + length if length else ''})")
+    else:
+        shape_note = "undeformed shape"
+    lines_ = [shape_note] + ([note] if note else [])
+    if title:
+        ax.set_title(title, fontsize=11, loc="left", pad=6 + 12 * len(lines_))
+    ax.text(0.0, 1.01, "\n".join(lines_), transform=ax.transAxes, fontsize=8.5, color="0.25",
+            ha="left", va="bottom")
+    if path is not None:
+        save_figure(fig, path)
+    return fig
+
+
+def plot_field(result, field: str = "von_mises", *, recovery: str = "average", path=None,
+               scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool = True,
+               levels: int | None = None, cmap: str | None = None, units: str | None = None,
+               title: str | None = None, subdivisions=None, window=None, ax=None):
+    """Contour of a result field on the deformed shape.
+
+    Parameters
+    ----------
+    result : Result
+    field : str
+        Any nodal field of :meth:`planar.Result.field` (``von_mises``, ``sigma_xx``, ``tau_xy``,
+        ``displacement``, ``ux``, ...).
+    recovery : {"average", "spr"}
+        Nodal stress recovery: averaging of extrapolated Gauss values, or superconvergent patch
+        recovery (:mod:`planar.post.recovery`).
+    path : path, optional
+        Write the figure as PNG (atomically).
+    scale : float, "auto" or None
+        Displacement magnification (see :func:`deformation_scale`); it is stated on the figure.
+    mesh_lines : bool
+        Draw element sides along their curved edges.
+    units : str, optional
+        Unit of the field; default taken from ``model.units`` (``"N, mm, MPa"``: stress ``MPa``,
+        length ``mm``).
+    title : str, optional
+        Default: the field and the load case.
+    levels, cmap, subdivisions, window, ax
+        As for :func:`plot_nodal_field`.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Examples
+    --------
+    >>> import planar
+    >>> from planar.post.plots import plot_field
+    >>> m = planar.rectangle_mesh(100.0, 20.0, 10, 2, "Q8")
+    >>> model = planar.Model(m, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
+    >>> _ = model.add_support(planar.Fixed("left"))
+    >>> _ = model.add_load(planar.Traction("right", ty=-1.0), case="tip shear")
+    >>> fig = plot_field(planar.solve(model)["tip shear"], "sigma_xx", mesh_lines=True)
+    >>> fig.axes[1].get_xlabel()
+    '$\\\\sigma_{xx}$ [MPa]'
+    """
+    values = result.field(field, method=recovery)
+    model_units = getattr(result, "units", None)
+    unit = units if units is not None else field_unit(field, model_units)
+    etypes = {b.layout: b.etype for b in result.assembly.blocks}
+    rec = {"average": "averaged nodal stresses", "spr": "stresses by superconvergent patch recovery"}
+    note = rec.get(recovery) if field in _STRESS or field == "principal_angle" else None
+    if title is None:
+        title = f"{field_label(field)}, load case '{result.case}'"
+    return plot_nodal_field(result.mesh.nodes, result.mesh.cells, values, displacement=result.u,
+                            name=field, unit=unit, length=length_unit(model_units), scale=scale,
+                            mesh_lines=mesh_lines, mark_peak=mark_peak, levels=levels, cmap=cmap,
+                            title=title, note=note, etypes=etypes, subdivisions=subdivisions, window=window, ax=ax,
+                            path=path)
+
+
+# ---------------------------------------------------------------------------------------- vtu files
+def _read_vtu(path):
+    import meshio
+
+    path = os.fspath(path)
+    if not os.path.exists(path):
+        raise MeshError(f"result file {path!r} does not exist")
+    import contextlib
+    import io
+
+    chatter = io.StringIO()
+    try:
+        with contextlib.redirect_stderr(chatter), contextlib.redirect_stdout(chatter):
+            return meshio.read(path)
+    except (Exception, SystemExit) as exc:  # meshio raises many kinds, and exits on unknown content
+        why = f"{type(exc).__name__}: {exc}" if not isinstance(exc, SystemExit) else \
+            " ".join(chatter.getvalue().split()) or "unreadable content"
+        raise MeshError(f"cannot read result file {path!r} ({why}); "
+                        "give a .vtu file written by planar or another VTK writer") from None
+
+
+def vtu_fields(path) -> dict[str, list[str]]:
+    """Names of the point fields and cell fields in a .vtu file (vectors also as _x/_y parts)."""
+    m = _read_vtu(path)
+    return {"point": sorted(_point_fields(m)), "cell": sorted(m.cell_data)}
+
+
+def _point_fields(m) -> dict[str, np.ndarray]:
+    out = {}
+    for k, v in m.point_data.items():
+        v = np.asarray(v, float)
+        if v.ndim == 1:
+            out[k] = v
+        elif v.shape[1] >= 2:
+            out[k] = np.hypot(v[:, 0], v[:, 1])
+            if k == "displacement":
+                out["ux"], out["uy"] = v[:, 0], v[:, 1]
+            else:
+                out[f"{k}_x"], out[f"{k}_y"] = v[:, 0], v[:, 1]
+        else:
+            out[k] = v[:, 0]
+    return out
+
+
+def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = None, length: str = "",
+             deformed: bool = True, scale: float | str | None = "auto", mesh_lines: bool = False,
+             mark_peak: bool = True, levels: int | None = None, cmap: str | None = None,
+             title: str | None = None):
+    """Contour of a field stored in a .vtu result file (read with meshio).
+
+    Quadratic cells (triangle6, quad8, quad9) are subdivided with their shape functions. Point
+    fields are drawn smooth; cell fields (e.g. ``element_von_mises``) as one colour per cell. A
+    point field named ``displacement`` gives the deformed shape.
+
+    Parameters
+    ----------
+    path : path
+        The .vtu file.
+    field : str
+        A point or cell field in the file; ``ux``/``uy`` are the displacement components and
+        ``displacement`` its magnitude.
+    png : path, optional
+        Write the figure there (atomically).
+    units : str, optional
+        Unit of the field (a .vtu file does not record units), e.g. ``"MPa"``.
+    length : str, optional
+        Length unit for the axes, e.g. ``"mm"``.
+    deformed : bool
+        Draw on the deformed shape when the file has displacements.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Raises
+    ------
+    MeshError
+        The file is missing, unreadable or has no drawable cells.
+    NameNotFoundError
+        The field is not in the file (the message lists the fields that are).
+    """
+    from ..core.errors import unknown_name
+
+    m = _read_vtu(path)
+    cells: dict[str, list[np.ndarray]] = {}
+    order: list[tuple[int, str]] = []
+    for bi, block in enumerate(m.cells):
+        lay = MESHIO_TO_LAYOUT.get(block.type)
+        if lay is not None:
+            cells.setdefault(lay, []).append(np.asarray(block.data, dtype=np.int64))
+            order.append((bi, lay))
+    if not cells:
+        raise MeshError(f"result file {os.fspath(path)!r} holds no triangles or quadrilaterals")
+    cells_ = {k: np.vstack(v) for k, v in cells.items()}
+    pfields = _point_fields(m)
+    cell_values = values = None
+    if field in pfields:
+        values = pfields[field]
+    elif field in m.cell_data:
+        cv: dict[str, list[np.ndarray]] = {}
+        for bi, lay in order:
+            v = np.asarray(m.cell_data[field][bi], float)
+            cv.setdefault(lay, []).append(v if v.ndim == 1 else np.hypot(v[:, 0], v[:, 1]))
+        cell_values = {k: np.concatenate(v) for k, v in cv.items()}
+    else:
+        raise unknown_name("field", field, list(pfields) + list(m.cell_data),
+                           hint="Fields are the point and cell data of the file")
+    disp = None
+    if deformed and "displacement" in m.point_data:
+        disp = np.asarray(m.point_data["displacement"], float)[:, :2]
+    if title is None:
+        title = f"{field_label(field)}, {Path(path).name}"
+    return plot_nodal_field(np.asarray(m.points, float)[:, :2], cells_, values, displacement=disp,
+                            name=field, unit=units or "", length=length,
+                            scale=scale if disp is not None else None, mesh_lines=mesh_lines,
+                            mark_peak=mark_peak, levels=levels, cmap=cmap, title=title,
+                            cell_values=cell_values, path=png)
+
+
+# ---------------------------------------------------------------------------------------- paths
+def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = "average",
+               n_points: int = 201, path=None, units: str | None = None,
+               lines: Mapping[str, float] | None = None, title: str | None = None, ax=None):
+    """A field along the straight path from ``start`` to ``end`` (:meth:`planar.Result.along`).
+
+    Parameters
+    ----------
+    result : Result
+    start, end : (x, y)
+        End points of the path, inside the plate.
+    field : str
+        Nodal field name.
+    recovery : {"average", "spr"}
+    n_points : int
+        Sample points along the path.
+    path : path, optional
+        Write the figure as PNG (atomically).
+    units : str, optional
+        Unit of the field; default from ``model.units``.
+    lines : mapping of str to float, optional
+        Reference levels drawn as labelled horizontal lines, e.g. ``{"net-section stress": 84.0}``.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    dist, pts, vals = result.along(start, end, field, n_points=n_points, method=recovery)
+    model_units = getattr(result, "units", None)
+    unit = units if units is not None else field_unit(field, model_units)
+    length = length_unit(model_units)
+    own = ax is None
+    if own:
+        from matplotlib.figure import Figure
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+        fig = Figure(figsize=(7.0, 3.6), dpi=120, layout="constrained")
+        FigureCanvasAgg(fig)
+        ax = fig.add_subplot()
+    else:
+        fig = ax.figure
+    ax.plot(dist, vals, color="#1f5f8b", lw=1.8, label=field_label(field))
+    i = int(np.argmax(np.abs(vals) if field in SIGNED_FIELDS else vals))
+    ax.plot([dist[i]], [vals[i]], "o", mfc="none", mec="black", mew=1.4)
+    ax.annotate(f"{_fmt(vals[i])}{' ' + unit if unit else ''}", xy=(dist[i], vals[i]),
+                xytext=(8, -14 if vals[i] > 0 else 10), textcoords="offset points", fontsize=8.5)
+    for k, (lab, level) in enumerate((lines or {}).items()):
+        ax.axhline(level, color=["#b5651d", "#5a7d2a", "#7b4f9d"][k % 3], lw=1.1, ls="--",
+                   label=f"{lab} ({_fmt(level)}{' ' + unit if unit else ''})")
+    ax.set_xlabel(f"distance along the path from ({_fmt(start[0])}, {_fmt(start[1])}) "
+                  f"to ({_fmt(end[0])}, {_fmt(end[1])})" + (f" [{length}]" if length else ""))
+    ax.set_ylabel(field_label(field, unit))
+    ax.grid(True, color="0.88", lw=0.6)
+    ax.legend(fontsize=8, frameon=False)
+    for s in ("top", "right"):
+        ax.spines[s].set_visible(False)
+    ax.set_title(title or f"{field_label(field)} along a path, load case '{result.case}'",
+                 fontsize=10, loc="left")
+    if path is not None:
+        save_figure(fig, path)
+    return fig
