@@ -97,6 +97,10 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print(f"planar {args.command}: interrupted", file=sys.stderr)
         return 130
+    except MemoryError:
+        print(f"planar {args.command}: error: ran out of memory; close other programs, coarsen the mesh "
+              "away from the stress raisers, use a symmetry model, or solver='amg'", file=sys.stderr)
+        return 2
     return int(code or 0)
 
 

@@ -12,11 +12,11 @@ from typing import Any, Iterator
 import numpy as np
 import scipy.sparse as sp
 
-from .errors import ElementError, InputError, MeshError
+from .errors import ElementError, InputError, MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
 from .mesh import Mesh, _NODES_PER_LAYOUT
 from .quadrature import Rule, rule_for
-from .registry import element_type
+from .registry import check_plugin_array, element_type, plugin_call
 
 __all__ = ["Block", "Assembly", "prepare", "strain_matrix", "jacobian"]
 
@@ -38,7 +38,9 @@ def jacobian(etype, coords: np.ndarray, points: np.ndarray):
     dNdx : ndarray, shape (e, q, k, 2)
         Shape-function derivatives in x, y.
     """
-    dN = etype.shape_derivatives(points)  # (q, k, 2)
+    with plugin_call("element", etype, "shape_derivatives"):
+        dN = etype.shape_derivatives(points)  # (q, k, 2)
+    dN = check_plugin_array("element", etype, "shape_derivatives", dN, (points.shape[0], etype.n_nodes, 2))
     J = np.einsum("eki,qkj->eqij", coords, dN)
     det = J[..., 0, 0] * J[..., 1, 1] - J[..., 0, 1] * J[..., 1, 0]
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -99,7 +101,8 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
     Raises
     ------
     ElementError
-        For elements with a zero, changing-sign or badly distorted Jacobian, naming their ids.
+        For elements with a zero, changing-sign or badly distorted Jacobian, naming their ids, and for
+        cells that overlap (a folded or tangled mesh, or a cell given twice).
     """
     elements = elements or {}
     cells = {}
@@ -127,7 +130,7 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
             raise ElementError(
                 f"{ids.size} {etype.name} element(s) are {what}: cell ids {ids[:10].tolist()}"
                 f"{' ...' if ids.size > 10 else ''} of block {layout!r} (first at "
-                f"{tuple(np.round(mesh.nodes[conn[ids[0]]].mean(axis=0), 6))}); remesh, or check the "
+                f"{fmt_point(mesh.nodes[conn[ids[0]]].mean(axis=0))}); remesh, or check the "
                 "node order and the mid-side node positions"
             )
         ratio = np.min(np.abs(det), axis=1) / scale
@@ -137,15 +140,62 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
             raise ElementError(
                 f"{ids.size} {etype.name} element(s) are badly distorted (least/largest Jacobian "
                 f"{ratio[ids].min():.2e} < {distortion_limit:g}): cell ids {ids[:10].tolist()} of "
-                f"block {layout!r}; remesh with better-shaped elements"
+                f"block {layout!r} (first at {fmt_point(mesh.nodes[conn[ids[0]]].mean(axis=0))}); "
+                "remesh with better-shaped elements"
             )
         if np.any(neg):
             conn = conn.copy()
             conn[neg] = conn[neg][:, etype.reversed_order]
         cells[layout] = conn
+    _check_overlaps(mesh, cells, elements)
     if all(cells[k] is mesh.cells[k] for k in cells):
         return mesh
     return Mesh(mesh.nodes, cells, mesh.edge_sets, mesh.node_sets, mesh.regions)
+
+
+def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], elements: dict[str, str]) -> None:
+    """Refuse cells that lie on top of each other.
+
+    With every cell counter-clockwise, an edge between two cells is walked once in each direction. An
+    edge walked twice in the same direction (two cells on the same side of it), or shared by more
+    than two cells, means overlapping cells: a folded or tangled mesh, or the same cell given twice
+    (common practice for mesh validity; such a mesh would silently add stiffness where cells overlap).
+    """
+    n = np.int64(mesh.n_nodes)
+    keys, where = [], []
+    for layout, conn in cells.items():
+        ed = np.asarray(element_type(elements.get(layout, layout)).edges)[:, :2]
+        a = conn[:, ed[:, 0]].astype(np.int64).ravel()
+        b = conn[:, ed[:, 1]].astype(np.int64).ravel()
+        keys.append(2 * (np.minimum(a, b) * n + np.maximum(a, b)) + (a < b))
+        where.append((layout, ed.shape[0]))
+    k = np.sort(np.concatenate(keys))
+    same_way = k[1:] == k[:-1]
+    crowded = (k[2:] >> 1) == (k[:-2] >> 1)
+    if not (same_way.any() or crowded.any()):
+        return
+    bad = int(k[1:][same_way][0] if same_way.any() else k[2:][crowded][0])
+    und = bad >> 1
+    a, b = int(und // n), int(und % n)
+    owners = []
+    for (layout, ne), kk in zip(where, keys):
+        hit = np.flatnonzero((kk >> 1) == und) // ne
+        owners += [f"{layout} cell {int(c)}" for c in hit]
+    what = ("the same cell is given twice" if len(owners) >= 2 and _same_corners(cells, owners)
+            else "the mesh folds over itself or cells are tangled")
+    raise ElementError(
+        f"cells overlap ({what}): {', '.join(owners[:4])} lie on the same side of their shared edge "
+        f"from node {a} {fmt_point(mesh.nodes[a])} to node {b} {fmt_point(mesh.nodes[b])}; remove the "
+        "duplicate cells or remesh (an element turned inside out by a misplaced node does this too)"
+    )
+
+
+def _same_corners(cells, owners) -> bool:
+    sets = []
+    for o in owners[:2]:
+        layout, _, c = o.split(" ")
+        sets.append(frozenset(cells[layout][int(c)].tolist()))
+    return sets[0] == sets[1]
 
 
 @dataclass
@@ -196,7 +246,9 @@ class Block:
         rule = rule or self.rule
         key = id(rule)
         if key not in self._geo:
-            N = self.etype.shape(rule.points)
+            with plugin_call("element", self.etype, "shape"):
+                N = self.etype.shape(rule.points)
+            N = check_plugin_array("element", self.etype, "shape", N, (rule.n_points, self.etype.n_nodes))
             xg = np.empty((self.n, rule.n_points, 2))
             dv = np.empty((self.n, rule.n_points))
             for s in range(0, self.n, CHUNK):
@@ -375,7 +427,10 @@ class Assembly:
         coords = self.mesh.nodes[block.conn[start:stop]]
         et = block.etype
         if getattr(et, "stiffness", None) is not None:
-            return np.asarray(et.stiffness(coords, block.D, block.thickness, block.rule))
+            m = 2 * et.n_nodes
+            with plugin_call("element", et, "stiffness"):
+                ke = et.stiffness(coords, block.D, block.thickness, block.rule)
+            return check_plugin_array("element", et, "stiffness", ke, (coords.shape[0], m, m))
         if block.rule_mode == "selective":
             full = et.default_rule()
             red = _reduced(et, full)
@@ -494,7 +549,8 @@ class Assembly:
         out: list[np.ndarray | None] = [None] * len(self.blocks)
         for load in self.model.cases[case]:
             for i, b in enumerate(self.blocks):
-                e0 = load.initial_strain(self.context, _BlockView(b, self.mesh.nodes))
+                with plugin_call("load", load, "initial_strain"):
+                    e0 = load.initial_strain(self.context, _BlockView(b, self.mesh.nodes))
                 if e0 is None:
                     continue
                 e0 = np.asarray(e0, dtype=float)
@@ -525,12 +581,9 @@ class Assembly:
             raise unknown_name("load case", case, self.model.cases)
         f = np.zeros((self.mesh.n_nodes, 2))
         for load in self.model.cases[case]:
-            fl = np.asarray(load.nodal_forces(self.context), dtype=float)
-            if fl.shape != f.shape:
-                raise InputError(f"load {load.describe()} returned forces of shape {fl.shape}, expected {f.shape}")
-            if not np.all(np.isfinite(fl)):
-                raise InputError(f"load {load.describe()} gives NaN or infinite nodal forces")
-            f += fl
+            with plugin_call("load", load, "nodal_forces"):
+                fl = load.nodal_forces(self.context)
+            f += check_plugin_array("load", load, "nodal_forces", fl, f.shape)
         e0s = self.initial_strains(case)
         for b, e0 in zip(self.blocks, e0s):
             if e0 is None:

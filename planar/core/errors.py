@@ -20,6 +20,9 @@ __all__ = [
     "PluginError",
     "GeometryError",
     "ResourceError",
+    "OutputError",
+    "PlanarWarning",
+    "fmt_point",
 ]
 
 
@@ -68,6 +71,21 @@ class GeometryError(PlanarError):
 
 class ResourceError(PlanarError):
     """A job too large for the memory or time at hand."""
+
+
+class OutputError(PlanarError):
+    """A result file that cannot be written (a missing folder, no permission, a full disk)."""
+
+
+class PlanarWarning(UserWarning):
+    """Something planar accepted but the user should look at (e.g. coincident nodes in a mesh file)."""
+
+
+def fmt_point(p) -> str:
+    """A point for messages: ``(x, y)`` with 6 significant digits (no numpy scalar reprs)."""
+    import numpy as np
+
+    return "(" + ", ".join(f"{float(v):.6g}" for v in np.asarray(p, dtype=float).reshape(-1)) + ")"
 
 
 def choices(names: Iterable[str]) -> str:

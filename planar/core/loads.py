@@ -16,7 +16,7 @@ from typing import Any, Callable, ClassVar, Union
 
 import numpy as np
 
-from .errors import InputError, MeshError, unknown_name
+from .errors import InputError, MeshError, PlanarError, fmt_point, unknown_name
 from .elements import line_shape
 from .quadrature import gauss_line
 
@@ -46,15 +46,57 @@ def _check_value(name: str, v: Any) -> Any:
     return f
 
 
+def call_function(name: str, fn: Callable, x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Call a user function f(x, y) on arrays and return finite real values of the shape of x.
+
+    Every way the function can fail (it raises, returns something that is not a number, an array of
+    another shape, complex, NaN or infinite values) ends in an :class:`InputError` that names ``name``.
+    """
+    shape = np.shape(x)
+    try:
+        with np.errstate(all="ignore"):
+            raw = fn(x, y)
+    except Exception as exc:
+        raise InputError(
+            f"{name}: the function f(x, y) raised {type(exc).__name__}: {exc}; it is called with numpy "
+            f"arrays x, y of shape {shape} and must return numbers of that shape (or one number)"
+        ) from exc
+    try:
+        arr = np.asarray(raw)
+        if np.iscomplexobj(arr):
+            raise InputError(f"{name}: the function f(x, y) returned complex values; return real numbers")
+        out = np.broadcast_to(arr.astype(float), shape)
+    except PlanarError:
+        raise
+    except (TypeError, ValueError) as exc:
+        got = f"shape {np.shape(raw)}" if isinstance(raw, np.ndarray) else repr(raw)[:60]
+        raise InputError(
+            f"{name}: the function f(x, y) must return numbers of shape {shape} (or one number), "
+            f"got {got} ({exc})"
+        ) from None
+    if not np.all(np.isfinite(out)):
+        i = int(np.flatnonzero(~np.isfinite(out.ravel()))[0])
+        at = f" (first at ({np.ravel(x)[i]:.6g}, {np.ravel(y)[i]:.6g}))" if np.size(x) else ""
+        raise InputError(f"{name} evaluates to NaN or infinite values on the mesh{at}; check the function")
+    return out
+
+
+def _fmt(v) -> str:
+    """A value for descriptions: numbers to 6 significant digits, functions by name."""
+    if v is None:
+        return "None"
+    if callable(v):
+        return f"f(x, y) {getattr(v, '__name__', '')}".rstrip()
+    return f"{float(v):.6g}"
+
+
 def _evaluate(name: str, v: Value | None, x: np.ndarray) -> np.ndarray:
     """Evaluate a constant or a function f(x, y) at points x (..., 2)."""
     if v is None:
         return np.zeros(x.shape[:-1])
     if callable(v):
-        out = np.asarray(v(x[..., 0], x[..., 1]), dtype=float)
-        out = np.broadcast_to(out, x.shape[:-1])
-    else:
-        out = np.full(x.shape[:-1], float(v))
+        return call_function(name, v, x[..., 0], x[..., 1])
+    out = np.full(x.shape[:-1], float(v))
     if not np.all(np.isfinite(out)):
         raise InputError(f"{name} evaluates to NaN or infinite values on the mesh; check the function")
     return out
@@ -236,7 +278,7 @@ class Traction(LoadKind):
     Examples
     --------
     >>> Traction("right", tx=100.0)            # 100 MPa tension on the right edge
-    Traction('right', tx=100.0, ty=None)
+    Traction('right', tx=100, ty=None)
     """
 
     kind = "traction"
@@ -256,8 +298,8 @@ class Traction(LoadKind):
 
     def __repr__(self) -> str:
         if self.normal is not None or self.tangential is not None:
-            return f"Traction({self.where!r}, normal={self.normal!r}, tangential={self.tangential!r})"
-        return f"Traction({self.where!r}, tx={self.tx!r}, ty={self.ty!r})"
+            return f"Traction({self.where!r}, normal={_fmt(self.normal)}, tangential={_fmt(self.tangential)})"
+        return f"Traction({self.where!r}, tx={_fmt(self.tx)}, ty={_fmt(self.ty)})"
 
     def names_used(self):
         return [("edge", self.where)]
@@ -297,7 +339,7 @@ class Pressure(LoadKind):
             raise InputError("a pressure needs a value p")
 
     def __repr__(self):
-        return f"Pressure({self.where!r}, p={self.p!r})"
+        return f"Pressure({self.where!r}, p={_fmt(self.p)})"
 
     def names_used(self):
         return [("edge", self.where)]
@@ -330,14 +372,25 @@ class PointForce(LoadKind):
     kind = "point-force"
 
     def __init__(self, where, fx: float = 0.0, fy: float = 0.0):
-        self.where = where if isinstance(where, str) else tuple(float(c) for c in where)
+        if isinstance(where, str):
+            self.where = where
+        else:
+            try:
+                xy = np.asarray(where, dtype=float).reshape(-1)
+            except (TypeError, ValueError):
+                xy = np.zeros(0)
+            if xy.shape != (2,) or not np.all(np.isfinite(xy)):
+                raise InputError(
+                    f"a point force acts at a named point or at coordinates (x, y) of finite numbers, got {where!r}"
+                )
+            self.where = (float(xy[0]), float(xy[1]))
         self.fx = _check_value("fx", fx)
         self.fy = _check_value("fy", fy)
         if callable(self.fx) or callable(self.fy):
             raise InputError("a point force takes numbers fx, fy, not functions")
 
     def __repr__(self):
-        return f"PointForce({self.where!r}, fx={self.fx!r}, fy={self.fy!r})"
+        return f"PointForce({self.where!r}, fx={_fmt(self.fx)}, fy={_fmt(self.fy)})"
 
     def names_used(self):
         return [("point", self.where)] if isinstance(self.where, str) else []
@@ -349,7 +402,7 @@ class PointForce(LoadKind):
         d = float(np.hypot(*(ctx.mesh.nodes[i] - np.asarray(self.where))))
         if d > 1e-6 * ctx.mesh.size():
             raise InputError(
-                f"no node at {self.where}: the nearest is {d:g} away at {tuple(ctx.mesh.nodes[i])}; "
+                f"no node at {fmt_point(self.where)}: the nearest is {d:g} away at {fmt_point(ctx.mesh.nodes[i])}; "
                 "add a named point to the geometry there"
             )
         return i
@@ -381,7 +434,7 @@ class BodyForce(LoadKind):
         self.region = region
 
     def __repr__(self):
-        return f"BodyForce(bx={self.bx!r}, by={self.by!r}, region={self.region!r})"
+        return f"BodyForce(bx={_fmt(self.bx)}, by={_fmt(self.by)}, region={self.region!r})"
 
     def names_used(self):
         return [("region", self.region)] if self.region is not None else []
@@ -417,15 +470,21 @@ class TemperatureChange(LoadKind):
 
     def __init__(self, dT, region: str | None = None):
         if isinstance(dT, np.ndarray):
+            try:
+                dT = np.asarray(dT, dtype=float)
+            except (TypeError, ValueError):
+                raise InputError(f"nodal temperature changes must be numbers, got an array of {dT.dtype}") from None
+            if dT.ndim != 1:
+                raise InputError(f"nodal temperature changes need shape (n_nodes,), got {dT.shape}")
             if not np.all(np.isfinite(dT)):
                 raise InputError("the nodal temperature changes contain NaN or infinite values")
-            self.dT = np.asarray(dT, dtype=float)
+            self.dT = dT
         else:
             self.dT = _check_value("temperature change dT", dT)
         self.region = region
 
     def __repr__(self):
-        d = f"array({self.dT.shape[0]} nodes)" if isinstance(self.dT, np.ndarray) else repr(self.dT)
+        d = f"array({self.dT.shape[0]} nodes)" if isinstance(self.dT, np.ndarray) else _fmt(self.dT)
         return f"TemperatureChange({d}, region={self.region!r})"
 
     def names_used(self):

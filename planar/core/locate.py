@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.spatial import cKDTree
 
-from .errors import InputError
+from .errors import InputError, fmt_point
 from .registry import element_type
 
 __all__ = ["locate"]
@@ -38,7 +38,13 @@ def locate(mesh, points: np.ndarray, *, candidates: int = 12):
     InputError
         A point outside the mesh (naming the first such point).
     """
-    pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    try:
+        pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    except (TypeError, ValueError):
+        raise InputError(f"points must be (x, y) pairs of numbers, shape (p, 2); got {points!r}"[:200]) from None
+    if not np.all(np.isfinite(pts)):
+        bad = pts[~np.all(np.isfinite(pts), axis=1)][0]
+        raise InputError(f"point {fmt_point(bad)} is not a pair of finite numbers; pick points inside the plate")
     p = pts.shape[0]
     found = np.zeros(p, dtype=bool)
     out_layout = np.empty(p, dtype=object)
@@ -82,5 +88,5 @@ def locate(mesh, points: np.ndarray, *, candidates: int = 12):
             out_xi[hit] = xi[ok]
     if not np.all(found):
         i = int(np.flatnonzero(~found)[0])
-        raise InputError(f"point {tuple(pts[i])} lies outside the mesh; pick points inside the plate")
+        raise InputError(f"point {fmt_point(pts[i])} lies outside the mesh; pick points inside the plate")
     return out_layout, out_cell, out_xi

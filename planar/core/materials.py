@@ -35,6 +35,23 @@ def _positive(name: str, value: float) -> float:
     return v
 
 
+def _finite(name: str, value) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise MaterialError(f"{name} must be a number, got {value!r}") from None
+    if not math.isfinite(v):
+        raise MaterialError(f"{name} must be a finite number, got {value!r}")
+    return v
+
+
+def _not_negative(name: str, value) -> float:
+    v = _finite(name, value)
+    if v < 0:
+        raise MaterialError(f"{name} must not be negative, got {value!r}")
+    return v
+
+
 @dataclass(frozen=True)
 class Isotropic:
     """Isotropic linear elastic material.
@@ -75,8 +92,8 @@ class Isotropic:
                 f"Poisson's ratio nu = {self.nu!r} is outside -1 < nu <= 0.5, where an isotropic "
                 "solid is stable; metals are near 0.3"
             )
-        if not math.isfinite(float(self.alpha)):
-            raise MaterialError(f"thermal expansion alpha must be finite, got {self.alpha!r}")
+        _finite("thermal expansion alpha", self.alpha)
+        _not_negative("density", self.density)
 
     @property
     def G(self) -> float:
@@ -161,10 +178,15 @@ class Orthotropic:
         _positive("E1", self.E1)
         _positive("E2", self.E2)
         _positive("G12", self.G12)
-        if not math.isfinite(float(self.angle)):
-            raise MaterialError(f"material angle must be finite, got {self.angle!r}")
-        nu12 = float(self.nu12)
-        if not math.isfinite(nu12) or nu12 * nu12 >= self.E1 / self.E2:
+        _finite("material angle", self.angle)
+        nu12 = _finite("Poisson's ratio nu12", self.nu12)
+        for name in ("nu13", "nu23"):
+            if getattr(self, name) is not None:
+                _finite(f"Poisson's ratio {name}", getattr(self, name))
+        for name in ("alpha1", "alpha2", "alpha3"):
+            _finite(f"thermal expansion {name}", getattr(self, name))
+        _not_negative("density", self.density)
+        if nu12 * nu12 >= self.E1 / self.E2:
             raise MaterialError(
                 f"nu12 = {self.nu12!r} makes the material unstable: need nu12^2 < E1/E2 = "
                 f"{self.E1 / self.E2:g}"

@@ -11,9 +11,15 @@ from typing import Mapping
 
 import numpy as np
 
-from .errors import MeshError, unknown_name
+from .errors import InputError, MeshError, PlanarWarning, fmt_point, unknown_name
 
 __all__ = ["Mesh", "MESHIO_TO_LAYOUT", "LAYOUT_TO_MESHIO"]
+
+#: node coordinates beyond these make squares of Jacobians overflow or vanish in double precision
+_MAX_COORD = 1e100
+_MIN_EXTENT = 1e-100
+#: default distance, relative to the mesh size, under which two nodes count as one point
+DUPLICATE_TOL = 1e-9
 
 #: meshio cell type -> built-in element layout name
 MESHIO_TO_LAYOUT = {"triangle": "T3", "triangle6": "T6", "quad": "Q4", "quad8": "Q8", "quad9": "Q9"}
@@ -58,7 +64,10 @@ class Mesh:
     regions: dict[str, dict[str, np.ndarray]] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
-        nodes = np.asarray(self.nodes, dtype=float)
+        try:
+            nodes = np.asarray(self.nodes, dtype=float)
+        except (TypeError, ValueError) as exc:
+            raise MeshError(f"node coordinates must be an (n, 2) array of numbers ({exc})") from None
         if nodes.ndim != 2 or nodes.shape[1] not in (2, 3):
             raise MeshError(f"node coordinates must have shape (n, 2), got {nodes.shape}")
         if nodes.shape[1] == 3:
@@ -69,12 +78,27 @@ class Mesh:
             raise MeshError("the mesh has no nodes")
         if not np.all(np.isfinite(nodes)):
             raise MeshError("node coordinates contain NaN or infinite values")
+        big = float(np.abs(nodes).max())
+        extent = float(np.ptp(nodes, axis=0).max())
+        if big > _MAX_COORD or 0 < extent < _MIN_EXTENT:
+            raise MeshError(
+                f"node coordinates span {extent:.3g} with values up to {big:.3g}, outside the range planar "
+                f"computes safely (sizes {_MIN_EXTENT:g} to {_MAX_COORD:g}); check the length unit"
+            )
         self.nodes = np.ascontiguousarray(nodes)
         n = nodes.shape[0]
         idt = _index_dtype(n)
         cells = {}
+        if not isinstance(self.cells, Mapping):
+            raise MeshError(
+                "cells must be a mapping from element layout to an (e, k) array, e.g. {'T3': [[0, 1, 2]]}; "
+                f"got {type(self.cells).__name__}"
+            )
         for name, block in dict(self.cells).items():
-            block = np.asarray(block)
+            try:
+                block = np.asarray(block)
+            except (TypeError, ValueError) as exc:
+                raise MeshError(f"cell block {name!r} must be a 2D integer array ({exc})") from None
             if block.size == 0:
                 continue
             if block.ndim != 2 or not np.issubdtype(block.dtype, np.integer):
@@ -90,16 +114,23 @@ class Mesh:
         self.cells = cells
         edge_sets = {}
         for name, seg in dict(self.edge_sets).items():
-            seg = np.asarray(seg)
-            if seg.ndim != 2 or seg.shape[1] not in (2, 3):
-                raise MeshError(f"edge set {name!r} must have shape (m, 2) or (m, 3), got {seg.shape}")
+            try:
+                seg = np.asarray(seg)
+            except (TypeError, ValueError):
+                seg = np.zeros(0)
+            if seg.ndim != 2 or seg.shape[1] not in (2, 3) or (seg.size and not np.issubdtype(seg.dtype, np.integer)):
+                raise MeshError(f"edge set {name!r} must be an integer array of shape (m, 2) or (m, 3) "
+                                f"(node numbers start, end[, middle]), got {seg.dtype} {seg.shape}")
             if seg.size and (seg.min() < 0 or seg.max() >= n):
                 raise MeshError(f"edge set {name!r} refers to node numbers outside 0..{n - 1}")
             edge_sets[str(name)] = np.ascontiguousarray(seg, dtype=idt)
         self.edge_sets = edge_sets
         node_sets = {}
         for name, ids in dict(self.node_sets).items():
-            ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+            try:
+                ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+            except (TypeError, ValueError):
+                raise MeshError(f"node set {name!r} must list node numbers (integers), got {ids!r}"[:200]) from None
             if ids.size and (ids.min() < 0 or ids.max() >= n):
                 raise MeshError(f"node set {name!r} refers to node numbers outside 0..{n - 1}")
             node_sets[str(name)] = ids.astype(idt)
@@ -111,8 +142,12 @@ class Mesh:
             reg = {}
             for t, ids in dict(blocks).items():
                 if t not in cells:
-                    raise MeshError(f"region {name!r} names cell block {t!r}, which the mesh lacks")
-                ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+                    raise MeshError(f"region {name!r} names cell block {t!r}, which the mesh lacks; "
+                                    f"its blocks are {', '.join(map(repr, cells))}")
+                try:
+                    ids = np.unique(np.asarray(ids, dtype=np.int64).ravel())
+                except (TypeError, ValueError):
+                    raise MeshError(f"region {name!r} must list cell numbers (integers) per block") from None
                 if ids.size and (ids.min() < 0 or ids.max() >= cells[t].shape[0]):
                     raise MeshError(f"region {name!r} refers to cells outside block {t!r}")
                 reg[t] = ids
@@ -224,33 +259,147 @@ class Mesh:
         blocks = ", ".join(f"{b.shape[0]} {t}" for t, b in self.cells.items())
         return f"{self.n_nodes} nodes, {blocks}; edges: {', '.join(sorted(self.edge_sets)) or '-'}"
 
+    # ------------------------------------------------------------------ coincident nodes
+    def _tolerance(self, tol: float | None) -> float:
+        if tol is None:
+            return DUPLICATE_TOL * max(self.size(), 1e-300)
+        try:
+            t = float(tol)
+        except (TypeError, ValueError):
+            raise InputError(f"tol must be a distance (a number), got {tol!r}") from None
+        if not (np.isfinite(t) and t >= 0):
+            raise InputError(f"tol must be a non-negative finite distance, got {tol!r}")
+        return t
+
+    def duplicate_nodes(self, tol: float | None = None, *, used_only: bool = False) -> np.ndarray:
+        """Pairs of distinct nodes that lie at the same point.
+
+        Parameters
+        ----------
+        tol : float, optional
+            Largest distance between nodes taken as one point; default 1e-9 times the mesh size.
+        used_only : bool
+            Only nodes that belong to cells.
+
+        Returns
+        -------
+        ndarray, shape (p, 2)
+            Node numbers (i, j) with i < j, sorted.
+        """
+        from scipy.spatial import cKDTree
+
+        t = self._tolerance(tol)
+        ids = np.flatnonzero(self.used_nodes()) if used_only else np.arange(self.n_nodes)
+        if ids.size < 2:
+            return np.zeros((0, 2), dtype=np.int64)
+        pairs = cKDTree(self.nodes[ids]).query_pairs(t, output_type="ndarray")
+        if pairs.size == 0:
+            return np.zeros((0, 2), dtype=np.int64)
+        pairs = np.sort(ids[pairs], axis=1)
+        return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
+
+    def merge_duplicate_nodes(self, tol: float | None = None) -> "Mesh":
+        """The same mesh with coincident nodes joined into one (the lowest-numbered of each group).
+
+        Use it for a mesh file whose parts were exported with their own copies of the shared nodes
+        (the parts would otherwise not be joined: a crack along every such line). Cells, edge sets
+        and point sets are renumbered; the copies are dropped.
+
+        Parameters
+        ----------
+        tol : float, optional
+            Largest distance between nodes taken as one point; default 1e-9 times the mesh size.
+
+        Returns
+        -------
+        Mesh
+            ``self`` when there is nothing to merge.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> m = Mesh(np.array([[0, 0], [1, 0], [0, 1], [1, 0], [1, 1], [0, 1.0]]),
+        ...          {"T3": np.array([[0, 1, 2], [3, 4, 5]])})
+        >>> m.merge_duplicate_nodes().n_nodes
+        4
+        """
+        import scipy.sparse as sp
+        from scipy.sparse.csgraph import connected_components
+
+        pairs = self.duplicate_nodes(tol)
+        if pairs.shape[0] == 0:
+            return self
+        n = self.n_nodes
+        G = sp.coo_matrix((np.ones(pairs.shape[0]), (pairs[:, 0], pairs[:, 1])), shape=(n, n))
+        _, label = connected_components(G, directed=False)
+        rep = np.full(label.max() + 1, n, dtype=np.int64)
+        np.minimum.at(rep, label, np.arange(n))
+        target = rep[label]  # every node -> the lowest-numbered node at its point
+        keep = target == np.arange(n)
+        renum = (np.cumsum(keep) - 1)[target]
+        cells = {t: renum[c] for t, c in self.cells.items()}
+        edges = {k: renum[v] for k, v in self.edge_sets.items()}
+        points = {k: renum[v] for k, v in self.node_sets.items() if k not in self.edge_sets}
+        return Mesh(self.nodes[keep], cells, edges, points, self.regions)
+
     # ------------------------------------------------------------------ file input
     @classmethod
-    def read(cls, path: str | os.PathLike) -> "Mesh":
+    def read(cls, path: str | os.PathLike, *, merge_duplicates: bool | None = None) -> "Mesh":
         """Read a mesh file through meshio (gmsh .msh with physical groups as named sets, .vtu).
 
         Parameters
         ----------
         path : str or path-like
+        merge_duplicates : bool, optional
+            What to do with distinct nodes of cells that lie at the same point (parts exported with
+            their own copies of shared nodes are not joined there, like a crack): ``True`` joins them
+            (:meth:`merge_duplicate_nodes`), ``False`` keeps them (a crack the user means), and
+            ``None`` (default) keeps them with a :class:`~planar.core.errors.PlanarWarning`.
 
         Raises
         ------
         MeshError
-            If the file is missing, truncated, of an unknown format, or holds no 2D cells.
+            If the file is missing, empty, truncated, of an unknown format, or holds no 2D cells.
         """
+        import contextlib
+        import io
+
         import meshio
 
         path = os.fspath(path)
         if not os.path.exists(path):
             raise MeshError(f"mesh file {path!r} does not exist")
+        if os.path.isdir(path):
+            raise MeshError(f"{path!r} is a folder, not a mesh file")
+        _check_complete(path)
+        chatter = io.StringIO()
         try:
-            m = meshio.read(path)
-        except Exception as exc:  # meshio raises many kinds; name the file and the cause
+            with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
+                m = meshio.read(path)
+        except (Exception, SystemExit) as exc:  # meshio raises many kinds (and calls sys.exit on some)
+            said = " ".join(chatter.getvalue().split())[-300:]
+            cause = (said or "unreadable") if isinstance(exc, SystemExit) else f"{type(exc).__name__}: {exc}"
             raise MeshError(
-                f"cannot read mesh file {path!r} ({type(exc).__name__}: {exc}); "
-                "give a gmsh .msh (version 2 or 4) or a VTK .vtu file"
+                f"cannot read mesh file {path!r} ({cause}); it may be damaged or of another format: "
+                "give a complete gmsh .msh (version 2 or 4) or a VTK .vtu file"
             ) from None
-        return cls.from_meshio(m)
+        mesh = cls.from_meshio(m)
+        if merge_duplicates:
+            return mesh.merge_duplicate_nodes()
+        if merge_duplicates is None:
+            pairs = mesh.duplicate_nodes(used_only=True)
+            if pairs.shape[0]:
+                import warnings
+
+                warnings.warn(
+                    f"mesh file {path!r} has {pairs.shape[0]} pair(s) of distinct nodes at the same point "
+                    f"(first: nodes {pairs[0, 0]} and {pairs[0, 1]} at {fmt_point(mesh.nodes[pairs[0, 0]])}); "
+                    "the cells there are not joined, like a crack. Join them with "
+                    "Mesh.read(path, merge_duplicates=True) or mesh.merge_duplicate_nodes(), or pass "
+                    "merge_duplicates=False if the crack is meant",
+                    PlanarWarning, stacklevel=2,
+                )
+        return mesh
 
     @classmethod
     def from_meshio(cls, m) -> "Mesh":
@@ -306,3 +455,26 @@ class Mesh:
             regions=regions_out,
         )
         return mesh
+
+
+_ENDINGS = {".msh": (b"$End", "a gmsh section end ($End...)"), ".vtu": (b"</VTKFile>", "</VTKFile>")}
+
+
+def _check_complete(path: str) -> None:
+    """Refuse a .msh or .vtu file that stops before its closing mark (cut off while written or copied)."""
+    ext = os.path.splitext(path)[1].lower()
+    size = os.path.getsize(path)
+    if size == 0:
+        raise MeshError(f"mesh file {path!r} is empty (0 bytes); write it again")
+    if ext not in _ENDINGS:
+        return
+    mark, words = _ENDINGS[ext]
+    with open(path, "rb") as fh:
+        fh.seek(max(0, size - 512))
+        tail = fh.read().rstrip()
+    last = tail.rsplit(b"\n", 1)[-1].strip()
+    if not (last.startswith(mark) if mark == b"$End" else last.endswith(mark)):
+        raise MeshError(
+            f"mesh file {path!r} looks truncated: it does not end with {words} as a complete {ext} file "
+            "does (was it still being written or copied?); write or copy it again"
+        )

@@ -76,7 +76,7 @@ class Model:
     >>> model.add_support(Fixed("left"))
     Fixed('left')
     >>> model.add_load(Traction("right", ty=-5.0), case="tip shear")
-    Traction('right', tx=None, ty=-5.0)
+    Traction('right', tx=None, ty=-5)
     """
 
     def __init__(self, mesh: Mesh, material=None, thickness: float = 1.0, *,
@@ -94,11 +94,18 @@ class Model:
         self.elements = dict(elements or {})
         self.quadrature = dict(quadrature or {})
         self.units = units
-        for layout in self.elements:
+        from .registry import element_type
+
+        for layout, name in self.elements.items():
             if layout not in mesh.cells:
                 raise unknown_name("mesh cell layout", layout, mesh.cells)
+            element_type(name)  # an unknown element name fails here, listing the registered ones
+        used = {self.elements.get(layout, layout) for layout in mesh.cells}
         for name, q in self.quadrature.items():
-            if not (isinstance(q, int) or q in _RULE_WORDS):
+            if name not in used:
+                raise unknown_name("element in this model", name, used,
+                                   "quadrature= is keyed by the element names the model uses")
+            if isinstance(q, bool) or not (isinstance(q, int) or q in _RULE_WORDS):
                 raise InputError(f"quadrature for {name!r} must be an int or one of {_RULE_WORDS}, got {q!r}")
 
     # ------------------------------------------------------------------ building

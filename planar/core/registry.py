@@ -13,14 +13,16 @@ plugin leaves every other name usable.
 from __future__ import annotations
 
 import importlib.metadata as _md
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
-from .errors import PluginError, unknown_name
+from .errors import PlanarError, PluginError, unknown_name
 
-__all__ = ["Registry", "Entry", "PluginProblem", "element_type", "load_kind", "registry", "reload_plugins"]
+__all__ = ["Registry", "Entry", "PluginProblem", "element_type", "load_kind", "registry", "reload_plugins",
+           "describe_provider", "plugin_call", "check_plugin_array"]
 
 GROUPS = {"element": "planar.elements", "load": "planar.loads"}
 KIND_WORDS = {"element": "element type", "load": "load kind"}
@@ -257,3 +259,56 @@ def element_type(name: str):
 def load_kind(name: str):
     """The load kind class registered under ``name`` (e.g. ``"pressure"``)."""
     return registry().get("load", name)
+
+
+def describe_provider(kind: str, obj: Any) -> str:
+    """Who provides an element type or load kind, for messages.
+
+    ``obj`` is the registered class (or an instance of a load kind). Returns e.g.
+    ``"element type 'Q4i' (planar-incompatible-quad 0.1.0)"``; a load object made from a class that
+    is not registered is named by its class.
+    """
+    cls = obj if isinstance(obj, type) else type(obj)
+    name = getattr(cls, "name" if kind == "element" else "kind", "") or cls.__name__
+    word = KIND_WORDS[kind]
+    try:
+        entries = registry().entries[kind]
+    except Exception:  # pragma: no cover - discovery never raises, be safe anyway
+        entries = {}
+    for e in entries.values():
+        if e.obj is cls:
+            return f"{word} {e.name!r} ({e.distribution} {e.version}, {e.value})"
+    return f"{word} {name!r} (class {cls.__module__}.{cls.__qualname__}, not a registered plugin)"
+
+
+@contextmanager
+def plugin_call(kind: str, obj: Any, what: str):
+    """Turn an unexpected exception raised inside an element type or load kind into a PluginError.
+
+    planar's own errors (bad user input found by the plugin through the documented helpers) pass
+    through unchanged; anything else is reported naming the plugin, its distribution and the step.
+    """
+    try:
+        yield
+    except (PlanarError, MemoryError, KeyboardInterrupt):
+        raise
+    except Exception as exc:
+        raise PluginError(
+            f"{describe_provider(kind, obj)} failed in {what}: {type(exc).__name__}: {exc}; "
+            "report it to the plugin's authors, or use another element type or load kind"
+        ) from exc
+
+
+def check_plugin_array(kind: str, obj: Any, what: str, value, shape: tuple) -> np.ndarray:
+    """A plugin's returned array as float, refused unless it has ``shape`` and finite values."""
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError) as exc:
+        raise PluginError(f"{describe_provider(kind, obj)}: {what} returned something that is not an "
+                          f"array of numbers ({exc})") from None
+    if arr.shape != tuple(shape):
+        raise PluginError(f"{describe_provider(kind, obj)}: {what} returned shape {arr.shape}, "
+                          f"expected {tuple(shape)}")
+    if not np.all(np.isfinite(arr)):
+        raise PluginError(f"{describe_provider(kind, obj)}: {what} returned NaN or infinite values")
+    return arr

@@ -15,6 +15,7 @@ import numpy as np
 from .assembly import CHUNK, jacobian, strain_matrix
 from .errors import InputError
 from .materials import sigma_zz
+from .registry import check_plugin_array, plugin_call
 
 __all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix"]
 
@@ -52,7 +53,11 @@ def stress_measures(s: np.ndarray, szz: np.ndarray | None = None) -> dict[str, n
     c = 0.5 * (sxx + syy)
     r = np.hypot(0.5 * (sxx - syy), txy)
     s1, s2 = c + r, c - r
-    vm = np.sqrt(np.maximum(0.5 * ((sxx - syy) ** 2 + (syy - szz) ** 2 + (szz - sxx) ** 2) + 3 * txy**2, 0.0))
+    # scaled by the largest component so that the squares cannot overflow for huge stresses
+    m = np.maximum(np.maximum(np.abs(sxx), np.abs(syy)), np.maximum(np.abs(szz), np.abs(txy)))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        a, b, z, t = (np.where(m > 0, v / m, 0.0) for v in (sxx, syy, szz, txy))
+    vm = m * np.sqrt(np.maximum(0.5 * ((a - b) ** 2 + (b - z) ** 2 + (z - a) ** 2) + 3 * t**2, 0.0))
     tr = np.maximum(np.maximum(np.abs(s1 - s2), np.abs(s1 - szz)), np.abs(s2 - szz))
     ang = np.degrees(0.5 * np.arctan2(2 * txy, sxx - syy))
     return {"sigma_xx": sxx, "sigma_yy": syy, "tau_xy": txy, "sigma_zz": szz, "von_mises": vm,
@@ -176,7 +181,10 @@ class Result:
                 ue = self.u[b.conn[s : s + CHUNK]].reshape(coords.shape[0], -1)
                 own = getattr(b.etype, "strain", None)
                 if own is not None:
-                    strain[s : s + CHUNK] = own(coords, b.D, ue, rule)
+                    with plugin_call("element", b.etype, "strain"):
+                        eps = own(coords, b.D, ue, rule)
+                    strain[s : s + CHUNK] = check_plugin_array("element", b.etype, "strain", eps,
+                                                               (coords.shape[0], rule.n_points, 3))
                 else:
                     _, dNdx = jacobian(b.etype, coords, rule.points)
                     strain[s : s + CHUNK] = np.einsum("eqaj,ej->eqa", strain_matrix(dNdx), ue)
@@ -337,6 +345,8 @@ class Result:
         points : ndarray, shape (p, 2)
         values : ndarray, shape (p,)
         """
+        if isinstance(n_points, bool) or not isinstance(n_points, (int, np.integer)) or n_points < 2:
+            raise InputError(f"n_points must be a whole number of at least 2, got {n_points!r}")
         a, b = np.asarray(start, float), np.asarray(end, float)
         t = np.linspace(0.0, 1.0, int(n_points))
         pts = a + t[:, None] * (b - a)

@@ -10,7 +10,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .assembly import Assembly, Rotation
-from .errors import SupportError, unknown_name
+from .errors import ResourceError, SolverError, SupportError, fmt_point, unknown_name
 from .result import Result
 from .solvers import choose, factorize
 from .supports import gather
@@ -102,7 +102,7 @@ def constrain(mesh, supports) -> Constrained:
 def _conflict(mesh, supports, p, labels):
     names = ", ".join(supports[int(i)].describe() for i in np.unique(labels))
     raise SupportError(
-        f"supports contradict each other at node {int(p)} {tuple(np.round(mesh.nodes[int(p)], 6))}: "
+        f"supports contradict each other at node {int(p)} {fmt_point(mesh.nodes[int(p)])}: "
         f"{names} prescribe different displacements there; remove or change one of them"
     )
 
@@ -144,12 +144,33 @@ def rigid_body_check(mesh, cons: Constrained) -> None:
         free = vt[s < 1e-8 * max(1.0, s.max())]
         if free.shape[0] == 0:
             continue
-        problems.append(_describe_free(free, xc, L, len(comps) > 1, xy))
+        text = _describe_free(free, xc, L, len(comps) > 1, xy)
+        if len(comps) > 1:
+            text += _coincident_hint(mesh, members, used & (label != comp))
+        problems.append(text)
     if problems:
         raise SupportError(
             "the model can still move as a rigid body, so it has no unique answer: "
             + "; ".join(problems)
         )
+
+
+def _coincident_hint(mesh, members: np.ndarray, others: np.ndarray) -> str:
+    """Advice when a free piece touches the rest of the mesh only through duplicate, unjoined nodes."""
+    from scipy.spatial import cKDTree
+
+    rest = np.flatnonzero(others)
+    if rest.size == 0:
+        return ""
+    tol = 1e-9 * max(mesh.size(), 1e-300)
+    d, _ = cKDTree(mesh.nodes[rest]).query(mesh.nodes[members], distance_upper_bound=tol)
+    k = int(np.count_nonzero(np.isfinite(d)))
+    if k == 0:
+        return ""
+    first = members[np.flatnonzero(np.isfinite(d))[0]]
+    return (f" (its {k} node(s) at {fmt_point(mesh.nodes[first])} and elsewhere coincide with nodes of the "
+            "rest of the mesh but are not joined to them: duplicate nodes; join them with "
+            "mesh = mesh.merge_duplicate_nodes(), or support this piece if the gap is meant)")
 
 
 def _describe_free(free, xc, L, several, xy) -> str:
@@ -244,7 +265,10 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
     solver = choose(free.size, solver, matrix_entries=entries)  # refuse up front what cannot fit
     timer.lap("checks")
-    system = asm.system(free_index, pres_index, cons.rotation, timer)
+    try:
+        system = asm.system(free_index, pres_index, cons.rotation, timer)
+    except MemoryError:
+        raise _out_of_memory("assembling the stiffness matrix", free.size, entries) from None
     loads = [asm.load_vector(c) for c in cases]
     F = np.column_stack([f for f, _ in loads])
     Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
@@ -257,14 +281,18 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     if keep_system:
         asm.system = system
         asm.rhs = rhs
-    fac = factorize(system.lower, solver, rigid_modes=modes)
-    timer.lap("factorization")
-    ul = np.zeros((ndof, len(cases)))
-    ul[pdofs] = up[pdofs][:, None]
-    ul[free] = fac.solve(rhs).reshape(free.size, len(cases))
+    try:
+        fac = factorize(system.lower, solver, rigid_modes=modes)
+        timer.lap("factorization")
+        ul = np.zeros((ndof, len(cases)))
+        ul[pdofs] = up[pdofs][:, None]
+        ul[free] = fac.solve(rhs).reshape(free.size, len(cases))
+    except MemoryError:
+        raise _out_of_memory(f"factorizing with the {solver!r} solver", free.size, entries) from None
     timer.lap("solve")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
+    _check_finite(ul, Rl, cases)
     Rl[2 * unused] = 0.0
     Rl[2 * unused + 1] = 0.0
     if cons.rotation is not None:
@@ -278,6 +306,28 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
                             loads[j][1], solver=fac.name, timer=timer, solver_info=dict(fac.info))
     del system
     return results
+
+
+def _out_of_memory(what: str, n: int, entries: int) -> ResourceError:
+    from .solvers import available_memory, estimate_memory
+
+    need = min(estimate_memory(n, m, entries) for m in ("amg", "cholmod"))
+    return ResourceError(
+        f"ran out of memory while {what} ({n:,} unknowns; the estimate was about {need / 2**30:.2f} GiB, "
+        f"{available_memory() / 2**30:.2f} GiB is free now); close other programs, use solver='amg', "
+        "coarsen the mesh away from the stress raisers, or use a symmetry model"
+    )
+
+
+def _check_finite(u: np.ndarray, reactions: np.ndarray, cases: list[str]) -> None:
+    """Refuse an answer with NaN or infinite values (overflow from values far out of range)."""
+    for j, c in enumerate(cases):
+        if not (np.all(np.isfinite(u[:, j])) and np.all(np.isfinite(reactions[:, j]))):
+            raise SolverError(
+                f"load case {c!r}: the displacements or reactions overflowed to infinite or NaN values; "
+                "the loads, moduli or sizes are far out of range (check the units: e.g. N, mm, MPa), or "
+                "the model is nearly a mechanism"
+            )
 
 
 def _rigid_modes(xy: np.ndarray, rotation) -> np.ndarray:

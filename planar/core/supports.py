@@ -40,7 +40,10 @@ def _direction(d) -> np.ndarray:
         if key in ("y", "uy"):
             return np.array([0.0, 1.0])
         raise InputError(f"unknown direction {d!r}; pick 'x', 'y', 'normal' or give a vector (dx, dy)")
-    v = np.asarray(d, dtype=float).reshape(-1)
+    try:
+        v = np.asarray(d, dtype=float).reshape(-1)
+    except (TypeError, ValueError):
+        v = np.zeros(0)
     if v.shape != (2,) or not np.all(np.isfinite(v)) or np.hypot(*v) == 0:
         raise InputError(f"a direction must be a non-zero vector (dx, dy), got {d!r}")
     return v / np.hypot(*v)
@@ -68,14 +71,14 @@ class Support:
         return repr(self)
 
 
-def _eval(v, nodes_xy):
+def _eval(v, nodes_xy, name="a prescribed displacement"):
     if callable(v):
-        out = np.asarray(v(nodes_xy[:, 0], nodes_xy[:, 1]), dtype=float)
-        out = np.broadcast_to(out, nodes_xy.shape[:1]).copy()
-    else:
-        out = np.full(nodes_xy.shape[0], float(v))
+        from .loads import call_function
+
+        return call_function(name, v, nodes_xy[:, 0], nodes_xy[:, 1]).copy()
+    out = np.full(nodes_xy.shape[0], float(v))
     if not np.all(np.isfinite(out)):
-        raise InputError("a prescribed displacement evaluates to NaN or infinite values")
+        raise InputError(f"{name} evaluates to NaN or infinite values")
     return out
 
 
@@ -109,9 +112,9 @@ class Roller(Support):
 
     def __init__(self, where: str, fixed="normal"):
         self.where = str(where)
-        self.fixed = fixed if isinstance(fixed, str) else tuple(float(c) for c in fixed)
         if not (isinstance(fixed, str) and fixed.lower() == "normal"):
-            _direction(fixed)
+            _direction(fixed)  # refuses anything that is not 'x', 'y', 'normal' or a vector
+        self.fixed = fixed if isinstance(fixed, str) else tuple(float(c) for c in fixed)
 
     def __repr__(self):
         return f"Roller({self.where!r}, fixed={self.fixed!r})"
@@ -160,9 +163,11 @@ class Prescribed(Support):
         xy = mesh.nodes[ids]
         nodes, dirs, vals = [], [], []
         if self.ux is not None:
-            nodes.append(ids); dirs.append(np.tile([1.0, 0.0], (ids.size, 1))); vals.append(_eval(self.ux, xy))
+            nodes.append(ids); dirs.append(np.tile([1.0, 0.0], (ids.size, 1)))
+            vals.append(_eval(self.ux, xy, f"prescribed ux on {self.where!r}"))
         if self.uy is not None:
-            nodes.append(ids); dirs.append(np.tile([0.0, 1.0], (ids.size, 1))); vals.append(_eval(self.uy, xy))
+            nodes.append(ids); dirs.append(np.tile([0.0, 1.0], (ids.size, 1)))
+            vals.append(_eval(self.uy, xy, f"prescribed uy on {self.where!r}"))
         return np.concatenate(nodes), np.vstack(dirs), np.concatenate(vals)
 
 

@@ -18,6 +18,22 @@ from .files import atomic_path
 
 __all__ = ["write_vtu", "CELL_TYPES"]
 
+_COMPRESSIONS = (None, "zlib", "lzma")
+
+
+def _field_array(what: str, v, count: int, of: str) -> np.ndarray:
+    """An extra output field as a numeric array with one row per node or cell."""
+    try:
+        a = np.asarray(v)
+    except (TypeError, ValueError):
+        a = np.zeros((0,))
+    if a.ndim not in (1, 2) or not (np.issubdtype(a.dtype, np.number) or a.dtype == bool):
+        raise InputError(f"{what} must be an array of numbers of shape ({count},) or ({count}, c), got {a.dtype} {a.shape}")
+    if a.shape[0] != count:
+        raise InputError(f"{what} has {a.shape[0]} values for {count} {of}")
+    return a
+
+
 #: meshio cell type names of the built-in layouts
 CELL_TYPES = {"T3": "triangle", "T6": "triangle6", "Q4": "quad", "Q8": "quad8", "Q9": "quad9"}
 
@@ -60,6 +76,8 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "average",
     path = Path(path)
     if path.suffix.lower() != ".vtu":
         raise InputError(f"VTK output needs a .vtu file name, got {str(path)!r}")
+    if compression not in _COMPRESSIONS:
+        raise InputError(f"unknown compression {compression!r}; pick one of {', '.join(map(repr, _COMPRESSIONS))}")
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
     layouts = list(mesh.cells)
@@ -71,7 +89,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "average",
         pdata[k] = np.ascontiguousarray(meas[k])
     pdata["reaction"] = np.column_stack([result.reactions, np.zeros(mesh.n_nodes)])
     for k, v in (point_fields or {}).items():
-        pdata[k] = np.asarray(v)
+        pdata[k] = _field_array(f"point field {k!r}", v, mesh.n_nodes, "nodes")
     # cell data: element means from the Gauss points, per layout in block order
     names, rid = mesh.region_ids()
     mean = {t: np.zeros((mesh.cells[t].shape[0], 3)) for t in layouts}
@@ -87,11 +105,14 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "average",
     counts = [mesh.cells[t].shape[0] for t in layouts]
     for k, v in (cell_fields or {}).items():
         if isinstance(v, Mapping):
-            cdata[k] = [np.asarray(v[t]) for t in layouts]
+            missing = [t for t in layouts if t not in v]
+            if missing:
+                raise InputError(f"cell field {k!r} has no values for the cell block(s) {missing}; give one "
+                                 f"array per block of the mesh: {', '.join(map(repr, layouts))}")
+            cdata[k] = [_field_array(f"cell field {k!r} on block {t!r}", v[t], c, "cells")
+                        for t, c in zip(layouts, counts)]
         else:
-            v = np.asarray(v)
-            if v.shape[0] != sum(counts):
-                raise InputError(f"cell field {k!r} has {v.shape[0]} values for {sum(counts)} cells")
+            v = _field_array(f"cell field {k!r}", v, sum(counts), "cells (all blocks in order)")
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
     m = meshio.Mesh(pts, cells, point_data=pdata, cell_data=cdata,
                     field_data={n: np.array([i, 2]) for i, n in enumerate(names)})
