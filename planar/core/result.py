@@ -211,26 +211,25 @@ class Result:
         return [stress_measures(g.stress, g.szz)[name] for g in self.gauss]
 
     # ------------------------------------------------------------------ nodal fields
-    def nodal_stress(self, method: str = "average") -> tuple[np.ndarray, np.ndarray]:
+    def nodal_stress(self, method: str = "spr") -> tuple[np.ndarray, np.ndarray]:
         """Nodal (sigma_xx, sigma_yy, tau_xy) and sigma_zz, shape (n, 3) and (n,).
 
         Parameters
         ----------
-        method : {"average", "spr"}
-            ``"average"``: Gauss values extrapolated to each element's nodes and averaged over the
-            elements that share a node. ``"spr"``: superconvergent patch recovery
-            (:mod:`planar.post.recovery`), per region.
+        method : {"spr", "average"}
+            ``"spr"`` (default): superconvergent patch recovery; ``"average"``: Gauss values
+            extrapolated to each element's nodes and averaged over the elements that share a node.
+            Both work region by region (no smoothing across a change of material or thickness); at
+            an interface node the region with the larger von Mises stress gives the value
+            (:func:`planar.post.recovery.recover`).
         """
         key = f"stress:{method}"
         if key not in self._nodal_cache:
-            if method == "average":
-                vals = self._average(lambda g: np.concatenate([g.stress, g.szz[..., None]], axis=-1))
-            elif method == "spr":
-                from ..post.recovery import recover  # noqa: deferred so core stays standalone
+            if method not in ("average", "spr"):
+                raise InputError(f"unknown stress recovery {method!r}; pick 'spr' or 'average'")
+            from ..post.recovery import recover  # noqa: the one deferred core -> post import
 
-                vals = recover(self, method="spr")
-            else:
-                raise InputError(f"unknown stress recovery {method!r}; pick 'average' or 'spr'")
+            vals = recover(self, method=method)
             self._nodal_cache[key] = vals
         v = self._nodal_cache[key]
         return v[:, :3], v[:, 3]
@@ -252,7 +251,7 @@ class Result:
         out[cnt == 0] = 0.0
         return out
 
-    def field(self, name: str, *, method: str = "average") -> np.ndarray:
+    def field(self, name: str, *, method: str = "spr") -> np.ndarray:
         """A nodal field by name.
 
         Parameters
@@ -261,8 +260,8 @@ class Result:
             ``ux``, ``uy``, ``displacement`` (magnitude), a stress name (``sigma_xx``, ``sigma_yy``,
             ``tau_xy``, ``sigma_zz``, ``von_mises``, ``tresca``, ``sigma_1``, ``sigma_2``,
             ``principal_angle``) or a strain name (``eps_xx``, ``eps_yy``, ``gamma_xy``).
-        method : {"average", "spr"}
-            Stress recovery (see :meth:`nodal_stress`).
+        method : {"spr", "average"}
+            Stress recovery (see :meth:`nodal_stress`); SPR by default.
 
         Returns
         -------
@@ -283,7 +282,7 @@ class Result:
         raise InputError(f"unknown field {name!r}; pick one of {', '.join(FIELDS)}")
 
     # ------------------------------------------------------------------ queries
-    def max(self, name: str = "von_mises", *, method: str = "average", absolute: bool = False):
+    def max(self, name: str = "von_mises", *, method: str = "spr", absolute: bool = False):
         """Largest value of a nodal field and where it occurs.
 
         Returns
@@ -298,14 +297,14 @@ class Result:
         i = int(np.argmax(w))
         return float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i
 
-    def min(self, name: str, *, method: str = "average"):
+    def min(self, name: str, *, method: str = "spr"):
         """Smallest value of a nodal field, with location and node."""
         v = self.field(name, method=method)
         used = self.mesh.used_nodes()
         i = int(np.argmin(np.where(used, v, np.inf)))
         return float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i
 
-    def at(self, points, name: str, *, method: str = "average") -> np.ndarray:
+    def at(self, points, name: str, *, method: str = "spr") -> np.ndarray:
         """Values of a field at points inside the mesh, interpolated with the shape functions.
 
         Parameters
@@ -336,7 +335,7 @@ class Result:
             out[sel] = np.einsum("pk,pk->p", N, v[conn[cell[sel]]])
         return out if np.ndim(points) > 1 else float(out[0])
 
-    def along(self, start, end, name: str, *, n_points: int = 101, method: str = "average"):
+    def along(self, start, end, name: str, *, n_points: int = 101, method: str = "spr"):
         """A field along the straight path from ``start`` to ``end``.
 
         Returns

@@ -571,7 +571,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str 
     return fig
 
 
-def plot_field(result, field: str = "von_mises", *, recovery: str = "average", path=None,
+def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=None,
                scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool = True,
                levels: int | None = None, cmap: str | None = None, units: str | None = None,
                title: str | None = None, subdivisions=None, window=None, ax=None):
@@ -583,7 +583,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "average", p
     field : str
         Any nodal field of :meth:`planar.Result.field` (``von_mises``, ``sigma_xx``, ``tau_xy``,
         ``displacement``, ``ux``, ...).
-    recovery : {"average", "spr"}
+    recovery : {"spr", "average"}
         Nodal stress recovery: averaging of extrapolated Gauss values, or superconvergent patch
         recovery (:mod:`planar.post.recovery`).
     path : path, optional
@@ -751,7 +751,7 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
 
 
 # ---------------------------------------------------------------------------------------- paths
-def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = "average",
+def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = "spr",
                n_points: int = 201, path=None, units: str | None = None,
                lines: Mapping[str, float] | None = None, title: str | None = None, ax=None):
     """A field along the straight path from ``start`` to ``end`` (:meth:`planar.Result.along`).
@@ -763,7 +763,7 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
         End points of the path, inside the plate.
     field : str
         Nodal field name.
-    recovery : {"average", "spr"}
+    recovery : {"spr", "average"}
     n_points : int
         Sample points along the path.
     path : path, optional

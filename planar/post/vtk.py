@@ -45,7 +45,7 @@ def _meshio_type(result, layout: str) -> str:
     return CELL_TYPES[layout]
 
 
-def write_vtu(path: str | os.PathLike, result, *, recovery: str = "average",
+def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
               cell_fields: Mapping[str, Mapping[str, np.ndarray] | np.ndarray] | None = None,
               point_fields: Mapping[str, np.ndarray] | None = None,
               compression: str | None = None) -> Path:
@@ -57,8 +57,8 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "average",
         Target ``.vtu`` file; written through a temporary file and renamed, so an interrupted write
         never leaves a half-written file over a good one.
     result : Result
-    recovery : {"average", "spr"}
-        How nodal stresses are recovered.
+    recovery : {"spr", "average"}
+        How nodal stresses are recovered (superconvergent patch recovery by default).
     cell_fields : mapping, optional
         Extra cell data: name -> {layout: (e,) array} or a single array over all cells in block order.
     point_fields : mapping, optional
