@@ -491,7 +491,7 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     """
     import meshio
 
-    from .vtk import CELL_TYPES
+    from .vtk import add_field_data, CELL_TYPES
 
     path = Path(path)
     if path.suffix.lower() != ".vtu":
@@ -507,28 +507,8 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     m = meshio.Mesh(pts, cells, point_data=pdata)
     with atomic_path(path) as tmp:
         meshio.write(tmp, m, file_format="vtu", compression=compression)
-        _add_field_data(Path(tmp), {name: i for i, name in enumerate(env.names)})
+        add_field_data(Path(tmp), {name: i for i, name in enumerate(env.names)})
     return path
-
-
-def _add_field_data(path: Path, table: Mapping[str, int]) -> None:
-    """Put a FieldData block (one Int32 array per name, holding its index) into a .vtu file.
-
-    meshio 5.3 writes no field data to .vtu (it reads it back), so the block is added here, in the
-    place VTK's XML format gives it: the first child of ``<UnstructuredGrid>``.
-    """
-    from xml.sax.saxutils import quoteattr
-
-    text = path.read_text(encoding="utf-8")
-    tag = "<UnstructuredGrid>"
-    at = text.find(tag)
-    if at < 0:  # pragma: no cover - meshio always writes it
-        raise InputError(f"cannot add the case table to {str(path)!r}: no <UnstructuredGrid> element")
-    rows = "".join(f'<DataArray type="Int32" Name={quoteattr(str(n))} NumberOfTuples="1" format="ascii">'
-                   f"{int(i)}</DataArray>\n" for n, i in table.items())
-    block = f"\n<FieldData>\n{rows}</FieldData>"
-    at += len(tag)
-    path.write_text(text[:at] + block + text[at:], encoding="utf-8")
 
 
 def plot_envelope(env: Envelope, path: str | os.PathLike | None = None, *, title: str | None = None,

@@ -16,7 +16,7 @@ from ..core.errors import InputError
 from ..core.result import stress_measures
 from .files import atomic_path
 
-__all__ = ["write_vtu", "CELL_TYPES"]
+__all__ = ["write_vtu", "add_field_data", "CELL_TYPES"]
 
 _COMPRESSIONS = (None, "zlib", "lzma")
 
@@ -114,8 +114,29 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
         else:
             v = _field_array(f"cell field {k!r}", v, sum(counts), "cells (all blocks in order)")
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
-    m = meshio.Mesh(pts, cells, point_data=pdata, cell_data=cdata,
-                    field_data={n: np.array([i, 2]) for i, n in enumerate(names)})
+    m = meshio.Mesh(pts, cells, point_data=pdata, cell_data=cdata)
     with atomic_path(path) as tmp:
         meshio.write(tmp, m, file_format="vtu", compression=compression)
+        if len(names) > 1:  # region names for region_id (meshio writes no field data to .vtu)
+            add_field_data(Path(tmp), {n: i for i, n in enumerate(names)})
     return path
+
+
+def add_field_data(path: Path, table: Mapping[str, int]) -> None:
+    """Put a FieldData block (one Int32 array per name, holding its index) into a .vtu file.
+
+    meshio 5.3 writes no field data to .vtu (it reads it back), so the block is added here, in the
+    place VTK's XML format gives it: the first child of ``<UnstructuredGrid>``.
+    """
+    from xml.sax.saxutils import quoteattr
+
+    text = path.read_text(encoding="utf-8")
+    tag = "<UnstructuredGrid>"
+    at = text.find(tag)
+    if at < 0:  # pragma: no cover - meshio always writes it
+        raise InputError(f"cannot add the name table to {str(path)!r}: no <UnstructuredGrid> element")
+    rows = "".join(f'<DataArray type="Int32" Name={quoteattr(str(n))} NumberOfTuples="1" format="ascii">'
+                   f"{int(i)}</DataArray>\n" for n, i in table.items())
+    block = f"\n<FieldData>\n{rows}</FieldData>"
+    at += len(tag)
+    path.write_text(text[:at] + block + text[at:], encoding="utf-8")
