@@ -58,6 +58,12 @@ def _check_field(name: str) -> str:
     return name
 
 
+def _where(x: float, y: float) -> str:
+    """A location for messages, with round-off below 1e-9 of its size shown as 0."""
+    tol = 1e-9 * max(abs(x), abs(y), 1e-300)
+    return f"({0.0 if abs(x) < tol else x:.6g}, {0.0 if abs(y) < tol else y:.6g})"
+
+
 def _check_method(method: str) -> str:
     if method not in _METHODS:
         raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(_METHODS)}")
@@ -173,7 +179,7 @@ class StressConcentration:
 
     def summary(self) -> str:
         x, y = self.location
-        return (f"Kt = {self.Kt:.4g} ({self.field} peak {self.peak:.6g} at ({x:.6g}, {y:.6g}) over nominal "
+        return (f"Kt = {self.Kt:.4g} ({self.field} peak {self.peak:.6g} at {_where(x, y)} over nominal "
                 f"{self.nominal:.6g}, {self.method} recovery). {self.caution}")
 
     __str__ = summary
@@ -252,7 +258,7 @@ class Margin:
         x, y = self.location
         verdict = "holds" if self.passed else "DOES NOT hold"
         return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g} / "
-                f"({self.factor_of_safety:g} x {self.field} peak {self.peak:.6g} at ({x:.6g}, {y:.6g})) - 1, "
+                f"({self.factor_of_safety:g} x {self.field} peak {self.peak:.6g} at {_where(x, y)}) - 1, "
                 f"{self.method} recovery. {self.caution}")
 
     __str__ = summary
