@@ -8,6 +8,7 @@ from __future__ import annotations
 import math
 import threading
 import time
+import warnings
 
 import numpy as np
 import pytest
@@ -347,6 +348,205 @@ def test_quadratic_edge_sets_are_start_end_middle():
     assert np.allclose(x[:, 2], (x[:, 0] + x[:, 1]) / 2)  # straight side: the middle node is midway
 
 
+# ------------------------------------------------------------------------------------------ quadratic nodes
+SIDE_PAIRS = {3: [(0, 1), (1, 2), (2, 0)], 4: [(0, 1), (1, 2), (2, 3), (3, 0)]}
+
+
+def cell_sides(m: Mesh, lay: str) -> np.ndarray:
+    """(cells * sides, 3): corner a, corner b, mid-side node of every side of every cell."""
+    c = m.cells[lay]
+    nc = 3 if lay[0] == "T" else 4
+    return np.vstack([np.column_stack([c[:, a], c[:, b], c[:, nc + i]]) for i, (a, b) in enumerate(SIDE_PAIRS[nc])])
+
+
+def min_angles(m: Mesh, lay: str) -> np.ndarray:
+    """Least corner angle of each cell in degrees (straight sides through the corners)."""
+    nc = 3 if lay[0] == "T" else 4
+    P = m.nodes[m.cells[lay][:, :nc]]
+    out = []
+    for i in range(nc):
+        a, b = P[:, i - 1] - P[:, i], P[:, (i + 1) % nc] - P[:, i]
+        out.append(np.degrees(np.arctan2(np.abs(a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]), (a * b).sum(axis=1))))
+    return np.min(out, axis=0)
+
+
+QUADRATIC = [dict(), dict(quads=True), dict(quads=True, quadratic="Q9")]
+
+
+@pytest.mark.parametrize("kw", QUADRATIC)
+def test_mid_nodes_on_true_curves_and_at_midpoints_of_straight_sides(kw):
+    ell = Ellipse((150.0, 40.0), 16.0, 7.0, angle=30.0, name="oval")
+    p = hole_plate().cut(ell).with_region(Circle((100.0, 40.0), 18.0), name="boss")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # no side put back on its chord (see the next test) here
+        m = mesh(p, size=2.5, order=2, **kw)
+    lay = next(iter(m.cells))
+    S = cell_sides(m, lay)
+    A, B, M = m.nodes[S[:, 0]], m.nodes[S[:, 1]], m.nodes[S[:, 2]]
+    r = lambda X: np.hypot(*(X - [100.0, 40.0]).T)
+    th = math.radians(30.0)
+    u = lambda X: ((X[:, 0] - 150) * math.cos(th) + (X[:, 1] - 40) * math.sin(th)) / 16.0
+    v = lambda X: (-(X[:, 0] - 150) * math.sin(th) + (X[:, 1] - 40) * math.cos(th)) / 7.0
+    ell_f = lambda X: u(X) ** 2 + v(X) ** 2
+    # sides with both corners on a curve that are segments of that curve: the hole (r = 10), the
+    # boss outline inside the plate (r = 18) and the ellipse (x'/a)^2 + (y'/b)^2 = 1 (definitions)
+    on_hole = (np.abs(r(A) - 10) < 1e-9) & (np.abs(r(B) - 10) < 1e-9)
+    on_boss = (np.abs(r(A) - 18) < 1e-9) & (np.abs(r(B) - 18) < 1e-9)
+    on_ell = (np.abs(ell_f(A) - 1) < 1e-9) & (np.abs(ell_f(B) - 1) < 1e-9)
+    assert on_hole.sum() and on_boss.sum() and on_ell.sum()
+    assert np.abs(r(M[on_hole]) - 10.0).max() < 1e-9
+    assert np.abs(r(M[on_boss]) - 18.0).max() < 1e-9
+    assert np.abs(ell_f(M[on_ell]) - 1.0).max() < 1e-9
+    # the mid node of a curved side is the curve's point equidistant from both corners (the middle
+    # of the arc to O(h^3)), not just any point of the curve
+    dA, dB = np.hypot(*(M - A).T), np.hypot(*(M - B).T)
+    curved = on_hole | on_boss | on_ell
+    assert np.all(np.abs(dA - dB)[curved] < 1e-9 * (dA + dB)[curved])
+    # every other side is straight: its node is the exact midpoint
+    straight = ~(on_hole | on_boss | on_ell)
+    assert np.abs(M[straight] - 0.5 * (A[straight] + B[straight])).max() < 1e-12 * 200
+    if lay == "Q9":  # the centre of a straight-sided Q9 is the mean of its corners (bilinear map)
+        c = m.cells["Q9"]
+        flat = np.all(straight.reshape(4, -1), axis=0)
+        ctr = m.nodes[c[flat, 8]]
+        assert np.abs(ctr - m.nodes[c[flat, :4]].mean(axis=1)).max() < 1e-12 * 200
+
+
+def test_curved_side_that_would_turn_its_cell_inside_out_stays_straight():
+    from planar.core.errors import PlanarWarning
+    from planar.geometry._quadratic import quadratic, side_keys
+
+    # a flat triangle whose side 0-1 lies on a curve bulging past the opposite corner (y = 0.1)
+    xy = np.array([[0.0, 0.0], [1.0, 0.0], [0.5, 0.1], [0.5, -1.0]])
+    tri = np.array([[0, 1, 2], [1, 0, 3]])
+    keys = side_keys(np.array([0]), np.array([1]), 4)
+    with pytest.warns(PlanarWarning, match="straight chord"):
+        nodes, cells, uniq = quadratic(xy, {"T3": tri}, keys, np.array([[0.5, 0.3]]))
+    mid = nodes[4 + np.searchsorted(uniq, keys[0])]
+    assert np.allclose(mid, [0.5, 0.0])  # back on the chord, for both cells that share the side
+    # a gentle curve is kept
+    nodes, cells, uniq = quadratic(xy, {"T3": tri}, keys, np.array([[0.5, 0.02]]))
+    assert np.allclose(nodes[4 + np.searchsorted(uniq, keys[0])], [0.5, 0.02])
+    assert cells["T6"].shape == (2, 6)
+
+
+@pytest.mark.parametrize("kw", [dict(order=2)] + [dict(order=2, **k) for k in QUADRATIC[1:]])
+def test_node_count_is_corners_plus_sides(kw):
+    # Euler's formula for a plane mesh of a plate with one hole: V - E + F = 1 - 1 = 0 (common practice)
+    m = mesh(hole_plate(), size=4.0, **kw)
+    lay = next(iter(m.cells))
+    nc = 3 if lay[0] == "T" else 4
+    corners = np.unique(m.cells[lay][:, :nc]).size
+    S = cell_sides(m, lay)
+    sides = np.unique(np.sort(S[:, :2], axis=1), axis=0).shape[0]
+    F = m.cells[lay].shape[0]
+    assert corners - sides + F == 0
+    assert m.n_nodes == corners + sides + (F if lay == "Q9" else 0)
+    # one node per side: the two cells at an inner side share its mid node
+    assert np.unique(S[:, 2]).size == sides
+
+
+@pytest.mark.parametrize("kw", QUADRATIC)
+@pytest.mark.parametrize("fast", [False, True])
+def test_quadratic_jacobians_positive(kw, fast, monkeypatch):
+    from planar.core.assembly import prepare
+    from planar.geometry import meshing
+
+    monkeypatch.setitem(meshing.PIECE_ELEMENTS, "triangles", 1500)
+    monkeypatch.setitem(meshing.PIECE_ELEMENTS, "quads", 700)
+    p = (
+        Plate.rectangle(200.0, 80.0).fillet("all", radius=6.0)
+        .notch("top", at=60.0, depth=8.0, radius=1.5, kind="V")
+        .cut(Circle((100.0, 40.0), 10.0, name="bolt_hole"), Ellipse((160.0, 40.0), 12.0, 5.0, angle=20.0))
+        .with_region(Circle((100.0, 40.0), 18.0), name="boss")
+    )
+    m = mesh(p, size=2.5, order=2, fast=fast, **kw)
+    prepare(m)  # raises ElementError for a zero, changing-sign or badly distorted Jacobian
+    lay = next(iter(m.cells))
+    assert cell_areas(m, lay).min() > 0
+
+
+# ------------------------------------------------------------------------------------------ fast way
+def test_cuts_into_pieces_keep_names_area_and_regions():
+    from planar.geometry._build import _build
+    from planar.geometry._session import _Session
+
+    p = hole_plate().with_region(Circle((100.0, 40.0), 18.0), name="boss").add_point("lp", (150.0, 60.0))
+    with _Session() as s:
+        whole = _build(p, s)
+    with _Session() as s:
+        cut = _build(p, s, pieces=lambda area, bbox: (8, 2.0))
+    assert whole.cuts == 0 and cut.cuts >= 3
+    assert len(cut.surfaces) > len(whole.surfaces)
+    assert sorted(cut.edges) == sorted(whole.edges) and sorted(cut.points) == sorted(whole.points)
+    assert sorted(cut.regions) == sorted(whole.regions)
+    assert cut.area == pytest.approx(whole.area, rel=1e-12)
+
+
+@pytest.mark.parametrize("kw", [dict(), dict(quads=True)])
+def test_fast_mesh_is_conforming_named_good_and_repeatable(kw, monkeypatch):
+    from planar.geometry import meshing
+
+    # pieces so small that the ideal cuts touch the hole (x = 90, 110 and y = 30, 50): the cuts
+    # must move away from such tangent places
+    monkeypatch.setitem(meshing.PIECE_ELEMENTS, "triangles", 300)
+    monkeypatch.setitem(meshing.PIECE_ELEMENTS, "quads", 150)
+    p = hole_plate().with_region(Circle((100.0, 40.0), 18.0), name="boss").add_point("lp", (150.0, 60.0))
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        m = mesh(p, size=2.0, order=2, fast=True, **kw)
+    ref = mesh(p, size=2.0, order=2, fast=False, **kw)
+    assert m.names() == ref.names()
+    lay = next(iter(m.cells))
+    # conforming: no two nodes at one point, and the sides used by one cell only are the named edges
+    assert np.unique(np.round(m.nodes, 9), axis=0).shape[0] == m.n_nodes
+    S = np.sort(cell_sides(m, lay)[:, :2], axis=1)
+    key, count = np.unique(S, axis=0, return_counts=True)
+    outer = key[count == 1]
+    named = np.unique(np.sort(np.vstack([e[:, :2] for e in m.edge_sets.values()]), axis=1), axis=0)
+    assert np.array_equal(outer, named)
+    # the same area as the mesh in one piece, to the quadratic boundary error (1e-6, see above)
+    assert mesh_area(m) == pytest.approx(mesh_area(ref), rel=1e-6)
+    # quality: frontal Delaunay triangles keep their least angle above 25 degrees (measured 30-36)
+    # also without smoothing; quadrilaterals above 30 degrees (measured 45-50)
+    assert min_angles(m, lay).min() > (25.0 if lay == "T6" else 30.0)
+    # the same input gives the same mesh
+    m2 = mesh(p, size=2.0, order=2, fast=True, **kw)
+    assert np.array_equal(m.nodes, m2.nodes)
+    assert all(np.array_equal(m.cells[k], m2.cells[k]) for k in m.cells)
+    assert all(np.array_equal(m.edge_sets[k], m2.edge_sets[k]) for k in m.edge_sets)
+
+
+def test_fast_mesh_with_size_function_and_msh_round_trip(tmp_path, monkeypatch):
+    from planar.geometry import meshing
+
+    monkeypatch.setitem(meshing.PIECE_ELEMENTS, "triangles", 1000)
+    p = hole_plate().with_region(Circle((100.0, 40.0), 18.0), name="boss").add_point("lp", (150.0, 60.0))
+    path = tmp_path / "fast.msh"
+    m = mesh(p, size_function=lambda x, y: 0.8 + 0.04 * np.hypot(x - 100.0, y - 40.0), order=2, fast=True,
+             save_msh=path)
+    r = Mesh.read(path)
+    assert r.names() == m.names()
+    # the file holds every node and quadratic cell as made (coordinates to 16 digits)
+    assert r.n_nodes == m.n_nodes and np.abs(r.nodes - m.nodes).max() < 1e-13 * 200
+
+    def rows(a):
+        return a[np.lexsort(a.T[::-1])]
+
+    def cells_of(mesh_, ids):
+        return rows(mesh_.cells["T6"][ids])
+
+    for nm in ("boss", "plate"):
+        assert np.array_equal(cells_of(r, r.region_cells(nm)["T6"]), cells_of(m, m.region_cells(nm)["T6"]))
+    for nm in m.edge_sets:
+        assert np.array_equal(rows(r.edge_sets[nm]), rows(m.edge_sets[nm]))
+
+
+def test_fast_must_be_a_bool_or_none():
+    with pytest.raises(InputError, match="fast"):
+        mesh(hole_plate(), size=10.0, fast="yes")
+
+
 def test_refinement_makes_elements_near_hole_smaller():
     coarse = mesh(hole_plate(), size=6.0)
     fine = mesh(hole_plate(), size=6.0, refine=[Refine("bolt_hole", size=0.5, growth=1.2)])
@@ -523,6 +723,20 @@ def test_no_unnamed_curves_in_combined_geometry():
 
 
 # ------------------------------------------------------------------------------------------ speed
+@pytest.mark.slow
+def test_a_million_unknowns_of_t6_in_a_few_seconds():
+    # 400 x 160 plate with a hole at size 0.76: about 255 000 T6 and 10^6 unknowns; measured 1.8-2.1 s
+    # (the fast way, one core); before: 10 s (gmsh's setOrder(2) and one smoothed surface)
+    p = Plate.rectangle(400.0, 160.0).cut(Circle((200.0, 80.0), 20.0, name="hole"))
+    t0 = time.perf_counter()
+    m = mesh(p, size=0.76, order=2)
+    dt = time.perf_counter() - t0
+    print(f"\n{m.cells['T6'].shape[0]} T6, {m.n_dofs} unknowns in {dt:.2f} s")
+    assert m.n_dofs > 1_000_000
+    assert min_angles(m, "T6").min() > 25.0
+    assert dt < 8.0  # generous: the machine may be busy
+
+
 @pytest.mark.slow
 def test_100k_quadratic_elements_in_a_few_seconds():
     t0 = time.perf_counter()

@@ -9,12 +9,14 @@ map (which piece of the plate came from which region shape); named points are em
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Callable
 
 import numpy as np
 
 from ..core.errors import GeometryError, InputError
 from ._curves import _Line, _segment_distance
 from ._session import _Session, _stage
+from ._split import cut_lines
 from .plate import REL_TOL, Plate
 
 #: fractions of a curve's parameter range where it is sampled for naming
@@ -31,6 +33,7 @@ class _Built:
     scale: float
     bbox: tuple[float, float, float, float]
     region_order: list[str] = field(default_factory=list)
+    cuts: int = 0  # straight cuts that split the plate into pieces for faster meshing
 
 
 def build_geometry(plate: Plate, verbose: bool = False) -> _Built:
@@ -43,7 +46,14 @@ def _mass(occ, dimtags) -> float:
     return float(sum(occ.getMass(d, t) for d, t in dimtags if d == 2))
 
 
-def _build(plate: Plate, session: _Session) -> _Built:
+def _build(plate: Plate, session: _Session,
+           pieces: Callable[[float, tuple[float, float, float, float]], tuple[int, float]] | None = None) -> _Built:
+    """Build the plate in ``session``'s model.
+
+    ``pieces(area, bbox) -> (n, h)``, if given, asks for the plate to be cut into about n pieces
+    for elements of size h (see :mod:`planar.geometry._split`); the cuts join the plate like region
+    outlines, so every name is kept.
+    """
     g = session.gmsh
     occ = g.model.occ
     scale = plate._scale()
@@ -102,13 +112,17 @@ def _build(plate: Plate, session: _Session) -> _Built:
                     occ.remove(inter, recursive=True)
                 raise GeometryError(f"region {name!r} does not overlap the (cut) plate; move its shape onto the plate")
             regions_in.append((name, inter))
+    cut_in: list[tuple[int, int]] = []
+    if pieces is not None:
+        with _stage("cut the plate into pieces for meshing", session):
+            cut_in = _cuts(g, S, regions_in, plate, pieces)
     point_in: list[tuple[str, tuple[int, int]]] = []
     for name, (px, py) in plate._points:
         point_in.append((name, (0, occ.addPoint(px, py, 0.0))))
     region_of: dict[int, str] = {}
     point_tag: dict[str, int] = {}
-    if regions_in or point_in:
-        tools = [dt for _, dts in regions_in for dt in dts] + [dt for _, dt in point_in]
+    if regions_in or point_in or cut_in:
+        tools = [dt for _, dts in regions_in for dt in dts] + [dt for _, dt in point_in] + cut_in
         with _stage("join the regions and points to the plate", session):
             _, omap = occ.fragment(S, tools)
         k = len(S)
@@ -129,8 +143,16 @@ def _build(plate: Plate, session: _Session) -> _Built:
             occ.remove([(2, t) for t in stray], recursive=True)
             for t in stray:
                 region_of.pop(t)
+        cut_pieces = sorted({t for i in range(k, len(omap)) for d, t in omap[i] if d == 1})
     with _stage("synchronize the model", session):
         occ.synchronize()
+    if cut_in:
+        # the parts of the cuts outside the plate or in its holes bound no surface: remove them
+        with _stage("cut the plate into pieces for meshing", session):
+            loose = [(1, c) for c in cut_pieces if not len(g.model.getAdjacencies(1, c)[0])]
+            if loose:
+                occ.remove(loose, recursive=True)
+                occ.synchronize()
     surfaces = sorted(t for _, t in g.model.getEntities(2))
     if not surfaces:
         raise GeometryError("nothing of the plate is left after the cut-outs")
@@ -161,7 +183,31 @@ def _build(plate: Plate, session: _Session) -> _Built:
         regions.setdefault(nm, []).append(s)
     area = _mass(occ, [(2, s) for s in surfaces])
     return _Built(edges, point_tag, regions, surfaces, area, scale, (x0, y0, x1, y1),
-                  [n for n in order if n in regions])
+                  [n for n in order if n in regions], len(cut_in))
+
+
+def _cuts(g, S: list, regions_in: list, plate: Plate, pieces) -> list[tuple[int, int]]:
+    """Add the straight cuts that split the plate into pieces; return them as (1, tag)."""
+    occ = g.model.occ
+    area = _mass(occ, S)
+    boxes = np.array([occ.getBoundingBox(d, t) for d, t in S])
+    bbox = (float(boxes[:, 0].min()), float(boxes[:, 1].min()), float(boxes[:, 3].max()), float(boxes[:, 4].max()))
+    n, h = pieces(area, bbox)
+    if n <= 1:
+        return []
+    occ.synchronize()
+    shapes = list(S) + [dt for _, dts in regions_in for dt in dts]
+    curves = sorted({abs(t) for d, t in g.model.getBoundary(shapes, combined=False, oriented=False) if d == 1})
+    corners = sorted({abs(t) for d, t in g.model.getBoundary(shapes, combined=False, oriented=False,
+                                                            recursive=True) if d == 0})
+    pts = [np.asarray(g.model.getValue(0, t, []), float)[:2] for t in corners]
+    pts += [np.asarray(p, float) for _, p in plate._points]
+    lines = cut_lines(g, curves, np.array(pts).reshape(-1, 2), n, h, bbox)
+    out = []
+    for xa, ya, xb, yb in lines:
+        a, b = occ.addPoint(xa, ya, 0.0), occ.addPoint(xb, yb, 0.0)
+        out.append((1, occ.addLine(a, b)))
+    return out
 
 
 def _name_curves(g, curves: list[int], pieces: list, tol: float) -> dict[str, list[int]]:
