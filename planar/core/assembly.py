@@ -18,7 +18,7 @@ from .mesh import Mesh, _NODES_PER_LAYOUT
 from .quadrature import Rule, rule_for
 from .registry import check_plugin_array, element_type, plugin_call
 
-__all__ = ["Block", "Assembly", "prepare", "strain_matrix", "jacobian"]
+__all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det"]
 
 #: default chunk of elements per batched evaluation
 CHUNK = 4096
@@ -41,16 +41,57 @@ def jacobian(etype, coords: np.ndarray, points: np.ndarray):
     with plugin_call("element", etype, "shape_derivatives"):
         dN = etype.shape_derivatives(points)  # (q, k, 2)
     dN = check_plugin_array("element", etype, "shape_derivatives", dN, (points.shape[0], etype.n_nodes, 2))
-    J = np.einsum("eki,qkj->eqij", coords, dN)
-    det = J[..., 0, 0] * J[..., 1, 1] - J[..., 0, 1] * J[..., 1, 0]
+    det, (a, b, c, d) = _jac(coords, dN)
+    # dN/dx = (J11 dN/dxi - J10 dN/deta) / det, dN/dy = (-J01 dN/dxi + J00 dN/deta) / det
     with np.errstate(divide="ignore", invalid="ignore"):
-        inv = np.empty_like(J)
-        inv[..., 0, 0] = J[..., 1, 1] / det
-        inv[..., 1, 1] = J[..., 0, 0] / det
-        inv[..., 0, 1] = -J[..., 0, 1] / det
-        inv[..., 1, 0] = -J[..., 1, 0] / det
-    dNdx = np.einsum("qkj,eqji->eqki", dN, inv)
+        inv_det = 1.0 / det
+    dxi, deta = dN[None, :, :, 0], dN[None, :, :, 1]
+    dNdx = np.empty((coords.shape[0], points.shape[0], dN.shape[1], 2))
+    dNdx[..., 0] = (d * inv_det)[..., None] * dxi - (c * inv_det)[..., None] * deta
+    dNdx[..., 1] = (a * inv_det)[..., None] * deta - (b * inv_det)[..., None] * dxi
     return det, dNdx
+
+
+def _jac(coords: np.ndarray, dN: np.ndarray):
+    """det J (e, q) and the entries (dx/dxi, dx/deta, dy/dxi, dy/deta), each (e, q), by GEMMs."""
+    x = np.ascontiguousarray(coords[..., 0])
+    y = np.ascontiguousarray(coords[..., 1])
+    a = x @ dN[:, :, 0].T  # dx/dxi
+    b = x @ dN[:, :, 1].T  # dx/deta
+    c = y @ dN[:, :, 0].T  # dy/dxi
+    d = y @ dN[:, :, 1].T  # dy/deta
+    return a * d - b * c, (a, b, c, d)
+
+
+def jacobian_det(etype, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
+    """det J (e, q) of a batch of elements at reference points (no derivatives)."""
+    with plugin_call("element", etype, "shape_derivatives"):
+        dN = etype.shape_derivatives(points)
+    dN = check_plugin_array("element", etype, "shape_derivatives", dN, (points.shape[0], etype.n_nodes, 2))
+    return _jac(coords, dN)[0]
+
+
+def strains(dNdx: np.ndarray, u_element: np.ndarray) -> np.ndarray:
+    """Strains (eps_xx, eps_yy, gamma_xy) at the points from element displacements, without B.
+
+    Parameters
+    ----------
+    dNdx : ndarray, shape (e, q, k, 2)
+    u_element : ndarray, shape (e, 2k)
+        (u_1, v_1, u_2, v_2, ...) per element.
+
+    Returns
+    -------
+    ndarray, shape (e, q, 3)
+    """
+    ux = u_element[:, None, 0::2]  # (e, 1, k)
+    uy = u_element[:, None, 1::2]
+    nx, ny = dNdx[..., 0], dNdx[..., 1]
+    out = np.empty(dNdx.shape[:2] + (3,))
+    out[..., 0] = np.sum(nx * ux, axis=-1)
+    out[..., 1] = np.sum(ny * uy, axis=-1)
+    out[..., 2] = np.sum(ny * ux, axis=-1) + np.sum(nx * uy, axis=-1)
+    return out
 
 
 def strain_matrix(dNdx: np.ndarray) -> np.ndarray:
@@ -105,6 +146,13 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
         cells that overlap (a folded or tangled mesh, or a cell given twice).
     """
     elements = elements or {}
+    try:
+        ok = 0.0 <= float(distortion_limit) < 1.0
+    except (TypeError, ValueError):
+        ok = False
+    if not ok or isinstance(distortion_limit, bool):
+        raise InputError(f"distortion_limit must be a number from 0 (accept any shape) to below 1, got "
+                         f"{distortion_limit!r}; the default is 1e-3")
     cells = {}
     for layout, conn in mesh.cells.items():
         etype = element_type(elements.get(layout, layout))
@@ -117,7 +165,7 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
         det = np.empty((conn.shape[0], pts.shape[0]))
         for s in range(0, conn.shape[0], CHUNK):
             c = mesh.nodes[conn[s : s + CHUNK]]
-            det[s : s + CHUNK], _ = jacobian(etype, c, pts)
+            det[s : s + CHUNK] = jacobian_det(etype, c, pts)
         scale = np.max(np.abs(det), axis=1)
         size = mesh.size()
         tiny = scale <= (1e-14 * size) ** 2
@@ -181,21 +229,29 @@ def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], elements: dict[str
     for (layout, ne), kk in zip(where, keys):
         hit = np.flatnonzero((kk >> 1) == und) // ne
         owners += [f"{layout} cell {int(c)}" for c in hit]
-    what = ("the same cell is given twice" if len(owners) >= 2 and _same_corners(cells, owners)
-            else "the mesh folds over itself or cells are tangled")
+    twins = _twins(cells, owners)
+    if twins:
+        raise ElementError(
+            f"cells overlap: {twins[0]} and {twins[1]} use the same nodes (a cell given twice, near "
+            f"{fmt_point(mesh.nodes[[a, b]].mean(axis=0))}); remove the duplicate cells"
+        )
     raise ElementError(
-        f"cells overlap ({what}): {', '.join(owners[:4])} lie on the same side of their shared edge "
-        f"from node {a} {fmt_point(mesh.nodes[a])} to node {b} {fmt_point(mesh.nodes[b])}; remove the "
-        "duplicate cells or remesh (an element turned inside out by a misplaced node does this too)"
+        f"cells overlap (the mesh folds over itself or cells are tangled): {', '.join(owners[:4])} lie on "
+        f"the same side of their shared edge from node {a} {fmt_point(mesh.nodes[a])} to node {b} "
+        f"{fmt_point(mesh.nodes[b])}; remesh (an element turned inside out by a misplaced node does this too)"
     )
 
 
-def _same_corners(cells, owners) -> bool:
-    sets = []
-    for o in owners[:2]:
+def _twins(cells, owners) -> tuple[str, str] | None:
+    """Two of the named cells with the same set of nodes, if any."""
+    seen = {}
+    for o in owners:
         layout, _, c = o.split(" ")
-        sets.append(frozenset(cells[layout][int(c)].tolist()))
-    return sets[0] == sets[1]
+        key = frozenset(cells[layout][int(c)].tolist())
+        if key in seen:
+            return seen[key], o
+        seen[key] = o
+    return None
 
 
 @dataclass
@@ -253,7 +309,7 @@ class Block:
             dv = np.empty((self.n, rule.n_points))
             for s in range(0, self.n, CHUNK):
                 c = nodes[self.conn[s : s + CHUNK]]
-                det, _ = jacobian(self.etype, c, rule.points)
+                det = jacobian_det(self.etype, c, rule.points)
                 xg[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, c)
                 dv[s : s + CHUNK] = det * rule.weights[None, :] * self.thickness
             self._geo[key] = (xg, dv, N)
@@ -441,13 +497,21 @@ class Assembly:
 
     @staticmethod
     def _ke(et, coords, D, t, rule):
+        """B^T D B integrated, without forming B: from the products S_ij = sum_q w N,i N,j^T."""
         det, dNdx = jacobian(et, coords, rule.points)
-        B = strain_matrix(dNdx)  # (c, q, 3, 2k)
         w = det * rule.weights[None, :] * t  # (c, q)
-        DB = np.einsum("ab,cqbj->cqaj", D, B)
-        c, q, _, m = B.shape
-        Bw = (B * w[:, :, None, None]).reshape(c, q * 3, m)
-        return np.matmul(Bw.transpose(0, 2, 1), DB.reshape(c, q * 3, m))
+        nx, ny = dNdx[..., 0], dNdx[..., 1]  # (c, q, k)
+        wx = (nx * w[..., None]).transpose(0, 2, 1)  # (c, k, q)
+        wy = (ny * w[..., None]).transpose(0, 2, 1)
+        sxx, syy, sxy = wx @ nx, wy @ ny, wx @ ny  # (c, k, k); syx = sxy^T
+        syx = sxy.transpose(0, 2, 1)
+        c, k = sxx.shape[0], sxx.shape[1]
+        ke = np.empty((c, k, 2, k, 2))
+        ke[:, :, 0, :, 0] = D[0, 0] * sxx + D[0, 2] * (sxy + syx) + D[2, 2] * syy
+        ke[:, :, 0, :, 1] = D[0, 1] * sxy + D[0, 2] * sxx + D[1, 2] * syy + D[2, 2] * syx
+        ke[:, :, 1, :, 0] = ke[:, :, 0, :, 1].transpose(0, 2, 1)
+        ke[:, :, 1, :, 1] = D[1, 1] * syy + D[1, 2] * (sxy + syx) + D[2, 2] * sxx
+        return ke.reshape(c, 2 * k, 2 * k)
 
     def stiffness(self, timer=None) -> sp.csr_matrix:
         """Global stiffness matrix K (2n x 2n), CSR."""
@@ -553,10 +617,8 @@ class Assembly:
                     e0 = load.initial_strain(self.context, _BlockView(b, self.mesh.nodes))
                 if e0 is None:
                     continue
-                e0 = np.asarray(e0, dtype=float)
                 xg, _, _ = b.geometry(self.mesh.nodes)
-                if e0.shape != xg.shape[:2] + (4,):
-                    raise InputError(f"load {load.describe()} gave an initial strain of shape {e0.shape}, expected {xg.shape[:2] + (4,)}")
+                e0 = check_plugin_array("load", load, "initial_strain", e0, xg.shape[:2] + (4,))
                 out[i] = e0 if out[i] is None else out[i] + e0
         return out
 

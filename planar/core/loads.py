@@ -481,6 +481,9 @@ class TemperatureChange(LoadKind):
             self.dT = dT
         else:
             self.dT = _check_value("temperature change dT", dT)
+            if self.dT is None:
+                raise InputError("a temperature change needs a value dT (a number, a function f(x, y) or one "
+                                 "value per node)")
         self.region = region
 
     def __repr__(self):

@@ -383,7 +383,13 @@ class Mesh:
                 f"cannot read mesh file {path!r} ({cause}); it may be damaged or of another format: "
                 "give a complete gmsh .msh (version 2 or 4) or a VTK .vtu file"
             ) from None
-        mesh = cls.from_meshio(m)
+        try:
+            mesh = cls.from_meshio(m)
+        except MeshError as exc:
+            raise MeshError(f"mesh file {path!r}: {exc}") from None
+        except (IndexError, KeyError, TypeError, ValueError) as exc:  # sets that point outside the blocks
+            raise MeshError(f"mesh file {path!r} is inconsistent ({type(exc).__name__}: {exc}); write it "
+                            "again") from None
         if merge_duplicates:
             return mesh.merge_duplicate_nodes()
         if merge_duplicates is None:
@@ -457,7 +463,12 @@ class Mesh:
         return mesh
 
 
-_ENDINGS = {".msh": (b"$End", "a gmsh section end ($End...)"), ".vtu": (b"</VTKFile>", "</VTKFile>")}
+#: the sections a gmsh .msh file (version 2 or 4) can end with
+_GMSH_SECTIONS = (b"MeshFormat", b"PhysicalNames", b"Entities", b"PartitionedEntities", b"Nodes", b"Elements",
+                  b"Periodic", b"GhostElements", b"Parametrizations", b"NodeData", b"ElementData",
+                  b"ElementNodeData", b"InterpolationScheme")
+_ENDINGS = {".msh": (b"$End", "the end of a gmsh section ($EndElements, ...)"),
+            ".vtu": (b"</VTKFile>", "</VTKFile>")}
 
 
 def _check_complete(path: str) -> None:
@@ -473,7 +484,11 @@ def _check_complete(path: str) -> None:
         fh.seek(max(0, size - 512))
         tail = fh.read().rstrip()
     last = tail.rsplit(b"\n", 1)[-1].strip()
-    if not (last.startswith(mark) if mark == b"$End" else last.endswith(mark)):
+    if mark == b"$End":
+        complete = last.startswith(mark) and last[len(mark):] in _GMSH_SECTIONS
+    else:
+        complete = last.endswith(mark)
+    if not complete:
         raise MeshError(
             f"mesh file {path!r} looks truncated: it does not end with {words} as a complete {ext} file "
             "does (was it still being written or copied?); write or copy it again"

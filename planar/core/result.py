@@ -12,7 +12,7 @@ from typing import Any, Callable
 
 import numpy as np
 
-from .assembly import CHUNK, jacobian, strain_matrix
+from .assembly import CHUNK, jacobian, strains
 from .errors import InputError
 from .materials import sigma_zz
 from .registry import check_plugin_array, plugin_call
@@ -187,7 +187,7 @@ class Result:
                                                                (coords.shape[0], rule.n_points, 3))
                 else:
                     _, dNdx = jacobian(b.etype, coords, rule.points)
-                    strain[s : s + CHUNK] = np.einsum("eqaj,ej->eqa", strain_matrix(dNdx), ue)
+                    strain[s : s + CHUNK] = strains(dNdx, ue)
             if e0 is not None:
                 if e0.shape[1] != rule.n_points:
                     raise InputError("initial strains were given on another rule than the stress rule")
@@ -368,14 +368,27 @@ class Result:
     def equilibrium_error(self) -> float:
         """|sum of reactions + sum of applied forces| relative to the largest of their magnitudes.
 
-        Includes the moment about the origin, scaled by the model size.
+        Includes the moment about the centre of the nodes, scaled by the model size.
+
+        Notes
+        -----
+        The scale is the largest of the total load, the total reaction, half the sum of the reaction
+        magnitudes, and 1e-4 of the force level that the prescribed displacements stand for (largest
+        D times thickness times the largest prescribed value). The last term only matters for a model
+        moved as a rigid body by prescribed displacements with little or no load, whose reactions are
+        then round-off of K times that motion (some 100 machine epsilons of it).
         """
-        x = self.mesh.nodes
+        from .supports import gather
+
+        x = self.mesh.nodes - self.mesh.nodes.mean(axis=0)
         L = max(self.mesh.size(), 1e-300)
         def totals(f):
             return np.array([f[:, 0].sum(), f[:, 1].sum(), np.sum(x[:, 0] * f[:, 1] - x[:, 1] * f[:, 0]) / L])
         r, a = totals(self.reactions), totals(self.applied)
-        scale = max(np.abs(r).max(), np.abs(a).max(), np.abs(self.reactions).sum() / 2, 1e-300)
+        stiff = max((float(np.abs(b.D).max()) * b.thickness for b in self.assembly.blocks), default=0.0)
+        moved = float(np.abs(gather(self.mesh, self.model.supports).value).max(initial=0.0))
+        scale = max(np.abs(r).max(), np.abs(a).max(), np.abs(self.reactions).sum() / 2, 1e-4 * stiff * moved,
+                    1e-300)
         return float(np.abs(r + a).max() / scale)
 
     def summary(self) -> dict[str, Any]:

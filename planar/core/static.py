@@ -52,7 +52,9 @@ def constrain(mesh, supports) -> Constrained:
     rows = gather(mesh, supports)
     n = mesh.n_nodes
     node, d, v, lab = rows.node, rows.direction, rows.value, rows.label
-    ax = (np.abs(d[:, 0]) > 1 - 1e-12) | (np.abs(d[:, 1]) > 1 - 1e-12)
+    # along x or y to round-off (1e-12 rad); a direction tilted by more goes the inclined way, since
+    # |d_k| > 1 - 1e-12 would take tilts up to 1.4e-6 rad for the axis and shift the answer by that much
+    ax = np.minimum(np.abs(d[:, 0]), np.abs(d[:, 1])) < 1e-12
     dofs, vals = [], []
     # axis-aligned rows: unknown 2 node + component; sign of direction folds into the value
     comp = np.where(np.abs(d[:, 0]) > 0.5, 0, 1)

@@ -193,8 +193,8 @@ def _edge_normal(mesh, name: str, what: str) -> np.ndarray:
             "use Roller with a fixed direction or split the edge"
         )
     n = np.array([tangent[1], -tangent[0]])
-    for k in range(2):  # snap to an axis when aligned, sign made positive
-        if abs(abs(n[k]) - 1.0) < 1e-10:
+    for k in range(2):  # snap to an axis when aligned to round-off (1e-12 rad), sign made positive
+        if abs(n[1 - k]) < 1e-12:
             n = np.eye(2)[k]
     if n[np.argmax(np.abs(n))] < 0:
         n = -n

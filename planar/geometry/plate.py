@@ -376,7 +376,10 @@ class Plate:
             tr = np.array([r, qc])  # tangent point of the right flank, local (s along t, q inward)
             ext = np.array([r, -0.5 * depth - r])
         else:
-            ang = float(angle)
+            try:
+                ang = float(angle)
+            except (TypeError, ValueError):
+                raise InputError(f"a V notch's included angle must be a number of degrees, got {angle!r}") from None
             if not (0.0 < ang < 180.0):
                 raise InputError(f"a V notch's included angle must lie between 0 and 180 degrees, got {angle!r}")
             a = math.radians(ang) / 2

@@ -179,7 +179,7 @@ class Circle(Shape):
     name: str | None = field(default=None, kw_only=True)
 
     def __post_init__(self):
-        object.__setattr__(self, "centre", tuple(_as_point(self.centre, "circle centre")))
+        object.__setattr__(self, "centre", tuple(map(float, _as_point(self.centre, "circle centre"))))
         object.__setattr__(self, "radius", _positive(self.radius, "circle radius"))
         object.__setattr__(self, "name", _check_name(self.name))
 
@@ -233,7 +233,7 @@ class Ellipse(Shape):
     name: str | None = field(default=None, kw_only=True)
 
     def __post_init__(self):
-        object.__setattr__(self, "centre", tuple(_as_point(self.centre, "ellipse centre")))
+        object.__setattr__(self, "centre", tuple(map(float, _as_point(self.centre, "ellipse centre"))))
         object.__setattr__(self, "a", _positive(self.a, "ellipse semi-axis a"))
         object.__setattr__(self, "b", _positive(self.b, "ellipse semi-axis b"))
         object.__setattr__(self, "angle", _finite(self.angle, "ellipse angle"))
@@ -314,7 +314,7 @@ class Slot(Shape):
     name: str | None = field(default=None, kw_only=True)
 
     def __post_init__(self):
-        object.__setattr__(self, "centre", tuple(_as_point(self.centre, "slot centre")))
+        object.__setattr__(self, "centre", tuple(map(float, _as_point(self.centre, "slot centre"))))
         object.__setattr__(self, "length", _positive(self.length, "slot length"))
         object.__setattr__(self, "width", _positive(self.width, "slot width"))
         object.__setattr__(self, "angle", _finite(self.angle, "slot angle"))
@@ -391,7 +391,7 @@ class RoundedRectangle(Shape):
     name: str | None = field(default=None, kw_only=True)
 
     def __post_init__(self):
-        object.__setattr__(self, "centre", tuple(_as_point(self.centre, "rounded rectangle centre")))
+        object.__setattr__(self, "centre", tuple(map(float, _as_point(self.centre, "rounded rectangle centre"))))
         object.__setattr__(self, "width", _positive(self.width, "rounded rectangle width"))
         object.__setattr__(self, "height", _positive(self.height, "rounded rectangle height"))
         object.__setattr__(self, "radius", _positive(self.radius, "corner radius"))

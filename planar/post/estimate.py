@@ -18,7 +18,7 @@ from typing import Callable
 
 import numpy as np
 
-from ..core.assembly import CHUNK, jacobian, strain_matrix
+from ..core.assembly import CHUNK, jacobian, strains
 from ..core.errors import InputError
 from .norms import energy_norm_error, stress_error_rule
 from .recovery import METHODS, _has_initial_strain, recover
@@ -110,7 +110,7 @@ def _stress_at(result, block, rule):
         if own is not None:
             eps = own(coords, block.D, ue, rule)
         else:
-            eps = np.einsum("eqaj,ej->eqa", strain_matrix(dNdx), ue)
+            eps = strains(dNdx, ue)
         stress[s : s + CHUNK] = np.einsum("ab,eqb->eqa", block.D, eps)
         dvol[s : s + CHUNK] = det * rule.weights[None, :] * block.thickness
     return stress, dvol, N

@@ -69,7 +69,7 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from ..core.assembly import CHUNK, jacobian, strain_matrix
+from ..core.assembly import CHUNK, jacobian, strains
 from ..core.errors import InputError
 from ..core.materials import sigma_zz
 from ..core.quadrature import Rule, rule_for
@@ -169,7 +169,7 @@ def stress_samples(result) -> list[Samples]:
                 strain[s : s + CHUNK] = own(coords, b.D, ue, rule)
             else:
                 _, dNdx = jacobian(b.etype, coords, rule.points)
-                strain[s : s + CHUNK] = np.einsum("eqaj,ej->eqa", strain_matrix(dNdx), ue)
+                strain[s : s + CHUNK] = strains(dNdx, ue)
         stress = np.einsum("ab,eqb->eqa", b.D, strain)
         if hasattr(b.material, "compliance3d"):
             szz = sigma_zz(b.material, analysis, stress)
@@ -191,7 +191,10 @@ def _n_terms(degree: int) -> int:
 def _basis(X: np.ndarray, degree: int) -> np.ndarray:
     """Complete polynomial basis of ``degree`` at points X (..., 2) -> (..., n_terms)."""
     x, y = X[..., 0], X[..., 1]
-    return np.stack([x**i * y**j for i, j in _exponents(degree)], axis=-1)
+    out = np.empty(X.shape[:-1] + (_n_terms(degree),))
+    for k, (i, j) in enumerate(_exponents(degree)):  # a handful of terms, each a whole-array product
+        out[..., k] = x**i * y**j if (i or j) else 1.0
+    return out
 
 
 def _fit(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int,
@@ -214,16 +217,18 @@ def _fit(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, d
     if m < nt:
         return np.zeros((n_p, nt, c)), np.ones(n_p), np.zeros(n_p, dtype=bool)
     X = xs[idx] - centres[:, None, :]
-    scale = np.sqrt(np.max(np.einsum("pmi,pmi->pm", X, X), axis=1))
+    r2 = X[..., 0] * X[..., 0] + X[..., 1] * X[..., 1]  # (n_p, m)
+    scale = np.sqrt(np.max(r2, axis=1))
     scale = np.where(scale > 0, scale, 1.0)
     P = _basis(X / scale[:, None, None], degree)  # (n_p, m, nt)
     if weighted:
-        d = np.sqrt(np.einsum("pmi,pmi->pm", X, X)) / scale[:, None]
+        d = np.sqrt(r2) / scale[:, None]
         Pw = P / (d + 0.25)[..., None] ** 2
     else:
         Pw = P
-    A = np.einsum("pmi,pmj->pij", Pw, P)
-    rhs = np.einsum("pmi,pmc->pic", Pw, vs[idx])
+    PwT = Pw.transpose(0, 2, 1)
+    A = PwT @ P  # batched normal equations (n_p, nt, nt)
+    rhs = PwT @ vs[idx]
     ev = np.linalg.eigvalsh(A)
     ok = ev[:, 0] > _CONDITION * np.maximum(ev[:, -1], 1e-300)
     A[~ok] = np.eye(nt)

@@ -1,0 +1,280 @@
+"""Robustness, tried systematically: the fast subset that runs by default.
+
+Random valid models (structured meshes of every element type, and a few gmsh plates with holes) must
+be in equilibrium, have finite fields and give the rotated or mirrored answer for a rotated or
+mirrored model; random invalid input must end in a planar error that names the problem. The same
+properties run with many more cases in ``test_robustness_slow.py`` (``pytest -m slow``); the
+strategies and checks live in ``_robustness_common.py``.
+
+Physics checks and their sources (also written beside each check in the common module):
+
+- statics: the reactions balance the applied loads, forces and moment, to 1e-9 relative (common
+  practice; the linear solve is exact up to round-off);
+- rotation invariance of isotropic elasticity (and of an orthotropic one turned with the model):
+  rotated model, rotated displacements and reactions, the same von Mises (common practice);
+- mirror symmetry: x -> -x with the cells' node order reversed, mirrored answer (common practice).
+"""
+from __future__ import annotations
+
+import math
+import sys
+import textwrap
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import planar
+from _robustness_common import (BAD_SIZE_BUILDERS, BAD_SIZE_VALUES, COUNTS, ELEMENT_HOOKS, ELEMENTS,
+                                EMPTY_MESHES, FAILURES, FAST, FREE_SETS, LOAD_HOOKS, LOAD_SLOTS, NAME_USES,
+                                bad_finite, bad_materials, check_bad_constant_load, check_bad_function_load,
+                                check_bad_material, check_bad_size, check_crossing_hole, check_damaged_file,
+                                check_failing_plugin, check_free_supports, check_mesh_file,
+                                check_overlapping_holes, check_two_pieces, check_unknown_name, check_valid,
+                                crossing_holes, expect_planar_error, gmsh_specs, mesh_file_variants,
+                                overlapping_holes, random_names, report_counts, structured_specs)
+from planar.core.errors import MeshError, NameNotFoundError, PluginError
+
+pytestmark = pytest.mark.filterwarnings("ignore::planar.core.errors.PlanarWarning")
+
+FUNCTION_FAILURES = ["nan", "inf", "-inf", "raises", "wrong shape", "text", "complex"]
+DAMAGED = ["meshio.vtu", "meshio2.msh", "gmsh41.msh", "result.vtu"]
+CATEGORIES = []
+
+
+@pytest.fixture(scope="module")
+def tmp_dir(tmp_path_factory):
+    return tmp_path_factory.mktemp("robustness")
+
+
+# ============================================================================ valid models
+@settings(FAST, max_examples=60)
+@given(structured_specs())
+def test_valid_structured_models(spec):
+    """Rectangles, skewed panels and ring sectors, T3 to Q9, any supports that hold the three rigid
+    motions, traction / pressure / point / body loads (constants and functions of x, y)."""
+    check_valid(spec, category="valid: structured mesh")
+
+
+@settings(FAST, max_examples=12)
+@given(gmsh_specs())
+def test_valid_gmsh_plates(spec):
+    """Rectangular plates with up to two holes (circle, ellipse, slot) meshed by gmsh, coarse."""
+    check_valid(spec, category="valid: gmsh plate")
+
+
+# ============================================================================ invalid geometry and sizes
+@settings(FAST, max_examples=30)
+@given(crossing_holes())
+def test_holes_outside_or_crossing_the_outline(case):
+    check_crossing_hole(case)
+
+
+@settings(FAST, max_examples=30)
+@given(overlapping_holes())
+def test_overlapping_holes(case):
+    check_overlapping_holes(case)
+
+
+@settings(FAST, max_examples=40)
+@given(st.integers(0, len(BAD_SIZE_BUILDERS) - 1), st.sampled_from(BAD_SIZE_VALUES))
+def test_zero_negative_nan_sizes(which, value):
+    check_bad_size(which, value)
+
+
+@settings(FAST, max_examples=30)
+@given(bad_materials())
+def test_bad_materials(case):
+    """E <= 0, nu outside -1 < nu <= 0.5 (0.5 not in plane strain), unstable orthotropic constants."""
+    check_bad_material(case)
+
+
+# ============================================================================ names, supports, loads
+@settings(FAST, max_examples=60)
+@given(use=st.sampled_from(NAME_USES), name=random_names)
+def test_unknown_names_list_the_valid_ones(use, name, tmp_dir):
+    check_unknown_name(use, name, tmp_dir)
+
+
+@settings(FAST, max_examples=30)
+@given(st.sampled_from(sorted(FREE_SETS)), st.sampled_from(ELEMENTS), st.integers(1, 4), st.integers(1, 3))
+def test_supports_that_leave_it_free(which, el, nx, ny):
+    check_free_supports(which, el, nx, ny)
+
+
+@settings(FAST, max_examples=8)
+@given(st.sampled_from(ELEMENTS), st.integers(1, 3), st.integers(1, 3))
+def test_model_that_falls_apart_names_the_free_piece(el, nx, ny):
+    """Coincident but unjoined nodes split the plate: the free piece is named and merging is offered."""
+    check_two_pieces(el, nx, ny)
+
+
+@settings(FAST, max_examples=20)
+@given(st.sampled_from(LOAD_SLOTS), bad_finite)
+def test_nan_or_infinite_load_constants(slot, value):
+    check_bad_constant_load(slot, value)
+
+
+@settings(FAST, max_examples=40)
+@given(st.sampled_from(LOAD_SLOTS), st.sampled_from(FUNCTION_FAILURES), st.integers(1, 5), st.sampled_from(ELEMENTS))
+def test_load_functions_that_fail(slot, how, stride, el):
+    check_bad_function_load(slot, how, stride, el)
+
+
+# ============================================================================ mesh files
+@settings(FAST, max_examples=30)
+@given(how=st.sampled_from(mesh_file_variants()), el=st.sampled_from(ELEMENTS), nx=st.integers(2, 4),
+       ny=st.integers(2, 3), fmt=st.sampled_from(["vtu", "msh"]), seed=st.integers(0, 10**6))
+def test_mesh_files_with_bad_cells_or_duplicate_nodes(how, el, nx, ny, fmt, seed, tmp_dir):
+    check_mesh_file(how, el, nx, ny, fmt, seed, tmp_dir)
+
+
+@settings(FAST, max_examples=40)
+@given(name=st.sampled_from(DAMAGED), how=st.sampled_from(["cut", "bytes", "format"]), frac=st.floats(0.0, 1.0),
+       seed=st.integers(0, 10**6))
+def test_truncated_corrupted_or_wrong_format_files(name, how, frac, seed, tmp_dir):
+    check_damaged_file(name, how, frac, seed, tmp_dir)
+
+
+@pytest.mark.parametrize("what", sorted(EMPTY_MESHES))
+def test_empty_meshes(what):
+    expect_planar_error(EMPTY_MESHES[what], "no nodes", "no 2D cells", kind=MeshError, category="invalid: empty mesh")
+
+
+def test_empty_mesh_file(tmp_path):
+    (tmp_path / "empty.vtu").write_bytes(b"")
+    expect_planar_error(lambda: planar.Mesh.read(tmp_path / "empty.vtu"), "empty", kind=MeshError,
+                        category="invalid: empty mesh")
+    import meshio
+
+    meshio.write(tmp_path / "lines.vtu", meshio.Mesh(np.eye(3), [("line", np.array([[0, 1], [1, 2]]))]))
+    expect_planar_error(lambda: planar.Mesh.read(tmp_path / "lines.vtu"), "no triangles or quadrilaterals",
+                        kind=MeshError, category="invalid: empty mesh")
+
+
+# ============================================================================ plugins
+@pytest.mark.parametrize("how", FAILURES)
+@pytest.mark.parametrize("kind,hook", [("element", h) for h in ELEMENT_HOOKS] + [("load", h) for h in LOAD_HOOKS])
+def test_plugin_that_fails_is_named(kind, hook, how):
+    """An element type or load kind that raises, or returns NaN or the wrong shape, inside a solve."""
+    check_failing_plugin(kind, hook, how)
+
+
+def test_plugin_distribution_that_breaks(tmp_path, monkeypatch):
+    """Through real entry points: one plugin fails to import, another raises inside the solve. The
+    first is reported by its distribution when asked for; the second is named in the solve's error."""
+    from planar.core.registry import registry, reload_plugins
+
+    info = tmp_path / "planar_broken_demo-0.1.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-broken-demo\nVersion: 0.1\n")
+    (info / "entry_points.txt").write_text(textwrap.dedent("""\
+        [planar.elements]
+        Q4boom = broken_demo_plugin:DoesNotImport
+        [planar.loads]
+        raising-load = broken_demo_plugin_ok:RaisingLoad
+        """))
+    (tmp_path / "broken_demo_plugin.py").write_text("raise ZeroDivisionError('broken at import')\n")
+    (tmp_path / "broken_demo_plugin_ok.py").write_text(textwrap.dedent("""\
+        from planar.core.loads import LoadKind
+
+        class RaisingLoad(LoadKind):
+            kind = "raising-load"
+
+            def nodal_forces(self, ctx):
+                return {}["no such key"]
+        """))
+    monkeypatch.syspath_prepend(str(tmp_path))
+    try:
+        reg = reload_plugins()
+        assert any(p.distribution == "planar-broken-demo" and p.name == "Q4boom" for p in reg.problems)
+        mesh = planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4")
+        exc = expect_planar_error(lambda: planar.Model(mesh, planar.Isotropic(1.0, 0.3), elements={"Q4": "Q4boom"}),
+                                  "planar-broken-demo", kind=NameNotFoundError, category="invalid: plugin fails")
+        assert "ZeroDivisionError" in str(exc)
+        model = planar.Model(mesh, planar.Isotropic(1.0, 0.3))
+        model.add_support(planar.Fixed("left"))
+        model.add_load("raising-load")
+        exc = expect_planar_error(lambda: planar.solve(model), "planar-broken-demo", kind=PluginError,
+                                  category="invalid: plugin fails")
+        assert "raising-load" in str(exc) and "KeyError" in str(exc) and "nodal_forces" in str(exc)
+        assert planar.solve(_ok_model(mesh))["c"].equilibrium_error() < 1e-9  # the rest still works
+    finally:
+        monkeypatch.undo()
+        for mod in ("broken_demo_plugin", "broken_demo_plugin_ok"):
+            sys.modules.pop(mod, None)
+        reload_plugins()
+    assert "raising-load" not in registry().names("load")
+
+
+def _ok_model(mesh):
+    model = planar.Model(mesh, planar.Isotropic(1.0, 0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="c")
+    return model
+
+
+# ============================================================================ bugs outside our files
+# The gmsh property meets the tangled meshes at times too: the core refuses them (cells overlap),
+# the property checks each refusal independently (really_bad) and counts it as "skipped: gmsh made
+# tangled quads (refused by the core)".
+# not strict: planar/geometry/meshing.py is being rewritten by someone else as this is written
+KNOWN = pytest.mark.xfail(strict=False, reason="geometry-layer bug reported to the lead (outside this issue's files)")
+
+
+@KNOWN
+def test_known_geometry_bug_quads_with_a_slot():
+    """gmsh's full-quad recombination fails on a plate with a slot (meshing.py)."""
+    from planar.geometry import Plate, Slot
+    from planar.geometry import mesh as gmesh
+
+    gmesh(Plate.rectangle(20.0, 12.0).cut(Slot((10.0, 6.0), 7.2, 5.96)), 2.0, quads=True)
+
+
+@KNOWN
+def test_known_geometry_bug_tangled_cells_near_a_slender_slot():
+    """A quad mesh (with two triangles left) whose triangles overlap at the end of a slender slot
+    (meshing.py); the core refuses it (ElementError, cells overlap) instead of solving it wrongly."""
+    from planar.geometry import Plate, Slot
+    from planar.geometry import mesh as gmesh
+
+    plate = (Plate.rectangle(71.467, 36.332, corner=(-35.875, 0.0))
+             .cut(Slot((-18.008, 18.202), 16.412, 13.102, angle=2.584))
+             .cut(Slot((17.725, 20.320), 11.911, 3.711))
+             .add_point("load_point", (35.592, 18.166)))
+    assert planar.solve(_ok_model(gmesh(plate, 7.1467, order=2, quads=True, seed=1)))["c"].equilibrium_error() < 1e-9
+
+
+@KNOWN
+@pytest.mark.parametrize("call", ["nx=nan", "width=None", "seed=nan", "circle_elements=inf"])
+def test_known_geometry_bugs_raw_errors(call):
+    """Raw Python errors instead of a planar error (structured.py and meshing.py)."""
+    from planar.core.errors import PlanarError
+    from planar.geometry import Plate
+    from planar.geometry import mesh as gmesh
+
+    try:
+        if call == "nx=nan":
+            planar.rectangle_mesh(1.0, 1.0, float("nan"), 2)
+        elif call == "width=None":
+            planar.rectangle_mesh(None, 1.0, 2, 2)
+        elif call == "seed=nan":
+            gmesh(Plate.rectangle(10.0, 5.0), 5.0, seed=float("nan"))
+        else:
+            gmesh(Plate.rectangle(10.0, 5.0), 5.0, circle_elements=math.inf)
+    except PlanarError:
+        return
+    except Exception as exc:  # noqa: BLE001 - this is the bug
+        raise AssertionError(f"raw {type(exc).__name__}: {exc}") from None
+
+
+# ============================================================================ the counts
+def test_zz_report_case_counts(tmp_path_factory, capsys):
+    """How many generated cases this file ran (written to JSON under the pytest temporary folder)."""
+    cats = sorted(c for c in COUNTS if c.startswith(("valid", "invalid", "skipped")))
+    out = report_counts(tmp_path_factory.getbasetemp(), "robustness_counts_fast", cats)
+    with capsys.disabled():
+        print(f"\nrobustness (fast): {out['total']} cases run: "
+              + ", ".join(f"{c} {out[c]}" for c in cats) + f"; counts in {out['file']}")
+    assert out["total"] >= 400
