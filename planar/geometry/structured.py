@@ -50,9 +50,7 @@ def mapped_mesh(
     """
     if element not in _LAYOUTS:
         raise InputError(f"unknown element layout {element!r}; pick one of {', '.join(_LAYOUTS)}")
-    if int(nx) < 1 or int(ny) < 1:
-        raise InputError(f"need at least one cell in each direction, got nx={nx}, ny={ny}")
-    nx, ny = int(nx), int(ny)
+    nx, ny = _count("nx", nx), _count("ny", ny)
     quadratic = element in ("T6", "Q8", "Q9")
     r = 2 if quadratic else 1
     mx, my = r * nx + 1, r * ny + 1
@@ -126,6 +124,26 @@ def mapped_mesh(
     return Mesh(nodes, {element: cells}, edge_sets=edges, node_sets=points)
 
 
+def _count(name: str, n) -> int:
+    """A whole number of cells, at least 1."""
+    ok = isinstance(n, (int, np.integer)) and not isinstance(n, bool)
+    if not ok and isinstance(n, (float, np.floating)) and np.isfinite(n) and float(n).is_integer():
+        ok = True
+    if not ok or int(n) < 1:
+        raise InputError(f"{name} must be a whole number of cells, at least 1, got {n!r}")
+    return int(n)
+
+
+def _length(name: str, v) -> float:
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number, got {v!r}") from None
+    if not (np.isfinite(f) and f > 0):
+        raise InputError(f"{name} must be positive and finite, got {v!r}")
+    return f
+
+
 def quad_panel_mesh(corners, nx: int, ny: int, element: str = "Q4", **kw) -> Mesh:
     """Structured mesh of a straight-sided quadrilateral panel with corners given counter-clockwise.
 
@@ -135,7 +153,12 @@ def quad_panel_mesh(corners, nx: int, ny: int, element: str = "Q4", **kw) -> Mes
         Corners (p00, p10, p11, p01): the sides are p00-p10 ("bottom"), p10-p11 ("right"),
         p11-p01 ("top"), p01-p00 ("left").
     """
-    c = np.asarray(corners, dtype=float).reshape(4, 2)
+    try:
+        c = np.asarray(corners, dtype=float).reshape(4, 2)
+    except (TypeError, ValueError):
+        raise InputError(f"corners must be four points (x, y), got {corners!r}") from None
+    if not np.all(np.isfinite(c)):
+        raise InputError("the panel corners contain NaN or infinite values")
 
     def mapping(s, t):
         p = (
@@ -152,8 +175,7 @@ def quad_panel_mesh(corners, nx: int, ny: int, element: str = "Q4", **kw) -> Mes
 def rectangle_mesh(width: float, height: float, nx: int, ny: int, element: str = "Q4",
                    origin=(0.0, 0.0), **kw) -> Mesh:
     """Structured mesh of the rectangle [x0, x0 + width] x [y0, y0 + height]."""
-    if not (width > 0 and height > 0):
-        raise InputError(f"rectangle sides must be positive, got width={width}, height={height}")
+    width, height = _length("width", width), _length("height", height)
     x0, y0 = origin
     return quad_panel_mesh(
         [[x0, y0], [x0 + width, y0], [x0 + width, y0 + height], [x0, y0 + height]], nx, ny, element, **kw
