@@ -191,14 +191,32 @@ def _n_terms(degree: int) -> int:
 def _basis(X: np.ndarray, degree: int) -> np.ndarray:
     """Complete polynomial basis of ``degree`` at points X (..., 2) -> (..., n_terms)."""
     x, y = X[..., 0], X[..., 1]
+    xp, yp = [np.ones_like(x)], [np.ones_like(y)]
+    for _ in range(degree):  # powers by multiplication (pow is far slower)
+        xp.append(xp[-1] * x)
+        yp.append(yp[-1] * y)
     out = np.empty(X.shape[:-1] + (_n_terms(degree),))
     for k, (i, j) in enumerate(_exponents(degree)):  # a handful of terms, each a whole-array product
-        out[..., k] = x**i * y**j if (i or j) else 1.0
+        out[..., k] = xp[i] if j == 0 else (yp[j] if i == 0 else xp[i] * yp[j])
     return out
+
+
+_FIT_CHUNK = 4096  # patches per batch: small enough for the arrays to stay in cache
 
 
 def _fit(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int,
          weighted: bool = False):
+    """Least-squares fits of one group of patches (see :func:`_fit_batch`), in cache-sized batches."""
+    n_p = idx.shape[0]
+    if n_p <= _FIT_CHUNK:
+        return _fit_batch(xs, vs, centres, idx, degree, weighted)
+    parts = [_fit_batch(xs, vs, centres[a : a + _FIT_CHUNK], idx[a : a + _FIT_CHUNK], degree, weighted)
+             for a in range(0, n_p, _FIT_CHUNK)]
+    return tuple(np.concatenate([p[i] for p in parts]) for i in range(3))
+
+
+def _fit_batch(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int,
+               weighted: bool = False):
     """Least-squares fits of one group of patches with the same number of points.
 
     Parameters
@@ -396,9 +414,13 @@ def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
         keep = ok[pr] & ((node == iv[pr]) | ~(interior_vertex | own_patch)[node])
         pr, node = pr[keep], node[keep]
         X = (mesh.nodes[node] - mesh.nodes[iv[pr]]) / scale[pr, None]
-        val = np.einsum("ki,kic->kc", _basis(X, p), coef[pr])
-        np.add.at(acc, node, val)
-        np.add.at(cnt_n, node, 1.0)
+        P = _basis(X, p)  # (k, nt); the polynomial of patch pr evaluated at its target nodes
+        val = np.zeros((P.shape[0], c))
+        for i in range(P.shape[1]):  # one term at a time: no (k, nt, c) gather of coefficients
+            val += P[:, i : i + 1] * np.ascontiguousarray(coef[:, i, :])[pr]
+        for j in range(c):
+            acc[:, j] += np.bincount(node, weights=val[:, j], minlength=n)
+        cnt_n += np.bincount(node, minlength=n)
     # 2. own patches: boundary nodes ("enlarged") and nodes no interior patch reached
     todo = np.flatnonzero(own_patch | (in_region & (cnt_n == 0)))
     if todo.size:
