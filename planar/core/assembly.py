@@ -7,14 +7,14 @@ elements.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Iterator
+from typing import Any
 
 import numpy as np
 import scipy.sparse as sp
 
 from .errors import ElementError, InputError, MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
-from .mesh import Mesh, _NODES_PER_LAYOUT
+from .mesh import Mesh
 from .quadrature import Rule, rule_for
 from .registry import check_plugin_array, element_type, plugin_call
 

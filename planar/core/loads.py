@@ -10,13 +10,13 @@ in force per volume, temperature changes in the unit of the material's alpha.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
-from typing import Any, Callable, ClassVar, Union
+from typing import Callable, ClassVar, Union
 
 import numpy as np
 
-from .errors import InputError, MeshError, PlanarError, fmt_point, unknown_name
+from .values import number_or_function
+from .errors import InputError, MeshError, PlanarError, fmt_point
 from .elements import line_shape
 from .quadrature import gauss_line
 
@@ -32,18 +32,6 @@ __all__ = [
 ]
 
 Value = Union[float, Callable[[np.ndarray, np.ndarray], np.ndarray]]
-
-
-def _check_value(name: str, v: Any) -> Any:
-    if v is None or callable(v):
-        return v
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        raise InputError(f"{name} must be a number or a function f(x, y), got {v!r}") from None
-    if not math.isfinite(f):
-        raise InputError(f"{name} = {v!r} is not a finite number")
-    return f
 
 
 def call_function(name: str, fn: Callable, x: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -291,10 +279,10 @@ class Traction(LoadKind):
         if all(v is None for v in (tx, ty, normal, tangential)):
             raise InputError(f"the traction on {where!r} has no value: give tx/ty or normal/tangential")
         self.where = str(where)
-        self.tx = _check_value("tx", tx)
-        self.ty = _check_value("ty", ty)
-        self.normal = _check_value("normal", normal)
-        self.tangential = _check_value("tangential", tangential)
+        self.tx = number_or_function(tx, "tx")
+        self.ty = number_or_function(ty, "ty")
+        self.normal = number_or_function(normal, "normal")
+        self.tangential = number_or_function(tangential, "tangential")
 
     def __repr__(self) -> str:
         if self.normal is not None or self.tangential is not None:
@@ -334,7 +322,7 @@ class Pressure(LoadKind):
 
     def __init__(self, where: str, p: Value):
         self.where = str(where)
-        self.p = _check_value("pressure p", p)
+        self.p = number_or_function(p, "pressure p")
         if self.p is None:
             raise InputError("a pressure needs a value p")
 
@@ -384,8 +372,8 @@ class PointForce(LoadKind):
                     f"a point force acts at a named point or at coordinates (x, y) of finite numbers, got {where!r}"
                 )
             self.where = (float(xy[0]), float(xy[1]))
-        self.fx = _check_value("fx", fx)
-        self.fy = _check_value("fy", fy)
+        self.fx = number_or_function(fx, "fx")
+        self.fy = number_or_function(fy, "fy")
         if callable(self.fx) or callable(self.fy):
             raise InputError("a point force takes numbers fx, fy, not functions")
 
@@ -429,8 +417,8 @@ class BodyForce(LoadKind):
     kind = "body-force"
 
     def __init__(self, bx: Value = 0.0, by: Value = 0.0, region: str | None = None):
-        self.bx = _check_value("bx", bx)
-        self.by = _check_value("by", by)
+        self.bx = number_or_function(bx, "bx")
+        self.by = number_or_function(by, "by")
         self.region = region
 
     def __repr__(self):
@@ -480,7 +468,7 @@ class TemperatureChange(LoadKind):
                 raise InputError("the nodal temperature changes contain NaN or infinite values")
             self.dT = dT
         else:
-            self.dT = _check_value("temperature change dT", dT)
+            self.dT = number_or_function(dT, "temperature change dT")
             if self.dT is None:
                 raise InputError("a temperature change needs a value dT (a number, a function f(x, y) or one "
                                  "value per node)")

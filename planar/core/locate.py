@@ -50,7 +50,6 @@ def locate(mesh, points: np.ndarray, *, candidates: int = 12):
     out_layout = np.empty(p, dtype=object)
     out_cell = np.zeros(p, dtype=np.int64)
     out_xi = np.zeros((p, 2))
-    best_d = np.full(p, np.inf)
     for layout, conn in mesh.cells.items():
         et = element_type(layout)
         X = mesh.nodes[conn]  # (e, k, 2)

@@ -7,10 +7,10 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Literal
 
 import numpy as np
 
+from .values import number
 from .errors import InputError, MaterialError
 
 __all__ = ["Isotropic", "Orthotropic", "Material", "ANALYSES", "check_analysis"]
@@ -25,31 +25,16 @@ def check_analysis(analysis: str) -> str:
     return a
 
 
-def _positive(name: str, value: float) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise MaterialError(f"{name} must be a number, got {value!r}") from None
-    if not math.isfinite(v) or v <= 0:
-        raise MaterialError(f"{name} must be a positive finite number, got {value!r}")
-    return v
+def _positive(name: str, value) -> float:
+    return number(value, name, positive=True, error=MaterialError)
 
 
 def _finite(name: str, value) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise MaterialError(f"{name} must be a number, got {value!r}") from None
-    if not math.isfinite(v):
-        raise MaterialError(f"{name} must be a finite number, got {value!r}")
-    return v
+    return number(value, name, error=MaterialError)
 
 
 def _not_negative(name: str, value) -> float:
-    v = _finite(name, value)
-    if v < 0:
-        raise MaterialError(f"{name} must not be negative, got {value!r}")
-    return v
+    return number(value, name, nonnegative=True, error=MaterialError)
 
 
 @dataclass(frozen=True)

@@ -7,10 +7,10 @@ names that exist.
 """
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
+from .values import number
 from .errors import InputError, unknown_name
 from .loads import LoadKind
 from .materials import Isotropic, Orthotropic, check_analysis
@@ -31,13 +31,7 @@ class Section:
 
 
 def _check_thickness(t) -> float:
-    try:
-        v = float(t)
-    except (TypeError, ValueError):
-        raise InputError(f"thickness must be a number, got {t!r}") from None
-    if not math.isfinite(v) or v <= 0:
-        raise InputError(f"thickness must be positive and finite, got {t!r}")
-    return v
+    return number(t, "thickness", positive=True)
 
 
 def _check_material(m):

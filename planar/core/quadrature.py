@@ -47,6 +47,16 @@ class Rule:
         return int(self.weights.shape[0])
 
 
+def _legendre(n: int, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """P_n(x) and P_n'(x) by the three-term recurrence (Abramowitz and Stegun 1964, 22.7.10)."""
+    p0, p1 = np.ones_like(x), x.copy()
+    for k in range(2, n + 1):
+        p0, p1 = p1, ((2 * k - 1) * x * p1 - (k - 1) * p0) / k
+    if n == 1:
+        p0, p1 = np.ones_like(x), x
+    return p1, n * (x * p1 - p0) / (x * x - 1.0)
+
+
 @lru_cache(maxsize=None)
 def gauss_line(n: int) -> Rule:
     """Gauss-Legendre rule with ``n`` points on [-1, 1], exact to degree 2n - 1.
@@ -67,22 +77,11 @@ def gauss_line(n: int) -> Rule:
     i = np.arange(1, n + 1)
     x = np.cos(np.pi * (i - 0.25) / (n + 0.5))
     for _ in range(100):
-        p0, p1 = np.ones_like(x), x.copy()
-        for k in range(2, n + 1):
-            p0, p1 = p1, ((2 * k - 1) * x * p1 - (k - 1) * p0) / k
-        if n == 1:
-            p0, p1 = np.ones_like(x), x
-        dp = n * (x * p1 - p0) / (x * x - 1.0)
-        dx = p1 / dp
+        dx = _legendre(n, x)[0] / _legendre(n, x)[1]
         x = x - dx
         if np.max(np.abs(dx)) < 1e-16:
             break
-    p0, p1 = np.ones_like(x), x.copy()
-    for k in range(2, n + 1):
-        p0, p1 = p1, ((2 * k - 1) * x * p1 - (k - 1) * p0) / k
-    if n == 1:
-        p0, p1 = np.ones_like(x), x
-    dp = n * (x * p1 - p0) / (x * x - 1.0)
+    dp = _legendre(n, x)[1]
     w = 2.0 / ((1.0 - x * x) * dp * dp)
     order = np.argsort(x)
     pts = x[order].reshape(-1, 1)

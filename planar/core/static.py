@@ -50,7 +50,6 @@ def constrain(mesh, supports) -> Constrained:
         Two supports prescribe different values for one displacement.
     """
     rows = gather(mesh, supports)
-    n = mesh.n_nodes
     node, d, v, lab = rows.node, rows.direction, rows.value, rows.label
     # along x or y to round-off (1e-12 rad); a direction tilted by more goes the inclined way, since
     # |d_k| > 1 - 1e-12 would take tilts up to 1.4e-6 rad for the axis and shift the answer by that much

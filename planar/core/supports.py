@@ -7,29 +7,17 @@ symmetry line) is handled by a local rotation of that node's unknowns.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
-from typing import Any, Callable, Union
+from typing import Callable, Union
 
 import numpy as np
 
-from .errors import InputError, SupportError
+from .values import number_or_function
+from .errors import InputError
 
 __all__ = ["Support", "Fixed", "Roller", "Prescribed", "Symmetry", "Constraints"]
 
 Value = Union[float, Callable[[np.ndarray, np.ndarray], np.ndarray]]
-
-
-def _value(name, v):
-    if v is None or callable(v):
-        return v
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        raise InputError(f"{name} must be a number or a function f(x, y), got {v!r}") from None
-    if not math.isfinite(f):
-        raise InputError(f"{name} = {v!r} is not a finite number")
-    return f
 
 
 def _direction(d) -> np.ndarray:
@@ -150,8 +138,8 @@ class Prescribed(Support):
 
     def __init__(self, where: str, ux: Value | None = None, uy: Value | None = None):
         self.where = str(where)
-        self.ux = _value("ux", ux)
-        self.uy = _value("uy", uy)
+        self.ux = number_or_function(ux, "ux")
+        self.uy = number_or_function(uy, "uy")
         if self.ux is None and self.uy is None:
             raise InputError(f"a prescribed displacement on {where!r} needs ux, uy or both")
 

@@ -26,6 +26,7 @@ from typing import Sequence
 
 import numpy as np
 
+from ..core.values import number
 from ..core.errors import GeometryError, InputError
 from ._curves import (
     TWO_PI,
@@ -47,23 +48,11 @@ Point = tuple[float, float]
 
 
 def _positive(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not (math.isfinite(v) and v > 0):
-        raise InputError(f"{what} must be a positive finite length, got {value!r}")
-    return v
+    return number(value, what, positive=True, kind="length")
 
 
 def _finite(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(f"{what} must be finite, got {value!r}")
-    return v
+    return number(value, what)
 
 
 def _fmt(p) -> str:

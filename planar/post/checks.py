@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..core.values import number
 from ..core.errors import InputError
 from ..core.quadrature import gauss_line
 from ..core.result import STRESS_FIELDS
@@ -71,13 +72,7 @@ def _check_method(method: str) -> str:
 
 
 def _positive(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not (math.isfinite(v) and v > 0):
-        raise InputError(f"{what} must be positive and finite, got {value!r}")
-    return v
+    return number(value, what, positive=True)
 
 
 def _point(p, what: str) -> np.ndarray:

@@ -11,7 +11,7 @@ from ..core.model import Model
 from ..core.registry import element_type
 from ..core.static import solve
 from ..core.supports import Fixed, Prescribed, Roller
-from ..geometry.structured import mapped_mesh, quad_panel_mesh, rectangle_mesh
+from ..geometry.structured import quad_panel_mesh, rectangle_mesh
 from ..post.norms import energy_norm_error
 from . import case, check
 
