@@ -79,6 +79,7 @@ from typing import Any, Callable, Iterable, Mapping, Sequence
 import numpy as np
 
 from .cli import command
+from .core.values import number
 from .core.errors import InputError, PlanarError, ResourceError, unknown_name
 from .post.files import atomic_write_text
 
@@ -116,13 +117,9 @@ def _number(v, what: str, values: Mapping[str, Any] | None = None) -> float:
             raise unknown_name(f"value for {what}", v, values.keys(),
                                "Name a parameter of the point, or a number the function returned")
         v = values[v]
-    try:
-        x = float(v)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number or the name of a parameter, got {v!r}") from None
-    if not math.isfinite(x):
-        raise InputError(f"{what} must be finite, got {v!r}")
-    return x
+    if isinstance(v, str):
+        raise InputError(f"{what} must be a number or the name of a parameter, got {v!r}")
+    return number(v, what)
 
 
 def _check_stress_args(fld: str, method: str) -> None:

@@ -51,6 +51,7 @@ from typing import Mapping, Sequence
 
 import numpy as np
 
+from ..core.values import number
 from ..core.errors import InputError, unknown_name
 from ..core.result import FIELDS, GaussField, Result
 from .files import atomic_path
@@ -61,13 +62,7 @@ __all__ = ["CombinedResult", "Combination", "combine", "combinations", "Envelope
 
 # ---------------------------------------------------------------------------- checks
 def _factor(name: str, value) -> float:
-    try:
-        f = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"the factor of {name!r} must be a number, got {value!r}") from None
-    if not math.isfinite(f):
-        raise InputError(f"the factor of {name!r} must be finite, got {value!r}")
-    return f
+    return number(value, f"the factor of {name!r}")
 
 
 def _same_analysis(a: Result, b: Result) -> bool:
