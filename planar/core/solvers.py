@@ -46,11 +46,15 @@ class Factorization(Protocol):
 
 
 def _importable(mod: str) -> bool:
+    """True when the module can be found, without importing it (some take a second to import)."""
+    import importlib.util
+
+    if mod == "pypardiso":
+        return _mkl_path() is not None
     try:
-        __import__(mod)
-    except Exception:
+        return importlib.util.find_spec(mod) is not None
+    except (ImportError, ValueError):
         return False
-    return True
 
 
 def available_solvers() -> list[str]:
@@ -140,16 +144,23 @@ class _Cholmod:
 _MKL = None
 
 
-def _mkl_library():
-    """The MKL runtime that the pypardiso extra installs (found once, without a directory search)."""
-    global _MKL
-    if _MKL is not None:
-        return _MKL
-    import ctypes
+_MKL_PATH: list = []
+
+
+def _mkl_path() -> str | None:
+    """Where the MKL runtime (from the pypardiso extra's mkl wheel) is, found once."""
+    if _MKL_PATH:
+        return _MKL_PATH[0]
     import importlib.metadata as md
     import ctypes.util
 
+    import glob
+    import sys
+
     path = os.environ.get("PYPARDISO_MKL_RT")
+    if path is None:  # where pip puts the mkl wheel's libraries (a plain listing, no tree search)
+        found = sorted(glob.glob(os.path.join(sys.prefix, "lib", "libmkl_rt.so*")), key=len)
+        path = found[0] if found else None
     if path is None:
         try:
             for f in md.distribution("mkl").files or []:
@@ -160,6 +171,18 @@ def _mkl_library():
             path = None
     if path is None:
         path = ctypes.util.find_library("mkl_rt")
+    _MKL_PATH.append(path)
+    return path
+
+
+def _mkl_library():
+    """The MKL runtime that the pypardiso extra installs (found once, without a directory search)."""
+    global _MKL
+    if _MKL is not None:
+        return _MKL
+    import ctypes
+
+    path = _mkl_path()
     if path is None:
         raise SolverError("the 'pardiso' solver needs Intel MKL: pip install 'planar[fast]'")
     lib = ctypes.CDLL(path)
