@@ -215,27 +215,21 @@ def _ok_model(mesh):
     return model
 
 
-# ============================================================================ bugs outside our files
-# The gmsh property meets the tangled meshes at times too: the core refuses them (cells overlap),
-# the property checks each refusal independently (really_bad) and counts it as "skipped: gmsh made
-# tangled quads (refused by the core)".
-# not strict: planar/geometry/meshing.py is being rewritten by someone else as this is written
-KNOWN = pytest.mark.xfail(strict=False, reason="geometry-layer bug reported to the lead (outside this issue's files)")
-
-
-@KNOWN
-def test_known_geometry_bug_quads_with_a_slot():
-    """gmsh's full-quad recombination fails on a plate with a slot (meshing.py)."""
+# ============================================================================ geometry-layer bugs, fixed
+def test_quads_with_a_slot():
+    """gmsh's full-quad recombination failed on a plate with a slot ("1D mesh cannot be divided by 2"):
+    the slot's straight sides are shorter than the size, one segment each."""
     from planar.geometry import Plate, Slot
     from planar.geometry import mesh as gmesh
 
-    gmesh(Plate.rectangle(20.0, 12.0).cut(Slot((10.0, 6.0), 7.2, 5.96)), 2.0, quads=True)
+    m = gmesh(Plate.rectangle(20.0, 12.0).cut(Slot((10.0, 6.0), 7.2, 5.96)), 2.0, quads=True)
+    assert set(m.cells) == {"Q4"}
+    assert planar.solve(_ok_model(m))["c"].equilibrium_error() < 1e-9
 
 
-@KNOWN
-def test_known_geometry_bug_tangled_cells_near_a_slender_slot():
-    """A quad mesh (with two triangles left) whose triangles overlap at the end of a slender slot
-    (meshing.py); the core refuses it (ElementError, cells overlap) instead of solving it wrongly."""
+def test_quads_near_a_slender_slot_do_not_overlap():
+    """A quad mesh whose two leftover triangles overlapped at the end of a slender slot; now all Q8,
+    accepted by the core's overlap and Jacobian checks, and in equilibrium."""
     from planar.geometry import Plate, Slot
     from planar.geometry import mesh as gmesh
 
@@ -243,30 +237,39 @@ def test_known_geometry_bug_tangled_cells_near_a_slender_slot():
              .cut(Slot((-18.008, 18.202), 16.412, 13.102, angle=2.584))
              .cut(Slot((17.725, 20.320), 11.911, 3.711))
              .add_point("load_point", (35.592, 18.166)))
-    assert planar.solve(_ok_model(gmesh(plate, 7.1467, order=2, quads=True, seed=1)))["c"].equilibrium_error() < 1e-9
+    m = gmesh(plate, 7.1467, order=2, quads=True, seed=1)
+    assert set(m.cells) == {"Q8"}
+    assert planar.solve(_ok_model(m))["c"].equilibrium_error() < 1e-9
 
 
-@KNOWN
-@pytest.mark.parametrize("call", ["nx=nan", "width=None", "seed=nan", "circle_elements=inf"])
-def test_known_geometry_bugs_raw_errors(call):
-    """Raw Python errors instead of a planar error (structured.py and meshing.py)."""
-    from planar.core.errors import PlanarError
+@pytest.mark.parametrize("kw", [dict(seed=float("nan")), dict(seed=math.inf), dict(seed="ten"),
+                                dict(circle_elements=math.inf), dict(circle_elements=float("nan")),
+                                dict(max_elements=float("nan")), dict(max_elements=-math.inf)])
+def test_mesh_options_that_are_no_whole_numbers(kw):
+    """Raw ValueError / OverflowError (or a NaN silently accepted) before; now an InputError that
+    names the argument, the value and the valid range."""
+    from planar.core.errors import InputError
     from planar.geometry import Plate
     from planar.geometry import mesh as gmesh
 
-    try:
-        if call == "nx=nan":
-            planar.rectangle_mesh(1.0, 1.0, float("nan"), 2)
-        elif call == "width=None":
-            planar.rectangle_mesh(None, 1.0, 2, 2)
-        elif call == "seed=nan":
-            gmesh(Plate.rectangle(10.0, 5.0), 5.0, seed=float("nan"))
-        else:
-            gmesh(Plate.rectangle(10.0, 5.0), 5.0, circle_elements=math.inf)
-    except PlanarError:
-        return
-    except Exception as exc:  # noqa: BLE001 - this is the bug
-        raise AssertionError(f"raw {type(exc).__name__}: {exc}") from None
+    (name, value), = kw.items()
+    exc = expect_planar_error(lambda: gmesh(Plate.rectangle(10.0, 5.0), 5.0, **kw), name,
+                              kind=InputError, category="invalid: mesh option")
+    assert f"{name} must be a whole number from " in str(exc) and f"got {value!r}" in str(exc)
+
+
+@pytest.mark.parametrize("call, words", [("nx=nan", "nx must be a whole number"),
+                                         ("width=None", "width must be a number")])
+def test_structured_mesh_arguments(call, words):
+    """Raw Python errors before (structured.py); now an InputError that names the argument."""
+    from planar.core.errors import InputError
+
+    if call == "nx=nan":
+        expect_planar_error(lambda: planar.rectangle_mesh(1.0, 1.0, float("nan"), 2), words, kind=InputError,
+                            category="invalid: mesh option")
+    else:
+        expect_planar_error(lambda: planar.rectangle_mesh(None, 1.0, 2, 2), words, kind=InputError,
+                            category="invalid: mesh option")
 
 
 # ============================================================================ the counts

@@ -20,6 +20,11 @@ mid-side nodes are made in a few vectorized steps:
 
 Node order is planar's (and gmsh's and VTK's): corners, then the nodes of sides (0-1), (1-2), (2-0)
 or (2-3), (3-0), then the Q9 centre.
+
+The same side nodes make an all-quadrilateral mesh of a quad-dominant one (:func:`subdivide`: a Q4
+into 4, a T3 into 3 quadrilaterals through the side nodes and a centre node), which
+:func:`smooth` then smooths (Laplace, with every move that would spoil a cell taken back, and a
+pattern search for the nodes of the worst cells).
 """
 from __future__ import annotations
 
@@ -46,8 +51,8 @@ def side_keys(a: np.ndarray, b: np.ndarray, n: int) -> np.ndarray:
     return np.minimum(a, b) * n + np.maximum(a, b)
 
 
-def curve_mid_points(g, curve: int, seg_tags: np.ndarray, xy_of_tags) -> np.ndarray:
-    """Points of ``curve`` equidistant from each segment's two end nodes, near its mean parameter.
+def curve_parameters(g, curve: int, seg_tags: np.ndarray) -> np.ndarray | None:
+    """Curve parameters (m, 2) of the ends of each segment, or None if gmsh has none.
 
     Parameters
     ----------
@@ -55,22 +60,18 @@ def curve_mid_points(g, curve: int, seg_tags: np.ndarray, xy_of_tags) -> np.ndar
         gmsh, with the curve meshed.
     seg_tags : ndarray, shape (m, 2)
         gmsh node tags of the segments (start, end), in the order gmsh made them along the curve.
-    xy_of_tags : callable
-        Coordinates (k, 2) of gmsh node tags (k,), for the sanity check.
 
     Returns
     -------
-    ndarray, shape (m, 2)
+    ndarray, shape (m, 2), or None
+        (u_start, u_end); on a closed curve the end of the segment that crosses the seam is
+        moved by one period, so that the segment's parameters are the interval between them.
     """
     tags, _, u = g.model.mesh.getNodes(1, curve, includeBoundary=True, returnParametricCoord=True)
     tags = np.asarray(tags, dtype=np.int64)
     u = np.asarray(u, float)
-    if u.size != tags.size:  # no parameters (should not happen on a model curve): project instead
-        return _closest(g, curve, 0.5 * (xy_of_tags(seg_tags[:, 0]) + xy_of_tags(seg_tags[:, 1])))
-    lo, hi = (float(v[0]) for v in g.model.getParametrizationBounds(1, curve))
-    period = hi - lo
-    ends = g.model.getBoundary([(1, curve)], oriented=False)
-    closed = len(ends) < 2 or abs(ends[0][1]) == abs(ends[-1][1])
+    if u.size != tags.size:  # no parameters (should not happen on a model curve)
+        return None
     order = np.argsort(tags, kind="stable")
     st = tags[order]
 
@@ -78,11 +79,45 @@ def curve_mid_points(g, curve: int, seg_tags: np.ndarray, xy_of_tags) -> np.ndar
         return u[order[np.searchsorted(st, t)]]
 
     ua, ub = par(seg_tags[:, 0]), par(seg_tags[:, 1])
+    lo, hi, closed = _range(g, curve)
     if closed:
         # gmsh numbers the segments along the curve; the one that ends at the seam vertex has
         # that vertex at the start of the range
-        ub = np.where(ub <= ua, ub + period, ub)
-    a, b = xy_of_tags(seg_tags[:, 0]), xy_of_tags(seg_tags[:, 1])
+        ub = np.where(ub <= ua, ub + (hi - lo), ub)
+    return np.column_stack([ua, ub])
+
+
+def _range(g, curve: int) -> tuple[float, float, bool]:
+    lo, hi = (float(v[0]) for v in g.model.getParametrizationBounds(1, curve))
+    ends = g.model.getBoundary([(1, curve)], oriented=False)
+    closed = len(ends) < 2 or abs(ends[0][1]) == abs(ends[-1][1])
+    return lo, hi, closed
+
+
+def curve_mid_points(g, curve: int, params: np.ndarray | None, a: np.ndarray, b: np.ndarray):
+    """Points of ``curve`` equidistant from each segment's two ends ``a``, ``b`` (m, 2).
+
+    Parameters
+    ----------
+    g : module
+        gmsh, with the model's curves.
+    params : ndarray, shape (m, 2), or None
+        The segments' curve parameters (:func:`curve_parameters`); None projects the chords'
+        midpoints onto the curve instead.
+    a, b : ndarray, shape (m, 2)
+        Coordinates of the segments' ends.
+
+    Returns
+    -------
+    points : ndarray, shape (m, 2)
+    u : ndarray, shape (m,), or None
+        Their curve parameters (between the ends' parameters), None if ``params`` is None.
+    """
+    if params is None:
+        return _closest(g, curve, 0.5 * (a + b)), None
+    ua, ub = params[:, 0], params[:, 1]
+    lo, hi, closed = _range(g, curve)
+    period = hi - lo
     wrap = (lambda v: lo + np.mod(v - lo, period)) if closed else (lambda v: v)
     um = 0.5 * (ua + ub)
     # Newton's method for the point equidistant from both ends: (p(u) - (a + b) / 2) . (b - a) = 0
@@ -99,7 +134,7 @@ def curve_mid_points(g, curve: int, seg_tags: np.ndarray, xy_of_tags) -> np.ndar
     off = np.hypot(*(p - 0.5 * (a + b)).T) > 0.5 * np.hypot(*(b - a).T)
     if off.any():
         p[off] = _closest(g, curve, 0.5 * (a[off] + b[off]))
-    return p
+    return p, um
 
 
 def _closest(g, curve: int, pts: np.ndarray) -> np.ndarray:
@@ -223,3 +258,180 @@ def _cell_coords(xy, mid, corners, sides, lay):
         centre = 0.5 * mid[sides].sum(axis=1) - 0.25 * xy[corners].sum(axis=1)
         X = np.concatenate([X, centre[:, None, :]], axis=1)
     return X
+
+
+# ---------------------------------------------------------------------------------- all quadrilaterals
+#: local node order of the quadrilaterals a Q4 (corners 0-3, side nodes 4-7, centre 8) and a T3
+#: (corners 0-2, side nodes 3-5, centre 6) are split into; all counter-clockwise like their cell
+_SPLIT = {"Q4": np.array([[0, 4, 8, 7], [4, 1, 5, 8], [8, 5, 2, 6], [7, 8, 6, 3]]),
+          "T3": np.array([[0, 3, 6, 5], [1, 4, 6, 3], [2, 5, 6, 4]])}
+
+
+def subdivide(xy: np.ndarray, blocks: list, curve_segs: dict, curve_mid: dict):
+    """Split every Q4 into 4 and every T3 into 3 quadrilaterals (an all-quadrilateral mesh).
+
+    Every side gets a node (at its midpoint, or on the true curve for the segments of a curve), every
+    cell one at its centre: the transfinite blend of its sides, ``sum(side nodes) / 2 - sum(corners) / 4``
+    for a Q4 and ``(4 sum(side nodes) - sum(corners)) / 9`` for a T3 (the centroid for straight sides).
+    The mesh stays conforming, as both cells at a side share its node.
+
+    Parameters
+    ----------
+    xy : ndarray, shape (n, 2)
+    blocks : list of (tag, layout, connectivity)
+        Counter-clockwise "T3" (e, 3) and "Q4" (e, 4) cells; the tag (a surface) is passed through.
+    curve_segs : dict
+        Curve -> (m, 2) node numbers of its segments, in order along the curve.
+    curve_mid : dict
+        Curve -> (m, 2) points for the nodes of its segments (curves not listed are straight).
+
+    Returns
+    -------
+    xy : ndarray, shape (n + sides + cells, 2)
+    blocks : list of (tag, "Q4", connectivity)
+    curve_segs : dict
+        Each segment (a, b) replaced by (a, m), (m, b).
+    """
+    n = xy.shape[0]
+    keys = [side_keys(c[:, SIDES[lay][:, 0]], c[:, SIDES[lay][:, 1]], n) for _, lay, c in blocks]
+    allk = np.concatenate([k.ravel() for k in keys]) if keys else np.empty(0, np.int64)
+    uniq, inv = np.unique(allk, return_inverse=True)
+    inv = inv.reshape(-1)
+    mid = 0.5 * (xy[uniq // n] + xy[uniq % n])
+    seg_node = {}
+    for c, seg in curve_segs.items():
+        k = side_keys(seg[:, 0], seg[:, 1], n)
+        pos = np.minimum(np.searchsorted(uniq, k), max(uniq.size - 1, 0))
+        if uniq.size == 0 or not np.array_equal(uniq[pos], k):
+            raise MeshError("a boundary segment of the mesh is no side of any cell; the mesh is broken")
+        if c in curve_mid:
+            mid[pos] = curve_mid[c]
+        seg_node[c] = n + pos
+    nodes, out = [xy, mid], []
+    nxt, start = n + uniq.size, 0
+    for (tag, lay, c), k in zip(blocks, keys):
+        side = inv[start : start + k.size].reshape(k.shape)
+        start += k.size
+        sm, cm = mid[side].sum(axis=1), xy[c].sum(axis=1)
+        centre = 0.5 * sm - 0.25 * cm if lay == "Q4" else (4.0 * sm - cm) / 9.0
+        local = np.hstack([c.astype(np.int64), n + side, (nxt + np.arange(c.shape[0]))[:, None]])
+        nxt += c.shape[0]
+        nodes.append(centre)
+        out.append((tag, "Q4", local[:, _SPLIT[lay]].reshape(-1, 4)))
+    segs = {c: np.stack([np.column_stack([seg[:, 0], seg_node[c]]), np.column_stack([seg_node[c], seg[:, 1]])],
+                        axis=1).reshape(-1, 2) for c, seg in curve_segs.items()}
+    return np.vstack(nodes), out, segs
+
+
+def corner_quality(xy: np.ndarray, conn: np.ndarray) -> np.ndarray:
+    """Least sine of the corner angles of each counter-clockwise cell (negative: a reflex corner or
+    a cell turned inside out; 1 for a rectangle)."""
+    return _quality_of(xy[conn])
+
+
+def smooth(xy: np.ndarray, conn: np.ndarray, fixed: np.ndarray, iterations: int = 4,
+           floor: float = 0.6) -> np.ndarray:
+    """Laplace smoothing of the free nodes of a quadrilateral mesh that never spoils a cell.
+
+    Each step moves every free node to the mean of its neighbours along the cells' sides; then the
+    moves at cells whose least corner sine (:func:`corner_quality`) falls below both its value
+    before the step and ``floor`` (0.6: corners between 37 and 143 degrees) are taken back, until no
+    such cell is left. So the worst cell never gets worse and no cell turns inside out.
+
+    Parameters
+    ----------
+    xy : ndarray, shape (n, 2)
+    conn : ndarray, shape (e, 4)
+        Counter-clockwise quadrilaterals.
+    fixed : ndarray of bool, shape (n,)
+        Nodes that stay (on curves, named points).
+    """
+    from scipy import sparse
+
+    n = xy.shape[0]
+    a = conn.ravel()
+    b = np.roll(conn, -1, axis=1).ravel()
+    A = sparse.coo_matrix((np.ones(2 * a.size), (np.concatenate([a, b]), np.concatenate([b, a]))), shape=(n, n)).tocsr()
+    A.data[:] = 1.0  # each side once, whether one cell or two have it
+    deg = np.asarray(A.sum(axis=1)).ravel()
+    free = ~fixed & (deg > 0)
+    if not free.any():
+        return xy
+    q = corner_quality(xy, conn)
+    for _ in range(iterations):
+        new = xy.copy()
+        new[free] = (A @ xy)[free] / deg[free, None]
+        for _ in range(50):
+            qn = corner_quality(new, conn)
+            worse = qn < np.minimum(q, floor)
+            if not worse.any():
+                break
+            back = np.unique(conn[worse].ravel())
+            new[back] = xy[back]
+        else:
+            break  # cannot happen (taking every move back restores the cells); be safe
+        xy, q = new, qn
+    return _improve_worst(xy, conn, free, q)
+
+
+#: cells with a least corner sine below this (corners under 12 or over 168 degrees) get their free
+#: nodes moved one by one to the best nearby place (:func:`_improve_worst`)
+WORST = 0.2
+_DIRECTIONS = np.array([[np.cos(a), np.sin(a)] for a in np.arange(8) * np.pi / 4])
+
+
+def _improve_worst(xy, conn, free, q, sweeps: int = 4, most: int = 20_000):
+    """Move each free node of the worst cells (``q < WORST``) to where the least corner sine of its
+    cells is largest, by a pattern search (8 directions, steps of 30 % down to 1 % of the node's mean
+    distance to its cells' other nodes). This turns the few non-convex cells that a split sliver
+    triangle can give into convex ones, and improves the worst corners; no cell gets worse than the
+    worst cell at that node."""
+    bad = q < WORST
+    if not bad.any():
+        return xy
+    xy = xy.copy()
+    flat = conn.ravel()
+    order = np.argsort(flat, kind="stable")
+    start = np.searchsorted(flat[order], np.arange(xy.shape[0] + 1))
+    visits = 0
+    for _ in range(sweeps):
+        nodes = np.unique(conn[bad].ravel())
+        nodes = nodes[free[nodes]]
+        moved = False
+        for v in nodes:
+            visits += 1
+            if visits > most:
+                return xy
+            cs = order[start[v] : start[v + 1]] // 4
+            c = conn[cs]
+            X = xy[c]
+            at = c == v
+            best = corner_quality(xy, c).min()
+            h = np.hypot(*(X[~at] - xy[v]).T).mean()
+            p = xy[v].copy()
+            for step in (0.3, 0.1, 0.03, 0.01):
+                for _ in range(3):
+                    cand = p + step * h * _DIRECTIONS  # (8, 2)
+                    Xc = np.broadcast_to(X, (8,) + X.shape).copy()
+                    Xc[:, at] = cand[:, None, :]
+                    qc = _quality_of(Xc.reshape(-1, 4, 2)).reshape(8, -1).min(axis=1)
+                    j = int(np.argmax(qc))
+                    if qc[j] <= best:
+                        break
+                    best, p = qc[j], cand[j]
+                    moved = True
+            xy[v] = p
+        if not moved:
+            break
+        bad = corner_quality(xy, conn) < WORST
+        if not bad.any():
+            break
+    return xy
+
+
+def _quality_of(p: np.ndarray) -> np.ndarray:
+    e = np.roll(p, -1, axis=1) - p
+    f = np.roll(e, 1, axis=1)
+    cross = f[..., 0] * e[..., 1] - f[..., 1] * e[..., 0]
+    lf, le = np.hypot(f[..., 0], f[..., 1]), np.hypot(e[..., 0], e[..., 1])
+    return np.min(cross / np.maximum(lf * le, 1e-300), axis=1)

@@ -15,6 +15,25 @@ from ..core.errors import GeometryError, PlanarError
 _counter = itertools.count(1)
 
 
+def _ignore_broken_pipes() -> None:
+    """Put SIGPIPE back to Python's own setting (ignored, so a closed pipe raises BrokenPipeError).
+
+    gmsh's initialize resets it to the default action, which kills the whole process on the next
+    write to a closed pipe or socket (a finished pager, a lost worker of a parallel sweep).
+    """
+    import signal
+
+    if hasattr(signal, "SIGPIPE"):
+        try:
+            signal.signal(signal.SIGPIPE, signal.SIG_IGN)
+        except ValueError:  # not the main thread: the C-level setting is process-wide anyway
+            import ctypes
+            import ctypes.util
+
+            libc = ctypes.CDLL(ctypes.util.find_library("c"), use_errno=True)
+            libc.signal(int(signal.SIGPIPE), ctypes.c_void_p(1))  # SIG_IGN
+
+
 class _Session:
     def __init__(self, verbose: bool = False):
         self.verbose = bool(verbose)
@@ -30,6 +49,7 @@ class _Session:
                 gmsh.initialize(readConfigFiles=False, interruptible=False)
             except TypeError:  # older gmsh without these keywords
                 gmsh.initialize()
+            _ignore_broken_pipes()
             self._previous_model = None
         else:
             self._previous_model = gmsh.model.getCurrent()

@@ -7,6 +7,23 @@ size reached by elements that grow by the factor ``growth`` from one to the next
 over the plate (cells no larger than 1.5 times the local size) and handed to gmsh as a background
 view, so a function given as numpy code costs little even for meshes of 10^5 elements and more.
 
+Quadrilaterals: gmsh meshes the plate at twice the size with triangles recombined into
+quadrilaterals where it can (its simple recombination, which leaves some triangles); then every Q4 is
+split into 4 and every T3 into 3 quadrilaterals, with the new nodes of the curves on the true curves,
+and the nodes off the curves are smoothed (:mod:`planar.geometry._quadratic`). The result has
+quadrilaterals only. This is what gmsh's own full-quad recombination does inside, but that one fails
+on a curve of a single segment ("1D mesh cannot be divided by 2", e.g. the short straight sides of a
+slot) and, like its blossom recombination, at times leaves triangles that overlap their neighbours
+(near a named point close to an edge, or at the curved end of a small slot).
+
+Every mesh is checked before it is handed back: with the cells counter-clockwise, every side between
+two cells is walked once each way, the sides of one cell only are the segments of the boundary,
+quadrilaterals are strictly convex and not badly distorted, and every named point is a node of some
+cell. Where that fails (the split of a sliver triangle between curves that come much closer than the
+element size can turn a cell inside out; gmsh at times leaves out a named point close to a curve on
+a coarse mesh), the plate is meshed again with elements 3 times smaller there, up to ``RETRIES``
+times, and then a GeometryError names the place.
+
 Speed: gmsh makes the linear mesh (T3 or Q4); quadratic cells get their mid-side nodes from numpy
 (:mod:`planar.geometry._quadratic`, on the true curves), which is some 20 times faster than gmsh's
 ``setOrder(2)``. A mesh estimated at more than ``FAST_ABOVE`` elements (100 000 triangles or
@@ -17,24 +34,26 @@ Laplace smoothing. Measured on a 400 x 160 plate with a hole (one core of a 2-co
 10^6 unknowns of T6 in about 2 s instead of 10 s, 3.7 * 10^6 in 7 s instead of 47 s; the least
 angle of the triangles stays above 30 degrees (31-32 against 36 with smoothing in one piece;
 frontal Delaunay makes near-equilateral triangles, mean least angle 59 degrees either way).
-Quadrilaterals keep the smoothing, without which their worst corners go from 45-51 / 134 to
-19 / 169 degrees. ``algorithm="delaunay"`` meshes triangles about a third faster still, with least
-angles above 30 degrees too but a mean least angle of 47 degrees. gmsh's multi-threaded meshing is
-not used: its result changes from run to run, and the same input must give the same mesh.
+Quadrilaterals keep gmsh's smoothing (of the mesh at twice the size) and get planar's own after
+the split: the same plate with 1.1 * 10^6 unknowns of Q8 takes 2.6 s (3.7 s with gmsh's full-quad
+recombination), worst corners 51 / 132 degrees (51 / 134 before). ``algorithm="delaunay"`` meshes
+triangles about a third faster still, with least angles above 30 degrees too but a mean least
+angle of 47 degrees. gmsh's multi-threaded meshing is not used: its result changes from run to
+run, and the same input must give the same mesh.
 """
 from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable, Sequence
 
 import numpy as np
 
-from ..core.errors import GeometryError, InputError, MeshError, ResourceError, unknown_name
+from ..core.errors import GeometryError, InputError, MeshError, ResourceError, fmt_point, unknown_name
 from ..core.mesh import Mesh
 from ._build import _Built, _build
-from ._quadratic import curve_mid_points, quadratic as _quadratic, side_keys
+from ._quadratic import curve_mid_points, curve_parameters, quadratic as _quadratic, side_keys, smooth, subdivide
 from ._session import _Session, _stage
 from .plate import Plate
 from .shapes import Shape
@@ -52,6 +71,13 @@ _FLIP = {"T3": [0, 2, 1], "Q4": [0, 3, 2, 1]}
 FAST_ABOVE = {"triangles": 100_000, "quads": 50_000}
 #: elements per piece when the plate is cut into pieces (fast way)
 PIECE_ELEMENTS = {"triangles": 30_000, "quads": 10_000}
+#: least accepted ratio of the smallest to the largest corner cross product of a quadrilateral (its
+#: Jacobian's least / largest determinant): twice the least that planar.core.assembly.prepare accepts
+DISTORTED = 2e-3
+#: times a mesh with overlapping, inside-out or distorted cells is made again, smaller near the bad place
+RETRIES = 3
+#: largest accepted circle_elements (element sides per full turn of a curved edge)
+MAX_CIRCLE_ELEMENTS = 100_000
 
 
 @dataclass(frozen=True)
@@ -134,6 +160,15 @@ def _size(v, what) -> float:
     return x
 
 
+def _whole(v, what: str, lo: int, hi: int, meaning: str) -> int:
+    """``v`` as an int in [lo, hi] (whole numbers given as floats too), else an InputError."""
+    ok = isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, (bool, np.bool_))
+    x = float(v) if ok else math.nan
+    if not (ok and math.isfinite(x) and x == math.floor(x) and lo <= x <= hi):
+        raise InputError(f"{what} must be a whole number from {lo} to {hi} ({meaning}), got {v!r}")
+    return int(v)
+
+
 def mesh(
     geometry: Plate | Shape,
     size: float | None = None,
@@ -163,7 +198,8 @@ def mesh(
         1 gives T3 or Q4 cells, 2 gives T6 or Q8/Q9 with the mid-side nodes on the true curves (at
         the mean curve parameter of the side's ends; a Q9 centre node by the blend of its sides).
     quads : bool, default False
-        Quadrilaterals by recombination of triangles.
+        Quadrilaterals only: gmsh's quad-dominant mesh at twice the size, every cell split into
+        quadrilaterals and smoothed (see the module's notes).
     quadratic : {"Q8", "Q9"}
         The quadratic quadrilateral: 8 nodes (serendipity) or 9 (Lagrange).
     refine : Refine or sequence of Refine
@@ -174,11 +210,13 @@ def mesh(
     algorithm : {"frontal-delaunay", "delaunay", "adaptive", "frontal-quads"}, optional
         gmsh's 2D algorithm; default "frontal-delaunay" for triangles, "frontal-quads" for quads.
     circle_elements : int, default 12
-        At least this many element sides per full turn of a curved edge (0 turns it off).
+        At least this many element sides per full turn of a curved edge, 0 to ``MAX_CIRCLE_ELEMENTS``
+        (100 000; 0 turns it off).
     seed : int, optional
-        Seed of gmsh's random numbers; the same input and seed give the same mesh.
+        Seed of gmsh's random numbers, 0 to 2**31 - 1; the same input and seed give the same mesh.
     max_elements : int, default 5_000_000
-        Refuse a job whose estimated element count is larger (it would exhaust memory or time).
+        Refuse a job whose estimated element count is larger (it would exhaust memory or time); a
+        whole number from 1 to 10**12.
     save_msh : path, optional
         Also write the mesh (gmsh format 4.1: the returned nodes and cells) with a physical group for
         every named edge, point and region (including ``"plate"``); :meth:`Mesh.read` reads it back
@@ -203,11 +241,13 @@ def mesh(
     Raises
     ------
     InputError
-        Bad sizes or options.
+        Bad sizes or options (the message names the argument, its value and the valid range).
     NameNotFoundError
         A refinement names something the plate does not have (the message lists what exists).
     GeometryError
-        The geometry cannot be built or meshed.
+        The geometry cannot be built or meshed, or its mesh has overlapping, inside-out or distorted
+        cells or leaves out a named point, also after meshing smaller there (the message names the
+        place).
     ResourceError
         The estimated element count exceeds ``max_elements``.
 
@@ -241,12 +281,11 @@ def mesh(
         algorithm = "frontal-quads" if quads else "frontal-delaunay"
     if algorithm not in _ALGORITHMS:
         raise InputError(f"unknown algorithm {algorithm!r}; pick one of {', '.join(sorted(_ALGORITHMS))}")
-    try:
-        circle_elements = int(circle_elements)
-    except (TypeError, ValueError):
-        raise InputError(f"circle_elements must be a whole number, got {circle_elements!r}") from None
-    if circle_elements < 0:
-        raise InputError("circle_elements must not be negative")
+    circle_elements = _whole(circle_elements, "circle_elements", 0, MAX_CIRCLE_ELEMENTS,
+                             "element sides per full turn of a curved edge, 0 to turn it off")
+    if seed is not None:
+        seed = _whole(seed, "seed", 0, 2**31 - 1, "the seed of gmsh's random numbers, or None")
+    max_elements = _whole(max_elements, "max_elements", 1, 10**12, "the largest element count to accept")
 
     if fast is not None and not isinstance(fast, bool):
         raise InputError(f"fast must be True, False or None (automatic), got {fast!r}")
@@ -256,36 +295,70 @@ def mesh(
         g = s.gmsh
         built = _build(plate, s, pieces=plan.pieces)
         hmax = h if h is not None else built.scale
+        # quadrilaterals: gmsh meshes at twice the size, then every cell is split (see _all_quads)
+        k = 2.0 if quads else 1.0
         fields = []
         with _stage("set up the mesh sizes", s):
             for r in refine:
-                fields.append(_refine_field(g, built, r, hmax))
+                fields.append(_refine_field(g, built, r, hmax, k))
             if size_function is not None:
-                fields.append(_size_function_field(g, plan.quadtree))
+                fields.append(_size_function_field(g, plan.quadtree, k))
             if fields:
                 fmin = g.model.mesh.field.add("Min")
                 g.model.mesh.field.setNumbers(fmin, "FieldsList", fields)
                 g.model.mesh.field.setAsBackgroundMesh(fmin)
-        s.set("Mesh.MeshSizeMax", hmax)
+        s.set("Mesh.MeshSizeMax", k * hmax)
         s.set("Mesh.MeshSizeMin", 0.0)
         s.set("Mesh.MeshSizeFromPoints", 0)
-        s.set("Mesh.MeshSizeFromCurvature", circle_elements)
+        s.set("Mesh.MeshSizeFromCurvature", math.ceil(circle_elements / k))
         s.set("Mesh.MeshSizeExtendFromBoundary", 1)
         s.set("Mesh.Algorithm", _ALGORITHMS[algorithm])
         s.set("Mesh.RecombineAll", 1 if quads else 0)
         if quads:
-            # full-quad (no triangles left), the simple way: on plates with fillets, notches and region
-            # outlines its worst corners measured 32-40 / 144-158 degrees against 23-26 / 171-175
-            # for blossom full-quad (3), at the same speed
-            s.set("Mesh.RecombinationAlgorithm", 2)
+            # simple recombination, quads and triangles (split into quadrilaterals afterwards); gmsh's
+            # full-quad (2, 3) and blossom (1) recombinations make tangled cells at times, near a named
+            # point close to an edge or a small curved end (leftover triangles that overlap their
+            # neighbours), and full-quad fails on curves of one segment ("1D mesh cannot be divided
+            # by 2"); the simple one (0) made no such cell in 800 random plates
+            s.set("Mesh.RecombinationAlgorithm", 0)
         s.set("Mesh.ElementOrder", 1)
         s.set("Mesh.Renumber", 0)  # node tags of the edges stay put while the pieces are meshed
         if plan.fast and not quads:
             s.set("Mesh.Smoothing", 0)
         if seed is not None:
-            s.set("Mesh.RandomSeed", int(seed))
+            s.set("Mesh.RandomSeed", seed)
+        piecewise = plan.fast and len(built.surfaces) > 1
         with _stage("mesh the plate", s, "try another size or algorithm, or check for very thin parts"):
-            lin = _generate(g, built, s, piecewise=plan.fast and len(built.surfaces) > 1)
+            for attempt in range(1 + RETRIES):
+                lin = _generate(g, built, s, piecewise=piecewise)
+                if quads:
+                    lin = _all_quads(g, lin)
+                bad = _tangled(built, lin)
+                lost = _lost_point(built, lin) if bad is None else None
+                if bad is None and lost is None:
+                    break
+                if attempt == RETRIES:
+                    if lost is not None:
+                        raise GeometryError(
+                            f"gmsh left the named point {lost[0]!r} at {fmt_point(lost[1])} out of the mesh, also "
+                            f"with {RETRIES} smaller sizes there; try a smaller size near it "
+                            f"(Refine({lost[0]!r}, size=...)) or another size"
+                        )
+                    raise GeometryError(
+                        f"the mesh has overlapping, inside-out or badly distorted cells near {fmt_point(bad[0])}, "
+                        f"also with {RETRIES} smaller sizes there (a sliver between curves that come very close, "
+                        "or a named point very near an edge?); try a smaller size near that place "
+                        "(Refine((x, y), size=...)), another size or seed, or move the point or curve"
+                    )
+                # a cell that the split of a sliver triangle turned inside out (curved sides much
+                # closer than the element size), or a named point that gmsh failed to put into the
+                # mesh of a coarse surface: mesh again, with elements 3 times smaller there
+                g.model.mesh.clear()
+                place, length = bad if bad is not None else (lost[1], lost[2])
+                fields.append(_spot_field(g, place, k * length / 3.0, k * hmax))
+                fmin = g.model.mesh.field.add("Min")
+                g.model.mesh.field.setNumbers(fmin, "FieldsList", fields)
+                g.model.mesh.field.setAsBackgroundMesh(fmin)
         with _stage("make the quadratic cells" if order == 2 else "read the mesh back", s):
             out = _to_mesh(g, built, lin, order, quadratic)
         if save_msh is not None:
@@ -326,7 +399,8 @@ class _Plan:
 
 
 # -------------------------------------------------------------------------------------- size fields
-def _refine_field(g, built: _Built, r: Refine, hmax: float) -> int:
+def _refine_field(g, built: _Built, r: Refine, hmax: float, k: float = 1.0) -> int:
+    """Threshold field of ``r``, its sizes times ``k`` (the growth law keeps its distances)."""
     F = g.model.mesh.field
     if isinstance(r.at, tuple) and len(r.at) == 2 and not isinstance(r.at[0], str):
         x0, y0 = r.at
@@ -356,10 +430,24 @@ def _refine_field(g, built: _Built, r: Refine, hmax: float) -> int:
             F.setNumbers(dist, "PointsList", sorted(set(points)))
     th = F.add("Threshold")
     F.setNumber(th, "InField", dist)
-    F.setNumber(th, "SizeMin", r.size)
-    F.setNumber(th, "SizeMax", max(hmax, r.size))
+    F.setNumber(th, "SizeMin", k * r.size)
+    F.setNumber(th, "SizeMax", k * max(hmax, r.size))
     F.setNumber(th, "DistMin", r.within)
     F.setNumber(th, "DistMax", r.within + max(hmax - r.size, 0.0) / (r.growth - 1.0) + 1e-12 * built.scale)
+    return th
+
+
+def _spot_field(g, at: np.ndarray, size: float, hmax: float, growth: float = 1.3) -> int:
+    """Size ``size`` within one size of the point ``at``, growing by ``growth`` up to ``hmax``."""
+    F = g.model.mesh.field
+    dist = F.add("MathEval")
+    F.setString(dist, "F", f"Sqrt((x-({float(at[0])!r}))^2+(y-({float(at[1])!r}))^2)")
+    th = F.add("Threshold")
+    F.setNumber(th, "InField", dist)
+    F.setNumber(th, "SizeMin", size)
+    F.setNumber(th, "SizeMax", max(hmax, size))
+    F.setNumber(th, "DistMin", 3.0 * size)
+    F.setNumber(th, "DistMax", 3.0 * size + max(hmax - size, 0.0) / (growth - 1.0))
     return th
 
 
@@ -437,7 +525,7 @@ def _size_quadtree_for(fn, area: float, bbox, h: float | None, quads: bool, max_
     return X, Y, Sd, H, est
 
 
-def _size_function_field(g, quadtree) -> int:
+def _size_function_field(g, quadtree, scale: float = 1.0) -> int:
     X, Y, Sd, H, _ = quadtree
     xs = np.column_stack([X, X + Sd, X + Sd, X])
     ys = np.column_stack([Y, Y, Y + Sd, Y + Sd])
@@ -449,6 +537,7 @@ def _size_function_field(g, quadtree) -> int:
         data[k, :, 3:6] = ys[:, tri[k]]
         data[k, :, 6:9] = 0.0
         data[k, :, 9:12] = H[:, tri[k]]
+    data[..., 9:12] *= scale
     view = g.view.add("planar size function")
     g.view.addListData(view, "ST", 2 * n, np.ascontiguousarray(data.reshape(-1)))
     F = g.model.mesh.field
@@ -465,9 +554,9 @@ class _Linear:
     xy: np.ndarray  # (n, 2) every node
     surf_cells: list[tuple[int, str, np.ndarray]]  # (surface, layout, connectivity)
     curve_segs: dict[int, np.ndarray]  # curve -> (m, 2) node numbers, in gmsh's order along it
-    curve_tags: dict[int, np.ndarray]  # curve -> (m, 2) gmsh node tags of the same segments
+    curve_params: dict[int, np.ndarray | None]  # curved curve -> (m, 2) curve parameters of the segments
     point_nodes: dict[int, np.ndarray]  # gmsh point -> node numbers
-    tag_lookup: np.ndarray = field(repr=False, default=None)  # gmsh tag of an edge node -> number
+    ccw: bool = False  # every cell is counter-clockwise
 
 
 def _generate(g, built: _Built, s: _Session, piecewise: bool) -> _Linear:
@@ -518,7 +607,7 @@ def _generate(g, built: _Built, s: _Session, piecewise: bool) -> _Linear:
             lookup[itags] = -1  # gmsh may give these tags to the next piece's nodes
         if piecewise:
             g.model.mesh.clear([(2, t) for t in grp])
-    curve_segs, curve_tags = {}, {}
+    curve_segs, curve_params = {}, {}
     for _, c in g.model.getEntities(1):
         types, _, enodes = g.model.mesh.getElements(1, c)
         for t, en in zip(types, enodes):
@@ -526,13 +615,130 @@ def _generate(g, built: _Built, s: _Session, piecewise: bool) -> _Linear:
                 tg = np.asarray(en, dtype=np.int64).reshape(-1, 2)
                 if tg.max() >= edge_lookup.size or edge_lookup[tg].min() < 0:
                     raise MeshError(f"gmsh changed the mesh of curve {c} while meshing the surfaces")
-                curve_tags[c] = tg
                 curve_segs[c] = edge_lookup[tg]
+                if g.model.getType(1, c) != "Line":
+                    curve_params[c] = curve_parameters(g, c, tg)
     point_nodes = {}
     for tag in built.points.values():
         tags, _, _ = g.model.mesh.getNodes(0, tag, returnParametricCoord=False)
         point_nodes[tag] = edge_lookup[np.asarray(tags, dtype=np.int64)]
-    return _Linear(np.vstack(xy), surf_cells, curve_segs, curve_tags, point_nodes, edge_lookup)
+    return _Linear(np.vstack(xy), surf_cells, curve_segs, curve_params, point_nodes)
+
+
+def _curve_mids(g, lin: _Linear) -> dict[int, tuple[np.ndarray, np.ndarray | None]]:
+    """Points (and curve parameters) for the nodes of the segments of every curved curve."""
+    out = {}
+    for c, params in lin.curve_params.items():
+        seg = lin.curve_segs[c]
+        out[c] = curve_mid_points(g, c, params, lin.xy[seg[:, 0]], lin.xy[seg[:, 1]])
+    return out
+
+
+def _all_quads(g, lin: _Linear) -> _Linear:
+    """Split the cells of a quad-dominant mesh (made at twice the size) into quadrilaterals only.
+
+    Every Q4 becomes 4 and every T3 3 quadrilaterals (the side nodes of the curves on the true
+    curves, :func:`~planar.geometry._quadratic.subdivide`); then the nodes off the curves are
+    smoothed (:func:`~planar.geometry._quadratic.smooth`). This is gmsh's own full-quad way
+    (recombine at twice the size, split, smooth), done here because gmsh's version leaves tangled
+    triangles at times (see ``mesh``).
+    """
+    mids = _curve_mids(g, lin)
+    blocks = [(surf, lay, _counter_clockwise(lay, conn, lin.xy)[0]) for surf, lay, conn in lin.surf_cells]
+    xy, blocks, segs = subdivide(lin.xy, blocks, lin.curve_segs, {c: m[0] for c, m in mids.items()})
+    params = {}
+    for c, (_, um) in mids.items():
+        p = lin.curve_params[c]
+        params[c] = None if p is None or um is None else np.stack(
+            [np.column_stack([p[:, 0], um]), np.column_stack([um, p[:, 1]])], axis=1).reshape(-1, 2)
+    fixed = np.zeros(xy.shape[0], dtype=bool)
+    for seg in segs.values():
+        fixed[seg.ravel()] = True
+    for ids in lin.point_nodes.values():
+        fixed[ids] = True
+    if blocks:
+        conn = np.vstack([c for _, _, c in blocks])
+        xy = smooth(xy, conn, fixed)
+    return _Linear(xy, blocks, segs, params, lin.point_nodes)
+
+
+def _tangled(built: _Built, lin: _Linear) -> tuple[np.ndarray, float] | None:
+    """A place (x, y) and a length there where the linear cells overlap or turn inside out, or None
+    for a valid mesh.
+
+    With every cell counter-clockwise, a side between two cells is walked once each way, and the sides
+    of one cell only are the segments of the plate's boundary curves (common practice for the
+    validity of a mesh); quadrilaterals must be strictly convex and not badly distorted (``DISTORTED``).
+    Cells are made counter-clockwise here.
+    """
+    xy = lin.xy
+    n = np.int64(xy.shape[0])
+    keys = []
+    for i, (surf, lay, conn) in enumerate(lin.surf_cells):
+        nc = conn.shape[1]
+        x, y = xy[:, 0][conn], xy[:, 1][conn]
+        ex, ey = np.roll(x, -1, axis=1) - x, np.roll(y, -1, axis=1) - y  # side from corner k to k + 1
+        if nc == 3:  # one cross product: twice the signed area
+            lo = hi = ex[:, 2] * ey[:, 0] - ey[:, 2] * ex[:, 0]
+            neg = lo < 0
+        else:
+            fx, fy = np.roll(ex, 1, axis=1), np.roll(ey, 1, axis=1)  # side into corner k
+            cross = fx * ey - fy * ex
+            lo, hi = cross.min(axis=1), cross.max(axis=1)
+            neg = cross.sum(axis=1) < 0  # four times the signed area
+        if neg.any():  # clockwise: turned round, its corner cross products change sign
+            conn = conn.copy()
+            conn[neg] = conn[neg][:, _FLIP[lay]]
+            lo, hi = np.where(neg, -hi, lo), np.where(neg, -lo, hi)
+        lin.surf_cells[i] = (surf, lay, conn)
+        # convex (a triangle: not flat), and for a quadrilateral the Jacobian (linear in s, t, so
+        # extreme at the corners) not too uneven
+        bad = ~(lo > 0) | (lo < DISTORTED * hi) if lay == "Q4" else ~(lo > 0)
+        if bad.any():
+            q = xy[conn[np.flatnonzero(bad)[0]]]
+            return q.mean(axis=0), float(np.hypot(*(q[:, None] - q[None, :]).reshape(-1, 2).T).max())
+        a = conn.astype(np.int64).ravel()
+        b = np.roll(conn, -1, axis=1).astype(np.int64).ravel()
+        keys.append(2 * (np.minimum(a, b) * n + np.maximum(a, b)) + (a < b))
+    lin.ccw = True
+    k = np.sort(np.concatenate(keys)) if keys else np.empty(0, np.int64)
+    und = k >> 1
+    twice = np.flatnonzero(k[1:] == k[:-1])  # a side walked twice the same way
+    crowd = np.flatnonzero(und[2:] == und[:-2])  # a side of three cells or more
+    if twice.size or crowd.size:
+        key = und[twice[0]] if twice.size else und[crowd[0]]
+        return _side_place(xy, key, n)
+    first = np.ones(und.size, dtype=bool)
+    first[1:] = und[1:] != und[:-1]
+    last = np.ones(und.size, dtype=bool)
+    last[:-1] = und[:-1] != und[1:]
+    once = und[first & last]
+    curves = sorted({c for cs in built.edges.values() for c in cs if c in lin.curve_segs})
+    segs = np.vstack([lin.curve_segs[c] for c in curves]) if curves else np.empty((0, 2), np.int64)
+    bnd = np.unique(side_keys(segs[:, 0], segs[:, 1], int(n)))
+    if not np.array_equal(once, bnd):
+        odd = np.setxor1d(once, bnd)[0]
+        return _side_place(xy, odd, n)
+    return None
+
+
+def _lost_point(built: _Built, lin: _Linear) -> tuple[str, np.ndarray, float] | None:
+    """The first named point whose node no cell uses (name, place, the distance to the nearest used
+    node), or None."""
+    used = np.zeros(lin.xy.shape[0], dtype=bool)
+    for _, _, conn in lin.surf_cells:
+        used[conn.ravel()] = True
+    for nm, tag in built.points.items():
+        ids = lin.point_nodes.get(tag, np.empty(0, np.int64))
+        if ids.size and not used[ids].all():
+            at = lin.xy[ids[0]]
+            return nm, at, float(np.hypot(*(lin.xy[used] - at).T).min()) if used.any() else built.scale
+    return None
+
+
+def _side_place(xy: np.ndarray, key, n) -> tuple[np.ndarray, float]:
+    q = xy[[key // n, key % n]]
+    return q.mean(axis=0), float(np.hypot(*(q[1] - q[0])))
 
 
 def _to_mesh(g, built: _Built, lin: _Linear, order: int, quad_layout: str) -> Mesh:
@@ -542,7 +748,8 @@ def _to_mesh(g, built: _Built, lin: _Linear, order: int, quad_layout: str) -> Me
     region_cells: dict[str, dict[str, list[np.ndarray]]] = {}
     surf_region = {t: nm for nm, ts in built.regions.items() for t in ts}
     for surf, lay, conn in lin.surf_cells:
-        conn, _ = _counter_clockwise(lay, conn, xy)
+        if not lin.ccw:
+            conn, _ = _counter_clockwise(lay, conn, xy)
         start = counts.get(lay, 0)
         blocks.setdefault(lay, []).append(conn)
         counts[lay] = start + conn.shape[0]
@@ -571,11 +778,10 @@ def _to_mesh(g, built: _Built, lin: _Linear, order: int, quad_layout: str) -> Me
     if order == 2:
         n = xy.shape[0]
         keys, mids = [], []
-        for c, seg in segs.items():
-            if g.model.getType(1, c) == "Line":
-                continue
+        for c, (p, _) in _curve_mids(g, lin).items():
+            seg = segs[c]
             keys.append(side_keys(seg[:, 0], seg[:, 1], n))
-            mids.append(curve_mid_points(g, c, lin.curve_tags[c], lambda t: lin.xy[lin.tag_lookup[t]]))
+            mids.append(p)
         ck = np.concatenate(keys) if keys else np.empty(0, np.int64)
         cm = np.vstack(mids) if mids else np.empty((0, 2))
         xy, cells, uniq = _quadratic(xy, cells, ck, cm, quad_layout)
