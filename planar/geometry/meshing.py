@@ -50,6 +50,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
+from ..core.values import number
 from ..core.errors import GeometryError, InputError, MeshError, ResourceError, fmt_point, unknown_name
 from ..core.mesh import Mesh
 from ._build import _Built, _build
@@ -139,13 +140,7 @@ def _is_xy(a) -> bool:
 
 
 def _number(v, what) -> float:
-    try:
-        x = float(v)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {v!r}") from None
-    if not math.isfinite(x):
-        raise InputError(f"{what} must be finite, got {v!r}")
-    return x
+    return number(v, what)
 
 
 def _size(v, what) -> float:

@@ -486,11 +486,9 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     """
     import meshio
 
-    from .vtk import add_field_data, CELL_TYPES
+    from .vtk import CELL_TYPES, add_field_data, vtu_target
 
-    path = Path(path)
-    if path.suffix.lower() != ".vtu":
-        raise InputError(f"VTK output needs a .vtu file name, got {str(path)!r}")
+    path = vtu_target(path, compression)
     n = env.nodes.shape[0]
     pts = np.column_stack([env.nodes, np.zeros(n)])
     etypes = env._etypes or {}

@@ -73,11 +73,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     """
     import meshio
 
-    path = Path(path)
-    if path.suffix.lower() != ".vtu":
-        raise InputError(f"VTK output needs a .vtu file name, got {str(path)!r}")
-    if compression not in _COMPRESSIONS:
-        raise InputError(f"unknown compression {compression!r}; pick one of {', '.join(map(repr, _COMPRESSIONS))}")
+    path = vtu_target(path, compression)
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
     layouts = list(mesh.cells)
@@ -119,6 +115,16 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
         meshio.write(tmp, m, file_format="vtu", compression=compression)
         if len(names) > 1:  # region names for region_id (meshio writes no field data to .vtu)
             add_field_data(Path(tmp), {n: i for i, n in enumerate(names)})
+    return path
+
+
+def vtu_target(path, compression: str | None = None) -> Path:
+    """Check a .vtu output name and a compression choice; return the path."""
+    path = Path(path)
+    if path.suffix.lower() != ".vtu":
+        raise InputError(f"VTK output needs a .vtu file name, got {str(path)!r}")
+    if compression not in _COMPRESSIONS:
+        raise InputError(f"unknown compression {compression!r}; pick one of {', '.join(map(repr, _COMPRESSIONS))}")
     return path
 
 
