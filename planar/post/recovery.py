@@ -319,6 +319,30 @@ def _own_patches(centres, nodes, A_en, A_es, xs, vs, degree: int, floor: int, *,
     return val, done
 
 
+def _vertex_targets(samples: list[Samples], n: int) -> sp.csr_matrix:
+    """Vertex -> nodes its patch polynomial is evaluated at: itself, the mid-side nodes of the edges
+    that end at it, and the interior nodes of its elements (Zienkiewicz and Zhu 1992, Part 1: a
+    mid-side value is the mean of the patches of the edge's two end vertices)."""
+    rows, cols = [np.arange(n)], [np.arange(n)]
+    for smp in samples:
+        et = smp.block.etype
+        conn = np.asarray(smp.block.conn, dtype=np.int64)
+        ed = np.asarray(et.edges)
+        if ed.shape[1] > 2:  # (start, end, middle, ...)
+            e = conn[:, ed]  # (e, n_edges, 3+)
+            for end in (0, 1):
+                for m in range(2, ed.shape[1]):
+                    rows.append(e[:, :, end].ravel()); cols.append(e[:, :, m].ravel())
+        kc = et.corner_count()
+        on_edges = set(np.unique(ed).tolist())
+        inner = [k for k in range(et.n_nodes) if k not in on_edges]
+        for k in inner:  # e.g. the Q9 centre: from the patches of all its corners
+            for c in range(kc):
+                rows.append(conn[:, c]); cols.append(conn[:, k])
+    r, c = np.concatenate(rows), np.concatenate(cols)
+    return _incidence(r, c, (n, n))
+
+
 def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
                    boundary: str = "enlarged") -> np.ndarray:
     """Superconvergent patch recovery of sampled values over one region.
@@ -403,7 +427,7 @@ def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
     iv = np.flatnonzero(interior_vertex)
     if iv.size:
         patch_samples = _pattern(C_ne[iv] @ A_es)
-        targets = _pattern(C_ne[iv] @ A_en).tocoo()
+        targets = _pattern(_vertex_targets(samples, n)[iv]).tocoo()
         coef = np.zeros((iv.size, _n_terms(p), c))
         scale = np.ones(iv.size)
         ok = np.zeros(iv.size, dtype=bool)
