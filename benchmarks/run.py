@@ -51,13 +51,9 @@ def _plate(width=400.0, height=160.0, radius=20.0):
 
 
 def _mesh(plate, element: str, size: float):
-    from planar.geometry import mesh
+    from planar.geometry import element_options, mesh
 
-    quads = element.startswith("Q")
-    kw = dict(order=1 if element in ("T3", "Q4") else 2, quads=quads)
-    if element in ("Q8", "Q9"):
-        kw["quadratic"] = element
-    return mesh(plate, size=size, **kw)
+    return mesh(plate, size=size, **element_options(element))
 
 
 def size_for(plate, element: str, dofs: int) -> float:

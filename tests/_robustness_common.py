@@ -27,6 +27,7 @@ from planar.core.errors import (ElementError, GeometryError, InputError, Materia
                                 PlanarWarning, PluginError, SupportError)
 from planar.core.mesh import Mesh
 from planar.geometry import Circle, Ellipse, Plate, Rectangle, RoundedRectangle, Slot
+from planar.geometry import element_options
 from planar.geometry.structured import mapped_mesh, quad_panel_mesh, rectangle_mesh
 
 _COMMON = dict(deadline=None, derandomize=True, database=None, print_blob=False,
@@ -430,8 +431,7 @@ def build_plate_mesh(recipe) -> Mesh:
         plate = plate.cut(hole)
     plate = plate.add_point("load_point", (x0 + w, y0 + h / 2))
     el = recipe["element"]
-    return gmesh(plate, recipe["size"], order=2 if el in ("T6", "Q8", "Q9") else 1,
-                 quads=el[0] == "Q", quadratic=el if el in ("Q8", "Q9") else "Q8", seed=1)
+    return gmesh(plate, recipe["size"], seed=1, **element_options(el))
 
 
 @st.composite

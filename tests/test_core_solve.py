@@ -166,7 +166,7 @@ def test_prescribed_function_and_reactions():
     model.add_support(Roller("left", fixed="x"))
     model.add_support(Roller("corner_00", fixed="y"))
     model.add_support(Prescribed("right", ux=0.1))
-    model.add_load(BodyForce(0.0, 0.0), case="stretch")
+    model.add_case("stretch")
     r = solve(model)["stretch"]
     right = mesh.nodes_of("right")
     assert r.reactions[right, 0].sum() == pytest.approx(70e3 * 20 * 2 * 0.1 / 100.0, rel=1e-10)

@@ -32,6 +32,40 @@ def _index_dtype(n: int):
     return np.int32 if n < 2**31 - 1 else np.int64
 
 
+def read_meshio(path: str | os.PathLike, what: str = "mesh file"):
+    """Read a file with meshio, quietly; every failure becomes a MeshError naming the file.
+
+    meshio raises many kinds of exception, prints to the terminal, and calls ``sys.exit`` on some
+    content; none of that reaches the user.
+
+    Returns
+    -------
+    meshio.Mesh
+    """
+    import contextlib
+    import io
+
+    import meshio
+
+    path = os.fspath(path)
+    if not os.path.exists(path):
+        raise MeshError(f"{what} {path!r} does not exist")
+    if os.path.isdir(path):
+        raise MeshError(f"{path!r} is a folder, not a {what}")
+    _check_complete(path)
+    chatter = io.StringIO()
+    try:
+        with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
+            return meshio.read(path)
+    except (Exception, SystemExit) as exc:
+        said = " ".join(chatter.getvalue().split())[-300:]
+        cause = (said or "unreadable") if isinstance(exc, SystemExit) else f"{type(exc).__name__}: {exc}"
+        raise MeshError(
+            f"cannot read {what} {path!r} ({cause}); it may be damaged or of another format: "
+            "give a complete gmsh .msh (version 2 or 4) or a VTK .vtu file"
+        ) from None
+
+
 @dataclass
 class Mesh:
     """A 2D finite-element mesh with named sets.
@@ -361,28 +395,8 @@ class Mesh:
         MeshError
             If the file is missing, empty, truncated, of an unknown format, or holds no 2D cells.
         """
-        import contextlib
-        import io
-
-        import meshio
-
         path = os.fspath(path)
-        if not os.path.exists(path):
-            raise MeshError(f"mesh file {path!r} does not exist")
-        if os.path.isdir(path):
-            raise MeshError(f"{path!r} is a folder, not a mesh file")
-        _check_complete(path)
-        chatter = io.StringIO()
-        try:
-            with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
-                m = meshio.read(path)
-        except (Exception, SystemExit) as exc:  # meshio raises many kinds (and calls sys.exit on some)
-            said = " ".join(chatter.getvalue().split())[-300:]
-            cause = (said or "unreadable") if isinstance(exc, SystemExit) else f"{type(exc).__name__}: {exc}"
-            raise MeshError(
-                f"cannot read mesh file {path!r} ({cause}); it may be damaged or of another format: "
-                "give a complete gmsh .msh (version 2 or 4) or a VTK .vtu file"
-            ) from None
+        m = read_meshio(path)
         try:
             mesh = cls.from_meshio(m)
         except MeshError as exc:

@@ -141,6 +141,11 @@ class Model:
         self.supports.append(support)
         return support
 
+    def add_case(self, case: str) -> str:
+        """Create a load case with no load yet (e.g. one driven by prescribed displacements only)."""
+        self.cases.setdefault(str(case), [])
+        return str(case)
+
     def add_load(self, load: LoadKind | str, case: str = "load case 1", **params) -> LoadKind:
         """Add a load to a named load case.
 

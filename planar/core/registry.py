@@ -79,16 +79,21 @@ class Entry:
     value: str
 
 
+def _require(obj: Any, attrs, has, what: str, base: str, name_attr: str, name: str) -> None:
+    """The attributes a plugin must have, and its own name equal to its entry point's."""
+    missing = [a for a in attrs if not has(obj, a)]
+    if missing:
+        raise PluginError(f"{what} lacks {', '.join(missing)} (subclass {base})")
+    own = getattr(obj, name_attr, None)
+    if own != name:
+        raise PluginError(f"the entry point is named {name!r} but the {what} calls itself {own!r}; "
+                          f"make its `{name_attr}` attribute equal to the entry-point name")
+
+
 def _validate_element(obj: Any, name: str) -> None:
     needed = ["cell", "n_nodes", "degree", "ref_nodes", "edges", "default_order", "meshio_type",
               "reversed_order", "shape", "shape_derivatives", "default_rule"]
-    missing = [a for a in needed if not hasattr(obj, a)]
-    if missing:
-        raise PluginError(f"element type lacks {', '.join(missing)} (subclass planar.core.elements.ElementType)")
-    own = getattr(obj, "name", None)
-    if own != name:
-        raise PluginError(f"the entry point is named {name!r} but the element type calls itself {own!r}; "
-                          "make its `name` attribute equal to the entry-point name")
+    _require(obj, needed, hasattr, "element type", "planar.core.elements.ElementType", "name", name)
     if obj.cell not in ("triangle", "quad"):
         raise PluginError(f"element cell must be 'triangle' or 'quad', not {obj.cell!r}")
     if obj.degree not in (1, 2):
@@ -128,14 +133,8 @@ def _validate_element(obj: Any, name: str) -> None:
 def _validate_load(obj: Any, name: str) -> None:
     if not isinstance(obj, type):
         raise PluginError("a load kind must be a class (subclass planar.core.loads.LoadKind)")
-    missing = [a for a in ("nodal_forces", "initial_strain", "names_used", "describe")
-               if not callable(getattr(obj, a, None))]
-    if missing:
-        raise PluginError(f"load kind lacks {', '.join(missing)} (subclass planar.core.loads.LoadKind)")
-    own = getattr(obj, "kind", None)
-    if own != name:
-        raise PluginError(f"the entry point is named {name!r} but the load kind calls itself {own!r}; "
-                          "make its `kind` attribute equal to the entry-point name")
+    _require(obj, ("nodal_forces", "initial_strain", "names_used", "describe"),
+             lambda o, a: callable(getattr(o, a, None)), "load kind", "planar.core.loads.LoadKind", "kind", name)
 
 
 _VALIDATORS = {"element": _validate_element, "load": _validate_load}

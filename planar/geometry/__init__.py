@@ -5,7 +5,7 @@ Shapes (:class:`Rectangle`, :class:`Polygon`, :class:`Outline`, :class:`Circle`,
 :class:`planar.core.mesh.Mesh` with every boundary piece, point and region named. gmsh is imported
 only when a plate is built or meshed.
 """
-from .meshing import Refine, mesh
+from .meshing import Refine, element_options, mesh
 from .plate import Plate
 from .shapes import Circle, Ellipse, Outline, Polygon, Rectangle, RoundedRectangle, Shape, Slot
 
@@ -21,4 +21,5 @@ __all__ = [
     "RoundedRectangle",
     "Refine",
     "mesh",
+    "element_options",
 ]

@@ -59,7 +59,7 @@ from ._session import _Session, _stage
 from .plate import Plate
 from .shapes import Shape
 
-__all__ = ["Refine", "mesh"]
+__all__ = ["Refine", "mesh", "element_options"]
 
 #: gmsh element type number -> (layout name, nodes per cell) of the linear mesh gmsh makes
 _GMSH_CELLS = {2: ("T3", 3), 3: ("Q4", 4)}
@@ -162,6 +162,33 @@ def _whole(v, what: str, lo: int, hi: int, meaning: str) -> int:
     if not (ok and math.isfinite(x) and x == math.floor(x) and lo <= x <= hi):
         raise InputError(f"{what} must be a whole number from {lo} to {hi} ({meaning}), got {v!r}")
     return int(v)
+
+
+def element_options(element: str) -> dict:
+    """The :func:`mesh` keywords that give cells of one element layout.
+
+    Parameters
+    ----------
+    element : {"T3", "T6", "Q4", "Q8", "Q9"}
+
+    Returns
+    -------
+    dict
+        ``order``, ``quads`` and, for Q8/Q9, ``quadratic``.
+
+    Examples
+    --------
+    >>> element_options("Q9")
+    {'order': 2, 'quads': True, 'quadratic': 'Q9'}
+    """
+    table = {"T3": (1, False), "T6": (2, False), "Q4": (1, True), "Q8": (2, True), "Q9": (2, True)}
+    if element not in table:
+        raise InputError(f"unknown element layout {element!r}; pick one of {', '.join(table)}")
+    order, quads = table[element]
+    out = {"order": order, "quads": quads}
+    if element in ("Q8", "Q9"):
+        out["quadratic"] = element
+    return out
 
 
 def mesh(

@@ -633,23 +633,9 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
 
 # ---------------------------------------------------------------------------------------- vtu files
 def _read_vtu(path):
-    import meshio
+    from ..core.mesh import read_meshio
 
-    path = os.fspath(path)
-    if not os.path.exists(path):
-        raise MeshError(f"result file {path!r} does not exist")
-    import contextlib
-    import io
-
-    chatter = io.StringIO()
-    try:
-        with contextlib.redirect_stderr(chatter), contextlib.redirect_stdout(chatter):
-            return meshio.read(path)
-    except (Exception, SystemExit) as exc:  # meshio raises many kinds, and exits on unknown content
-        why = f"{type(exc).__name__}: {exc}" if not isinstance(exc, SystemExit) else \
-            " ".join(chatter.getvalue().split()) or "unreadable content"
-        raise MeshError(f"cannot read result file {path!r} ({why}); "
-                        "give a .vtu file written by planar or another VTK writer") from None
+    return read_meshio(path, "result file")
 
 
 def vtu_fields(path) -> dict[str, list[str]]:

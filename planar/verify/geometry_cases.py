@@ -25,12 +25,9 @@ LE1 = ("NAFEMS, The Standard NAFEMS Benchmarks, 1990, test LE1 (elliptic membran
 
 
 def _mesh(plate, element: str, size: float, refine=()):
-    from ..geometry import mesh
+    from ..geometry import element_options, mesh
 
-    kw = dict(order=1 if element in ("T3", "Q4") else 2, quads=element.startswith("Q"))
-    if element in ("Q8", "Q9"):
-        kw["quadratic"] = element
-    return mesh(plate, size=size, refine=list(refine), **kw)
+    return mesh(plate, size=size, refine=list(refine), **element_options(element))
 
 
 def peterson_ktn(d_over_w: float) -> float:
