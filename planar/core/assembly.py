@@ -7,6 +7,7 @@ elements.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -16,9 +17,11 @@ from .errors import ElementError, InputError, MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
 from .mesh import Mesh
 from .quadrature import Rule, rule_for
+from .parallel import map_chunks, threads
 from .registry import check_plugin_array, element_type, plugin_call
 
-__all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det"]
+__all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det", "shape_values",
+           "element_strains"]
 
 #: default chunk of elements per batched evaluation
 CHUNK = 4096
@@ -61,6 +64,30 @@ def _jac(coords: np.ndarray, dN: np.ndarray):
     c = y @ dN[:, :, 0].T  # dy/dxi
     d = y @ dN[:, :, 1].T  # dy/deta
     return a * d - b * c, (a, b, c, d)
+
+
+def element_strains(etype, coords: np.ndarray, D: np.ndarray, u_element: np.ndarray, rule: Rule,
+                    dNdx: np.ndarray | None = None) -> np.ndarray:
+    """Strains (e, q, 3) of a batch of elements at a rule's points.
+
+    From the element's own ``strain`` hook when it has one (checked like any plugin output),
+    otherwise from the shape-function derivatives (``dNdx`` if the caller has them already).
+    """
+    own = getattr(etype, "strain", None)
+    if own is not None:
+        with plugin_call("element", etype, "strain"):
+            eps = own(coords, D, u_element, rule)
+        return check_plugin_array("element", etype, "strain", eps, (coords.shape[0], rule.n_points, 3))
+    if dNdx is None:
+        _, dNdx = jacobian(etype, coords, rule.points)
+    return strains(dNdx, u_element)
+
+
+def shape_values(etype, points: np.ndarray) -> np.ndarray:
+    """Shape functions N (q, k) of an element type at reference points, checked like any plugin output."""
+    with plugin_call("element", etype, "shape"):
+        N = etype.shape(points)
+    return check_plugin_array("element", etype, "shape", N, (points.shape[0], etype.n_nodes))
 
 
 def jacobian_det(etype, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
@@ -163,9 +190,11 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
             )
         pts = _check_points(etype)
         det = np.empty((conn.shape[0], pts.shape[0]))
-        for s in range(0, conn.shape[0], CHUNK):
-            c = mesh.nodes[conn[s : s + CHUNK]]
-            det[s : s + CHUNK] = jacobian_det(etype, c, pts)
+
+        def chunk(s: int, conn=conn, det=det, etype=etype, pts=pts):
+            det[s : s + CHUNK] = jacobian_det(etype, mesh.nodes[conn[s : s + CHUNK]], pts)
+
+        map_chunks(chunk, range(0, conn.shape[0], CHUNK))
         scale = np.max(np.abs(det), axis=1)
         size = mesh.size()
         tiny = scale <= (1e-14 * size) ** 2
@@ -254,6 +283,40 @@ def _twins(cells, owners) -> tuple[str, str] | None:
     return None
 
 
+
+def _gather(parts: list, shape: tuple[int, int], fmt: str, idt) -> sp.spmatrix:
+    """Sum COO pieces [(rows, cols, values), ...] into one canonical CSC or CSR matrix.
+
+    The pieces are split into as many groups as there are threads; each group is concatenated and
+    compressed on its own thread, and the compressed matrices are added (a merge of sorted columns,
+    far cheaper than compressing everything in one thread). ``parts`` is emptied as it is used.
+    """
+    make = sp.csc_matrix if fmt == "csc" else sp.csr_matrix
+    if not parts:
+        return make(shape)
+    n = max(1, min(threads(), len(parts)))
+    bounds = np.linspace(0, len(parts), n + 1).round().astype(int)
+
+    def group(i: int):
+        mine = parts[bounds[i]:bounds[i + 1]]
+        r = np.concatenate([p[0] for p in mine]).astype(idt, copy=False)
+        c = np.concatenate([p[1] for p in mine]).astype(idt, copy=False)
+        v = np.concatenate([p[2] for p in mine])
+        for k in range(bounds[i], bounds[i + 1]):
+            parts[k] = None  # the pieces are copied: let them go
+        del mine
+        M = make((v, (r, c)), shape=shape)
+        del r, c, v
+        M.sum_duplicates()
+        return M
+
+    mats = map_chunks(group, range(n))
+    out = mats[0]
+    for M in mats[1:]:
+        out = out + M
+    out.sum_duplicates()
+    return out
+
 @dataclass
 class Block:
     """Cells of one element type and one region, with their section.
@@ -302,16 +365,17 @@ class Block:
         rule = rule or self.rule
         key = id(rule)
         if key not in self._geo:
-            with plugin_call("element", self.etype, "shape"):
-                N = self.etype.shape(rule.points)
-            N = check_plugin_array("element", self.etype, "shape", N, (rule.n_points, self.etype.n_nodes))
+            N = shape_values(self.etype, rule.points)
             xg = np.empty((self.n, rule.n_points, 2))
             dv = np.empty((self.n, rule.n_points))
-            for s in range(0, self.n, CHUNK):
+
+            def chunk(s: int) -> None:
                 c = nodes[self.conn[s : s + CHUNK]]
                 det = jacobian_det(self.etype, c, rule.points)
                 xg[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, c)
                 dv[s : s + CHUNK] = det * rule.weights[None, :] * self.thickness
+
+            map_chunks(chunk, range(0, self.n, CHUNK))
             self._geo[key] = (xg, dv, N)
         return self._geo[key]
 
@@ -386,7 +450,23 @@ class _BlockView:
         self.conn = block.conn
         self.region = block.region
         self.material = block.material
-        self.x_gauss, self.dvol, self.N = block.geometry(nodes)
+        self._nodes = nodes
+
+    @cached_property
+    def _geometry(self):
+        return self.block.geometry(self._nodes)  # only when a load asks (most need none of it)
+
+    @property
+    def x_gauss(self) -> np.ndarray:
+        return self._geometry[0]
+
+    @property
+    def dvol(self) -> np.ndarray:
+        return self._geometry[1]
+
+    @property
+    def N(self) -> np.ndarray:
+        return self._geometry[2]
 
 
 class Assembly:
@@ -406,6 +486,8 @@ class Assembly:
         self.blocks = self._blocks()
         self._edge_cache: dict[str, EdgeGeometry] = {}
         self.context = LoadContext(self.mesh, self.analysis, self._edge_geometry, self._cell_views)
+        #: results derived from the mesh alone (recovery operators), shared by every load case
+        self.cache: dict = {}
 
     # ------------------------------------------------------------------ blocks
     def _blocks(self) -> list[Block]:
@@ -517,26 +599,21 @@ class Assembly:
         """Global stiffness matrix K (2n x 2n), CSR."""
         ndof = 2 * self.mesh.n_nodes
         idt = np.int32 if ndof < 2**31 - 1 else np.int64
-        nnz = sum(b.n * (2 * b.etype.n_nodes) ** 2 for b in self.blocks)
-        rows = np.empty(nnz, dtype=idt)
-        cols = np.empty(nnz, dtype=idt)
-        vals = np.empty(nnz)
-        pos = 0
+        parts = []
         for b in self.blocks:
             m = 2 * b.etype.n_nodes
-            for s in range(0, b.n, CHUNK):
+
+            def chunk(s: int, b=b, m=m):
                 ke = self.element_matrices(b, s, s + CHUNK)
-                d = b.dofs(s, s + CHUNK)
+                d = b.dofs(s, s + CHUNK).astype(idt)
                 c = d.shape[0]
-                sl = slice(pos, pos + c * m * m)
-                rows[sl] = np.broadcast_to(d[:, :, None], (c, m, m)).ravel()
-                cols[sl] = np.broadcast_to(d[:, None, :], (c, m, m)).ravel()
-                vals[sl] = ke.ravel()
-                pos += c * m * m
+                return (np.broadcast_to(d[:, :, None], (c, m, m)).ravel(),
+                        np.broadcast_to(d[:, None, :], (c, m, m)).ravel(), ke.ravel())
+
+            parts += map_chunks(chunk, range(0, b.n, CHUNK))
         if timer is not None:
             timer.lap("element matrices")
-        K = sp.csr_matrix((vals, (rows, cols)), shape=(ndof, ndof))
-        K.sum_duplicates()
+        K = _gather(parts, (ndof, ndof), "csr", idt)
         if timer is not None:
             timer.lap("COO to CSR")
         return K
@@ -566,7 +643,8 @@ class Assembly:
         for b in self.blocks:
             m = 2 * b.etype.n_nodes
             la, lb = np.tril_indices(m)
-            for s in range(0, b.n, CHUNK):
+
+            def chunk(s: int, b=b, m=m, la=la, lb=lb):
                 ke = self.element_matrices(b, s, s + CHUNK)
                 d = b.dofs(s, s + CHUNK)
                 if rotation is not None:
@@ -575,9 +653,13 @@ class Assembly:
                 r, c = fi[:, la], fi[:, lb]
                 v = ke[:, la, lb]
                 keep = (r >= 0) & (c >= 0)
-                r, c, v = r[keep], c[keep], v[keep]
+                if not keep.all():
+                    r, c, v = r[keep], c[keep], v[keep]
+                else:
+                    r, c, v = r.ravel(), c.ravel(), v.ravel()
                 hi = np.maximum(r, c)
-                rows_l.append(hi.astype(idt)); cols_l.append((r + c - hi).astype(idt)); vals_l.append(v)
+                low = (r + c - hi).astype(idt)
+                pres = None
                 pi = pres_index[d]
                 touch = np.flatnonzero(np.any(pi >= 0, axis=1))
                 if touch.size:
@@ -586,16 +668,17 @@ class Assembly:
                     cc = np.broadcast_to(d[touch][:, None, :], (touch.size, m, m))
                     kk = ke[touch]
                     sel = rr >= 0
-                    rows_p.append(rr[sel]); cols_p.append(cc[sel]); vals_p.append(kk[sel])
+                    pres = (rr[sel], cc[sel], kk[sel])
+                return hi.astype(idt), low, v, pres
+
+            for hi, low, v, pres in map_chunks(chunk, range(0, b.n, CHUNK)):
+                rows_l.append(hi); cols_l.append(low); vals_l.append(v)
+                if pres is not None:
+                    rows_p.append(pres[0]); cols_p.append(pres[1]); vals_p.append(pres[2])
         if timer is not None:
             timer.lap("element matrices")
-        r = np.concatenate(rows_l) if rows_l else np.zeros(0, idt)
-        c = np.concatenate(cols_l) if cols_l else np.zeros(0, idt)
-        v = np.concatenate(vals_l) if vals_l else np.zeros(0)
+        L = _gather(list(zip(rows_l, cols_l, vals_l)), (nf, nf), "csc", idt)
         del rows_l, cols_l, vals_l
-        L = sp.csc_matrix((v, (r, c)), shape=(nf, nf))
-        del r, c, v
-        L.sum_duplicates()
         ndof = 2 * self.mesh.n_nodes
         if rows_p:
             Kp = sp.csr_matrix((np.concatenate(vals_p), (np.concatenate(rows_p), np.concatenate(cols_p))),

@@ -12,10 +12,10 @@ from typing import Any, Callable
 
 import numpy as np
 
-from .assembly import CHUNK, jacobian, strains
+from .assembly import CHUNK, element_strains
 from .errors import InputError
 from .materials import sigma_zz
-from .registry import check_plugin_array, plugin_call
+from .parallel import map_chunks
 
 __all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix"]
 
@@ -176,18 +176,13 @@ class Result:
             rule = b.etype.default_rule() if b.rule_mode == "selective" else b.rule
             x, dv, _ = b.geometry(nodes, rule)
             strain = np.empty((b.n, rule.n_points, 3))
-            for s in range(0, b.n, CHUNK):
+
+            def chunk(s: int, b=b, rule=rule, strain=strain):
                 coords = nodes[b.conn[s : s + CHUNK]]
                 ue = self.u[b.conn[s : s + CHUNK]].reshape(coords.shape[0], -1)
-                own = getattr(b.etype, "strain", None)
-                if own is not None:
-                    with plugin_call("element", b.etype, "strain"):
-                        eps = own(coords, b.D, ue, rule)
-                    strain[s : s + CHUNK] = check_plugin_array("element", b.etype, "strain", eps,
-                                                               (coords.shape[0], rule.n_points, 3))
-                else:
-                    _, dNdx = jacobian(b.etype, coords, rule.points)
-                    strain[s : s + CHUNK] = strains(dNdx, ue)
+                strain[s : s + CHUNK] = element_strains(b.etype, coords, b.D, ue, rule)
+
+            map_chunks(chunk, range(0, b.n, CHUNK))
             if e0 is not None:
                 if e0.shape[1] != rule.n_points:
                     raise InputError("initial strains were given on another rule than the stress rule")

@@ -53,6 +53,7 @@ import numpy as np
 from ..core.values import number
 from ..core.errors import GeometryError, InputError, MeshError, ResourceError, fmt_point, unknown_name
 from ..core.mesh import Mesh
+from ..core.parallel import threads
 from ._build import _Built, _build
 from ._quadratic import curve_mid_points, curve_parameters, quadratic as _quadratic, side_keys, smooth, subdivide
 from ._session import _Session, _stage
@@ -594,9 +595,15 @@ def _generate(g, built: _Built, s: _Session, piecewise: bool) -> _Linear:
     lookup[btags] = np.arange(n)
     edge_lookup = lookup.copy()
     surf_region = {t: nm for nm, ts in built.regions.items() for t in ts}
-    groups = [[t] for t in built.surfaces] if piecewise else [list(built.surfaces)]
+    # the pieces are meshed in groups, one piece per thread of gmsh's own (each surface alone is
+    # meshed the same way in any thread, so the mesh does not depend on the number of threads)
+    nthr = threads() if piecewise else 1
+    surfs = list(built.surfaces)
+    groups = [surfs[i:i + nthr] for i in range(0, len(surfs), nthr)] if piecewise else [surfs]
     if piecewise:
         s.set("Mesh.MeshOnlyVisible", 1)
+        s.set("General.NumThreads", nthr)
+        s.set("Mesh.MaxNumThreads2D", nthr)
     surf_cells = []
     for grp in groups:
         if piecewise:

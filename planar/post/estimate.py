@@ -18,7 +18,8 @@ from typing import Callable
 
 import numpy as np
 
-from ..core.assembly import CHUNK, jacobian, strains
+from ..core.assembly import CHUNK, element_strains, jacobian, shape_values
+from ..core.parallel import map_chunks
 from ..core.errors import InputError
 from .norms import energy_norm_error, stress_error_rule
 from .recovery import METHODS, _has_initial_strain, recover
@@ -98,21 +99,20 @@ class ErrorEstimate:
 def _stress_at(result, block, rule):
     """FE stress (e, q, 3), dvol (e, q) and N (q, k) of a block at a rule's points."""
     nodes = result.mesh.nodes
-    N = block.etype.shape(rule.points)
+    N = shape_values(block.etype, rule.points)
     stress = np.empty((block.n, rule.n_points, 3))
     dvol = np.empty((block.n, rule.n_points))
-    own = getattr(block.etype, "strain", None)
-    for s in range(0, block.n, CHUNK):
+
+    def chunk(s: int) -> None:
         conn = block.conn[s : s + CHUNK]
         coords = nodes[conn]
         ue = result.u[conn].reshape(coords.shape[0], -1)
         det, dNdx = jacobian(block.etype, coords, rule.points)
-        if own is not None:
-            eps = own(coords, block.D, ue, rule)
-        else:
-            eps = strains(dNdx, ue)
+        eps = element_strains(block.etype, coords, block.D, ue, rule, dNdx)
         stress[s : s + CHUNK] = np.einsum("ab,eqb->eqa", block.D, eps)
         dvol[s : s + CHUNK] = det * rule.weights[None, :] * block.thickness
+
+    map_chunks(chunk, range(0, block.n, CHUNK))
     return stress, dvol, N
 
 
@@ -161,7 +161,7 @@ def estimate_error(result, *, recovery: str = "spr") -> ErrorEstimate:
         Dinv = np.linalg.inv(b.D)
         if _has_initial_strain(g):
             sh, dvol, rule = g.stress, g.dvol, g.rule
-            N = b.etype.shape(rule.points)
+            N = shape_values(b.etype, rule.points)
         else:
             rule = stress_error_rule(b.etype)
             sh, dvol, N = _stress_at(result, b, rule)

@@ -5,7 +5,7 @@ from typing import Callable
 
 import numpy as np
 
-from ..core.assembly import CHUNK, jacobian, strains
+from ..core.assembly import CHUNK, element_strains, jacobian, shape_values
 from ..core.quadrature import rule_for
 
 __all__ = ["energy_norm_error", "stress_error_rule"]
@@ -40,17 +40,13 @@ def energy_norm_error(result, exact_stress: Callable[[np.ndarray, np.ndarray], n
     nodes = result.mesh.nodes
     for b in result.assembly.blocks:
         rule = stress_error_rule(b.etype)
-        N = b.etype.shape(rule.points)
+        N = shape_values(b.etype, rule.points)
         Dinv = np.linalg.inv(b.D)
         for s in range(0, b.n, CHUNK):
             coords = nodes[b.conn[s : s + CHUNK]]
             ue = result.u[b.conn[s : s + CHUNK]].reshape(coords.shape[0], -1)
             det, dNdx = jacobian(b.etype, coords, rule.points)
-            own = getattr(b.etype, "strain", None)
-            if own is not None:
-                eps = own(coords, b.D, ue, rule)
-            else:
-                eps = strains(dNdx, ue)
+            eps = element_strains(b.etype, coords, b.D, ue, rule, dNdx)
             sh = np.einsum("ab,eqb->eqa", b.D, eps)
             x = np.einsum("qk,eki->eqi", N, coords)
             se = np.asarray(exact_stress(x[..., 0], x[..., 1]), dtype=float)
