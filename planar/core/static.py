@@ -276,6 +276,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
     rhs = Fl[free] - coupling[free][:, None]
     timer.lap("load vectors")
+    from ..post.recovery import prepare_recovery  # noqa: deferred core -> post import
+
+    prepare_recovery(asm, free.size)  # builds while the solver orders the unknowns (one core busy)
     modes = None
     if solver in ("amg", "auto"):
         modes = _rigid_modes(mesh.nodes, cons.rotation)[free]

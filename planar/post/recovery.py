@@ -63,19 +63,22 @@ points, and each group's normal equations are solved as one batched ``numpy.lina
 """
 from __future__ import annotations
 
+from concurrent.futures import Future
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import scipy.sparse as sp
 
-from ..core.assembly import CHUNK, jacobian, strains
+from ..core.assembly import CHUNK, element_strains, shape_values
+from ..core.parallel import background, map_chunks
 from ..core.errors import InputError
 from ..core.materials import sigma_zz
 from ..core.quadrature import Rule, rule_for
 from ..core.result import extrapolation_matrix, stress_measures
 
-__all__ = ["recover", "sampling_rule", "Samples", "stress_samples", "patch_recovery", "METHODS"]
+__all__ = ["recover", "sampling_rule", "Samples", "stress_samples", "patch_recovery", "recovery_operator",
+           "RecoveryOperator", "METHODS"]
 
 #: recovery methods a user can ask for
 METHODS = ("spr", "average")
@@ -150,26 +153,34 @@ def stress_samples(result) -> list[Samples]:
     """
     nodes = result.mesh.nodes
     analysis = result.model.analysis
+    blocks = result.assembly.blocks
+    e0s = list(getattr(result, "_e0", None) or [None] * len(blocks))
     out = []
-    for b, g in zip(result.assembly.blocks, result.gauss):
-        if _has_initial_strain(g):
-            out.append(Samples(b, g.x, np.concatenate([g.stress, g.szz[..., None]], axis=-1), False))
-            continue
+    for i, b in enumerate(blocks):
+        e0 = e0s[i]
+        if e0 is not None and np.any(e0):  # the Gauss fields tell whether it strains the plane
+            g = result.gauss[i]
+            if _has_initial_strain(g):
+                out.append(Samples(b, g.x, np.concatenate([g.stress, g.szz[..., None]], axis=-1), False))
+                continue
         rule = sampling_rule(b.etype)
-        N = b.etype.shape(rule.points)
+        stiff = b.etype.default_rule() if b.rule_mode == "selective" else b.rule
+        if stiff.points.shape == rule.points.shape and np.array_equal(stiff.points, rule.points):
+            g = result.gauss[i]  # the stiffness rule samples there already (T3, T6): reuse its stresses
+            out.append(Samples(b, g.x, np.concatenate([g.stress, g.szz[..., None]], axis=-1), True))
+            continue
+        N = shape_values(b.etype, rule.points)
         x = np.empty((b.n, rule.n_points, 2))
         strain = np.empty((b.n, rule.n_points, 3))
-        own = getattr(b.etype, "strain", None)
-        for s in range(0, b.n, CHUNK):
+
+        def chunk(s: int, b=b, N=N, x=x, strain=strain, rule=rule):
             conn = b.conn[s : s + CHUNK]
             coords = nodes[conn]
             ue = result.u[conn].reshape(coords.shape[0], -1)
             x[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, coords)
-            if own is not None:
-                strain[s : s + CHUNK] = own(coords, b.D, ue, rule)
-            else:
-                _, dNdx = jacobian(b.etype, coords, rule.points)
-                strain[s : s + CHUNK] = strains(dNdx, ue)
+            strain[s : s + CHUNK] = element_strains(b.etype, coords, b.D, ue, rule)
+
+        map_chunks(chunk, range(0, b.n, CHUNK))
         stress = np.einsum("ab,eqb->eqa", b.D, strain)
         if hasattr(b.material, "compliance3d"):
             szz = sigma_zz(b.material, analysis, stress)
@@ -204,36 +215,27 @@ def _basis(X: np.ndarray, degree: int) -> np.ndarray:
 _FIT_CHUNK = 4096  # patches per batch: small enough for the arrays to stay in cache
 
 
-def _fit(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int,
-         weighted: bool = False):
-    """Least-squares fits of one group of patches (see :func:`_fit_batch`), in cache-sized batches."""
-    n_p = idx.shape[0]
-    if n_p <= _FIT_CHUNK:
-        return _fit_batch(xs, vs, centres, idx, degree, weighted)
-    parts = [_fit_batch(xs, vs, centres[a : a + _FIT_CHUNK], idx[a : a + _FIT_CHUNK], degree, weighted)
-             for a in range(0, n_p, _FIT_CHUNK)]
-    return tuple(np.concatenate([p[i] for p in parts]) for i in range(3))
-
-
-def _fit_batch(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int,
-               weighted: bool = False):
-    """Least-squares fits of one group of patches with the same number of points.
+def _fit_batch(xs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int, weighted: bool = False):
+    """Least-squares fit operators of one batch of patches with the same number of points.
 
     Parameters
     ----------
-    xs : (S, 2) sample coordinates; vs : (S, c) sample values
+    xs : (S, 2) sample coordinates
     centres : (n_p, 2) patch centres; idx : (n_p, m) sample numbers of each patch
     weighted : weight each point by 1 / (d / scale + 1/4)^2 (d its distance from the centre)
 
     Returns
     -------
-    coef : (n_p, n_terms, c); scale : (n_p,); ok : (n_p,) bool
+    G : (n_p, n_terms, m)
+        The coefficients of a patch's polynomial are ``G @ values[idx]`` (zero where not ``ok``):
+        G = (P^T W P)^-1 P^T W, with P the basis at the points in coordinates centred on the patch
+        centre and divided by ``scale``.
+    scale : (n_p,); ok : (n_p,) bool (False: too few or badly placed points for the degree)
     """
     nt = _n_terms(degree)
     n_p, m = idx.shape
-    c = vs.shape[1]
     if m < nt:
-        return np.zeros((n_p, nt, c)), np.ones(n_p), np.zeros(n_p, dtype=bool)
+        return np.zeros((n_p, nt, m)), np.ones(n_p), np.zeros(n_p, dtype=bool)
     X = xs[idx] - centres[:, None, :]
     r2 = X[..., 0] * X[..., 0] + X[..., 1] * X[..., 1]  # (n_p, m)
     scale = np.sqrt(np.max(r2, axis=1))
@@ -246,13 +248,22 @@ def _fit_batch(xs: np.ndarray, vs: np.ndarray, centres: np.ndarray, idx: np.ndar
         Pw = P
     PwT = Pw.transpose(0, 2, 1)
     A = PwT @ P  # batched normal equations (n_p, nt, nt)
-    rhs = PwT @ vs[idx]
     ev = np.linalg.eigvalsh(A)
     ok = ev[:, 0] > _CONDITION * np.maximum(ev[:, -1], 1e-300)
     A[~ok] = np.eye(nt)
-    rhs[~ok] = 0.0
-    coef = np.linalg.solve(A, rhs)
-    return coef, scale, ok
+    G = np.linalg.solve(A, PwT)
+    G[~ok] = 0.0
+    return G, scale, ok
+
+
+def _fit(xs: np.ndarray, centres: np.ndarray, idx: np.ndarray, degree: int, weighted: bool = False):
+    """Fit operators of one group of patches (see :func:`_fit_batch`), in cache-sized batches."""
+    n_p = idx.shape[0]
+    if n_p <= _FIT_CHUNK:
+        return _fit_batch(xs, centres, idx, degree, weighted)
+    parts = map_chunks(lambda a: _fit_batch(xs, centres[a : a + _FIT_CHUNK], idx[a : a + _FIT_CHUNK],
+                                            degree, weighted), range(0, n_p, _FIT_CHUNK))
+    return tuple(np.concatenate([p[i] for p in parts]) for i in range(3))
 
 
 def _rows_by_length(M: sp.csr_matrix):
@@ -279,7 +290,7 @@ def _incidence(rows: np.ndarray, cols: np.ndarray, shape) -> sp.csr_matrix:
 
 
 # ---------------------------------------------------------------------------- the operator
-def _own_patches(centres, nodes, A_en, A_es, xs, vs, degree: int, floor: int, *, weighted: bool,
+def _own_patches(centres, nodes, A_en, A_es, xs, degree: int, floor: int, *, weighted: bool,
                  max_rings: int = 4):
     """Fits centred on given nodes over their elements and neighbours, one value per node.
 
@@ -289,12 +300,14 @@ def _own_patches(centres, nodes, A_en, A_es, xs, vs, degree: int, floor: int, *,
 
     Returns
     -------
-    val : (n, c) values at the nodes; done : (n,) bool, False where no fit was possible
+    parts : list of (node (k,), samples (k, m), weights (k, m))
+        A node's value is the weighted sum of its samples (the polynomial is centred on the node,
+        so its value there is its constant term).
+    done : (n,) bool, False where no fit was possible
     """
-    c = vs.shape[1]
     A_ne = A_en.T.tocsr()
-    val = np.zeros((nodes.size, c))
     done = np.zeros(nodes.size, dtype=bool)
+    parts = []
     ring = _pattern(A_ne[nodes])
     need = 3 * _n_terms(degree) // 2
     for k in range(max_rings):
@@ -310,13 +323,12 @@ def _own_patches(centres, nodes, A_en, A_es, xs, vs, degree: int, floor: int, *,
                 if not sel.any():
                     break
                 r = rows[sel]
-                cf, _, ok_ = _fit(xs, vs, centres[r], idx[sel], deg, weighted)
-                # the patch is centred on the node, so the polynomial's value there is its constant term
-                val[r[ok_]] = cf[ok_, 0, :]
+                G, _, ok_ = _fit(xs, centres[r], idx[sel], deg, weighted)
+                parts.append((nodes[r[ok_]], idx[sel][ok_], G[ok_, 0, :]))
                 done[r[ok_]] = True
         if done.all():
             break
-    return val, done
+    return parts, done
 
 
 def _vertex_targets(samples: list[Samples], n: int) -> sp.csr_matrix:
@@ -343,36 +355,76 @@ def _vertex_targets(samples: list[Samples], n: int) -> sp.csr_matrix:
     return _incidence(r, c, (n, n))
 
 
-def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
-                   boundary: str = "enlarged") -> np.ndarray:
-    """Superconvergent patch recovery of sampled values over one region.
+@dataclass
+class _Piece:
+    """One batch of the operator: values at nodes ``node`` from the samples ``samples``.
 
-    Parameters
+    With ``fit`` (b, nt, m): b patch polynomials ``fit @ values[samples]``, evaluated at their
+    target nodes as ``terms`` (k, nt) times the coefficients of patch ``patch`` (k,). Without:
+    ``terms`` (k, m) are the weights of each node's own samples ``samples`` (k, m).
+    """
+
+    node: np.ndarray
+    samples: np.ndarray
+    terms: np.ndarray
+    fit: np.ndarray | None = None
+    patch: np.ndarray | None = None
+
+    def values(self, v: np.ndarray) -> np.ndarray:
+        if self.fit is None:
+            return np.einsum("km,kmc->kc", self.terms, v[self.samples])
+        coef = self.fit @ v[self.samples]  # (b, nt, c)
+        return np.einsum("kt,ktc->kc", self.terms, coef[self.patch])
+
+
+class RecoveryOperator:
+    """Patch recovery of one region as a linear map from sampled to nodal values.
+
+    Everything SPR does to sampled values (fits over the patches, evaluation at the nodes,
+    averaging) is linear in the values and depends on the mesh alone, so it is built once per
+    mesh and region and applied to every load case, combination and field. It keeps each patch's
+    fit operator (P^T W P)^-1 P^T W and its polynomial terms at the target nodes, so applying it
+    is two small batched products per patch.
+
+    Attributes
     ----------
-    mesh : Mesh
-        The mesh the blocks' connectivity refers to.
-    samples : list of Samples
-        Sampled values of the blocks of ONE region (any number of element types). ``stress`` may have
-        any number of components c in its last axis.
-    degree : int, optional
-        Degree of the fitted complete polynomial; default the largest element degree of the blocks.
-    boundary : {"enlarged", "interior"}
-        How nodes on the region boundary are recovered: each from its own patch enlarged by the
-        neighbouring elements (``"enlarged"``, the default; see the module notes), or from the
-        polynomials of the interior vertex patches that contain them (``"interior"``, Zienkiewicz
-        and Zhu 1992).
+    n_nodes, n_samples : int
+    valid : ndarray of bool, shape (n_nodes,)
+        False at nodes outside the region or without a determined fit (their value is NaN).
+    """
 
-    Returns
-    -------
-    ndarray, shape (n_nodes, c)
-        Recovered nodal values; NaN at nodes that no element of the samples touches.
+    def __init__(self, n_nodes: int, n_samples: int, pieces: list[_Piece], valid: np.ndarray):
+        self.n_nodes, self.n_samples = int(n_nodes), int(n_samples)
+        self._pieces = pieces
+        self.valid = valid
+        self._node = np.concatenate([pc.node for pc in pieces]) if pieces else np.zeros(0, np.int64)
 
-    Notes
-    -----
-    For each patch the coefficients a of sigma*(x) = P(x) a solve the normal equations
-    (sum_k P^T(x_k) P(x_k)) a = sum_k P^T(x_k) sigma_h(x_k) over its sampling points x_k
-    (Zienkiewicz and Zhu 1992, Part 1, eqs. 7-9). Sampled values that are a polynomial of degree
-    ``degree`` are reproduced exactly at every node (the consistency condition).
+    def apply(self, values: np.ndarray) -> np.ndarray:
+        """Nodal values (n_nodes, c) from sampled values (n_samples, c)."""
+        values = np.asarray(values, dtype=float)
+        c = values.shape[1]
+        out = np.zeros((self.n_nodes, c))
+        if self._pieces:
+            v = np.concatenate(map_chunks(lambda i: self._pieces[i].values(values), range(len(self._pieces))))
+            for j in range(c):
+                out[:, j] = np.bincount(self._node, weights=v[:, j], minlength=self.n_nodes)
+        out[~self.valid] = np.nan
+        return out
+
+
+def _target_ranges(starts: np.ndarray, r: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Positions start[r_i]..start[r_i + 1] for every i, and the i of each position."""
+    cnt = starts[r + 1] - starts[r]
+    loc = np.repeat(np.arange(r.size), cnt)
+    off = np.cumsum(cnt) - cnt
+    return np.repeat(starts[r] - off, cnt) + np.arange(int(cnt.sum())), loc
+
+
+def recovery_operator(mesh, samples: list[Samples], *, degree: int | None = None,
+                      boundary: str = "enlarged") -> RecoveryOperator:
+    """The SPR map of one region's sampling points (only ``block`` and ``x`` of the samples are used).
+
+    See :func:`patch_recovery` for the parameters and the method.
     """
     if boundary not in _BOUNDARY:
         raise InputError(f"unknown boundary treatment {boundary!r}; pick one of {', '.join(_BOUNDARY)}")
@@ -382,9 +434,7 @@ def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
     p = int(degree if degree is not None else max(s.block.etype.degree for s in samples))
     if p < 0:
         raise InputError(f"the recovery polynomial degree must be >= 0, got {p}")
-    c = samples[0].stress.shape[-1]
     xs = np.concatenate([s.x.reshape(-1, 2) for s in samples])
-    vs = np.concatenate([s.stress.reshape(-1, c) for s in samples])
     # element numbering over the region's blocks; incidence element-node, element-corner, element-sample
     er, ec, cr, cc, sr, sc, edges = [], [], [], [], [], [], []
     e0 = s0 = 0
@@ -420,44 +470,94 @@ def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
     on_boundary[bseg[bseg >= 0]] = True
     interior_vertex = is_vertex & ~on_boundary
 
-    acc = np.zeros((n, c))
-    cnt_n = np.zeros(n)
+    nodes_xy = mesh.nodes
     own_patch = in_region & on_boundary if boundary == "enlarged" else np.zeros(n, dtype=bool)
+    parts: list[_Piece] = []
+    reached = np.zeros(n)  # patches whose polynomial is averaged at each node
     # 1. interior vertex patches, evaluated at their vertex and at the other nodes of their elements
     iv = np.flatnonzero(interior_vertex)
     if iv.size:
         patch_samples = _pattern(C_ne[iv] @ A_es)
-        targets = _pattern(_vertex_targets(samples, n)[iv]).tocoo()
-        coef = np.zeros((iv.size, _n_terms(p), c))
-        scale = np.ones(iv.size)
-        ok = np.zeros(iv.size, dtype=bool)
-        for rows, idx in _rows_by_length(patch_samples):
-            cf, sc_, ok_ = _fit(xs, vs, mesh.nodes[iv[rows]], idx, p)
-            coef[rows], scale[rows], ok[rows] = cf, sc_, ok_
+        targets = _pattern(_vertex_targets(samples, n)[iv]).tocoo()  # sorted by patch
         pr, node = targets.row, targets.col
-        keep = ok[pr] & ((node == iv[pr]) | ~(interior_vertex | own_patch)[node])
+        keep = (node == iv[pr]) | ~(interior_vertex | own_patch)[node]
         pr, node = pr[keep], node[keep]
-        X = (mesh.nodes[node] - mesh.nodes[iv[pr]]) / scale[pr, None]
-        P = _basis(X, p)  # (k, nt); the polynomial of patch pr evaluated at its target nodes
-        val = np.zeros((P.shape[0], c))
-        for i in range(P.shape[1]):  # one term at a time: no (k, nt, c) gather of coefficients
-            val += P[:, i : i + 1] * np.ascontiguousarray(coef[:, i, :])[pr]
-        for j in range(c):
-            acc[:, j] += np.bincount(node, weights=val[:, j], minlength=n)
-        cnt_n += np.bincount(node, minlength=n)
+        starts = np.searchsorted(pr, np.arange(iv.size + 1))
+        for rows, idx in _rows_by_length(patch_samples):
+
+            def batch(a: int, rows=rows, idx=idx):
+                r, ix = rows[a : a + _FIT_CHUNK], idx[a : a + _FIT_CHUNK]
+                G, scale, ok = _fit_batch(xs, nodes_xy[iv[r]], ix, p)
+                at, loc = _target_ranges(starts, r)
+                good = ok[loc]
+                at, loc = at[good], loc[good]
+                tn = node[at]
+                X = (nodes_xy[tn] - nodes_xy[iv[r[loc]]]) / scale[loc, None]
+                P = _basis(X, p)  # (k, nt): patch polynomial's terms at its target nodes
+                return _Piece(tn, ix.astype(np.int32), P, G, loc.astype(np.int32))
+
+            parts += map_chunks(batch, range(0, rows.size, _FIT_CHUNK))
+        if parts:
+            reached += np.bincount(np.concatenate([pc.node for pc in parts]), minlength=n)
+            inv_reached = 1.0 / np.maximum(reached, 1.0)
+            for pc in parts:  # a node's value: the mean of the patch polynomials that reach it
+                pc.terms *= inv_reached[pc.node][:, None]
     # 2. own patches: boundary nodes ("enlarged") and nodes no interior patch reached
-    todo = np.flatnonzero(own_patch | (in_region & (cnt_n == 0)))
+    todo = np.flatnonzero(own_patch | (in_region & (reached == 0)))
     if todo.size:
         enlarged = boundary == "enlarged"
         all_quads = all(smp.block.etype.cell == "quad" for smp in samples)
-        val, done = _own_patches(mesh.nodes[todo], todo, A_en, A_es, xs, vs,
+        own, done = _own_patches(nodes_xy[todo], todo, A_en, A_es, xs,
                                  p + 1 if enlarged and all_quads else p, p, weighted=enlarged)
-        acc[todo] = val
-        cnt_n[todo] = np.where(done, 1.0, 0.0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        out = acc / cnt_n[:, None]
-    out[~in_region] = np.nan
-    return out
+        parts += [_Piece(tn, cols.astype(np.int32), W) for tn, cols, W in own]
+        reached[todo] = np.where(done, 1.0, 0.0)
+    return RecoveryOperator(n, S, parts, in_region & (reached > 0))
+
+
+def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
+                   boundary: str = "enlarged", operator: RecoveryOperator | None = None) -> np.ndarray:
+    """Superconvergent patch recovery of sampled values over one region.
+
+    Parameters
+    ----------
+    mesh : Mesh
+        The mesh the blocks' connectivity refers to.
+    samples : list of Samples
+        Sampled values of the blocks of ONE region (any number of element types). ``stress`` may have
+        any number of components c in its last axis.
+    degree : int, optional
+        Degree of the fitted complete polynomial; default the largest element degree of the blocks.
+    boundary : {"enlarged", "interior"}
+        How nodes on the region boundary are recovered: each from its own patch enlarged by the
+        neighbouring elements (``"enlarged"``, the default; see the module notes), or from the
+        polynomials of the interior vertex patches that contain them (``"interior"``, Zienkiewicz
+        and Zhu 1992).
+    operator : RecoveryOperator, optional
+        The map built by :func:`recovery_operator` for the same samples' points, degree and
+        boundary treatment (built here when not given).
+
+    Returns
+    -------
+    ndarray, shape (n_nodes, c)
+        Recovered nodal values; NaN at nodes that no element of the samples touches.
+
+    Notes
+    -----
+    For each patch the coefficients a of sigma*(x) = P(x) a solve the normal equations
+    (sum_k P^T(x_k) P(x_k)) a = sum_k P^T(x_k) sigma_h(x_k) over its sampling points x_k
+    (Zienkiewicz and Zhu 1992, Part 1, eqs. 7-9). Sampled values that are a polynomial of degree
+    ``degree`` are reproduced exactly at every node (the consistency condition).
+    """
+    if operator is None:
+        operator = recovery_operator(mesh, samples, degree=degree, boundary=boundary)
+    if not samples:
+        raise InputError("patch recovery needs at least one block of samples")
+    c = samples[0].stress.shape[-1]
+    vs = np.concatenate([s.stress.reshape(-1, c) for s in samples])
+    if vs.shape[0] != operator.n_samples:
+        raise InputError(f"the recovery operator is for {operator.n_samples} sampling points, the samples "
+                         f"have {vs.shape[0]}; build it from the same blocks and points")
+    return operator.apply(vs)
 
 
 def _average_region(result, blocks: list[int]) -> np.ndarray:
@@ -491,6 +591,70 @@ def _combine(per_region: dict[str, np.ndarray], n: int) -> np.ndarray:
         out = stack[pick, np.arange(n)]
     out[np.isnan(out)] = 0.0
     return out
+
+
+def _operator_key(ids, flags, degree, boundary) -> tuple:
+    return ("spr", tuple(ids), tuple(flags), degree, boundary)
+
+
+def _cached_operator(asm, ids: list[int], samples: list[Samples], degree, boundary) -> RecoveryOperator:
+    """The region's recovery operator from the assembly's cache (waiting for one being built)."""
+    cache = getattr(asm, "cache", None)
+    if cache is None:
+        return recovery_operator(asm.mesh, samples, degree=degree, boundary=boundary)
+    key = _operator_key(ids, [s.superconvergent for s in samples], degree, boundary)
+    op = cache.get(key)
+    if isinstance(op, Future):
+        try:
+            op = op.result()
+        except Exception:  # noqa: built again below, so that the error surfaces here
+            op = None
+    if op is None:
+        op = recovery_operator(asm.mesh, samples, degree=degree, boundary=boundary)
+        cache[key] = op
+    return op
+
+
+def _sampling_points(block, nodes: np.ndarray) -> np.ndarray:
+    """Coordinates (e, q, 2) of a block's superconvergent sampling points."""
+    N = shape_values(block.etype, sampling_rule(block.etype).points)
+    x = np.empty((block.n, N.shape[0], 2))
+
+    def chunk(s: int) -> None:
+        x[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, nodes[block.conn[s : s + CHUNK]])
+
+    map_chunks(chunk, range(0, block.n, CHUNK))
+    return x
+
+
+#: models with fewer unknowns build their recovery operators when first asked (it takes milliseconds)
+PREPARE_ABOVE = 50_000
+
+
+def prepare_recovery(asm, n_unknowns: int) -> None:
+    """Start building the default SPR operators of every region in the background.
+
+    Called by :func:`planar.solve` before the factorization: a direct solver's ordering phase keeps
+    one core only, and the operators depend on the mesh alone. The first nodal-stress request then
+    finds them built (or waits for them). Blocks loaded by initial strains are sampled elsewhere
+    (see :func:`stress_samples`), so their operator is built on request instead.
+    """
+    if n_unknowns < PREPARE_ABOVE:
+        return
+    regions: dict[str, list[int]] = {}
+    for i, b in enumerate(asm.blocks):
+        regions.setdefault(b.region, []).append(i)
+    for ids in regions.values():
+        key = _operator_key(ids, [True] * len(ids), None, "enlarged")
+        if key in asm.cache:
+            continue
+
+        def build(ids=ids):
+            samples = [Samples(asm.blocks[i], _sampling_points(asm.blocks[i], asm.mesh.nodes), np.zeros(0))
+                       for i in ids]
+            return recovery_operator(asm.mesh, samples)
+
+        asm.cache[key] = background(build)
 
 
 def recover(result, method: str = "spr", per_region: bool = False, *, boundary: str = "enlarged",
@@ -549,7 +713,9 @@ def recover(result, method: str = "spr", per_region: bool = False, *, boundary: 
     if method == "spr":
         samples = stress_samples(result)
         for name, ids in regions.items():
-            out[name] = patch_recovery(result.mesh, [samples[i] for i in ids], degree=degree, boundary=boundary)
+            mine = [samples[i] for i in ids]
+            op = _cached_operator(result.assembly, ids, mine, degree, boundary)
+            out[name] = patch_recovery(result.mesh, mine, operator=op)
     else:
         for name, ids in regions.items():
             out[name] = _average_region(result, ids)
