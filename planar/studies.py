@@ -721,6 +721,14 @@ def _kill_pool(pool) -> None:
             pass
 
 
+def _share_cores(workers: int) -> None:
+    """In a worker process: use this worker's share of the cores (unless PLANAR_THREADS is set)."""
+    if not os.environ.get("PLANAR_THREADS"):
+        from .core.parallel import threads
+
+        os.environ["PLANAR_THREADS"] = str(max(1, threads() // max(1, workers)))
+
+
 def _run_processes(tasks, payload, on_done, workers, retries, deadline):
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
     from concurrent.futures.process import BrokenProcessPool
@@ -734,7 +742,7 @@ def _run_processes(tasks, payload, on_done, workers, retries, deadline):
 
     def run_pool(batch, n):
         """Run a batch; return the points not finished when the pool broke (in submission order)."""
-        pool = ProcessPoolExecutor(max_workers=n, mp_context=ctx)
+        pool = ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_share_cores, initargs=(n,))
         order = {}
         try:
             futs = {}

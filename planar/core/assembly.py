@@ -17,7 +17,7 @@ from .errors import ElementError, InputError, MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
 from .mesh import Mesh
 from .quadrature import Rule, rule_for
-from .parallel import map_chunks, threads
+from .parallel import map_chunks
 from .registry import check_plugin_array, element_type, plugin_call
 
 __all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det", "shape_values",
@@ -25,6 +25,8 @@ __all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian
 
 #: default chunk of elements per batched evaluation
 CHUNK = 4096
+#: COO pieces are compressed in this many groups, side by side, and the groups added
+GATHER_GROUPS = 2
 
 
 def jacobian(etype, coords: np.ndarray, points: np.ndarray):
@@ -287,14 +289,15 @@ def _twins(cells, owners) -> tuple[str, str] | None:
 def _gather(parts: list, shape: tuple[int, int], fmt: str, idt) -> sp.spmatrix:
     """Sum COO pieces [(rows, cols, values), ...] into one canonical CSC or CSR matrix.
 
-    The pieces are split into as many groups as there are threads; each group is concatenated and
-    compressed on its own thread, and the compressed matrices are added (a merge of sorted columns,
-    far cheaper than compressing everything in one thread). ``parts`` is emptied as it is used.
+    The pieces are split into ``GATHER_GROUPS`` groups; each group is concatenated and compressed
+    on a thread of its own, and the compressed matrices are added (a merge of sorted columns, far
+    cheaper than compressing everything in one thread). The groups do not depend on the number of
+    threads, so neither do the sums. ``parts`` is emptied as it is used.
     """
     make = sp.csc_matrix if fmt == "csc" else sp.csr_matrix
     if not parts:
         return make(shape)
-    n = max(1, min(threads(), len(parts)))
+    n = max(1, min(GATHER_GROUPS, len(parts)))
     bounds = np.linspace(0, len(parts), n + 1).round().astype(int)
 
     def group(i: int):

@@ -3,8 +3,9 @@
 Assembly, Jacobian checks, Gauss-point strains and patch fits run block by block over element
 chunks. numpy's array loops, small matrix products and LAPACK calls let go of the interpreter lock,
 so the chunks of one stage run side by side on the cores of the machine, in threads of one process
-(no copies of the mesh). Results come back in chunk order, so every sum is the same as in one
-thread, whatever the number of threads.
+(no copies of the mesh). Results come back in chunk order and are combined in the same order
+whatever the number of threads, so a model gives the same numbers, to the last bit, on one thread
+or many.
 
 The number of threads is the number of cores this process may use, or the environment variable
 ``PLANAR_THREADS`` (``1`` runs everything in the calling thread).
@@ -15,6 +16,8 @@ import os
 import threading
 from concurrent.futures import Future, ThreadPoolExecutor
 from typing import Callable, Iterable, TypeVar
+
+from .errors import InputError
 
 __all__ = ["threads", "map_chunks", "background"]
 
@@ -32,7 +35,7 @@ def threads() -> int:
 
     Raises
     ------
-    ValueError
+    InputError
         When ``PLANAR_THREADS`` is set to something other than a whole number of at least 1.
     """
     env = os.environ.get("PLANAR_THREADS", "").strip()
@@ -42,7 +45,8 @@ def threads() -> int:
         except ValueError:
             n = 0
         if n < 1:
-            raise ValueError(f"PLANAR_THREADS must be a whole number of at least 1, got {env!r}")
+            raise InputError(f"the environment variable PLANAR_THREADS must be a whole number of at least 1 "
+                             f"(threads for the batched stages), got {env!r}; set it to 1, 2, ... or unset it")
         return n
     try:
         return max(1, len(os.sched_getaffinity(0)))
