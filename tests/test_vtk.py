@@ -71,3 +71,27 @@ def test_region_names_travel_with_region_ids(tmp_path):
     assert set(names) == {"doubler", "plate"}
     rid = m.cell_data["region_id"][0]
     assert set(np.unique(rid)) == set(names.values())
+
+
+def test_raw_and_compressed_files_hold_the_same_arrays(tmp_path):
+    """The default file (raw appended binary) and a zlib one read back equal through meshio."""
+    mesh = rectangle_mesh(30.0, 10.0, 6, 2, "T6")
+    model = Model(mesh, Isotropic(210e3, 0.3), thickness=4.0)
+    model.add_support(Roller("left", fixed="x"))
+    model.add_support(Roller("corner_00", fixed="y"))
+    model.add_load(Traction("right", tx=120.0), case="pull")
+    r = solve(model)["pull"]
+    raw = write_vtu(tmp_path / "raw.vtu", r)
+    packed = write_vtu(tmp_path / "z.vtu", r, compression="zlib")
+    head = raw.read_bytes()[:4000]
+    assert b'encoding="raw"' in head and b'header_type="UInt64"' in head
+    a, b = meshio.read(raw), meshio.read(packed)
+    np.testing.assert_array_equal(a.points, b.points)
+    np.testing.assert_array_equal(a.cells[0].data, b.cells[0].data)
+    assert a.cells[0].type == b.cells[0].type == "triangle6"
+    assert set(a.point_data) == set(b.point_data) and set(a.cell_data) == set(b.cell_data)
+    for k in a.point_data:
+        np.testing.assert_array_equal(a.point_data[k], b.point_data[k])
+    for k in a.cell_data:
+        np.testing.assert_array_equal(a.cell_data[k][0], b.cell_data[k][0])
+    np.testing.assert_allclose(a.point_data["sigma_xx"], 120.0, rtol=1e-9)

@@ -99,12 +99,25 @@ def map_chunks(fn: Callable[[int], T], starts: Iterable[int]) -> list[T]:
         raise
 
 
+def _lower_priority() -> None:
+    """Give the calling thread a lower scheduling priority (Linux: per thread), so that it takes
+    only cores that the foreground work leaves idle."""
+    try:
+        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), BACKGROUND_NICE)
+    except (AttributeError, OSError):  # not Linux, or not allowed: run at the usual priority
+        pass
+
+
+#: niceness of background threads (0 is the usual priority, 19 the lowest)
+BACKGROUND_NICE = 10
+
+
 def background(fn: Callable[..., T], *args, **kwargs) -> Future:
     """Run ``fn(*args, **kwargs)`` in a daemon thread of its own; its result or error in a Future.
 
     Meant for work that does not need the cores at once: it runs serially (its own
-    :func:`map_chunks` calls use no pool), for instance while a solver's ordering phase leaves a
-    core idle.
+    :func:`map_chunks` calls use no pool) and at a lower priority (``BACKGROUND_NICE``), for
+    instance while a solver's ordering phase leaves a core idle.
     """
     fut: Future = Future()
 
@@ -112,6 +125,7 @@ def background(fn: Callable[..., T], *args, **kwargs) -> Future:
         if not fut.set_running_or_notify_cancel():
             return
         _local.inside = True
+        _lower_priority()
         try:
             fut.set_result(fn(*args, **kwargs))
         except BaseException as exc:  # noqa: handed to whoever asks for the result

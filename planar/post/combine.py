@@ -54,7 +54,6 @@ import numpy as np
 from ..core.values import number
 from ..core.errors import InputError, unknown_name
 from ..core.result import FIELDS, GaussField, Result
-from .files import atomic_path
 
 __all__ = ["CombinedResult", "Combination", "combine", "combinations", "Envelope", "envelope",
            "write_envelope_vtu", "plot_envelope"]
@@ -484,9 +483,7 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     -------
     Path
     """
-    import meshio
-
-    from .vtk import CELL_TYPES, add_field_data, vtu_target
+    from .vtk import CELL_TYPES, vtu_target, write_grid
 
     path = vtu_target(path, compression)
     n = env.nodes.shape[0]
@@ -497,10 +494,7 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     f = env.field
     pdata = {f"{f}_max": env.max.astype(float), f"{f}_min": env.min.astype(float),
              f"{f}_max_case": env.governs_max.astype(np.int32), f"{f}_min_case": env.governs_min.astype(np.int32)}
-    m = meshio.Mesh(pts, cells, point_data=pdata)
-    with atomic_path(path) as tmp:
-        meshio.write(tmp, m, file_format="vtu", compression=compression)
-        add_field_data(Path(tmp), {name: i for i, name in enumerate(env.names)})
+    write_grid(path, pts, cells, pdata, {}, {name: i for i, name in enumerate(env.names)}, compression)
     return path
 
 

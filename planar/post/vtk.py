@@ -16,7 +16,7 @@ from ..core.errors import InputError
 from ..core.result import stress_measures
 from .files import atomic_path
 
-__all__ = ["write_vtu", "add_field_data", "CELL_TYPES"]
+__all__ = ["write_vtu", "write_grid", "add_field_data", "CELL_TYPES"]
 
 _COMPRESSIONS = (None, "zlib", "lzma")
 
@@ -64,15 +64,13 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     point_fields : mapping, optional
         Extra point data: name -> (n,) or (n, c) array.
     compression : {None, "zlib", "lzma"}
-        Compression of the binary data blocks. None (default) writes ten times faster than zlib
-        for a file about a quarter larger.
+        Compression of the binary data blocks. None (default): raw binary, written at disk speed
+        (ten times faster than zlib, for a file about a third larger).
 
     Returns
     -------
     Path
     """
-    import meshio
-
     path = vtu_target(path, compression)
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
@@ -110,12 +108,107 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
         else:
             v = _field_array(f"cell field {k!r}", v, sum(counts), "cells (all blocks in order)")
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
-    m = meshio.Mesh(pts, cells, point_data=pdata, cell_data=cdata)
-    with atomic_path(path) as tmp:
-        meshio.write(tmp, m, file_format="vtu", compression=compression)
-        if len(names) > 1:  # region names for region_id (meshio writes no field data to .vtu)
-            add_field_data(Path(tmp), {n: i for i, n in enumerate(names)})
+    table = {n: i for i, n in enumerate(names)} if len(names) > 1 else {}  # names of the region ids
+    write_grid(path, pts, cells, pdata, cdata, table, compression)
     return path
+
+
+#: VTK cell type numbers of the meshio cell names planar writes (VTK's file format documentation)
+_VTK_TYPES = {"vertex": 1, "line": 3, "triangle": 5, "quad": 9, "line3": 21, "triangle6": 22, "quad8": 23,
+              "quad9": 28}
+_VTK_DTYPES = {"f8": "Float64", "f4": "Float32", "i8": "Int64", "i4": "Int32", "i2": "Int16", "i1": "Int8",
+               "u8": "UInt64", "u4": "UInt32", "u2": "UInt16", "u1": "UInt8"}
+
+
+def _vtk_type(name: str) -> int:
+    if name in _VTK_TYPES:
+        return _VTK_TYPES[name]
+    try:  # a plugin element's own meshio type
+        from meshio._vtk_common import meshio_to_vtk_type
+
+        return int(meshio_to_vtk_type[name])
+    except (ImportError, KeyError):
+        raise InputError(f"no VTK cell type for the cell name {name!r}; give the element a meshio_type "
+                         f"VTK knows ({', '.join(sorted(_VTK_TYPES))}, ...)") from None
+
+
+def write_grid(path: Path, points: np.ndarray, cells: list[tuple[str, np.ndarray]],
+               point_data: Mapping[str, np.ndarray], cell_data: Mapping[str, list[np.ndarray]],
+               field_data: Mapping[str, int] | None = None, compression: str | None = None) -> None:
+    """Write an unstructured grid as a .vtu file, atomically.
+
+    Uncompressed, the arrays go into the file as raw appended binary data (VTK XML format, byte
+    order and UInt64 block headers declared in the file): no base64 encoding, so the write runs at
+    disk speed. With ``compression`` the file is written through meshio. ``field_data`` is a table
+    name -> index (one Int32 array per name), e.g. the names of the region ids.
+    """
+    with atomic_path(path) as tmp:
+        if compression is not None:
+            import meshio
+
+            m = meshio.Mesh(points, cells, point_data=dict(point_data), cell_data=dict(cell_data))
+            meshio.write(tmp, m, file_format="vtu", compression=compression)
+            if field_data:  # meshio writes no field data to .vtu
+                add_field_data(Path(tmp), field_data)
+        else:
+            _write_raw(Path(tmp), points, cells, point_data, cell_data, field_data or {})
+
+
+def _write_raw(path: Path, points, cells, point_data, cell_data, field_data) -> None:
+    from xml.sax.saxutils import quoteattr
+
+    blocks: list[np.ndarray] = []
+    offset = 0
+
+    def array(a: np.ndarray, name: str | None = None) -> str:
+        nonlocal offset
+        a = np.asarray(a)
+        if a.dtype == bool:
+            a = a.astype(np.uint8)
+        a = np.ascontiguousarray(a, dtype=a.dtype.newbyteorder("<"))
+        key = f"{a.dtype.kind}{a.dtype.itemsize}"
+        if key not in _VTK_DTYPES:
+            raise InputError(f"cannot write the array {name!r} of type {a.dtype} to VTK; give numbers")
+        blocks.append(a)
+        attrs = f'type="{_VTK_DTYPES[key]}"' + (f" Name={quoteattr(name)}" if name else "")
+        if a.ndim == 2:
+            attrs += f' NumberOfComponents="{a.shape[1]}"'
+        tag = f'<DataArray {attrs} format="appended" offset="{offset}"/>\n'
+        offset += 8 + a.nbytes
+        return tag
+
+    n_cells = [int(c.shape[0]) for _, c in cells]
+    conn = np.concatenate([np.asarray(c, dtype=np.int64).ravel() for _, c in cells]) if cells else np.zeros(0, np.int64)
+    sizes = np.concatenate([np.full(k, c.shape[1], dtype=np.int64) for (_, c), k in zip(cells, n_cells)]) \
+        if cells else np.zeros(0, np.int64)
+    types = np.concatenate([np.full(k, _vtk_type(t), dtype=np.uint8) for (t, _), k in zip(cells, n_cells)]) \
+        if cells else np.zeros(0, np.uint8)
+    head = ['<?xml version="1.0"?>\n',
+            '<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="UInt64">\n',
+            "<UnstructuredGrid>\n"]
+    if field_data:
+        head.append("<FieldData>\n")
+        head += [f'<DataArray type="Int32" Name={quoteattr(str(k))} NumberOfTuples="1" format="ascii">{int(v)}'
+                 f"</DataArray>\n" for k, v in field_data.items()]
+        head.append("</FieldData>\n")
+    head.append(f'<Piece NumberOfPoints="{points.shape[0]}" NumberOfCells="{sum(n_cells)}">\n')
+    head += ["<Points>\n", array(points), "</Points>\n", "<Cells>\n", array(conn, "connectivity"),
+             array(np.cumsum(sizes), "offsets"), array(types, "types"), "</Cells>\n"]
+    if point_data:
+        head.append("<PointData>\n")
+        head += [array(v, k) for k, v in point_data.items()]
+        head.append("</PointData>\n")
+    if cell_data:
+        head.append("<CellData>\n")
+        head += [array(np.concatenate([np.asarray(x) for x in v]), k) for k, v in cell_data.items()]
+        head.append("</CellData>\n")
+    head += ["</Piece>\n", "</UnstructuredGrid>\n", '<AppendedData encoding="raw">\n_']
+    with open(path, "wb") as fh:
+        fh.write("".join(head).encode("utf-8"))
+        for a in blocks:
+            fh.write(np.uint64(a.nbytes).tobytes())
+            fh.write(memoryview(a).cast("B"))
+        fh.write(b"\n</AppendedData>\n</VTKFile>\n")
 
 
 def vtu_target(path, compression: str | None = None) -> Path:
