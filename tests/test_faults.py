@@ -134,7 +134,7 @@ def _only(path: Path) -> list[str]:
 
 
 def test_disk_full_keeps_the_old_file(old_file, monkeypatch):
-    import meshio
+    from planar.post import vtk
 
     r, path, before = old_file
 
@@ -142,7 +142,7 @@ def test_disk_full_keeps_the_old_file(old_file, monkeypatch):
         Path(filename).write_bytes(b"<?xml half a file")
         raise OSError(errno.ENOSPC, "No space left on device")
 
-    monkeypatch.setattr(meshio, "write", full_disk)
+    monkeypatch.setattr(vtk, "_write_raw", full_disk)
     with pytest.raises(OutputError, match="No space left on device; free some disk space") as e:
         planar.write_vtu(path, r)
     assert str(path) in str(e.value)
@@ -150,7 +150,7 @@ def test_disk_full_keeps_the_old_file(old_file, monkeypatch):
 
 
 def test_interrupt_keeps_the_old_file(old_file, monkeypatch):
-    import meshio
+    from planar.post import vtk
 
     r, path, before = old_file
 
@@ -158,7 +158,7 @@ def test_interrupt_keeps_the_old_file(old_file, monkeypatch):
         Path(filename).write_bytes(b"<?xml half a file")
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(meshio, "write", interrupted)
+    monkeypatch.setattr(vtk, "_write_raw", interrupted)
     with pytest.raises(KeyboardInterrupt):
         planar.write_vtu(path, r)
     assert path.read_bytes() == before and _only(path) == ["out.vtu"]
