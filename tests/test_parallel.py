@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 
 import planar
+import planar.core.solvers
 from planar.core import parallel
 from planar.core.errors import InputError, PluginError
 from planar.post import recovery
@@ -93,20 +94,20 @@ def test_one_operator_serves_every_case_and_combination(monkeypatch):
 
 def test_background_build_gives_the_same_operator(monkeypatch):
     monkeypatch.setenv("PLANAR_THREADS", "2")
-    monkeypatch.setattr(recovery, "PREPARE_ABOVE", 0)
     res = planar.solve(_model("Q8", 40, 10))
-    pending = [v for k, v in res["pull"].assembly.cache.items() if k[0] == "spr"]
-    assert len(pending) == 1  # started by solve(), before anyone asked
-    early = res["pull"].nodal_stress("spr")[0]
-    monkeypatch.setattr(recovery, "PREPARE_ABOVE", 10**12)
-    res2 = planar.solve(_model("Q8", 40, 10))
-    assert not res2["pull"].assembly.cache
-    np.testing.assert_array_equal(early, res2["pull"].nodal_stress("spr")[0])
+    asm = res["pull"].assembly
+    asm.cache.clear()
+    started = recovery.prepare_recovery(asm, 10**9)
+    assert len(started) == 1 and [v for k, v in asm.cache.items() if k[0] == "spr"] == started
+    early = res["press"].nodal_stress("spr")[0]  # waits for the build, then uses it
+    assert isinstance(asm.cache[next(iter(asm.cache))], recovery.RecoveryOperator)
+    fresh = planar.solve(_model("Q8", 40, 10))["press"]
+    assert not fresh.assembly.cache  # below PREPARE_ABOVE nothing starts by itself
+    np.testing.assert_array_equal(early, fresh.nodal_stress("spr")[0])
 
 
 def test_failing_background_build_is_built_again_in_the_caller(monkeypatch):
-    """A background build that fails leaves no half operator: the request builds it and raises its error."""
-    monkeypatch.setattr(recovery, "PREPARE_ABOVE", 0)
+    """A background build that fails leaves no half operator: the request builds it again."""
     calls = []
     real = recovery.recovery_operator
 
@@ -116,11 +117,24 @@ def test_failing_background_build_is_built_again_in_the_caller(monkeypatch):
             raise MemoryError("no room in the background")
         return real(*a, **k)
 
-    monkeypatch.setattr(recovery, "recovery_operator", flaky)
     res = planar.solve(_model("Q4", 30, 10))
+    asm = res["pull"].assembly
+    asm.cache.clear()
+    monkeypatch.setattr(recovery, "recovery_operator", flaky)
+    (fut,) = recovery.prepare_recovery(asm, 10**9)
+    assert isinstance(fut.exception(timeout=60), MemoryError)
     s = res["pull"].nodal_stress("spr")[0]
     assert len(calls) == 2
     np.testing.assert_allclose(s[:, 0], 40.0, rtol=1e-9)
+
+
+@pytest.mark.skipif("pardiso" not in planar.core.solvers.available_solvers(), reason="needs the fast extra (MKL)")
+def test_pardiso_numeric_phase_waits_for_the_background_build(monkeypatch):
+    monkeypatch.setattr(recovery, "PREPARE_ABOVE", 0)
+    res = planar.solve(_model("T6", 40, 10), solver="pardiso")
+    (fut,) = [v for k, v in res["pull"].assembly.cache.items() if k[0] == "spr"]
+    assert fut.done()  # finished before the numeric factorization started
+    np.testing.assert_allclose(res["pull"].nodal_stress("spr")[0][:, 0], 40.0, rtol=1e-9)
 
 
 def test_plugin_error_in_a_pool_thread_names_the_plugin(monkeypatch):

@@ -19,7 +19,7 @@ refuses a model that no back end can hold.
 from __future__ import annotations
 
 import os
-from typing import Protocol
+from typing import Callable, Protocol
 
 import numpy as np
 import scipy.sparse as sp
@@ -200,7 +200,7 @@ class _Pardiso:
 
     name = "pardiso"
 
-    def __init__(self, lower, **_):
+    def __init__(self, lower, *, after_ordering: Callable[[], None] | None = None, **_):
         import ctypes
 
         self._fn = _mkl_library()
@@ -220,7 +220,10 @@ class _Pardiso:
         ip[17] = -1  # report the non-zeros of the factor
         ip[34] = 1   # zero-based indices
         self._c = ctypes
-        self._call(12, np.zeros((n, 1)))
+        self._call(11, np.zeros((n, 1)))  # ordering and symbolic factorization
+        if after_ordering is not None:
+            after_ordering()
+        self._call(22, np.zeros((n, 1)))  # numeric factorization
         self.info = {"factor_nonzeros": int(ip[17])}
 
     def _call(self, phase: int, b: np.ndarray) -> np.ndarray:
@@ -366,7 +369,7 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
 
 
 def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarray | None = None,
-              rtol: float = 1e-10) -> Factorization:
+              rtol: float = 1e-10, after_ordering: Callable[[], None] | None = None) -> Factorization:
     """Factorize a symmetric positive-definite stiffness matrix given by its lower triangle.
 
     Parameters
@@ -378,6 +381,10 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
         Rigid-body modes of the free unknowns (near-null space for AMG).
     rtol : float
         Relative residual the iterative solver must reach.
+    after_ordering : callable, optional
+        Called between PARDISO's ordering phase (which keeps one core busy) and its numeric
+        factorization (which takes every core), e.g. to wait for work done meanwhile in the
+        background; other back ends ignore it.
 
     Raises
     ------
@@ -390,4 +397,4 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
     if n == 0:
         raise SolverError("there are no free unknowns left: every displacement is prescribed")
     name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
-    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol)
+    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering)

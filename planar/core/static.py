@@ -3,6 +3,7 @@ every load case.
 """
 from __future__ import annotations
 
+from concurrent import futures
 from dataclasses import dataclass
 
 import numpy as np
@@ -276,9 +277,13 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
     rhs = Fl[free] - coupling[free][:, None]
     timer.lap("load vectors")
-    from ..post.recovery import prepare_recovery  # noqa: deferred core -> post import
+    after_ordering = None
+    if solver == "pardiso":  # PARDISO's ordering keeps one core busy and releases the GIL
+        from ..post.recovery import prepare_recovery  # noqa: deferred core -> post import
 
-    prepare_recovery(asm, free.size)  # builds while the solver orders the unknowns (one core busy)
+        pending = prepare_recovery(asm, free.size)
+        if pending:  # the numeric factorization waits for them, and then has every core
+            after_ordering = lambda: futures.wait(pending)  # noqa: E731
     modes = None
     if solver in ("amg", "auto"):
         modes = _rigid_modes(mesh.nodes, cons.rotation)[free]
@@ -286,7 +291,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         asm.system = system
         asm.rhs = rhs
     try:
-        fac = factorize(system.lower, solver, rigid_modes=modes)
+        fac = factorize(system.lower, solver, rigid_modes=modes, after_ordering=after_ordering)
         timer.lap("factorization")
         ul = np.zeros((ndof, len(cases)))
         ul[pdofs] = up[pdofs][:, None]

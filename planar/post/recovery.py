@@ -611,7 +611,7 @@ def _cached_operator(asm, ids: list[int], samples: list[Samples], degree, bounda
             op = None
     if op is None:
         op = recovery_operator(asm.mesh, samples, degree=degree, boundary=boundary)
-        cache[key] = op
+    cache[key] = op
     return op
 
 
@@ -631,16 +631,23 @@ def _sampling_points(block, nodes: np.ndarray) -> np.ndarray:
 PREPARE_ABOVE = 50_000
 
 
-def prepare_recovery(asm, n_unknowns: int) -> None:
+def prepare_recovery(asm, n_unknowns: int) -> list[Future]:
     """Start building the default SPR operators of every region in the background.
 
-    Called by :func:`planar.solve` before the factorization: a direct solver's ordering phase keeps
-    one core only, and the operators depend on the mesh alone. The first nodal-stress request then
-    finds them built (or waits for them). Blocks loaded by initial strains are sampled elsewhere
-    (see :func:`stress_samples`), so their operator is built on request instead.
+    Called by :func:`planar.solve` before a PARDISO factorization, whose ordering phase keeps one
+    core only (the numeric phase waits for the builds, so they never compete with it); the
+    operators depend on the mesh alone. The first nodal-stress request then finds them built.
+    Blocks loaded by initial strains are sampled elsewhere (see :func:`stress_samples`), so their
+    operator is built on request instead.
+
+    Returns
+    -------
+    list of Future
+        The builds started (none below ``PREPARE_ABOVE`` unknowns).
     """
+    started: list[Future] = []
     if n_unknowns < PREPARE_ABOVE:
-        return
+        return started
     regions: dict[str, list[int]] = {}
     for i, b in enumerate(asm.blocks):
         regions.setdefault(b.region, []).append(i)
@@ -655,6 +662,8 @@ def prepare_recovery(asm, n_unknowns: int) -> None:
             return recovery_operator(asm.mesh, samples)
 
         asm.cache[key] = background(build)
+        started.append(asm.cache[key])
+    return started
 
 
 def recover(result, method: str = "spr", per_region: bool = False, *, boundary: str = "enlarged",
