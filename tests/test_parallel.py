@@ -10,7 +10,6 @@ import numpy as np
 import pytest
 
 import planar
-import planar.core.solvers
 from planar.core import parallel
 from planar.core.errors import InputError, PluginError
 from planar.post import recovery
@@ -128,12 +127,38 @@ def test_failing_background_build_is_built_again_in_the_caller(monkeypatch):
     np.testing.assert_allclose(s[:, 0], 40.0, rtol=1e-9)
 
 
-@pytest.mark.skipif("pardiso" not in planar.core.solvers.available_solvers(), reason="needs the fast extra (MKL)")
-def test_pardiso_numeric_phase_waits_for_the_background_build(monkeypatch):
+def test_numeric_phase_waits_for_the_background_build(monkeypatch):
+    """solve() starts the SPR build for a back end that overlaps its ordering (PARDISO), and hands
+    the factorization a hook that waits for it; shown here on CHOLMOD given the same role."""
+    import planar.core.static as static
+    from planar.core import solvers
+
     monkeypatch.setattr(recovery, "PREPARE_ABOVE", 0)
-    res = planar.solve(_model("T6", 40, 10), solver="pardiso")
-    (fut,) = [v for k, v in res["pull"].assembly.cache.items() if k[0] == "spr"]
-    assert fut.done()  # finished before the numeric factorization started
+    monkeypatch.setattr(solvers, "OVERLAPS_ORDERING", frozenset({"cholmod"}))
+    seen = []
+    real = static.factorize
+
+    def factorize(lower, method, *, rigid_modes=None, after_ordering=None):
+        assert after_ordering is not None
+        after_ordering()  # where PARDISO calls it: between ordering and numeric factorization
+        seen.append([f.done() for f in pending(lower)])
+        return real(lower, method, rigid_modes=rigid_modes)
+
+    model = _model("T6", 40, 10)
+    holder = {}
+    real_prepare = recovery.prepare_recovery
+
+    def prepare(asm, n):
+        holder["asm"] = asm
+        return real_prepare(asm, n)
+
+    def pending(_):
+        return [v for k, v in holder["asm"].cache.items() if k[0] == "spr"]
+
+    monkeypatch.setattr(recovery, "prepare_recovery", prepare)
+    monkeypatch.setattr(static, "factorize", factorize)
+    res = planar.solve(model, solver="cholmod")
+    assert seen == [[True]]  # the build had ended when the numeric phase began
     np.testing.assert_allclose(res["pull"].nodal_stress("spr")[0][:, 0], 40.0, rtol=1e-9)
 
 

@@ -58,6 +58,8 @@ def _executor(n: int) -> ThreadPoolExecutor:
     global _pool, _pool_size, _pool_pid
     with _lock:
         if _pool is None or _pool_size != n or _pool_pid != os.getpid():
+            if _pool is not None and _pool_pid == os.getpid():
+                _pool.shutdown(wait=False)  # PLANAR_THREADS changed: let the old threads end
             # a forked child (a worker process of a sweep) starts a pool of its own
             _pool = ThreadPoolExecutor(max_workers=n, thread_name_prefix="planar")
             _pool_size, _pool_pid = n, os.getpid()

@@ -322,6 +322,10 @@ class _AMG:
         return out.reshape(b.shape)
 
 
+#: back ends whose ordering phase keeps one core busy without holding the GIL and that call
+#: ``after_ordering`` before their numeric phase (cvxopt's CHOLMOD holds the GIL throughout)
+OVERLAPS_ORDERING = frozenset({"pardiso"})
+
 _BACKENDS = {"pardiso": _Pardiso, "cholmod": _Cholmod, "amg": _AMG, "superlu": _SuperLU}
 _MODULES = {"pardiso": "pypardiso", "cholmod": "cvxopt.cholmod", "amg": "pyamg", "superlu": "scipy"}
 _INSTALL = {"pardiso": "pip install 'planar[fast]' (pypardiso, x86 only)", "cholmod": "pip install cvxopt",

@@ -13,6 +13,7 @@ from scipy.sparse.csgraph import connected_components
 from .assembly import Assembly, Rotation
 from .errors import ResourceError, SolverError, SupportError, fmt_point, unknown_name
 from .result import Result
+from . import solvers
 from .solvers import choose, factorize
 from .supports import gather
 from .timing import Timer
@@ -278,7 +279,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     rhs = Fl[free] - coupling[free][:, None]
     timer.lap("load vectors")
     after_ordering = None
-    if solver == "pardiso":  # PARDISO's ordering keeps one core busy and releases the GIL
+    if solver in solvers.OVERLAPS_ORDERING:  # its ordering keeps one core busy, without the GIL
         from ..post.recovery import prepare_recovery  # noqa: deferred core -> post import
 
         pending = prepare_recovery(asm, free.size)
