@@ -343,16 +343,9 @@ def test_unused_nodes_do_not_break_the_solve():
 def test_regions_with_own_thickness():
     # two halves in series with thickness t1, t2 under end force F: stress F/(W t) in each
     # (statics, common practice)
-    mesh = rectangle_mesh(40, 10, 8, 2, "Q4")
-    cen = mesh.nodes[mesh.cells["Q4"]].mean(axis=1)
-    m2 = Mesh(mesh.nodes, mesh.cells, mesh.edge_sets, mesh.node_sets,
-              regions={"thick": {"Q4": np.flatnonzero(cen[:, 0] < 20)}})
-    model = Model(m2, Isotropic(1000.0, 0.0), thickness=1.0)
-    model.assign("thick", thickness=2.0)
-    model.add_support(Roller("left", fixed="x"))
-    model.add_support(Roller("corner_00", fixed="y"))
-    model.add_load(Traction("right", tx=5.0), case="a")
-    r = solve(model)["a"]
+    from _models import stepped_strip
+
+    r = solve(stepped_strip("thick", 1000.0, 0.0))["a"]
     for g in r.gauss:
         expect = 5.0 / (2.0 if g.block.region == "thick" else 1.0)
         np.testing.assert_allclose(g.stress[..., 0], expect, rtol=1e-10)

@@ -59,18 +59,9 @@ def test_vtu_write_keeps_old_file_on_failure(tmp_path):
 
 def test_region_names_travel_with_region_ids(tmp_path):
     # the region_id cell data is explained by a name table in the file's field data
-    from planar.core.mesh import Mesh
+    from _models import stepped_strip
 
-    mesh = rectangle_mesh(40.0, 10.0, 8, 2, "Q4")
-    cen = mesh.nodes[mesh.cells["Q4"]].mean(axis=1)
-    m2 = Mesh(mesh.nodes, mesh.cells, mesh.edge_sets, mesh.node_sets,
-              regions={"doubler": {"Q4": np.flatnonzero(cen[:, 0] < 20)}})
-    model = Model(m2, Isotropic(70e3, 0.33), thickness=1.0)
-    model.assign("doubler", thickness=2.0)
-    model.add_support(Roller("left", fixed="x"))
-    model.add_support(Roller("corner_00", fixed="y"))
-    model.add_load(Traction("right", tx=5.0), case="a")
-    path = write_vtu(tmp_path / "r.vtu", solve(model)["a"])
+    path = write_vtu(tmp_path / "r.vtu", solve(stepped_strip("doubler", 70e3, 0.33))["a"])
     m = meshio.read(path)
     names = {k: int(np.ravel(v)[0]) for k, v in m.field_data.items()}
     assert set(names) == {"doubler", "plate"}

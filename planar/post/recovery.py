@@ -70,7 +70,7 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from ..core.assembly import CHUNK, element_strains, shape_values
+from ..core.assembly import CHUNK, element_strains
 from ..core.parallel import background, map_chunks
 from ..core.errors import InputError
 from ..core.materials import sigma_zz
@@ -169,15 +169,13 @@ def stress_samples(result) -> list[Samples]:
             g = result.gauss[i]  # the stiffness rule samples there already (T3, T6): reuse its stresses
             out.append(Samples(b, g.x, np.concatenate([g.stress, g.szz[..., None]], axis=-1), True))
             continue
-        N = shape_values(b.etype, rule.points)
-        x = np.empty((b.n, rule.n_points, 2))
+        x = b.geometry(nodes, rule)[0]
         strain = np.empty((b.n, rule.n_points, 3))
 
-        def chunk(s: int, b=b, N=N, x=x, strain=strain, rule=rule):
+        def chunk(s: int, b=b, strain=strain, rule=rule):
             conn = b.conn[s : s + CHUNK]
             coords = nodes[conn]
             ue = result.u[conn].reshape(coords.shape[0], -1)
-            x[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, coords)
             strain[s : s + CHUNK] = element_strains(b.etype, coords, b.D, ue, rule)
 
         map_chunks(chunk, range(0, b.n, CHUNK))
@@ -615,18 +613,6 @@ def _cached_operator(asm, ids: list[int], samples: list[Samples], degree, bounda
     return op
 
 
-def _sampling_points(block, nodes: np.ndarray) -> np.ndarray:
-    """Coordinates (e, q, 2) of a block's superconvergent sampling points."""
-    N = shape_values(block.etype, sampling_rule(block.etype).points)
-    x = np.empty((block.n, N.shape[0], 2))
-
-    def chunk(s: int) -> None:
-        x[s : s + CHUNK] = np.einsum("qk,eki->eqi", N, nodes[block.conn[s : s + CHUNK]])
-
-    map_chunks(chunk, range(0, block.n, CHUNK))
-    return x
-
-
 #: models with fewer unknowns build their recovery operators when first asked (it takes milliseconds)
 PREPARE_ABOVE = 50_000
 
@@ -657,9 +643,9 @@ def prepare_recovery(asm, n_unknowns: int) -> list[Future]:
             continue
 
         def build(ids=ids):
-            samples = [Samples(asm.blocks[i], _sampling_points(asm.blocks[i], asm.mesh.nodes), np.zeros(0))
-                       for i in ids]
-            return recovery_operator(asm.mesh, samples)
+            blocks = [asm.blocks[i] for i in ids]
+            points = [b.geometry(asm.mesh.nodes, sampling_rule(b.etype))[0] for b in blocks]
+            return recovery_operator(asm.mesh, [Samples(b, x, np.zeros(0)) for b, x in zip(blocks, points)])
 
         asm.cache[key] = background(build)
         started.append(asm.cache[key])

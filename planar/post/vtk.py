@@ -178,19 +178,14 @@ def _write_raw(path: Path, points, cells, point_data, cell_data, field_data) -> 
         return tag
 
     n_cells = [int(c.shape[0]) for _, c in cells]
-    conn = np.concatenate([np.asarray(c, dtype=np.int64).ravel() for _, c in cells]) if cells else np.zeros(0, np.int64)
-    sizes = np.concatenate([np.full(k, c.shape[1], dtype=np.int64) for (_, c), k in zip(cells, n_cells)]) \
-        if cells else np.zeros(0, np.int64)
-    types = np.concatenate([np.full(k, _vtk_type(t), dtype=np.uint8) for (t, _), k in zip(cells, n_cells)]) \
-        if cells else np.zeros(0, np.uint8)
+    conn = np.concatenate([np.zeros(0, np.int64)] + [np.asarray(c, dtype=np.int64).ravel() for _, c in cells])
+    sizes = np.concatenate([np.zeros(0, np.int64)] + [np.full(c.shape[0], c.shape[1], np.int64) for _, c in cells])
+    types = np.concatenate([np.zeros(0, np.uint8)] + [np.full(c.shape[0], _vtk_type(t), np.uint8) for t, c in cells])
     head = ['<?xml version="1.0"?>\n',
             '<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="UInt64">\n',
             "<UnstructuredGrid>\n"]
     if field_data:
-        head.append("<FieldData>\n")
-        head += [f'<DataArray type="Int32" Name={quoteattr(str(k))} NumberOfTuples="1" format="ascii">{int(v)}'
-                 f"</DataArray>\n" for k, v in field_data.items()]
-        head.append("</FieldData>\n")
+        head.append(_field_block(field_data) + "\n")
     head.append(f'<Piece NumberOfPoints="{points.shape[0]}" NumberOfCells="{sum(n_cells)}">\n')
     head += ["<Points>\n", array(points), "</Points>\n", "<Cells>\n", array(conn, "connectivity"),
              array(np.cumsum(sizes), "offsets"), array(types, "types"), "</Cells>\n"]
@@ -227,15 +222,19 @@ def add_field_data(path: Path, table: Mapping[str, int]) -> None:
     meshio 5.3 writes no field data to .vtu (it reads it back), so the block is added here, in the
     place VTK's XML format gives it: the first child of ``<UnstructuredGrid>``.
     """
-    from xml.sax.saxutils import quoteattr
-
     text = path.read_text(encoding="utf-8")
     tag = "<UnstructuredGrid>"
     at = text.find(tag)
     if at < 0:  # pragma: no cover - meshio always writes it
         raise InputError(f"cannot add the name table to {str(path)!r}: no <UnstructuredGrid> element")
+    at += len(tag)
+    path.write_text(text[:at] + "\n" + _field_block(table) + text[at:], encoding="utf-8")
+
+
+def _field_block(table: Mapping[str, int]) -> str:
+    """The FieldData element: one Int32 array per name, holding its index."""
+    from xml.sax.saxutils import quoteattr
+
     rows = "".join(f'<DataArray type="Int32" Name={quoteattr(str(n))} NumberOfTuples="1" format="ascii">'
                    f"{int(i)}</DataArray>\n" for n, i in table.items())
-    block = f"\n<FieldData>\n{rows}</FieldData>"
-    at += len(tag)
-    path.write_text(text[:at] + block + text[at:], encoding="utf-8")
+    return f"<FieldData>\n{rows}</FieldData>"
