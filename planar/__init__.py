@@ -26,8 +26,9 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-from .core.errors import (ElementError, GeometryError, InputError, MaterialError, MeshError,
-                          NameNotFoundError, PlanarError, PluginError, SolverError, SupportError)
+from .core.errors import (DiscretisationWarning, ElementError, GeometryError, InputError, MaterialError,
+                          MeshError, NameNotFoundError, OutputError, PlanarError, PlanarWarning, PluginError,
+                          ResourceError, SolverError, SupportError)
 from .core.loads import BodyForce, LoadKind, PointForce, Pressure, TemperatureChange, Traction
 from .core.materials import Isotropic, Orthotropic
 from .core.mesh import Mesh
@@ -51,5 +52,6 @@ __all__ = [
     "Fixed", "Roller", "Prescribed", "Symmetry",
     "Traction", "Pressure", "PointForce", "BodyForce", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
-    "SupportError", "SolverError", "PluginError", "GeometryError",
+    "SupportError", "SolverError", "PluginError", "GeometryError", "ResourceError", "OutputError",
+    "PlanarWarning", "DiscretisationWarning",
 ]

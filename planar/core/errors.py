@@ -22,6 +22,8 @@ __all__ = [
     "ResourceError",
     "OutputError",
     "PlanarWarning",
+    "DiscretisationWarning",
+    "warn",
     "fmt_point",
 ]
 
@@ -78,7 +80,49 @@ class OutputError(PlanarError):
 
 
 class PlanarWarning(UserWarning):
-    """Something planar accepted but the user should look at (e.g. coincident nodes in a mesh file)."""
+    """Something planar accepted but the user should look at (e.g. coincident nodes in a mesh file).
+
+    Attributes
+    ----------
+    code : str
+        A short, stable code for the kind of concern (e.g. ``"locking"``), for filtering and for
+        summaries and reports; ``"general"`` when none was given.
+    """
+
+    code = "general"
+
+    def __init__(self, message: str = "", code: str | None = None):
+        super().__init__(message)
+        if code is not None:
+            self.code = str(code)
+
+    @property
+    def message(self) -> str:
+        return str(self.args[0]) if self.args else ""
+
+    def as_dict(self) -> dict:
+        """``{"code": ..., "message": ...}`` for summaries and reports."""
+        return {"code": self.code, "message": self.message}
+
+
+class DiscretisationWarning(PlanarWarning):
+    """A result planar computed but whose discretisation or inputs make it doubtful."""
+
+
+def warn(message: str, code: str, *, category: type = DiscretisationWarning, sink: list | None = None,
+         stacklevel: int = 2) -> PlanarWarning:
+    """Raise a planar warning through :mod:`warnings` and keep it in ``sink`` (e.g. ``Result.warnings``).
+
+    Python's default filter prints a given warning once per place in the code; ``sink`` keeps every
+    one, so summaries and reports can carry them.
+    """
+    import warnings
+
+    w = category(message, code)
+    if sink is not None and not any(o.code == w.code and o.message == w.message for o in sink):
+        sink.append(w)
+    warnings.warn(w, stacklevel=stacklevel + 1)
+    return w
 
 
 def fmt_point(p) -> str:

@@ -157,6 +157,8 @@ class Result:
         self.timer = timer
         self._e0 = initial_strains
         self._nodal_cache: dict[str, np.ndarray] = {}
+        #: planar warnings raised while solving and checking this case (PlanarWarning objects)
+        self.warnings: list = []
 
     @property
     def n_dofs(self) -> int:
@@ -398,4 +400,5 @@ class Result:
             "applied": self.total_applied().tolist(),
             "equilibrium_error": self.equilibrium_error(),
             "solver": self.solver,
+            "warnings": [w.as_dict() for w in self.warnings],
         }
