@@ -11,9 +11,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from .values import number
-from .errors import InputError, MaterialError
+from .errors import InputError, MaterialError, PlanarError
 
-__all__ = ["Isotropic", "Orthotropic", "Material", "ANALYSES", "check_analysis"]
+__all__ = ["Isotropic", "Orthotropic", "Material", "ANALYSES", "check_analysis", "check_material",
+           "SYMMETRY_TOLERANCE", "DEFINITENESS_TOLERANCE"]
 
 ANALYSES = ("plane stress", "plane strain")
 
@@ -25,16 +26,138 @@ def check_analysis(analysis: str) -> str:
     return a
 
 
+def _constant(name: str, value, **rule) -> float:
+    try:
+        return number(value, name, error=MaterialError, **rule)
+    except MaterialError as exc:
+        if isinstance(value, (str, bytes)):
+            raise MaterialError(f"{exc}: text that is not one number; give a plain number in the model's "
+                                "consistent units, e.g. 70e3 (no unit names, no thousands separators)") from None
+        raise
+
+
 def _positive(name: str, value) -> float:
-    return number(value, name, positive=True, error=MaterialError)
+    return _constant(name, value, positive=True)
 
 
 def _finite(name: str, value) -> float:
-    return number(value, name, error=MaterialError)
+    return _constant(name, value)
 
 
 def _not_negative(name: str, value) -> float:
-    return number(value, name, nonnegative=True, error=MaterialError)
+    return _constant(name, value, nonnegative=True)
+
+
+def _store(obj, field: str, value: float | None) -> None:
+    """Keep a checked constant as a plain float on a frozen material (``"70e3"`` becomes 70000.0).
+
+    A number given as text is accepted when it reads as one finite number (the rule of
+    :func:`planar.core.values.number`, also used for thickness); anything else is refused there.
+    """
+    object.__setattr__(obj, field, value)
+
+
+#: relative asymmetry max|D - D^T| / max|D| accepted as round-off. D from a compliance inverted in
+#: double precision carries an asymmetry of about (machine epsilon) x (condition number); 1e-8 admits
+#: condition numbers up to about 1e7 (moduli ratios far beyond any real material) and refuses every
+#: asymmetry a typing or formula mistake makes.
+SYMMETRY_TOLERANCE = 1e-8
+#: smallest eigenvalue of D relative to its largest below which D is not positive definite in double
+#: precision (the matrix cannot be told from a singular one: the stiffness would have a mode with no
+#: energy). Plane strain at nu = 0.5 - 1e-11 still passes (ratio about 1e-11).
+DEFINITENESS_TOLERANCE = 1e-12
+
+
+def _material_name(material) -> str:
+    name = getattr(material, "name", None)
+    label = f" {name!r}" if isinstance(name, str) and name else ""
+    return f"material{label} ({type(material).__name__})"
+
+
+def check_material(material, analysis: str = "plane stress") -> np.ndarray:
+    """Check a material's elasticity matrix and return it as a (3, 3) float array.
+
+    Any object with a method ``D(analysis)`` may be a material. Its matrix must be a 3 x 3 array of
+    finite numbers, symmetric to round-off (:data:`SYMMETRY_TOLERANCE`) and positive definite
+    (:data:`DEFINITENESS_TOLERANCE`): an elastic solid stores energy under every strain, and the
+    stiffness assembled from an unsymmetric D would be symmetrised silently by the solver (which
+    reads one triangle), so such a D is refused rather than changed.
+
+    Parameters
+    ----------
+    material : Isotropic, Orthotropic or any object with ``D(analysis)``
+    analysis : {"plane stress", "plane strain"}
+
+    Returns
+    -------
+    ndarray, shape (3, 3)
+
+    Raises
+    ------
+    MaterialError
+        Naming the material and what is wrong with its D, and the fix.
+
+    Examples
+    --------
+    >>> check_material(Isotropic(70e3, 0.3)).shape
+    (3, 3)
+    """
+    analysis = check_analysis(analysis)
+    what = _material_name(material)
+    method = getattr(material, "D", None)
+    if not callable(method):
+        raise MaterialError(
+            f"{what} has no method D(analysis); a material must be Isotropic, Orthotropic, or provide "
+            "D(analysis) returning the 3 x 3 elasticity matrix for (sigma_xx, sigma_yy, tau_xy)"
+        )
+    try:
+        raw = method(analysis)
+    except PlanarError:
+        raise
+    except Exception as exc:  # the user's own code
+        raise MaterialError(
+            f"{what}: D({analysis!r}) failed with {type(exc).__name__}: {exc}; D(analysis) must take "
+            "the analysis name and return the 3 x 3 elasticity matrix"
+        ) from None
+    try:
+        D = np.array(raw, dtype=float)
+    except (TypeError, ValueError, OverflowError):
+        raise MaterialError(
+            f"{what}: D({analysis!r}) returned {type(raw).__name__}, not a 3 x 3 array of numbers; "
+            "return the elasticity matrix for (sigma_xx, sigma_yy, tau_xy) as numbers"
+        ) from None
+    if D.shape != (3, 3):
+        raise MaterialError(
+            f"{what}: D({analysis!r}) has shape {D.shape}, but a plane elasticity matrix is 3 x 3 "
+            "(sigma_xx, sigma_yy, tau_xy against eps_xx, eps_yy, gamma_xy); return that block only"
+        )
+    bad = ~np.isfinite(D)
+    if bad.any():
+        i, j = np.argwhere(bad)[0]
+        raise MaterialError(
+            f"{what}: D({analysis!r}) has {int(bad.sum())} entries that are not finite numbers "
+            f"(first D[{i}, {j}] = {D[i, j]!r}); check the constants it is computed from"
+        )
+    scale = float(np.abs(D).max())
+    if scale == 0.0:
+        raise MaterialError(f"{what}: D({analysis!r}) is all zeros; give the material's stiffness")
+    asym = np.abs(D - D.T)
+    if asym.max() > SYMMETRY_TOLERANCE * scale:
+        i, j = np.unravel_index(int(np.argmax(asym)), asym.shape)
+        raise MaterialError(
+            f"{what}: D({analysis!r}) is not symmetric: D[{i}, {j}] = {D[i, j]:.6g} but D[{j}, {i}] = "
+            f"{D[j, i]:.6g} (relative difference {asym.max() / scale:.2g}, allowed {SYMMETRY_TOLERANCE:g} "
+            "for round-off); an elastic material has a symmetric D (it stores energy). Fix the "
+            "matrix: planar does not symmetrise it for you"
+        )
+    ev = np.linalg.eigvalsh(0.5 * (D + D.T))
+    if ev[0] <= DEFINITENESS_TOLERANCE * ev[-1]:
+        raise MaterialError(
+            f"{what}: D({analysis!r}) is not positive definite (eigenvalues {', '.join(f'{v:.4g}' for v in ev)}): "
+            "some strain would store no or negative energy. Check the constants: moduli > 0 and "
+            "Poisson's ratios inside the stable range"
+        )
+    return D
 
 
 @dataclass(frozen=True)
@@ -67,18 +190,16 @@ class Isotropic:
     name: str = "isotropic"
 
     def __post_init__(self) -> None:
-        _positive("Young's modulus E", self.E)
-        try:
-            nu = float(self.nu)
-        except (TypeError, ValueError):
-            raise MaterialError(f"Poisson's ratio nu must be a number, got {self.nu!r}") from None
-        if not (-1.0 < nu <= 0.5) or not math.isfinite(nu):
+        _store(self, "E", _positive("Young's modulus E", self.E))
+        nu = _finite("Poisson's ratio nu", self.nu)
+        if not (-1.0 < nu <= 0.5):
             raise MaterialError(
                 f"Poisson's ratio nu = {self.nu!r} is outside -1 < nu <= 0.5, where an isotropic "
                 "solid is stable; metals are near 0.3"
             )
-        _finite("thermal expansion alpha", self.alpha)
-        _not_negative("density", self.density)
+        _store(self, "nu", nu)
+        _store(self, "alpha", _finite("thermal expansion alpha", self.alpha))
+        _store(self, "density", _not_negative("density", self.density))
 
     @property
     def G(self) -> float:
@@ -160,24 +281,24 @@ class Orthotropic:
     name: str = "orthotropic"
 
     def __post_init__(self) -> None:
-        _positive("E1", self.E1)
-        _positive("E2", self.E2)
-        _positive("G12", self.G12)
-        _finite("material angle", self.angle)
+        for name in ("E1", "E2", "G12"):
+            _store(self, name, _positive(name, getattr(self, name)))
+        _store(self, "angle", _finite("material angle", self.angle))
         nu12 = _finite("Poisson's ratio nu12", self.nu12)
         for name in ("nu13", "nu23"):
             if getattr(self, name) is not None:
-                _finite(f"Poisson's ratio {name}", getattr(self, name))
+                _store(self, name, _finite(f"Poisson's ratio {name}", getattr(self, name)))
         for name in ("alpha1", "alpha2", "alpha3"):
-            _finite(f"thermal expansion {name}", getattr(self, name))
-        _not_negative("density", self.density)
+            _store(self, name, _finite(f"thermal expansion {name}", getattr(self, name)))
+        _store(self, "density", _not_negative("density", self.density))
         if nu12 * nu12 >= self.E1 / self.E2:
             raise MaterialError(
                 f"nu12 = {self.nu12!r} makes the material unstable: need nu12^2 < E1/E2 = "
                 f"{self.E1 / self.E2:g}"
             )
+        _store(self, "nu12", nu12)
         if self.E3 is not None:
-            _positive("E3", self.E3)
+            _store(self, "E3", _positive("E3", self.E3))
             S = self._S3()
             if np.any(np.linalg.eigvalsh(S[:3, :3]) <= 0):
                 raise MaterialError(

@@ -13,7 +13,7 @@ from typing import Any
 from .values import number
 from .errors import InputError, unknown_name
 from .loads import LoadKind
-from .materials import Isotropic, Orthotropic, check_analysis
+from .materials import Isotropic, Orthotropic, check_analysis, check_material
 from .mesh import Mesh
 from .supports import Support
 
@@ -34,9 +34,10 @@ def _check_thickness(t) -> float:
     return number(t, "thickness", positive=True)
 
 
-def _check_material(m):
+def _check_material(m, analysis: str):
     if not isinstance(m, (Isotropic, Orthotropic)) and not hasattr(m, "D"):
         raise InputError(f"a material must be Isotropic or Orthotropic (or provide D()), got {m!r}")
+    check_material(m, analysis)  # shape, finite, symmetric, positive definite: MaterialError naming it
     return m
 
 
@@ -80,7 +81,7 @@ class Model:
             raise InputError(f"Model needs a planar Mesh, got {type(mesh).__name__}")
         self.mesh = mesh
         self.analysis = check_analysis(analysis)
-        self.default = Section(_check_material(material) if material is not None else None,
+        self.default = Section(_check_material(material, self.analysis) if material is not None else None,
                                _check_thickness(thickness))
         self.sections: dict[str, Section] = {}
         self.supports: list[Support] = []
@@ -108,7 +109,7 @@ class Model:
         if region not in self.mesh.region_names():
             raise unknown_name("region", region, self.mesh.region_names())
         old = self.sections.get(region, Section(self.default.material, self.default.thickness))
-        sec = Section(_check_material(material) if material is not None else old.material,
+        sec = Section(_check_material(material, self.analysis) if material is not None else old.material,
                       _check_thickness(thickness) if thickness is not None else old.thickness)
         self.sections[region] = sec
         return sec
