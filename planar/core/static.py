@@ -204,6 +204,34 @@ def _describe_free(free, xc, L, several, xy) -> str:
     return where + ", ".join(words)
 
 
+def _case_names(model, cases) -> list[str]:
+    """The load cases to solve: all (None), one name (a str), or a list of names."""
+    from .errors import InputError
+    from .model import Model
+
+    if not isinstance(model, Model):
+        raise InputError(f"solve() needs a planar Model, got {type(model).__name__}; build one with "
+                         "planar.Model(mesh, material, thickness=...)")
+    if not model.cases:
+        raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)")
+    if cases is None:
+        return list(model.cases)
+    if isinstance(cases, (str, int)) and not isinstance(cases, bool):  # one name, not a sequence of letters
+        return [str(cases)]
+    if isinstance(cases, (bytes, dict)) or not hasattr(cases, "__iter__"):
+        raise InputError(f"cases must be a load case name or a list of names, got {cases!r}; e.g. "
+                         f"cases={next(iter(model.cases))!r} or cases=[...] from {list(model.cases)}")
+    names = list(cases)
+    bad = [c for c in names if not isinstance(c, (str, int)) or isinstance(c, bool)]
+    if bad:
+        raise InputError(f"cases must be load case names, got {bad[0]!r}; pick from {list(model.cases)}")
+    names = [str(c) for c in names]
+    if not names:
+        raise InputError(f"cases is empty; give at least one of {list(model.cases)}, or leave it out to "
+                         "solve every case")
+    return names
+
+
 def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool = False,
           distortion_limit: float = 1e-3, timer: Timer | None = None,
           keep_system: bool = False) -> dict[str, Result]:
@@ -212,8 +240,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     Parameters
     ----------
     model : Model
-    cases : list of str, optional
-        Load cases to solve (default: all of them).
+    cases : str or list of str, optional
+        A load case name or a list of them (default: all of them).
     solver : {"auto", "pardiso", "cholmod", "amg", "superlu"}
         Linear solver back end (see :mod:`planar.core.solvers`); ``"auto"`` picks by size, memory and
         what is installed.
@@ -236,9 +264,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         A singular stiffness matrix (a mechanism).
     """
     timer = timer or Timer(verbose)
-    if not model.cases:
-        raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)")
-    cases = list(model.cases) if cases is None else [str(c) for c in cases]
+    cases = _case_names(model, cases)
     for c in cases:
         if c not in model.cases:
             raise unknown_name("load case", c, model.cases)
