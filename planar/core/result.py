@@ -17,7 +17,7 @@ from .errors import InputError
 from .materials import sigma_zz
 from .parallel import map_chunks
 
-__all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix"]
+__all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix", "as_result"]
 
 #: fields a user can ask for by name
 STRESS_FIELDS = ("sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1",
@@ -402,3 +402,49 @@ class Result:
             "solver": self.solver,
             "warnings": [w.as_dict() for w in self.warnings],
         }
+
+
+def as_result(obj: Any, where: str) -> "Result":
+    """``obj`` if it is one load case's :class:`Result`, else an InputError saying what to pass.
+
+    The one check used by every function that takes a result (checks, plots, VTK output, reports,
+    error estimates, combinations), so that the dict :func:`planar.solve` returns, a Model or
+    anything else gets the same fix.
+
+    Parameters
+    ----------
+    obj : Any
+        What the user passed.
+    where : str
+        The function's name for the message (e.g. ``"kt"``).
+
+    Returns
+    -------
+    Result
+
+    Raises
+    ------
+    InputError
+        Naming what was given and the fix, e.g. ``results['pull']`` with the case names of a dict.
+    """
+    if isinstance(obj, Result):
+        return obj
+    from collections.abc import Mapping
+
+    fix = "pass one load case's result"
+    if isinstance(obj, Mapping):
+        names = [str(k) for k in obj]
+        if names and all(isinstance(v, Result) for v in obj.values()):
+            raise InputError(
+                f"{where} takes one load case's Result, but got the dict of results that solve() returns "
+                f"(cases {', '.join(map(repr, names))}); {fix}: results[{names[0]!r}]"
+            )
+        raise InputError(f"{where} takes one load case's Result, got a {type(obj).__name__} with keys "
+                         f"{names[:5]}; {fix}, e.g. planar.solve(model)['case name']")
+    if type(obj).__name__ == "Model" and hasattr(obj, "cases") and hasattr(obj, "mesh"):
+        cases = list(getattr(obj, "cases", {}) or {})
+        first = repr(cases[0]) if cases else "'case name'"
+        raise InputError(f"{where} takes one load case's Result, got the Model itself; solve it first and "
+                         f"{fix}: planar.solve(model)[{first}]")
+    raise InputError(f"{where} takes one load case's Result (from planar.solve(model)['case name']), got "
+                     f"{type(obj).__name__}")

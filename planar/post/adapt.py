@@ -28,6 +28,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from ..core.errors import InputError
+from ..core.result import as_result
 from .estimate import ErrorEstimate, estimate_error
 
 __all__ = ["SizeField", "Cycle", "AdaptiveRun", "size_field", "element_sizes", "adapt", "remesher"]
@@ -129,6 +130,7 @@ def size_field(result, estimate: ErrorEstimate, target: float, *, degree: int | 
     h_new = h (e_bar / eta_e)^(1/p) (O. C. Zienkiewicz and J. Z. Zhu, Int. J. Numer. Methods Eng. 24,
     1987, eqs. 31-33).
     """
+    result = as_result(result, "size_field")
     if not (0 < float(target) < 1):
         raise InputError(f"the target relative error must lie between 0 and 1 (e.g. 0.01 for 1 %), got {target!r}")
     p = int(degree if degree is not None else estimate.degree)

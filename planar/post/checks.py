@@ -30,7 +30,7 @@ import numpy as np
 from ..core.values import number
 from ..core.errors import InputError
 from ..core.quadrature import gauss_line
-from ..core.result import STRESS_FIELDS
+from ..core.result import STRESS_FIELDS, as_result
 
 __all__ = [
     "CAUTION",
@@ -206,6 +206,7 @@ def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
     InputError
         Unknown field or method, or a zero or non-finite nominal stress.
     """
+    result = as_result(result, "kt")
     _check_field(field)
     _check_method(method)
     try:
@@ -297,6 +298,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
             raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
         loc, fname, meth = (float("nan"), float("nan")), "given", "given"
     else:
+        result_or_peak = as_result(result_or_peak, "margin_of_safety")
         _check_field(field)
         _check_method(method)
         peak, loc, _ = result_or_peak.max(field, method=method, absolute=True)
@@ -382,6 +384,7 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     InputError
         Unknown field or method, or a path that leaves the mesh.
     """
+    result = as_result(result, "path_stresses")
     a, b = _point(start, "start"), _point(end, "end")
     names = [fields] if isinstance(fields, str) else list(fields)
     for f in names:
@@ -496,6 +499,7 @@ def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segm
     InputError
         Bad points, a cut that leaves the mesh, unknown method.
     """
+    result = as_result(result, "cut_resultant")
     a, b = _point(start, "start"), _point(end, "end")
     _check_method(method)
     if int(segments) < 1 or not 1 <= int(order) <= 10:

@@ -21,6 +21,7 @@ import numpy as np
 from ..core.assembly import CHUNK, element_strains, jacobian, shape_values
 from ..core.parallel import map_chunks
 from ..core.errors import InputError
+from ..core.result import as_result
 from .norms import energy_norm_error, stress_error_rule
 from .recovery import METHODS, _has_initial_strain, recover
 
@@ -149,6 +150,7 @@ def estimate_error(result, *, recovery: str = "spr") -> ErrorEstimate:
     >>> 0 < est.relative < 0.05
     True
     """
+    result = as_result(result, "estimate_error")
     if recovery not in METHODS:
         raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
     star = recover(result, recovery, per_region=True)
@@ -197,6 +199,7 @@ def effectivity(result, exact_stress: Callable[[np.ndarray, np.ndarray], np.ndar
         theta = eta / ||e||; an asymptotically exact estimator has theta -> 1 under refinement
         (Zienkiewicz and Zhu 1992, Part 2, eq. 11).
     """
+    result = as_result(result, "effectivity")
     est = estimate if estimate is not None else estimate_error(result, recovery=recovery)
     true, _ = energy_norm_error(result, exact_stress)
     if true <= 0:

@@ -7,6 +7,7 @@ import numpy as np
 
 from ..core.assembly import CHUNK, element_strains, jacobian, shape_values
 from ..core.quadrature import rule_for
+from ..core.result import as_result
 
 __all__ = ["energy_norm_error", "stress_error_rule"]
 
@@ -35,6 +36,7 @@ def energy_norm_error(result, exact_stress: Callable[[np.ndarray, np.ndarray], n
     norm : float
         sqrt( integral s^T D^-1 s dV ) of the exact field.
     """
+    result = as_result(result, "energy_norm_error")
     err2 = 0.0
     nrm2 = 0.0
     nodes = result.mesh.nodes

@@ -24,6 +24,7 @@ import numpy as np
 from ..core.elements import Q4, Q8, Q9, T3, T6
 from ..core.errors import InputError, MeshError
 from ..core.mesh import MESHIO_TO_LAYOUT
+from ..core.result import as_result
 from .files import atomic_path
 
 __all__ = [
@@ -616,6 +617,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     >>> fig.axes[1].get_xlabel()
     '$\\\\sigma_{xx}$ [MPa]'
     """
+    result = as_result(result, "plot_field")
     values = result.field(field, method=recovery)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)
@@ -763,6 +765,7 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
     -------
     matplotlib.figure.Figure
     """
+    result = as_result(result, "plot_along")
     dist, pts, vals = result.along(start, end, field, n_points=n_points, method=recovery)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)

@@ -76,6 +76,7 @@ from ..core.errors import InputError
 from ..core.materials import sigma_zz
 from ..core.quadrature import Rule, rule_for
 from ..core.result import extrapolation_matrix, stress_measures
+from ..core.result import as_result
 
 __all__ = ["recover", "sampling_rule", "Samples", "stress_samples", "patch_recovery", "recovery_operator",
            "RecoveryOperator", "METHODS"]
@@ -151,6 +152,7 @@ def stress_samples(result) -> list[Samples]:
     stress is D eps. A block loaded by an initial strain (thermal load) is sampled at the stiffness
     rule's points, where the initial strain is known (``superconvergent=False``).
     """
+    result = as_result(result, "stress_samples")
     nodes = result.mesh.nodes
     analysis = result.model.analysis
     blocks = result.assembly.blocks
@@ -696,6 +698,7 @@ def recover(result, method: str = "spr", per_region: bool = False, *, boundary: 
     >>> round(float(s[:, 0].max()), 9), s.shape
     (50.0, (85, 4))
     """
+    result = as_result(result, "recover")
     if method not in METHODS:
         raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(METHODS)}")
     if boundary not in _BOUNDARY:

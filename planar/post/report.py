@@ -29,6 +29,7 @@ from pathlib import Path
 from typing import Any, Iterable, Sequence, Union
 
 from ..core.errors import InputError
+from ..core.result import as_result
 from .files import atomic_write_text
 
 __all__ = [
@@ -365,6 +366,7 @@ def describe_model_rows(model) -> list[tuple[str, str]]:
 
 def equilibrium_table(result) -> Table:
     """Reactions against applied loads for one result (sums over the model)."""
+    result = as_result(result, "equilibrium_table")
     import numpy as np
 
     R = np.asarray(result.total_reaction(), float)
@@ -424,6 +426,7 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     -------
     Report
     """
+    result = as_result(result, "stress_check_report")
     model = result.model
     mesh = result.mesh
     blocks_top: list = []

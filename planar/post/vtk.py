@@ -14,6 +14,7 @@ import numpy as np
 
 from ..core.errors import InputError
 from ..core.result import stress_measures
+from ..core.result import as_result
 from .files import atomic_path
 
 __all__ = ["write_vtu", "write_grid", "add_field_data", "CELL_TYPES"]
@@ -71,6 +72,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     -------
     Path
     """
+    result = as_result(result, "write_vtu")
     path = vtu_target(path, compression)
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
