@@ -32,11 +32,13 @@ def _index_dtype(n: int):
     return np.int32 if n < 2**31 - 1 else np.int64
 
 
-def read_meshio(path: str | os.PathLike, what: str = "mesh file"):
+def read_meshio(path: str | os.PathLike, what: str = "mesh file", *, changed: str = "error"):
     """Read a file with meshio, quietly; every failure becomes a MeshError naming the file.
 
     meshio raises many kinds of exception, prints to the terminal, and calls ``sys.exit`` on some
-    content; none of that reaches the user.
+    content; none of that reaches the user. A .vtu file written by planar is first compared with the
+    digest it carries (:func:`planar.core.digest.check_digest`; ``changed`` says what to do when it
+    no longer matches); files from elsewhere carry none and read as before.
 
     Returns
     -------
@@ -47,11 +49,15 @@ def read_meshio(path: str | os.PathLike, what: str = "mesh file"):
 
     import meshio
 
+    from .digest import check_digest
+
     path = os.fspath(path)
     if not os.path.exists(path):
         raise MeshError(f"{what} {path!r} does not exist")
     if os.path.isdir(path):
         raise MeshError(f"{path!r} is a folder, not a {what}")
+    if os.path.splitext(path)[1].lower() == ".vtu" and os.path.getsize(path):
+        check_digest(path, what=what, changed=changed)
     _check_complete(path)
     chatter = io.StringIO()
     try:

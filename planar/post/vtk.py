@@ -7,11 +7,13 @@ fields (e.g. error indicators). Files are written atomically.
 from __future__ import annotations
 
 import os
+from concurrent import futures
 from pathlib import Path
 from typing import Mapping
 
 import numpy as np
 
+from ..core.digest import digest_of, sign_file, sign_text
 from ..core.errors import InputError
 from ..core.result import stress_measures
 from ..core.result import as_result
@@ -152,6 +154,7 @@ def write_grid(path: Path, points: np.ndarray, cells: list[tuple[str, np.ndarray
             meshio.write(tmp, m, file_format="vtu", compression=compression)
             if field_data:  # meshio writes no field data to .vtu
                 add_field_data(Path(tmp), field_data)
+            sign_file(tmp)
         else:
             _write_raw(Path(tmp), points, cells, point_data, cell_data, field_data or {})
 
@@ -200,12 +203,20 @@ def _write_raw(path: Path, points, cells, point_data, cell_data, field_data) -> 
         head += [array(np.concatenate([np.asarray(x) for x in v]), k) for k, v in cell_data.items()]
         head.append("</CellData>\n")
     head += ["</Piece>\n", "</UnstructuredGrid>\n", '<AppendedData encoding="raw">\n_']
-    with open(path, "wb") as fh:
-        fh.write("".join(head).encode("utf-8"))
-        for a in blocks:
-            fh.write(np.uint64(a.nbytes).tobytes())
-            fh.write(memoryview(a).cast("B"))
-        fh.write(b"\n</AppendedData>\n</VTKFile>\n")
+    text, at = sign_text("".join(head))
+    pieces = [text.encode("utf-8")]
+    for a in blocks:
+        pieces += [np.uint64(a.nbytes).tobytes(), memoryview(a).cast("B")]
+    pieces.append(b"\n</AppendedData>\n</VTKFile>\n")
+    # the digest is computed in a second thread while the bytes go to the file (both let go of the
+    # GIL), then written over the placeholder in the head
+    with futures.ThreadPoolExecutor(1) as pool:
+        digest = pool.submit(digest_of, pieces)
+        with open(path, "wb") as fh:
+            for piece in pieces:
+                fh.write(piece)
+            fh.seek(at)
+            fh.write(digest.result().encode("ascii"))
 
 
 def vtu_target(path, compression: str | None = None) -> Path:
