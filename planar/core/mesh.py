@@ -11,7 +11,7 @@ from typing import Mapping
 
 import numpy as np
 
-from .errors import InputError, MeshError, PlanarWarning, fmt_point, unknown_name
+from .errors import InputError, MeshError, PlanarError, PlanarWarning, fmt_point, unknown_name
 
 __all__ = ["Mesh", "MESHIO_TO_LAYOUT", "LAYOUT_TO_MESHIO"]
 
@@ -56,9 +56,9 @@ def read_meshio(path: str | os.PathLike, what: str = "mesh file", *, changed: st
         raise MeshError(f"{what} {path!r} does not exist")
     if os.path.isdir(path):
         raise MeshError(f"{path!r} is a folder, not a {what}")
-    if os.path.splitext(path)[1].lower() == ".vtu" and os.path.getsize(path):
-        check_digest(path, what=what, changed=changed)
     _check_complete(path)
+    if os.path.splitext(path)[1].lower() == ".vtu":
+        check_digest(path, what=what, changed=changed)
     chatter = io.StringIO()
     try:
         with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
@@ -90,6 +90,11 @@ class Mesh:
     regions : mapping of str to mapping of str to array_like of int, optional
         Named regions: for each, the cell indices in each cell block. Cells in no named region belong
         to the region ``"plate"``.
+    slits : bool or sequence of str, optional
+        Slits (cracks) the user means: names of edge sets along their faces, or True for every line
+        of distinct nodes at the same point. Elsewhere, nodes at one point that are not joined, and
+        nodes inside a neighbouring cell's side, are refused as a non-conforming mesh when the model
+        is solved (:func:`planar.core.assembly.prepare`).
 
     Notes
     -----
@@ -102,6 +107,7 @@ class Mesh:
     edge_sets: dict[str, np.ndarray] = field(default_factory=dict)
     node_sets: dict[str, np.ndarray] = field(default_factory=dict)
     regions: dict[str, dict[str, np.ndarray]] = field(default_factory=dict)
+    slits: bool | tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         try:
@@ -193,6 +199,23 @@ class Mesh:
                 reg[t] = ids
             regions[str(name)] = reg
         self.regions = regions
+        self.slits = self._check_slits(self.slits)
+
+    def _check_slits(self, slits) -> "bool | tuple[str, ...]":
+        if slits is None or slits is False:
+            return ()
+        if slits is True:
+            return True
+        names = (slits,) if isinstance(slits, str) else slits
+        try:
+            names = tuple(str(n) for n in names)
+        except TypeError:
+            raise MeshError(f"slits must be True or a list of edge set names, got {slits!r}"[:200]) from None
+        for n in names:
+            if n not in self.edge_sets:
+                raise unknown_name("edge", n, self.edge_sets,
+                                   "a slit is declared by the name of an edge set along its faces")
+        return names
 
     # ------------------------------------------------------------------ sizes and names
     @property
@@ -293,7 +316,7 @@ class Mesh:
 
     def with_nodes(self, nodes: np.ndarray) -> "Mesh":
         """The same mesh with other node coordinates (e.g. the deformed shape)."""
-        return Mesh(nodes, self.cells, self.edge_sets, self.node_sets, self.regions)
+        return Mesh(nodes, self.cells, self.edge_sets, self.node_sets, self.regions, slits=self.slits)
 
     def summary(self) -> str:
         blocks = ", ".join(f"{b.shape[0]} {t}" for t, b in self.cells.items())
@@ -380,11 +403,12 @@ class Mesh:
         cells = {t: renum[c] for t, c in self.cells.items()}
         edges = {k: renum[v] for k, v in self.edge_sets.items()}
         points = {k: renum[v] for k, v in self.node_sets.items() if k not in self.edge_sets}
-        return Mesh(self.nodes[keep], cells, edges, points, self.regions)
+        return Mesh(self.nodes[keep], cells, edges, points, self.regions, slits=self.slits)
 
     # ------------------------------------------------------------------ file input
     @classmethod
-    def read(cls, path: str | os.PathLike, *, merge_duplicates: bool | None = None) -> "Mesh":
+    def read(cls, path: str | os.PathLike, *, merge_duplicates: bool | None = None,
+             slits: bool | tuple[str, ...] = ()) -> "Mesh":
         """Read a mesh file through meshio (gmsh .msh with physical groups as named sets, .vtu).
 
         Parameters
@@ -394,7 +418,12 @@ class Mesh:
             What to do with distinct nodes of cells that lie at the same point (parts exported with
             their own copies of shared nodes are not joined there, like a crack): ``True`` joins them
             (:meth:`merge_duplicate_nodes`), ``False`` keeps them (a crack the user means), and
-            ``None`` (default) keeps them with a :class:`~planar.core.errors.PlanarWarning`.
+            ``None`` (default) keeps them with a :class:`~planar.core.errors.PlanarWarning`. Kept
+            duplicates that open a slit inside one piece of the mesh are refused when the model is
+            solved, unless ``merge_duplicates=False`` or ``slits`` declares them.
+        slits : bool or sequence of str, optional
+            Slits (cracks) the file means: names of its edge sets (physical lines) along their faces,
+            or True for every line of coincident nodes (see :class:`Mesh`).
 
         Raises
         ------
@@ -410,6 +439,13 @@ class Mesh:
         except (IndexError, KeyError, TypeError, ValueError) as exc:  # sets that point outside the blocks
             raise MeshError(f"mesh file {path!r} is inconsistent ({type(exc).__name__}: {exc}); write it "
                             "again") from None
+        if merge_duplicates is False and not slits:
+            slits = True  # the duplicates are a crack the user means
+        if slits:
+            try:
+                mesh = cls(mesh.nodes, mesh.cells, mesh.edge_sets, mesh.node_sets, mesh.regions, slits=slits)
+            except PlanarError as exc:
+                raise type(exc)(f"mesh file {path!r}: {exc}") from None
         if merge_duplicates:
             return mesh.merge_duplicate_nodes()
         if merge_duplicates is None:
