@@ -609,6 +609,24 @@ def _script_frames(tb, script: Path):
     return first, last
 
 
+def _same_file(name, script: Path) -> bool:
+    try:
+        return name is not None and Path(name).resolve() == script
+    except (OSError, TypeError, ValueError):
+        return False
+
+
+def _user_traceback(exc: BaseException, script: Path) -> int:
+    """Print the traceback of an error in the user's code from their script's first frame on."""
+    first, _ = _script_frames(exc.__traceback__, script)
+    if first is None and exc.__traceback__ is not None:  # raised before the script ran a line (e.g. runpy)
+        print("".join(traceback.format_exception_only(type(exc), exc)).rstrip(), file=sys.stderr)
+    else:
+        traceback.print_exception(type(exc), exc, first or exc.__traceback__, file=sys.stderr)
+    print(f"planar run: {script.name} stopped with {type(exc).__name__} (traceback above)", file=sys.stderr)
+    return 1
+
+
 @command("run", "run your geometry-and-model script with the output folder set")
 def _run(args) -> int:
     script = Path(args.script)
@@ -630,6 +648,14 @@ def _run(args) -> int:
             return code
         print(code, file=sys.stderr)
         return 1
+    except SyntaxError as exc:
+        if not _same_file(getattr(exc, "filename", None), script):
+            return _user_traceback(exc, script)
+        # the script could not be compiled: its own file, line and caret, none of planar's frames
+        print("".join(traceback.format_exception_only(type(exc), exc)).rstrip(), file=sys.stderr)
+        print(f"planar run: {script.name} has a {type(exc).__name__} at line {exc.lineno} (above); fix it and "
+              "run again", file=sys.stderr)
+        return 1
     except PlanarError as exc:
         _, last = _script_frames(exc.__traceback__, script)
         print(f"planar run: error: {exc}", file=sys.stderr)
@@ -642,10 +668,7 @@ def _run(args) -> int:
     except KeyboardInterrupt:
         raise
     except BaseException as exc:  # the user's own code: show their traceback, from their script on
-        first, _ = _script_frames(exc.__traceback__, script)
-        traceback.print_exception(type(exc), exc, first or exc.__traceback__, file=sys.stderr)
-        print(f"planar run: {script.name} stopped with {type(exc).__name__} (traceback above)", file=sys.stderr)
-        return 1
+        return _user_traceback(exc, script)
     finally:
         old_out, sys.argv, sys.path[:] = saved[0], saved[1], saved[2]
         if old_out is None:
@@ -683,16 +706,44 @@ def _show_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--undeformed", action="store_true", help="draw on the undeformed shape")
     p.add_argument("--scale", type=float, metavar="FACTOR",
                    help="displacement magnification (default: chosen automatically)")
-    p.add_argument("--bands", type=int, metavar="N", help="draw N colour bands instead of a smooth field")
+    p.add_argument("--bands", type=int, metavar="N",
+                   help="draw N colour bands (2 to 1000) instead of a smooth field")
     p.add_argument("--list", action="store_true", help="list the fields in the file and stop")
+    p.add_argument("--allow-changed", action="store_true",
+                   help="draw a file planar wrote even if it changed since (its digest no longer matches); "
+                        "a warning says so. Without it such a file is refused")
 
 
 @command("show", "draw a field of a written result file (.vtu) as a PNG picture")
 def _show(args) -> int:
-    from .post.plots import field_unit, length_unit, plot_vtu, vtu_fields
+    """Draw; planar warnings (a changed file, NaN values in other fields) print in one line each."""
+    import warnings
 
+    from .core.errors import PlanarWarning
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            return _show_file(args)
+        finally:
+            for w in caught:
+                if isinstance(w.message, PlanarWarning):
+                    print(f"planar show: warning [{w.message.code}]: {w.message}", file=sys.stderr)
+                else:
+                    warnings.showwarning(w.message, w.category, w.filename, w.lineno)
+
+
+def _show_file(args) -> int:
+    from .post.plots import MAX_LEVELS, field_unit, length_unit, plot_vtu, vtu_fields
+
+    changed = "warn" if args.allow_changed else "error"
+    if args.bands is not None and not 2 <= args.bands <= MAX_LEVELS:
+        raise InputError(f"--bands must be a whole number from 2 to {MAX_LEVELS}, got {args.bands}; "
+                         "leave it out for a smooth field")
+    if args.scale is not None and not math.isfinite(args.scale):
+        raise InputError(f"--scale must be a finite number, got {args.scale:g}")
     if args.list:
-        f = vtu_fields(args.result)
+        f = vtu_fields(args.result, changed=changed)
         print(f"point fields: {', '.join(f['point']) or '-'}")
         print(f"cell fields:  {', '.join(f['cell']) or '-'}")
         return 0
@@ -709,7 +760,8 @@ def _show(args) -> int:
     if args.scale is not None and args.scale < 0:
         raise InputError(f"--scale must not be negative, got {args.scale:g}")
     plot_vtu(args.result, args.field, png=png, units=unit, length=length, deformed=not args.undeformed,
-             scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands)
+             scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands,
+             changed=changed)
     print(f"wrote {png}")
     return 0
 

@@ -154,8 +154,8 @@ def check_digest(path: str | os.PathLike, *, what: str = "result file", changed:
            f"SHA-256 digest planar stored in it ({ATTRIBUTE}), so any number in it may be wrong. Write "
            "it again from the model")
     if changed == "error":
-        raise MeshError(msg + " (to look at it anyway, read it with changed='warn', or "
-                        "planar show --allow-changed)")
+        raise MeshError(msg + " (to look at it anyway: planar show --allow-changed, or "
+                        "planar.post.files.read_result_file(path, changed='warn'))")
     import warnings
 
     warnings.warn(PlanarWarning(msg + "; shown anyway as asked", "changed-file"), stacklevel=2)

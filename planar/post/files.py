@@ -1,4 +1,6 @@
-"""Atomic file writing: a temporary file in the same folder, then a rename over the target."""
+"""Result files: atomic writing (a temporary file in the same folder, then a rename over the target),
+and reading back a .vtu result with its digest compared and its numbers checked.
+"""
 from __future__ import annotations
 
 import errno
@@ -7,9 +9,13 @@ import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
-from ..core.errors import OutputError
+import numpy as np
 
-__all__ = ["atomic_path", "atomic_write_text", "atomic_write_bytes"]
+from ..core.digest import check_digest
+from ..core.errors import MeshError, OutputError, PlanarWarning, fmt_point
+
+__all__ = ["atomic_path", "atomic_write_text", "atomic_write_bytes", "read_result_file", "check_digest",
+           "non_finite_fields"]
 
 
 @contextmanager
@@ -122,3 +128,77 @@ def _sync_folder(folder: Path) -> None:
         pass
     finally:
         os.close(fd)
+
+
+# ---------------------------------------------------------------------------------------- reading
+def non_finite_fields(m) -> dict[str, tuple[int, int]]:
+    """Point and cell fields of a ``meshio.Mesh`` that hold NaN or infinite values.
+
+    Returns
+    -------
+    dict of str to (int, int)
+        Field name -> (number of non-finite values, number of values), only for fields that have any.
+    """
+    out: dict[str, tuple[int, int]] = {}
+    for name, v in m.point_data.items():
+        a = np.asarray(v)
+        if a.dtype.kind in "fc":
+            bad = int(np.count_nonzero(~np.isfinite(a)))
+            if bad:
+                out[name] = (bad, a.size)
+    for name, blocks in m.cell_data.items():
+        arrays = [np.asarray(b) for b in blocks]
+        arrays = [a for a in arrays if a.dtype.kind in "fc"]
+        bad = sum(int(np.count_nonzero(~np.isfinite(a))) for a in arrays)
+        if bad:
+            out[name] = (bad, sum(a.size for a in arrays))
+    return out
+
+
+def read_result_file(path: str | os.PathLike, *, changed: str = "error"):
+    """Read a .vtu result file (with meshio) and check that its numbers can be used.
+
+    A file planar wrote is first compared with the digest it carries; a file from elsewhere (no
+    digest) is read as it is. Points must have finite coordinates. Fields holding NaN or infinite
+    values are reported (a :class:`~planar.core.errors.PlanarWarning` of code ``"non-finite-values"``
+    naming each field and its count); drawing such a field is refused by :func:`planar.post.plots.plot_vtu`.
+
+    Parameters
+    ----------
+    path : path
+    changed : {"error", "warn"}
+        A planar file whose bytes changed since it was written: refuse it (default), or read it with
+        a warning of code ``"changed-file"``.
+
+    Returns
+    -------
+    meshio.Mesh
+
+    Raises
+    ------
+    MeshError
+        The file is missing, unreadable, truncated, changed since planar wrote it, or has points with
+        NaN or infinite coordinates.
+    """
+    from ..core.mesh import read_meshio
+
+    m = read_meshio(path, "result file", changed=changed)
+    pts = np.asarray(m.points, dtype=float)
+    bad = ~np.all(np.isfinite(pts), axis=1)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise MeshError(
+            f"result file {os.fspath(path)!r} has {int(bad.sum())} of {pts.shape[0]} points with NaN or infinite "
+            f"coordinates (first: point {i} at {fmt_point(pts[i])}); the file is damaged or was written from a "
+            "failed computation: write it again"
+        )
+    fields = non_finite_fields(m)
+    if fields:
+        import warnings
+
+        listed = "; ".join(f"{k}: {n} of {size} values" for k, (n, size) in fields.items())
+        warnings.warn(PlanarWarning(
+            f"result file {os.fspath(path)!r} has NaN or infinite values in {len(fields)} field(s) ({listed}); "
+            "they cannot be drawn or trusted: write the file again from the model", "non-finite-values"),
+            stacklevel=2)
+    return m

@@ -22,7 +22,7 @@ from typing import Any, Mapping, Sequence
 import numpy as np
 
 from ..core.elements import Q4, Q8, Q9, T3, T6
-from ..core.errors import InputError, MeshError
+from ..core.errors import InputError, MeshError, fmt_point
 from ..core.mesh import MESHIO_TO_LAYOUT
 from ..core.result import as_result
 from .files import atomic_path
@@ -396,6 +396,54 @@ def save_figure(fig, path: str | os.PathLike, dpi: int = 120) -> Path:
 
 
 # ---------------------------------------------------------------------------------------- contour
+#: most colour bands a contour may have (a colour bar cannot show more apart)
+MAX_LEVELS = 1000
+
+
+def check_levels(levels, what: str = "levels") -> int | None:
+    """``levels`` (the number of colour bands) as an int from 2 to :data:`MAX_LEVELS`, or None."""
+    if levels is None:
+        return None
+    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)):
+        raise InputError(f"{what} must be a whole number of colour bands from 2 to {MAX_LEVELS}, got {levels!r}")
+    if not 2 <= int(levels) <= MAX_LEVELS:
+        raise InputError(f"{what} must be a whole number of colour bands from 2 to {MAX_LEVELS}, got {int(levels)}; "
+                         "leave it out for a smooth field")
+    return int(levels)
+
+
+def _check_finite(nodes, cells, values, cell_values, displacement, name: str) -> None:
+    """Refuse NaN or infinite numbers on the drawn cells: never paint them as some colour."""
+    used = np.zeros(nodes.shape[0], dtype=bool)
+    for c in cells.values():
+        used[np.asarray(c).ravel()] = True
+
+    def first_bad(a, what, unit_of_count="nodes"):
+        bad = ~np.all(np.isfinite(a), axis=1) if a.ndim == 2 else ~np.isfinite(a)
+        bad &= used
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise InputError(f"{what} has NaN or infinite values at {int(bad.sum())} of {int(used.sum())} "
+                             f"{unit_of_count} of the cells drawn (first: node {i} at {fmt_point(nodes[i])}); "
+                             "they cannot be drawn: nothing would show where they are")
+
+    first_bad(nodes, "the node coordinates")
+    if displacement is not None:
+        first_bad(displacement, "the displacement")
+    if values is not None:
+        v = np.asarray(values, float)
+        if v.shape[0] == nodes.shape[0]:
+            first_bad(v, f"the field {name!r}")
+    if cell_values is not None:
+        for lay, v in cell_values.items():
+            v = np.asarray(v, float)
+            bad = ~np.isfinite(v)
+            if bad.any():
+                k = int(np.flatnonzero(bad)[0])
+                raise InputError(f"the field {name!r} has NaN or infinite values in {int(bad.sum())} of {v.size} "
+                                 f"{lay} cells (first: cell {k}); they cannot be drawn")
+
+
 def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str = "field",
                      unit: str = "", length: str = "", scale: float | str | None = "auto",
                      mesh_lines: bool = False, mark_peak: bool = True, levels: int | None = None,
@@ -451,8 +499,10 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str 
     cells = {k: np.asarray(v) for k, v in cells.items() if np.asarray(v).size}
     if values is None and cell_values is None:
         raise InputError("give nodal values or cell values to draw")
+    levels = check_levels(levels)
     if displacement is not None:
         displacement = np.asarray(displacement, float)[:, :2]
+    _check_finite(nodes, cells, values, cell_values, displacement, name)
     if scale == "auto":
         scale = deformation_scale(nodes, displacement) if displacement is not None else 0.0
     scale = float(scale or 0.0)
@@ -634,15 +684,18 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
 
 
 # ---------------------------------------------------------------------------------------- vtu files
-def _read_vtu(path):
-    from ..core.mesh import read_meshio
+def _read_vtu(path, changed: str = "error"):
+    from .files import read_result_file
 
-    return read_meshio(path, "result file")
+    return read_result_file(path, changed=changed)
 
 
-def vtu_fields(path) -> dict[str, list[str]]:
-    """Names of the point fields and cell fields in a .vtu file (vectors also as _x/_y parts)."""
-    m = _read_vtu(path)
+def vtu_fields(path, *, changed: str = "error") -> dict[str, list[str]]:
+    """Names of the point fields and cell fields in a .vtu file (vectors also as _x/_y parts).
+
+    ``changed`` is passed to :func:`planar.post.files.read_result_file`.
+    """
+    m = _read_vtu(path, changed)
     return {"point": sorted(_point_fields(m)), "cell": sorted(m.cell_data)}
 
 
@@ -666,7 +719,7 @@ def _point_fields(m) -> dict[str, np.ndarray]:
 def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = None, length: str = "",
              deformed: bool = True, scale: float | str | None = "auto", mesh_lines: bool = False,
              mark_peak: bool = True, levels: int | None = None, cmap: str | None = None,
-             title: str | None = None):
+             title: str | None = None, changed: str = "error"):
     """Contour of a field stored in a .vtu result file (read with meshio).
 
     Quadratic cells (triangle6, quad8, quad9) are subdivided with their shape functions. Point
@@ -688,6 +741,9 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
         Length unit for the axes, e.g. ``"mm"``.
     deformed : bool
         Draw on the deformed shape when the file has displacements.
+    changed : {"error", "warn"}
+        A file planar wrote whose bytes changed since (its digest no longer matches): refuse it
+        (default) or draw it with a warning (:func:`planar.post.files.read_result_file`).
 
     Returns
     -------
@@ -696,13 +752,17 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
     Raises
     ------
     MeshError
-        The file is missing, unreadable or has no drawable cells.
+        The file is missing, unreadable, changed since planar wrote it, has no drawable cells, or the
+        field to draw (or the displacement, on the deformed shape) holds NaN or infinite values.
     NameNotFoundError
         The field is not in the file (the message lists the fields that are).
     """
     from ..core.errors import unknown_name
 
-    m = _read_vtu(path)
+    from .files import non_finite_fields
+
+    levels = check_levels(levels)
+    m = _read_vtu(path, changed)
     cells: dict[str, list[np.ndarray]] = {}
     order: list[tuple[int, str]] = []
     for bi, block in enumerate(m.cells):
@@ -726,8 +786,24 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
     else:
         raise unknown_name("field", field, list(pfields) + list(m.cell_data),
                            hint="Fields are the point and cell data of the file")
+    bad = non_finite_fields(m)
+    base = field if field in m.point_data or field in m.cell_data else \
+        "displacement" if field in ("ux", "uy") else field[:-2]
+    if base in bad:
+        n, size = bad[base]
+        raise MeshError(
+            f"result file {os.fspath(path)!r}: the field {base!r} holds {n} NaN or infinite values of {size}; "
+            "they cannot be drawn (no colour would be right) or trusted: write the file again from the model"
+        )
     disp = None
     if deformed and "displacement" in m.point_data:
+        if "displacement" in bad:
+            n, size = bad["displacement"]
+            raise MeshError(
+                f"result file {os.fspath(path)!r}: the displacement holds {n} NaN or infinite values of {size}, "
+                "so the deformed shape cannot be drawn: draw on the undeformed shape (deformed=False, "
+                "planar show --undeformed) or write the file again from the model"
+            )
         disp = np.asarray(m.point_data["displacement"], float)[:, :2]
     if title is None:
         title = f"{field_label(field)}, {Path(path).name}"
