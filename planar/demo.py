@@ -256,7 +256,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     r = part.hole_diameter / 2
 
     # -- the mesh family: mesh, solve, recovered peaks ----------------------------------------
-    meshes, fine = [], None
+    meshes, fine, solved = [], None, []
     for k, h in enumerate(part.sizes, 1):
         say(f"mesh {k} of {len(part.sizes)}: quadratic triangles, {h:g} mm at the hole edge")
         t = time.perf_counter()
@@ -272,6 +272,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
                        "peak_location": list(vm_at), "seconds": time.perf_counter() - t,
                        "mesh_seconds": t_mesh})
         fine = res
+        solved.append(res)
     t_solved = time.perf_counter()
 
     # -- convergence, checks and the error estimate on the finest mesh -------------------------
@@ -333,6 +334,8 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
         "solver": fine.solver,
         "meshes": meshes,
     }
+    # every planar warning of the solves and checks, once each (none for the built-in strap)
+    summary["warnings"] = list({(w.code, w.message): w.as_dict() for r in solved for w in r.warnings}.values())
     summary["seconds_by_step"] = {"meshes and solutions": t_solved - t_start,
                                   "checks and error estimate": t_checked - t_solved,
                                   "result file and figures": t_figures - t_checked}
@@ -511,6 +514,10 @@ def format_summary(outcome: DemoOutcome) -> str:
              f"  {'-' * w0}  {'-' * w1}  {'-' * 40}"]
     lines += [f"  {a:<{w0}}  {b:>{w1}}  {c}" for a, b, c in rows]
     import textwrap
+
+    for w in s.get("warnings", []):
+        lines += [""] + textwrap.wrap(f"warning [{w['code']}]: {w['message']}", 100, initial_indent="  ",
+                                      subsequent_indent="    ")
 
     folder = Path(outcome.files["report"]).parent
     names = ", ".join(sorted(p.name for p in outcome.files.values()))

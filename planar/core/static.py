@@ -341,6 +341,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         results[c] = Result(asm, c, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), F[:, j].reshape(-1, 2),
                             loads[j][1], solver=fac.name, timer=timer, solver_info=dict(fac.info))
     del system
+    from .advice import advise
+
+    advise(results)  # trust warnings (locking, slender, units, contrast): raised once, kept per result
     return results
 
 

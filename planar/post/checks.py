@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..core.values import number
-from ..core.errors import InputError
+from ..core.errors import InputError, PlanarWarning, warn
 from ..core.quadrature import gauss_line
 from ..core.result import STRESS_FIELDS, as_result
 
@@ -216,6 +216,12 @@ def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
     if not math.isfinite(nom) or nom == 0:
         raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
     peak, loc, node = result.max(field, method=method, absolute=absolute)
+    if nom < 0:
+        warn(f"negative nominal stress {nom:.6g} in Kt (load case {result.case!r}, {field} peak {peak:.6g} at "
+             f"{_where(*loc)}): a stress concentration factor is a ratio of tension figures, so a "
+             f"compressive nominal gives Kt = {peak / nom:.4g}, with a misleading sign; give the nominal as "
+             "a positive magnitude (and absolute=True for a compressive peak)",
+             "negative-nominal", category=PlanarWarning, sink=result.warnings)
     return StressConcentration(peak / nom, peak, nom, field, method, loc, node)
 
 
@@ -292,6 +298,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
     """
     allow = _positive(allowable, "allowable")
     fs = _positive(factor_of_safety, "factor_of_safety")
+    sink = None
     if isinstance(result_or_peak, (int, float, np.floating, np.integer)):
         peak = abs(float(result_or_peak))
         if not math.isfinite(peak):
@@ -304,6 +311,12 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         peak, loc, _ = result_or_peak.max(field, method=method, absolute=True)
         peak = abs(peak)
         fname, meth = field, method
+        sink = result_or_peak.warnings
+    if fs < 1.0:
+        warn(f"factor of safety {fs:g} is below 1: it reduces the applied stress ({fs:g} x peak) instead of "
+             "covering uncertainty, so the margin looks larger than the part has; use a factor of at least 1 "
+             "(e.g. 1.5 on limit loads), or lower the allowable for a known knock-down instead",
+             "factor-of-safety", category=PlanarWarning, sink=sink)
     ms = math.inf if peak == 0 else allow / (fs * peak) - 1.0
     return Margin(ms, allow, fs, peak, fname, meth, loc)
 

@@ -47,6 +47,7 @@ __all__ = [
     "stress_check_report",
     "equilibrium_table",
     "describe_model_rows",
+    "warnings_section",
 ]
 
 #: the cautions every stress-check report carries
@@ -388,6 +389,18 @@ def equilibrium_table(result) -> Table:
     return t
 
 
+def warnings_section(warnings: Sequence[Any]) -> Section:
+    """A "Warnings" section listing planar warnings (code and message), e.g. ``result.warnings``."""
+    rows = []
+    for w in warnings:
+        d = w.as_dict() if hasattr(w, "as_dict") else dict(w)
+        rows.append([str(d.get("code", "general")), str(d.get("message", ""))])
+    return Section("Warnings", [
+        Notice([f"planar raised {len(rows)} warning(s) about this result: read them before using its figures."],
+               kind="caution"),
+        Table(["code", "message"], rows, caption="Each warning names the concern, where it is and the fix.")])
+
+
 def stress_check_report(result, *, title: str, subtitle: str = "",
                         part: Sequence[tuple[str, Any]] = (),
                         headline: Sequence[tuple[str, str, str, str]] = (),
@@ -436,6 +449,8 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
                               "fracture or plasticity check. Read the cautions in the last section."],
                              kind="note"))
     sections = [Section("Summary", blocks_top)]
+    if getattr(result, "warnings", None):
+        sections.append(warnings_section(result.warnings))
     sections.append(Section("What was analysed", [
         KeyValues(list(part), caption="The part") if part else Paragraph("Geometry as given by the script."),
         KeyValues(describe_model_rows(model), caption="Model: analysis, material, thickness, supports and loads"),
