@@ -617,6 +617,388 @@ def _reusable(rec: dict | None, function_id: str, specs: dict[str, str], retry_f
     return all(stored.get(n) == d for n, d in specs.items())
 
 
+# ============================================================================ claims: runs sharing a store
+#: Default seconds after which a claim whose heartbeat stopped is taken over by another run.
+CLAIM_TIMEOUT = 60.0
+_POLL = 0.25  # seconds between looks at the store while this run waits for points other runs hold
+
+
+def _pid_alive(pid: int) -> bool:
+    """Whether process ``pid`` of this host still runs (a zombie counts as ended).
+
+    Only on POSIX; elsewhere this answers True and a claim goes stale by its heartbeat alone
+    (``os.kill(pid, 0)`` would end the process on Windows).
+    """
+    if os.name != "posix":
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # alive, owned by another user
+        return True
+    except OSError:
+        return True
+    try:  # Linux: an ended process that nobody has reaped yet is a zombie ("Z") or dead ("X")
+        with open(f"/proc/{pid}/stat", "rb") as f:
+            state = f.read().rsplit(b")", 1)[1].split()[0]
+        return state not in (b"Z", b"X")
+    except (OSError, IndexError):
+        return True
+
+
+class _Claims:
+    """Claims of the points this run computes: ``DIR/<key>.claim`` beside the point files.
+
+    A claim is created atomically (``O_CREAT | O_EXCL``: of two runs asking at once exactly one
+    gets it) and holds the pid, host, run token and start time of its run. While the run holds it, a
+    heartbeat thread refreshes the file's modification time every ``timeout / 6`` seconds (at most
+    5 s). A claim is stale when its heartbeat is older than ``timeout`` seconds (the hosts' clocks must
+    agree to well within it), or at once when it was made on this host by a process that has ended.
+    A stale claim is taken over under a second exclusive file, ``DIR/<key>.takeover``, so that of two
+    runs taking it over at the same moment only one succeeds.
+    """
+
+    def __init__(self, directory: Path, timeout: float = CLAIM_TIMEOUT):
+        import threading
+
+        self.dir = Path(directory)
+        self.timeout = float(timeout)
+        self.interval = min(5.0, self.timeout / 6.0)
+        self.host = socket.gethostname()
+        self.pid = os.getpid()
+        self.token = os.urandom(8).hex()
+        self.held: set[str] = set()
+        self._lock = threading.Lock()
+        self._stop = threading.Event()
+        self._thread = None
+
+    def path(self, key: str) -> Path:
+        return self.dir / f"{key}.claim"
+
+    def _text(self) -> str:
+        return json.dumps({"pid": self.pid, "host": self.host, "run": self.token, "started": time.time()})
+
+    def claim(self, key: str) -> bool:
+        """Claim a point for this run; False if another run holds it."""
+        try:
+            fd = os.open(self.path(key), os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o644)
+        except FileExistsError:
+            return False
+        with os.fdopen(fd, "w", encoding="utf-8") as f:
+            f.write(self._text())
+        with self._lock:
+            self.held.add(key)
+        self._beat()
+        return True
+
+    def holder(self, key: str) -> dict:
+        """What the claim file says ({} while it is being written or when unreadable)."""
+        try:
+            info = json.loads(self.path(key).read_text(encoding="utf-8"))
+        except (OSError, ValueError):
+            return {}
+        return info if isinstance(info, dict) else {}
+
+    def is_stale(self, key: str) -> bool:
+        """Whether a claim exists and its run is gone (dead pid on this host, or no heartbeat)."""
+        try:
+            age = time.time() - os.stat(self.path(key)).st_mtime
+        except FileNotFoundError:
+            return False
+        if age > self.timeout:
+            return True
+        info = self.holder(key)
+        pid = info.get("pid")
+        if info.get("host") == self.host and isinstance(pid, int) and not isinstance(pid, bool):
+            return not _pid_alive(pid)
+        return False
+
+    def take_over(self, key: str) -> bool:
+        """Replace a stale claim by this run's; False if it is not stale or another run was faster."""
+        lock = self.dir / f"{key}.takeover"
+        try:
+            fd = os.open(lock, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o644)
+        except FileExistsError:
+            try:  # left by a run that ended in the middle of a takeover
+                if time.time() - os.stat(lock).st_mtime > self.timeout:
+                    os.unlink(lock)
+            except OSError:
+                pass
+            return False
+        try:
+            os.write(fd, self._text().encode())
+            os.close(fd)
+            if not self.is_stale(key):  # freed meanwhile (then claim it), or taken by a live run
+                return self.claim(key)
+            try:
+                os.unlink(self.path(key))
+            except FileNotFoundError:
+                pass
+            return self.claim(key)
+        finally:
+            try:
+                os.unlink(lock)
+            except OSError:
+                pass
+
+    def release(self, key: str) -> None:
+        """Give a point up (after its record is stored, or when the run stops)."""
+        with self._lock:
+            if key not in self.held:
+                return
+            self.held.discard(key)
+        if self.holder(key).get("run") == self.token:  # not if another run took it over meanwhile
+            try:
+                os.unlink(self.path(key))
+            except OSError:
+                pass
+
+    def _beat(self) -> None:
+        import threading
+
+        if self._thread is None:
+            self._thread = threading.Thread(target=self._heartbeat, name="planar-sweep-heartbeat", daemon=True)
+            self._thread.start()
+
+    def _heartbeat(self) -> None:
+        while not self._stop.wait(self.interval):
+            with self._lock:
+                keys = list(self.held)
+            for key in keys:
+                try:
+                    os.utime(self.path(key))
+                except OSError:
+                    pass
+
+    def close(self) -> None:
+        """Stop the heartbeat and release every claim still held."""
+        self._stop.set()
+        with self._lock:
+            keys = list(self.held)
+        for key in keys:
+            self.release(key)
+
+
+class _Feed:
+    """Hands out the points this run is to compute, one at a time, sharing them with other runs.
+
+    Without claims (no store) it simply hands out the points in order. With claims a point is handed
+    out only once this run holds its claim; a point another live run holds waits, and is looked at
+    again every ``_POLL`` seconds when this run has nothing else to do: its record (once the other run
+    stored it) is taken as it is, and a claim that went stale is taken over.
+    """
+
+    def __init__(self, tasks, store: _Store | None, claims: _Claims | None, accept, on_done):
+        from collections import deque
+
+        self.queue = deque(tasks)
+        self.ready = deque()
+        self.waiting: dict[str, dict] = {}
+        self.store, self.claims, self.accept, self.on_done = store, claims, accept, on_done
+        self._polled = -math.inf
+
+    @property
+    def exhausted(self) -> bool:
+        """Nothing left to hand out or to wait for."""
+        return not (self.queue or self.ready or self.waiting)
+
+    @property
+    def remaining(self) -> int:
+        return len(self.queue) + len(self.ready) + len(self.waiting)
+
+    def next(self):
+        """The next point ``(key, params)`` this run is to compute, or None for now."""
+        if self.ready:
+            return self.ready.popleft()
+        while self.queue:
+            key, params = self.queue.popleft()
+            if self.claims is None or self._take(key, params):
+                return key, params
+        if self.waiting and time.monotonic() - self._polled >= _POLL:
+            self.poll()
+            if self.ready:
+                return self.ready.popleft()
+        return None
+
+    def _take(self, key: str, params: dict) -> bool:
+        c = self.claims
+        if not (c.claim(key) or (c.is_stale(key) and c.take_over(key))):
+            self.waiting[key] = params  # another live run computes it
+            return False
+        rec = self.store.load(key)
+        if self.accept(rec):  # another run finished it before this run claimed it
+            c.release(key)
+            self.on_done(rec, False)
+            return False
+        return True
+
+    def poll(self) -> None:
+        """Look at the points other runs hold: take their records, take over stale claims."""
+        self._polled = time.monotonic()
+        try:
+            names = {e.name for e in os.scandir(self.store.dir)}
+        except OSError:
+            names = None
+        for key, params in list(self.waiting.items()):
+            if names is None or f"{key}.json" in names:
+                rec = self.store.load(key)
+                if self.accept(rec):
+                    del self.waiting[key]
+                    self.on_done(rec, False)
+                    continue
+            if names is not None and f"{key}.claim" in names and not self.claims.is_stale(key):
+                continue
+            del self.waiting[key]
+            if self._take(key, params):
+                self.ready.append((key, params))
+
+    def pause(self, deadline: float | None) -> None:
+        """Nothing of this run's to compute: wait a moment for the other runs."""
+        t = _POLL if deadline is None else min(_POLL, deadline - time.monotonic())
+        if t <= 0:
+            raise TimeoutError
+        time.sleep(t)
+
+
+# ============================================================================ workers end with the sweep
+_PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
+
+
+def _drop_forkserver_pipe() -> None:
+    """In a forkserver child: close this process's copy of the forkserver's "alive" pipe.
+
+    The forkserver ends when every holder of the pipe's write end is gone; each child gets a copy
+    (``multiprocessing.forkserver``), so a worker that keeps it keeps the forkserver alive after the
+    sweep's process died. Without the copy, the forkserver ends with the sweep's process, and the
+    parent-death signal then ends the workers.
+    """
+    try:
+        from multiprocessing import forkserver
+
+        fs = forkserver._forkserver
+        fd = getattr(fs, "_forkserver_alive_fd", None)
+        if fd is not None and getattr(fs, "_forkserver_pid", None) is None:  # inherited, not our own server
+            os.close(fd)
+            fs._forkserver_alive_fd = None
+    except Exception:
+        pass
+
+
+def _set_parent_death_signal() -> bool:
+    """Linux: have the kernel send SIGKILL to this process when its parent ends (prctl(2))."""
+    if not sys.platform.startswith("linux"):
+        return False
+    try:
+        import ctypes
+        import signal
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        return libc.prctl(_PR_SET_PDEATHSIG, int(signal.SIGKILL), 0, 0, 0) == 0
+    except (OSError, AttributeError):
+        return False
+
+
+def _end_with(main_pid: int, deathsig: bool = False, interval: float = 1.0) -> None:
+    """Make this worker process end when the sweep's process ``main_pid`` ends, however it ends.
+
+    Two mechanisms (common practice for worker processes; the Linux prctl(2) manual page):
+
+    - ``deathsig`` (Linux): ``prctl(PR_SET_PDEATHSIG, SIGKILL)``: the kernel kills this process when
+      its parent ends, even while it is inside a compiled call. The signal fires when the *thread*
+      that created the child ends, not the process, so it is asked for only where that thread lives
+      as long as the child: (a) local workers are forked by the multiprocessing forkserver, whose one
+      thread forks every worker and lives as long as the server, and the server is tied to the
+      sweep's process by :func:`_drop_forkserver_pipe`; (b) the workers of the sweep's own Dask
+      cluster are started by a helper thread of ``distributed`` that stops only after the worker
+      process has exited. (Workers started with "spawn" by a pool are made by the thread that
+      calls ``submit``, which may end before the pool; they get only the watchdog.) As prctl(2)
+      advises, the parent pid is checked again after the call, in case the parent ended before it.
+    - Everywhere: a daemon watchdog thread waits on the sentinel of the parent process (the pipe
+      ``multiprocessing`` keeps open in the sweep's process; it reads as closed when that process is
+      gone) with a timeout of ``interval`` seconds, and also compares ``os.getppid()`` with the
+      parent at start-up and checks that ``main_pid`` still runs. When any says the sweep is gone,
+      the worker exits at once with ``os._exit``. It needs the interpreter lock, so a compiled call
+      that holds the lock delays it to the end of that call.
+    """
+    import threading
+
+    ppid = os.getppid()
+    if deathsig and _set_parent_death_signal() and os.getppid() != ppid:
+        os._exit(1)
+    if not _pid_alive(main_pid):
+        os._exit(1)
+    sentinel = None
+    try:
+        parent = multiprocessing.parent_process()
+        if parent is not None and parent.pid == main_pid:
+            sentinel = parent.sentinel
+    except Exception:
+        sentinel = None
+
+    def watch():
+        from multiprocessing.connection import wait
+
+        nonlocal sentinel
+        while True:
+            if sentinel is not None:
+                try:
+                    if wait([sentinel], timeout=interval):
+                        break
+                except (OSError, ValueError):
+                    sentinel = None
+            else:
+                time.sleep(interval)
+            if os.getppid() != ppid or not _pid_alive(main_pid):
+                break
+        os._exit(1)
+
+    threading.Thread(target=watch, name="planar-sweep-watchdog", daemon=True).start()
+
+
+def _worker_start(workers: int, main_pid: int, forkserver_child: bool) -> None:
+    """Initializer of the local worker processes."""
+    import signal
+
+    if forkserver_child:
+        _drop_forkserver_pipe()
+    _end_with(main_pid, deathsig=forkserver_child)
+    try:  # Ctrl-C reaches the whole process group: the sweep's process stops the workers itself
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
+    except (ValueError, OSError):
+        pass
+    _share_cores(workers)
+
+
+def _sigterm_stops_the_sweep():
+    """While a sweep runs in the main thread: SIGTERM stops it like Ctrl-C (workers stopped, claims
+    released, finished points kept) and then ends the program with status 143, as SIGTERM would.
+    A handler the program set itself is left alone."""
+    import contextlib
+    import signal
+    import threading
+
+    @contextlib.contextmanager
+    def scope():
+        old = None
+        if os.name == "posix" and threading.current_thread() is threading.main_thread():
+            try:
+                if signal.getsignal(signal.SIGTERM) == signal.SIG_DFL:
+                    def stop(signum, frame):
+                        raise SystemExit(128 + signum)
+
+                    old = signal.signal(signal.SIGTERM, stop)
+            except (ValueError, OSError):
+                old = None
+        try:
+            yield
+        finally:
+            if old is not None:
+                signal.signal(signal.SIGTERM, old)
+
+    return scope()
+
+
 # ============================================================================ progress
 @dataclass
 class SweepProgress:
@@ -692,11 +1074,22 @@ class _Reporter:
 
 
 # ============================================================================ runners
-def _run_serial(tasks, payload, on_done, deadline):
+def _time_left(deadline):
+    return None if deadline is None else max(deadline - time.monotonic(), 0.0)
+
+
+def _run_serial(feed: _Feed, payload, on_done, deadline):
     fn, outputs, fid = payload
-    for key, params in tasks:
+    while True:
         if deadline is not None and time.monotonic() > deadline:
             raise TimeoutError
+        task = feed.next()
+        if task is None:
+            if feed.exhausted:
+                return
+            feed.pause(deadline)
+            continue
+        key, params = task
         on_done(_compute_point(fn, params, outputs, key, fid))
 
 
@@ -707,6 +1100,8 @@ def _mp_context():
 
 def _kill_pool(pool) -> None:
     """End the worker processes of a pool this sweep started (so no point runs on after it)."""
+    if pool is None:
+        return
     procs = list((getattr(pool, "_processes", None) or {}).values())
     for p in procs:
         try:
@@ -729,85 +1124,115 @@ def _share_cores(workers: int) -> None:
         os.environ["PLANAR_THREADS"] = str(max(1, threads() // max(1, workers)))
 
 
-def _run_processes(tasks, payload, on_done, workers, retries, deadline):
+def _run_processes(feed: _Feed, payload, on_done, workers, retries, deadline):
+    """Local worker processes; at most ``workers`` points are handed to the pool at a time (so that
+    points are claimed only when a worker is about to compute them)."""
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
     from concurrent.futures.process import BrokenProcessPool
 
     fn, outputs, fid = payload
     ctx = _mp_context()
+    guard = (os.getpid(), ctx.get_start_method() == "forkserver")
     attempts: Counter = Counter()
 
-    def timeout_left():
-        return None if deadline is None else max(deadline - time.monotonic(), 0.0)
+    def new_pool(n):
+        return ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_worker_start, initargs=(n, *guard))
 
-    def run_pool(batch, n):
-        """Run a batch; return the points not finished when the pool broke (in submission order)."""
-        pool = ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_share_cores, initargs=(n,))
-        order = {}
+    def wait_for(futures):
+        t = _time_left(deadline)
+        if t == 0.0:
+            raise TimeoutError
+        if feed.waiting and len(futures) < workers:  # look at the store now and then
+            t = _POLL if t is None else min(t, _POLL)
+        done, _ = wait(futures, timeout=t, return_when=FIRST_COMPLETED)
+        if not done and deadline is not None and time.monotonic() >= deadline:
+            raise TimeoutError
+        return done
+
+    def alone(key, params):
+        """Run one point in a pool of its own: its record, or None when the worker died."""
+        pool = new_pool(1)
         try:
-            futs = {}
-            for i, (key, params) in enumerate(batch):
-                f = pool.submit(_compute_point, fn, params, outputs, key, fid)
-                futs[f] = (key, params)
-                order[key] = i
-            left = set(futs)
-            finished = set()
-            while left:
-                t = timeout_left()
-                if t == 0.0:
-                    raise TimeoutError
-                done, left = wait(left, timeout=t, return_when=FIRST_COMPLETED)
-                if not done:
-                    raise TimeoutError
-                broken = False
-                for f in done:
-                    key, params = futs[f]
-                    try:
-                        rec = f.result()
-                    except BrokenProcessPool:
-                        broken = True
-                        continue
-                    except Exception as exc:  # e.g. arguments that cannot be pickled
-                        rec = _failed_record(key, params, fid, outputs, type(exc).__name__, str(exc))
-                    finished.add(key)
-                    on_done(rec)
-                if broken:
-                    wait(left, timeout=30)  # a broken pool fails every future it has left
-                    for f in left:  # keep those that finished before the break
-                        if f.done() and not f.cancelled() and f.exception() is None:
-                            finished.add(futs[f][0])
-                            on_done(f.result())
-                    rest = [kp for f, kp in futs.items() if kp[0] not in finished]
-                    rest.sort(key=lambda kp: order[kp[0]])
-                    pool.shutdown(wait=True, cancel_futures=True)
-                    return rest
-            pool.shutdown(wait=True)
-            return []
+            f = pool.submit(_compute_point, fn, params, outputs, key, fid)
+            while not wait_for([f]):
+                pass
+            try:
+                rec = f.result()
+            except BrokenProcessPool:
+                rec = None
+            except Exception as exc:  # e.g. arguments that cannot be pickled
+                rec = _failed_record(key, params, fid, outputs, type(exc).__name__, str(exc))
+            pool.shutdown(wait=True, cancel_futures=True)
+            return rec
         except BaseException:
             _kill_pool(pool)
             raise
 
-    pending = list(tasks)
-    while pending:
-        rest = run_pool(pending, max(1, min(workers, len(pending))))
-        if not rest:
-            break
-        # A worker died. The points that may have been running on it are the first few not yet
-        # finished (the pool hands them out in order); run each of those alone to find the culprit.
-        suspects, pending = rest[: workers + 1], rest[workers + 1 :]
-        for key, params in suspects:
-            while True:
-                again = run_pool([(key, params)], 1)
-                if not again:
+    pool = None
+    inflight: dict = {}  # future -> (key, params), in submission order
+    try:
+        while True:
+            broken = False
+            while len(inflight) < workers and not broken:
+                task = feed.next()
+                if task is None:
                     break
-                attempts[key] += 1
-                if attempts[key] > retries:
-                    on_done(_failed_record(
-                        key, params, fid, outputs, "WorkerDied",
-                        f"the worker process died each time it ran this point alone ({attempts[key]} times: "
-                        "killed, out of memory, or a crash in compiled code); run the point in this process "
-                        "(workers=0) to see why"))
+                if pool is None:
+                    pool = new_pool(max(1, min(workers, 1 + feed.remaining)))
+                try:
+                    inflight[pool.submit(_compute_point, fn, task[1], outputs, task[0], fid)] = task
+                except BrokenProcessPool:
+                    feed.ready.appendleft(task)
+                    broken = True
+            if not inflight and not broken:
+                if feed.exhausted:
                     break
+                feed.pause(deadline)
+                continue
+            for f in (wait_for(list(inflight)) if not broken else ()):
+                key, params = inflight[f]
+                try:
+                    rec = f.result()
+                except BrokenProcessPool:
+                    broken = True
+                    continue
+                except Exception as exc:  # e.g. arguments that cannot be pickled
+                    rec = _failed_record(key, params, fid, outputs, type(exc).__name__, str(exc))
+                del inflight[f]
+                on_done(rec)
+            if not broken:
+                continue
+            # A worker died. A broken pool fails every future it has left; keep those that finished
+            # before the break, and run each of the others alone to find the one that kills its worker.
+            wait(list(inflight), timeout=30)
+            suspects = []
+            for f, (key, params) in inflight.items():
+                if f.done() and not f.cancelled() and f.exception() is None:
+                    on_done(f.result())
+                else:
+                    suspects.append((key, params))
+            inflight.clear()
+            pool.shutdown(wait=True, cancel_futures=True)
+            pool = None
+            for key, params in suspects:
+                while True:
+                    rec = alone(key, params)
+                    if rec is not None:
+                        on_done(rec)
+                        break
+                    attempts[key] += 1
+                    if attempts[key] > retries:
+                        on_done(_failed_record(
+                            key, params, fid, outputs, "WorkerDied",
+                            f"the worker process died each time it ran this point alone ({attempts[key]} times: "
+                            "killed, out of memory, or a crash in compiled code); run the point in this process "
+                            "(workers=0) to see why"))
+                        break
+        if pool is not None:
+            pool.shutdown(wait=True)
+    except BaseException:
+        _kill_pool(pool)
+        raise
 
 
 def _dask():
@@ -820,66 +1245,152 @@ def _dask():
     return distributed
 
 
+def _plugin_class():
+    """The Dask worker plugin that ties the workers of a sweep's own local cluster to the sweep."""
+    from distributed.diagnostics.plugin import WorkerPlugin
+
+    class _EndWithSweep(WorkerPlugin):
+        name = "planar-sweep-end-with-parent"
+
+        def __init__(self, pid: int):
+            self.pid = int(pid)
+
+        def setup(self, worker):
+            _end_with(self.pid, deathsig=os.getppid() == self.pid)  # a direct child: see _end_with
+
+    _EndWithSweep.__module__ = __name__
+    _EndWithSweep.__qualname__ = "_EndWithSweep"
+    globals()["_EndWithSweep"] = _EndWithSweep
+    return _EndWithSweep
+
+
+def __getattr__(name: str):
+    if name == "_EndWithSweep":  # unpickled on a Dask worker: made when first needed (distributed is optional)
+        return _plugin_class()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def _local_workers(spec: str) -> int | None:
+    """The worker count of ``"local"`` / ``"local:N"``; None for anything else."""
+    head, sep, n = spec.strip().partition(":")
+    if head.lower() != "local":
+        return None
+    if not sep:
+        return max(1, os.cpu_count() or 1)
+    try:
+        count = int(n)
+    except ValueError:
+        count = 0
+    if count < 1:
+        raise InputError(f"cluster {spec!r}: write 'local' or 'local:N' with N worker processes (a whole number >= 1)")
+    return count
+
+
 def _client(cluster):
-    """A Dask client for an address, a Client or a cluster object; and whether we own it."""
+    """A Dask client for ``cluster``, and the things to close after the sweep (those it started).
+
+    ``"local"`` or ``"local:N"`` starts a local cluster of N worker processes (default one per CPU)
+    owned by the sweep: it is closed at the end, and its workers end with the sweep's process even
+    when that is killed (distributed's own parent-alive pipe, and the watchdog of :func:`_end_with`
+    installed as a worker plugin). A scheduler address or a client is the user's and is left alone.
+    """
     distributed = _dask()
     if isinstance(cluster, distributed.Client):
-        return cluster, False
+        return cluster, []
     if isinstance(cluster, str):
+        n = _local_workers(cluster)
+        if n is not None:
+            local = distributed.LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
+                                             dashboard_address=None)
+            try:
+                client = distributed.Client(local)
+                client.register_plugin(_plugin_class()(os.getpid()))
+            except BaseException:
+                local.close()
+                raise
+            return client, [client.close, local.close]
         try:
-            return distributed.Client(cluster, timeout="20s"), True
+            client = distributed.Client(cluster, timeout="20s")
         except (OSError, TimeoutError) as exc:
             raise PlanarError(f"cannot reach the Dask scheduler at {cluster!r} ({exc}); start it "
                               "(dask scheduler / dask worker) or check the address") from None
+        return client, [client.close]
     if hasattr(cluster, "scheduler_address"):
-        return distributed.Client(cluster), True
-    raise InputError(f"cluster must be a scheduler address 'tcp://host:port', a dask.distributed.Client or a "
-                     f"cluster object, got {type(cluster).__name__}")
+        client = distributed.Client(cluster)
+        return client, [client.close]
+    raise InputError(f"cluster must be a scheduler address 'tcp://host:port', 'local[:N]', a dask.distributed.Client "
+                     f"or a cluster object, got {type(cluster).__name__}")
 
 
-def _run_dask(tasks, payload, on_done, cluster, retries, deadline):
+def _run_dask(feed: _Feed, payload, on_done, cluster, retries, deadline):
+    """On a Dask cluster; at most as many points are submitted as the cluster has worker threads."""
     distributed = _dask()
     fn, outputs, fid = payload
-    client, own = _client(cluster)
-    futs = []
+    client, closers = _client(cluster)
+    inflight: dict = {}  # future -> (key, params)
     try:
         token = os.urandom(4).hex()
-        info = {}
-        for key, params in tasks:
-            f = client.submit(_compute_point, fn, params, outputs, key, fid, key=f"planar-sweep-{key}-{token}",
-                              pure=False, retries=retries)
-            futs.append(f)
-            info[f.key] = (key, params)
-        timeout = None if deadline is None else max(deadline - time.monotonic(), 0.001)
-        ac = distributed.as_completed(futs, timeout=timeout)
-        for f in ac:
-            key, params = info[f.key]
-            if f.status == "finished":
-                rec = f.result()
-            elif f.status == "cancelled":
-                rec = _failed_record(key, params, fid, outputs, "Cancelled",
-                                     "the task was cancelled on the cluster (by another client or a restart)")
-            else:
-                exc = f.exception()
-                kind = type(exc).__name__
-                msg = str(exc)
-                if kind == "KilledWorker":
-                    msg = (f"the Dask workers running this point died too often ({msg}); run the point alone "
-                           "(workers=0) to see why")
-                rec = _failed_record(key, params, fid, outputs, kind, msg)
-            f.release()
-            on_done(rec)
+        slots, counted = 1, -math.inf
+        while True:
+            if time.monotonic() - counted > 5.0:
+                slots, counted = max(1, sum(client.nthreads().values())), time.monotonic()
+            while len(inflight) < slots:
+                task = feed.next()
+                if task is None:
+                    break
+                key, params = task
+                f = client.submit(_compute_point, fn, params, outputs, key, fid, key=f"planar-sweep-{key}-{token}",
+                                  pure=False, retries=retries)
+                inflight[f] = task
+            if not inflight:
+                if feed.exhausted:
+                    break
+                feed.pause(deadline)
+                continue
+            t = _time_left(deadline)
+            if t == 0.0:
+                raise TimeoutError
+            if feed.waiting and len(inflight) < slots:
+                t = _POLL if t is None else min(t, _POLL)
+            try:
+                distributed.wait(list(inflight), timeout=t, return_when="FIRST_COMPLETED")
+            except Exception as exc:  # the time ran out, or a future was cancelled: the statuses tell
+                if type(exc).__name__ not in ("TimeoutError", "FuturesCancelledError", "CancelledError"):
+                    raise
+            done = [f for f in inflight if f.status != "pending"]
+            if not done and deadline is not None and time.monotonic() >= deadline:
+                raise TimeoutError
+            for f in done:
+                key, params = inflight.pop(f)
+                if f.status == "finished":
+                    rec = f.result()
+                elif f.status == "cancelled":
+                    rec = _failed_record(key, params, fid, outputs, "Cancelled",
+                                         "the task was cancelled on the cluster (by another client or a restart)")
+                else:
+                    exc = f.exception()
+                    kind = type(exc).__name__
+                    msg = str(exc)
+                    if kind == "KilledWorker":
+                        msg = (f"the Dask workers running this point died too often ({msg}); run the point alone "
+                               "(workers=0) to see why")
+                    rec = _failed_record(key, params, fid, outputs, kind, msg)
+                f.release()
+                on_done(rec)
     except BaseException as exc:
         try:
-            client.cancel(futs)
+            client.cancel(list(inflight))
         except Exception:
             pass
         if type(exc).__name__ == "TimeoutError":
             raise TimeoutError from None
         raise
     finally:
-        if own:
-            client.close()
+        for close in closers:
+            try:
+                close()
+            except Exception:
+                pass
 
 
 # ============================================================================ the table
@@ -1104,7 +1615,8 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
           outputs: Mapping[str, Any] | Sequence | None = None, store: str | os.PathLike | None = None,
           workers: int | None = None, cluster=None, retries: int = 2, retry_failed: bool = False,
           timeout: float | None = None, verbose: bool = False, progress: bool | None = None,
-          on_point: Callable[[dict, SweepProgress], None] | None = None) -> SweepTable:
+          on_point: Callable[[dict, SweepProgress], None] | None = None,
+          claim_timeout: float = CLAIM_TIMEOUT) -> SweepTable:
     """Run a function over parameter points, in parallel, and collect its outputs in a table.
 
     Parameters
@@ -1130,7 +1642,9 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
     workers : int, optional
         Local worker processes (default: one per CPU); 0 runs the points in this process.
     cluster : str or dask.distributed.Client, optional
-        Run on a Dask cluster: a scheduler address ``"tcp://host:port"`` or a client.
+        Run on a Dask cluster: a scheduler address ``"tcp://host:port"`` or a client (the user's,
+        left running), or ``"local"`` / ``"local:N"``: a local cluster of N worker processes (default
+        one per CPU) that the sweep starts and closes.
     retries : int, default 2
         How often a point whose worker died (or, on Dask, whose task raised) is tried again.
     retry_failed : bool
@@ -1145,6 +1659,10 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
         Called as ``on_point(record, progress)`` after every finished point, in this process; an
         exception it raises (e.g. KeyboardInterrupt) stops the sweep, and the points stored so far
         stay stored.
+    claim_timeout : float, default 60
+        Seconds after which the claim of a point whose run stopped refreshing it is taken over by
+        another run on the same store (see the module notes; a run on the same host that has ended
+        is taken over at once).
 
     Returns
     -------
@@ -1186,6 +1704,10 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
         raise InputError(f"retries must be a whole number >= 0, got {retries!r}")
     if timeout is not None and not (float(timeout) > 0):
         raise InputError(f"timeout must be a positive number of seconds, got {timeout!r}")
+    if isinstance(claim_timeout, bool) or not (number(claim_timeout, "claim_timeout") > 0):
+        raise InputError(f"claim_timeout must be a positive number of seconds, got {claim_timeout!r}")
+    if isinstance(cluster, str):
+        _local_workers(cluster)  # a bad 'local:N' is an input error before any work
     keys = [point_key(fid, p) for p in pts]
     seen: dict[str, int] = {}
     for i, k in enumerate(keys):
@@ -1209,6 +1731,7 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
 
     records: dict[str, dict] = {}
     reused = 0
+    t_wall = time.time()
     if st is not None:
         for k in keys:
             rec = st.load(k)
@@ -1222,9 +1745,19 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
     show = progress if progress is not None else (verbose or sys.stderr.isatty())
     report = _Reporter(bool(show))
 
-    def on_done(rec: dict) -> None:
-        if st is not None:
-            st.save(rec)
+    computed = 0
+
+    def on_done(rec: dict, ours: bool = True) -> None:
+        """A point is finished: computed by this run (stored, claim released) or by another run."""
+        nonlocal computed
+        if ours:
+            if st is not None:
+                st.save(rec)
+            if claims is not None:
+                claims.release(rec["key"])
+            computed += 1
+        else:
+            prog.reused += 1
         records[rec["key"]] = rec
         prog.done += 1
         prog.failed += rec.get("status") != "done"
@@ -1233,25 +1766,38 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
         if on_point is not None:
             on_point(rec, prog)
 
+    def accept(rec) -> bool:
+        """A record found in the store while this run goes: reusable, or a failure of another run of now."""
+        if _reusable(rec, fid, described, retry_failed):
+            return True
+        return (rec is not None and rec.get("function") == fid and rec.get("status") == "failed"
+                and isinstance(rec.get("finished"), (int, float)) and rec["finished"] >= t_wall)
+
     payload = (payload_fn, specs, fid)
     deadline = None if timeout is None else time.monotonic() + float(timeout)
+    claims = _Claims(st.dir, float(claim_timeout)) if st is not None and todo else None
+    feed = _Feed(todo, st, claims, accept, on_done)
     if todo:
         report(prog)
     try:
-        if not todo:
-            pass  # everything is in the store
-        elif cluster is not None:
-            _run_dask(todo, payload, on_done, cluster, int(retries), deadline)
-        elif workers == 0:
-            _run_serial(todo, payload, on_done, deadline)
-        else:
-            n = int(workers) if workers is not None else (os.cpu_count() or 1)
-            _run_processes(todo, payload, on_done, max(1, n), int(retries), deadline)
+        with _sigterm_stops_the_sweep():
+            if not todo:
+                pass  # everything is in the store
+            elif cluster is not None:
+                _run_dask(feed, payload, on_done, cluster, int(retries), deadline)
+            elif workers == 0:
+                _run_serial(feed, payload, on_done, deadline)
+            else:
+                n = int(workers) if workers is not None else (os.cpu_count() or 1)
+                _run_processes(feed, payload, on_done, max(1, n), int(retries), deadline)
     except TimeoutError:
         report(prog, final=True)
         raise ResourceError(
             f"the sweep ran out of its timeout of {timeout:g} s with {prog.remaining} of {prog.total} points left; "
             "the finished points are stored: run it again with the same store to go on, or raise timeout") from None
+    finally:
+        if claims is not None:
+            claims.close()
     prog.elapsed = time.perf_counter() - t_start
     report(prog, final=True)
 
@@ -1262,7 +1808,7 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
         for o in r.get("outputs", {}):
             if o not in out_names and (o not in asked or (default_peak and o in specs)):
                 out_names.append(o)
-    return SweepTable(fid, parameters, out_names, ordered, computed=len(todo), reused=reused,
+    return SweepTable(fid, parameters, out_names, ordered, computed=computed, reused=prog.reused,
                       seconds=time.perf_counter() - t_start)
 
 
