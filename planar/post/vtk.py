@@ -2,7 +2,8 @@
 
 Point data: displacement vector and nodal stresses (sigma_xx, sigma_yy, tau_xy, sigma_zz, von_mises,
 tresca, sigma_1, sigma_2); cell data: element mean stresses, von Mises, region id and any extra cell
-fields (e.g. error indicators). Files are written atomically.
+fields (e.g. error indicators). Files are written atomically and carry a SHA-256 digest of their
+bytes (:mod:`planar.core.digest`), so readers can tell when a file changed since it was written.
 """
 from __future__ import annotations
 
