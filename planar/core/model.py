@@ -60,6 +60,11 @@ class Model:
         triangles) or ``"full"`` (default), ``"reduced"``, ``"selective"`` (shear terms reduced).
     units : str, optional
         Free text naming the consistent units (for reports), e.g. ``"N, mm, MPa"``.
+    zero_energy : {"refuse", "warn", "stabilise"}
+        What to do with element blocks whose stiffness has zero-energy (hourglass) modes beyond the
+        three rigid motions, as a reduced or one-point rule gives: refuse them (default), go on with
+        a loud ``"zero-energy"`` warning, or add a small stiffness on those modes only (see
+        :func:`planar.core.kinematics.zero_energy_check`).
 
     Examples
     --------
@@ -76,7 +81,8 @@ class Model:
 
     def __init__(self, mesh: Mesh, material=None, thickness: float = 1.0, *,
                  analysis: str = "plane stress", elements: dict[str, str] | None = None,
-                 quadrature: dict[str, Any] | None = None, units: str = "consistent units"):
+                 quadrature: dict[str, Any] | None = None, units: str = "consistent units",
+                 zero_energy: str = "refuse"):
         if not isinstance(mesh, Mesh):
             raise InputError(f"Model needs a planar Mesh, got {type(mesh).__name__}")
         self.mesh = mesh
@@ -89,6 +95,12 @@ class Model:
         self.elements = dict(elements or {})
         self.quadrature = dict(quadrature or {})
         self.units = units
+        from .kinematics import ZERO_ENERGY_CHOICES
+
+        if not isinstance(zero_energy, str) or zero_energy not in ZERO_ENERGY_CHOICES:
+            raise InputError(f"zero_energy must be one of {ZERO_ENERGY_CHOICES}, got {zero_energy!r}; the default "
+                             "'refuse' stops elements with zero-energy (hourglass) modes")
+        self.zero_energy = zero_energy
         from .registry import element_type
 
         for layout, name in self.elements.items():

@@ -158,7 +158,7 @@ class Result:
         self._e0 = initial_strains
         self._nodal_cache: dict[str, np.ndarray] = {}
         #: planar warnings raised while solving and checking this case (PlanarWarning objects)
-        self.warnings: list = []
+        self.warnings: list = list(getattr(assembly, "warnings", None) or [])  # kept by the checks before the solve
 
     @property
     def n_dofs(self) -> int:

@@ -12,6 +12,7 @@ from scipy.sparse.csgraph import connected_components
 
 from .assembly import Assembly, Rotation
 from .errors import ResourceError, SolverError, SupportError, fmt_point, unknown_name
+from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigid_body_check, zero_energy_check  # noqa: F401
 from .result import Result
 from . import solvers
 from .solvers import choose, factorize
@@ -110,100 +111,6 @@ def _conflict(mesh, supports, p, labels):
     )
 
 
-def rigid_body_check(mesh, cons: Constrained) -> None:
-    """Refuse a model that can still move as a rigid body, naming the free motions.
-
-    Each connected piece of the mesh must have its three rigid motions (translation x, y and
-    rotation) stopped by the supports; the check uses the constraint directions and positions alone,
-    before any factorization.
-    """
-    used = mesh.used_nodes()
-    n = mesh.n_nodes
-    rr, cc = [], []
-    for block in mesh.cells.values():
-        k = block.shape[1]
-        rr.append(np.repeat(block[:, :1], k, axis=1).ravel())
-        cc.append(block.ravel())
-    r = np.concatenate(rr); c = np.concatenate(cc)
-    G = sp.coo_matrix((np.ones(r.size, dtype=np.int8), (r, c)), shape=(n, n))
-    ncomp, label = connected_components(G, directed=False)
-    rows = cons.rows
-    problems = []
-    comps = np.unique(label[used])
-    for comp in comps:
-        members = np.flatnonzero((label == comp) & used)
-        xy = mesh.nodes[members]
-        xc = xy.mean(axis=0)
-        L = max(np.ptp(xy[:, 0]), np.ptp(xy[:, 1]), 1e-300)
-        sel = np.isin(rows.node, members)
-        if not np.any(sel):
-            A = np.zeros((1, 3))
-        else:
-            p = mesh.nodes[rows.node[sel]] - xc
-            dd = rows.direction[sel]
-            A = np.column_stack([dd[:, 0], dd[:, 1], (-dd[:, 0] * p[:, 1] + dd[:, 1] * p[:, 0]) / L])
-        _, s, vt = np.linalg.svd(A, full_matrices=True)
-        s = np.r_[s, np.zeros(3 - s.size)]
-        free = vt[s < 1e-8 * max(1.0, s.max())]
-        if free.shape[0] == 0:
-            continue
-        text = _describe_free(free, xc, L, len(comps) > 1, xy)
-        if len(comps) > 1:
-            text += _coincident_hint(mesh, members, used & (label != comp))
-        problems.append(text)
-    if problems:
-        raise SupportError(
-            "the model can still move as a rigid body, so it has no unique answer: "
-            + "; ".join(problems)
-        )
-
-
-def _coincident_hint(mesh, members: np.ndarray, others: np.ndarray) -> str:
-    """Advice when a free piece touches the rest of the mesh only through duplicate, unjoined nodes."""
-    from scipy.spatial import cKDTree
-
-    rest = np.flatnonzero(others)
-    if rest.size == 0:
-        return ""
-    tol = 1e-9 * max(mesh.size(), 1e-300)
-    d, _ = cKDTree(mesh.nodes[rest]).query(mesh.nodes[members], distance_upper_bound=tol)
-    k = int(np.count_nonzero(np.isfinite(d)))
-    if k == 0:
-        return ""
-    first = members[np.flatnonzero(np.isfinite(d))[0]]
-    return (f" (its {k} node(s) at {fmt_point(mesh.nodes[first])} and elsewhere coincide with nodes of the "
-            "rest of the mesh but are not joined to them: duplicate nodes; join them with "
-            "mesh = mesh.merge_duplicate_nodes(), or support this piece if the gap is meant)")
-
-
-def _describe_free(free, xc, L, several, xy) -> str:
-    words = []
-    if free.shape[0] == 3:
-        words.append("translation x, translation y and rotation are all free (no support at all)")
-    else:
-        for v in free:
-            a, b, c = v[0], v[1], v[2] / L
-            if abs(v[2]) < 1e-6:
-                t = np.array([a, b]) / np.hypot(a, b)
-                if abs(t[0]) > 1 - 1e-6:
-                    words.append("translation x is free: add a support that holds ux (Roller(..., fixed='x'), Fixed or Prescribed)")
-                elif abs(t[1]) > 1 - 1e-6:
-                    words.append("translation y is free: add a support that holds uy (Roller(..., fixed='y'), Fixed or Prescribed)")
-                else:
-                    words.append(f"translation along ({t[0]:.3g}, {t[1]:.3g}) is free: add a support that holds that direction")
-            else:
-                px, py = xc[0] - b / c, xc[1] + a / c
-                px, py = (0.0 if abs(px) < 1e-9 * L else px), (0.0 if abs(py) < 1e-9 * L else py)
-                words.append(
-                    f"rotation about ({px:.6g}, {py:.6g}) is free: add a support away from that point "
-                    "that holds the motion across the line joining them (e.g. a second roller)"
-                )
-    where = ""
-    if several:
-        where = f"a separate piece of the mesh near ({xy[:, 0].mean():.6g}, {xy[:, 1].mean():.6g}): "
-    return where + ", ".join(words)
-
-
 def _case_names(model, cases) -> list[str]:
     """The load cases to solve: all (None), one name (a str), or a list of names."""
     from .errors import InputError
@@ -276,7 +183,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     asm = Assembly(model, distortion_limit=distortion_limit)
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
-    rigid_body_check(mesh, cons)
+    zero_energy_check(asm, sink=pending_warnings(asm))  # hourglass modes, before any global work
+    rigid_body_check(mesh, cons, sink=pending_warnings(asm))  # free motions and hinges
     ndof = 2 * mesh.n_nodes
     unused = np.flatnonzero(~mesh.used_nodes())
     pres = np.zeros(ndof, dtype=bool)
