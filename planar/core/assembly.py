@@ -15,6 +15,7 @@ import scipy.sparse as sp
 
 from .errors import ElementError, InputError, MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
+from .materials import check_material
 from .mesh import Mesh
 from .quadrature import Rule, rule_for
 from .parallel import map_chunks
@@ -512,7 +513,7 @@ class Assembly:
                 if sel.size == 0:
                     continue
                 sec = model.section(rname)
-                D = np.asarray(sec.material.D(self.analysis), dtype=float)
+                D = check_material(sec.material, self.analysis)  # 3 x 3, finite, symmetric, definite
                 blocks.append(Block(etype, layout, rname, sel, conn[sel], sec.material, sec.thickness, D, rule, mode))
         return blocks
 
