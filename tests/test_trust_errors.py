@@ -205,6 +205,20 @@ def test_healthy_user_material_solves_like_the_built_in_one(solved):
     np.testing.assert_allclose(r.u, ref.u, rtol=1e-12, atol=1e-15)
 
 
+def test_a_matrix_that_goes_bad_in_another_analysis_is_caught_at_assembly():
+    class Shifty(UserMaterial):
+        def D(self, analysis="plane stress"):
+            D = planar.Isotropic(70e3, 0.3).D(analysis)
+            if analysis == "plane strain":
+                D[0, 1] *= 2.0
+            return D
+
+    model = _model(Shifty(None, name="shifty"))
+    model.analysis = "plane strain"  # changed after the material was checked for plane stress
+    with pytest.raises(MaterialError, match="'shifty'.*not symmetric"):
+        planar.solve(model)
+
+
 # ---------------------------------------------------------------------------------------- solve(cases=)
 def test_one_case_name_as_text_solves_that_case(solved):
     model, results = solved
