@@ -20,6 +20,7 @@ from .mesh import Mesh
 from .quadrature import Rule, rule_for
 from .parallel import map_chunks
 from .registry import check_plugin_array, element_type, plugin_call
+from . import validity
 
 __all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det", "shape_values",
            "element_strains"]
@@ -152,14 +153,13 @@ def _reduced(etype, rule_full: Rule) -> Rule:
     return rule_for("triangle", max(1, rule_full.degree - 1))
 
 
-def _check_points(etype) -> np.ndarray:
-    """Reference points where the Jacobian is checked: the full rule's points and the corners."""
-    rule = etype.default_rule()
-    return np.vstack([rule.points, etype.ref_nodes[: etype.corner_count()]])
-
-
 def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_limit: float = 1e-3) -> Mesh:
-    """Check every element's Jacobian and return the mesh with clockwise elements turned round.
+    """Check every element and the joins between them; return the mesh with clockwise elements turned round.
+
+    Each element's Jacobian determinant is bounded over the whole element, not only at sample
+    points (Bernstein bounds with subdivision, :mod:`planar.core.validity`), and the mesh is checked
+    for conformity: hanging nodes, unmatched mid-side nodes and partly duplicated nodes that open a
+    slit are refused unless the slit is declared (``Mesh(..., slits=...)``).
 
     Parameters
     ----------
@@ -174,6 +174,9 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
     ElementError
         For elements with a zero, changing-sign or badly distorted Jacobian, naming their ids, and for
         cells that overlap (a folded or tangled mesh, or a cell given twice).
+    MeshError
+        For a mesh that does not conform (hanging nodes, unmatched mid-side nodes, an undeclared slit
+        of duplicated nodes), naming the nodes, the cells and the fix.
     """
     elements = elements or {}
     try:
@@ -184,6 +187,7 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
         raise InputError(f"distortion_limit must be a number from 0 (accept any shape) to below 1, got "
                          f"{distortion_limit!r}; the default is 1e-3")
     cells = {}
+    tiny = (1e-14 * mesh.size()) ** 2
     for layout, conn in mesh.cells.items():
         etype = element_type(elements.get(layout, layout))
         if conn.shape[1] != etype.n_nodes:
@@ -191,30 +195,19 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
                 f"element {etype.name} has {etype.n_nodes} nodes but the mesh block {layout!r} has "
                 f"{conn.shape[1]} per cell"
             )
-        pts = _check_points(etype)
-        det = np.empty((conn.shape[0], pts.shape[0]))
-
-        def chunk(s: int, conn=conn, det=det, etype=etype, pts=pts):
-            det[s : s + CHUNK] = jacobian_det(etype, mesh.nodes[conn[s : s + CHUNK]], pts)
-
-        map_chunks(chunk, range(0, conn.shape[0], CHUNK))
-        scale = np.max(np.abs(det), axis=1)
-        size = mesh.size()
-        tiny = scale <= (1e-14 * size) ** 2
-        neg = np.all(det < 0, axis=1) & ~tiny
-        pos = np.all(det > 0, axis=1) & ~tiny
-        bad = ~(neg | pos)
+        neg, verdict, ratio = validity.check_block(etype, mesh.nodes, conn, float(distortion_limit), tiny, CHUNK)
+        bad = (verdict == validity.FOLDED) | (verdict == validity.COLLAPSED)
         if np.any(bad):
             ids = np.flatnonzero(bad)
-            what = "collapsed (zero area)" if np.all(tiny[ids]) else "folded or collapsed: the Jacobian is zero or changes sign inside"
+            what = ("collapsed (zero area)" if np.all(verdict[ids] == validity.COLLAPSED) else
+                    "folded or collapsed: the Jacobian is zero or changes sign inside")
             raise ElementError(
                 f"{ids.size} {etype.name} element(s) are {what}: cell ids {ids[:10].tolist()}"
                 f"{' ...' if ids.size > 10 else ''} of block {layout!r} (first at "
                 f"{fmt_point(mesh.nodes[conn[ids[0]]].mean(axis=0))}); remesh, or check the "
                 "node order and the mid-side node positions"
             )
-        ratio = np.min(np.abs(det), axis=1) / scale
-        distorted = ratio < distortion_limit
+        distorted = verdict == validity.DISTORTED
         if np.any(distorted):
             ids = np.flatnonzero(distorted)
             raise ElementError(
@@ -227,13 +220,15 @@ def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_li
             conn = conn.copy()
             conn[neg] = conn[neg][:, etype.reversed_order]
         cells[layout] = conn
-    _check_overlaps(mesh, cells, elements)
+    table = validity.side_table(mesh.n_nodes, cells, lambda lay: element_type(elements.get(lay, lay)).edges)
+    _check_overlaps(mesh, cells, table)
+    validity.check_conforming(mesh, cells, table, getattr(mesh, "slits", ()))
     if all(cells[k] is mesh.cells[k] for k in cells):
         return mesh
-    return Mesh(mesh.nodes, cells, mesh.edge_sets, mesh.node_sets, mesh.regions)
+    return Mesh(mesh.nodes, cells, mesh.edge_sets, mesh.node_sets, mesh.regions, slits=mesh.slits)
 
 
-def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], elements: dict[str, str]) -> None:
+def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], table: "validity.SideTable") -> None:
     """Refuse cells that lie on top of each other.
 
     With every cell counter-clockwise, an edge between two cells is walked once in each direction. An
@@ -242,14 +237,7 @@ def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], elements: dict[str
     (common practice for mesh validity; such a mesh would silently add stiffness where cells overlap).
     """
     n = np.int64(mesh.n_nodes)
-    keys, where = [], []
-    for layout, conn in cells.items():
-        ed = np.asarray(element_type(elements.get(layout, layout)).edges)[:, :2]
-        a = conn[:, ed[:, 0]].astype(np.int64).ravel()
-        b = conn[:, ed[:, 1]].astype(np.int64).ravel()
-        keys.append(2 * (np.minimum(a, b) * n + np.maximum(a, b)) + (a < b))
-        where.append((layout, ed.shape[0]))
-    k = np.sort(np.concatenate(keys))
+    k = table.key
     same_way = k[1:] == k[:-1]
     crowded = (k[2:] >> 1) == (k[:-2] >> 1)
     if not (same_way.any() or crowded.any()):
@@ -257,10 +245,8 @@ def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], elements: dict[str
     bad = int(k[1:][same_way][0] if same_way.any() else k[2:][crowded][0])
     und = bad >> 1
     a, b = int(und // n), int(und % n)
-    owners = []
-    for (layout, ne), kk in zip(where, keys):
-        hit = np.flatnonzero((kk >> 1) == und) // ne
-        owners += [f"{layout} cell {int(c)}" for c in hit]
+    hit = table.order[(k >> 1) == und]
+    owners = [table.owner(int(s)) for s in np.sort(hit)]
     twins = _twins(cells, owners)
     if twins:
         raise ElementError(
