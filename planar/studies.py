@@ -31,14 +31,38 @@ Running
 - ``cluster="tcp://host:port"`` or a ``dask.distributed.Client``: on a Dask cluster (optional extra
   ``pip install "planar[cluster]"``). Dask reschedules the points of a worker that dies (up to its
   ``distributed.scheduler.allowed-failures`` setting, default 3) and re-runs a task that raised up to
-  ``retries`` times.
+  ``retries`` times. ``cluster="local"`` or ``"local:N"`` starts a local Dask cluster of N worker
+  processes for this sweep and closes it at the end; a cluster given by address or client is the
+  user's and is left running.
+
+Stopping
+--------
+Workers end with the sweep's process however it ends (Ctrl-C, SIGTERM, kill -9, a crash): on Linux
+each local worker asks the kernel for SIGKILL when its parent ends (``prctl(PR_SET_PDEATHSIG)``;
+its parent is the multiprocessing forkserver, which ends with the sweep's process), and everywhere a
+watchdog thread in each worker exits it when the sweep's process is gone; the workers of a local
+Dask cluster the sweep started get the same. Measured: all gone about 0.2-0.5 s after a kill -9,
+also while a worker is inside a compiled call that holds the interpreter lock. SIGTERM stops a
+sweep like Ctrl-C (workers stopped, claims released, finished points kept), then the program ends
+with status 143.
 
 Storing and resuming
 --------------------
 With ``store=DIR`` every finished point is written at once, atomically, as one small JSON file
 ``DIR/<key>.json``, where the key is a stable hash of the function's name and the parameters. A sweep
 started again with the same store computes only the points that are missing (and, with
-``retry_failed=True``, those that failed). A point whose function raises records the error (type and
+``retry_failed=True``, those that failed).
+
+Several runs may share one store at the same time (two terminals, or several machines on a shared
+folder): each point is computed once. A run claims a point just before a worker computes it, by
+creating ``DIR/<key>.claim`` exclusively (pid, host, start time), and refreshes the claim's time as
+a heartbeat while the point is computed; it skips points other live runs hold, takes over claims
+that are stale (made on this host by a process that has ended, or with a heartbeat older than
+``claim_timeout``, default 60 s: hosts' clocks must agree to well within it), and when only points
+held by others are left it waits for their records, looking at the store every 0.25 s. Every run
+ends with the same complete table. Runs sharing a store should ask for the same outputs (a record
+with other outputs is computed again), and its file system must honour exclusive creation
+(``O_EXCL``: local disks, NFS version 3 and later). A point whose function raises records the error (type and
 message) and the sweep goes on; a point whose worker process dies is retried ``retries`` times and
 then recorded as failed.
 
@@ -685,6 +709,9 @@ class _Claims:
             fd = os.open(self.path(key), os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o644)
         except FileExistsError:
             return False
+        except OSError as exc:
+            raise InputError(f"cannot write in the sweep store {str(self.dir)!r} ({exc.strerror}); give a store "
+                             "folder this process may write to") from None
         with os.fdopen(fd, "w", encoding="utf-8") as f:
             f.write(self._text())
         with self._lock:
@@ -1792,9 +1819,12 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
                 _run_processes(feed, payload, on_done, max(1, n), int(retries), deadline)
     except TimeoutError:
         report(prog, final=True)
+        held = (f" ({len(feed.waiting)} of them being computed by other runs on the same store)"
+                if feed.waiting else "")
         raise ResourceError(
-            f"the sweep ran out of its timeout of {timeout:g} s with {prog.remaining} of {prog.total} points left; "
-            "the finished points are stored: run it again with the same store to go on, or raise timeout") from None
+            f"the sweep ran out of its timeout of {timeout:g} s with {prog.remaining} of {prog.total} points "
+            f"left{held}; the finished points are stored: run it again with the same store to go on, or raise "
+            "timeout") from None
     finally:
         if claims is not None:
             claims.close()
@@ -1911,7 +1941,8 @@ def _sweep_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--workers", "-j", type=int, metavar="N",
                    help="local worker processes (default one per CPU; 0: in this process)")
     p.add_argument("--cluster", metavar="ADDRESS",
-                   help="run on a Dask cluster, e.g. tcp://127.0.0.1:8786 (needs pip install \"planar[cluster]\")")
+                   help="run on a Dask cluster, e.g. tcp://127.0.0.1:8786, or local[:N] for a local cluster of N "
+                        "worker processes started for this sweep (needs pip install \"planar[cluster]\")")
     p.add_argument("--retries", type=int, default=2, help="tries again for a point whose worker died (default 2)")
     p.add_argument("--retry-failed", action="store_true", help="compute again the points stored as failed")
     p.add_argument("--timeout", type=float, metavar="SECONDS", help="give up after this long (finished points stay stored)")
