@@ -19,6 +19,7 @@ refuses a model that no back end can hold.
 from __future__ import annotations
 
 import os
+import warnings
 from typing import Callable, Protocol
 
 import numpy as np
@@ -32,10 +33,19 @@ __all__ = ["Factorization", "factorize", "available_solvers", "estimate_memory",
 SOLVERS = ("auto", "pardiso", "cholmod", "amg", "superlu")
 
 _SINGULAR = (
-    "the stiffness matrix is singular or not positive definite: part of the model can move without "
-    "straining (a mechanism, a region joined by a single node, or zero-energy modes from a reduced "
-    "integration rule); check the supports and connectivity, or use the full integration rule"
+    "the stiffness matrix could not be factorized: it is singular or not positive definite to working "
+    "precision, either because part of the model can move without straining (a mechanism: a region "
+    "joined by a single node, missing supports, zero-energy modes of a reduced integration rule) or "
+    "because it is too ill-conditioned for double precision (an extreme stiffness contrast, a very "
+    "slender part, units far off)"
 )
+
+
+def _numerical(message: str) -> SolverError:
+    """A SolverError from the numbers of the matrix (not from the set-up), which planar.solve diagnoses."""
+    err = SolverError(message)
+    err.numerical = True
+    return err
 
 
 class Factorization(Protocol):
@@ -129,7 +139,7 @@ class _Cholmod:
             F = cholmod.symbolic(A, uplo="L")
             cholmod.numeric(A, F)
         except ArithmeticError:
-            raise SolverError(_SINGULAR) from None
+            raise _numerical(_SINGULAR) from None
         del A
         self._F, self._cholmod, self._cvxopt, self.n = F, cholmod, cvxopt, n
         self.info = {}
@@ -240,7 +250,7 @@ class _Pardiso:
                  c.byref(c.c_int32(0)), b.ctypes.data, x.ctypes.data, c.byref(err))
         if err.value != 0:
             if err.value in (-4, -7):
-                raise SolverError(f"{_SINGULAR} (PARDISO error {err.value})")
+                raise _numerical(f"{_SINGULAR} (PARDISO error {err.value})")
             if err.value == -2:
                 raise ResourceError("PARDISO ran out of memory; use solver='amg' or a coarser mesh")
             raise SolverError(f"PARDISO failed with error {err.value}")
@@ -250,7 +260,7 @@ class _Pardiso:
         b = np.asarray(b, dtype=float)
         x = self._call(33, b.reshape(self.n, -1))
         if not np.all(np.isfinite(x)):
-            raise SolverError(_SINGULAR)
+            raise _numerical(_SINGULAR)
         return np.ascontiguousarray(x).reshape(b.shape)
 
     def __del__(self):
@@ -270,14 +280,18 @@ class _SuperLU:
         try:
             self._lu = spla.splu(_full(lower).tocsc())
         except RuntimeError:
-            raise SolverError(_SINGULAR) from None
+            raise _numerical(_SINGULAR) from None
         self.info = {}
 
     def solve(self, b):
         x = self._lu.solve(np.asarray(b, dtype=float))
         if not np.all(np.isfinite(x)):
-            raise SolverError(_SINGULAR)
+            raise _numerical(_SINGULAR)
         return x
+
+
+class _Diverged(Exception):
+    pass
 
 
 class _AMG:
@@ -308,18 +322,43 @@ class _AMG:
             if nb == 0:
                 out[:, j] = 0.0
                 continue
-            x = self._ml.solve(cols[:, j], tol=self.rtol, accel="cg", maxiter=self.maxiter, residuals=res)
-            rel = float(np.linalg.norm(cols[:, j] - self._A @ x) / nb)
+            def stop_if_diverging(_x, res=res):  # CG on an indefinite or singular matrix grows without bound
+                if res and not (res[-1] < 1e8 * res[0]):
+                    raise _Diverged
+
+            x, tol = None, self.rtol
+            for _ in range(4):  # CG stops on its own (preconditioned) residual: go on until the true one is met
+                try:
+                    with warnings.catch_warnings():  # an indefinite preconditioner ends in the error below
+                        warnings.simplefilter("ignore", UserWarning)
+                        x = self._ml.solve(cols[:, j], x0=x, tol=tol, accel="cg", maxiter=self.maxiter,
+                                           residuals=res, callback=stop_if_diverging)
+                except _Diverged:
+                    x = np.full(cols.shape[0], np.nan)
+                rel = float(np.linalg.norm(cols[:, j] - self._A @ x) / nb)
+                if not np.isfinite(rel) or rel <= 10 * self.rtol or len(res) > self.maxiter:
+                    break
+                tol *= max(self.rtol / rel, 1e-3)
             self.info["iterations"].append(len(res) - 1)
             self.info["residual"].append(rel)
             if not np.isfinite(rel) or rel > 10 * self.rtol:
-                raise SolverError(
+                raise _numerical(
                     f"the AMG-preconditioned CG did not converge: relative residual {rel:.2e} after "
-                    f"{len(res) - 1} iterations (wanted {self.rtol:.0e}); the model may be nearly a "
-                    "mechanism, or use a direct solver (solver='cholmod')"
+                    f"{len(res) - 1} iterations (wanted {self.rtol:.0e}); the stiffness matrix is nearly "
+                    "singular or badly conditioned for this solver"
                 )
             out[:, j] = x
         return out.reshape(b.shape)
+
+    def approximate(self, b: np.ndarray, rtol: float = 1e-2, x0: np.ndarray | None = None) -> np.ndarray:
+        """A rough solution of K x = b (relative residual about ``rtol``, a few cycles), unchecked.
+
+        For estimates that need only the direction of K^-1 b (inverse iteration), not its accuracy.
+        """
+        b = np.asarray(b, dtype=float).reshape(-1)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)
+            return self._ml.solve(b, x0=x0, tol=rtol, accel="cg", maxiter=50)
 
 
 #: back ends whose ordering phase keeps one core busy without holding the GIL and that call

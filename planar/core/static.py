@@ -14,7 +14,7 @@ from .assembly import Assembly, Rotation
 from .errors import ResourceError, SolverError, SupportError, fmt_point, unknown_name
 from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigid_body_check, zero_energy_check  # noqa: F401
 from .result import Result
-from . import solvers
+from . import diagnose, solvers
 from .solvers import choose, factorize
 from .supports import gather
 from .timing import Timer
@@ -230,9 +230,15 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         timer.lap("factorization")
         ul = np.zeros((ndof, len(cases)))
         ul[pdofs] = up[pdofs][:, None]
-        ul[free] = fac.solve(rhs).reshape(free.size, len(cases))
+        # one more column: a step of inverse iteration for the condition estimate
+        sol, probe = diagnose.solve_with_probe(fac, rhs)
+        ul[free] = sol[:, : len(cases)]
     except MemoryError:
         raise _out_of_memory(f"factorizing with the {solver!r} solver", free.size, entries) from None
+    except SolverError as exc:
+        if not getattr(exc, "numerical", False):
+            raise
+        raise diagnose.explain_failure(asm, system, free, solver, exc) from None
     timer.lap("solve")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
@@ -244,10 +250,14 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         R = cons.rotation.to_global(Rl.reshape(-1, 2, len(cases))).reshape(ndof, -1)
     else:
         U, R = ul, Rl
+    trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R, F, U, free=free)
+    timer.lap("solution check")
     results = {}
     for j, c in enumerate(cases):
         results[c] = Result(asm, c, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), F[:, j].reshape(-1, 2),
-                            loads[j][1], solver=fac.name, timer=timer, solver_info=dict(fac.info))
+                            loads[j][1], solver=fac.name, timer=timer,
+                            solver_info={**fac.info, **trust.info(j)})
+        diagnose.warn_untrusted(results[c], trust, j)
     del system
     from .advice import advise
 

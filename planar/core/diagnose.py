@@ -1,0 +1,681 @@
+"""Checks of a solved system: does the answer satisfy its own equations, how many figures of it can be
+trusted, and, when it cannot be trusted, why and where.
+
+After every solve (:func:`check_solution`):
+
+* the normwise backward error of each load case (Rigal and Gaches, 1967; N. J. Higham, Accuracy and
+  Stability of Numerical Algorithms, 2nd ed., 2002, Theorem 7.1), in the infinity norm,
+
+  ``eta = ||K_ff u_f - b||_inf / (||K_ff||_inf ||u_f||_inf + ||b||_inf)``,
+
+  from one sparse product with all load cases at once;
+* the equilibrium error of each case (reactions against applied loads, forces and moment; the same
+  figure as :meth:`Result.equilibrium_error`);
+* an estimate of the condition number ``kappa = ||K_ff||_inf / lambda_min``: ``||K_ff||_inf`` (an upper
+  bound of the largest eigenvalue) from the matrix entries, ``lambda_min`` from Rayleigh quotients
+  (each an upper bound of the smallest eigenvalue) of the load cases' own displacements and of one
+  step of inverse iteration with the existing factorization, started from a random vector with a
+  fixed seed and solved together with the load cases. When the first estimate is within a factor
+  of 10^4 of the refusal limit, up to three more inverse-iteration steps sharpen it (so only suspect
+  models pay for them).
+
+Thresholds (from the arithmetic; eps = 2.2e-16 is the unit round-off of double precision):
+
+* Forward error. A solution with backward error eta has a relative error of about
+  ``kappa * max(eta, eps)`` (Higham 2002, eq. 7.2). planar refuses an answer (``SolverError``) when
+  this estimate exceeds ``REFUSE = 1e-3``, i.e. when fewer than three significant figures of the
+  displacements (and so of the stresses, their derivatives) are left; between ``WARN = 1e-5`` and
+  ``REFUSE`` it warns ("ill-conditioned"), since the estimate of kappa may be a factor of a few
+  low and a result a user reads to four figures should be known to be short of that. Healthy
+  models sit far below: a 10^6-unknown plate has kappa ~ 1e8 (1e-8), a stiffness contrast of 1e4 or
+  a slenderness of 100 gives 1e-9 to 1e-7.
+* Backward error. A backward-stable factorization gives eta of a small multiple of eps growing at
+  most like sqrt(n) in practice (Higham 2002, section 10.1); planar refuses
+  ``eta > max(1e-12, 100 sqrt(n) eps)`` for the direct back ends (2e-11 at 10^6 unknowns, still
+  five orders above what a sound factorization gives), and ``eta > 10 rtol`` for the iterative one
+  (it stops at a relative residual of rtol).
+* Equilibrium. Reactions that balance the applied loads to fewer than three figures
+  (``EQUILIBRIUM_REFUSE = 1e-3``) are refused whatever the estimate of kappa says.
+
+When an answer is refused, or a factorization fails, :func:`diagnose` names the likely cause from
+the softest mode found by inverse iteration (where it is largest, and whether it strains at all)
+and from cheap facts of the model: pieces held only through a much softer region, stiffness
+contrast between neighbouring regions, slender parts and their elements through the depth, reduced
+integration, and displacements comparable to the part's size (units).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from .errors import SolverError, fmt_point
+
+__all__ = ["check_solution", "diagnose", "explain_failure", "equilibrium_errors", "probe_vector",
+           "norm_inf", "mode_strain", "solve_with_probe", "warning_text", "warn_untrusted", "Trust", "REFUSE", "WARN", "EQUILIBRIUM_REFUSE"]
+
+EPS = float(np.finfo(float).eps)
+#: estimated relative error (with its margin) above which an answer is refused: 3 figures
+REFUSE = 1e-3
+#: estimated relative error above which an answer carries an "ill-conditioned" warning: 5 figures
+WARN = 1e-5
+#: classical bound above which the actual error is estimated by a step of refinement
+ESTIMATE_FROM = WARN
+#: margin on the refinement estimate (it was within a factor of 10 of the true error in calibration)
+MARGIN = 10.0
+#: equilibrium error above which an answer is refused
+EQUILIBRIUM_REFUSE = 1e-3
+#: a mode whose largest strain is below this fraction of its largest displacement over the part's
+#: size does not strain (a rigid or zero-energy motion): round-off gives about 1e-13, the softest
+#: bending mode of a part of slenderness s gives about 1.5 / s
+ZERO_STRAIN = 1e-8
+#: stiffness ratio between neighbouring regions reported as a contrast
+CONTRAST = 1e6
+#: length over depth reported as slender
+SLENDER = 200.0
+#: largest system that gets a random inverse-iteration column with its load cases
+PROBE_LIMIT = 200_000
+#: seed of the inverse-iteration start vector (same estimate on every run)
+SEED = 13
+
+
+@dataclass
+class Trust:
+    """Figures of a checked solve.
+
+    Attributes
+    ----------
+    residual : ndarray, shape (m,)
+        Normwise backward error of each load case.
+    equilibrium_error : ndarray, shape (m,)
+    condition_estimate : float
+        Estimate of ``||K_ff||_inf / lambda_min``.
+    error_estimate : ndarray, shape (m,)
+        Estimated relative error of each case: the bound when it is small, else ten times the
+        error found by one step of refinement (displacements or energy norm, the larger).
+    bound : ndarray, shape (m,)
+        ``condition_estimate * max(residual, eps)``, the classical error bound.
+    mode : ndarray or None
+        Approximate softest mode over the free unknowns.
+    """
+
+    residual: np.ndarray
+    equilibrium_error: np.ndarray
+    condition_estimate: float
+    error_estimate: np.ndarray
+    bound: np.ndarray
+    norm: float = 0.0
+    lambda_min: float = 0.0
+    mode: np.ndarray | None = field(default=None, repr=False)
+
+    def info(self, j: int) -> dict:
+        """The figures of load case ``j`` for ``Result.solver_info``."""
+        err = float(self.error_estimate[j])
+        return {"backward_error": float(self.residual[j]), "equilibrium_error": float(self.equilibrium_error[j]),
+                "condition_estimate": float(self.condition_estimate), "error_estimate": err,
+                "significant_figures": _figures(err)}
+
+
+def _figures(err: float) -> float:
+    return float(max(0.0, min(16.0, -np.log10(max(err, 1e-300)))))
+
+
+def probe_vector(n: int) -> np.ndarray:
+    """The inverse-iteration start vector: uniform in [-1, 1] from a fixed seed (reproducible)."""
+    return np.random.default_rng(SEED).uniform(-1.0, 1.0, n)
+
+
+def solve_with_probe(fac, rhs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Solve the load cases and one inverse-iteration step from :func:`probe_vector` together.
+
+    The direct back ends take the probe as one more column of the same solve call; the iterative one
+    solves it roughly (a few cycles), since a Rayleigh quotient needs only a direction.
+
+    Above ``PROBE_LIMIT`` unknowns, where one more column would cost about as much as a load case
+    (a second pass over the factor: 2 % or more of the end-to-end time at 10^6 unknowns), no probe
+    is solved and the estimate rests on the Rayleigh quotients of the load cases' own displacements
+    (the conditioning as the loads see it), sharpened by inverse iteration when it is suspect.
+
+    Returns
+    -------
+    sol : ndarray, shape (n, m + 1) or (n, m)
+        The load cases' solutions, then ``K^-1 probe``.
+    probe : ndarray, shape (n,), or None
+    """
+    n = rhs.shape[0]
+    if n > PROBE_LIMIT:  # its column would cost about as much as a load case: the loads' own Rayleigh quotients
+        return np.asarray(fac.solve(rhs), dtype=float).reshape(n, -1), None
+    probe = probe_vector(n)
+    if hasattr(fac, "approximate"):
+        u = np.asarray(fac.solve(rhs), dtype=float).reshape(n, -1)
+        return np.column_stack([u, fac.approximate(probe)]), probe
+    sol = np.asarray(fac.solve(np.column_stack([rhs.reshape(n, -1), probe])), dtype=float)
+    return sol.reshape(n, -1), probe
+
+
+def _inverse(fac, x: np.ndarray) -> np.ndarray:
+    if hasattr(fac, "approximate"):
+        return np.asarray(fac.approximate(x), dtype=float)
+    return np.asarray(fac.solve(x), dtype=float).reshape(-1)
+
+
+def _diagonal(L: sp.csc_matrix) -> np.ndarray:
+    """Diagonal of a lower triangle in CSC form: the first entry of each column when sorted (no search)."""
+    n = L.shape[0]
+    if n and L.has_sorted_indices and L.indptr[-1] > 0 and np.all(np.diff(L.indptr) > 0):
+        first = L.indptr[:-1]
+        if np.array_equal(L.indices[first], np.arange(n, dtype=L.indices.dtype)):
+            return L.data[first]
+    return L.diagonal()
+
+
+def _lower(lower) -> sp.csc_matrix:
+    return lower if sp.isspmatrix_csc(lower) or isinstance(lower, sp.csc_array) else sp.csc_matrix(lower)
+
+
+def norm_inf(lower: sp.spmatrix, diagonal: np.ndarray | None = None) -> float:
+    """``||K||_inf`` (the largest absolute row sum, an upper bound of lambda_max) from K's lower triangle.
+
+    Two sparse products of ``|L|`` with a vector of ones (row and column sums of the triangle).
+    """
+    L = _lower(lower)
+    n = L.shape[0]
+    if n == 0:
+        return 0.0
+    A = sp.csc_matrix((np.abs(L.data), L.indices, L.indptr), shape=L.shape)
+    one = np.ones(n)
+    d = np.abs(_diagonal(L) if diagonal is None else diagonal)
+    return float(np.max(A @ one + A.T @ one - d))
+
+
+def matvec(lower: sp.spmatrix, X: np.ndarray, diagonal: np.ndarray | None = None) -> np.ndarray:
+    """``K @ X`` from K's lower triangle (as :meth:`ReducedSystem.matvec`, with the diagonal found cheaply)."""
+    L = _lower(lower)
+    d = _diagonal(L) if diagonal is None else diagonal
+    Y = L @ X
+    Y += L.T @ X
+    Y -= d[:, None] * X if X.ndim == 2 else d * X
+    return Y
+
+
+def _rayleigh(V: np.ndarray, KV: np.ndarray) -> np.ndarray:
+    num = np.einsum("ij,ij->j", V, KV)
+    den = np.einsum("ij,ij->j", V, V)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        q = np.where(den > 0, num / np.where(den > 0, den, 1.0), np.inf)
+    return np.where(np.isfinite(q), q, np.inf)
+
+
+def _backward_tol(fac, n: int) -> float:
+    if getattr(fac, "name", "") == "amg":
+        return 10.0 * float(getattr(fac, "rtol", 1e-10))
+    return max(1e-12, 100.0 * np.sqrt(n) * EPS)
+
+
+def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np.ndarray | None,
+                   cases: list[str], R: np.ndarray, F: np.ndarray, U: np.ndarray, *,
+                   free: np.ndarray | None = None) -> Trust:
+    """Check a solve and estimate its accuracy; refuse an answer that cannot be trusted.
+
+    Parameters
+    ----------
+    asm : Assembly
+    system : ReducedSystem
+    fac : Factorization
+        The factorization that solved it (used again only for suspect models).
+    rhs : ndarray, shape (n, m)
+        Right-hand sides of the load cases (free unknowns).
+    sol : ndarray, shape (n, m) or (n, m + 1)
+        Their solutions, followed by ``K^-1 probe`` when ``probe`` is given.
+    probe : ndarray, shape (n,), or None
+        The inverse-iteration start vector solved with the load cases.
+    cases : list of str
+    R, F, U : ndarray, shape (ndof, m)
+        Reactions, applied forces and displacements over every unknown, in global components.
+    free : ndarray, optional
+        Global unknown of each free unknown (for locating the softest mode).
+
+    Returns
+    -------
+    Trust
+
+    Raises
+    ------
+    SolverError
+        An answer with fewer than three trustworthy figures, a backward error far above what a
+        stable solve gives, or loads and reactions out of balance; the message names the likely
+        cause and where it is.
+    """
+    m = len(cases)
+    n = rhs.shape[0]
+    rhs = rhs.reshape(n, m)
+    L = _lower(system.lower)
+    diag = _diagonal(L)
+    nrm = norm_inf(L, diag)
+    V = sol.reshape(n, -1)  # (n, m [+ 1])
+    KV = matvec(L, V, diag)
+    uf = V[:, :m]
+    res = rhs - KV[:, :m]
+    unorm = np.abs(uf).max(axis=0, initial=0.0)
+    bnorm = np.abs(rhs).max(axis=0, initial=0.0)
+    den = nrm * unorm + bnorm
+    with np.errstate(invalid="ignore", divide="ignore"):
+        eta = np.where(den > 0, np.abs(res).max(axis=0, initial=0.0) / np.where(den > 0, den, 1.0), 0.0)
+    q = _rayleigh(V, KV)
+    k = int(np.argmin(q)) if q.size else 0
+    lam = float(q[k]) if q.size else np.inf
+    mode = V[:, k].copy() if q.size else None
+    cond = nrm / lam if lam > 0 and np.isfinite(lam) else np.inf
+    bound = cond * np.maximum(eta, EPS)
+    err = bound.copy()
+    if np.any(bound > ESTIMATE_FROM):
+        # suspect: sharpen lambda_min by inverse iteration, and estimate the actual error by one
+        # step of refinement, d = K^-1 r (all load cases in one call)
+        if mode is not None:
+            lam, mode = _sharpen(fac, system, V[:, -1] if probe is not None else mode, lam, mode)
+            cond = nrm / lam if lam > 0 else np.inf
+            bound = cond * np.maximum(eta, EPS)
+        err = _refinement_error(fac, res, uf, rhs)
+    eq = equilibrium_errors(asm, R.reshape(-1, 2, m), F.reshape(-1, 2, m))
+    trust = Trust(eta, eq, float(cond), err, bound, nrm, lam, mode)
+    tol = _backward_tol(fac, n)
+    bad = None
+    for j, c in enumerate(cases):
+        if not np.isfinite(bound[j]) or bound[j] >= 1.0:
+            bad = (f"load case {c!r}: the stiffness matrix is singular to working precision (condition "
+                   f"estimate {cond:.1e}; times the backward error {eta[j]:.1e} that is {bound[j]:.1e}), so "
+                   "no figure of the answer is guaranteed")
+        elif not np.isfinite(err[j]) or err[j] > REFUSE:
+            bad = (f"load case {c!r}: estimated relative error of the answer {err[j]:.1e} (condition "
+                   f"estimate {cond:.1e}), fewer than 3 significant figures with a margin of 10 for the estimate")
+        elif eta[j] > tol:
+            bad = (f"load case {c!r}: the solution does not satisfy its own equations (backward "
+                   f"error {eta[j]:.1e}; a stable solve gives below {tol:.0e})")
+        elif eq[j] > EQUILIBRIUM_REFUSE:
+            bad = (f"load case {c!r}: reactions and applied loads are out of balance by "
+                   f"{eq[j]:.1e} of the load")
+        if bad:
+            break
+    if bad:
+        text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, u=U, solver=fac.name)
+        raise SolverError(f"the answer cannot be trusted: {bad}. {text}")
+    return trust
+
+
+def _sharpen(fac, system, x: np.ndarray, lam: float, mode):
+    """Up to three more inverse-iteration steps from ``x`` while the Rayleigh quotient falls by 20 %."""
+    for _ in range(3):
+        s = np.abs(x).max()
+        if not (s > 0 and np.isfinite(s)):
+            break
+        try:
+            x = _inverse(fac, x / s).reshape(-1)
+        except SolverError:
+            break
+        if not np.all(np.isfinite(x)):
+            break
+        qx = float(_rayleigh(x[:, None], matvec(system.lower, x[:, None]))[0])
+        if not qx < lam:
+            break
+        lam_old, lam, mode = lam, qx, x.copy()
+        if qx > 0.8 * lam_old:
+            break
+    return lam, mode
+
+
+def _refinement_error(fac, res: np.ndarray, uf: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Relative error of each case from one step of iterative refinement, d = K^-1 r.
+
+    The larger of ``||d||_inf / ||u||_inf`` (displacements) and ``sqrt(|d.r| / |u.b|)`` (energy
+    norm, i.e. the stresses), times 10 as a margin for the estimate itself.
+    """
+    m = uf.shape[1]
+    try:
+        if hasattr(fac, "approximate"):
+            d = np.column_stack([fac.approximate(res[:, j]) for j in range(m)])
+        else:
+            d = np.asarray(fac.solve(res), dtype=float).reshape(res.shape)
+    except SolverError:
+        return np.full(m, np.inf)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        eu = np.abs(d).max(axis=0) / np.abs(uf).max(axis=0)
+        ee = np.sqrt(np.abs(np.einsum("ij,ij->j", d, res)) / np.abs(np.einsum("ij,ij->j", uf, rhs)))
+    e = MARGIN * np.fmax(eu, ee)
+    return np.where(np.isnan(e), 0.0, e)
+
+
+def warning_text(trust: Trust, j: int) -> str | None:
+    """The "ill-conditioned" warning for load case ``j``, or None when the answer is sound."""
+    err = float(trust.error_estimate[j])
+    if err <= WARN:
+        return None
+    return (f"the stiffness matrix is ill-conditioned (condition estimate {trust.condition_estimate:.1e}): "
+            f"about {_figures(err):.0f} significant figures of the displacements are reliable; "
+            "look for a very slender part, a stiffness contrast between regions or units far off")
+
+
+def warn_untrusted(result, trust: Trust, j: int) -> None:
+    """Give ``result`` the "ill-conditioned" warning when load case ``j`` has fewer than 5 sound figures."""
+    from .errors import warn
+
+    text = warning_text(trust, j)
+    if text is not None:
+        warn(f"load case {result.case!r}: {text}", "ill-conditioned", sink=result.warnings, stacklevel=3)
+
+
+def equilibrium_errors(asm, R: np.ndarray, F: np.ndarray) -> np.ndarray:
+    """Equilibrium error of several load cases at once (the figure of :meth:`Result.equilibrium_error`).
+
+    ``|sum of reactions + sum of applied forces|`` (forces x and y, and the moment about the centre
+    of the nodes over the model size) relative to the largest of the total load, the total
+    reaction, half the sum of the reaction magnitudes, and 1e-4 of the force level that the
+    prescribed displacements stand for (largest D times thickness times the largest prescribed
+    value); the last term only matters for a model moved as a rigid body by prescribed
+    displacements with little or no load, whose reactions are then round-off of K times that motion.
+
+    Parameters
+    ----------
+    asm : Assembly
+    R, F : ndarray, shape (n_nodes, 2, m)
+        Reactions and applied nodal forces in global components.
+
+    Returns
+    -------
+    ndarray, shape (m,)
+    """
+    from .supports import gather
+
+    mesh, model = asm.mesh, asm.model
+    key = "equilibrium frame"
+    if key not in asm.cache:  # the centre, size, stiffness and prescribed level: once per assembly
+        stiff = max((float(np.abs(b.D).max()) * b.thickness for b in asm.blocks), default=0.0)
+        moved = float(np.abs(gather(mesh, model.supports).value).max(initial=0.0))
+        asm.cache[key] = (mesh.nodes.mean(axis=0), max(mesh.size(), 1e-300), stiff * moved)
+    centre, L, level = asm.cache[key]
+    m = R.shape[2]
+    # only nodes that carry a force or a reaction count
+    rows = np.flatnonzero(np.any(R != 0, axis=(1, 2)) | np.any(F != 0, axis=(1, 2)))
+    x = mesh.nodes[rows] - centre
+    Rs, Fs = R[rows], F[rows]
+
+    def totals(f):
+        return np.stack([f[:, 0].sum(axis=0), f[:, 1].sum(axis=0),
+                         (x[:, 0] @ f[:, 1] - x[:, 1] @ f[:, 0]) / L]).reshape(3, m)
+
+    r, a = totals(Rs), totals(Fs)
+    scale = np.maximum.reduce([np.abs(r).max(axis=0), np.abs(a).max(axis=0),
+                               np.abs(Rs).sum(axis=(0, 1)) / 2, np.full(m, 1e-4 * level), np.full(m, 1e-300)])
+    return np.abs(r + a).max(axis=0) / scale
+
+
+# ---------------------------------------------------------------------------------------- diagnosis
+def _block_stiffness(b) -> float:
+    """E times thickness, roughly: the largest entry of D times the thickness."""
+    return float(np.abs(b.D).max()) * float(b.thickness)
+
+
+def _node_masks(asm) -> list[np.ndarray]:
+    n = asm.mesh.n_nodes
+    out = []
+    for b in asm.blocks:
+        mk = np.zeros(n, dtype=bool)
+        mk[b.conn.ravel()] = True
+        out.append(mk)
+    return out
+
+
+def _regions_by_stiffness(asm, masks):
+    """{region: (E*t, node mask)} merged over element layouts."""
+    reg: dict[str, list] = {}
+    for b, mk in zip(asm.blocks, masks):
+        k = _block_stiffness(b)
+        if b.region in reg:
+            reg[b.region][0] = min(reg[b.region][0], k)
+            reg[b.region][1] = reg[b.region][1] | mk
+        else:
+            reg[b.region] = [k, mk]
+    return reg
+
+
+def _contrast(asm, masks, supported: np.ndarray):
+    """Findings on stiffness contrast: (pieces held only through soft regions, neighbour pair)."""
+    mesh = asm.mesh
+    reg = _regions_by_stiffness(asm, masks)
+    names = list(reg)
+    pair = None
+    for i, a in enumerate(names):
+        for bname in names[i + 1:]:
+            shared = reg[a][1] & reg[bname][1]
+            if not shared.any():
+                continue
+            ka, kb = reg[a][0], reg[bname][0]
+            hi, lo = (a, bname) if ka >= kb else (bname, a)
+            ratio = max(ka, kb) / max(min(ka, kb), 1e-300)
+            if pair is None or ratio > pair[0]:
+                pair = (ratio, hi, lo, int(np.flatnonzero(shared)[0]))
+    held = []
+    kmax = max(v[0] for v in reg.values())
+    soft = [b for b in asm.blocks if _block_stiffness(b) * CONTRAST < kmax]
+    if soft:
+        # the mesh without the soft regions: a piece of it that holds no support hangs on soft material
+        n = mesh.n_nodes
+        keep = [b for b in asm.blocks if _block_stiffness(b) * CONTRAST >= kmax]
+        rr, cc = [], []
+        for b in keep:
+            c = b.conn
+            rr.append(np.repeat(c[:, :1], c.shape[1], axis=1).ravel())
+            cc.append(c.ravel())
+        r = np.concatenate(rr)
+        c = np.concatenate(cc)
+        G = sp.coo_matrix((np.ones(r.size, dtype=np.int8), (r, c)), shape=(n, n))
+        _, label = connected_components(G, directed=False)
+        used = np.zeros(n, dtype=bool)
+        used[c] = True
+        soft_mask = np.zeros(n, dtype=bool)
+        for b in soft:
+            soft_mask[b.conn.ravel()] = True
+        for comp in np.unique(label[used]):
+            members = (label == comp) & used
+            if supported[members].any() or not (members & soft_mask).any():
+                continue
+            regs = sorted({b.region for b, mk in zip(asm.blocks, masks) if b in keep and (mk & members).any()})
+            via = sorted({b.region for b, mk in zip(asm.blocks, masks) if b in soft and (mk & members).any()})
+            ks = min(_block_stiffness(b) for b in soft if b.region in via)
+            kk = max(_block_stiffness(b) for b in keep if b.region in regs)
+            xy = mesh.nodes[members]
+            held.append((regs, via, kk / max(ks, 1e-300), xy.mean(axis=0), int(members.sum())))
+    return held, pair
+
+
+def _slenderness(asm):
+    """Length over depth of the whole part and its elements through the depth, from the element areas."""
+    mesh = asm.mesh
+    area = 0.0
+    n_el = 0
+    for b in asm.blocks:
+        _, dv, _ = b.geometry(mesh.nodes)
+        area += float(dv.sum()) / max(float(b.thickness), 1e-300)
+        n_el += b.n
+    used = mesh.used_nodes()
+    xy = mesh.nodes[used]
+    xy = xy - xy.mean(axis=0)
+    if xy.shape[0] < 3 or area <= 0:
+        return 1.0, 1.0, 0.0, 0.0
+    _, _, vt = np.linalg.svd(xy[: min(xy.shape[0], 200_000)], full_matrices=False)
+    proj = xy @ vt[0]
+    length = float(np.ptp(proj))
+    depth = area / max(length, 1e-300)
+    h = np.sqrt(area / max(n_el, 1))
+    return length / max(depth, 1e-300), depth / max(h, 1e-300), length, depth
+
+
+def mode_strain(asm, mode: np.ndarray, free: np.ndarray) -> float:
+    """Largest strain of a mode (at each block's stiffness rule points) over its largest displacement
+    divided by the part's size: about 0 (round-off) for a rigid or zero-energy motion."""
+    from .assembly import element_strains
+
+    mesh = asm.mesh
+    full = np.zeros(2 * mesh.n_nodes)
+    full[free] = mode
+    full = full.reshape(-1, 2)
+    umax = float(np.abs(full).max())
+    if not (umax > 0 and np.isfinite(umax)):
+        return np.inf
+    top = 0.0
+    step = 20_000
+    for b in asm.blocks:
+        for s in range(0, b.n, step):
+            c = b.conn[s : s + step]
+            eps = element_strains(b.etype, mesh.nodes[c], b.D, full[c].reshape(c.shape[0], -1), b.rule)
+            top = max(top, float(np.abs(eps).max(initial=0.0)))
+    return top * max(mesh.size(), 1e-300) / umax
+
+
+def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarray | None = None,
+             lam: float | None = None, norm: float | None = None, u: np.ndarray | None = None,
+             solver: str = "", generic: bool = True) -> str:
+    """Name the likely cause of an untrustworthy or failed solve, and where it is.
+
+    Parameters
+    ----------
+    asm : Assembly
+    system : ReducedSystem, optional
+    free : ndarray, optional
+        Global unknown of each free unknown.
+    mode : ndarray, optional
+        Approximate softest mode over the free unknowns (from inverse iteration).
+    lam, norm : float, optional
+        Its Rayleigh quotient and ``||K_ff||_inf``.
+    u : ndarray, shape (ndof, m), optional
+        Displacements (for the units check).
+    solver : str
+
+    Returns
+    -------
+    str
+        The diagnosis: a mechanism (the softest mode strains no more than round-off), a part held
+        only through a much softer region, a slender part, units far off, or a stiffness contrast,
+        with region names, node ids and coordinates, and the fix.
+    """
+    mesh = asm.mesh
+    masks = _node_masks(asm)
+    ndof = 2 * mesh.n_nodes
+    supported = np.ones(mesh.n_nodes, dtype=bool)
+    if free is not None:
+        fr = np.zeros(ndof, dtype=bool)
+        fr[free] = True
+        supported = ~(fr[0::2] & fr[1::2]) & mesh.used_nodes()
+    where = ""
+    if mode is not None and free is not None and np.all(np.isfinite(mode)) and np.abs(mode).max() > 0:
+        full = np.zeros(ndof)
+        full[free] = mode
+        amp = np.hypot(full[0::2], full[1::2])
+        big = amp >= 0.5 * amp.max()
+        top = int(np.argmax(amp))
+        regs = sorted({b.region for b, mk in zip(asm.blocks, masks) if (mk & big).any()})
+        xy = mesh.nodes[big]
+        where = (f"The softest mode of the stiffness matrix is largest at node {top} {fmt_point(mesh.nodes[top])}; "
+                 f"{int(big.sum())} node(s) in region(s) {', '.join(map(repr, regs))} between "
+                 f"{fmt_point(xy.min(axis=0))} and {fmt_point(xy.max(axis=0))} move with it.")
+    rel = (lam / norm) if (lam is not None and norm) else None
+    strain = mode_strain(asm, mode, free) if (mode is not None and free is not None) else None
+    causes = []
+    held, pair = _contrast(asm, masks, supported)
+    for regs, via, ratio, c, cnt in held:
+        causes.append(
+            f"a near-mechanism: region(s) {', '.join(map(repr, regs))} ({cnt} nodes, around {fmt_point(c)}) "
+            f"are held only through region(s) {', '.join(map(repr, via))}, {ratio:.1e} times softer "
+            "(E times thickness): give the soft region a realistic modulus, support the stiff part "
+            "directly, or model the stiff part as a prescribed (rigid) boundary")
+    reduced = sorted({f"{b.etype.name} in {b.region!r}" for b in asm.blocks if b.rule_mode in ("reduced", "custom")})
+    zero_energy = strain is not None and strain < ZERO_STRAIN
+    if not causes and zero_energy and reduced:
+        causes.append(
+            "a mechanism from zero-energy (hourglass) modes of an under-integrated rule ("
+            + ", ".join(reduced) + "): use the full integration rule")
+    s, through, length, depth = _slenderness(asm)
+    if not causes and s >= SLENDER:
+        causes.append(
+            f"ill-conditioning, not a mechanism: the part is very slender (length {length:.4g} over depth "
+            f"{depth:.4g}, ratio {s:.2g}, about {through:.2g} element(s) through the depth), so its bending "
+            "stiffness is below the round-off of its axial stiffness in double precision; model it as a "
+            "beam, or analyse a shorter length with the end forces and moments as loads")
+    if not causes and zero_energy:
+        causes.append(
+            "a mechanism: part of the model can move without straining (the softest mode's strain energy "
+            "is at the round-off level of the stiffness): look for a region joined by a single node (a hinge), "
+            "supports that leave a motion free, or elements that do not share nodes; add supports or join "
+            "the parts")
+    if u is not None and np.all(np.isfinite(u)) and not causes:
+        size = max(mesh.size(), 1e-300)
+        umax = float(np.abs(u).max(initial=0.0))
+        if umax > 0.1 * size:
+            causes.append(
+                f"units: displacements reach {umax:.3g}, {umax / size:.2g} times the part's size {size:.4g}; "
+                "the modulus is far too small for the loads, or the units are mixed (e.g. E in Pa with "
+                "lengths in mm: use N, mm, MPa)")
+    if pair is not None and pair[0] >= CONTRAST and not held:
+        ratio, hi, lo, node = pair
+        causes.append(
+            f"stiffness contrast: region {hi!r} is {ratio:.1e} times stiffer (E times thickness) than its "
+            f"neighbour {lo!r} (they meet at node {node} {fmt_point(mesh.nodes[node])}); bring the contrast "
+            "within about 1e6, or model the stiff region as rigid (prescribed displacements)")
+    if not causes and not generic:
+        return where
+    if not causes and rel is not None and rel < 1e-10:
+        causes.append("ill-conditioning of unclear origin: check the units, the moduli and the supports near the "
+                      "softest mode")
+    if not causes:
+        causes.append("no mechanism, stiffness contrast, slender part or unit mix-up was found; check the "
+                      "supports and the moduli near the softest mode")
+    text = "Likely cause: " + "; also ".join(causes) + "."
+    if solver == "amg":
+        text += " With the iterative solver, try solver='cholmod' or 'pardiso'."
+    return (text + " " + where).strip()
+
+
+def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception) -> SolverError:
+    """A :class:`SolverError` for a factorization or iteration that failed, worded by diagnosis.
+
+    The softest mode is sought by four steps of inverse iteration when the model is small enough
+    (up to 300,000 unknowns): with a direct factorization of K itself after a failed iteration
+    (whose success shows the matrix is positive definite), else of ``K + s I`` with
+    ``s = 1e-10 ||K||_inf``, which makes a singular matrix factorizable. The model's own facts
+    (contrast, slenderness, integration rule) are used whatever its size.
+    """
+    from . import solvers
+
+    n = system.lower.shape[0]
+    nrm = norm_inf(system.lower)
+    mode = lam = None
+    definite = False
+    if 0 < n <= 300_000 and nrm > 0 and np.isfinite(nrm):
+        method = "cholmod" if "cholmod" in solvers.available_solvers() else "superlu"
+        fac = None
+        if solver == "amg":
+            try:
+                fac = solvers.factorize(system.lower, method)
+                definite = True
+            except SolverError:
+                fac = None
+        try:
+            if fac is None:
+                L = sp.csc_matrix(system.lower) + sp.identity(n, format="csc") * (1e-10 * nrm)
+                fac = solvers.factorize(sp.tril(L, format="csc"), method)
+            x = probe_vector(n)
+            for _ in range(4):
+                x = np.asarray(fac.solve(x / np.abs(x).max()), dtype=float).reshape(n)
+            lam = float(_rayleigh(x[:, None], matvec(system.lower, x[:, None]))[0])
+            mode = x
+        except Exception:  # noqa: BLE001 - the diagnosis is best effort; the model facts still speak
+            mode = lam = None
+    text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, solver="" if definite else solver,
+                    generic=not definite)
+    if definite:
+        cond = nrm / lam if lam else np.inf
+        text = (f"A direct factorization of the same matrix succeeds (condition estimate {cond:.1e}), so it is "
+                f"not a mechanism but a matrix this iterative solver cannot handle: use solver='cholmod' or "
+                f"'pardiso'. {text}")
+    return SolverError(f"{exc}. {text}")

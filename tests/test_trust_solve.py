@@ -1,0 +1,243 @@
+"""Every solve checks its own answer (planar.core.diagnose).
+
+Covers: the backward error, equilibrium error and condition estimate kept in ``Result.solver_info``
+on every back end; adversarial models that must end in a ``SolverError`` naming the cause and the
+place (a stiff part held only through a layer 1e10-1e14 times softer, a piece joined by one element
+of a 1e12 times softer material, clamped strips of length over height 1e4 and 1e5, zero-energy
+modes); healthy models that must pass without an error or an "ill-conditioned" warning (stiffness
+contrast 1e3-1e4, slenderness 100), checked against beam theory and statics; the diagnosis of a
+rigid motion (no strain) against a bending mode.
+
+References: Euler-Bernoulli cantilever deflection P L^3 / (3 E I) with the Timoshenko shear term
+P L / (k G A), k = 5/6 (S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 3rd ed., 1970,
+section 21, and common practice); bars in series under tension, elongation sum P L_i / (E_i A)
+(statics, common practice); condition numbers from the dense eigenvalues (numpy's LAPACK).
+"""
+import warnings
+
+import numpy as np
+import pytest
+
+import planar
+from planar.core import diagnose, solvers
+from planar.core.assembly import Assembly
+from planar.core.errors import SolverError
+from planar.core.mesh import Mesh
+
+BACKENDS = [s for s in ("cholmod", "pardiso", "superlu", "amg") if s in solvers.available_solvers()]
+DIRECT = [s for s in BACKENDS if s != "amg"]
+#: every back end, the iterative one in the slow run only (it takes seconds where the others take ms)
+ALL_SLOW_AMG = DIRECT + [pytest.param("amg", marks=pytest.mark.slow)] if "amg" in BACKENDS else DIRECT
+E = 200e3
+
+
+def _regions(mesh, name_of):
+    """Mesh with regions given by a function of the cell centre returning a region name."""
+    key = next(iter(mesh.cells))
+    cen = mesh.nodes[mesh.cells[key]].mean(axis=1)
+    names = np.array([name_of(x, y) for x, y in cen])
+    regions = {r: {key: np.flatnonzero(names == r)} for r in np.unique(names)}
+    return Mesh(mesh.nodes, mesh.cells, mesh.edge_sets, mesh.node_sets, regions=regions)
+
+
+def layered(ratio: float, el: str = "Q8") -> planar.Model:
+    """A 30 x 10 strip clamped on the left: 'base' (x < 10), 'layer' (10 < x < 20, ratio times softer),
+    'block' (x > 20), loaded across its right end."""
+    mesh = _regions(planar.rectangle_mesh(30.0, 10.0, 12, 4, el),
+                    lambda x, y: "base" if x < 10 else ("layer" if x < 20 else "block"))
+    model = planar.Model(mesh, planar.Isotropic(E, 0.3), thickness=1.0)
+    model.assign("layer", material=planar.Isotropic(E / ratio, 0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=-1e-3 / ratio), case="tip")
+    return model
+
+
+def strip(slender: float, nx: int = 200, ny: int = 1, el: str = "Q8", depth: float = 1.0) -> planar.Model:
+    """A clamped strip of length slender * depth with a tip shear force giving a deflection of L / 1000."""
+    L = slender * depth
+    mesh = planar.rectangle_mesh(L, depth, nx, ny, el)
+    model = planar.Model(mesh, planar.Isotropic(E, 0.3), thickness=1.0)
+    model.add_support(planar.Fixed("left"))
+    I = depth**3 / 12
+    P = 3 * E * I * (L / 1000) / L**3
+    model.add_load(planar.Traction("right", ty=-P / depth), case="tip")
+    return model
+
+
+def joined_by_one_element(ratio: float) -> planar.Model:
+    """A 40 x 8 Q4 strip cut across at 20 < x < 22 except for one element of a ratio times softer
+    material ('joint'): the right piece hangs on that element alone."""
+    mesh = planar.rectangle_mesh(40.0, 8.0, 20, 4, "Q4")
+    cen = mesh.nodes[mesh.cells["Q4"]].mean(axis=1)
+    gap = np.abs(cen[:, 0] - 21.0) < 0.5
+    joint = gap & (np.abs(cen[:, 1] - 5.0) < 1.0)
+    keep = ~gap | joint
+    cells = mesh.cells["Q4"][keep]
+    c2 = cen[keep]
+    regions = {"joint": {"Q4": np.flatnonzero(joint[keep])},
+               "left part": {"Q4": np.flatnonzero(c2[:, 0] < 20)},
+               "right part": {"Q4": np.flatnonzero(c2[:, 0] > 22)}}
+    m = Mesh(mesh.nodes, {"Q4": cells}, mesh.edge_sets, mesh.node_sets, regions=regions)
+    model = planar.Model(m, planar.Isotropic(E, 0.3), thickness=1.0)
+    model.assign("joint", material=planar.Isotropic(E / ratio, 0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=-1e-9), case="tip")
+    return model
+
+
+def _solve_quietly(model, solver):
+    """Solve; return the results and the planar warning codes raised."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = planar.solve(model, solver=solver)
+    return res, [getattr(w.message, "code", "") for w in caught]
+
+
+# ----------------------------------------------------------------------------------- adversarial
+@pytest.mark.parametrize("solver", ALL_SLOW_AMG)
+@pytest.mark.parametrize("ratio", [1e10, 1e12, 1e14])
+def test_stiff_part_held_through_soft_layer_is_refused(ratio, solver):
+    with pytest.raises(SolverError, match=r"held only through region\(s\) 'layer'") as err:
+        planar.solve(layered(ratio), solver=solver)
+    text = str(err.value)
+    assert "'block'" in text and "times softer" in text
+    assert "softest mode" in text  # where: the node and the region(s) that move
+
+
+@pytest.mark.parametrize("solver", ALL_SLOW_AMG)
+@pytest.mark.parametrize("slender", [1e4, 1e5])
+def test_extremely_slender_strip_is_refused(slender, solver):
+    with pytest.raises(SolverError, match=r"very slender .*ratio 1e\+0[45]") as err:
+        planar.solve(strip(slender), solver=solver)
+    assert "not a mechanism" in str(err.value)
+
+
+@pytest.mark.parametrize("solver", BACKENDS)
+def test_piece_hanging_on_one_soft_element_is_refused(solver):
+    with pytest.raises(SolverError, match=r"held only through region\(s\) 'joint'") as err:
+        planar.solve(joined_by_one_element(1e12), solver=solver)
+    assert "'right part'" in str(err.value) and "near-mechanism" in str(err.value)
+
+
+@pytest.mark.parametrize("solver", DIRECT)
+def test_zero_energy_modes_are_named(solver):
+    # one-point integration of Q4 has hourglass modes (common practice); whichever check meets them
+    # first, the error says so
+    mesh = planar.rectangle_mesh(10.0, 10.0, 4, 4, "Q4")
+    model = planar.Model(mesh, planar.Isotropic(E, 0.3), quadrature={"Q4": 1})
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="a")
+    with pytest.raises(planar.PlanarError, match="zero-energy|hourglass"):
+        planar.solve(model, solver=solver)
+
+
+# ----------------------------------------------------------------------------------- healthy
+@pytest.mark.parametrize("solver", BACKENDS)
+def test_every_backend_keeps_the_figures(solver):
+    res, codes = _solve_quietly(strip(10, 80, 8, "Q4"), solver)
+    info = res["tip"].solver_info
+    for key in ("backward_error", "equilibrium_error", "condition_estimate", "error_estimate",
+                "significant_figures"):
+        assert key in info, key
+    assert info["backward_error"] < 1e-12
+    assert info["equilibrium_error"] < 1e-9
+    assert 1e3 < info["condition_estimate"] < 1e12
+    assert info["significant_figures"] > 6
+    assert "ill-conditioned" not in codes
+
+
+@pytest.mark.parametrize("solver", DIRECT)
+@pytest.mark.parametrize("mesh", [(200, 2), (400, 4)])
+def test_slenderness_100_passes_quietly_and_matches_beam_theory(solver, mesh):
+    nx, ny = mesh
+    res, codes = _solve_quietly(strip(100, nx, ny), solver)
+    r = res["tip"]
+    assert "ill-conditioned" not in codes and not any(w.code == "ill-conditioned" for w in r.warnings)
+    L, H, nu = 100.0, 1.0, 0.3
+    I, A, G = H**3 / 12, H, E / (2 * (1 + nu))
+    P = 3 * E * I * (L / 1000) / L**3
+    ref = P * L**3 / (3 * E * I) + P * L / (5 / 6 * G * A)  # Euler-Bernoulli + Timoshenko shear
+    tip = -r.u[r.mesh.nodes_of("right"), 1].mean()
+    assert tip == pytest.approx(ref, rel=2e-3)
+
+
+@pytest.mark.parametrize("solver", ALL_SLOW_AMG)
+@pytest.mark.parametrize("ratio", [1e3, 1e4])
+def test_contrast_in_series_passes_quietly_and_matches_statics(ratio, solver):
+    # nu = 0: each part is a bar in uniform tension, elongation P L_i / (E_i A) (statics)
+    mesh = _regions(planar.rectangle_mesh(30.0, 10.0, 12, 4, "Q8"),
+                    lambda x, y: "base" if x < 10 else ("layer" if x < 20 else "block"))
+    model = planar.Model(mesh, planar.Isotropic(E, 0.0), thickness=1.0)
+    model.assign("layer", material=planar.Isotropic(E / ratio, 0.0))
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    s = 1e-3 * E / ratio  # a strain of 1e-3 in the soft layer
+    model.add_load(planar.Traction("right", tx=s), case="pull")
+    res, codes = _solve_quietly(model, solver)
+    r = res["pull"]
+    assert "ill-conditioned" not in codes
+    ref = s * 10 / E * 2 + s * 10 / (E / ratio)
+    end = r.u[r.mesh.nodes_of("right"), 0]
+    np.testing.assert_allclose(end, ref, rtol=1e-7)
+
+
+@pytest.mark.parametrize("solver", DIRECT)
+def test_contrast_1e8_answers_with_a_warning(solver):
+    # about 5 figures left: answered, but with the "ill-conditioned" warning
+    res, codes = _solve_quietly(layered(1e8), solver)
+    assert "ill-conditioned" in codes
+    assert any(w.code == "ill-conditioned" for w in res["tip"].warnings)
+    assert 3 < res["tip"].solver_info["significant_figures"] < 5
+
+
+def test_condition_estimate_against_dense_eigenvalues():
+    # the estimate uses ||K||_inf >= lambda_max and an upper bound of lambda_min: it may be above the
+    # 2-norm condition number by the ratio ||K||_inf / lambda_max (a few) and below it by little
+    for model in (strip(20, 40, 2), layered(1e6)):
+        model_res = planar.solve(model, solver=DIRECT[0], keep_system=True)
+        r = next(iter(model_res.values()))
+        L = r.assembly.system.lower.toarray()
+        K = L + L.T - np.diag(np.diag(L))
+        w = np.linalg.eigvalsh(K)
+        cond = w[-1] / w[0]
+        est = r.solver_info["condition_estimate"]
+        assert 0.5 * cond < est < 20 * cond
+
+
+def test_estimates_are_reproducible():
+    a = planar.solve(strip(100, 200, 2), solver=DIRECT[0])["tip"].solver_info
+    b = planar.solve(strip(100, 200, 2), solver=DIRECT[0])["tip"].solver_info
+    assert a["condition_estimate"] == b["condition_estimate"]
+
+
+def test_rigid_motion_has_no_strain_and_bending_has():
+    model = strip(50, 100, 2)
+    asm = Assembly(model)
+    xy = asm.mesh.nodes
+    free = np.arange(2 * xy.shape[0])
+    rigid = np.column_stack([-(xy[:, 1] - 0.5), xy[:, 0] - 20.0]).ravel() * 1e-3 + 0.3
+    assert diagnose.mode_strain(asm, rigid, free) < diagnose.ZERO_STRAIN
+    x = xy[:, 0] / 50.0
+    bend = np.column_stack([-(xy[:, 1] - 0.5) * 2 * x / 50.0, x**2]).ravel()  # w = x^2, plane sections
+    assert diagnose.mode_strain(asm, bend, free) > 1e3 * diagnose.ZERO_STRAIN
+
+
+@pytest.mark.skipif("amg" not in BACKENDS, reason="pyamg not installed")
+def test_iterative_failure_on_a_definite_matrix_is_not_called_a_mechanism(monkeypatch):
+    orig = solvers._AMG.__init__
+
+    def few_iterations(self, lower, **kw):
+        orig(self, lower, **kw)
+        self.maxiter = 1
+
+    monkeypatch.setattr(solvers._AMG, "__init__", few_iterations)
+    with pytest.raises(SolverError, match="not a mechanism") as err:
+        planar.solve(strip(10, 40, 4), solver="amg")
+    assert "solver='cholmod'" in str(err.value)
+
+
+def test_equilibrium_errors_match_the_result_method():
+    res = planar.solve(layered(1e3), solver=DIRECT[0])["tip"]
+    asm = res.assembly
+    e = diagnose.equilibrium_errors(asm, res.reactions[:, :, None], res.applied[:, :, None])
+    assert e[0] == pytest.approx(res.equilibrium_error(), rel=1e-12, abs=1e-18)
