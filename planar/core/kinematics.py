@@ -709,8 +709,8 @@ def _block_modes(block, nodes: np.ndarray):
     k2 = 2 * block.etype.n_nodes
     if bound is not None and k2 - bound > 3:  # proven for every element: rank <= 3 per point
         z, neg = zero_energy_modes(block, nodes, np.arange(1))
-        q = bound // 3
-        how = (f"every element has them: {q} integration point(s) see at most {bound} independent strains, "
+        how = (f"every element has them: the rule samples at most {bound} independent strains (three per "
+               f"point{'; two of them at the full and one at the reduced points' if block.rule_mode == 'selective' else ''}), "
                f"fewer than the element's {k2 - 3} ways to deform")
         return np.arange(block.n), max(int(z[0]) - 3, k2 - bound - 3), int(neg[0]), how
     full = block.etype.default_rule()
