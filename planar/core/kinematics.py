@@ -59,9 +59,10 @@ BUILTIN_ELEMENTS = ("T3", "T6", "Q4", "Q8", "Q9")
 #: shaped, half spread evenly) where their rule needs more than one element
 SAMPLE = 4096
 
-#: bodies (pieces after rigid merging) of one connected group solved by a dense SVD of the linkage;
+#: bodies (pieces after rigid merging) of one connected group, not proven held by propagation, solved
+#: by a dense SVD of the linkage (3 columns each: about 1 s at 250 on this machine's two cores);
 #: above it only hinged leaves are looked for, and the check after the solve is the net
-MAX_DENSE_BODIES = 1000
+MAX_DENSE_BODIES = 250
 
 # singular values of the (row-normalised) constraint matrices below this, relative, are free motions
 _SV_TOL = 1e-8
@@ -241,7 +242,8 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
         stats = _Stats(xy.mean(axis=0)[None], lo[None], hi[None], np.array([float(xy.shape[0])]))
         on = used[rows.node]
         text, _, _ = _group_check(mesh, stats, np.zeros(1, np.int64), rows.node[on], rows.direction[on],
-                                  np.zeros(int(on.sum()), np.int64), (np.zeros(0, np.int64),) * 3, False)
+                                  np.zeros(int(on.sum()), np.int64), (np.zeros(0, np.int64),) * 3, False,
+                                  (np.zeros(0, np.int64),) * 2)
         if text:
             raise SupportError("the model can still move as a rigid body, so it has no unique answer: " + text)
         return
@@ -250,6 +252,10 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
     body, nb = _merge_rigid(pp, nn, pieces.count)
     node_body[nn] = body
     pins = _chain_pairs(body, nn, nb)
+    jkey = np.unique(nn.astype(np.int64) * nb + body)  # (node, body) incidences where bodies meet
+    jn, jb = jkey // nb, jkey % nb
+    multi = np.r_[jn[1:] == jn[:-1], False] | np.r_[False, jn[1:] == jn[:-1]]
+    joints = (jn[multi], jb[multi])
     # bodies grouped by pins into connected groups (separate parts of the mesh)
     if nb == 1:
         ng, group = 1, np.zeros(1, np.int64)
@@ -264,14 +270,18 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
     on = rbody >= 0
     rnode, rdir, rbody = rnode[on], rows.direction[keep][on], rbody[on]
 
-    problems, kinds, hinges_held = [], set(), []
+    problems, kinds, hinges_held, unproven = [], set(), [], []
     if ng == 1:
-        members = [(np.arange(nb), np.arange(rnode.size), np.arange(pins[0].size))]
+        members = [(np.arange(nb), np.arange(rnode.size), np.arange(pins[0].size), np.arange(joints[0].size))]
     else:
-        members = zip(_split(group, ng), _split(group[rbody], ng), _split(group[pins[1]], ng))
-    for g, (bodies, rsel, psel) in enumerate(members):
+        members = zip(_split(group, ng), _split(group[rbody], ng), _split(group[pins[1]], ng),
+                      _split(group[joints[1]], ng))
+    for g, (bodies, rsel, psel, jsel) in enumerate(members):
         text, kind, held = _group_check(mesh, stats, bodies, rnode[rsel], rdir[rsel], rbody[rsel],
-                                        tuple(p[psel] for p in pins), ng > 1)
+                                        tuple(p[psel] for p in pins), ng > 1, tuple(j[jsel] for j in joints))
+        if kind == "unproven":
+            unproven += held
+            continue
         if text:
             if ng > 1 and kind == "rigid":
                 gmask = np.zeros(nb, bool)
@@ -289,6 +299,13 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
         else:
             head = "the model can still move (as a rigid body and as a mechanism), so it has no unique answer: "
         raise SupportError(head + "; ".join(problems))
+    if unproven:
+        nodes = sorted(set(unproven))
+        warn(f"{len(nodes)} node(s) join pieces of the mesh only at single points (first: node {nodes[0]} at "
+             f"{fmt_point(mesh.nodes[nodes[0]])}), in a linkage of more than {MAX_DENSE_BODIES} pieces too large "
+             "to analyse before the solve; no dangling piece was found, and the check after the solve refuses a "
+             "singular answer; the stresses at those nodes are singular: join the pieces along edges",
+             "hinge", sink=sink)
     if hinges_held:
         nodes = sorted(set(hinges_held))
         listed = ", ".join(f"node {p} at {fmt_point(mesh.nodes[p])}" for p in nodes[:10])
@@ -347,8 +364,8 @@ def _null(A: np.ndarray, ncols: int) -> np.ndarray:
     return vt[s < _SV_TOL * max(1.0, s.max())]
 
 
-def _group_check(mesh, stats: _Stats, bodies, rnode, rdir, rbody, pins, several: bool):
-    """Free motions of one connected group of bodies: (message or "", "rigid" | "hinge", held hinge nodes)."""
+def _group_check(mesh, stats: _Stats, bodies, rnode, rdir, rbody, pins, several: bool, joints):
+    """Free motions of one connected group of bodies: (message or "", "rigid" | "hinge" | "both", held hinge nodes)."""
     xy = mesh.nodes
     w = stats.count[bodies]
     xc = (stats.centre[bodies] * w[:, None]).sum(axis=0) / max(w.sum(), 1.0)
@@ -360,40 +377,90 @@ def _group_check(mesh, stats: _Stats, bodies, rnode, rdir, rbody, pins, several:
     texts = []
     if free.shape[0]:
         texts.append(_describe_free(free, xc, L, several, xc))
-    pin_nodes, b1, b2 = pins
     if bodies.size == 1:
         return ("; ".join(texts), "rigid", [])
     # the linkage: 3 motions per body (ux, uy, theta * L_b about the body's centre)
     loc = np.full(int(bodies.max()) + 1, -1, dtype=np.int64)
     loc[bodies] = np.arange(bodies.size)
-    nbg = bodies.size
     Lb = stats.size[bodies]
     cb = stats.centre[bodies]
-    if nbg > MAX_DENSE_BODIES:
-        mech = _hinged_leaves(xy, bodies, loc, cb, Lb, rnode, rdir, rbody, pins)
-        if mech:
-            texts.append(mech)
-            return ("; ".join(texts), "hinge" if len(texts) == 1 else "both", [])
-        return ("; ".join(texts), "rigid", [] if texts else pin_nodes.tolist())
-    S = _linkage_supports(xy, loc, cb, Lb, rnode, rdir, rbody, nbg)
-    P = _linkage_pins(xy, loc, cb, Lb, pins, nbg)
-    N = _null(np.vstack([P, S]), 3 * nbg)  # (r, 3 nbg)
+    held = np.zeros(bodies.size, bool) if free.shape[0] else _held(xy, loc, cb, Lb, rnode, rdir, rbody, joints)
+    rest = np.flatnonzero(~held)  # bodies the propagation could not prove held: the linkage decides
+    kind = lambda: "hinge" if len(texts) == 1 else "both"  # noqa: E731
+    if rest.size == 0:
+        return ("; ".join(texts), "rigid", [] if texts else pins[0].tolist())
+    leaves = _hinged_leaves(xy, bodies, loc, cb, Lb, rnode, rdir, rbody, pins)
+    if rest.size > MAX_DENSE_BODIES:
+        if leaves:
+            texts.append(leaves)
+            return ("; ".join(texts), kind(), [])
+        return ("; ".join(texts), "rigid" if texts else "unproven", [] if texts else pins[0].tolist())
+    sub = np.full(bodies.size, -1, dtype=np.int64)  # column block of each body left, -1 for held ones
+    sub[rest] = np.arange(rest.size)
+    lr = np.full_like(loc, -1)
+    lr[bodies] = sub
+    S = _linkage_supports(xy, lr, cb[rest], Lb[rest], rnode, rdir, rbody, rest.size)
+    P = _linkage_pins(xy, lr, cb, Lb, loc, pins, rest.size)
+    N = _null(np.vstack([P, S]), 3 * rest.size)  # (r, 3 |rest|)
     if N.shape[0] > free.shape[0]:
-        if free.shape[0]:  # take out the free rigid motions of the whole group
+        if free.shape[0]:  # take out the free rigid motions of the whole group (every body is in rest)
             F = _group_motions(free, xc, L, cb, Lb)  # (f, 3 nbg)
             q, _ = np.linalg.qr(F.T)
             M = N.T - q @ (q.T @ N.T)
             u, s, _ = np.linalg.svd(M, full_matrices=False)
             N = u[:, : N.shape[0] - free.shape[0]].T
-        texts.append(_describe_mechanism(xy, N, bodies, loc, cb, Lb, pins, stats))
-        return ("; ".join(texts), "hinge" if len(texts) == 1 else "both", [])
+        full = np.zeros((N.shape[0], bodies.size, 3))
+        full[:, rest] = N.reshape(N.shape[0], rest.size, 3)
+        m = N.shape[0] - free.shape[0]
+        texts.append((leaves or _describe_mechanism(xy, full.reshape(N.shape[0], -1), bodies, loc, cb, Lb, pins, stats))
+                     + (f" ({m} independent motions in all)" if m > 1 else ""))
+        return ("; ".join(texts), kind(), [])
     if texts:
         return ("; ".join(texts), "rigid", [])
-    return ("", "rigid", pin_nodes.tolist())
+    return ("", "rigid", pins[0].tolist())
+
+
+def _held(xy, loc, cb, Lb, rnode, rdir, rbody, joints) -> np.ndarray:
+    """Bodies proven held, by propagation: own supports of rank 3, or with held joint nodes, rank 3.
+
+    Sound, not complete: a body is marked held only when its own support rows and the rows of its
+    joint nodes shared with held bodies (two each: the node cannot move) stop all three of its
+    motions; the rank is read from the 3 x 3 normal matrix with a conservative margin (an eigenvalue
+    ratio above 1e-10), so a doubtful body is left to the linkage matrix.
+    """
+    nbg = cb.shape[0]
+    G0 = np.zeros((nbg, 3, 3))
+    if rnode.size:
+        lb = loc[rbody]
+        r3 = _support_matrix(xy[rnode], rdir, cb[lb], Lb[lb])
+        np.add.at(G0, lb, r3[:, :, None] * r3[:, None, :])
+    jn, jb = joints
+    jl = loc[jb]
+    rel = (xy[jn] - cb[jl]) / Lb[jl][:, None]
+    r1 = np.column_stack([np.ones(jn.size), np.zeros(jn.size), -rel[:, 1]])
+    r2 = np.column_stack([np.zeros(jn.size), np.ones(jn.size), rel[:, 0]])
+    Gj = r1[:, :, None] * r1[:, None, :] + r2[:, :, None] * r2[:, None, :]
+    held = np.zeros(nbg, bool)
+    nmax = int(jn.max()) + 1 if jn.size else 1
+    while True:
+        fixed_node = np.zeros(nmax, bool)
+        fixed_node[jn[held[jl]]] = True
+        use = fixed_node[jn] & ~held[jl]
+        G = G0.copy()
+        if np.any(use):
+            np.add.at(G, jl[use], Gj[use])
+        lam = np.linalg.eigvalsh(G)
+        new = held | ((lam[:, 2] > 0) & (lam[:, 0] > 1e-10 * lam[:, 2]))
+        if np.array_equal(new, held):
+            return held
+        held = new
 
 
 def _linkage_supports(xy, loc, cb, Lb, rnode, rdir, rbody, nbg) -> np.ndarray:
-    """Support rows of the linkage, at most three per body (compressed by QR where there are more)."""
+    """Support rows of the linkage on the bodies with a column block (loc >= 0), at most three per
+    body (compressed by QR where there are more); ``cb``, ``Lb`` are indexed by column block."""
+    keep = loc[rbody] >= 0
+    rnode, rdir, rbody = rnode[keep], rdir[keep], rbody[keep]
     if rnode.size == 0:
         return np.zeros((0, 3 * nbg))
     lb = loc[rbody]
@@ -414,18 +481,25 @@ def _linkage_supports(xy, loc, cb, Lb, rnode, rdir, rbody, nbg) -> np.ndarray:
     return S
 
 
-def _linkage_pins(xy, loc, cb, Lb, pins, nbg) -> np.ndarray:
-    """Two rows per pin: the two bodies move alike at the pin node."""
+def _linkage_pins(xy, lr, cb, Lb, loc, pins, ncols) -> np.ndarray:
+    """Two rows per pin: the two bodies move alike at the pin node (a held body does not move).
+
+    ``lr`` gives each body's column block (-1 for held bodies), ``loc`` its place in ``cb``, ``Lb``.
+    """
     pn, b1, b2 = pins
+    c1, c2 = lr[b1], lr[b2]
+    keep = (c1 >= 0) | (c2 >= 0)
+    pn, b1, b2, c1, c2 = pn[keep], b1[keep], b2[keep], c1[keep], c2[keep]
     m = pn.size
-    P = np.zeros((2 * m, 3 * nbg))
-    i = np.arange(m)
-    for sign, b in ((1.0, loc[b1]), (-1.0, loc[b2])):
-        rel = (xy[pn] - cb[b]) / Lb[b][:, None]
-        P[2 * i, 3 * b] = sign
-        P[2 * i, 3 * b + 2] = -sign * rel[:, 1]
-        P[2 * i + 1, 3 * b + 1] = sign
-        P[2 * i + 1, 3 * b + 2] = sign * rel[:, 0]
+    P = np.zeros((2 * m, 3 * ncols))
+    for sign, b, c in ((1.0, b1, c1), (-1.0, b2, c2)):
+        i = np.flatnonzero(c >= 0)
+        bl, cc = loc[b[i]], c[i]
+        rel = (xy[pn[i]] - cb[bl]) / Lb[bl][:, None]
+        P[2 * i, 3 * cc] = sign
+        P[2 * i, 3 * cc + 2] = -sign * rel[:, 1]
+        P[2 * i + 1, 3 * cc + 1] = sign
+        P[2 * i + 1, 3 * cc + 2] = sign * rel[:, 0]
     return P
 
 
