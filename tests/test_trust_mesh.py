@@ -321,6 +321,22 @@ def test_hanging_node_refused(element, t):
     assert "Remesh conformingly" in str(exc.value) and not isinstance(exc.value, ElementError)
 
 
+@pytest.mark.parametrize("element, dx", [("Q4", -0.05), ("T3", -0.3), ("Q4", 0.004), ("T3", 0.012),
+                                         ("Q4", 1e-5)])
+def test_hanging_node_moved_off_the_side_refused(element, dx):
+    # the hanging node moved into its neighbour (cells overlap) or away from it (a thin gap, a few
+    # per cent of the side wide at most: a hole of 3 sides with almost no area)
+    mesh = _hanging(element, 0.4)
+    nodes = mesh.nodes.copy()
+    nodes[6, 0] += dx
+    if dx < 0:
+        with pytest.raises(ElementError, match=r"cells overlap: node 6 .* lies inside"):
+            _solve(Mesh(nodes, mesh.cells))
+    else:
+        with pytest.raises(MeshError, match=r"thin gap.*through nodes .*6 \(1\.0"):
+            _solve(Mesh(nodes, mesh.cells))
+
+
 def test_hanging_node_at_random_positions_in_a_structured_mesh():
     # a 6 x 4 Q4 mesh whose cells right of x = 3 are replaced by a finer 2x mesh: every other fine
     # node on the line x = 3 hangs on a coarse side (generated, random line positions)
@@ -494,8 +510,11 @@ def test_structured_meshes_pass(element):
 def test_gmsh_plates_with_holes_pass(element):
     from planar.geometry import Circle, Plate, element_options, mesh
 
+    from planar.geometry import Slot
+
+    # holes, and a narrow slot (0.3 wide, elements about 4): a legitimate thin hole, not a gap
     plate = Plate.rectangle(100.0, 40.0).cut(Circle((50.0, 20.0), 8.0, name="hole")).cut(
-        Circle((20.0, 20.0), 5.0, name="small"))
+        Circle((20.0, 20.0), 5.0, name="small")).cut(Slot((80.0, 20.0), 20.0, 0.3, angle=1.2, name="slot"))
     m = mesh(plate, 4.0, seed=1, **element_options(element))
     prepare(m)
 

@@ -43,7 +43,14 @@ another open side inside it (a hanging node, a T-junction), a side shared by two
 different mid-side nodes (a quadratic block beside a linear one, or two quadratic cells with their
 own mid-side nodes), and distinct nodes at the same point on open sides of one piece of the mesh
 (partly duplicated nodes along an interface, which open a slit) are refused, naming the nodes, the
-cells and the fix. A slit meant by the user (a crack) is declared on the mesh
+cells and the fix. So are an open side's node inside the cell across another open side (cells laid
+over each other, e.g. a hanging node moved into its neighbour), and a hole of at most
+``SLIVER_SIDES`` sides whose area is below ``SLIVER_AREA`` times the square of its mean side (a
+gap a few per cent of a side wide where cells should meet; a real hole or slot has more sides or
+more area). A node within ``ON_SIDE_TOL`` of a side's length from it counts as on it; nodes within
+the mesh's duplicate tolerance (1e-9 of its size, as :meth:`Mesh.merge_duplicate_nodes`) as one point.
+Distinct nodes at one point where the pieces they belong to are not otherwise joined are left to
+the support check, which names a free piece and the merge. A slit meant by the user (a crack) is declared on the mesh
 (``Mesh(..., slits=[edge set names])``, or ``Mesh.read(path, merge_duplicates=False)``).
 """
 from __future__ import annotations
@@ -384,6 +391,8 @@ class SideTable:
     key : ndarray, shape (s,)
         Sorted keys: ``2 * (min * n + max) + (a < b)``.
     blocks : list of (layout, first side, sides per cell)
+    edges : dict
+        Local sides (start, end[, middle]) of each layout.
     """
 
     a: np.ndarray
@@ -392,6 +401,7 @@ class SideTable:
     order: np.ndarray
     key: np.ndarray
     blocks: list
+    edges: dict
 
     def owner(self, side: int) -> str:
         """'LAYOUT cell ID' of a side (by its index into a, b, mid)."""
@@ -404,9 +414,10 @@ class SideTable:
 def side_table(n_nodes: int, cells: dict, edges_of) -> SideTable:
     """Build the :class:`SideTable` of oriented cells (``edges_of(layout)`` gives the local sides)."""
     n = np.int64(n_nodes)
-    a_l, b_l, m_l, blocks, first = [], [], [], [], 0
+    a_l, b_l, m_l, blocks, first, eds = [], [], [], [], 0, {}
     for layout, conn in cells.items():
         ed = np.asarray(edges_of(layout))
+        eds[layout] = ed
         a_l.append(conn[:, ed[:, 0]].astype(np.int64).ravel())
         b_l.append(conn[:, ed[:, 1]].astype(np.int64).ravel())
         if ed.shape[1] > 2:
@@ -426,7 +437,7 @@ def side_table(n_nodes: int, cells: dict, edges_of) -> SideTable:
     else:
         order = np.argsort(k)
         key = k[order]
-    return SideTable(a, b, mid, order, key, blocks)
+    return SideTable(a, b, mid, order, key, blocks, eds)
 
 
 def _pieces(n_nodes: int, cells: dict) -> np.ndarray:
@@ -475,6 +486,103 @@ def _on_side(P, A, B, M):
         X[i] = a * n0[:, None] + b * n1[:, None] + m * n2[:, None]
         t[i] = 0.5 * (u + 1.0)
     return np.hypot(*(X - P).T), t
+
+
+def _inside_owner(table: SideTable, cells: dict, nodes: np.ndarray, side: np.ndarray, P: np.ndarray,
+                  pid: np.ndarray, tol: np.ndarray) -> np.ndarray:
+    """Whether points P (m, 2) lie inside the cell that owns each side (by the polygon of its corner
+    and mid-side nodes), farther than ``tol`` from its outline, and are not nodes of that cell."""
+    out = np.zeros(side.size, dtype=bool)
+    for layout, first, per in table.blocks:
+        sel = np.flatnonzero((side >= first) & (side < first + cells[layout].shape[0] * per))
+        if sel.size == 0:
+            continue
+        conn = cells[layout][(side[sel] - first) // per]
+        ed = table.edges[layout]
+        ring = ed[:, [0, 2]].ravel() if ed.shape[1] > 2 else ed[:, 0]
+        poly = nodes[conn[:, ring]]  # (c, r, 2), the outline in order
+        p = P[sel][:, None, :]
+        a, b = poly, np.roll(poly, -1, axis=1)
+        cross_ = ((a[..., 1] > p[..., 1]) != (b[..., 1] > p[..., 1])) & (
+            p[..., 0] < a[..., 0] + (p[..., 1] - a[..., 1]) * (b[..., 0] - a[..., 0]) /
+            np.where(b[..., 1] != a[..., 1], b[..., 1] - a[..., 1], 1.0))
+        inside = (np.count_nonzero(cross_, axis=1) % 2) == 1
+        d = b - a
+        w = np.clip(np.sum((p - a) * d, axis=2) / np.maximum(np.sum(d * d, axis=2), 1e-300), 0.0, 1.0)
+        gap = np.hypot(*np.moveaxis(a + w[..., None] * d - p, -1, 0)).min(axis=1)
+        member = np.any(conn == pid[sel][:, None], axis=1)
+        out[sel] = inside & (gap > tol[sel]) & ~member
+    return out
+
+
+#: a hole bounded by at most this many cell sides ...
+SLIVER_SIDES = 6
+#: ... whose area is below this fraction of the square of its mean side is a gap, not a hole
+SLIVER_AREA = 0.02
+
+
+def _check_slivers(mesh, nodes, table, cells, op, A_id, B_id, M_id, L, declared, every) -> None:
+    """Refuse holes of at most ``SLIVER_SIDES`` open sides with almost no area (gaps between cells).
+
+    Open sides are oriented with their cell on the left, so the outline of a hole runs clockwise
+    (negative area) and the outer boundary counter-clockwise; only holes are looked at.
+    """
+    S = op.size
+    # next open side along the outline of the void on the right: where several open sides leave
+    # the end node, the one with the least counter-clockwise turn from the reversed incoming side
+    srt = np.argsort(A_id, kind="stable")
+    lo = np.searchsorted(A_id[srt], B_id, side="left")
+    hi = np.searchsorted(A_id[srt], B_id, side="right")
+    count = hi - lo
+    nxt = np.where(count == 1, srt[np.minimum(lo, S - 1)], -1)
+    many = np.flatnonzero(count > 1)
+    if many.size:
+        reps = count[many]
+        inc = np.repeat(many, reps)
+        out = srt[np.repeat(lo[many], reps) + (np.arange(reps.sum()) - np.repeat(np.cumsum(reps) - reps, reps))]
+        back = nodes[A_id[inc]] - nodes[B_id[inc]]
+        fwd = nodes[B_id[out]] - nodes[A_id[out]]
+        turn = np.mod(np.arctan2(fwd[:, 1], fwd[:, 0]) - np.arctan2(back[:, 1], back[:, 0]), 2 * np.pi)
+        turn = np.where(turn <= 0, 2 * np.pi, turn)
+        best = np.lexsort((turn, inc))
+        first = np.r_[True, inc[best][1:] != inc[best][:-1]]
+        nxt[inc[best][first]] = out[best][first]
+    pos = np.arange(S)
+    chain = [pos]
+    for k in range(1, SLIVER_SIDES):
+        pos = np.where(pos >= 0, nxt[np.maximum(pos, 0)], -1)
+        chain.append(pos)
+        closed = (pos >= 0) & (nxt[np.maximum(pos, 0)] == np.arange(S)) & (k + 1 >= 2)
+        closed &= np.arange(S) == np.minimum.reduce([c for c in chain])  # once per loop, from its least side
+        if not closed.any():
+            continue
+        idx = np.column_stack([c[closed] for c in chain])  # (l, k + 1) sides of each loop, in order
+        ring = [A_id[idx]]
+        pts = []
+        for j in range(idx.shape[1]):
+            pts.append(nodes[A_id[idx[:, j]]])
+            m = M_id[idx[:, j]]
+            pts.append(np.where((m >= 0)[:, None], nodes[np.maximum(m, 0)], 0.5 * (nodes[A_id[idx[:, j]]] + nodes[B_id[idx[:, j]]])))
+        poly = np.stack(pts, axis=1)
+        x, y = poly[..., 0], poly[..., 1]
+        area = 0.5 * np.sum(x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y, axis=1)
+        mean = L[idx].mean(axis=1)
+        thin = (area < 0) & (-area < SLIVER_AREA * mean ** 2)
+        if not every:
+            thin &= ~np.any(declared[ring[0]], axis=1)
+        if thin.any():
+            i = int(np.flatnonzero(thin)[0])
+            ids = A_id[idx[i]].tolist()
+            width = -2.0 * area[i] / max(L[idx[i]].sum() / 2.0, 1e-300)
+            where = ", ".join(f"{a} {fmt_point(nodes[a])}" for a in ids)
+            owners = ", ".join(table.owner(int(op[j])) for j in idx[i][:3])
+            raise MeshError(
+                f"the mesh does not conform: cells that should meet leave a thin gap between them (about "
+                f"{width:.3g} wide, a hole of {len(ids)} cell sides through nodes {where}; cells {owners}), "
+                "e.g. a hanging node moved off its neighbour's side or nodes of two meshes that do not "
+                "match. Remesh conformingly, or join the nodes; if the gap is a slit you mean, declare it: "
+                "Mesh(..., slits=['name of an edge set along its faces'])"
+            )
 
 
 def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
@@ -599,6 +707,26 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
                 "refine both sides alike); if it is a crack with non-matching faces, declare it: "
                 "Mesh(..., slits=['name of an edge set along its faces'])"
             )
+        # a boundary node inside the cell across the side: cells that overlap there (e.g. a hanging
+        # node moved off the side into its neighbour)
+        off = ~hang & ~at_node & ~at_mid & (t > 0) & (t < 1)
+        if off.any():
+            k = np.flatnonzero(off)
+            into = _inside_owner(table, cells, nodes, op[sid[k]], Pp[k], pid[k], ON_SIDE_TOL * L[sid[k]])
+            if into.any():
+                k0 = k[np.flatnonzero(into)[0]]
+                s, p = int(sid[k0]), int(pid[k0])
+                owner = table.owner(int(op[s]))
+                near = ", ".join(_cells_of(cells, p, 2))
+                raise ElementError(
+                    f"cells overlap: node {p} {fmt_point(nodes[p])} (of {near}) lies inside {owner}, which it "
+                    f"does not belong to, near that cell's side from node {int(A_id[s])} "
+                    f"{fmt_point(nodes[int(A_id[s])])} to node {int(B_id[s])} {fmt_point(nodes[int(B_id[s])])}; "
+                    "the cells there overlap instead of being joined (a hanging node moved off the side, or "
+                    "meshes of two parts laid over each other). Remesh conformingly"
+                )
+    # ---- a hole of a few sides that encloses almost no area: a gap where cells should meet
+    _check_slivers(mesh, nodes, table, cells, op, A_id, B_id, M_id, L, declared, every)
     # ---- distinct nodes at one point on open sides of one piece: a slit
     pairs = tree.query_pairs(dup, output_type="ndarray")
     if pairs.size == 0 or every:
