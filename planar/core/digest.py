@@ -22,7 +22,7 @@ import mmap
 import os
 from pathlib import Path
 
-from .errors import MeshError, PlanarWarning
+from .errors import InputError, MeshError, PlanarWarning
 
 __all__ = ["ATTRIBUTE", "placeholder", "digest_of", "sign_text", "sign_file", "check_digest",
            "find_digest"]
@@ -139,7 +139,7 @@ def check_digest(path: str | os.PathLike, *, what: str = "result file", changed:
         The file changed or was damaged since planar wrote it (``changed="error"``).
     """
     if changed not in ("error", "warn"):
-        raise MeshError(f"changed= must be 'error' or 'warn', got {changed!r}")
+        raise InputError(f"changed= must be 'error' or 'warn', got {changed!r}")
     path = os.fspath(path)
     try:
         status = _compare(path)

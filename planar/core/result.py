@@ -404,7 +404,7 @@ class Result:
         }
 
 
-def as_result(obj: Any, where: str) -> "Result":
+def as_result(obj: Any, where: str, *, also: str = "") -> "Result":
     """``obj`` if it is one load case's :class:`Result`, else an InputError saying what to pass.
 
     The one check used by every function that takes a result (checks, plots, VTK output, reports,
@@ -417,6 +417,8 @@ def as_result(obj: Any, where: str) -> "Result":
         What the user passed.
     where : str
         The function's name for the message (e.g. ``"kt"``).
+    also : str, optional
+        Another accepted input, added to the message (e.g. ``"give the peak stress as a number"``).
 
     Returns
     -------
@@ -429,6 +431,14 @@ def as_result(obj: Any, where: str) -> "Result":
     """
     if isinstance(obj, Result):
         return obj
+    try:
+        _refuse(obj, where)
+    except InputError as exc:
+        raise InputError(f"{exc}{'; or ' + also if also else ''}") from None
+    return obj  # pragma: no cover - _refuse always raises
+
+
+def _refuse(obj: Any, where: str) -> None:
     from collections.abc import Mapping
 
     fix = "pass one load case's result"

@@ -305,7 +305,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
             raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
         loc, fname, meth = (float("nan"), float("nan")), "given", "given"
     else:
-        result_or_peak = as_result(result_or_peak, "margin_of_safety")
+        result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
         _check_field(field)
         _check_method(method)
         peak, loc, _ = result_or_peak.max(field, method=method, absolute=True)
