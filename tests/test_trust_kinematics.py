@@ -331,12 +331,22 @@ def test_separate_piece_and_a_mechanism_are_both_named():
 
 def test_large_linkage_falls_back_to_hinged_leaves(monkeypatch):
     # beyond MAX_DENSE_BODIES only a piece pinned once whose supports let it turn is looked for
-    monkeypatch.setattr(kinematics, "MAX_DENSE_BODIES", 2)
+    monkeypatch.setattr(kinematics, "MAX_DENSE_BODIES", 0)
     mesh = staircase(5)
     with pytest.raises(SupportError, match=r"piece near \(4\.5, 4\.5\) can rotate about node \d+ at \(4, 4\)"):
         check(mesh, [planar.Fixed(f"p{i}_left") for i in range(4)])
     with pytest.warns(DiscretisationWarning, match="hinge"):
         check(mesh, [planar.Fixed(f"p{i}_left") for i in range(5)])
+
+
+def test_large_linkage_not_proven_held_is_warned_not_passed_silently(monkeypatch):
+    # a pinned triangle is rigid, but only the linkage matrix shows it; above the size limit it is warned
+    monkeypatch.setattr(kinematics, "MAX_DENSE_BODIES", 1)
+    a = rect(0, 0, 1, 1, "T3", 1, 1)
+    b = rect(1, 1, 1, 1, "T3", 1, 1)
+    c = Mesh(np.array([[1, 0], [3, 0], [2, 1]], float), {"T3": np.array([[0, 1, 2]])})
+    with pytest.warns(DiscretisationWarning, match="too large to analyse before the solve"):
+        check(join([a, b, c]), [planar.Fixed("p0_left")])
 
 
 # ---------------------------------------------------------------------------- the simple messages stay
@@ -439,6 +449,9 @@ def test_warn_cannot_hide_a_singular_system(solver):
 def test_stabilise_solves_without_hourglass_and_keeps_equilibrium():
     model = cantilever("Q4", {"Q4": 1}, zero_energy="stabilise", nx=20, ny=4)
     r = solve_quietly(model)["load case 1"]
+    again = solve_quietly(model)["load case 1"]
+    assert again.assembly.blocks[0].etype is r.assembly.blocks[0].etype  # two solves combine alike
+    assert r.assembly.blocks[0].etype.stabilisation == kinematics.STABILISATION
     assert "zero-energy" not in codes(r)
     assert r.equilibrium_error() < 1e-8
     tip = r.u[node_at(r.mesh, (10, 1)), 1]
@@ -578,6 +591,19 @@ def test_plugin_with_an_under_integrated_stiffness_is_refused(toy_elements):
     with pytest.raises(SolverError, match=r"Q4hg elements .* 2 zero-energy mode\(s\).*every element.*"
                                           r"own stiffness \(element type 'Q4hg' \(toy-elements 0\.1"):
         planar.solve(model)
+
+
+def test_plugin_with_an_under_integrated_stiffness_can_be_stabilised(toy_elements):
+    # the spurious modes get a fraction of the standard full-rule stiffness of the element's shape functions
+    mesh = rect(0, 0, 10, 2, "Q4", 10, 2)
+    model = planar.Model(mesh, MAT, elements={"Q4": "Q4hg"}, zero_energy="stabilise")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.Traction("right", tx=1.0))
+    r = solve_quietly(model)["load case 1"]
+    # uniform tension (the traction is a stress): sigma_xx = 1, u_x = x / E exactly, the stabilisation does
+    # not touch linear fields (patch test, common practice)
+    assert np.allclose(r.u[:, 0], r.mesh.nodes[:, 0] / 70e3, atol=1e-12)
 
 
 def test_plugin_with_negative_energy_is_refused_even_with_the_opt_in(toy_elements):
