@@ -155,6 +155,8 @@ BAD_D = {
     "3 x 3 x 1": (_GOOD[:, :, None], "shape"),
     "ragged": ([[1.0, 2.0], [3.0]], "not a 3 x 3 array"),
     "text": ("stiff", "not a 3 x 3 array"),
+    "complex": (_GOOD + 1e-3j, "complex128"),  # np.array(..., float) would drop the imaginary part
+    "booleans": (_GOOD > 0, "bool"),
     "None": (None, "shape"),
     "NaN entry": (np.where(np.eye(3, dtype=bool), np.nan, _GOOD), "not finite"),
     "infinite entry": (np.where(np.eye(3, dtype=bool), np.inf, _GOOD), "not finite"),

@@ -74,6 +74,14 @@ def _material_name(material) -> str:
     return f"material{label} ({type(material).__name__})"
 
 
+def _kind(raw) -> str:
+    """What a D method returned, for messages: "an array of complex128", "a list", ..."""
+    try:
+        return f"an array of {np.asarray(raw).dtype}"
+    except (TypeError, ValueError):
+        return f"a {type(raw).__name__} that is no array"
+
+
 def check_material(material, analysis: str = "plane stress") -> np.ndarray:
     """Check a material's elasticity matrix and return it as a (3, 3) float array.
 
@@ -120,10 +128,13 @@ def check_material(material, analysis: str = "plane stress") -> np.ndarray:
             "the analysis name and return the 3 x 3 elasticity matrix"
         ) from None
     try:
-        D = np.array(raw, dtype=float)
+        arr = np.asarray(raw)
+        if arr.dtype.kind not in "iufO":  # complex, text, booleans: not a stiffness
+            raise TypeError(arr.dtype)
+        D = np.array(arr, dtype=float)  # objects (e.g. Fractions) only if each one is a real number
     except (TypeError, ValueError, OverflowError):
         raise MaterialError(
-            f"{what}: D({analysis!r}) returned {type(raw).__name__}, not a 3 x 3 array of numbers; "
+            f"{what}: D({analysis!r}) returned {_kind(raw)}, not a 3 x 3 array of real numbers; "
             "return the elasticity matrix for (sigma_xx, sigma_yy, tau_xy) as numbers"
         ) from None
     if D.shape != (3, 3):
