@@ -656,11 +656,13 @@ def _run(args) -> int:
         print(code, file=sys.stderr)
         return 1
     except SyntaxError as exc:
-        if not _same_file(getattr(exc, "filename", None), script):
-            return _user_traceback(exc, script)
+        first, _ = _script_frames(exc.__traceback__, script)
+        if first is not None and not _same_file(getattr(exc, "filename", None), script):
+            return _user_traceback(exc, script)  # in a module the script imported: from the script on
         # the script could not be compiled: its own file, line and caret, none of planar's frames
         print("".join(traceback.format_exception_only(type(exc), exc)).rstrip(), file=sys.stderr)
-        print(f"planar run: {script.name} has a {type(exc).__name__} at line {exc.lineno} (above); fix it and "
+        at = f" at line {exc.lineno}" if exc.lineno else ""
+        print(f"planar run: {script.name} cannot be compiled ({type(exc).__name__}{at}, above); fix it and "
               "run again", file=sys.stderr)
         return 1
     except PlanarError as exc:

@@ -495,3 +495,17 @@ def test_run_shows_the_scripts_syntax_error_only(tmp_path, capsys, source, line)
     assert code == 1
     assert f'File "{script}", line {line}' in err and "^" in err
     assert "Traceback" not in err and "runpy" not in err and "planar/demo.py" not in err
+
+
+def test_run_on_a_script_that_cannot_be_compiled_or_imports_a_broken_module(tmp_path, capsys):
+    script = tmp_path / "nul.py"
+    script.write_bytes(b"x = 1\x00\n")
+    code, _, err = _cli(capsys, "run", script, "--out", tmp_path / "out")
+    assert code == 1 and "null bytes" in err and "cannot be compiled" in err and "runpy" not in err
+    (tmp_path / "helper_part.py").write_text("def f(:\n    pass\n")
+    script = tmp_path / "main_script.py"
+    script.write_text("import helper_part\n")
+    code, _, err = _cli(capsys, "run", script, "--out", tmp_path / "out")
+    # the user's own frames (the import line, the broken module with its caret), none of planar's
+    assert code == 1 and f'File "{script}", line 1' in err and "helper_part.py" in err and "^" in err
+    assert "runpy" not in err and "planar/demo.py" not in err
