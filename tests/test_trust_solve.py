@@ -120,6 +120,18 @@ def test_piece_hanging_on_one_soft_element_is_refused(solver):
 
 
 @pytest.mark.parametrize("solver", DIRECT)
+@pytest.mark.parametrize("modulus, load", [(1e-300, 1.0), (1e300, 1e-300), (2e5, 1e-320)])
+def test_numbers_out_of_range_are_named(modulus, load, solver):
+    # moduli or loads beyond 1e150 or below 1e-150 (units far off): the solve loses its figures
+    mesh = planar.rectangle_mesh(100.0, 20.0, 10, 2, "Q8")
+    model = planar.Model(mesh, planar.Isotropic(modulus, 0.3), thickness=1.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=load), case="tip")
+    with pytest.raises(SolverError, match="out of the range of double precision|overflowed"):
+        planar.solve(model, solver=solver)
+
+
+@pytest.mark.parametrize("solver", DIRECT)
 def test_zero_energy_modes_are_named(solver):
     # one-point integration of Q4 has hourglass modes (common practice); whichever check meets them
     # first, the error says so

@@ -1,47 +1,55 @@
 """Checks of a solved system: does the answer satisfy its own equations, how many figures of it can be
 trusted, and, when it cannot be trusted, why and where.
 
-After every solve (:func:`check_solution`):
+After every solve (:func:`check_solution`), for all load cases at once:
 
-* the normwise backward error of each load case (Rigal and Gaches, 1967; N. J. Higham, Accuracy and
+* the normwise backward error of each case (Rigal and Gaches, 1967; N. J. Higham, Accuracy and
   Stability of Numerical Algorithms, 2nd ed., 2002, Theorem 7.1), in the infinity norm,
+  ``eta = ||K_ff u_f - b||_inf / (||K_ff||_inf ||u_f||_inf + ||b||_inf)``: one sparse product;
+* the equilibrium error of each case (reactions against applied loads, forces and moment; the
+  figure of :meth:`Result.equilibrium_error`);
+* an estimate of the condition number ``kappa = ||K_ff||_inf / lambda_min``. ``||K_ff||_inf`` (an
+  upper bound of the largest eigenvalue) comes from the matrix entries (for PARDISO on the core its
+  ordering phase leaves idle); ``lambda_min`` from Rayleigh quotients, each an upper bound of the
+  smallest eigenvalue, of the load cases' own displacements and, up to ``PROBE_LIMIT`` unknowns, of
+  one step of inverse iteration with the existing factorization from a random vector with a fixed
+  seed, solved as one more column with the load cases.
 
-  ``eta = ||K_ff u_f - b||_inf / (||K_ff||_inf ||u_f||_inf + ||b||_inf)``,
+Only when the classical bound ``kappa * max(eta, eps)`` (Higham 2002, eq. 7.2; eps = 2.2e-16) exceeds
+``ESTIMATE_FROM = 1e-5`` does a solve cost more: up to three more inverse-iteration steps sharpen
+lambda_min, and one step of iterative refinement, ``d = K^-1 r`` for all cases in one call, estimates
+the error actually present: the larger of ``||d||_inf / ||u||_inf`` (displacements) and
+``sqrt(|d.r| / |u.b|)`` (energy norm, i.e. the stresses). The bound is pessimistic: on clamped strips
+of slenderness 100 to 10^4 the true error (from a reference refined with residuals in extended
+precision) was 2e-3 to 5e-3 of it, while the refinement estimate was within a factor of 10 of the true
+error on every back end; hence the margin of 10 below.
 
-  from one sparse product with all load cases at once;
-* the equilibrium error of each case (reactions against applied loads, forces and moment; the same
-  figure as :meth:`Result.equilibrium_error`);
-* an estimate of the condition number ``kappa = ||K_ff||_inf / lambda_min``: ``||K_ff||_inf`` (an upper
-  bound of the largest eigenvalue) from the matrix entries, ``lambda_min`` from Rayleigh quotients
-  (each an upper bound of the smallest eigenvalue) of the load cases' own displacements and of one
-  step of inverse iteration with the existing factorization, started from a random vector with a
-  fixed seed and solved together with the load cases. When the first estimate is within a factor
-  of 10^4 of the refusal limit, up to three more inverse-iteration steps sharpen it (so only suspect
-  models pay for them).
+Thresholds:
 
-Thresholds (from the arithmetic; eps = 2.2e-16 is the unit round-off of double precision):
+* ``REFUSE = 1e-3``: an answer whose estimated relative error, ten times the refinement estimate, is
+  above 1e-3 has fewer than three significant figures (with the margin) and is refused with a
+  ``SolverError``; so is one whose bound reaches 1 (kappa * eta >= 1: K is singular to working
+  precision, no figure is guaranteed and the refinement estimate itself is noise).
+* ``WARN = 1e-5``: between WARN and REFUSE the answer is given with a ``DiscretisationWarning`` code
+  "ill-conditioned" (three to five figures): enough for a stress check, but short of what a user
+  reading to four figures assumes. Healthy models stay far below: the benchmark plate at 10^6
+  unknowns has kappa ~ 1.5e8 (bound 1.4e-7), a contrast of 1e4 between regions or a slenderness of
+  100 bounds of 1e-8 to 1e-4 and refinement estimates of 1e-9 to 1e-7.
+* Backward error: a backward-stable factorization gives eta of a few eps, growing at most like
+  sqrt(n) in practice (Higham 2002, section 10.1; 1e-15 at 10^6 unknowns here); planar refuses
+  ``eta > max(1e-12, 100 sqrt(n) eps)`` for the direct back ends (2e-11 at 10^6 unknowns, four
+  orders above what a sound factorization gives), and ``eta > 10 rtol`` for the iterative one (it
+  stops at a relative residual of rtol).
+* Equilibrium: reactions that balance the applied loads to fewer than three figures
+  (``EQUILIBRIUM_REFUSE = 1e-3``) are refused whatever the other figures say.
 
-* Forward error. A solution with backward error eta has a relative error of about
-  ``kappa * max(eta, eps)`` (Higham 2002, eq. 7.2). planar refuses an answer (``SolverError``) when
-  this estimate exceeds ``REFUSE = 1e-3``, i.e. when fewer than three significant figures of the
-  displacements (and so of the stresses, their derivatives) are left; between ``WARN = 1e-5`` and
-  ``REFUSE`` it warns ("ill-conditioned"), since the estimate of kappa may be a factor of a few
-  low and a result a user reads to four figures should be known to be short of that. Healthy
-  models sit far below: a 10^6-unknown plate has kappa ~ 1e8 (1e-8), a stiffness contrast of 1e4 or
-  a slenderness of 100 gives 1e-9 to 1e-7.
-* Backward error. A backward-stable factorization gives eta of a small multiple of eps growing at
-  most like sqrt(n) in practice (Higham 2002, section 10.1); planar refuses
-  ``eta > max(1e-12, 100 sqrt(n) eps)`` for the direct back ends (2e-11 at 10^6 unknowns, still
-  five orders above what a sound factorization gives), and ``eta > 10 rtol`` for the iterative one
-  (it stops at a relative residual of rtol).
-* Equilibrium. Reactions that balance the applied loads to fewer than three figures
-  (``EQUILIBRIUM_REFUSE = 1e-3``) are refused whatever the estimate of kappa says.
-
-When an answer is refused, or a factorization fails, :func:`diagnose` names the likely cause from
-the softest mode found by inverse iteration (where it is largest, and whether it strains at all)
-and from cheap facts of the model: pieces held only through a much softer region, stiffness
-contrast between neighbouring regions, slender parts and their elements through the depth, reduced
-integration, and displacements comparable to the part's size (units).
+When an answer is refused, or a factorization fails (:func:`explain_failure`), :func:`diagnose` names
+the likely cause from the softest mode found by inverse iteration (where it is largest, and whether it
+strains at all: a mechanism's mode does not, to round-off, while the softest mode of a slender part
+bends) and from cheap facts of the model: numbers out of the range of double precision, pieces held
+only through a much softer region, zero-energy modes of an under-integrated rule, slender parts and
+their elements through the depth, displacements comparable to the part's size (units), and the
+stiffness contrast between neighbouring regions.
 """
 from __future__ import annotations
 
@@ -53,8 +61,9 @@ from scipy.sparse.csgraph import connected_components
 
 from .errors import SolverError, fmt_point
 
-__all__ = ["check_solution", "diagnose", "explain_failure", "equilibrium_errors", "probe_vector",
-           "norm_inf", "mode_strain", "solve_with_probe", "warning_text", "warn_untrusted", "Trust", "REFUSE", "WARN", "EQUILIBRIUM_REFUSE"]
+__all__ = ["check_solution", "diagnose", "explain_failure", "equilibrium_errors", "probe_vector", "norm_inf",
+           "mode_strain", "matvec", "matrix_figures", "start_figures", "also_wait", "solve_with_probe",
+           "warning_text", "warn_untrusted", "Trust", "REFUSE", "WARN", "EQUILIBRIUM_REFUSE"]
 
 EPS = float(np.finfo(float).eps)
 #: estimated relative error (with its margin) above which an answer is refused: 3 figures
@@ -164,11 +173,48 @@ def _inverse(fac, x: np.ndarray) -> np.ndarray:
 def _diagonal(L: sp.csc_matrix) -> np.ndarray:
     """Diagonal of a lower triangle in CSC form: the first entry of each column when sorted (no search)."""
     n = L.shape[0]
-    if n and L.has_sorted_indices and L.indptr[-1] > 0 and np.all(np.diff(L.indptr) > 0):
+    # the diagonal is the smallest row of each column of a lower triangle: first when sorted
+    if n and L.indptr[-1] > 0 and np.all(L.indptr[1:] > L.indptr[:-1]):
         first = L.indptr[:-1]
         if np.array_equal(L.indices[first], np.arange(n, dtype=L.indices.dtype)):
             return L.data[first]
     return L.diagonal()
+
+
+def matrix_figures(lower: sp.spmatrix) -> tuple[np.ndarray, float]:
+    """The diagonal of K and ``||K||_inf``, from its lower triangle."""
+    L = _lower(lower)
+    d = _diagonal(L)
+    return d, norm_inf(L, d)
+
+
+def start_figures(lower: sp.spmatrix, solver: str):
+    """:func:`matrix_figures` in the background while a solver orders the matrix on one core.
+
+    For the back ends that overlap their ordering (``solvers.OVERLAPS_ORDERING``) the figures are
+    computed meanwhile on the idle core; returns a Future, or None for the other back ends.
+    """
+    from . import solvers
+    from .parallel import background
+
+    if solver not in solvers.OVERLAPS_ORDERING:
+        return None
+    return background(matrix_figures, lower)
+
+
+def also_wait(after_ordering, figures):
+    """``after_ordering`` that also waits for the figures started by :func:`start_figures`."""
+    if figures is None:
+        return after_ordering
+
+    def wait() -> None:
+        if after_ordering is not None:
+            after_ordering()
+        from concurrent.futures import wait as wait_for
+
+        wait_for([figures])
+
+    return wait
 
 
 def _lower(lower) -> sp.csc_matrix:
@@ -216,7 +262,7 @@ def _backward_tol(fac, n: int) -> float:
 
 def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np.ndarray | None,
                    cases: list[str], R: np.ndarray, F: np.ndarray, U: np.ndarray, *,
-                   free: np.ndarray | None = None) -> Trust:
+                   free: np.ndarray | None = None, figures=None) -> Trust:
     """Check a solve and estimate its accuracy; refuse an answer that cannot be trusted.
 
     Parameters
@@ -236,6 +282,8 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
         Reactions, applied forces and displacements over every unknown, in global components.
     free : ndarray, optional
         Global unknown of each free unknown (for locating the softest mode).
+    figures : Future, optional
+        From :func:`start_figures`: the diagonal and norm of K computed during the factorization.
 
     Returns
     -------
@@ -252,8 +300,7 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
     n = rhs.shape[0]
     rhs = rhs.reshape(n, m)
     L = _lower(system.lower)
-    diag = _diagonal(L)
-    nrm = norm_inf(L, diag)
+    diag, nrm = figures.result() if figures is not None else matrix_figures(L)
     V = sol.reshape(n, -1)  # (n, m [+ 1])
     KV = matvec(L, V, diag)
     uf = V[:, :m]
@@ -267,8 +314,9 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
     k = int(np.argmin(q)) if q.size else 0
     lam = float(q[k]) if q.size else np.inf
     mode = V[:, k].copy() if q.size else None
-    cond = nrm / lam if lam > 0 and np.isfinite(lam) else np.inf
-    bound = cond * np.maximum(eta, EPS)
+    # no finite Rayleigh quotient (every load zero, no probe): no estimate, reported as NaN
+    cond = nrm / lam if lam > 0 and np.isfinite(lam) else (np.nan if lam == np.inf else np.inf)
+    bound = np.nan_to_num(cond, nan=1.0) * np.maximum(eta, EPS)
     err = bound.copy()
     if np.any(bound > ESTIMATE_FROM):
         # suspect: sharpen lambda_min by inverse iteration, and estimate the actual error by one
@@ -299,7 +347,7 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
         if bad:
             break
     if bad:
-        text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, u=U, solver=fac.name)
+        text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, u=U, solver=fac.name, loads=rhs)
         raise SolverError(f"the answer cannot be trusted: {bad}. {text}")
     return trust
 
@@ -533,9 +581,32 @@ def mode_strain(asm, mode: np.ndarray, free: np.ndarray) -> float:
     return top * max(mesh.size(), 1e-300) / umax
 
 
+#: magnitudes beyond which the products of a solve leave double precision's comfortable range
+RANGE = 1e150
+
+
+def _out_of_range(asm, loads: np.ndarray | None, u: np.ndarray | None) -> str:
+    """The inputs or results whose magnitude is beyond 1e150 or below 1e-150 (zero excepted)."""
+    found = []
+
+    def check(name, values):
+        a = np.abs(np.asarray(values, dtype=float))
+        a = a[np.isfinite(a) & (a > 0)]
+        if a.size and (a.max() > RANGE or a.min() < 1.0 / RANGE):
+            found.append(f"{name} from {a.min():.1e} to {a.max():.1e}" if a.size > 1 else f"{name} {a.max():.1e}")
+
+    check("E times thickness", [_block_stiffness(b) for b in asm.blocks])
+    if loads is not None:
+        check("largest load", [np.abs(loads).max(initial=0.0)])
+    if u is not None:
+        top = np.abs(u).max(initial=0.0)
+        check("largest displacement", [top] if np.isfinite(top) else [np.inf])
+    return ", ".join(found)
+
+
 def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarray | None = None,
              lam: float | None = None, norm: float | None = None, u: np.ndarray | None = None,
-             solver: str = "", generic: bool = True) -> str:
+             solver: str = "", generic: bool = True, loads: np.ndarray | None = None) -> str:
     """Name the likely cause of an untrustworthy or failed solve, and where it is.
 
     Parameters
@@ -551,6 +622,10 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
     u : ndarray, shape (ndof, m), optional
         Displacements (for the units check).
     solver : str
+    generic : bool
+        Give a general hint when no specific cause is found (else only where the mode is).
+    loads : ndarray, optional
+        Right-hand sides (for the range check).
 
     Returns
     -------
@@ -576,12 +651,19 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
         top = int(np.argmax(amp))
         regs = sorted({b.region for b, mk in zip(asm.blocks, masks) if (mk & big).any()})
         xy = mesh.nodes[big]
-        where = (f"The softest mode of the stiffness matrix is largest at node {top} {fmt_point(mesh.nodes[top])}; "
+        where = (f"The softest mode of the stiffness matrix is largest at node {top} "
+                 f"{fmt_point(mesh.nodes[top])}; "
                  f"{int(big.sum())} node(s) in region(s) {', '.join(map(repr, regs))} between "
                  f"{fmt_point(xy.min(axis=0))} and {fmt_point(xy.max(axis=0))} move with it.")
     rel = (lam / norm) if (lam is not None and norm) else None
     strain = mode_strain(asm, mode, free) if (mode is not None and free is not None) else None
     causes = []
+    out = _out_of_range(asm, loads, u)
+    if out:
+        causes.append(
+            f"numbers out of the range of double precision ({out}): values beyond about 1e150 or below "
+            "1e-150 overflow, underflow or lose their figures in the products of the solve; use consistent "
+            "units of ordinary size (e.g. N, mm, MPa: steel E = 2.1e5 MPa)")
     held, pair = _contrast(asm, masks, supported)
     for regs, via, ratio, c, cnt in held:
         causes.append(
@@ -589,7 +671,8 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
             f"are held only through region(s) {', '.join(map(repr, via))}, {ratio:.1e} times softer "
             "(E times thickness): give the soft region a realistic modulus, support the stiff part "
             "directly, or model the stiff part as a prescribed (rigid) boundary")
-    reduced = sorted({f"{b.etype.name} in {b.region!r}" for b in asm.blocks if b.rule_mode in ("reduced", "custom")})
+    reduced = sorted({f"{b.etype.name} in {b.region!r}" for b in asm.blocks
+                      if b.rule_mode in ("reduced", "custom")})
     zero_energy = strain is not None and strain < ZERO_STRAIN
     if not causes and zero_energy and reduced:
         causes.append(
@@ -636,7 +719,8 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
     return (text + " " + where).strip()
 
 
-def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception) -> SolverError:
+def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception,
+                    rhs: np.ndarray | None = None) -> SolverError:
     """A :class:`SolverError` for a factorization or iteration that failed, worded by diagnosis.
 
     The softest mode is sought by four steps of inverse iteration when the model is small enough
@@ -672,10 +756,10 @@ def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception) 
         except Exception:  # noqa: BLE001 - the diagnosis is best effort; the model facts still speak
             mode = lam = None
     text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, solver="" if definite else solver,
-                    generic=not definite)
+                    generic=not definite, loads=rhs)
     if definite:
         cond = nrm / lam if lam else np.inf
-        text = (f"A direct factorization of the same matrix succeeds (condition estimate {cond:.1e}), so it is "
-                f"not a mechanism but a matrix this iterative solver cannot handle: use solver='cholmod' or "
-                f"'pardiso'. {text}")
+        figure = f" (condition estimate {cond:.1e})" if np.isfinite(cond) and cond >= 1 else ""
+        text = (f"A direct factorization of the same matrix succeeds{figure}, so it is not a mechanism but a "
+                f"matrix this iterative solver cannot handle: use solver='cholmod' or 'pardiso'. {text}")
     return SolverError(f"{exc}. {text}")

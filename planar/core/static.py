@@ -226,7 +226,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         asm.system = system
         asm.rhs = rhs
     try:
-        fac = factorize(system.lower, solver, rigid_modes=modes, after_ordering=after_ordering)
+        figures = diagnose.start_figures(system.lower, solver)  # ||K|| on the core the ordering leaves idle
+        fac = factorize(system.lower, solver, rigid_modes=modes,
+                        after_ordering=diagnose.also_wait(after_ordering, figures))
         timer.lap("factorization")
         ul = np.zeros((ndof, len(cases)))
         ul[pdofs] = up[pdofs][:, None]
@@ -238,7 +240,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     except SolverError as exc:
         if not getattr(exc, "numerical", False):
             raise
-        raise diagnose.explain_failure(asm, system, free, solver, exc) from None
+        raise diagnose.explain_failure(asm, system, free, solver, exc, rhs) from None
     timer.lap("solve")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
@@ -250,7 +252,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         R = cons.rotation.to_global(Rl.reshape(-1, 2, len(cases))).reshape(ndof, -1)
     else:
         U, R = ul, Rl
-    trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R, F, U, free=free)
+    trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R, F, U, free=free, figures=figures)
     timer.lap("solution check")
     results = {}
     for j, c in enumerate(cases):
