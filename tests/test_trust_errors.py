@@ -36,7 +36,7 @@ from planar.core.errors import InputError, MaterialError, MeshError, NameNotFoun
 from planar.core.materials import SYMMETRY_TOLERANCE, check_material
 from planar.post import checks, estimate, norms, plots, recovery, report
 from planar.post.adapt import size_field
-from planar.post.combine import combine, envelope, write_envelope_vtu
+from planar.post.combine import combinations, combine, envelope, write_envelope_vtu
 from planar.post.files import read_result_file
 
 
@@ -286,14 +286,18 @@ def test_the_dict_of_results_gets_the_fix(solved, where, tmp_path, monkeypatch):
     assert not list(tmp_path.iterdir())  # nothing written on the way
 
 
-def test_combinations_take_a_mapping_of_results(solved):
+@pytest.mark.parametrize("where", ["combine", "combinations", "envelope"])
+def test_combinations_take_the_dict_of_results(solved, where):
     model, results = solved
-    with pytest.raises(InputError, match="mapping"):
-        combine(results["pull"], {"pull": 1.0})
-    with pytest.raises(InputError):
-        envelope(model)
+    take = {"combine": lambda r: combine(r, {"pull": 1.0}),
+            "combinations": lambda r: combinations(r, {"both": {"pull": 1.0, "push": 1.0}}),
+            "envelope": lambda r: envelope(r, "sigma_xx")}[where]
+    with pytest.raises(InputError, match=r"got one Result \(load case 'pull'\); pass planar.solve\(model\)"):
+        take(results["pull"])
+    with pytest.raises(InputError, match="solve it first"):
+        take(model)
     with pytest.raises(InputError, match="not a planar Result"):
-        combine({"pull": model}, {"pull": 1.0})
+        take({"pull": model, "push": results["push"]})
 
 
 # ---------------------------------------------------------------------------------------- result files

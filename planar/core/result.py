@@ -17,7 +17,8 @@ from .errors import InputError
 from .materials import sigma_zz
 from .parallel import map_chunks
 
-__all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix", "as_result"]
+__all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix", "as_result",
+           "as_results"]
 
 #: fields a user can ask for by name
 STRESS_FIELDS = ("sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1",
@@ -457,4 +458,37 @@ def _refuse(obj: Any, where: str) -> None:
         raise InputError(f"{where} takes one load case's Result, got the Model itself; solve it first and "
                          f"{fix}: planar.solve(model)[{first}]")
     raise InputError(f"{where} takes one load case's Result (from planar.solve(model)['case name']), got "
+                     f"{type(obj).__name__}")
+
+
+def as_results(obj: Any, where: str) -> "dict[str, Result]":
+    """``obj`` as a dict of name -> :class:`Result` (what :func:`planar.solve` returns), else an InputError.
+
+    Parameters
+    ----------
+    obj : Any
+        What the user passed.
+    where : str
+        The function's name for the message (e.g. ``"envelope"``).
+
+    Raises
+    ------
+    InputError
+        One Result, a Model, or a mapping holding something else, with the fix.
+    """
+    from collections.abc import Mapping
+
+    if isinstance(obj, Mapping):
+        for k, v in obj.items():
+            if not isinstance(v, Result):
+                raise InputError(f"{where}: results[{k!r}] is a {type(v).__name__}, not a planar Result; "
+                                 "pass the dict planar.solve(model) returns (name -> Result)")
+        return dict(obj)
+    if isinstance(obj, Result):
+        raise InputError(f"{where} takes the dict of results that solve() returns (name -> Result), got one "
+                         f"Result (load case {obj.case!r}); pass planar.solve(model), or {{{obj.case!r}: result}}")
+    if type(obj).__name__ == "Model" and hasattr(obj, "cases") and hasattr(obj, "mesh"):
+        raise InputError(f"{where} takes the dict of results that solve() returns, got the Model itself; solve it "
+                         "first: planar.solve(model)")
+    raise InputError(f"{where} takes the dict of results that solve() returns (name -> Result), got "
                      f"{type(obj).__name__}")

@@ -53,7 +53,7 @@ import numpy as np
 
 from ..core.values import number
 from ..core.errors import InputError, unknown_name
-from ..core.result import FIELDS, GaussField, Result
+from ..core.result import FIELDS, GaussField, Result, as_results
 
 __all__ = ["CombinedResult", "Combination", "combine", "combinations", "Envelope", "envelope",
            "write_envelope_vtu", "plot_envelope"]
@@ -229,9 +229,7 @@ def combine(results: Mapping[str, Result], factors: Mapping[str, float], *,
     >>> float(abs(c.u).max())
     0.0
     """
-    if not isinstance(results, Mapping):
-        raise InputError(f"combine() takes a mapping of case name -> Result (e.g. planar.solve(model)), "
-                         f"got {type(results).__name__}")
+    results = as_results(results, "combine")
     if not isinstance(factors, Mapping) or not factors:
         raise InputError(f"combination {name!r} needs factors as a mapping of case name -> factor, "
                          f"e.g. {{'dead': 1.0, 'wind': 1.5}}; got {factors!r}")
@@ -314,6 +312,7 @@ def combinations(results: Mapping[str, Result],
     >>> list(combos)
     ['AB', '2AB']
     """
+    results = as_results(results, "combinations")
     if isinstance(definitions, Mapping):
         items = [Combination(str(k), v) for k, v in definitions.items()]
     else:
@@ -436,7 +435,8 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, method:
     max_i v_i(x) and min_i v_i(x) over the cases i at each node x, with argmax / argmin naming the
     governing case (common practice in design by load combinations).
     """
-    if not isinstance(results, Mapping) or not results:
+    results = as_results(results, "envelope")
+    if not results:
         raise InputError("envelope() needs a mapping of name -> Result with at least one entry")
     if field not in FIELDS:
         raise InputError(f"unknown field {field!r}; pick one of {', '.join(FIELDS)}")
