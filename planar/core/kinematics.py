@@ -140,21 +140,61 @@ def cell_pieces(mesh) -> Pieces:
         return Pieces(1, np.zeros(1, np.int64), offsets)
     keys = np.concatenate(keys) if len(keys) > 1 else keys[0]
     bits = int(keys.size).bit_length()
-    if int(n) ** 2 < 2 ** (62 - bits):  # key and position packed in one int64: a plain sort, no argsort
+    packed = int(n) ** 2 < 2 ** (62 - bits)
+    if packed:  # key and position packed in one int64: a plain sort, no argsort
         keys <<= bits
         keys |= np.arange(keys.size, dtype=np.int64)
         keys.sort()
-        same = np.flatnonzero((keys[1:] >> bits) == (keys[:-1] >> bits))
+        ks = keys >> bits
+        same = np.flatnonzero(ks[1:] == ks[:-1])
         pos_a, pos_b = keys[same] & ((1 << bits) - 1), keys[same + 1] & ((1 << bits) - 1)
     else:
         order = np.argsort(keys)
         ks = keys[order]
         same = np.flatnonzero(ks[1:] == ks[:-1])
         pos_a, pos_b = order[same], order[same + 1]
+    if _one_piece(ks, same, mesh, n, off):
+        return Pieces(1, np.zeros(off, np.int64), offsets)
     i, j = _edge_owner(pos_a, starts, per, list(offsets.values())), _edge_owner(pos_b, starts, per, list(offsets.values()))
     G = sp.csr_matrix((np.ones(i.size, dtype=np.int8), (i, j)), shape=(off, off))
     count, label = connected_components(G, directed=False)
     return Pieces(int(count), label.astype(np.int64), offsets)
+
+
+def _one_piece(ks: np.ndarray, same: np.ndarray, mesh, n, cells: int) -> bool:
+    """Whether the cells form one piece, proven by counting (no graph over the cells), else False.
+
+    When every edge has at most two cells and every boundary node has exactly two boundary edges
+    (no node where pieces or parts of a piece only touch), the cells form a surface with boundary;
+    each connected piece of it is a plane region with h holes, so V - E + F = 1 - h and it has h + 1
+    boundary loops (the Euler-Poincare formula): (V - E + F) + loops = 2 per piece. Only the
+    boundary loops need a graph pass, and the boundary is small.
+    """
+    if ks.size > 2 and np.any(ks[2:] == ks[:-2]):
+        return False  # an edge of three cells
+    lone = np.ones(ks.size, bool)
+    lone[same] = False
+    lone[same + 1] = False
+    bk = ks[lone]
+    a, b = bk // n, bk % n
+    ends, inv = np.unique(np.concatenate([a, b]), return_inverse=True)
+    if ends.size and np.any(np.bincount(inv) != 2):
+        return False  # a node where boundary edges meet other than in pairs: pieces touch there
+    corner = np.zeros(int(n), bool)
+    for layout, conn in mesh.cells.items():
+        corner[conn[:, : _corner_count(layout, conn.shape[1])]] = True
+    chi = int(np.count_nonzero(corner)) - (ks.size - same.size) + cells
+    if ends.size:
+        m = bk.size
+        G = sp.csr_matrix((np.ones(m, np.int8), (inv[:m], inv[m:])), shape=(ends.size, ends.size))
+        loops = connected_components(G, directed=False)[0]
+    else:
+        loops = 0
+    return chi + loops == 2
+
+
+def _corner_count(layout: str, k: int) -> int:
+    return int(_corner_edges(layout, k).max()) + 1
 
 
 def _edge_owner(pos: np.ndarray, starts: list, per: list, offsets: list) -> np.ndarray:
@@ -242,8 +282,9 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
     pieces = cell_pieces(mesh)
     if pieces.count == 1:  # the common case: one body, the supports alone decide
         xy = mesh.nodes[used] if not used.all() else mesh.nodes
-        lo, hi = xy.min(axis=0), xy.max(axis=0)
-        stats = _Stats(xy.mean(axis=0)[None], lo[None], hi[None], np.array([float(xy.shape[0])]))
+        x, y = xy[:, 0], xy[:, 1]  # column by column: a reduction over axis 0 of (n, 2) is slow
+        stats = _Stats(np.array([[x.mean(), y.mean()]]), np.array([[x.min(), y.min()]]),
+                       np.array([[x.max(), y.max()]]), np.array([float(xy.shape[0])]))
         on = used[rows.node]
         text, _, _ = _group_check(mesh, stats, np.zeros(1, np.int64), rows.node[on], rows.direction[on],
                                   np.zeros(int(on.sum()), np.int64), (np.zeros(0, np.int64),) * 3, False,
