@@ -699,7 +699,11 @@ def _show_args(p: argparse.ArgumentParser) -> None:
         "elements drawn with their curved edges, the peak marked.\n\n"
         "Point fields (displacement, ux, uy, sigma_xx, sigma_yy, tau_xy, von_mises, tresca, "
         "sigma_1, sigma_2, ...) are drawn smooth; cell fields (element_von_mises, ...) one "
-        "colour per element. Signed fields use a diverging colour map centred on zero.")
+        "colour per element. Signed fields use a diverging colour map centred on zero.\n\n"
+        "A file planar wrote carries a digest of its bytes: one changed or damaged since it was "
+        "written is refused (--allow-changed draws it anyway, with a warning); files from other "
+        "programs are read as they are. NaN or infinite values are named with their count and "
+        "never drawn as a colour.")
     p.epilog = ("examples:\n  planar show planar-out/splice_strap.vtu\n"
                 "  planar show result.vtu --field sigma_xx --png sxx.png --units \"N, mm, MPa\" --mesh\n"
                 "  planar show result.vtu --list")
