@@ -170,6 +170,22 @@ def test_slender_arm_on_a_stocky_part_is_named_where_it_is():
     assert 20 < x < 100 and 8 < y < 12  # the arm, not the block
 
 
+def test_one_shear_free_element_through_the_depth_warns_and_is_wrong():
+    # Q4i bends exactly, but with one element through the depth the recovered (SPR) bending stress at
+    # the faces is zero: measured -3e-15 against 0.12 from beam theory (sigma = 6 P L / (t h^2), common
+    # practice), while two elements give 0.116
+    try:
+        planar.core.registry.element_type("Q4i")
+    except planar.PlanarError:
+        pytest.skip("the Q4i example plugin is not installed")
+    model = _cantilever("Q4", 20, 1, 20.0, 1.0, tip=-1e-3, elements={"Q4": "Q4i"})
+    r, ws = _solve_warned(model, "slender")
+    assert "at least 2" in ws[0].message
+    assert abs(r.max("sigma_xx")[0]) < 0.01 * 0.12
+    fine = _solve_quiet(_cantilever("Q4", 40, 2, 20.0, 1.0, tip=-1e-3, elements={"Q4": "Q4i"}))["end load"]
+    assert fine.max("sigma_xx")[0] == pytest.approx(0.12, rel=0.05)
+
+
 def test_slender_strip_in_pure_tension_is_quiet():
     # no bending: two Q4 through the depth carry a uniform stress exactly (common practice)
     _solve_quiet(_cantilever("Q4", 40, 2, 40.0, 1.0, tip=0.0, axial=10.0))
@@ -202,6 +218,19 @@ def test_answers_only_mixed_units_explain_warn(E, load):
 
 def test_aluminium_in_mm_is_quiet():
     _solve_quiet(_cantilever("Q8", 10, 2, 100.0, 20.0, E=70e3, tip=-5.0))
+
+
+def test_a_point_force_singularity_alone_is_not_a_unit_mix_up():
+    # a point force makes the strain under it grow without bound as the mesh is refined (common
+    # practice); the level is taken over one cell in a hundred, so a few cells there do not warn
+    mesh = planar.rectangle_mesh(100.0, 20.0, 100, 20, "Q8")
+    model = _model(mesh, t=2.0)
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.PointForce((100.0, 10.0), fx=8000.0), case="point")  # 200 MPa nominal
+    r = _solve_quiet(model)["point"]
+    peak = max(np.abs(g.strain).max() for g in r.gauss)
+    assert peak > 2e-2  # the cells under the force do strain beyond the limit
 
 
 # --------------------------------------------------------------------------------------- contrast
