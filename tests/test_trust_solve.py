@@ -143,6 +143,38 @@ def test_zero_energy_modes_are_named(solver):
         planar.solve(model, solver=solver)
 
 
+def hinged(solver, monkeypatch):
+    """Two 10 x 10 Q4 squares sharing one corner node (a hinge) with the topological checks switched
+    off, so the singular matrix reaches the back end."""
+    import planar.core.static as static
+
+    monkeypatch.setattr(static, "rigid_body_check", lambda *a, **k: None)
+    a = planar.rectangle_mesh(10.0, 10.0, 4, 4, "Q4")
+    n = a.nodes.shape[0]
+    corner = int(np.flatnonzero((a.nodes[:, 0] == 10.0) & (a.nodes[:, 1] == 10.0))[0])
+    b_nodes = a.nodes + 10.0
+    # node 0 of the second square sits on the first one's corner: join them there only
+    renum = np.arange(n) + n
+    renum[0] = corner
+    nodes = np.vstack([a.nodes, b_nodes])
+    cells = np.vstack([a.cells["Q4"], renum[a.cells["Q4"]]])
+    mesh = Mesh(nodes, {"Q4": cells}, {"left": a.edge_sets["left"]},
+                regions={"lower": {"Q4": np.arange(16)}, "upper": {"Q4": np.arange(16, 32)}})
+    model = planar.Model(mesh, planar.Isotropic(E, 0.3), thickness=1.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.PointForce(tuple(b_nodes[-1]), fx=1.0), case="a")  # a moment about the hinge
+    return model
+
+
+@pytest.mark.parametrize("solver", ALL_SLOW_AMG)
+def test_a_real_mechanism_reaching_the_solver_is_called_a_mechanism(solver, monkeypatch):
+    model = hinged(solver, monkeypatch)
+    with pytest.raises(SolverError, match=r"Likely cause: a mechanism: part of the model can move without "
+                                          r"straining") as err:
+        planar.solve(model, solver=solver)
+    assert "'upper'" in str(err.value)  # the piece that turns about the hinge moves with the mode
+
+
 # ----------------------------------------------------------------------------------- healthy
 @pytest.mark.parametrize("solver", BACKENDS)
 def test_every_backend_keeps_the_figures(solver):

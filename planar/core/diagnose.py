@@ -347,6 +347,10 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
         if bad:
             break
     if bad:
+        if hasattr(fac, "approximate"):  # an iterative solve may not see a null space: look with a direct one
+            m2, l2, _ = _soft_mode(system, nrm)
+            if m2 is not None:
+                mode, lam = m2, l2
         text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, u=U, solver=fac.name, loads=rhs)
         raise SolverError(f"the answer cannot be trusted: {bad}. {text}")
     return trust
@@ -714,9 +718,41 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
         causes.append("no mechanism, stiffness contrast, slender part or unit mix-up was found; check the "
                       "supports and the moduli near the softest mode")
     text = "Likely cause: " + "; also ".join(causes) + "."
-    if solver == "amg":
+    if solver == "amg" and not (zero_energy and not held):  # a direct solver cannot help a mechanism
         text += " With the iterative solver, try solver='cholmod' or 'pardiso'."
     return (text + " " + where).strip()
+
+
+def _soft_mode(system, nrm: float, shift: bool = True):
+    """The softest mode by four inverse-iteration steps with a direct factorization of K (+ s I).
+
+    Returns (mode, Rayleigh quotient, whether K itself factorized), or (None, None, False) when the
+    model is too large (over 300,000 unknowns) or the factorization fails.
+    """
+    from . import solvers
+
+    n = system.lower.shape[0]
+    if not (0 < n <= 300_000 and nrm > 0 and np.isfinite(nrm)):
+        return None, None, False
+    method = "cholmod" if "cholmod" in solvers.available_solvers() else "superlu"
+    fac, definite = None, False
+    if not shift:
+        try:
+            fac = solvers.factorize(system.lower, method)
+            definite = True
+        except SolverError:
+            fac = None
+    try:
+        if fac is None:
+            L = sp.csc_matrix(system.lower) + sp.identity(n, format="csc") * (1e-10 * nrm)
+            fac = solvers.factorize(sp.tril(L, format="csc"), method)
+        x = probe_vector(n)
+        for _ in range(4):
+            x = np.asarray(fac.solve(x / np.abs(x).max()), dtype=float).reshape(n)
+        lam = float(_rayleigh(x[:, None], matvec(system.lower, x[:, None]))[0])
+        return x, lam, definite
+    except Exception:  # noqa: BLE001 - the diagnosis is best effort; the model facts still speak
+        return None, None, definite
 
 
 def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception,
@@ -727,34 +763,13 @@ def explain_failure(asm, system, free: np.ndarray, solver: str, exc: Exception,
     (up to 300,000 unknowns): with a direct factorization of K itself after a failed iteration
     (whose success shows the matrix is positive definite), else of ``K + s I`` with
     ``s = 1e-10 ||K||_inf``, which makes a singular matrix factorizable. The model's own facts
-    (contrast, slenderness, integration rule) are used whatever its size.
+    (contrast, slenderness, integration rule, range of the numbers) are used whatever its size.
     """
-    from . import solvers
-
-    n = system.lower.shape[0]
     nrm = norm_inf(system.lower)
-    mode = lam = None
-    definite = False
-    if 0 < n <= 300_000 and nrm > 0 and np.isfinite(nrm):
-        method = "cholmod" if "cholmod" in solvers.available_solvers() else "superlu"
-        fac = None
-        if solver == "amg":
-            try:
-                fac = solvers.factorize(system.lower, method)
-                definite = True
-            except SolverError:
-                fac = None
-        try:
-            if fac is None:
-                L = sp.csc_matrix(system.lower) + sp.identity(n, format="csc") * (1e-10 * nrm)
-                fac = solvers.factorize(sp.tril(L, format="csc"), method)
-            x = probe_vector(n)
-            for _ in range(4):
-                x = np.asarray(fac.solve(x / np.abs(x).max()), dtype=float).reshape(n)
-            lam = float(_rayleigh(x[:, None], matvec(system.lower, x[:, None]))[0])
-            mode = x
-        except Exception:  # noqa: BLE001 - the diagnosis is best effort; the model facts still speak
-            mode = lam = None
+    mode, lam, definite = _soft_mode(system, nrm, shift=solver != "amg")
+    if definite and (mode is None or not lam or nrm / lam * EPS >= 1.0
+                     or mode_strain(asm, mode, free) < ZERO_STRAIN):
+        definite = False  # factorized, but only through round-off: singular to working precision
     text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, solver="" if definite else solver,
                     generic=not definite, loads=rhs)
     if definite:

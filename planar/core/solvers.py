@@ -329,8 +329,8 @@ class _AMG:
             x, tol = None, self.rtol
             for _ in range(4):  # CG stops on its own (preconditioned) residual: go on until the true one is met
                 try:
-                    with warnings.catch_warnings():  # an indefinite preconditioner ends in the error below
-                        warnings.simplefilter("ignore", UserWarning)
+                    # pyamg turns its CG warnings on itself; recorded here and dropped: they end in the error below
+                    with warnings.catch_warnings(record=True):
                         x = self._ml.solve(cols[:, j], x0=x, tol=tol, accel="cg", maxiter=self.maxiter,
                                            residuals=res, callback=stop_if_diverging)
                 except _Diverged:
@@ -356,8 +356,7 @@ class _AMG:
         For estimates that need only the direction of K^-1 b (inverse iteration), not its accuracy.
         """
         b = np.asarray(b, dtype=float).reshape(-1)
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", UserWarning)
+        with warnings.catch_warnings(record=True):
             return self._ml.solve(b, x0=x0, tol=rtol, accel="cg", maxiter=50)
 
 
