@@ -57,12 +57,14 @@ from ..core.errors import GeometryError, InputError, MeshError, ResourceError, f
 from ..core.mesh import Mesh
 from ..core.parallel import threads
 from ._build import _Built, _build
+from ._estimate import (CELL_AREA, GRADED_QUAD_AREA, MAX_ELEMENTS, MESH_BYTES_PER_ELEMENT, boundary_floor,
+                        estimate_elements, refinement_elements, refuse_beyond)
 from ._quadratic import curve_mid_points, curve_parameters, quadratic as _quadratic, side_keys, smooth, subdivide
 from ._session import _Session, _stage
 from .plate import Plate
 from .shapes import Shape
 
-__all__ = ["Refine", "mesh", "element_options"]
+__all__ = ["Refine", "mesh", "element_options", "estimate_elements"]
 
 #: gmsh element type number -> (layout name, nodes per cell) of the linear mesh gmsh makes
 _GMSH_CELLS = {2: ("T3", 3), 3: ("Q4", 4)}
@@ -206,7 +208,7 @@ def mesh(
     algorithm: str | None = None,
     circle_elements: int = 12,
     seed: int | None = None,
-    max_elements: int = 5_000_000,
+    max_elements: int = MAX_ELEMENTS,
     save_msh: str | os.PathLike | None = None,
     verbose: bool = False,
     fast: bool | None = None,
@@ -239,9 +241,12 @@ def mesh(
         (100 000; 0 turns it off).
     seed : int, optional
         Seed of gmsh's random numbers, 0 to 2**31 - 1; the same input and seed give the same mesh.
-    max_elements : int, default 5_000_000
+    max_elements : int, default ``MAX_ELEMENTS`` (5_000_000)
         Refuse a job whose estimated element count is larger (it would exhaust memory or time); a
-        whole number from 1 to 10**12.
+        whole number from 1 to 10**12. The estimate (:func:`estimate_elements`: the global size, every
+        refinement with its growth, and the size function) is made before any meshing, in about a
+        millisecond; a job whose meshing would need more than the memory available now
+        (``MESH_BYTES_PER_ELEMENT``, 2 kB per element) is refused too, whatever ``max_elements``.
     save_msh : path, optional
         Also write the mesh (gmsh format 4.1: the returned nodes and cells) with a physical group for
         every named edge, point and region (including ``"plate"``); :meth:`Mesh.read` reads it back
@@ -270,11 +275,13 @@ def mesh(
     NameNotFoundError
         A refinement names something the plate does not have (the message lists what exists).
     GeometryError
-        The geometry cannot be built or meshed, or its mesh has overlapping, inside-out or distorted
+        A refinement at a point outside the plate (or in a hole). The geometry cannot be built or
+        meshed, or its mesh has overlapping, inside-out or distorted
         cells or leaves out a named point, also after meshing smaller there (the message names the
         place).
     ResourceError
-        The estimated element count exceeds ``max_elements``.
+        The estimated element count exceeds ``max_elements`` or the memory at hand (the message
+        gives the estimate and the refinement that asks for the most).
 
     Examples
     --------
@@ -314,7 +321,8 @@ def mesh(
 
     if fast is not None and not isinstance(fast, bool):
         raise InputError(f"fast must be True, False or None (automatic), got {fast!r}")
-    plan = _Plan(h, quads, size_function, max_elements, fast)
+    _check_targets(plate, refine)
+    plan = _Plan(h, quads, size_function, max_elements, fast, plate, tuple(refine))
 
     with _Session(verbose) as s:
         g = s.gmsh
@@ -393,34 +401,86 @@ def mesh(
 
 @dataclass
 class _Plan:
-    """Element-count estimate, the fast way or not, and the pieces (asked for by ``_build``)."""
+    """Element-count estimate and refusal, the fast way or not, and the pieces (asked for by ``_build``)."""
 
     h: float | None
     quads: bool
     size_function: Callable | None
     max_elements: int
     fast: bool | None
+    plate: Plate | None = None
+    refine: Sequence[Refine] = ()
     quadtree: tuple | None = None
     estimate: float = 0.0
 
     def pieces(self, area: float, bbox: tuple[float, float, float, float]) -> tuple[int, float]:
-        cell_area = 1.0 if self.quads else math.sqrt(3) / 4
-        if self.h is not None:
-            est = area / (cell_area * self.h * self.h)
-            if est > self.max_elements:
-                raise ResourceError(
-                    f"a mesh of size {self.h:g} would have about {est:.3g} elements, more than "
-                    f"max_elements={self.max_elements}; use a larger size or raise max_elements"
-                )
+        cell_area = CELL_AREA["quads" if self.quads else "triangles"]
+        est = area / (cell_area * self.h * self.h) if self.h is not None else 0.0
+        extra = _refusal(self, area, est, cell_area)
         if self.size_function is not None:
-            self.quadtree = _size_quadtree_for(self.size_function, area, bbox, self.h, self.quads, self.max_elements)
-            est = max(self.quadtree[-1], est if self.h is not None else 0.0)
+            self.quadtree = _size_quadtree_for(self.size_function, area, bbox, self.h, self.quads,
+                                               max(self.max_elements - int(extra), 1))
+            refuse_beyond(self.quadtree[-1] + extra, self.max_elements, "the mesh of the size function",
+                          "use larger sizes")
+            est = max(self.quadtree[-1], est)
+        # the fast way and its pieces follow the global size (and size function) alone
         self.estimate = est
         kind = "quads" if self.quads else "triangles"
         if self.fast is None:
             self.fast = est > FAST_ABOVE[kind]
         n = math.ceil(est / PIECE_ELEMENTS[kind]) if self.fast else 1
         return n, math.sqrt(area / (cell_area * max(est, 1.0)))
+
+
+def _refusal(plan: _Plan, area: float, est: float, cell_area: float) -> float:
+    """Refuse a mesh whose estimated count (global size and refinements, see
+    :mod:`planar.geometry._estimate`) is beyond ``max_elements`` or the memory; the refinements' count."""
+    if not plan.refine:
+        extra = 0.0
+        total = est
+        parts = []
+    else:
+        H = plan.h if plan.h is not None else plan.plate._scale()
+        c = GRADED_QUAD_AREA if plan.quads else cell_area
+        parts = [refinement_elements(plan.plate, r, H, c) for r in plan.refine]
+        extra = float(sum(parts))
+        total = max(est + extra, boundary_floor(plan.plate, plan.refine, H, c, area))
+        extra = total - est
+    what = f"a mesh of size {plan.h:g}" if plan.h is not None else "a mesh"
+    if parts:
+        what += f" with {len(parts)} refinement{'s' if len(parts) > 1 else ''} (adding about {extra:.3g})"
+    fix = "use a larger size"
+    if parts and extra > est:
+        i = int(np.argmax(parts))
+        r = plan.refine[i]
+        fix = (f"give Refine({r.at!r}, size={r.size:g}) a larger size (it adds about {parts[i]:.3g} elements; "
+               "the count falls about in proportion to the size at an edge), a larger growth or a smaller within")
+    refuse_beyond(total, plan.max_elements, what, fix)
+    return extra
+
+
+def _check_targets(plate: Plate, refine: Sequence[Refine]) -> None:
+    """A refinement at a point outside the plate (or in a hole, or on the side a symmetry cut removes)
+    is a GeometryError naming the point and the plate's extent."""
+    tol = plate._tol()
+    for r in refine:
+        if not (isinstance(r.at, tuple) and len(r.at) == 2 and not isinstance(r.at[0], str)):
+            continue
+        p = np.array([r.at], float)
+        if plate._sdf(p)[0] <= tol:
+            continue
+        x0, y0, x1, y1 = plate._bbox()
+        if plate._sdf(p, holes=False, symmetry=False)[0] > tol:
+            where = "outside the plate"
+        elif plate._sdf(p, symmetry=False)[0] > tol:
+            where = "in a hole or cut-out of the plate"
+        else:
+            where = "on the side of the plate that the symmetry cut removes"
+        raise GeometryError(
+            f"Refine at {fmt_point(r.at)} (size {r.size:g}) is {where}, not on the part; the plate "
+            f"spans x {x0:g} to {x1:g}, y {y0:g} to {y1:g}. Give a point inside the plate or on its edge; to "
+            "refine along a hole or an edge, name it (e.g. Refine('bolt_hole', size=...))"
+        )
 
 
 # -------------------------------------------------------------------------------------- size fields
