@@ -180,6 +180,11 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
             "the model has no supports, so it can move freely: add at least Fixed(edge), or rollers "
             "that hold translation x, translation y and rotation"
         )
+    # memory first: refuse what cannot fit before Assembly's element checks (minutes for 10^7 unknowns);
+    # the matrix entries from the cell blocks' widths, the unknowns at most two per node
+    blocks0 = model.mesh.cells.values()
+    choose(2 * model.mesh.n_nodes, solver,
+           matrix_entries=sum(c.shape[0] * (2 * c.shape[1]) * (2 * c.shape[1] + 1) // 2 for c in blocks0))
     asm = Assembly(model, distortion_limit=distortion_limit)
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
