@@ -207,6 +207,20 @@ def test_modulus_in_pa_in_an_mpa_model_warns(E):
     assert f"{E:.4g}" in ws[0].message and "MPa" in ws[0].message
 
 
+@pytest.mark.parametrize("E", [70e9, 210e9])
+def test_modulus_in_pa_with_lengths_in_mm_and_no_declared_units_warns(E):
+    # 100 mm strap, E in Pa, 5 MPa end shear: strains about 1e-8, a million times too small
+    model = _cantilever("Q8", 10, 2, 100.0, 20.0, E=E, tip=-5.0, units="consistent units")
+    r, ws = _solve_warned(model, "units")
+    assert "looks given in Pa" in ws[0].message and "microstrain" in ws[0].message
+
+
+def test_si_model_in_metres_is_quiet():
+    # a 0.1 m strap, E = 70e9 Pa, 5e6 Pa end shear: strains of 1e-4 (N, m, Pa used consistently)
+    _solve_quiet(_cantilever("Q8", 10, 2, 0.1, 0.02, E=70e9, tip=-5e6, units="consistent units"))
+    _solve_quiet(_cantilever("Q8", 10, 2, 0.1, 0.02, E=70e9, tip=-5e6, units="N, m, Pa"))
+
+
 @pytest.mark.parametrize("E,load", [(70.0, -50.0), (0.07, -0.5), (70e3, -50e6)])
 def test_answers_only_mixed_units_explain_warn(E, load):
     # E in GPa with MPa loads, E in kN/mm2-like numbers, or loads in Pa with E in MPa: strains of

@@ -17,9 +17,10 @@ Codes
     A slender part (length / depth > 5) in bending, meshed with too few linear elements through its
     depth: fewer than 6 T3, 4 Q4 (full rule), or 2 elements free of shear locking.
 ``"units"``
-    Displacements above 5 % of the part's size, mechanical strains above 2e-2 in one cell in a hundred, or a modulus beyond
-    any solid in the declared units: small-displacement elasticity does not hold, the typical cause
-    being mixed units.
+    Displacements above 5 % of the part's size, mechanical strains above 2e-2 in one cell in a
+    hundred, a modulus beyond any solid in the declared units, or (units not declared) a modulus of
+    1e9 or more on a part 10 or more long that strains less than 1e-6 anywhere: the typical cause is
+    mixed units (E in Pa with lengths in mm, E in GPa with stresses in MPa).
 ``"contrast"``
     Neighbouring regions whose membrane stiffness E t differs by more than 1e6.
 
@@ -38,8 +39,9 @@ import numpy as np
 from .assembly import CHUNK, element_strains
 from .errors import DiscretisationWarning, PlanarWarning, fmt_point
 
-__all__ = ["advise", "free_of_locking", "LOCKING_RATIO", "SLENDER_RATIO", "MIN_THROUGH_DEPTH",
-           "DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "CONTRAST_LIMIT", "MODULUS_LIMIT"]
+__all__ = ["advise", "free_of_locking", "bulk_shear_ratio", "LOCKING_RATIO", "SLENDER_RATIO",
+           "MIN_THROUGH_DEPTH", "DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "TINY_STRAIN", "CONTRAST_LIMIT",
+           "MODULUS_LIMIT"]
 
 #: bulk-to-shear ratio (v.Dv / w.Dw with v = (1, 1, 0), w = (1, -1, 0); 1 / (1 - 2 nu) for an
 #: isotropic plane-strain material) at and above which linear elements lock: nu >= 0.48. Measured
@@ -70,6 +72,10 @@ STRAIN_LIMIT = 2e-2
 #: region then takes less than a millionth of the strain energy it would in a balanced model and the
 #: stiff one is practically rigid; the solve's own conditioning check refuses far larger contrasts
 CONTRAST_LIMIT = 1e6
+#: a largest strain below one microstrain (the resolution of a strain gauge; common practice) with a
+#: modulus of 1e9 or more and a part 10 or more long, in a model without declared units, looks like
+#: E in Pa with lengths in mm
+TINY_STRAIN = 1e-6
 #: largest Young's modulus of any solid (diamond, about 1.05e6 MPa; from memory) with margin, per
 #: declared stress unit
 MODULUS_LIMIT = {"MPa": 1.2e6, "N/mm2": 1.2e6, "N/mm^2": 1.2e6, "GPa": 1.2e3, "kPa": 1.2e9, "Pa": 1.2e12,
@@ -288,42 +294,31 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
         ok = _grow(ok, conns)
     thin = [~_touches(ok, c) for c in conns]
     out = []
-    zones = _zones(nodes, conns, area, thin, bl)
+    edges = None
+    tree = None
+    if any(t.any() for t in thin):  # boundary points only: a small tree, built only when needed
+        edges = _boundary_edges(nodes, conns, bnd)
+        tree = _boundary_tree(nodes, edges)
+    zones = _zones(nodes, conns, area, thin, tree)
     # the whole region, for elongated cells that leave enough layers but too few element sizes
     whole = [np.ones(c.shape[0], dtype=bool) for c in conns]
     thin_area = sum(float(a[t].sum()) for a, t in zip(area, thin))
     total_area = sum(float(a.sum()) for a in area)
     prone = [k for (b, k) in bl if k > MIN_THROUGH_DEPTH["shear-free"]]
     if prone and thin_area < 0.5 * total_area:  # else the thin zones are the region and speak for it
-        # perimeter from the edges between boundary nodes that one cell only uses
-        n64 = np.int64(n)
-        keys, lens = [], []
-        for c in conns:
-            m = c.shape[1]
-            for j in range(m):
-                i, k = c[:, j], c[:, (j + 1) % m]
-                sel = np.flatnonzero(bnd[i] & bnd[k])
-                i, k = i[sel].astype(np.int64), k[sel].astype(np.int64)
-                keys.append(np.minimum(i, k) * n64 + np.maximum(i, k))
-                lens.append(np.hypot(*(nodes[i] - nodes[k]).T))
-        key = np.concatenate(keys); le = np.concatenate(lens)
-        order = np.argsort(key, kind="stable"); ks = key[order]
-        single = np.ones(ks.size, dtype=bool)
-        dup = ks[1:] == ks[:-1]
-        single[1:] &= ~dup
-        single[:-1] &= ~dup
-        P = float(le[order][single].sum())
+        edges = edges if edges is not None else _boundary_edges(nodes, conns, bnd)
+        P = float(np.hypot(*(nodes[edges[0]] - nodes[edges[1]]).T).sum())
         h = 0.5 * (0.5 * P - np.sqrt(max(P * P / 4.0 - 4.0 * total_area, 0.0)))
         L = total_area / max(h, 1e-300)
         cells = sum(c.shape[0] for c in conns)
         side = np.sqrt(sum(float(a.sum()) * (2.0 if c.shape[1] == 3 else 1.0) for a, c in zip(area, conns)) / cells)
         if L > SLENDER_RATIO * h and h < max(prone) * side:  # elongated cells lock in shear
-            reg = _zone_shape(nodes, conns, area, whole, [np.zeros(c.shape[0], np.int64) for c in conns], 1, bnd)
-            if reg is not None:
+            tree = tree if tree is not None else _boundary_tree(nodes, edges)
+            reg = _zone_shape(nodes, conns, area, whole, [np.zeros(c.shape[0], np.int64) for c in conns], 1, tree)
+            if reg is not None and reg[1][0] < max(prone) * reg[3][0]:
                 zones.append(([np.zeros(c.shape[0], np.int64) for c in conns], reg, whole))
     for labels, shape, member in zones:
-        A, P, h, L, s, cx, cy = shape
-        nz = A.size
+        A, h, L, s, cx, cy = shape[:6]
         slender = (L > SLENDER_RATIO * h)
         if not np.any(slender):
             continue
@@ -351,6 +346,40 @@ _WHY = {6: "a constant-strain T3 makes the linear bending stress a staircase, wo
         2: "with one element through the depth no bending stress is left to recover at the faces"}
 
 
+def _boundary_edges(nodes, conns, bnd) -> tuple[np.ndarray, np.ndarray]:
+    """Boundary edges (start nodes, end nodes) of a region: edges between boundary nodes that one
+    of its cells only uses (only those are sorted: work in proportion to the boundary)."""
+    n64 = np.int64(nodes.shape[0])
+    a_l, b_l = [], []
+    for c in conns:
+        m = c.shape[1]
+        for j in range(m):
+            i, k = c[:, j], c[:, (j + 1) % m]
+            sel = np.flatnonzero(bnd[i] & bnd[k])
+            a_l.append(i[sel].astype(np.int64)); b_l.append(k[sel].astype(np.int64))
+    a = np.concatenate(a_l); b = np.concatenate(b_l)
+    key = np.minimum(a, b) * n64 + np.maximum(a, b)
+    order = np.argsort(key, kind="stable")
+    ks = key[order]
+    single = np.ones(ks.size, dtype=bool)
+    dup = ks[1:] == ks[:-1]
+    single[1:] &= ~dup
+    single[:-1] &= ~dup
+    keep = order[single]
+    return a[keep], b[keep]
+
+
+def _boundary_tree(nodes, edges, per_edge: int = 8):
+    """A k-d tree of points along the boundary edges (``per_edge`` per edge): distances to it are
+    distances to the boundary within 1/16 of an edge's length, even for elongated cells."""
+    from scipy.spatial import cKDTree
+
+    p, q = nodes[edges[0]], nodes[edges[1]]
+    t = np.arange(per_edge) / per_edge
+    pts = (p[:, None, :] + t[None, :, None] * (q - p)[:, None, :]).reshape(-1, 2)
+    return cKDTree(pts if pts.size else np.zeros((1, 2)) + np.inf)
+
+
 def _touches(mask: np.ndarray, c: np.ndarray) -> np.ndarray:
     """Cells (rows of ``c``) with a node in ``mask``."""
     hit = mask[c[:, 0]]
@@ -370,7 +399,7 @@ def _grow(mask: np.ndarray, conns) -> np.ndarray:
     return out
 
 
-def _zones(nodes, conns, area, thin, bl):
+def _zones(nodes, conns, area, thin, tree):
     """Connected zones of thin cells with their shape; [(labels per block, shape, member per block)]."""
     if not any(t.any() for t in thin):
         return []
@@ -391,19 +420,24 @@ def _zones(nodes, conns, area, thin, bl):
     remap = np.full(lab.max() + 1, -1, np.int64)
     remap[present] = np.arange(present.size)
     labels = [np.where(l >= 0, remap[np.maximum(l, 0)], -1) for l in labels]
-    shape = _zone_shape(nodes, conns, area, thin, labels, present.size, None)
-    return [(labels, shape, thin)]
+    shape = _zone_shape(nodes, conns, area, thin, labels, present.size, tree)
+    return [(labels, shape, thin)] if shape is not None else []
 
 
-def _zone_shape(nodes, conns, area, member, labels, nz, bnd):
-    """Area, perimeter, depth, length, mean element side and centre of each zone.
+def _zone_shape(nodes, conns, area, member, labels, nz, tree):
+    """Shape of each zone of cells: area, depth, length, mean element side, centre and axis.
 
-    Depth and length from the rectangle of the same area A and perimeter P (h + L = P / 2,
-    h L = A); the perimeter counts the zone's edges used by one of its cells only.
+    Returns ``(A, h, L, s, cx, cy, tx, ty, h_cov)``: h is twice the largest distance from a cell
+    centre or node of the zone to the region's boundary nodes (``tree``; the depth of a strip, or of
+    a ligament); L the smaller of A / h (the length of a strip, straight or curved) and
+    sqrt(12 lambda_max / A) (the extent along the zone's principal axis (tx, ty), from the second
+    moments of its cells: a compact or perforated zone is not taken as long); s the side of a
+    square of the mean cell area (of two triangles); h_cov = sqrt(12 lambda_min / A), the spread
+    across the axis (far above h for a curved zone).
     """
-    A = np.zeros(nz); cnt = np.zeros(nz); side2 = np.zeros(nz); mx = np.zeros(nz); my = np.zeros(nz)
-    keys, lens, owner = [], [], []
-    n = np.int64(nodes.shape[0])
+    A = np.zeros(nz); cnt = np.zeros(nz); side2 = np.zeros(nz); dmax = np.zeros(nz)
+    m1 = np.zeros((2, nz)); m2 = np.zeros((3, nz))
+    ref = nodes[conns[0][0, 0]] if conns and conns[0].size else np.zeros(2)
     for c, a, m, lab in zip(conns, area, member, labels):
         if not m.any():
             continue
@@ -412,34 +446,26 @@ def _zone_shape(nodes, conns, area, member, labels, nz, bnd):
         cnt += np.bincount(lm, minlength=nz)
         side2 += np.bincount(lm, am * (2.0 if c.shape[1] == 3 else 1.0), minlength=nz)
         cen = nodes[cm].mean(axis=1)
-        mx += np.bincount(lm, am * cen[:, 0], minlength=nz)
-        my += np.bincount(lm, am * cen[:, 1], minlength=nz)
-        i = cm.astype(np.int64); j = np.roll(i, -1, axis=1)
-        k = np.minimum(i, j) * n + np.maximum(i, j)
-        if bnd is not None:  # only edges between boundary nodes can be boundary edges
-            sel = bnd[i] & bnd[j]
-        else:
-            sel = np.ones(k.shape, dtype=bool)
-        keys.append(k[sel]); owner.append(np.broadcast_to(lm[:, None], k.shape)[sel])
-        lens.append(np.linalg.norm(nodes[i[sel]] - nodes[j[sel]], axis=-1))
-    if not keys or cnt.sum() == 0:
+        d, _ = tree.query(cen)  # a centre sees the middle of an odd number of layers,
+        dn, _ = tree.query(nodes[cm].reshape(-1, 2))  # a node the middle of an even number
+        np.maximum.at(dmax, lm, np.maximum(d, dn.reshape(cm.shape).max(axis=1)))
+        x, y = cen[:, 0] - ref[0], cen[:, 1] - ref[1]
+        m1[0] += np.bincount(lm, am * x, minlength=nz); m1[1] += np.bincount(lm, am * y, minlength=nz)
+        m2[0] += np.bincount(lm, am * x * x, minlength=nz)
+        m2[1] += np.bincount(lm, am * y * y, minlength=nz)
+        m2[2] += np.bincount(lm, am * x * y, minlength=nz)
+    if cnt.sum() == 0:
         return None
-    k = np.concatenate(keys); o = np.concatenate(owner); le = np.concatenate(lens)
-    order = np.argsort(k, kind="stable")
-    ks = k[order]
-    single = np.ones(ks.size, dtype=bool)
-    dup = ks[1:] == ks[:-1]
-    single[1:] &= ~dup
-    single[:-1] &= ~dup
-    P = np.bincount(o[order][single], le[order][single], minlength=nz)
-    half = 0.5 * P
-    h = 0.5 * (half - np.sqrt(np.maximum(half * half - 4.0 * A, 0.0)))
-    h = np.maximum(h, 1e-300)
-    L = A / h
+    Ap = np.maximum(A, 1e-300)
+    mx, my = m1[0] / Ap, m1[1] / Ap
+    Sxx = m2[0] - Ap * mx * mx; Syy = m2[1] - Ap * my * my; Sxy = m2[2] - Ap * mx * my
+    th = 0.5 * np.arctan2(2 * Sxy, Sxx - Syy)
+    rad = np.hypot((Sxx - Syy) / 2, Sxy)
+    lmax = np.maximum((Sxx + Syy) / 2 + rad, 0.0); lmin = np.maximum((Sxx + Syy) / 2 - rad, 0.0)
+    h = np.maximum(2.0 * dmax, 1e-300)
+    L = np.minimum(A / h, np.sqrt(12.0 * lmax / Ap))
     s = np.sqrt(side2 / np.maximum(cnt, 1))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        cx, cy = mx / A, my / A
-    return A, P, h, L, s, cx, cy
+    return A, h, L, s, mx + ref[0], my + ref[1], np.cos(th), np.sin(th), np.sqrt(12.0 * lmin / Ap)
 
 
 def _bending(asm, res, bl, conns, labels, member, shape, slender) -> list[np.ndarray]:
@@ -452,27 +478,9 @@ def _bending(asm, res, bl, conns, labels, member, shape, slender) -> list[np.nda
     curved zone (its cells' spread across t over twice its depth) uses the sign test instead:
     tension and compression side by side, each above 10 % of the zone's largest strain.
     """
-    A, P, h, L, s, cx, cy = shape
+    A, h, L, s, cx, cy, tx, ty, h_cov = shape
     nz = A.size
     nodes = asm.mesh.nodes
-    # second moments of the zone for its axis
-    Sxx = np.zeros(nz); Syy = np.zeros(nz); Sxy = np.zeros(nz)
-    for c, m, lab in zip(conns, member, labels):
-        sel = m & (lab >= 0)
-        if not sel.any():
-            continue
-        l = lab[sel]
-        a = _areas(nodes[c[sel]])
-        cen = nodes[c[sel]].mean(axis=1)
-        dx, dy = cen[:, 0] - cx[l], cen[:, 1] - cy[l]
-        Sxx += np.bincount(l, a * dx * dx, minlength=nz)
-        Syy += np.bincount(l, a * dy * dy, minlength=nz)
-        Sxy += np.bincount(l, a * dx * dy, minlength=nz)
-    th = 0.5 * np.arctan2(2 * Sxy, Sxx - Syy)
-    tx, ty = np.cos(th), np.sin(th)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        minor = (Sxx + Syy) / 2 - np.hypot((Sxx - Syy) / 2, Sxy)
-        h_cov = np.sqrt(12 * np.maximum(minor, 0) / np.maximum(A, 1e-300))
     curved = h_cov > 2 * h
     nb = np.clip(np.round(L / h), 1, 64).astype(np.int64)
     off = np.concatenate([[0], np.cumsum(nb)])
@@ -622,6 +630,7 @@ def _units(asm, res) -> list[tuple[str, str, list]]:
                             f"is about {lim / 1.15:.3g} {unit}); it looks given in other units (e.g. E in Pa in an "
                             f"N, mm, MPa model), which makes every displacement and strain far too small; give "
                             f"E in {unit} (aluminium about 70e3 MPa, steel about 210e3 MPa)", res))
+    small = []
     big_u, big_e = [], []
     for r in res:
         disp2 = np.einsum("ij,ij->i", r.u, r.u)
@@ -632,6 +641,19 @@ def _units(asm, res) -> list[tuple[str, str, list]]:
         r._advice_strain = e
         if q > STRAIN_LIMIT:
             big_e.append((r, q, e, where))
+        if 0 < e < TINY_STRAIN:
+            small.append((r, e))
+    if unit is None and small and size >= 10.0:  # no declared units: lengths of 10 and more look like mm
+        moduli = [float(getattr(b.material, "E", 0.0) or 0.0) for b in asm.blocks]
+        E = max(moduli, default=0.0)
+        if E >= 1e9 and len(small) == len(res):
+            r, e = max(small, key=lambda t: t[1])
+            out.append(("units",
+                        f"units: E = {E:.4g} looks given in Pa while the part, {size:.4g} long, looks measured in "
+                        f"mm, and the largest strain is only {e:.2g} (load case {r.case!r}), below one microstrain, "
+                        "the resolution of a strain gauge; with lengths in mm give E in MPa (aluminium about "
+                        "70e3, steel about 210e3) and loads in N, or use N, m, Pa throughout (and say so with "
+                        "units='N, mm, MPa' on the Model)", res))
     if big_u:
         r, d, p = max(big_u, key=lambda t: t[1])
         names = ", ".join(repr(x[0].case) for x in big_u)
