@@ -263,11 +263,17 @@ def test_collinear_toggle_is_refused_and_a_bent_one_is_not():
 
 
 def test_four_bar_linkage_turns():
-    # three free bodies between two fixed ones: M = 9 - 8 = 1 (Gruebler), a four-bar linkage
-    parts = [rect(0, 0, 1, 1), rect(1, 1, 1, 1), rect(2, 0, 1, 1), rect(3, 1, 1, 1), rect(4, 0, 1, 1)]
+    # three free bodies between two fixed ones, pins (1,1), (2,2), (3,2), (4,1) not collinear:
+    # M = 3 x 3 - 2 x 4 = 1 (Gruebler), a four-bar linkage with one motion
+    parts = [rect(0, 0, 1, 1), rect(1, 1, 1, 1), rect(2, 2, 1, 1), rect(3, 1, 1, 1), rect(4, 0, 1, 1)]
     mesh = join(parts)
-    with pytest.raises(SupportError, match=r"turn relative to each other|can rotate"):
+    with pytest.raises(SupportError, match=r"turn relative to each other|can rotate") as exc:
         check(mesh, [planar.Fixed("p0_left"), planar.Fixed("p4_right")])
+    assert "independent motions" not in str(exc.value)
+    # with all four pins on one line the count is exceeded: two motions to first order
+    parts = [rect(0, 0, 1, 1), rect(1, 1, 1, 1), rect(2, 0, 1, 1), rect(3, 1, 1, 1), rect(4, 0, 1, 1)]
+    with pytest.raises(SupportError, match=r"\(2 independent motions in all\)"):
+        check(join(parts), [planar.Fixed("p0_left"), planar.Fixed("p4_right")])
 
 
 def star(n: int, gap: float = 0.2) -> tuple[Mesh, list[str]]:
@@ -287,7 +293,8 @@ def star(n: int, gap: float = 0.2) -> tuple[Mesh, list[str]]:
 @pytest.mark.parametrize("n", [3, 5, 8])
 def test_star_of_wedges_turns_about_the_centre(n):
     mesh, tips = star(n)
-    with pytest.raises(SupportError, match=r"rotate about node 0 at \(0, 0\)"):
+    with pytest.raises(SupportError, match=rf"hinges at node\(s\) 0\).*rotate about node 0 at \(0, 0\)"
+                                           rf".*\({n - 1} independent motions in all\)"):
         check(mesh, [planar.Fixed("w0")])
     # a roller across the radius at every other tip holds them all: no mechanism, a hinge warning
     sup = [planar.Fixed("w0")]

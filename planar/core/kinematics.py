@@ -308,7 +308,7 @@ def rigid_body_check(mesh, cons, *, sink: list | None = None) -> None:
         G = sp.coo_matrix((np.ones(pins[0].size, np.int8), (pins[1], pins[2])), shape=(nb, nb))
         ng, group = connected_components(G, directed=False)
         group = group.astype(np.int64)
-    stats = _body_stats(mesh.nodes, node_body, nb)
+    stats = _body_stats(mesh.nodes, jkey % nb, jkey // nb, nb)
     keep = (rows.node >= 0) & (rows.node < n)
     rnode = rows.node[keep]
     rbody = node_body[rnode]
@@ -380,10 +380,9 @@ class _Stats:
         return np.maximum(np.max(self.hi - self.lo, axis=1), 1e-300)
 
 
-def _body_stats(xy: np.ndarray, node_body: np.ndarray, nb: int) -> _Stats:
-    sel = np.flatnonzero(node_body >= 0)
-    b = node_body[sel]
-    p = xy[sel]
+def _body_stats(xy: np.ndarray, b: np.ndarray, nodes: np.ndarray, nb: int) -> _Stats:
+    """Mean, bounding box and node count of each body from its (body, node) incidences."""
+    p = xy[nodes]
     cnt = np.bincount(b, minlength=nb).astype(float)
     c = np.column_stack([np.bincount(b, p[:, 0], nb), np.bincount(b, p[:, 1], nb)]) / np.maximum(cnt, 1)[:, None]
     from scipy import ndimage
@@ -620,8 +619,10 @@ def _hinged_leaves(xy, bodies, loc, cb, Lb, rnode, rdir, rbody, pins) -> str:
         return ""
     words = [f"the piece near {fmt_point(cb[loc[b]])} can rotate about node {int(hinge[b])} at "
              f"{fmt_point(xy[hinge[b]])}" for b in free[:5]]
+    nodes = sorted(set(int(h) for h in hinge[free]))
     return (f"pieces of the mesh are joined only through single nodes (hinges at node(s) "
-            f"{', '.join(str(int(hinge[b])) for b in free[:10])}) and the supports do not stop them turning: "
+            f"{', '.join(map(str, nodes[:10]))}{' ...' if len(nodes) > 10 else ''}) and the supports do not "
+            "stop them turning: "
             f"{'; '.join(words)}; join the pieces along a shared edge, or add a support on the turning piece "
             "that stops this rotation")
 
