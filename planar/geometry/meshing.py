@@ -57,8 +57,7 @@ from ..core.errors import GeometryError, InputError, MeshError, ResourceError, f
 from ..core.mesh import Mesh
 from ..core.parallel import threads
 from ._build import _Built, _build
-from ._estimate import (CELL_AREA, GRADED_QUAD_AREA, MAX_ELEMENTS, MESH_BYTES_PER_ELEMENT, boundary_floor,
-                        estimate_elements, refinement_elements, refuse_beyond)
+from ._estimate import CELL_AREA, MAX_ELEMENTS, MESH_BYTES_PER_ELEMENT, estimate as _estimate, estimate_elements, refuse_beyond
 from ._quadratic import curve_mid_points, curve_parameters, quadratic as _quadratic, side_keys, smooth, subdivide
 from ._session import _Session, _stage
 from .plate import Plate
@@ -322,7 +321,7 @@ def mesh(
     if fast is not None and not isinstance(fast, bool):
         raise InputError(f"fast must be True, False or None (automatic), got {fast!r}")
     _check_targets(plate, refine)
-    plan = _Plan(h, quads, size_function, max_elements, fast, plate, tuple(refine))
+    plan = _Plan(h, quads, size_function, max_elements, fast, plate, tuple(refine), circle_elements)
 
     with _Session(verbose) as s:
         g = s.gmsh
@@ -410,6 +409,7 @@ class _Plan:
     fast: bool | None
     plate: Plate | None = None
     refine: Sequence[Refine] = ()
+    circle_elements: int = 12
     quadtree: tuple | None = None
     estimate: float = 0.0
 
@@ -433,28 +433,24 @@ class _Plan:
 
 
 def _refusal(plan: _Plan, area: float, est: float, cell_area: float) -> float:
-    """Refuse a mesh whose estimated count (global size and refinements, see
-    :mod:`planar.geometry._estimate`) is beyond ``max_elements`` or the memory; the refinements' count."""
-    if not plan.refine:
-        extra = 0.0
-        total = est
-        parts = []
-    else:
-        H = plan.h if plan.h is not None else plan.plate._scale()
-        c = GRADED_QUAD_AREA if plan.quads else cell_area
-        parts = [refinement_elements(plan.plate, r, H, c) for r in plan.refine]
-        extra = float(sum(parts))
-        total = max(est + extra, boundary_floor(plan.plate, plan.refine, H, c, area))
-        extra = total - est
+    """Refuse a mesh whose estimated count (global size, refinements and curved edges, see
+    :mod:`planar.geometry._estimate`) is beyond ``max_elements`` or the memory; the count beyond ``est``."""
+    total, parts = _estimate(plan.plate, plan.h, plan.refine, quads=plan.quads, area=area,
+                             circle_elements=plan.circle_elements)
+    total = max(total, est)
+    extra = total - est
     what = f"a mesh of size {plan.h:g}" if plan.h is not None else "a mesh"
     if parts:
         what += f" with {len(parts)} refinement{'s' if len(parts) > 1 else ''} (adding about {extra:.3g})"
     fix = "use a larger size"
-    if parts and extra > est:
+    if parts and extra > est and max(parts) >= 0.5 * extra:
         i = int(np.argmax(parts))
         r = plan.refine[i]
         fix = (f"give Refine({r.at!r}, size={r.size:g}) a larger size (it adds about {parts[i]:.3g} elements; "
                "the count falls about in proportion to the size at an edge), a larger growth or a smaller within")
+    elif extra > est:
+        fix = (f"use a smaller circle_elements (now {plan.circle_elements}; a circular edge of radius R gets "
+               "sides of 2 pi R / circle_elements) or larger sizes")
     refuse_beyond(total, plan.max_elements, what, fix)
     return extra
 
