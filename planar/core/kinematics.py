@@ -45,7 +45,7 @@ ZERO_ENERGY_CHOICES = ("refuse", "warn", "stabilise")
 #: Jacobian down to 1e-4; see tests/test_trust_kinematics.py). 1e-11 sits more than three decades
 #: clear of both. One exception: T6 under its own 3-point rule has exactly as many strain samples as
 #: deformation modes (9), and some curved shapes come close to losing one (1.5e-10 measured); full
-#: rules of the built-in elements are checked on one element per block and a custom rule equal to
+#: rules of the built-in elements are checked on the reference element and a custom rule equal to
 #: the full one counts as full, so those shapes are never judged.
 ZERO_TOL = 1e-11
 
@@ -55,8 +55,8 @@ ZERO_TOL = 1e-11
 #: with orthogonal hourglass control, Int. J. Numer. Methods Eng. 17, 1981; values from memory).
 STABILISATION = 0.1
 
-#: element types whose rank under their full rule is a property of the formulation (checked on one
-#: element per block)
+#: element types whose rank under their full (or selective) rule is a property of the formulation
+#: (checked once per block, on the reference element)
 BUILTIN_ELEMENTS = ("T3", "T6", "Q4", "Q8", "Q9")
 
 #: element blocks larger than this are checked on a sample of this many elements (half the worst
@@ -827,8 +827,10 @@ def _block_modes(block, nodes: np.ndarray):
     """(cells with spurious modes (positions in the block), modes each, negative modes, how checked)."""
     bound = _rank_bound(block)
     k2 = 2 * block.etype.n_nodes
+    ref = dataclasses.replace(block, conn=np.arange(block.etype.n_nodes)[None], cells=np.arange(1), _geo={})
+    ref_nodes = np.asarray(block.etype.ref_nodes, dtype=float)
     if bound is not None and k2 - bound > 3:  # proven for every element: rank <= 3 per point
-        z, neg = zero_energy_modes(block, nodes, np.arange(1))
+        z, neg = zero_energy_modes(ref, ref_nodes)  # the exact count, on the reference element
         how = (f"every element has them: the rule samples at most {bound} independent strains (three per "
                f"point{'; two of them at the full and one at the reduced points' if block.rule_mode == 'selective' else ''}), "
                f"fewer than the element's {k2 - 3} ways to deform")
@@ -838,9 +840,13 @@ def _block_modes(block, nodes: np.ndarray):
         block.rule_mode == "custom" and block.rule.n_points == full.n_points
         and np.allclose(block.rule.points, full.points) and np.allclose(block.rule.weights, full.weights))
     if _is_builtin(block.etype) and (as_full or block.rule_mode == "selective"):
-        idx, how = np.arange(min(block.n, 1)), "one element (the rank is a property of the element and rule)"
-    else:
-        idx, how = _sample(block, nodes)
+        # the rank is a property of the element and rule: the reference element (every valid shape has
+        # the same count; the Jacobian checks refuse degenerate ones)
+        z, neg = zero_energy_modes(ref, ref_nodes)
+        if z[0] > 3 or neg[0] > 0:
+            return np.arange(block.n), int(z[0]) - 3, int(neg[0]), "the reference element (the rule has them on every element)"
+        return np.zeros(0, np.int64), 0, 0, "the reference element"
+    idx, how = _sample(block, nodes)
     z, neg = zero_energy_modes(block, nodes, idx)
     bad = (z > 3) | (neg > 0)
     if not np.any(bad):
@@ -857,8 +863,8 @@ def zero_energy_check(asm, *, sink: list | None = None) -> None:
     the spurious modes only (see :func:`stabilised_element`) and checks that none is left.
 
     Which elements are checked: built-in elements (T3, T6, Q4, Q8, Q9) under their full or the
-    selective rule, one element per block (their rank is a property of element and rule, and
-    degenerate shapes are refused by the Jacobian checks); a standard formulation whose rule has
+    selective rule, on the reference element once per block (their rank is a property of element and
+    rule, and degenerate shapes are refused by the Jacobian checks); a standard formulation whose rule has
     fewer than (2k - 3) / 3 points is rank deficient on every element by counting (rank <= 3 per
     point), no eigenvalues needed; other reduced or custom rules and plugin elements, every element
     of blocks up to :data:`SAMPLE` cells, else a sample of that size (the worst shaped half and an
