@@ -156,7 +156,8 @@ def test_bow_tie_hinge_is_a_named_mechanism(el):
 @pytest.mark.parametrize("fixed, moves", [("x", False), ("y", False), ((1.0, -1.0), False), ((1.0, 1.0), True),
                                           ((2.0, 2.0), True)])
 def test_roller_on_the_hinged_piece_stops_it_only_across_the_radius(fixed, moves):
-    # a roller at (2, 2) holds the turn about (1, 1) unless it holds only the radial direction (1, 1)
+    # a roller at (2, 2) holds the turn about (1, 1) unless it holds only the radial direction (1, 1): a
+    # rotation about (1, 1) moves (2, 2) along (-1, 1) (plane rigid-body kinematics, common practice)
     mesh = bow_tie()
     sup = [planar.Fixed("p0_left"), planar.Roller("p1_corner_11", fixed=fixed)]
     if moves:
@@ -170,12 +171,15 @@ def test_roller_on_the_hinged_piece_stops_it_only_across_the_radius(fixed, moves
 
 
 def test_support_at_the_hinge_itself_stops_nothing():
+    # a support at the centre of rotation has no moment arm about it (common practice)
     mesh = bow_tie("T3")
     with pytest.raises(SupportError, match="rotate about node"):
         check(mesh, [planar.Fixed("p0_left"), planar.Fixed("p1_corner_00")])
 
 
 def test_held_hinge_solves_and_keeps_the_warning_in_every_result():
+    # held on both sides the linkage has M = 3 - 2 - 1 = 0 (Gruebler, Uicker et al. 2011): it solves, with
+    # reactions that balance the loads, and the point joint is named in every result
     mesh = bow_tie("Q8")
     model = planar.Model(mesh, MAT)
     model.add_support(planar.Fixed("p0_left"))
@@ -325,7 +329,8 @@ def test_random_strips_joined_at_a_corner(seed):
 
 
 def test_pieces_joined_at_two_nodes_are_rigid_and_not_hinges():
-    # a bracket touching the square at (1, 0) and (1, 1) without sharing an edge with it
+    # a bracket touching the square at (1, 0) and (1, 1) without sharing an edge with it: two distinct
+    # fixed points fix a plane rigid body (common practice), so no mechanism and no single-node joint
     sq = rect(0, 0, 1, 1, "Q4", 1, 1)
     block = rect(2, -0.5, 1, 2, "Q4", 1, 4)
     tri = Mesh(np.array([[1, 1], [2, 1], [2, 1.5], [1, 0], [2, -0.5], [2, 0]], float),
@@ -350,6 +355,7 @@ def test_triangle_of_pinned_pieces_is_rigid():
 
 
 def test_many_separate_pieces_each_held_get_no_word():
+    # each clamped piece is held on its own (common practice); leaving one out leaves that one free
     parts = [rect(3 * i, 0, 1, 1, "T6", 2, 1) for i in range(40)]
     mesh = join(parts)
     with warnings.catch_warnings():
@@ -360,6 +366,7 @@ def test_many_separate_pieces_each_held_get_no_word():
 
 
 def test_separate_piece_and_a_mechanism_are_both_named():
+    # a free body far away (3 free motions) and a hinged one (M = 1, Gruebler): both named
     mesh = join([rect(0, 0, 1, 1), rect(1, 1, 1, 1), rect(5, 0, 1, 1)])
     with pytest.raises(SupportError) as exc:
         check(mesh, [planar.Fixed("p0_left")])
@@ -390,6 +397,7 @@ def test_large_linkage_not_proven_held_is_warned_not_passed_silently(monkeypatch
 
 # ---------------------------------------------------------------------------- the simple messages stay
 def test_single_piece_messages_unchanged():
+    # one body: a roller in x leaves y free, one clamped point leaves the rotation about it (common practice)
     mesh = rect(0, 0, 10, 2, "Q4", 5, 1)
     with pytest.raises(SupportError, match="translation y is free"):
         check(mesh, [planar.Roller("left", fixed="x")])
@@ -408,7 +416,8 @@ def _no_rows(mesh):
 
 
 def test_inclined_rollers_alone_hold_a_triangle_plate():
-    # a triangle held by rollers normal to its three sides: no free motion (not concurrent normals)
+    # three rollers whose lines of action are neither parallel nor concurrent hold a plane body (statics,
+    # common practice); the inclined directions go through the rotated-unknowns path of constrain()
     nodes = np.array([[0, 0], [4, 0], [1, 3]], float)
     mesh = Mesh(nodes, {"T3": np.array([[0, 1, 2]])}, node_sets={"a": [0], "b": [1], "c": [2]})
     check(mesh, [planar.Roller("a", fixed=(1.0, 1.0)), planar.Roller("b", fixed=(1.0, -0.3)),
@@ -655,6 +664,7 @@ def test_plugin_with_negative_energy_is_refused_even_with_the_opt_in(toy_element
 
 
 def test_example_plugin_q4i_passes():
+    # Q4i has exactly the three rigid-body zero modes (Taylor, Beresford and Wilson 1976): no false alarm
     mesh = rect(0, 0, 10, 2, "Q4", 10, 2)
     model = planar.Model(mesh, MAT, elements={"Q4": "Q4i"})
     model.add_support(planar.Fixed("left"))
@@ -664,6 +674,7 @@ def test_example_plugin_q4i_passes():
 
 
 def test_zero_energy_option_is_checked():
+    # a misspelt opt-in must not fall back silently to one of the choices
     with pytest.raises(InputError, match="zero_energy must be one of"):
         planar.Model(rect(0, 0, 1, 1), MAT, zero_energy="ignore")
 
@@ -671,6 +682,8 @@ def test_zero_energy_option_is_checked():
 # ---------------------------------------------------------------------------- every back end
 @pytest.mark.parametrize("solver", ["cholmod", "pardiso", "amg", "superlu"])
 def test_checks_run_before_any_back_end(solver):
+    # the same hinge (M = 1, Gruebler) and the same Q9 reduced block (3 spurious modes, Cook et al. 2002)
+    # are refused whatever back end was asked for
     if solver not in available_solvers():
         pytest.skip(f"{solver} not installed")
     model = planar.Model(bow_tie(), MAT)
