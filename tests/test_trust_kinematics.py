@@ -588,6 +588,36 @@ def test_zero_counts_are_exact_on_random_valid_elements(name):
             assert rel[:, want].min() > ZERO_TOL * 100
 
 
+@pytest.mark.parametrize("el, q", [("Q8", 4), ("Q4", 3), ("T6", 4), ("Q9", 4)])
+def test_slender_stiff_soft_models_get_no_word_from_the_checks(el, q):
+    # healthy but ill-conditioned: cells of aspect ratio 1e4 under a sampled (custom) rule, and a region
+    # 1e12 times softer; neither a mechanism nor a zero-energy mode (the checks look at geometry and
+    # rank only, never at how stiff things are), so no error and no warning from them
+    mesh = rect(0, 0, 1e4, 1.0, el, 2, 1)
+    model = planar.Model(mesh, MAT, quadrature={el: q})
+    model.add_support(planar.Fixed("left"))
+    asm = Assembly(model)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", DiscretisationWarning)
+        kinematics.zero_energy_check(asm)
+        rigid_body_check(asm.mesh, constrain(asm.mesh, model.supports))
+    base = rect(0, 0, 2, 1, el, 4, 2)
+    (lay, conn), = base.cells.items()
+    left = np.flatnonzero(base.nodes[conn].mean(axis=1)[:, 0] < 1.0)
+    right = np.setdiff1d(np.arange(conn.shape[0]), left)
+    mesh = Mesh(base.nodes, base.cells, base.edge_sets, base.node_sets,
+                regions={"stiff": {lay: left}, "soft": {lay: right}})
+    model = planar.Model(mesh, MAT, quadrature={el: q})
+    model.assign("soft", material=planar.Isotropic(70e3 * 1e-12, 0.3))
+    model.add_support(planar.Fixed("left"))
+    asm = Assembly(model)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", DiscretisationWarning)
+        kinematics.zero_energy_check(asm)
+        rigid_body_check(asm.mesh, constrain(asm.mesh, model.supports))
+    assert len(asm.blocks) == 2
+
+
 # ---------------------------------------------------------------------------- plugins
 TOY = """
     import numpy as np
