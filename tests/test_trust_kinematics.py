@@ -723,3 +723,32 @@ def test_checks_run_before_any_back_end(solver):
         planar.solve(model, solver=solver)
     with pytest.raises(SolverError, match="zero-energy"):
         planar.solve(cantilever("Q9", {"Q9": "reduced"}), solver=solver)
+
+
+# ---------------------------------------------------------------------------- cost at scale
+@pytest.mark.slow
+def test_checks_cost_at_a_million_unknowns():
+    # the pre-factorization checks must stay a small part of the 0.5 s budget of all checks at 10^6
+    # unknowns (T6 plate, about 250,000 cells, numbered at random as a mesher might); CPU time, so a
+    # busy machine does not decide it
+    import time
+
+    m = rect(0, 0, 400, 160, "T6", 354, 354)
+    rng = np.random.default_rng(3)
+    perm = rng.permutation(m.n_nodes)
+    inv = np.empty_like(perm)
+    inv[perm] = np.arange(perm.size)
+    cells = inv[m.cells["T6"]][rng.permutation(m.cells["T6"].shape[0])]
+    mesh = Mesh(m.nodes[perm], {"T6": cells}, edge_sets={k: inv[v] for k, v in m.edge_sets.items()})
+    assert 2 * mesh.n_nodes > 10**6
+    model = planar.Model(mesh, MAT)
+    model.add_support(planar.Fixed("left"))
+    asm = Assembly(model)
+    cons = constrain(asm.mesh, model.supports)
+    best = np.inf
+    for _ in range(3):
+        t = time.process_time()
+        kinematics.zero_energy_check(asm)
+        rigid_body_check(asm.mesh, cons)
+        best = min(best, time.process_time() - t)
+    assert best < 0.15, best
