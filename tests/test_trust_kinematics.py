@@ -375,6 +375,15 @@ def test_separate_piece_and_a_mechanism_are_both_named():
     assert "rotate about node" in text
 
 
+def test_unsupported_hinged_chain_beside_a_held_piece():
+    # three bodies, two pins, no support: 9 - 4 = 5 motions (Gruebler without ground), the three of the
+    # whole group and two mechanisms
+    mesh = join([rect(0, 0, 1, 1), rect(1, 1, 1, 1), rect(2, 2, 1, 1), rect(10, 0, 1, 1)])
+    with pytest.raises(SupportError, match=r"near \(1\.5, 1\.5\): translation x, translation y and rotation are "
+                                           r"all free.*\(2 independent motions in all\)"):
+        check(mesh, [planar.Fixed("p3_left")])
+
+
 def test_large_linkage_falls_back_to_hinged_leaves(monkeypatch):
     # beyond MAX_DENSE_BODIES only a piece pinned once whose supports let it turn is looked for
     monkeypatch.setattr(kinematics, "MAX_DENSE_BODIES", 0)

@@ -447,15 +447,15 @@ def _group_check(mesh, stats: _Stats, bodies, rnode, rdir, rbody, pins, several:
     P = _linkage_pins(xy, lr, cb, Lb, loc, pins, rest.size)
     N = _null(np.vstack([P, S]), 3 * rest.size)  # (r, 3 |rest|)
     if N.shape[0] > free.shape[0]:
+        m = N.shape[0] - free.shape[0]  # motions of the linkage beyond those of the whole group
         if free.shape[0]:  # take out the free rigid motions of the whole group (every body is in rest)
             F = _group_motions(free, xc, L, cb, Lb)  # (f, 3 nbg)
             q, _ = np.linalg.qr(F.T)
             M = N.T - q @ (q.T @ N.T)
             u, s, _ = np.linalg.svd(M, full_matrices=False)
-            N = u[:, : N.shape[0] - free.shape[0]].T
+            N = u[:, :m].T
         full = np.zeros((N.shape[0], bodies.size, 3))
         full[:, rest] = N.reshape(N.shape[0], rest.size, 3)
-        m = N.shape[0] - free.shape[0]
         texts.append((leaves or _describe_mechanism(xy, full.reshape(N.shape[0], -1), bodies, loc, cb, Lb, pins, stats))
                      + (f" ({m} independent motions in all)" if m > 1 else ""))
         return ("; ".join(texts), kind(), [])
