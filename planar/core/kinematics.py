@@ -29,7 +29,8 @@ from scipy.sparse.csgraph import connected_components
 from .errors import SolverError, SupportError, fmt_point, warn
 
 __all__ = ["rigid_body_check", "cell_pieces", "Pieces", "zero_energy_check", "zero_energy_modes",
-           "ZERO_ENERGY_CHOICES", "ZERO_TOL", "STABILISATION", "BUILTIN_ELEMENTS", "pending_warnings"]
+           "stabilised_element", "ZERO_ENERGY_CHOICES", "ZERO_TOL", "STABILISATION", "BUILTIN_ELEMENTS",
+           "pending_warnings"]
 
 #: the ways a model may treat element blocks with zero-energy modes (``Model(zero_energy=...)``)
 ZERO_ENERGY_CHOICES = ("refuse", "warn", "stabilise")
@@ -718,7 +719,7 @@ def _centre_map(et, coords: np.ndarray):
     return np.einsum("eij,ekj->eki", inv, coords - c), inv
 
 
-def zero_energy_modes(block, nodes: np.ndarray, cells: np.ndarray | None = None):
+def zero_energy_modes(block, nodes: np.ndarray, cells: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Zero and negative eigenvalues of the element stiffness of some cells of a block.
 
     Parameters
@@ -931,7 +932,7 @@ def _zero_energy_fix(block, neg) -> str:
             "or zero_energy='warn'")
 
 
-def stabilised_element(block, alpha: float | None = None):
+def stabilised_element(block, alpha: float | None = None) -> type:
     """The block's element type with a stiffness on its spurious zero-energy modes only.
 
     K = K_rule + alpha P K_full P, with K_rule the block's own (under-integrated) stiffness, K_full the
@@ -947,6 +948,12 @@ def stabilised_element(block, alpha: float | None = None):
     block : Block
     alpha : float, optional
         The fraction (default :data:`STABILISATION`).
+
+    Returns
+    -------
+    type
+        A subclass of the block's element type with a ``stiffness`` hook (one class per element type,
+        rule mode and fraction, so results of separate solves compare alike).
     """
     from .assembly import Assembly, Block
 
