@@ -280,8 +280,29 @@ def test_iterative_failure_on_a_definite_matrix_is_not_called_a_mechanism(monkey
     assert "solver='cholmod'" in str(err.value)
 
 
-def test_equilibrium_errors_match_the_result_method():
-    res = planar.solve(layered(1e3), solver=DIRECT[0])["tip"]
-    asm = res.assembly
-    e = diagnose.equilibrium_errors(asm, res.reactions[:, :, None], res.applied[:, :, None])
-    assert e[0] == pytest.approx(res.equilibrium_error(), rel=1e-12, abs=1e-18)
+def test_equilibrium_error_of_several_cases_at_once():
+    # statics (common practice): the reactions balance the loads; a wrong reaction is seen as such
+    model = layered(1e3)
+    model.add_load(planar.Traction("right", tx=2e-6), case="pull")
+    res = planar.solve(model, solver=DIRECT[0])
+    R = np.stack([res[c].reactions for c in ("tip", "pull")], axis=2)
+    F = np.stack([res[c].applied for c in ("tip", "pull")], axis=2)
+    e = diagnose.equilibrium_errors(res["tip"].assembly, R, F)
+    assert e[0] == pytest.approx(res["tip"].equilibrium_error(), rel=1e-12, abs=1e-18)
+    assert np.all(e < 1e-9)
+    R[:, :, 1] *= 0.99  # reactions 1 % short of the load
+    assert diagnose.equilibrium_errors(res["tip"].assembly, R, F)[1] == pytest.approx(0.01, rel=1e-6)
+
+
+def test_free_thermal_expansion_is_not_called_out_of_balance():
+    # self-balanced nodal forces (a free expansion, no reactions): no refusal, no warning
+    mesh = planar.rectangle_mesh(2.0, 1.0, 8, 4, "Q8")
+    model = planar.Model(mesh, planar.Isotropic(E, 0.3, alpha=1e-5), thickness=1.0)
+    model.add_support(planar.Roller("corner_00", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_support(planar.Roller("corner_10", fixed="y"))
+    model.add_load(planar.TemperatureChange(100.0), case="hot")
+    res, codes = _solve_quietly(model, DIRECT[0])
+    assert res["hot"].solver_info["equilibrium_error"] < 1e-9 and "ill-conditioned" not in codes
+    # free expansion: u = alpha dT x (common practice)
+    np.testing.assert_allclose(res["hot"].u[:, 0], 1e-3 * res["hot"].mesh.nodes[:, 0], atol=1e-12)

@@ -422,7 +422,8 @@ def equilibrium_errors(asm, R: np.ndarray, F: np.ndarray) -> np.ndarray:
 
     ``|sum of reactions + sum of applied forces|`` (forces x and y, and the moment about the centre
     of the nodes over the model size) relative to the largest of the total load, the total
-    reaction, half the sum of the reaction magnitudes, and 1e-4 of the force level that the
+    reaction, half the sum of the reaction magnitudes, half the sum of the applied nodal force
+    magnitudes (self-balanced loads, e.g. a free thermal expansion), and 1e-4 of the force level that the
     prescribed displacements stand for (largest D times thickness times the largest prescribed
     value); the last term only matters for a model moved as a rigid body by prescribed
     displacements with little or no load, whose reactions are then round-off of K times that motion.
@@ -440,12 +441,12 @@ def equilibrium_errors(asm, R: np.ndarray, F: np.ndarray) -> np.ndarray:
     from .supports import gather
 
     mesh, model = asm.mesh, asm.model
-    key = "equilibrium frame"
-    if key not in asm.cache:  # the centre, size, stiffness and prescribed level: once per assembly
+    frame = getattr(asm, "_equilibrium_frame", None)
+    if frame is None:  # the centre, size, stiffness and prescribed level: once per assembly
         stiff = max((float(np.abs(b.D).max()) * b.thickness for b in asm.blocks), default=0.0)
         moved = float(np.abs(gather(mesh, model.supports).value).max(initial=0.0))
-        asm.cache[key] = (mesh.nodes.mean(axis=0), max(mesh.size(), 1e-300), stiff * moved)
-    centre, L, level = asm.cache[key]
+        frame = asm._equilibrium_frame = (mesh.nodes.mean(axis=0), max(mesh.size(), 1e-300), stiff * moved)
+    centre, L, level = frame
     m = R.shape[2]
     # only nodes that carry a force or a reaction count
     rows = np.flatnonzero(np.any(R != 0, axis=(1, 2)) | np.any(F != 0, axis=(1, 2)))
@@ -458,7 +459,8 @@ def equilibrium_errors(asm, R: np.ndarray, F: np.ndarray) -> np.ndarray:
 
     r, a = totals(Rs), totals(Fs)
     scale = np.maximum.reduce([np.abs(r).max(axis=0), np.abs(a).max(axis=0),
-                               np.abs(Rs).sum(axis=(0, 1)) / 2, np.full(m, 1e-4 * level), np.full(m, 1e-300)])
+                               np.abs(Rs).sum(axis=(0, 1)) / 2, np.abs(Fs).sum(axis=(0, 1)) / 2,
+                               np.full(m, 1e-4 * level), np.full(m, 1e-300)])
     return np.abs(r + a).max(axis=0) / scale
 
 

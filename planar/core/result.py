@@ -371,23 +371,16 @@ class Result:
         Notes
         -----
         The scale is the largest of the total load, the total reaction, half the sum of the reaction
-        magnitudes, and 1e-4 of the force level that the prescribed displacements stand for (largest
-        D times thickness times the largest prescribed value). The last term only matters for a model
-        moved as a rigid body by prescribed displacements with little or no load, whose reactions are
-        then round-off of K times that motion (some 100 machine epsilons of it).
+        magnitudes, half the sum of the applied nodal force magnitudes (self-balanced loads such as a
+        free thermal expansion), and 1e-4 of the force level that the prescribed displacements stand
+        for (largest D times thickness times the largest prescribed value). The last term only matters
+        for a model moved as a rigid body by prescribed displacements with little or no load, whose
+        reactions are then round-off of K times that motion (some 100 machine epsilons of it). The
+        figure is :func:`planar.core.diagnose.equilibrium_errors`, which every solve checks.
         """
-        from .supports import gather
+        from .diagnose import equilibrium_errors
 
-        x = self.mesh.nodes - self.mesh.nodes.mean(axis=0)
-        L = max(self.mesh.size(), 1e-300)
-        def totals(f):
-            return np.array([f[:, 0].sum(), f[:, 1].sum(), np.sum(x[:, 0] * f[:, 1] - x[:, 1] * f[:, 0]) / L])
-        r, a = totals(self.reactions), totals(self.applied)
-        stiff = max((float(np.abs(b.D).max()) * b.thickness for b in self.assembly.blocks), default=0.0)
-        moved = float(np.abs(gather(self.mesh, self.model.supports).value).max(initial=0.0))
-        scale = max(np.abs(r).max(), np.abs(a).max(), np.abs(self.reactions).sum() / 2, 1e-4 * stiff * moved,
-                    1e-300)
-        return float(np.abs(r + a).max() / scale)
+        return float(equilibrium_errors(self.assembly, self.reactions[:, :, None], self.applied[:, :, None])[0])
 
     def summary(self) -> dict[str, Any]:
         vm, loc, _ = self.max("von_mises")
