@@ -659,6 +659,18 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
 
     tree = cKDTree(nodes[P])
     dup = mesh._tolerance(None)
+    pairs = tree.query_pairs(dup, output_type="ndarray")  # distinct nodes at one point
+    if pairs.size:  # search among one node per point (a mesh of unjoined cells has many copies)
+        import scipy.sparse as sp
+        from scipy.sparse.csgraph import connected_components
+
+        G = sp.coo_matrix((np.ones(pairs.shape[0], dtype=np.int8), (pairs[:, 0], pairs[:, 1])),
+                          shape=(P.size, P.size))
+        _, first = np.unique(connected_components(G, directed=False)[1], return_index=True)
+        R = P[first]
+        rtree = cKDTree(nodes[R])
+    else:
+        R, rtree = P, tree
     # ---- hanging nodes: an open side's node inside another open side
     A, B = nodes[A_id], nodes[B_id]
     M = np.where((M_id >= 0)[:, None], nodes[np.maximum(M_id, 0)], np.nan)
@@ -666,19 +678,19 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
     C = 0.5 * (A + B)
     sag = np.where(M_id >= 0, np.hypot(*(np.nan_to_num(M) - C).T), 0.0)
     reach = 0.5 * L * (1 + 1e-6) + 2.0 * sag + dup
-    kq = min(8, P.size)
+    kq = min(8, R.size)
     found_s, found_p = [], []
     todo = np.arange(op.size)
     while todo.size:  # the nearest open-side nodes to each side's centre, more where 8 are not enough
-        d, j = tree.query(C[todo], k=kq)
+        d, j = rtree.query(C[todo], k=kq)
         d, j = d.reshape(todo.size, -1), j.reshape(todo.size, -1)
         near = d <= reach[todo, None]
-        full = near[:, -1] & (kq < P.size)
+        full = near[:, -1] & (kq < R.size)
         r, cidx = np.nonzero(near & ~full[:, None])
         found_s.append(todo[r])
-        found_p.append(P[j[r, cidx]])
+        found_p.append(R[j[r, cidx]])
         todo = todo[full]
-        kq = min(4 * kq, P.size)
+        kq = min(4 * kq, R.size)
     sid = np.concatenate(found_s).astype(np.int64)
     pid = np.concatenate(found_p).astype(np.int64)
     own = (pid == A_id[sid]) | (pid == B_id[sid]) | (pid == M_id[sid])
@@ -728,7 +740,6 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
     # ---- a hole of a few sides that encloses almost no area: a gap where cells should meet
     _check_slivers(mesh, nodes, table, cells, op, A_id, B_id, M_id, L, declared, every)
     # ---- distinct nodes at one point on open sides of one piece: a slit
-    pairs = tree.query_pairs(dup, output_type="ndarray")
     if pairs.size == 0 or every:
         return
     p, q = P[pairs[:, 0]], P[pairs[:, 1]]
