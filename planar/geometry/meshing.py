@@ -16,6 +16,11 @@ on a curve of a single segment ("1D mesh cannot be divided by 2", e.g. the short
 slot) and, like its blossom recombination, at times leaves triangles that overlap their neighbours
 (near a named point close to an edge, or at the curved end of a small slot).
 
+Before any meshing the element count is estimated from the plate's area, the global size, every
+refinement with its growth and the curved edges (:mod:`planar.geometry._estimate`, a few ms), and a
+job beyond ``max_elements`` (default 5 million) or beyond the memory at hand is refused with the
+estimate and the fix; a refinement at a point off the plate is a GeometryError.
+
 Every mesh is checked before it is handed back: with the cells counter-clockwise, every side between
 two cells is walked once each way, the sides of one cell only are the segments of the boundary,
 quadrilaterals are strictly convex and not badly distorted, and every named point is a node of some
