@@ -191,6 +191,20 @@ def test_slender_strip_in_pure_tension_is_quiet():
     _solve_quiet(_cantilever("Q4", 40, 2, 40.0, 1.0, tip=0.0, axial=10.0))
 
 
+@pytest.mark.parametrize("size", [5.0, 2.5])
+def test_perforated_l_bracket_in_t3_is_not_taken_as_slender(size):
+    # an L bracket (100 x 30 and 60 x 80 arms) with three holes: its ligaments are thin for T3 at
+    # size 5, but no part of it is long against its depth (length/depth under 4), so no warning
+    plate = Plate.polygon([(0, 0), (100, 0), (100, 30), (60, 30), (60, 80), (0, 80)],
+                          names=["bottom", "tip", "step", "inner", "top", "left"])
+    for c, r in (((80, 15), 8), ((30, 60), 10), ((30, 15), 6)):
+        plate = plate.cut(planar.geometry.Circle(c, r))
+    model = planar.Model(gmsh_mesh(plate, size, order=1), planar.Isotropic(71e3, 0.33), 4.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("tip", ty=-30.0), case="tip load")
+    _solve_quiet(model)
+
+
 @pytest.mark.parametrize("layout,nx,ny", [("Q4", 8, 8), ("T3", 8, 8), ("Q4", 40, 8), ("Q8", 100, 1)])
 def test_stocky_or_well_meshed_parts_are_quiet(layout, nx, ny):
     # 20 x 10 plate (L/h = 2) and quadratic elements with one cell through a slender depth

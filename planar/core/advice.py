@@ -318,7 +318,7 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
             if reg is not None and reg[1][0] < max(prone) * reg[3][0]:
                 zones.append(([np.zeros(c.shape[0], np.int64) for c in conns], reg, whole))
     for labels, shape, member in zones:
-        A, h, L, s, cx, cy = shape[:6]
+        A, h, L, s, cx, cy, tx, ty = shape[:8]
         slender = (L > SLENDER_RATIO * h)
         if not np.any(slender):
             continue
@@ -329,11 +329,13 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
                 continue
             names = ", ".join(repr(r.case) for r in cases)
             kinds = "/".join(sorted({b.etype.name for b, _ in bl}))
+            across, along = _cell_extent(nodes, conns, member, labels, z, tx[z], ty[z])
             out.append(("slender",
                         f"slender part with too few elements through its depth: region {region!r}, a part about "
                         f"{L[z]:.4g} long and {h[z]:.3g} deep (length/depth {L[z] / h[z]:.0f}) around "
-                        f"{fmt_point((cx[z], cy[z]))}, meshed with about {h[z] / s[z]:.1f} {kinds} element sizes "
-                        f"(mean side {s[z]:.3g}) through the depth, carries bending in load case(s) {names}; "
+                        f"{fmt_point((cx[z], cy[z]))}, meshed with about {h[z] / across:.1f} {kinds} elements "
+                        f"through its depth (cells about {along:.3g} long and {across:.3g} deep), carries bending in "
+                        f"load case(s) {names}; "
                         f"these elements need at least {need} through the depth there ({_WHY[need]}), so "
                         "deflections and bending stresses come out too small; "
                         f"mesh the part with at least {need} elements of side at most {h[z] / need:.3g} through "
@@ -344,6 +346,22 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
 _WHY = {6: "a constant-strain T3 makes the linear bending stress a staircase, worse with elongated cells",
         4: "a fully integrated Q4 locks in parasitic shear, the more so the more elongated its cells",
         2: "with one element through the depth no bending stress is left to recover at the faces"}
+
+
+def _cell_extent(nodes, conns, member, labels, z, tx, ty) -> tuple[float, float]:
+    """Mean extent of the cells of zone ``z`` across and along the zone's axis (tx, ty)."""
+    acc = np.zeros(2); cnt = 0
+    for c, m, lab in zip(conns, member, labels):
+        sel = m & (lab == z)
+        if not sel.any():
+            continue
+        xy = nodes[c[sel]]
+        along = xy[..., 0] * tx + xy[..., 1] * ty
+        across = -xy[..., 0] * ty + xy[..., 1] * tx
+        acc += [np.ptp(across, axis=1).sum(), np.ptp(along, axis=1).sum()]
+        cnt += int(sel.sum())
+    acc = acc / max(cnt, 1)
+    return max(float(acc[0]), 1e-300), float(acc[1])
 
 
 def _boundary_edges(nodes, conns, bnd) -> tuple[np.ndarray, np.ndarray]:
