@@ -333,7 +333,7 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
             out.append(("slender",
                         f"slender part with too few elements through its depth: region {region!r}, a part about "
                         f"{L[z]:.4g} long and {h[z]:.3g} deep (length/depth {L[z] / h[z]:.0f}) around "
-                        f"{fmt_point((cx[z], cy[z]))}, meshed with about {h[z] / across:.1f} {kinds} elements "
+                        f"{_point(cx[z], cy[z], L[z])}, meshed with about {h[z] / across:.1f} {kinds} elements "
                         f"through its depth (cells about {along:.3g} long and {across:.3g} deep), carries bending in "
                         f"load case(s) {names}; "
                         f"these elements need at least {need} through the depth there ({_WHY[need]}), so "
@@ -346,6 +346,12 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
 _WHY = {6: "a constant-strain T3 makes the linear bending stress a staircase, worse with elongated cells",
         4: "a fully integrated Q4 locks in parasitic shear, the more so the more elongated its cells",
         2: "with one element through the depth no bending stress is left to recover at the faces"}
+
+
+def _point(x: float, y: float, scale: float) -> str:
+    """A point for messages, with round-off below 1e-9 of ``scale`` shown as 0."""
+    tol = 1e-9 * abs(scale)
+    return fmt_point((0.0 if abs(x) < tol else x, 0.0 if abs(y) < tol else y))
 
 
 def _cell_extent(nodes, conns, member, labels, z, tx, ty) -> tuple[float, float]:
