@@ -269,6 +269,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     from .advice import advise
 
     advise(results)  # trust warnings (locking, slender, units, contrast): raised once, kept per result
+    timer.lap("trust warnings")
     return results
 
 
