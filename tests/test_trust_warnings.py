@@ -19,7 +19,7 @@ import pytest
 
 import planar
 from planar.core.advice import advise, bulk_shear_ratio, free_of_locking
-from planar.core.errors import DiscretisationWarning, PlanarWarning
+from planar.core.errors import PlanarWarning
 from planar.geometry import Plate, Rectangle, mesh as gmsh_mesh
 from planar.post.checks import kt, margin_of_safety
 from planar.post.report import render_html, stress_check_report

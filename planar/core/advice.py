@@ -9,11 +9,11 @@ nothing at all for a one-region model in quadratic elements beyond one strain es
 Codes
 -----
 ``"locking"``
-    Linear elements that lock volumetrically (T3 with any rule, unless crossed: see
-    :func:`singular_vertex_share`, Q4 with two or more points per
-    direction, also with planar's ``"selective"`` rule, which reduces only the shear terms) in a
-    nearly incompressible plane-strain material: bulk-to-shear ratio 1 / (1 - 2 nu) >= 25, that is
-    nu >= 0.48 for an isotropic material. Plane stress never locks (the thickness is free).
+    Linear elements that lock volumetrically in a nearly incompressible plane-strain material:
+    T3 with any rule (unless the mesh is crossed, see :func:`singular_vertex_share`), Q4 with two or
+    more points per direction, also with planar's ``"selective"`` rule, which reduces only the shear
+    terms. Nearly incompressible: bulk-to-shear ratio 1 / (1 - 2 nu) >= 25, nu >= 0.48 for an
+    isotropic material. Plane stress never locks (the thickness is free).
 ``"slender"``
     A slender part (length / depth > 5) in bending, meshed with too few linear elements through its
     depth: fewer than 6 T3, 4 Q4 (full rule), or 2 elements free of shear locking.
@@ -24,6 +24,9 @@ Codes
     mixed units (E in Pa with lengths in mm, E in GPa with stresses in MPa).
 ``"contrast"``
     Neighbouring regions whose membrane stiffness E t differs by more than 1e6.
+
+:mod:`planar.post.checks` adds ``"factor-of-safety"`` (a factor below 1 in a margin of safety) and
+``"negative-nominal"`` (a compressive nominal stress in a Kt) to the result it checks.
 
 Element types say what they are free of with a class attribute ``free_of_locking``, a tuple with
 ``"volumetric"`` and/or ``"shear"`` (the incompatible-mode Q4i declares both). Without it, elements
@@ -40,9 +43,9 @@ import numpy as np
 from .assembly import CHUNK, element_strains
 from .errors import DiscretisationWarning, PlanarWarning, fmt_point
 
-__all__ = ["advise", "free_of_locking", "bulk_shear_ratio", "singular_vertex_share", "CROSSED_SHARE", "LOCKING_RATIO", "SLENDER_RATIO",
-           "MIN_THROUGH_DEPTH", "DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "TINY_STRAIN", "CONTRAST_LIMIT",
-           "MODULUS_LIMIT"]
+__all__ = ["advise", "free_of_locking", "bulk_shear_ratio", "singular_vertex_share", "LOCKING_RATIO",
+           "CROSSED_SHARE", "SLENDER_RATIO", "MIN_THROUGH_DEPTH", "DISPLACEMENT_FRACTION", "STRAIN_LIMIT",
+           "STRAIN_SAMPLE", "STRAIN_QUANTILE", "TINY_STRAIN", "CONTRAST_LIMIT", "MODULUS_LIMIT"]
 
 #: bulk-to-shear ratio (v.Dv / w.Dw with v = (1, 1, 0), w = (1, -1, 0); 1 / (1 - 2 nu) for an
 #: isotropic plane-strain material) at and above which linear elements lock: nu >= 0.48. Measured
@@ -271,12 +274,6 @@ def _contrast(asm) -> list[tuple[str, str]]:
 # --------------------------------------------------------------------------------------- slender
 def _corners(b) -> np.ndarray:
     return b.conn[:, : b.etype.corner_count()]
-
-
-def _areas(xy: np.ndarray) -> np.ndarray:
-    """Area of polygons (e, m, 2) by the shoelace formula (corners in order)."""
-    x, y = xy[..., 0], xy[..., 1]
-    return 0.5 * np.abs(np.sum(x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y, axis=1))
 
 
 def _slender(asm, res) -> list[tuple[str, str, list]]:
