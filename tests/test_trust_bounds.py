@@ -68,6 +68,22 @@ def test_tiny_edge_refinements_and_long_within_are_refused(at, h0):
     assert "elements" in msg and "Refine(" in msg
 
 
+@pytest.mark.parametrize("h0", [1e-6, 1e-9, 1e-12])
+def test_tiny_size_function_is_refused_at_once(h0):
+    # a ring of size h0 along the hole's edge, growing by 0.3 per unit distance
+    def ring(x, y):
+        return h0 + 0.3 * np.abs(np.hypot(x - 50.0, y - 50.0) - 10.0)
+
+    msg = timed_refusal(ResourceError, mesh, plate_100(), size=5.0, size_function=ring)
+    assert "size function" in msg and "elements" in msg
+
+
+def test_curved_edges_sizes_count_too():
+    # circle_elements sides per turn: 2 pi 10 / 10^5 = 6.3e-4 along the hole, about 2 million elements
+    msg = timed_refusal(ResourceError, mesh, plate_100(), size=5.0, circle_elements=100_000, max_elements=10**6)
+    assert "circle_elements" in msg
+
+
 def test_global_size_too_small_is_refused():
     msg = timed_refusal(ResourceError, mesh, plate_100(), size=1e-3)
     # 100 x 100 - pi 10^2 over sqrt(3)/4 h^2 (the c of an equilateral triangle)

@@ -424,7 +424,7 @@ class _Plan:
         extra = _refusal(self, area, est, cell_area)
         if self.size_function is not None:
             self.quadtree = _size_quadtree_for(self.size_function, area, bbox, self.h, self.quads,
-                                               max(self.max_elements - int(extra), 1))
+                                               self.max_elements)
             refuse_beyond(self.quadtree[-1] + extra, self.max_elements, "the mesh of the size function",
                           "use larger sizes")
             est = max(self.quadtree[-1], est)
