@@ -306,3 +306,24 @@ def test_free_thermal_expansion_is_not_called_out_of_balance():
     assert res["hot"].solver_info["equilibrium_error"] < 1e-9 and "ill-conditioned" not in codes
     # free expansion: u = alpha dT x (common practice)
     np.testing.assert_allclose(res["hot"].u[:, 0], 1e-3 * res["hot"].mesh.nodes[:, 0], atol=1e-12)
+
+
+@pytest.mark.parametrize("el", ["T3", "T6", "Q4", "Q8", "Q9"])
+def test_healthy_plates_in_any_consistent_units_pass_quietly(el):
+    # a plate with a hole in N, mm, MPa and the same plate in units a million times off (E = 1, loads
+    # 1e-6): no error, no "ill-conditioned" warning, and the stresses scale with the loads (linearity)
+    from planar.geometry import Circle, Plate, element_options, mesh as make_mesh
+
+    plate = Plate.rectangle(100.0, 40.0).cut(Circle((50, 20), 8, name="hole")).add_point("anchor", (0.0, 0.0))
+    m = make_mesh(plate, size=6.0, **element_options(el))
+    peaks = []
+    for modulus, load in [(72e3, 100.0), (1.0, 1e-6)]:
+        model = planar.Model(m, planar.Isotropic(modulus, 0.33), thickness=2.0)
+        model.add_support(planar.Roller("left", fixed="x"))
+        model.add_support(planar.Roller("anchor", fixed="y"))
+        model.add_load(planar.Traction("right", tx=load), case="pull")
+        res, codes = _solve_quietly(model, "auto")
+        assert "ill-conditioned" not in codes
+        assert res["pull"].solver_info["significant_figures"] > 6
+        peaks.append(np.abs(res["pull"].gauss[0].stress).max() / load)
+    assert peaks[1] == pytest.approx(peaks[0], rel=1e-8)
