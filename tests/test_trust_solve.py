@@ -112,6 +112,29 @@ def test_extremely_slender_strip_is_refused(slender, solver):
     assert "not a mechanism" in str(err.value)
 
 
+def ribbed(slender: float) -> planar.Model:
+    """A 10 x 10 Q4 block clamped on the left with a rib of depth 1 and length slender standing out of
+    its right side (nodes joined where they meet), loaded across the rib's tip."""
+    block = planar.rectangle_mesh(10.0, 10.0, 10, 10, "Q4")
+    rib = planar.rectangle_mesh(slender, 1.0, 200, 1, "Q4", origin=(10.0, 4.0))
+    nb = block.nodes.shape[0]
+    mesh = Mesh(np.vstack([block.nodes, rib.nodes]), {"Q4": np.vstack([block.cells["Q4"], rib.cells["Q4"] + nb])},
+                {"left": block.edge_sets["left"], "tip": rib.edge_sets["right"] + nb},
+                regions={"block": {"Q4": np.arange(100)}, "rib": {"Q4": np.arange(100, 300)}})
+    model = planar.Model(mesh.merge_duplicate_nodes(), planar.Isotropic(E, 0.3), thickness=1.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("tip", ty=-E / 4 * 1e-3 / slender**2), case="tip")
+    return model
+
+
+@pytest.mark.parametrize("solver", DIRECT)
+def test_slender_region_of_a_stocky_part_is_named(solver):
+    # the part as a whole is not slender; its rib is (length over depth 1e5)
+    with pytest.raises(SolverError, match=r"region 'rib' is very slender .*ratio 1e\+05") as err:
+        planar.solve(ribbed(1e5), solver=solver)
+    assert "not a mechanism" in str(err.value)
+
+
 @pytest.mark.parametrize("solver", BACKENDS)
 def test_piece_hanging_on_one_soft_element_is_refused(solver):
     with pytest.raises(SolverError, match=r"held only through region\(s\) 'joint'") as err:

@@ -546,18 +546,22 @@ def _contrast(asm, masks, supported: np.ndarray):
     return held, pair
 
 
-def _slenderness(asm):
-    """Length over depth of the whole part and its elements through the depth, from the element areas."""
+def _slenderness(asm, region: str | None = None):
+    """Length over depth of the part (or of one region), its elements through the depth, its length
+    and depth: the length along the principal axis of the nodes, the depth as area over length."""
     mesh = asm.mesh
     area = 0.0
     n_el = 0
+    used = np.zeros(mesh.n_nodes, dtype=bool)
     for b in asm.blocks:
+        if region is not None and b.region != region:
+            continue
         _, dv, _ = b.geometry(mesh.nodes)
         area += float(dv.sum()) / max(float(b.thickness), 1e-300)
         n_el += b.n
-    used = mesh.used_nodes()
+        used[b.conn.ravel()] = True
     xy = mesh.nodes[used]
-    xy = xy - xy.mean(axis=0)
+    xy = xy - xy.mean(axis=0) if xy.size else xy
     if xy.shape[0] < 3 or area <= 0:
         return 1.0, 1.0, 0.0, 0.0
     _, _, vt = np.linalg.svd(xy[: min(xy.shape[0], 200_000)], full_matrices=False)
@@ -566,6 +570,20 @@ def _slenderness(asm):
     depth = area / max(length, 1e-300)
     h = np.sqrt(area / max(n_el, 1))
     return length / max(depth, 1e-300), depth / max(h, 1e-300), length, depth
+
+
+def _most_slender(asm):
+    """(slenderness, elements through the depth, length, depth, where) of the part or its most slender
+    region."""
+    s = _slenderness(asm)
+    best = (*s, "the part")
+    regions = sorted({b.region for b in asm.blocks})
+    if len(regions) > 1:
+        for r in regions:
+            sr = _slenderness(asm, r)
+            if sr[0] > best[0]:
+                best = (*sr, f"region {r!r}")
+    return best
 
 
 def mode_strain(asm, mode: np.ndarray, free: np.ndarray) -> float:
@@ -687,10 +705,10 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
         causes.append(
             "a mechanism from zero-energy (hourglass) modes of an under-integrated rule ("
             + ", ".join(reduced) + "): use the full integration rule")
-    s, through, length, depth = _slenderness(asm)
+    s, through, length, depth, what = _most_slender(asm)
     if not causes and s >= SLENDER:
         causes.append(
-            f"ill-conditioning, not a mechanism: the part is very slender (length {length:.4g} over depth "
+            f"ill-conditioning, not a mechanism: {what} is very slender (length {length:.4g} over depth "
             f"{depth:.4g}, ratio {s:.2g}, about {through:.2g} element(s) through the depth), so its bending "
             "stiffness is below the round-off of its axial stiffness in double precision; model it as a "
             "beam, or analyse a shorter length with the end forces and moments as loads")
