@@ -138,9 +138,11 @@ def run(*, element: str | None = None, case_names: Iterable[str] | None = None, 
         for el in els:
             t0 = time.perf_counter()
             try:
-                with warnings.catch_warnings():  # benchmarks are posed in normalised units (Cook: E = 1)
+                # benchmarks are posed in normalised units (Cook: E = 1) and some on meshes coarse by
+                # design (MacNeal-Harder: one element through the depth): their own tolerances judge them
+                with warnings.catch_warnings():
                     warnings.filterwarnings("ignore", category=DiscretisationWarning,
-                                            message="(displacements comparable|strains far beyond)")
+                                            message="(displacements comparable|strains far beyond|slender part)")
                     recs = c.func(el)
             except PlanarError as exc:
                 recs = [Record(n, el, f"error: {exc}", float("nan"), float("nan"), float("inf"), 0.0, 0,
