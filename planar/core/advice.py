@@ -253,22 +253,18 @@ def _contrast(asm) -> list[tuple[str, str]]:
         owner[idx[b.region], b.conn.ravel()] = True
     shared = owner.astype(np.float32) @ owner.T.astype(np.float32)  # nodes in common, per pair
     out = []
-    for i in range(len(regions)):
-        for j in range(i + 1, len(regions)):
-            if shared[i, j] == 0:
-                continue
-            hi, lo = (i, j) if vals[i] >= vals[j] else (j, i)
-            ratio = vals[hi] / vals[lo]
-            if ratio <= CONTRAST_LIMIT:
-                continue
-            where = np.flatnonzero(owner[i] & owner[j])
-            out.append(("contrast",
-                        f"extreme stiffness contrast: region {regions[hi]!r} is {ratio:.3g} times stiffer (E t, "
-                        f"modulus times thickness) than its neighbour {regions[lo]!r}, which it meets at "
-                        f"{where.size} node(s) near {fmt_point(asm.mesh.nodes[where].mean(axis=0))}; beyond "
-                        f"{CONTRAST_LIMIT:.0e} the stiff region is practically rigid and the soft one's answer "
-                        "rests on the last digits of the stiffness sums; check the units and values of the "
-                        "materials and thicknesses, or model the stiff part as a support or the soft one apart"))
+    ratio_all = np.maximum(vals[:, None], vals[None, :]) / np.minimum(vals[:, None], vals[None, :])
+    for i, j in np.argwhere(np.triu((shared > 0) & (ratio_all > CONTRAST_LIMIT), 1)):  # flagged pairs only
+        hi, lo = (i, j) if vals[i] >= vals[j] else (j, i)
+        ratio = vals[hi] / vals[lo]
+        where = np.flatnonzero(owner[i] & owner[j])
+        out.append(("contrast",
+                    f"extreme stiffness contrast: region {regions[hi]!r} is {ratio:.3g} times stiffer (E t, "
+                    f"modulus times thickness) than its neighbour {regions[lo]!r}, which it meets at "
+                    f"{where.size} node(s) near {fmt_point(asm.mesh.nodes[where].mean(axis=0))}; beyond "
+                    f"{CONTRAST_LIMIT:.0e} the stiff region is practically rigid and the soft one's answer "
+                    "rests on the last digits of the stiffness sums; check the units and values of the "
+                    "materials and thicknesses, or model the stiff part as a support or the soft one apart"))
     return out
 
 
