@@ -2,16 +2,20 @@
 
 Covers: the backward error, equilibrium error and condition estimate kept in ``Result.solver_info``
 on every back end; adversarial models that must end in a ``SolverError`` naming the cause and the
-place (a stiff part held only through a layer 1e10-1e14 times softer, a piece joined by one element
-of a 1e12 times softer material, clamped strips of length over height 1e4 and 1e5, zero-energy
-modes); healthy models that must pass without an error or an "ill-conditioned" warning (stiffness
-contrast 1e3-1e4, slenderness 100), checked against beam theory and statics; the diagnosis of a
-rigid motion (no strain) against a bending mode.
+place: a stiff part held only through a layer 1e10-1e14 times softer, a piece joined by one element
+of a 1e12 times softer material, clamped strips of length over depth 1e4 and 1e5, a slender rib on a
+stocky block, moduli or loads out of the range of double precision, zero-energy modes, a hinge that
+reaches the back end past the topological checks (called a mechanism), an iterative failure on a
+definite matrix (not called a mechanism); healthy models that must pass without an error or an
+"ill-conditioned" warning: stiffness contrast 1e3-1e4, slenderness 100, plates with a hole in any
+consistent units, a free thermal expansion (self-balanced loads); a contrast of 1e8 that is answered
+with the warning; the diagnosis of a rigid motion (no strain) against a bending mode.
 
 References: Euler-Bernoulli cantilever deflection P L^3 / (3 E I) with the Timoshenko shear term
 P L / (k G A), k = 5/6 (S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 3rd ed., 1970,
 section 21, and common practice); bars in series under tension, elongation sum P L_i / (E_i A)
-(statics, common practice); condition numbers from the dense eigenvalues (numpy's LAPACK).
+(statics, common practice); free thermal expansion u = alpha dT x and linearity of the answer in the
+loads (common practice); condition numbers from the dense eigenvalues (numpy's LAPACK).
 """
 import warnings
 
