@@ -21,6 +21,11 @@ from pathlib import Path
 
 import numpy as np
 
+#: stages of solve() that check the input and the answer (element validity and conformity, hinges and
+#: zero-energy modes, the memory check, the solve's own residual, equilibrium and conditioning check,
+#: and the trust warnings); their sum against the end-to-end time is the checks' share
+CHECK_STAGES = ("checks", "solution check", "trust warnings")
+
 
 def _rss_mb() -> float:
     """Peak resident memory since the last reset (VmHWM), in MB; ru_maxrss where that is missing."""
@@ -146,6 +151,8 @@ def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | Non
         "end_to_end_s": round(end_to_end, 4),
         "ratio_end_to_end_over_bare": round(end_to_end / bare, 3),
         "ratio_assembly_over_bare": round((stages.get("element matrices", 0) + stages.get("COO to CSR", 0)) / bare, 3),
+        "checks_s": round(sum(stages.get(k, 0.0) for k in CHECK_STAGES), 4),
+        "ratio_checks_over_end_to_end": round(sum(stages.get(k, 0.0) for k in CHECK_STAGES) / end_to_end, 4),
         "peak_rss_mb": round(peak, 1),
         "solver": used_solver,
         "peak_von_mises": round(peak_vm, 3),
@@ -170,6 +177,7 @@ def main(argv=None) -> int:
     print(f"  bare solve ({rec['bare_solver']})  {rec['bare_solve_s']:8.3f} s")
     print(f"  end to end / bare      {rec['ratio_end_to_end_over_bare']:8.3f}")
     print(f"  assembly / bare        {rec['ratio_assembly_over_bare']:8.3f}")
+    print(f"  checks / end to end    {rec['ratio_checks_over_end_to_end']:8.3f}  ({', '.join(CHECK_STAGES)})")
     print(f"  peak memory            {rec['peak_rss_mb']:8.1f} MB")
     if args.json:
         from planar.post.files import atomic_write_text
