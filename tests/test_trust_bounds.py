@@ -45,7 +45,17 @@ def timed_refusal(exc, fn, *args, **kw):
 
 
 # ------------------------------------------------------------------ refinements far too small
-@pytest.mark.parametrize("h0", [1e-4 / 3, 1e-5, 1e-6, 1e-7, 1e-9, 1e-12])
+@pytest.mark.parametrize("scale", [1e-3, 1.0, 25.4, 1e3])
+def test_a_refinement_a_million_times_smaller_than_the_part_is_refused_at_any_scale(scale):
+    # issue 13: "a refinement size a million times smaller than the part is refused in under 2 s";
+    # the estimate depends on ratios of lengths only, so the refusal holds in any length unit
+    p = Plate.rectangle(100.0 * scale, 100.0 * scale).cut(Circle((50.0 * scale, 50.0 * scale), 10.0 * scale,
+                                                                 name="hole"))
+    msg = timed_refusal(ResourceError, mesh, p, size=5.0 * scale, refine=[Refine("hole", size=1e-4 * scale)])
+    assert "would have about" in msg and "max_elements" in msg
+
+
+@pytest.mark.parametrize("h0", [1e-4, 1e-4 / 3, 1e-5, 1e-6, 1e-7, 1e-9, 1e-12])
 @pytest.mark.parametrize("quads", [False, True])
 def test_tiny_refinement_at_a_hole_is_refused_at_once_with_the_estimate(h0, quads):
     msg = timed_refusal(ResourceError, mesh, plate_100(), size=5.0, quads=quads, refine=[Refine("hole", size=h0)])

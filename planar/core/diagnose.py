@@ -568,7 +568,10 @@ def _slenderness(asm, region: str | None = None):
     proj = xy @ vt[0]
     length = float(np.ptp(proj))
     depth = area / max(length, 1e-300)
-    h = np.sqrt(area / max(n_el, 1))
+    # the cells' extent across the principal axis (elongated cells are thin across it, not sqrt(area))
+    across = [np.ptp(mesh.nodes[b.conn] @ vt[1], axis=1) for b in asm.blocks
+              if region is None or b.region == region]
+    h = float(np.median(np.concatenate(across))) if across else np.sqrt(area / max(n_el, 1))
     return length / max(depth, 1e-300), depth / max(h, 1e-300), length, depth
 
 

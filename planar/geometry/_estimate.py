@@ -1,7 +1,7 @@
 """Element counts estimated before any meshing, and the refusal of jobs too large to finish.
 
 Every mesher and mesh builder of planar asks :func:`refuse_beyond` before it meshes; a job
-whose estimated element count exceeds ``max_elements`` (default ``MAX_ELEMENTS``, 5 million), or
+whose estimated element count exceeds ``max_elements`` (default ``MAX_ELEMENTS``, 2 million), or
 whose meshing would need more than the memory available now (``MESH_BYTES_PER_ELEMENT`` bytes per
 element), is refused with a :class:`~planar.core.errors.ResourceError` that gives the estimate and
 the fix.
@@ -68,9 +68,12 @@ CELL_AREA = {"triangles": math.sqrt(3) / 4, "quads": 1.0}
 #: there, each split into 3 quadrilaterals of 0.58 h^2 (measured: 0.5-0.6 quadrilaterals per triangle
 #: of the same refinement, against 0.43 for c = 1)
 GRADED_QUAD_AREA = 0.8
-#: the largest estimated element count accepted unless ``max_elements=`` says otherwise: some 10^7
-#: unknowns of quadratic elements, more than a direct solve fits in the memory of a 24 GB machine
-MAX_ELEMENTS = 5_000_000
+#: the largest estimated element count accepted unless ``max_elements=`` says otherwise: 2 million
+#: quadratic triangles are some 8 x 10^6 unknowns, more than a direct solve fits in the memory of a
+#: 24 GB machine (4 x 10^6 T6 unknowns take about 10 GB); a larger mesh is meant, and asked for, or
+#: it is a size typed wrong (a refinement a million times smaller than the part asks for about 4
+#: million elements at a hole a tenth of the part across)
+MAX_ELEMENTS = 2_000_000
 #: peak memory per element while meshing: measured 1.0 kB per triangle and 1.3 kB per quadrilateral
 #: for a mesh made in one piece (0.2-0.8 kB made in pieces, the fast way), rounded up
 MESH_BYTES_PER_ELEMENT = 2_000

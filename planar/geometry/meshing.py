@@ -18,7 +18,7 @@ slot) and, like its blossom recombination, at times leaves triangles that overla
 
 Before any meshing the element count is estimated from the plate's area, the global size, every
 refinement with its growth and the curved edges (:mod:`planar.geometry._estimate`, a few ms), and a
-job beyond ``max_elements`` (default 5 million) or beyond the memory at hand is refused with the
+job beyond ``max_elements`` (default 2 million) or beyond the memory at hand is refused with the
 estimate and the fix; a refinement at a point off the plate is a GeometryError.
 
 Every mesh is checked before it is handed back: with the cells counter-clockwise, every side between
@@ -245,7 +245,7 @@ def mesh(
         (100 000; 0 turns it off).
     seed : int, optional
         Seed of gmsh's random numbers, 0 to 2**31 - 1; the same input and seed give the same mesh.
-    max_elements : int, default ``MAX_ELEMENTS`` (5_000_000)
+    max_elements : int, default ``MAX_ELEMENTS`` (2_000_000)
         Refuse a job whose estimated element count is larger (it would exhaust memory or time); a
         whole number from 1 to 10**12. The estimate (:func:`estimate_elements`: the global size, every
         refinement with its growth, and the size function) is made before any meshing, in about a

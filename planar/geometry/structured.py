@@ -3,7 +3,7 @@
 Used by the benchmark suite and by users who want a regular mesh of a strip or a panel.
 
 Every builder counts its cells (nx * ny, twice that for triangles) before it allocates anything and
-refuses more than ``max_elements`` (default ``MAX_ELEMENTS``, 5 million) or more than the memory
+refuses more than ``max_elements`` (default ``MAX_ELEMENTS``, 2 million) or more than the memory
 available now at ``STRUCTURED_BYTES_PER_CELL`` per cell, with a ResourceError that gives the count.
 """
 from __future__ import annotations
@@ -51,7 +51,7 @@ def mapped_mesh(
     diagonal : {"alternate", "forward"}
         How triangles split the cells: alternating (a symmetric "union jack"-like pattern) or all
         along the same diagonal.
-    max_elements : int, default ``MAX_ELEMENTS`` (5_000_000)
+    max_elements : int, default ``MAX_ELEMENTS`` (2_000_000)
         Refuse more cells than this (raise it for a larger mesh); meshes that would not fit in the
         memory available now are refused whatever its value.
 
