@@ -20,6 +20,21 @@ def test_gauss_legendre_matches_numpy(n):
     x, w = np.polynomial.legendre.leggauss(n)
     np.testing.assert_allclose(rule.points[:, 0], x, atol=1e-15)
     np.testing.assert_allclose(rule.weights, w, atol=1e-15)
+    assert np.all(np.diff(rule.points[:, 0]) > 0)
+
+
+@pytest.mark.parametrize("n", range(1, 11))
+def test_gauss_legendre_exact_to_degree_2n_minus_1(n):
+    """Closed form: the integral of x^k over [-1, 1] is 2 / (k + 1) for even k and 0 for odd k
+    (common practice); an n-point Gauss rule is exact up to k = 2n - 1 and not for x^(2n)."""
+    rule = gauss_line(n)
+    x = rule.points[:, 0]
+    k = np.arange(2 * n + 1)
+    got = np.sum(rule.weights[None, :] * x[None, :] ** k[:, None], axis=1)
+    exact = np.where(k % 2 == 0, 2.0 / (k + 1), 0.0)
+    np.testing.assert_allclose(got[:-1], exact[:-1], rtol=0, atol=1e-14)
+    assert abs(got[-1] - exact[-1]) > 1e-6
+    assert rule.degree == 2 * n - 1
 
 
 @pytest.mark.parametrize("n", range(1, 6))
