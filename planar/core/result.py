@@ -1,7 +1,7 @@
 """The answer for one load case: displacements, reactions, strains and stresses, derived fields.
 
 Stresses live at the Gauss points of each element block; nodal fields are recovered on demand
-(region-wise averaging here; superconvergent patch recovery in :mod:`planar.post.recovery`).
+(region-wise averaging or superconvergent patch recovery, :mod:`planar.core.recovery`).
 Units are those of the model (e.g. N, mm, MPa).
 """
 from __future__ import annotations
@@ -12,10 +12,10 @@ from typing import Any, Callable
 
 import numpy as np
 
-from .assembly import CHUNK, element_strains
+from .caseresult import CaseResult, as_result, as_results
 from .errors import InputError
-from .materials import sigma_zz
-from .parallel import map_chunks
+from .recovery import METHODS, recover
+from .stress import extrapolation_matrix, nodal_average, stress_at, stress_measures, stress_rule
 
 __all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix", "as_result",
            "as_results"]
@@ -25,76 +25,6 @@ STRESS_FIELDS = ("sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tre
                  "sigma_2", "principal_angle")
 STRAIN_FIELDS = ("eps_xx", "eps_yy", "gamma_xy")
 FIELDS = ("ux", "uy", "displacement") + STRESS_FIELDS + STRAIN_FIELDS
-
-
-def stress_measures(s: np.ndarray, szz: np.ndarray | None = None) -> dict[str, np.ndarray]:
-    """Derived stress measures from (sigma_xx, sigma_yy, tau_xy) and sigma_zz.
-
-    Parameters
-    ----------
-    s : ndarray, shape (..., 3)
-    szz : ndarray, shape (...), optional
-        Out-of-plane stress (zero in plane stress).
-
-    Returns
-    -------
-    dict
-        ``sigma_xx``, ``sigma_yy``, ``tau_xy``, ``sigma_zz``, ``von_mises``, ``tresca``, ``sigma_1``,
-        ``sigma_2`` (in-plane principal stresses, sigma_1 >= sigma_2) and ``principal_angle``
-        (angle of sigma_1 from the x axis, degrees).
-
-    Notes
-    -----
-    von Mises: sqrt(((sxx - syy)^2 + (syy - szz)^2 + (szz - sxx)^2) / 2 + 3 txy^2); Tresca: the
-    largest difference of the three principal stresses (common practice).
-    """
-    s = np.asarray(s, dtype=float)
-    sxx, syy, txy = s[..., 0], s[..., 1], s[..., 2]
-    szz = np.zeros_like(sxx) if szz is None else np.asarray(szz, dtype=float)
-    c = 0.5 * (sxx + syy)
-    r = np.hypot(0.5 * (sxx - syy), txy)
-    s1, s2 = c + r, c - r
-    # scaled by the largest component so that the squares cannot overflow for huge stresses
-    m = np.maximum(np.maximum(np.abs(sxx), np.abs(syy)), np.maximum(np.abs(szz), np.abs(txy)))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        a, b, z, t = (np.where(m > 0, v / m, 0.0) for v in (sxx, syy, szz, txy))
-    vm = m * np.sqrt(np.maximum(0.5 * ((a - b) ** 2 + (b - z) ** 2 + (z - a) ** 2) + 3 * t**2, 0.0))
-    tr = np.maximum(np.maximum(np.abs(s1 - s2), np.abs(s1 - szz)), np.abs(s2 - szz))
-    ang = np.degrees(0.5 * np.arctan2(2 * txy, sxx - syy))
-    return {"sigma_xx": sxx, "sigma_yy": syy, "tau_xy": txy, "sigma_zz": szz, "von_mises": vm,
-            "tresca": tr, "sigma_1": s1, "sigma_2": s2, "principal_angle": ang}
-
-
-def _poly_basis(cell: str, xi: np.ndarray, deg: int) -> np.ndarray:
-    x, y = xi[:, 0], xi[:, 1]
-    if cell == "triangle":
-        cols = [x**a * y**b for a in range(deg + 1) for b in range(deg + 1 - a)]
-    else:
-        cols = [x**a * y**b for a in range(deg + 1) for b in range(deg + 1)]
-    return np.column_stack(cols)
-
-
-def extrapolation_matrix(etype, rule) -> np.ndarray:
-    """Matrix E (k, q) taking Gauss-point values to the element's nodes by a least-squares fit.
-
-    The fit uses the complete polynomial of the stresses' own degree (p - 1 on triangles, p per
-    direction on quadrilaterals), capped by what the rule's points can determine.
-    """
-    q = rule.n_points
-    if etype.cell == "triangle":
-        deg = max(etype.degree - 1, 0)
-        while deg > 0 and (deg + 1) * (deg + 2) // 2 > q:
-            deg -= 1
-    else:
-        deg = etype.degree
-        while deg > 0 and (deg + 1) ** 2 > q:
-            deg -= 1
-    Pg = _poly_basis(etype.cell, rule.points, deg)
-    while deg > 0 and np.linalg.matrix_rank(Pg) < Pg.shape[1]:
-        deg -= 1
-        Pg = _poly_basis(etype.cell, rule.points, deg)
-    Pn = _poly_basis(etype.cell, etype.ref_nodes, deg)
-    return Pn @ np.linalg.pinv(Pg)
 
 
 @dataclass
@@ -126,7 +56,7 @@ class GaussField:
     szz: np.ndarray
 
 
-class Result:
+class Result(CaseResult):
     """Solution of one load case.
 
     Attributes
@@ -162,6 +92,16 @@ class Result:
         self.warnings: list = list(getattr(assembly, "warnings", None) or [])  # kept by the checks before the solve
 
     @property
+    def initial_strains(self) -> list:
+        """The initial strains of this case, one entry per element block (None where there are none).
+
+        Each entry is an array (e, q, 4) of (eps_xx, eps_yy, eps_zz, gamma_xy) at the points of the
+        block's stress rule (e.g. a temperature change times the expansion coefficients). Stress
+        recovery and load combinations read them here.
+        """
+        return list(self._e0) if self._e0 is not None else [None] * len(self.assembly.blocks)
+
+    @property
     def n_dofs(self) -> int:
         return 2 * self.mesh.n_nodes
 
@@ -176,27 +116,16 @@ class Result:
         out = []
         nodes = self.mesh.nodes
         for b, e0 in zip(self.assembly.blocks, self._e0):
-            rule = b.etype.default_rule() if b.rule_mode == "selective" else b.rule
+            rule = stress_rule(b)
             x, dv, _ = b.geometry(nodes, rule)
-            strain = np.empty((b.n, rule.n_points, 3))
-
-            def chunk(s: int, b=b, rule=rule, strain=strain):
-                coords = nodes[b.conn[s : s + CHUNK]]
-                ue = self.u[b.conn[s : s + CHUNK]].reshape(coords.shape[0], -1)
-                strain[s : s + CHUNK] = element_strains(b.etype, coords, b.D, ue, rule)
-
-            map_chunks(chunk, range(0, b.n, CHUNK))
             if e0 is not None:
                 if e0.shape[1] != rule.n_points:
                     raise InputError("initial strains were given on another rule than the stress rule")
-                mech = strain - self.assembly.effective_initial_strain(b, e0)
-                e0zz = e0[..., 2]
+                at = stress_at(b, nodes, self.u, rule, analysis=self.model.analysis,
+                               initial_strain=self.assembly.effective_initial_strain(b, e0), initial_zz=e0[..., 2])
             else:
-                mech = strain
-                e0zz = 0.0
-            stress = np.einsum("ab,eqb->eqa", b.D, mech)
-            szz = sigma_zz(b.material, self.model.analysis, stress, e0zz) if hasattr(b.material, "compliance3d") else np.zeros(stress.shape[:2])
-            out.append(GaussField(b, rule, x, dv, strain, mech, stress, szz))
+                at = stress_at(b, nodes, self.u, rule, analysis=self.model.analysis)
+            out.append(GaussField(b, rule, x, dv, at.strain, at.mech_strain, at.stress, at.szz))
         return out
 
     def gauss_values(self, name: str) -> list[np.ndarray]:
@@ -219,35 +148,21 @@ class Result:
             extrapolated to each element's nodes and averaged over the elements that share a node.
             Both work region by region (no smoothing across a change of material or thickness); at
             an interface node the region with the larger von Mises stress gives the value
-            (:func:`planar.post.recovery.recover`).
+            (:func:`planar.core.recovery.recover`).
         """
         key = f"stress:{method}"
         if key not in self._nodal_cache:
-            if method not in ("average", "spr"):
+            if method not in METHODS:
                 raise InputError(f"unknown stress recovery {method!r}; pick 'spr' or 'average'")
-            from ..post.recovery import recover  # noqa: the one deferred core -> post import
-
             vals = recover(self, method=method)
             self._nodal_cache[key] = vals
         v = self._nodal_cache[key]
         return v[:, :3], v[:, 3]
 
     def _average(self, getter: Callable) -> np.ndarray:
-        n = self.mesh.n_nodes
-        acc = None
-        cnt = np.zeros(n)
-        for g in self.gauss:
-            vals = getter(g)  # (e, q, c)
-            E = extrapolation_matrix(g.block.etype, g.rule)  # (k, q)
-            nv = np.einsum("kq,eqc->ekc", E, vals)
-            if acc is None:
-                acc = np.zeros((n, vals.shape[-1]))
-            np.add.at(acc, g.block.conn.ravel(), nv.reshape(-1, vals.shape[-1]))
-            np.add.at(cnt, g.block.conn.ravel(), 1.0)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            out = acc / cnt[:, None]
-        out[cnt == 0] = 0.0
-        return out
+        """Gauss values (getter(g): (e, q, c)) averaged at the nodes; zero where no element is."""
+        return nodal_average(self.mesh.n_nodes, ((g.block.etype, g.rule, g.block.conn, getter(g)) for g in self.gauss),
+                             empty=0.0)
 
     def field(self, name: str, *, method: str = "spr") -> np.ndarray:
         """A nodal field by name.
@@ -396,92 +311,3 @@ class Result:
             "solver": self.solver,
             "warnings": [w.as_dict() for w in self.warnings],
         }
-
-
-def as_result(obj: Any, where: str, *, also: str = "") -> "Result":
-    """``obj`` if it is one load case's :class:`Result`, else an InputError saying what to pass.
-
-    The one check used by every function that takes a result (checks, plots, VTK output, reports,
-    error estimates, combinations), so that the dict :func:`planar.solve` returns, a Model or
-    anything else gets the same fix.
-
-    Parameters
-    ----------
-    obj : Any
-        What the user passed.
-    where : str
-        The function's name for the message (e.g. ``"kt"``).
-    also : str, optional
-        Another accepted input, added to the message (e.g. ``"give the peak stress as a number"``).
-
-    Returns
-    -------
-    Result
-
-    Raises
-    ------
-    InputError
-        Naming what was given and the fix, e.g. ``results['pull']`` with the case names of a dict.
-    """
-    if isinstance(obj, Result):
-        return obj
-    try:
-        _refuse(obj, where)
-    except InputError as exc:
-        raise InputError(f"{exc}{'; or ' + also if also else ''}") from None
-    return obj  # pragma: no cover - _refuse always raises
-
-
-def _refuse(obj: Any, where: str) -> None:
-    from collections.abc import Mapping
-
-    fix = "pass one load case's result"
-    if isinstance(obj, Mapping):
-        names = [str(k) for k in obj]
-        if names and all(isinstance(v, Result) for v in obj.values()):
-            raise InputError(
-                f"{where} takes one load case's Result, but got the dict of results that solve() returns "
-                f"(cases {', '.join(map(repr, names))}); {fix}: results[{names[0]!r}]"
-            )
-        raise InputError(f"{where} takes one load case's Result, got a {type(obj).__name__} with keys "
-                         f"{names[:5]}; {fix}, e.g. planar.solve(model)['case name']")
-    if type(obj).__name__ == "Model" and hasattr(obj, "cases") and hasattr(obj, "mesh"):
-        cases = list(getattr(obj, "cases", {}) or {})
-        first = repr(cases[0]) if cases else "'case name'"
-        raise InputError(f"{where} takes one load case's Result, got the Model itself; solve it first and "
-                         f"{fix}: planar.solve(model)[{first}]")
-    raise InputError(f"{where} takes one load case's Result (from planar.solve(model)['case name']), got "
-                     f"{type(obj).__name__}")
-
-
-def as_results(obj: Any, where: str) -> "dict[str, Result]":
-    """``obj`` as a dict of name -> :class:`Result` (what :func:`planar.solve` returns), else an InputError.
-
-    Parameters
-    ----------
-    obj : Any
-        What the user passed.
-    where : str
-        The function's name for the message (e.g. ``"envelope"``).
-
-    Raises
-    ------
-    InputError
-        One Result, a Model, or a mapping holding something else, with the fix.
-    """
-    from collections.abc import Mapping
-
-    if isinstance(obj, Mapping):
-        for k, v in obj.items():
-            if not isinstance(v, Result):
-                raise InputError(f"{where}: results[{k!r}] is a {type(v).__name__}, not a planar Result; "
-                                 "pass the dict planar.solve(model) returns (name -> Result)")
-        return dict(obj)
-    if isinstance(obj, Result):
-        raise InputError(f"{where} takes the dict of results that solve() returns (name -> Result), got one "
-                         f"Result (load case {obj.case!r}); pass planar.solve(model), or {{{obj.case!r}: result}}")
-    if type(obj).__name__ == "Model" and hasattr(obj, "cases") and hasattr(obj, "mesh"):
-        raise InputError(f"{where} takes the dict of results that solve() returns, got the Model itself; solve it "
-                         "first: planar.solve(model)")
-    raise InputError(f"{where} takes the dict of results that solve() returns (name -> Result), got "
-                     f"{type(obj).__name__}")

@@ -144,8 +144,9 @@ class CombinedResult(Result):
         R = np.einsum("i,ink->nk", f, np.stack([r.reactions for _, r in parts]))
         F = np.einsum("i,ink->nk", f, np.stack([r.applied for _, r in parts]))
         e0 = []
+        e0s = [(fi, r.initial_strains) for fi, r in parts]
         for k in range(len(first.assembly.blocks)):
-            arrays = [(fi, r._e0[k]) for fi, r in parts if r._e0[k] is not None]
+            arrays = [(fi, ek[k]) for fi, ek in e0s if ek[k] is not None]
             e0.append(None if not arrays else sum(fi * a for fi, a in arrays))
         solvers = sorted({r.solver for _, r in parts if r.solver})
         super().__init__(first.assembly, str(name), u, R, F, e0,

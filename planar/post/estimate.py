@@ -1,6 +1,6 @@
 """A posteriori error estimate in the energy norm (Zienkiewicz-Zhu), element by element.
 
-The recovered stresses sigma* (see :mod:`planar.post.recovery`) are far more accurate than the raw
+The recovered stresses sigma* (see :mod:`planar.core.recovery`) are far more accurate than the raw
 finite-element stresses sigma_h, so their difference measures the error of sigma_h (O. C. Zienkiewicz
 and J. Z. Zhu, "A simple error estimator and adaptive procedure for practical engineering analysis",
 Int. J. Numer. Methods Eng. 24, 1987; with SPR: "The superconvergent patch recovery and a posteriori
@@ -18,12 +18,12 @@ from typing import Callable
 
 import numpy as np
 
-from ..core.assembly import CHUNK, element_strains, jacobian, shape_values
-from ..core.parallel import map_chunks
+from ..core.assembly import shape_values
 from ..core.errors import InputError
+from ..core.recovery import METHODS, recover
 from ..core.result import as_result
+from ..core.stress import has_initial_strain, stress_at
 from .norms import energy_norm_error, stress_error_rule
-from .recovery import METHODS, _has_initial_strain, recover
 
 __all__ = ["ErrorEstimate", "estimate_error", "effectivity"]
 
@@ -97,26 +97,6 @@ class ErrorEstimate:
         return self.summary()
 
 
-def _stress_at(result, block, rule):
-    """FE stress (e, q, 3), dvol (e, q) and N (q, k) of a block at a rule's points."""
-    nodes = result.mesh.nodes
-    N = shape_values(block.etype, rule.points)
-    stress = np.empty((block.n, rule.n_points, 3))
-    dvol = np.empty((block.n, rule.n_points))
-
-    def chunk(s: int) -> None:
-        conn = block.conn[s : s + CHUNK]
-        coords = nodes[conn]
-        ue = result.u[conn].reshape(coords.shape[0], -1)
-        det, dNdx = jacobian(block.etype, coords, rule.points)
-        eps = element_strains(block.etype, coords, block.D, ue, rule, dNdx)
-        stress[s : s + CHUNK] = np.einsum("ab,eqb->eqa", block.D, eps)
-        dvol[s : s + CHUNK] = det * rule.weights[None, :] * block.thickness
-
-    map_chunks(chunk, range(0, block.n, CHUNK))
-    return stress, dvol, N
-
-
 def estimate_error(result, *, recovery: str = "spr") -> ErrorEstimate:
     """Zienkiewicz-Zhu error indicators of a result.
 
@@ -161,12 +141,13 @@ def estimate_error(result, *, recovery: str = "spr") -> ErrorEstimate:
     norm2 = 0.0
     for b, g in zip(result.assembly.blocks, result.gauss):
         Dinv = np.linalg.inv(b.D)
-        if _has_initial_strain(g):
+        if has_initial_strain(g):
             sh, dvol, rule = g.stress, g.dvol, g.rule
             N = shape_values(b.etype, rule.points)
         else:
             rule = stress_error_rule(b.etype)
-            sh, dvol, N = _stress_at(result, b, rule)
+            at = stress_at(b, mesh.nodes, result.u, rule, dvol=True)
+            sh, dvol, N = at.stress, at.dvol, shape_values(b.etype, rule.points)
         nodal = star[b.region][:, :3]
         ss = np.einsum("qk,ekc->eqc", N, nodal[b.conn])
         d = ss - sh
