@@ -5,9 +5,9 @@ be built in the original position, rotated, or mirrored, and the answers compare
 node numbering is kept). Invalid inputs are drawn per kind and must each end in a planar error
 (a subclass of :class:`planar.core.errors.PlanarError`) whose message names the problem.
 
-Hypothesis profiles: ``"fast"`` (the default run) and ``"slow"`` (``pytest -m slow``), both
-derandomized, without a deadline and without an example database, so every run checks the same
-cases. :data:`COUNTS` counts the cases each test really ran; the suites report them at the end.
+Hypothesis profiles: ``"fast"`` (the default run) and ``"slow"`` (``pytest -m slow``), registered in
+conftest.py: both derandomized, without a deadline and without an example database, so every run
+checks the same cases. :data:`COUNTS` counts the cases each test really ran; the suites report them at the end.
 """
 from __future__ import annotations
 
@@ -18,9 +18,10 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-from hypothesis import HealthCheck, reject, settings
+from hypothesis import reject, settings
 from hypothesis import strategies as st
 
+import _models
 import planar
 from planar.core.assembly import prepare
 from planar.core.errors import (ElementError, GeometryError, InputError, MaterialError, MeshError, PlanarError,
@@ -30,11 +31,7 @@ from planar.geometry import Circle, Ellipse, Plate, Rectangle, RoundedRectangle,
 from planar.geometry import element_options
 from planar.geometry.structured import mapped_mesh, quad_panel_mesh, rectangle_mesh
 
-_COMMON = dict(deadline=None, derandomize=True, database=None, print_blob=False,
-               suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large,
-                                      HealthCheck.filter_too_much])
-settings.register_profile("fast", max_examples=40, **_COMMON)
-settings.register_profile("slow", max_examples=100, **_COMMON)
+# the profiles are registered once, in conftest.py
 FAST = settings.get_profile("fast")
 SLOW = settings.get_profile("slow")
 
@@ -568,8 +565,9 @@ bad_finite = st.sampled_from([float("nan"), float("inf"), -float("inf")])
 
 
 def strip_model(el="Q4", nx=4, ny=2):
-    mesh = rectangle_mesh(10.0, 2.0, nx, ny, el)
-    return mesh, planar.Model(mesh, planar.Isotropic(70e3, 0.3), 1.0)
+    model = _models.strip_model(10.0, 2.0, nx, ny, el, material=planar.Isotropic(70e3, 0.3), thickness=1.0,
+                                hold=None)
+    return model.mesh, model
 
 
 def mesh_file_variants():

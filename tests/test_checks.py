@@ -7,13 +7,12 @@ import os
 import numpy as np
 import pytest
 
+from _models import strip_model
 from planar.core.errors import InputError
 from planar.core.loads import Traction
 from planar.core.materials import Isotropic
 from planar.core.mesh import Mesh
-from planar.core.model import Model
 from planar.core.static import solve
-from planar.core.supports import Roller
 from planar.geometry.structured import rectangle_mesh
 from planar.post.checks import (CAUTION, cut_resultant, kt, margin_of_safety, nominal_gross, nominal_net,
                                 path_stresses)
@@ -28,12 +27,10 @@ def _strip(element="Q8", sigma=50.0, W=20.0, L=100.0, t=2.0, nu=0.33, regions=Fa
         mesh = Mesh(mesh.nodes, mesh.cells, mesh.edge_sets, mesh.node_sets,
                     regions={"thin": {element: np.flatnonzero(cen[:, 0] < L / 2)},
                              "thick": {element: np.flatnonzero(cen[:, 0] > L / 2)}})
-    model = Model(mesh, Isotropic(70e3, nu), thickness=t)
+    model = strip_model(mesh=mesh, material=Isotropic(70e3, nu), thickness=t, hold="roller",
+                        loads={"pull": Traction("right", tx=sigma * (2 if regions else 1))})
     if regions:
         model.assign("thick", thickness=2 * t)
-    model.add_support(Roller("left", fixed="x"))
-    model.add_support(Roller("corner_00", fixed="y"))
-    model.add_load(Traction("right", tx=sigma * (2 if regions else 1)), case="pull")
     return solve(model)["pull"]
 
 

@@ -9,17 +9,13 @@ Physics checked against sources:
 """
 import json
 import re
-import sys
-from pathlib import Path
 
 import meshio
 import numpy as np
 import pytest
 
 from planar.cli import main
-
-sys.path.insert(0, str(Path(__file__).parent))
-from test_report import browser_render, figure_pixels  # noqa: E402  (the same browser check)
+from test_report import browser_render, figure_pixels  # the same browser check (tests/ is on the path: conftest.py)
 
 
 # ---------------------------------------------------------------------------------------- demo
@@ -179,7 +175,7 @@ def test_run_shows_the_users_traceback(tmp_path, capsys):
     assert main(["run", str(script), "--out", str(tmp_path / "o")]) == 1
     err = capsys.readouterr().err
     assert "Traceback" in err and "ZeroDivisionError" in err and 'oops.py", line 2' in err
-    assert "runpy" not in err and "planar/demo.py" not in err     # only the user's frames
+    assert "runpy" not in err and "planar/cli/run.py" not in err     # only the user's frames
 
 
 def test_run_passes_exit_codes_and_refuses_missing_scripts(tmp_path, capsys):

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import strip_model
 from planar import (BodyForce, Fixed, Isotropic, Model, Orthotropic, PointForce, Prescribed, Pressure,
                     Roller, Symmetry, Traction, rectangle_mesh, solve)
 from planar.core.errors import (ElementError, InputError, MaterialError, MeshError, NameNotFoundError,
@@ -19,9 +20,8 @@ ELEMENTS = ["T3", "T6", "Q4", "Q8", "Q9"]
 
 
 def strip(el="Q4", nx=8, ny=2, L=100.0, W=20.0, t=2.0, mat=None, **kw):
-    mesh = rectangle_mesh(L, W, nx, ny, el)
-    model = Model(mesh, mat or Isotropic(70e3, 0.33), thickness=t, **kw)
-    return mesh, model
+    model = strip_model(L, W, nx, ny, el, material=mat, thickness=t, hold=None, **kw)
+    return model.mesh, model
 
 
 @pytest.mark.parametrize("el", ELEMENTS)

@@ -28,6 +28,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import solved_strip
 from planar.core.errors import GeometryError, OutputError, PlanarError, ResourceError
 
 WRITER = r"""
@@ -51,11 +52,8 @@ while True:
 
 
 def _good_result(nx=12, ny=4):
-    mesh = planar.rectangle_mesh(120.0, 40.0, nx, ny, "Q8")
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.3), 1.0)
-    model.add_support(planar.Fixed("left"))
-    model.add_load(planar.Traction("right", tx=10.0), case="c")
-    return planar.solve(model)["c"]
+    return solved_strip(120.0, 40.0, nx, ny, "Q8", material=planar.Isotropic(70e3, 0.3), thickness=1.0,
+                        case="c", loads={"c": planar.Traction("right", tx=10.0)})
 
 
 def _generation(path: Path) -> tuple[float, int]:

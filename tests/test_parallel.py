@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import strip_model
 from planar.core import parallel
 from planar.core.errors import InputError, PluginError
 from planar.post import recovery
@@ -17,13 +18,8 @@ from planar.post import recovery
 
 def _model(element="Q8", nx=100, ny=50):
     # more elements than one chunk (4096), so the pool really splits the work
-    mesh = planar.rectangle_mesh(200.0, 50.0, nx, ny, element)
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
-    model.add_support(planar.Roller("left", fixed="x"))
-    model.add_support(planar.Roller("corner_00", fixed="y"))
-    model.add_load(planar.Traction("right", tx=40.0), case="pull")
-    model.add_load(planar.Traction("top", ty=-5.0), case="press")
-    return model
+    return strip_model(200.0, 50.0, nx, ny, element, hold="roller", units="N, mm, MPa",
+                       loads={"pull": planar.Traction("right", tx=40.0), "press": planar.Traction("top", ty=-5.0)})
 
 
 def _run(monkeypatch, n):

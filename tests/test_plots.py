@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import solved_strip
 from planar.core.errors import InputError, NameNotFoundError
 from planar.post import plots
 from planar.post.plots import (deformation_scale, field_label, field_unit, length_unit, plot_along,
@@ -21,11 +22,8 @@ LAYOUTS = ["T3", "T6", "Q4", "Q8", "Q9"]
 
 
 def _strip(el="Q8", nx=8, ny=2, load=60.0):
-    mesh = planar.rectangle_mesh(80.0, 20.0, nx, ny, el)
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("left"))
-    model.add_load(planar.Traction("right", tx=load, ty=-0.1 * load), case="pull")
-    return planar.solve(model)["pull"]
+    return solved_strip(80.0, 20.0, nx, ny, el, units="N, mm, MPa", case="pull",
+                        loads={"pull": planar.Traction("right", tx=load, ty=-0.1 * load)})
 
 
 def _hole_mesh():

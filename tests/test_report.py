@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import solved_strip
 from planar.core.errors import InputError
 from planar.post.plots import figure_png, plot_field
 from planar.post.report import (CAUTIONS, Figure, KeyValues, Notice, Paragraph, Report, Section,
@@ -26,11 +27,8 @@ CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 
 
 def _result():
-    mesh = planar.rectangle_mesh(80.0, 20.0, 16, 4, "Q8")
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("left"))
-    model.add_load(planar.Traction("right", tx=60.0, ty=-3.0), case="pull <&>")
-    return planar.solve(model)["pull <&>"]
+    return solved_strip(80.0, 20.0, 16, 4, "Q8", units="N, mm, MPa", case="pull <&>",
+                        loads={"pull <&>": planar.Traction("right", tx=60.0, ty=-3.0)})
 
 
 def _report(result, title="Strap <check> & \"quotes\""):

@@ -9,18 +9,15 @@ import pytest
 import scipy.linalg
 
 import planar
+from _models import strip_model
 from planar.core import solvers
 from planar.core.assembly import Assembly
 from planar.core.errors import ResourceError, SolverError
 
 
 def _model(el="Q8", nx=20, ny=6):
-    mesh = planar.rectangle_mesh(60.0, 12.0, nx, ny, el)
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0)
-    model.add_support(planar.Fixed("left"))
-    model.add_load(planar.Traction("right", ty=-3.0), case="shear")
-    model.add_load(planar.Traction("right", tx=40.0), case="pull")
-    return model
+    return strip_model(60.0, 12.0, nx, ny, el, loads={"shear": planar.Traction("right", ty=-3.0),
+                                                      "pull": planar.Traction("right", tx=40.0)})
 
 
 def _dense_reference(model, case: str) -> np.ndarray:

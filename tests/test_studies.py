@@ -17,6 +17,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import strip_model
 import planar.studies as studies
 from planar.core.errors import InputError, NameNotFoundError, PlanarError, ResourceError
 from planar.studies import (ConcentrationFactor, Peak, SafetyMargin, ValueAt, grid, load_table, parse_output,
@@ -59,13 +60,9 @@ def strap_with_numbers(width, thickness=2.0):
 
 
 def strap_model(width):
-    mesh = planar.rectangle_mesh(100.0, width, 4, 2, "Q8")
-    model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0)
-    model.add_support(planar.Roller("left", fixed="x"))
-    model.add_support(planar.Roller("corner_00", fixed="y"))
-    model.add_load(planar.Traction("right", tx=10.0), case="pull")
-    model.add_load(planar.Traction("right", tx=20.0), case="pull twice")
-    return model
+    return strip_model(100.0, width, 4, 2, "Q8", hold="roller",
+                       loads={"pull": planar.Traction("right", tx=10.0),
+                              "pull twice": planar.Traction("right", tx=20.0)})
 
 
 def mean_ux(result, values):

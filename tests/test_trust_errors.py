@@ -30,6 +30,7 @@ import numpy as np
 import pytest
 
 import planar
+from _models import strip_model
 from planar.cli import main
 from planar.core.digest import ATTRIBUTE, check_digest, find_digest
 from planar.core.errors import InputError, MaterialError, MeshError, NameNotFoundError, PlanarError, PlanarWarning
@@ -46,11 +47,9 @@ def _mesh():
 
 
 def _model(material=None, mesh=None):
-    model = planar.Model(mesh or _mesh(), material or planar.Isotropic(210e3, 0.3), thickness=4.0)
-    model.add_support(planar.Roller("left", fixed="x"))
-    model.add_support(planar.Roller("corner_00", fixed="y"))
-    model.add_load(planar.Traction("right", tx=120.0), case="pull")
-    model.add_load(planar.Traction("right", tx=-60.0), case="push")
+    model = strip_model(mesh=mesh or _mesh(), material=material or planar.Isotropic(210e3, 0.3), thickness=4.0,
+                        hold="roller", loads={"pull": planar.Traction("right", tx=120.0),
+                                              "push": planar.Traction("right", tx=-60.0)})
     return model
 
 
@@ -498,7 +497,7 @@ def test_run_shows_the_scripts_syntax_error_only(tmp_path, capsys, source, line)
     code, _, err = _cli(capsys, "run", script, "--out", tmp_path / "out")
     assert code == 1
     assert f'File "{script}", line {line}' in err and "^" in err
-    assert "Traceback" not in err and "runpy" not in err and "planar/demo.py" not in err
+    assert "Traceback" not in err and "runpy" not in err and "planar/cli/run.py" not in err
 
 
 def test_run_on_a_script_that_cannot_be_compiled_or_imports_a_broken_module(tmp_path, capsys):
@@ -512,7 +511,7 @@ def test_run_on_a_script_that_cannot_be_compiled_or_imports_a_broken_module(tmp_
     code, _, err = _cli(capsys, "run", script, "--out", tmp_path / "out")
     # the user's own frames (the import line, the broken module with its caret), none of planar's
     assert code == 1 and f'File "{script}", line 1' in err and "helper_part.py" in err and "^" in err
-    assert "runpy" not in err and "planar/demo.py" not in err
+    assert "runpy" not in err and "planar/cli/run.py" not in err
 
 
 @pytest.mark.slow
