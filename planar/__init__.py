@@ -38,13 +38,7 @@ from .core.static import solve
 from .core.supports import Fixed, Prescribed, Roller, Symmetry
 from .geometry.structured import rectangle_mesh
 from .post.vtk import write_vtu
-
-
-def output_dir():
-    """The output folder of a script run by ``planar run SCRIPT --out DIR`` (./planar-out otherwise)."""
-    from .demo import output_dir as _output_dir
-
-    return _output_dir()
+from .paths import output_dir  # the output folder of a script run by ``planar run SCRIPT --out DIR``
 
 __all__ = [
     "Mesh", "Model", "Result", "solve", "write_vtu", "rectangle_mesh", "output_dir",

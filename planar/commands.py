@@ -1,36 +1,11 @@
-"""Sub-commands of the ``planar`` command line beyond ``verify``.
-
-Each registers itself with :func:`planar.cli.command`; keep one small function per command.
+"""Moved: the sub-commands are now the modules of :mod:`planar.cli` (``planar plugins`` is
+:mod:`planar.cli.plugins`). This module is kept for one release and will be removed.
 """
 from __future__ import annotations
 
-from .cli import command
+import warnings
 
-__all__ = []
+warnings.warn("planar.commands is deprecated: the commands live in the planar.cli package "
+              "(planar.cli.plugins, planar.cli.verify, ...)", DeprecationWarning, stacklevel=2)
 
-
-def _table(rows: list[tuple[str, ...]]) -> list[str]:
-    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
-    return ["  " + "  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
-
-
-@command("plugins", "list the installed element types and load kinds, and the plugins that failed to load")
-def _plugins(args) -> int:
-    """Exit code 0 when every entry point loaded, 1 when there are problems (they are listed)."""
-    from .core.registry import GROUPS, registry
-
-    reg = registry()
-    rows = [("name", "kind", "distribution", "version", "provided by")]
-    for kind in GROUPS:
-        for e in sorted(reg.entries[kind].values(), key=lambda e: (e.distribution != "planar", e.name)):
-            rows.append((e.name, kind, e.distribution, e.version, e.value))
-    print("Installed element types and load kinds (entry-point groups " + ", ".join(GROUPS.values()) + "):")
-    print("\n".join(_table(rows)))
-    if not reg.problems:
-        print("\nNo problems: every plugin loaded.")
-        return 0
-    print(f"\nProblems ({len(reg.problems)}): these were skipped, everything else works.")
-    for p in reg.problems:
-        version = f" {p.version}" if p.version else ""
-        print(f"  {p.kind} {p.name!r} from {p.distribution}{version}: {p.error}")
-    return 1
+__all__: list[str] = []

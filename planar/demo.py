@@ -1,63 +1,30 @@
-"""The user's front: ``planar demo``, ``planar run`` and ``planar show``.
+"""The demo: a complete stress check on a built-in part.
 
-``planar demo`` runs the whole job of a stress check on a built-in part, a fictional aluminium
-splice strap with an open bolt hole pulled in tension: gmsh mesh of quadratic triangles, static
+:func:`run_demo` (the ``planar demo`` command, :mod:`planar.cli.demo`) runs the whole job of a
+stress check on a built-in part, a fictional aluminium splice strap with an open bolt hole pulled in tension: gmsh mesh of quadratic triangles, static
 solution, stresses by superconvergent patch recovery, a convergence study on a family of meshes,
 the net-section stress concentration factor against the handbook curve, the margin of safety
 against an allowable with a factor of safety, and the estimated discretisation error. It writes the
 VTK result, PNG figures and the HTML report into one folder and prints a summary table.
 
-``planar run SCRIPT.py`` runs a user's script with the output folder set (see :func:`output_dir`).
-
-``planar show RESULT.vtu`` draws a field of a written result as a PNG picture.
+:func:`output_dir` lives in :mod:`planar.paths` and is re-exported here for scripts written against
+``from planar.demo import output_dir``; ``planar run`` and ``planar show`` are modules of
+:mod:`planar.cli`.
 """
 from __future__ import annotations
 
-import argparse
 import json
 import math
 import os
-import runpy
 import sys
 import time
-import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .cli import command
-from .core.errors import InputError, PlanarError
+from .paths import DEFAULT_OUT, OUT_ENV, output_dir  # noqa: F401 (re-exported: scripts import output_dir from here)
 
 __all__ = ["SpliceStrap", "run_demo", "output_dir", "DemoOutcome", "format_summary"]
-
-#: environment variable holding the output folder of ``planar run`` (and read by output_dir())
-OUT_ENV = "PLANAR_OUT"
-DEFAULT_OUT = "planar-out"
-
-
-# ---------------------------------------------------------------------------------------- output folder
-def output_dir(default: str | os.PathLike = DEFAULT_OUT) -> Path:
-    """The folder a script should write its files into; created if missing.
-
-    Under ``planar run SCRIPT.py --out DIR`` this is DIR (the command sets the environment variable
-    ``PLANAR_OUT`` and the script's global ``OUTPUT_DIR``). A script run with plain ``python`` gets
-    ``$PLANAR_OUT`` if set, else ``default`` (``./planar-out``).
-
-    Examples
-    --------
-    >>> import os, tempfile
-    >>> from planar.demo import output_dir
-    >>> os.environ["PLANAR_OUT"] = tempfile.mkdtemp()
-    >>> output_dir().is_dir()
-    True
-    >>> del os.environ["PLANAR_OUT"]
-    """
-    p = Path(os.environ.get(OUT_ENV) or default)
-    try:
-        p.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(f"cannot create the output folder {str(p)!r}: {exc.strerror}") from None
-    return p
 
 
 class _Progress:
@@ -527,256 +494,3 @@ def format_summary(outcome: DemoOutcome) -> str:
               "", "  Linear-elastic, static results: no buckling, fatigue, fracture or plasticity check.",
               "  They need review by a qualified engineer under the applicable codes."]
     return "\n".join(lines)
-
-
-# ---------------------------------------------------------------------------------------- commands
-class _Formatter(argparse.RawDescriptionHelpFormatter):
-    """Keeps the line breaks of the (pre-wrapped) description and of the examples."""
-
-
-def _wrap(text: str, width: int = 78) -> str:
-    """Wrap each paragraph (separated by blank lines) of a help text."""
-    import textwrap
-
-    return "\n\n".join(textwrap.fill(par, width) for par in text.split("\n\n"))
-
-
-def _demo_args(p: argparse.ArgumentParser) -> None:
-    p.formatter_class = _Formatter
-    p.description = _wrap(
-        "Run a complete stress check on a built-in part: a fictional aluminium splice strap, "
-        "200 x 50 x 3 mm, with an open 20 mm bolt hole, pulled with 6 kN (units N, mm, MPa).\n\n"
-        "Steps: mesh with quadratic triangles (gmsh), solve, recover the stresses at the hole edge "
-        "by superconvergent patch recovery, repeat on a family of finer meshes to show convergence "
-        "(Richardson extrapolation and grid convergence index), compare the net-section stress "
-        "concentration factor Kt with the handbook curve, work out the margin of safety against "
-        "an allowable with a factor of safety, and estimate the discretisation error.\n\n"
-        "Writes into the output folder: the result for any VTK viewer (.vtu, quadratic cells, "
-        "displacement and stress fields), PNG figures, and a self-contained HTML report; prints a "
-        "summary table. Needs no input files and no network.")
-    p.epilog = ("examples:\n  planar demo\n  planar demo --out /tmp/strap-check\n\n"
-                "Linear-elastic, static results; no buckling, fatigue, fracture or plasticity check.")
-    p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
-                   help=f"folder for the result files, figures and report, created if missing "
-                        f"(default: ./{DEFAULT_OUT})")
-    p.add_argument("--verbose", action="store_true",
-                   help="report each step on stderr even when it is not a terminal")
-
-
-@command("demo", "run a complete stress check on a built-in splice strap and write result, figures and report")
-def _demo(args) -> int:
-    outcome = run_demo(args.out, verbose=True if args.verbose else None)
-    print(format_summary(outcome))
-    return 0
-
-
-_demo.arguments = _demo_args
-
-
-def _run_args(p: argparse.ArgumentParser) -> None:
-    p.formatter_class = _Formatter
-    p.description = _wrap(
-        "Run your own geometry-and-model script (plain Python that uses planar) with the output "
-        "folder set.\n\n"
-        "Inside the script the folder is available three ways: the global variable OUTPUT_DIR "
-        "(a pathlib.Path), the environment variable PLANAR_OUT, and planar.demo.output_dir(). "
-        "The script runs as __main__ in the current working directory, with its own folder first "
-        "on the import path, as with 'python SCRIPT.py'.\n\n"
-        "A planar error in the script (an unknown edge name, a model that can still move, ...) is "
-        "printed in two lines with the line of the script that caused it; any other error shows "
-        "the script's traceback.")
-    p.epilog = ("example script:\n"
-                "  import planar\n"
-                "  from planar.demo import output_dir\n"
-                "  mesh = planar.rectangle_mesh(100.0, 20.0, 20, 4, \"Q8\")\n"
-                "  model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0, units=\"N, mm, MPa\")\n"
-                "  model.add_support(planar.Fixed(\"left\"))\n"
-                "  model.add_load(planar.Traction(\"right\", tx=50.0), case=\"pull\")\n"
-                "  planar.write_vtu(output_dir() / \"strap.vtu\", planar.solve(model)[\"pull\"])\n\n"
-                "examples:\n  planar run strap.py\n  planar run strap.py --out results/strap")
-    p.add_argument("script", metavar="SCRIPT.py", help="the Python script to run")
-    p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
-                   help=f"output folder handed to the script, created if missing (default: ./{DEFAULT_OUT})")
-
-
-def _script_frames(tb, script: Path):
-    """Traceback entries that belong to the user's script (and what it called)."""
-    first = None
-    last = None
-    while tb is not None:
-        fn = tb.tb_frame.f_code.co_filename
-        try:
-            same = Path(fn).resolve() == script
-        except OSError:
-            same = False
-        if same:
-            first = first or tb
-            last = tb
-        tb = tb.tb_next
-    return first, last
-
-
-def _same_file(name, script: Path) -> bool:
-    try:
-        return name is not None and Path(name).resolve() == script
-    except (OSError, TypeError, ValueError):
-        return False
-
-
-def _user_traceback(exc: BaseException, script: Path) -> int:
-    """Print the traceback of an error in the user's code from their script's first frame on."""
-    first, _ = _script_frames(exc.__traceback__, script)
-    if first is None and exc.__traceback__ is not None:  # raised before the script ran a line (e.g. runpy)
-        print("".join(traceback.format_exception_only(type(exc), exc)).rstrip(), file=sys.stderr)
-    else:
-        traceback.print_exception(type(exc), exc, first or exc.__traceback__, file=sys.stderr)
-    print(f"planar run: {script.name} stopped with {type(exc).__name__} (traceback above)", file=sys.stderr)
-    return 1
-
-
-@command("run", "run your geometry-and-model script with the output folder set")
-def _run(args) -> int:
-    script = Path(args.script)
-    if not script.is_file():
-        raise InputError(f"script {str(script)!r} does not exist (give the path of a .py file)")
-    script = script.resolve()
-    out = output_dir(args.out).resolve()
-    saved = (os.environ.get(OUT_ENV), list(sys.argv), list(sys.path))
-    os.environ[OUT_ENV] = str(out)
-    sys.argv = [str(script)]
-    sys.path.insert(0, str(script.parent))
-    try:
-        runpy.run_path(str(script), init_globals={"OUTPUT_DIR": out}, run_name="__main__")
-    except SystemExit as exc:
-        code = exc.code
-        if code is None:
-            return 0
-        if isinstance(code, int):
-            return code
-        print(code, file=sys.stderr)
-        return 1
-    except SyntaxError as exc:
-        first, _ = _script_frames(exc.__traceback__, script)
-        if first is not None and not _same_file(getattr(exc, "filename", None), script):
-            return _user_traceback(exc, script)  # in a module the script imported: from the script on
-        # the script could not be compiled: its own file, line and caret, none of planar's frames
-        print("".join(traceback.format_exception_only(type(exc), exc)).rstrip(), file=sys.stderr)
-        at = f" at line {exc.lineno}" if exc.lineno else ""
-        print(f"planar run: {script.name} cannot be compiled ({type(exc).__name__}{at}, above); fix it and "
-              "run again", file=sys.stderr)
-        return 1
-    except PlanarError as exc:
-        _, last = _script_frames(exc.__traceback__, script)
-        print(f"planar run: error: {exc}", file=sys.stderr)
-        if last is not None:
-            import linecache
-
-            line = linecache.getline(str(script), last.tb_lineno).strip()
-            print(f"  in {script.name}, line {last.tb_lineno}: {line}", file=sys.stderr)
-        return 2
-    except KeyboardInterrupt:
-        raise
-    except BaseException as exc:  # the user's own code: show their traceback, from their script on
-        return _user_traceback(exc, script)
-    finally:
-        old_out, sys.argv, sys.path[:] = saved[0], saved[1], saved[2]
-        if old_out is None:
-            os.environ.pop(OUT_ENV, None)
-        else:
-            os.environ[OUT_ENV] = old_out
-    return 0
-
-
-_run.arguments = _run_args
-
-
-def _show_args(p: argparse.ArgumentParser) -> None:
-    p.formatter_class = _Formatter
-    p.description = _wrap(
-        "Draw a field of a written result file (.vtu) as a PNG picture: a colour contour on the "
-        "deformed shape (the displacement magnification is chosen so that the largest "
-        "displacement is about 6 % of the part and is stated on the picture), quadratic "
-        "elements drawn with their curved edges, the peak marked.\n\n"
-        "Point fields (displacement, ux, uy, sigma_xx, sigma_yy, tau_xy, von_mises, tresca, "
-        "sigma_1, sigma_2, ...) are drawn smooth; cell fields (element_von_mises, ...) one "
-        "colour per element. Signed fields use a diverging colour map centred on zero.\n\n"
-        "A file planar wrote carries a digest of its bytes: one changed or damaged since it was "
-        "written is refused (--allow-changed draws it anyway, with a warning); files from other "
-        "programs are read as they are. NaN or infinite values are named with their count and "
-        "never drawn as a colour.")
-    p.epilog = ("examples:\n  planar show planar-out/splice_strap.vtu\n"
-                "  planar show result.vtu --field sigma_xx --png sxx.png --units \"N, mm, MPa\" --mesh\n"
-                "  planar show result.vtu --list")
-    p.add_argument("result", metavar="RESULT.vtu", help="result file written by planar (or any .vtu)")
-    p.add_argument("--field", default="von_mises",
-                   help="field to draw (default: von_mises); --list shows what the file holds")
-    p.add_argument("--png", metavar="FILE",
-                   help="picture to write (default: RESULT-FIELD.png beside the result file)")
-    p.add_argument("--units", metavar="TEXT",
-                   help="units of the model, e.g. \"N, mm, MPa\" (stress unit last), or just the "
-                        "field's unit; a .vtu file does not record units")
-    p.add_argument("--mesh", action="store_true", help="draw the element sides")
-    p.add_argument("--undeformed", action="store_true", help="draw on the undeformed shape")
-    p.add_argument("--scale", type=float, metavar="FACTOR",
-                   help="displacement magnification (default: chosen automatically)")
-    p.add_argument("--bands", type=int, metavar="N",
-                   help="draw N colour bands (2 to 1000) instead of a smooth field")
-    p.add_argument("--list", action="store_true", help="list the fields in the file and stop")
-    p.add_argument("--allow-changed", action="store_true",
-                   help="draw a file planar wrote even if it changed since (its digest no longer matches); "
-                        "a warning says so. Without it such a file is refused")
-
-
-@command("show", "draw a field of a written result file (.vtu) as a PNG picture")
-def _show(args) -> int:
-    """Draw; planar warnings (a changed file, NaN values in other fields) print in one line each."""
-    import warnings
-
-    from .core.errors import PlanarWarning
-
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
-        try:
-            return _show_file(args)
-        finally:
-            for w in caught:
-                if isinstance(w.message, PlanarWarning):
-                    print(f"planar show: warning [{w.message.code}]: {w.message}", file=sys.stderr)
-                else:
-                    warnings.showwarning(w.message, w.category, w.filename, w.lineno)
-
-
-def _show_file(args) -> int:
-    from .post.plots import MAX_LEVELS, field_unit, length_unit, plot_vtu, vtu_fields
-
-    changed = "warn" if args.allow_changed else "error"
-    if args.bands is not None and not 2 <= args.bands <= MAX_LEVELS:
-        raise InputError(f"--bands must be a whole number from 2 to {MAX_LEVELS}, got {args.bands}; "
-                         "leave it out for a smooth field")
-    if args.scale is not None and not math.isfinite(args.scale):
-        raise InputError(f"--scale must be a finite number, got {args.scale:g}")
-    if args.list:
-        f = vtu_fields(args.result, changed=changed)
-        print(f"point fields: {', '.join(f['point']) or '-'}")
-        print(f"cell fields:  {', '.join(f['cell']) or '-'}")
-        return 0
-    png = Path(args.png) if args.png else Path(args.result).with_name(
-        f"{Path(args.result).stem}-{args.field}.png")
-    if png.suffix.lower() != ".png":
-        raise InputError(f"--png needs a file name ending in .png, got {str(png)!r}")
-    unit = length = ""
-    if args.units:
-        if len([u for u in args.units.replace(";", ",").split(",") if u.strip()]) >= 3:
-            unit, length = field_unit(args.field, args.units), length_unit(args.units)
-        else:
-            unit = args.units.strip()
-    if args.scale is not None and args.scale < 0:
-        raise InputError(f"--scale must not be negative, got {args.scale:g}")
-    plot_vtu(args.result, args.field, png=png, units=unit, length=length, deformed=not args.undeformed,
-             scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands,
-             changed=changed)
-    print(f"wrote {png}")
-    return 0
-
-
-_show.arguments = _show_args

@@ -1,7 +1,10 @@
-"""The ``planar`` command line.
+"""The ``planar`` command line: the top layer, which may import all of planar and is imported by none of it.
 
-Sub-commands register themselves in ``COMMANDS`` with a function that adds their arguments and one
-that runs them. Errors a user can cause are printed in one or two lines without a traceback.
+Each sub-command is one module of this package (``planar/cli/demo.py``, ``planar/cli/sweep.py``, ...)
+that defines ``COMMAND`` (its name), ``HELP`` (one line), ``arguments(parser)`` (adds its options) and
+``run(args) -> exit code``. The modules are found with :func:`pkgutil.iter_modules` in name order, so
+adding a command is adding a module; modules whose name starts with ``_`` are helpers. Errors a user
+can cause are printed in one or two lines without a traceback.
 """
 from __future__ import annotations
 
@@ -9,7 +12,7 @@ import argparse
 import sys
 from typing import Callable
 
-from .core.errors import PlanarError
+from ..core.errors import PlanarError
 
 __all__ = ["main", "command"]
 
@@ -17,7 +20,11 @@ COMMANDS: dict[str, tuple[str, Callable[[argparse.ArgumentParser], None], Callab
 
 
 def command(name: str, help: str):
-    """Register a sub-command: decorate ``run(args) -> exit code``; its ``.arguments`` adds options."""
+    """Register a sub-command from outside this package: decorate ``run(args) -> exit code``.
+
+    The function's ``.arguments``, if set, adds the options. The commands of planar itself are the
+    modules of this package instead.
+    """
 
     def deco(run):
         def add_arguments(p):
@@ -31,38 +38,8 @@ def command(name: str, help: str):
     return deco
 
 
-def _verify_args(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--json", metavar="PATH", help="also write the records as JSON to PATH")
-    p.add_argument("--element", metavar="NAME",
-                   help="run the element cases (patch test, energy rate, cantilever, Cook) for one "
-                        "registered element type, built-in or plugin")
-    p.add_argument("--case", metavar="NAME", action="append",
-                   help="run only this benchmark case (repeatable)")
-    p.add_argument("--quiet", action="store_true", help="print only the summary line")
-
-
-@command("verify", "run the published benchmark suite and compare with the references")
-def _verify(args) -> int:
-    from .post.files import atomic_write_text
-    from .verify import format_table, records_to_json, run
-
-    progress = None if args.quiet or not sys.stderr.isatty() else (lambda s: print(s, file=sys.stderr))
-    records = run(element=args.element, case_names=args.case, progress=progress)
-    if not args.quiet:
-        print(format_table(records))
-    if args.json:
-        atomic_write_text(args.json, records_to_json(records))
-    failed = [r for r in records if not r.passed]
-    print(f"\n{len(records) - len(failed)} of {len(records)} checks passed"
-          + (f"; failed: {', '.join(sorted({f'{r.case}[{r.element}]' for r in failed}))}" if failed else ""))
-    return 0 if not failed else 1
-
-
-_verify.arguments = _verify_args
-
-
 def build_parser() -> argparse.ArgumentParser:
-    from . import __version__
+    from .. import __version__
 
     parser = argparse.ArgumentParser(
         prog="planar",
@@ -105,15 +82,21 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _load_commands() -> None:
-    """Import the modules that add sub-commands (each registers itself with @command)."""
-    import importlib
+    """Register the command modules of this package (each defines ``COMMAND``, ``HELP``, ``arguments``, ``run``).
 
-    for mod in ("planar.commands", "planar.demo", "planar.studies"):
-        try:
-            importlib.import_module(mod)
-        except ModuleNotFoundError as exc:
-            if exc.name != mod:
-                raise
+    Found with :func:`pkgutil.iter_modules` in name order; no hand-kept list. A command already in
+    :data:`COMMANDS` (one registered with :func:`command`) is kept.
+    """
+    import importlib
+    import pkgutil
+
+    for info in sorted(pkgutil.iter_modules(__path__), key=lambda i: i.name):
+        if info.name.startswith("_"):
+            continue
+        mod = importlib.import_module(f"{__name__}.{info.name}")
+        name = getattr(mod, "COMMAND", None)
+        if name and name not in COMMANDS:
+            COMMANDS[name] = (mod.HELP, getattr(mod, "arguments", lambda p: None), mod.run)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,36 @@
+"""``planar verify``: the published benchmark suite against its references."""
+from __future__ import annotations
+
+import argparse
+import sys
+
+COMMAND = "verify"
+HELP = "run the published benchmark suite and compare with the references"
+
+
+def arguments(p: argparse.ArgumentParser) -> None:
+    """Add the options of ``planar verify``."""
+    p.add_argument("--json", metavar="PATH", help="also write the records as JSON to PATH")
+    p.add_argument("--element", metavar="NAME",
+                   help="run the element cases (patch test, energy rate, cantilever, Cook) for one "
+                        "registered element type, built-in or plugin")
+    p.add_argument("--case", metavar="NAME", action="append",
+                   help="run only this benchmark case (repeatable)")
+    p.add_argument("--quiet", action="store_true", help="print only the summary line")
+
+
+def run(args: argparse.Namespace) -> int:
+    """Run the cases; exit code 0 when every check passed, 1 otherwise."""
+    from ..post.files import atomic_write_text
+    from ..verify import format_table, records_to_json, run as run_cases
+
+    progress = None if args.quiet or not sys.stderr.isatty() else (lambda s: print(s, file=sys.stderr))
+    records = run_cases(element=args.element, case_names=args.case, progress=progress)
+    if not args.quiet:
+        print(format_table(records))
+    if args.json:
+        atomic_write_text(args.json, records_to_json(records))
+    failed = [r for r in records if not r.passed]
+    print(f"\n{len(records) - len(failed)} of {len(records)} checks passed"
+          + (f"; failed: {', '.join(sorted({f'{r.case}[{r.element}]' for r in failed}))}" if failed else ""))
+    return 0 if not failed else 1

@@ -1,0 +1,80 @@
+"""Where a running sweep stands, and its progress lines on stderr."""
+from __future__ import annotations
+
+import sys
+import time
+from dataclasses import dataclass
+
+
+# ============================================================================ progress
+@dataclass
+class SweepProgress:
+    """Where a running sweep stands (passed to ``on_point`` after every point).
+
+    Attributes
+    ----------
+    total : int
+        Points in the sweep.
+    done : int
+        Points finished (computed now or taken from the store), failed ones included.
+    failed : int
+    reused : int
+        Points taken from the store.
+    elapsed : float
+        Seconds since the sweep started.
+    """
+
+    total: int
+    done: int = 0
+    failed: int = 0
+    reused: int = 0
+    elapsed: float = 0.0
+
+    @property
+    def remaining(self) -> int:
+        return self.total - self.done
+
+    @property
+    def eta(self) -> float | None:
+        """Estimated seconds left, from the rate of the points computed in this run."""
+        computed = self.done - self.reused
+        if computed <= 0 or self.remaining == 0:
+            return None if self.remaining else 0.0
+        return self.elapsed / computed * self.remaining
+
+    def line(self) -> str:
+        eta = self.eta
+        left = "" if eta is None or self.remaining == 0 else f", about {_duration(eta)} left"
+        store = f" ({self.reused} from the store)" if self.reused else ""
+        return (f"sweep: {self.done}/{self.total} points done{store}, {self.failed} failed, "
+                f"{self.remaining} remaining{left}")
+
+
+def _duration(s: float) -> str:
+    if s < 90:
+        return f"{s:.0f} s"
+    if s < 5400:
+        return f"{s / 60:.0f} min"
+    return f"{s / 3600:.1f} h"
+
+
+class _Reporter:
+    def __init__(self, enabled: bool, stream=None):
+        self.stream = stream or sys.stderr
+        self.enabled = enabled
+        self.tty = bool(getattr(self.stream, "isatty", lambda: False)())
+        self._last = 0.0
+        self._said = ""
+
+    def __call__(self, prog: SweepProgress, final: bool = False) -> None:
+        if not self.enabled:
+            return
+        now = time.perf_counter()
+        text = prog.line()
+        if self.tty:
+            if final or now - self._last > 0.2:
+                print("\r" + text.ljust(100), end="\n" if final else "", file=self.stream, flush=True)
+                self._last = now
+        elif text != self._said:
+            print(text, file=self.stream, flush=True)
+        self._said = text
