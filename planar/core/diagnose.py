@@ -63,7 +63,7 @@ from .errors import SolverError, fmt_point
 
 __all__ = ["check_solution", "diagnose", "explain_failure", "equilibrium_errors", "probe_vector", "norm_inf",
            "mode_strain", "matvec", "matrix_figures", "start_figures", "also_wait", "solve_with_probe",
-           "warning_text", "warn_untrusted", "Trust", "REFUSE", "WARN", "EQUILIBRIUM_REFUSE"]
+           "warning_text", "warn_untrusted", "meet_accuracy", "Trust", "REFUSE", "WARN", "EQUILIBRIUM_REFUSE"]
 
 EPS = float(np.finfo(float).eps)
 #: estimated relative error (with its margin) above which an answer is refused: 3 figures
@@ -331,8 +331,20 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
     trust = Trust(eta, eq, float(cond), err, bound, nrm, lam, mode)
     tol = _backward_tol(fac, n)
     bad = None
+    iterative = hasattr(fac, "refine")
+    short = None  # the load case an iterative solve left short of the accuracy it needs
     for j, c in enumerate(cases):
-        if not np.isfinite(bound[j]) or bound[j] >= 1.0:
+        if iterative and (not np.isfinite(bound[j]) or bound[j] >= 1.0 or not np.isfinite(err[j]) or err[j] > REFUSE):
+            short = j
+            its = fac.info.get("iterations", [])
+            done = f"after {its[j]} iterations " if j < len(its) else ""
+            left = min(float(err[j]), float(bound[j])) if np.isfinite(err[j]) else float(bound[j])
+            bad = (f"load case {c!r}: the iterative solver could not reach the accuracy this ill-conditioned "
+                   f"model needs (condition estimate {cond:.1e}; {done}its backward error is {eta[j]:.1e}, "
+                   f"which leaves an estimated relative error of {left:.1e}, fewer than 3 significant figures); "
+                   "use a direct back end (solver='cholmod' or 'pardiso'), which solves it to the round-off "
+                   "of the factorization")
+        elif not np.isfinite(bound[j]) or bound[j] >= 1.0:
             bad = (f"load case {c!r}: the stiffness matrix is singular to working precision (condition "
                    f"estimate {cond:.1e}; times the backward error {eta[j]:.1e} that is {bound[j]:.1e}), so "
                    "no figure of the answer is guaranteed")
@@ -352,9 +364,87 @@ def check_solution(asm, system, fac, rhs: np.ndarray, sol: np.ndarray, probe: np
             m2, l2, _ = _soft_mode(system, nrm)
             if m2 is not None:
                 mode, lam = m2, l2
+            if short is not None and mode is not None and free is not None and (
+                    not lam or nrm / lam * EPS >= 1.0 or mode_strain(asm, mode, free) < ZERO_STRAIN):
+                # the direct look finds K singular (a mechanism, or beyond double precision)
+                bad = (f"load case {cases[short]!r}: the stiffness matrix is singular to working precision "
+                       f"(condition estimate {nrm / lam if lam else np.inf:.1e}), so no figure of the answer "
+                       "is guaranteed")
         text = diagnose(asm, system, free, mode=mode, lam=lam, norm=nrm, u=U, solver=fac.name, loads=rhs)
         raise SolverError(f"the answer cannot be trusted: {bad}. {text}")
     return trust
+
+
+#: the iterative solver is continued until the classical bound promises this relative error...
+ACCURACY_GOAL = WARN
+#: ... with this safety factor on the condition estimate (a lower bound of the true condition number)
+ACCURACY_SAFETY = 10.0
+#: ... but never to a backward error below this: a CG run's true residual cannot fall much below
+#: eps ||K|| ||u|| (it stagnates there; measured at 0.5 to 3 eps on clamped strips of slenderness 30 to 300)
+ACCURACY_FLOOR = 4.0 * EPS
+
+
+def meet_accuracy(fac, system, rhs: np.ndarray, sol: np.ndarray, figures=None) -> np.ndarray:
+    """Continue an iterative solve until its answer has the figures the conditioning allows.
+
+    An iterative back end stops at a relative residual ``rtol``; on an ill-conditioned system that
+    leaves ``condition * backward error`` (the bound of :func:`check_solution`) above what a
+    trustworthy answer needs, although the iteration could go on. Here the condition number is
+    estimated as in :func:`check_solution` (Rayleigh quotients of the answers and of the probe
+    column, sharpened by inverse iteration when suspect), and each load case whose bound exceeds
+    ``ACCURACY_GOAL`` (five figures) is continued from its current answer (warm start) until its
+    normwise backward error is at most ``ACCURACY_GOAL / (ACCURACY_SAFETY * condition)``, floored at
+    ``ACCURACY_FLOOR``, or until CG stagnates; :func:`check_solution` then judges the result as for
+    every back end. Direct back ends (no ``refine``) are returned unchanged.
+
+    Parameters
+    ----------
+    fac : Factorization
+    system : ReducedSystem
+    rhs : ndarray, shape (n, m)
+    sol : ndarray, shape (n, m) or (n, m + 1)
+        The load cases' answers, then the probe column if any; updated in place.
+    figures : Future, optional
+
+    Returns
+    -------
+    ndarray
+        ``sol``, with the load cases' columns continued where needed.
+    """
+    if not hasattr(fac, "refine"):
+        return sol
+    n = rhs.shape[0]
+    rhs = rhs.reshape(n, -1)
+    m = rhs.shape[1]
+    L = _lower(system.lower)
+    diag, nrm = figures.result() if figures is not None else matrix_figures(L)
+    V = sol.reshape(n, -1)
+    KV = matvec(L, V, diag)
+    q = _rayleigh(V, KV)
+    if not q.size or not np.isfinite(q).any():
+        return sol
+    k = int(np.argmin(q))
+    lam = float(q[k])
+    eta = _eta(rhs, KV[:, :m], V[:, :m], nrm)
+    if not (lam > 0) or np.all(nrm / lam * np.maximum(eta, EPS) <= ACCURACY_GOAL):
+        return sol
+    lam, _ = _sharpen(fac, system, V[:, k], lam, V[:, k])
+    cond = nrm / lam if lam > 0 else np.inf
+    if not np.isfinite(cond):
+        return sol
+    need = max(ACCURACY_GOAL / (ACCURACY_SAFETY * cond), ACCURACY_FLOOR)
+    for j in range(m):
+        if eta[j] > need:
+            V[:, j] = fac.refine(rhs[:, j], V[:, j], need, nrm, case=j)
+    return sol
+
+
+def _eta(rhs: np.ndarray, KU: np.ndarray, U: np.ndarray, nrm: float) -> np.ndarray:
+    """Normwise backward error of each column in the infinity norm."""
+    res = rhs - KU
+    den = nrm * np.abs(U).max(axis=0, initial=0.0) + np.abs(rhs).max(axis=0, initial=0.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(den > 0, np.abs(res).max(axis=0, initial=0.0) / np.where(den > 0, den, 1.0), 0.0)
 
 
 def _sharpen(fac, system, x: np.ndarray, lam: float, mode):

@@ -239,6 +239,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         ul[pdofs] = up[pdofs][:, None]
         # one more column: a step of inverse iteration for the condition estimate
         sol, probe = diagnose.solve_with_probe(fac, rhs)
+        sol = diagnose.meet_accuracy(fac, system, rhs, sol, figures)  # iterative: go on as far as needed
         ul[free] = sol[:, : len(cases)]
     except MemoryError:
         raise _out_of_memory(f"factorizing with the {solver!r} solver", free.size, entries) from None
