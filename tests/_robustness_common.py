@@ -1,4 +1,4 @@
-"""Shared strategies and checks of the robustness suites (tests/test_robustness*.py).
+"""Shared strategies and checks of the robustness suite (tests/test_robustness.py).
 
 Valid models are drawn as plain-data *specs* (mesh, material, supports, loads), so the same spec can
 be built in the original position, rotated, or mirrored, and the answers compared node by node (the
@@ -45,9 +45,11 @@ def count(category: str) -> None:
     COUNTS[category] += 1
 
 
-def report_counts(tmp_dir: Path, name: str, categories: list[str]) -> dict:
-    """Write the counts of ``categories`` as JSON into ``tmp_dir`` and return them."""
-    out = {c: int(COUNTS[c]) for c in categories}
+def report_counts(tmp_dir: Path, name: str, categories: list[str], counts: Counter | None = None) -> dict:
+    """Write the counts of ``categories`` (from ``counts``, default :data:`COUNTS`) as JSON into
+    ``tmp_dir`` and return them."""
+    counts = COUNTS if counts is None else counts
+    out = {c: int(counts[c]) for c in categories}
     out["total"] = int(sum(v for c, v in out.items() if not c.startswith("skipped")))
     path = Path(tmp_dir) / f"{name}.json"
     path.write_text(json.dumps(out, indent=2))

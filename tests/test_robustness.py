@@ -1,10 +1,13 @@
-"""Robustness, tried systematically: the fast subset that runs by default.
+"""Robustness, tried systematically, at two budgets: ``fast`` runs by default, ``slow`` with
+``pytest -m slow`` (the same properties with many more generated cases, at least 500 in all).
 
 Random valid models (structured meshes of every element type, and a few gmsh plates with holes) must
 be in equilibrium, have finite fields and give the rotated or mirrored answer for a rotated or
-mirrored model; random invalid input must end in a planar error that names the problem. The same
-properties run with many more cases in ``test_robustness_slow.py`` (``pytest -m slow``); the
-strategies and checks live in ``_robustness_common.py``.
+mirrored model; random invalid input must end in a planar error that names the problem. Each
+generated test is parametrized by its budget (``[fast]`` / ``[slow]``, the slow one marked slow);
+the budget picks the hypothesis profile (registered in conftest.py) and the example count. The
+strategies and checks live in ``_robustness_common.py``; the last test prints the counts of each
+budget and writes them as JSON under the pytest temporary folder.
 
 Physics checks and their sources (also written beside each check in the common module):
 
@@ -19,6 +22,7 @@ from __future__ import annotations
 import math
 import sys
 import textwrap
+from collections import Counter
 
 import numpy as np
 import pytest
@@ -27,7 +31,7 @@ from hypothesis import strategies as st
 
 import planar
 from _robustness_common import (BAD_SIZE_BUILDERS, BAD_SIZE_VALUES, COUNTS, ELEMENT_HOOKS, ELEMENTS,
-                                EMPTY_MESHES, FAILURES, FAST, FREE_SETS, LOAD_HOOKS, LOAD_SLOTS, NAME_USES,
+                                EMPTY_MESHES, FAILURES, FAST, FREE_SETS, LOAD_HOOKS, LOAD_SLOTS, NAME_USES, SLOW,
                                 bad_finite, bad_materials, check_bad_constant_load, check_bad_function_load,
                                 check_bad_material, check_bad_size, check_crossing_hole, check_damaged_file,
                                 check_failing_plugin, check_free_supports, check_mesh_file,
@@ -40,7 +44,13 @@ pytestmark = pytest.mark.filterwarnings("ignore::planar.core.errors.PlanarWarnin
 
 FUNCTION_FAILURES = ["nan", "inf", "-inf", "raises", "wrong shape", "text", "complex"]
 DAMAGED = ["meshio.vtu", "meshio2.msh", "gmsh41.msh", "result.vtu"]
-CATEGORIES = []
+
+#: the two budgets: hypothesis profile and the minimum number of generated cases the run promises
+BUDGETS = [pytest.param("fast", id="fast"), pytest.param("slow", id="slow", marks=pytest.mark.slow)]
+PROFILES = {"fast": FAST, "slow": SLOW}
+MINIMUM = {"fast": 400, "slow": 500}
+#: cases run per budget and category (a test without a budget counts as fast)
+BY_BUDGET: dict[str, Counter] = {"fast": Counter(), "slow": Counter()}
 
 
 @pytest.fixture(scope="module")
@@ -48,93 +58,144 @@ def tmp_dir(tmp_path_factory):
     return tmp_path_factory.mktemp("robustness")
 
 
+@pytest.fixture(autouse=True)
+def _count_by_budget(request):
+    before = COUNTS.copy()
+    yield
+    callspec = getattr(request.node, "callspec", None)
+    BY_BUDGET[callspec.params.get("budget", "fast") if callspec else "fast"].update(COUNTS - before)
+
+
+def explore(budget: str, examples: dict[str, int], case, *strategies, **named) -> None:
+    """Run ``case`` on ``examples[budget]`` examples drawn from the strategies, under the budget's
+    hypothesis profile."""
+    settings(PROFILES[budget], max_examples=examples[budget])(given(*strategies, **named)(case))()
+
+
 # ============================================================================ valid models
-@settings(FAST, max_examples=60)
-@given(structured_specs())
-def test_valid_structured_models(spec):
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_valid_structured_models(budget):
     """Rectangles, skewed panels and ring sectors, T3 to Q9, any supports that hold the three rigid
     motions, traction / pressure / point / body loads (constants and functions of x, y)."""
-    check_valid(spec, category="valid: structured mesh")
+    def case(spec):
+        check_valid(spec, category="valid: structured mesh")
+
+    explore(budget, {"fast": 60, "slow": 600}, case, structured_specs())
 
 
-@settings(FAST, max_examples=12)
-@given(gmsh_specs())
-def test_valid_gmsh_plates(spec):
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_valid_gmsh_plates(budget):
     """Rectangular plates with up to two holes (circle, ellipse, slot) meshed by gmsh, coarse."""
-    check_valid(spec, category="valid: gmsh plate")
+    def case(spec):
+        check_valid(spec, category="valid: gmsh plate")
+
+    explore(budget, {"fast": 12, "slow": 120}, case, gmsh_specs())
 
 
 # ============================================================================ invalid geometry and sizes
-@settings(FAST, max_examples=30)
-@given(crossing_holes())
-def test_holes_outside_or_crossing_the_outline(case):
-    check_crossing_hole(case)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_holes_outside_or_crossing_the_outline(budget):
+    def case(hole):
+        check_crossing_hole(hole)
+
+    explore(budget, {"fast": 30, "slow": 80}, case, crossing_holes())
 
 
-@settings(FAST, max_examples=30)
-@given(overlapping_holes())
-def test_overlapping_holes(case):
-    check_overlapping_holes(case)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_overlapping_holes(budget):
+    def case(holes):
+        check_overlapping_holes(holes)
+
+    explore(budget, {"fast": 30, "slow": 60}, case, overlapping_holes())
 
 
-@settings(FAST, max_examples=40)
-@given(st.integers(0, len(BAD_SIZE_BUILDERS) - 1), st.sampled_from(BAD_SIZE_VALUES))
-def test_zero_negative_nan_sizes(which, value):
-    check_bad_size(which, value)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_zero_negative_nan_sizes(budget):
+    def case(which, value):
+        check_bad_size(which, value)
+
+    explore(budget, {"fast": 40, "slow": 100}, case,
+            st.integers(0, len(BAD_SIZE_BUILDERS) - 1), st.sampled_from(BAD_SIZE_VALUES))
 
 
-@settings(FAST, max_examples=30)
-@given(bad_materials())
-def test_bad_materials(case):
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_bad_materials(budget):
     """E <= 0, nu outside -1 < nu <= 0.5 (0.5 not in plane strain), unstable orthotropic constants."""
-    check_bad_material(case)
+    def case(material):
+        check_bad_material(material)
+
+    explore(budget, {"fast": 30, "slow": 60}, case, bad_materials())
 
 
 # ============================================================================ names, supports, loads
-@settings(FAST, max_examples=60)
-@given(use=st.sampled_from(NAME_USES), name=random_names)
-def test_unknown_names_list_the_valid_ones(use, name, tmp_dir):
-    check_unknown_name(use, name, tmp_dir)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_unknown_names_list_the_valid_ones(budget, tmp_dir):
+    def case(use, name):
+        check_unknown_name(use, name, tmp_dir)
+
+    explore(budget, {"fast": 60, "slow": 120}, case, use=st.sampled_from(NAME_USES), name=random_names)
 
 
-@settings(FAST, max_examples=30)
-@given(st.sampled_from(sorted(FREE_SETS)), st.sampled_from(ELEMENTS), st.integers(1, 4), st.integers(1, 3))
-def test_supports_that_leave_it_free(which, el, nx, ny):
-    check_free_supports(which, el, nx, ny)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_supports_that_leave_it_free(budget):
+    nx, ny = {"fast": (4, 3), "slow": (5, 4)}[budget]
+
+    def case(which, el, nx, ny):
+        check_free_supports(which, el, nx, ny)
+
+    explore(budget, {"fast": 30, "slow": 60}, case, st.sampled_from(sorted(FREE_SETS)),
+            st.sampled_from(ELEMENTS), st.integers(1, nx), st.integers(1, ny))
 
 
-@settings(FAST, max_examples=8)
-@given(st.sampled_from(ELEMENTS), st.integers(1, 3), st.integers(1, 3))
-def test_model_that_falls_apart_names_the_free_piece(el, nx, ny):
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_model_that_falls_apart_names_the_free_piece(budget):
     """Coincident but unjoined nodes split the plate: the free piece is named and merging is offered."""
-    check_two_pieces(el, nx, ny)
+    n = {"fast": 3, "slow": 4}[budget]
+
+    def case(el, nx, ny):
+        check_two_pieces(el, nx, ny)
+
+    explore(budget, {"fast": 8, "slow": 25}, case, st.sampled_from(ELEMENTS), st.integers(1, n),
+            st.integers(1, n))
 
 
-@settings(FAST, max_examples=20)
-@given(st.sampled_from(LOAD_SLOTS), bad_finite)
-def test_nan_or_infinite_load_constants(slot, value):
-    check_bad_constant_load(slot, value)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_nan_or_infinite_load_constants(budget):
+    def case(slot, value):
+        check_bad_constant_load(slot, value)
+
+    explore(budget, {"fast": 20, "slow": 36}, case, st.sampled_from(LOAD_SLOTS), bad_finite)
 
 
-@settings(FAST, max_examples=40)
-@given(st.sampled_from(LOAD_SLOTS), st.sampled_from(FUNCTION_FAILURES), st.integers(1, 5), st.sampled_from(ELEMENTS))
-def test_load_functions_that_fail(slot, how, stride, el):
-    check_bad_function_load(slot, how, stride, el)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_load_functions_that_fail(budget):
+    def case(slot, how, stride, el):
+        check_bad_function_load(slot, how, stride, el)
+
+    explore(budget, {"fast": 40, "slow": 100}, case, st.sampled_from(LOAD_SLOTS),
+            st.sampled_from(FUNCTION_FAILURES), st.integers(1, 5), st.sampled_from(ELEMENTS))
 
 
 # ============================================================================ mesh files
-@settings(FAST, max_examples=30)
-@given(how=st.sampled_from(mesh_file_variants()), el=st.sampled_from(ELEMENTS), nx=st.integers(2, 4),
-       ny=st.integers(2, 3), fmt=st.sampled_from(["vtu", "msh"]), seed=st.integers(0, 10**6))
-def test_mesh_files_with_bad_cells_or_duplicate_nodes(how, el, nx, ny, fmt, seed, tmp_dir):
-    check_mesh_file(how, el, nx, ny, fmt, seed, tmp_dir)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_mesh_files_with_bad_cells_or_duplicate_nodes(budget, tmp_dir):
+    nx, ny = {"fast": (4, 3), "slow": (5, 4)}[budget]
+
+    def case(how, el, nx, ny, fmt, seed):
+        check_mesh_file(how, el, nx, ny, fmt, seed, tmp_dir)
+
+    explore(budget, {"fast": 30, "slow": 100}, case, how=st.sampled_from(mesh_file_variants()),
+            el=st.sampled_from(ELEMENTS), nx=st.integers(2, nx), ny=st.integers(2, ny),
+            fmt=st.sampled_from(["vtu", "msh"]), seed=st.integers(0, 10**6))
 
 
-@settings(FAST, max_examples=40)
-@given(name=st.sampled_from(DAMAGED), how=st.sampled_from(["cut", "bytes", "format"]), frac=st.floats(0.0, 1.0),
-       seed=st.integers(0, 10**6))
-def test_truncated_corrupted_or_wrong_format_files(name, how, frac, seed, tmp_dir):
-    check_damaged_file(name, how, frac, seed, tmp_dir)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_truncated_corrupted_or_wrong_format_files(budget, tmp_dir):
+    def case(name, how, frac, seed):
+        check_damaged_file(name, how, frac, seed, tmp_dir)
+
+    explore(budget, {"fast": 40, "slow": 150}, case, name=st.sampled_from(DAMAGED),
+            how=st.sampled_from(["cut", "bytes", "format"]), frac=st.floats(0.0, 1.0), seed=st.integers(0, 10**6))
 
 
 @pytest.mark.parametrize("what", sorted(EMPTY_MESHES))
@@ -159,6 +220,16 @@ def test_empty_mesh_file(tmp_path):
 def test_plugin_that_fails_is_named(kind, hook, how):
     """An element type or load kind that raises, or returns NaN or the wrong shape, inside a solve."""
     check_failing_plugin(kind, hook, how)
+
+
+@pytest.mark.parametrize("budget", [p for p in BUDGETS if p.id == "slow"])
+def test_plugins_that_fail(budget):
+    """The same failures drawn at random (the fast run takes every combination above)."""
+    def case(kind, element_hook, load_hook, how, el):
+        check_failing_plugin(kind, element_hook if kind == "element" else load_hook, how, el)
+
+    explore(budget, {"slow": 40}, case, st.sampled_from(["element", "load"]), st.sampled_from(ELEMENT_HOOKS),
+            st.sampled_from(LOAD_HOOKS), st.sampled_from(FAILURES), st.sampled_from(["Q4"]))
 
 
 def test_plugin_distribution_that_breaks(tmp_path, monkeypatch):
@@ -273,11 +344,14 @@ def test_structured_mesh_arguments(call, words):
 
 
 # ============================================================================ the counts
-def test_zz_report_case_counts(tmp_path_factory, capsys):
-    """How many generated cases this file ran (written to JSON under the pytest temporary folder)."""
-    cats = sorted(c for c in COUNTS if c.startswith(("valid", "invalid", "skipped")))
-    out = report_counts(tmp_path_factory.getbasetemp(), "robustness_counts_fast", cats)
+@pytest.mark.parametrize("budget", BUDGETS)
+def test_zz_report_case_counts(budget, tmp_path_factory, capsys):
+    """How many generated cases this budget ran (written to JSON under the pytest temporary folder)."""
+    counts = BY_BUDGET[budget]
+    cats = sorted(c for c in counts if c.startswith(("valid", "invalid", "skipped")))
+    out = report_counts(tmp_path_factory.getbasetemp(), f"robustness_counts_{budget}", cats, counts)
     with capsys.disabled():
-        print(f"\nrobustness (fast): {out['total']} cases run: "
+        print(f"\nrobustness ({budget}): {out['total']} cases run: "
               + ", ".join(f"{c} {out[c]}" for c in cats) + f"; counts in {out['file']}")
-    assert out["total"] >= 400
+    assert out["total"] >= MINIMUM[budget], \
+        f"only {out['total']} generated cases ran; the {budget} budget promises {MINIMUM[budget]}"
