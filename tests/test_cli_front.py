@@ -208,3 +208,53 @@ def test_top_level_help_lists_the_front_commands(capsys):
     text = capsys.readouterr().out
     for cmd in ("demo", "run", "show", "verify"):
         assert re.search(rf"^\s+{cmd}\s", text, re.M), cmd
+
+
+def test_commands_are_the_modules_of_the_cli_package(tmp_path, monkeypatch, capsys):
+    # every module of planar/cli/ not starting with "_" is a command, found without a hand-kept list,
+    # and a module added to the package becomes a command (common practice: pkgutil discovery)
+    import pkgutil
+    import sys
+
+    import planar.cli as cli
+
+    cli._load_commands()
+    modules = sorted(m.name for m in pkgutil.iter_modules(cli.__path__) if not m.name.startswith("_"))
+    assert {"demo", "plugins", "run", "show", "sweep", "verify"} <= set(modules)
+    assert [n for n in cli.COMMANDS if n in modules] == modules            # all of them, in name order
+    (tmp_path / "hello.py").write_text('COMMAND = "hello"\nHELP = "say hello (test)"\n\n'
+                                       'def run(args):\n    print("hello from a module")\n    return 3\n')
+    monkeypatch.setattr(cli, "__path__", [*cli.__path__, str(tmp_path)])
+    monkeypatch.setattr(cli, "COMMANDS", dict(cli.COMMANDS))
+    try:
+        assert main(["hello"]) == 3 and "hello from a module" in capsys.readouterr().out
+    finally:
+        sys.modules.pop("planar.cli.hello", None)
+        cli.__dict__.pop("hello", None)
+
+
+def test_library_modules_do_not_import_the_command_line():
+    # read the source (not run it): only planar/cli/ and ``python -m planar`` may import planar.cli
+    import ast
+    from pathlib import Path
+
+    import planar
+
+    root = Path(planar.__file__).parent
+    offenders = []
+    for path in root.rglob("*.py"):
+        rel = path.relative_to(root)
+        if rel.parts[0] == "cli" or rel.name == "__main__.py":
+            continue
+        package = ["planar", *rel.parts[:-1]]                 # what a relative import is relative to
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.ImportFrom):
+                base = ".".join(package[: len(package) - node.level + 1] + [node.module or ""]).rstrip(".") \
+                    if node.level else node.module or ""
+                names = [base] + [f"{base}.{a.name}" for a in node.names]
+            elif isinstance(node, ast.Import):
+                names = [a.name for a in node.names]
+            else:
+                continue
+            offenders += [f"{rel}: {n}" for n in names if n == "planar.cli" or n.startswith("planar.cli.")]
+    assert not offenders, offenders
