@@ -153,7 +153,7 @@ class Result(CaseResult):
         key = f"stress:{method}"
         if key not in self._nodal_cache:
             if method not in METHODS:
-                raise InputError(f"unknown stress recovery {method!r}; pick 'spr' or 'average'")
+                raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(METHODS)}")
             vals = recover(self, method=method)
             self._nodal_cache[key] = vals
         v = self._nodal_cache[key]
