@@ -11,6 +11,14 @@ definite matrix (not called a mechanism); healthy models that must pass without 
 consistent units, a free thermal expansion (self-balanced loads); a contrast of 1e8 that is answered
 with the warning; the diagnosis of a rigid motion (no strain) against a bending mode.
 
+The iterative back end (AMG-preconditioned CG), whose accuracy goal drives the iteration: healthy
+clamped strips of slenderness 30, 100 and 300 and a contrast of 1e4 (1e6 in the slow run) are
+continued to the figures they need and agree with CHOLMOD to the figures both claim; an odd number of
+free unknowns (a roller freeing one unknown of a node) with three load cases matches CHOLMOD case by
+case; strips of slenderness 1e4 (and 1e5, slow) and a 1e12 softer layer end in a named SolverError,
+not called a mechanism; an iterative solve that cannot go on is refused as such (use a direct back
+end), not called singular.
+
 References: Euler-Bernoulli cantilever deflection P L^3 / (3 E I) with the Timoshenko shear term
 P L / (k G A), k = 5/6 (S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 3rd ed., 1970,
 section 21, and common practice); bars in series under tension, elongation sum P L_i / (E_i A)
@@ -354,3 +362,114 @@ def test_healthy_plates_in_any_consistent_units_pass_quietly(el):
         assert res["pull"].solver_info["significant_figures"] > 6
         peaks.append(np.abs(res["pull"].gauss[0].stress).max() / load)
     assert peaks[1] == pytest.approx(peaks[0], rel=1e-8)
+
+
+# ------------------------------------------------- the iterative back end: accuracy drives the iteration
+NEEDS_BOTH = pytest.mark.skipif(not {"amg", "cholmod"} <= set(BACKENDS), reason="needs pyamg and cvxopt")
+
+
+def _agree(r, ref) -> tuple[float, float]:
+    """Largest displacement difference over the largest displacement, and the figures both answers claim."""
+    diff = float(np.abs(r.u - ref.u).max() / np.abs(ref.u).max())
+    figs = min(r.solver_info["significant_figures"], ref.solver_info["significant_figures"])
+    return diff, figs
+
+
+@NEEDS_BOTH
+@pytest.mark.parametrize("slender, nx, ny", [(30, 90, 2), (100, 200, 1),
+                                             pytest.param(100, 400, 2, marks=pytest.mark.slow), (300, 300, 1)])
+def test_iterative_solve_of_a_healthy_slender_strip_goes_on_to_the_figures_it_needs(slender, nx, ny):
+    # the AMG run stops at rtol, which on these condition numbers (2e8 to 5e11) leaves condition x
+    # backward error near or above 1; the solve check continues it to the accuracy the model needs
+    ref = planar.solve(strip(slender, nx, ny), solver="cholmod")["tip"]
+    res, codes = _solve_quietly(strip(slender, nx, ny), "amg")
+    r = res["tip"]
+    info = r.solver_info
+    assert info["significant_figures"] >= 3
+    assert info["iterations"][0] > 0 and 0 < info["residual"][0] < 1
+    # warned exactly when fewer than five figures are estimated (diagnose.WARN)
+    assert ("ill-conditioned" in codes) == (info["error_estimate"] > diagnose.WARN)
+    diff, figs = _agree(r, ref)
+    assert diff <= 10.0 ** -figs, (diff, figs)  # the two back ends agree to the figures they claim
+    L, H, nu = float(slender), 1.0, 0.3
+    I, A, G = H**3 / 12, H, E / (2 * (1 + nu))
+    P = 3 * E * I * (L / 1000) / L**3
+    beam = P * L**3 / (3 * E * I) + P * L / (5 / 6 * G * A)  # Euler-Bernoulli + Timoshenko shear
+    tip = -r.u[r.mesh.nodes_of("right"), 1].mean()
+    assert tip == pytest.approx(beam, rel=2e-3)
+
+
+@NEEDS_BOTH
+@pytest.mark.parametrize("ratio", [1e4, pytest.param(1e6, marks=pytest.mark.slow)])
+def test_iterative_solve_of_a_moderate_contrast_matches_the_direct_one(ratio):
+    ref = planar.solve(layered(ratio), solver="cholmod")["tip"]
+    res, codes = _solve_quietly(layered(ratio), "amg")
+    r = res["tip"]
+    diff, figs = _agree(r, ref)
+    assert figs >= 5 and "ill-conditioned" not in codes
+    assert diff <= 10.0 ** -figs, (diff, figs)
+    # statics: the clamp carries the tip shear (common practice)
+    assert r.reactions[:, 1].sum() == pytest.approx(-r.applied[:, 1].sum(), rel=1e-6)
+
+
+def odd_plate(el: str) -> planar.Model:
+    """A 20 x 4 plate clamped on the left and held in y only at its lower right corner (a roller that
+    frees one unknown of that node: an odd number of free unknowns), with three load cases."""
+    model = planar.Model(planar.rectangle_mesh(20.0, 4.0, 10, 4, el), planar.Isotropic(E, 0.3), thickness=2.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_support(planar.Roller("corner_10", "y"))
+    model.add_load(planar.Traction("right", tx=3.0), case="pull")
+    model.add_load(planar.Traction("top", ty=-1.0), case="press")
+    model.add_load(planar.Traction("top", tx=0.5, ty=0.25), case="skew")
+    return model
+
+
+@NEEDS_BOTH
+@pytest.mark.parametrize("el", ["Q8", "T6"])
+def test_iterative_solve_of_an_odd_free_system_with_several_cases_matches_the_direct_one(el):
+    model = odd_plate(el)
+    n_left = model.mesh.nodes_of("left").size
+    assert (2 * model.mesh.n_nodes - 2 * n_left - 1) % 2 == 1
+    ref = planar.solve(odd_plate(el), solver="cholmod")
+    res, codes = _solve_quietly(model, "amg")
+    assert "ill-conditioned" not in codes and list(res) == ["pull", "press", "skew"]
+    for case in res:
+        diff, figs = _agree(res[case], ref[case])
+        assert figs >= 8 and diff <= 1e-8, (case, diff, figs)
+        # statics: reactions balance the applied loads (common practice)
+        r = res[case]
+        assert np.abs(r.reactions.sum(axis=0) + r.applied.sum(axis=0)).max() <= 1e-8 * np.abs(r.applied).sum()
+    assert len(res["pull"].solver_info["iterations"]) == 3
+
+
+@pytest.mark.skipif("amg" not in BACKENDS, reason="pyamg not installed")
+@pytest.mark.parametrize("model, cause", [
+    (lambda: strip(1e4), r"very slender .*ratio 1e\+04"),
+    pytest.param(lambda: strip(1e5), r"very slender .*ratio 1e\+05", marks=pytest.mark.slow),
+    (lambda: layered(1e12), r"held only through region\(s\) 'layer'"),
+])
+def test_hopeless_models_on_the_iterative_solver_end_in_a_named_error(model, cause):
+    with pytest.raises(SolverError, match=cause) as err:
+        planar.solve(model(), solver="amg")
+    text = str(err.value)
+    assert "Likely cause: a mechanism" not in text  # neither is a mechanism
+    assert "solver='cholmod'" in text or "held only through" in text
+
+
+@pytest.mark.skipif("amg" not in BACKENDS, reason="pyamg not installed")
+def test_an_iterative_solve_left_short_is_refused_as_such_not_called_singular(monkeypatch):
+    # CG stopped after 10 steps (a backward error of rtol) and unable to go on (a continuation that
+    # stagnates at once): a strip of slenderness 300 needs far more figures than that leaves
+    orig = solvers._AMG.__init__
+
+    def few_iterations(self, lower, **kw):
+        orig(self, lower, **kw)
+        self.maxiter = 10
+
+    monkeypatch.setattr(solvers._AMG, "__init__", few_iterations)
+    monkeypatch.setattr(solvers._AMG, "refine", lambda self, b, x, *a, **k: x)
+    with pytest.raises(SolverError, match="the iterative solver could not reach the accuracy") as err:
+        planar.solve(strip(300, 300, 1), solver="amg")
+    text = str(err.value)
+    assert "singular" not in text and "solver='cholmod' or 'pardiso'" in text
+    assert "very slender" in text and "not a mechanism" in text

@@ -26,6 +26,8 @@ import scipy.sparse as sp
 
 from .errors import InputError, ResourceError, SolverError
 
+_EPS = float(np.finfo(float).eps)
+
 __all__ = ["Factorization", "factorize", "available_solvers", "estimate_memory", "available_memory",
            "SOLVERS"]
 
@@ -345,8 +347,8 @@ class _AMG:
             if not np.isfinite(rel) or not self._converged(rel, nb, x):
                 raise _numerical(
                     f"the AMG-preconditioned CG did not converge: relative residual {rel:.2e} after "
-                    f"{its} iterations (wanted {self.rtol:.0e}); the stiffness matrix is nearly "
-                    "singular or badly conditioned for this solver"
+                    f"{its} iterations (wanted {self.rtol:.0e}); the stiffness matrix is too "
+                    "ill-conditioned for this solver, or has a mechanism (see the likely cause)"
                 )
             out[:, j] = x
         return out.reshape(b.shape)
@@ -354,9 +356,22 @@ class _AMG:
     #: true residual computed every this many CG steps (the recursive one drifts at the round-off floor)
     CHECK_EVERY = 10
     #: CG ends when its true residual has not halved over this many steps: at the round-off floor of an
-    #: ill-conditioned system (reached after 40 to 70 steps on clamped strips of slenderness 100 to 300;
-    #: shorter limits cut off runs that were still converging after a plateau of 40 steps)
-    STAGNATION = 200
+    #: ill-conditioned system (reached after 40 to 110 steps on clamped strips of slenderness 100 to 300;
+    #: a limit of 40 cut off runs that were still converging after a plateau). A run stopped too soon is
+    #: continued by the solve check if its answer falls short, and refused if it still does
+    STAGNATION = 100
+
+    #: CG also ends at a normwise backward error (2-norm, ||K|| bounded by ||K||_inf) of this many eps: the
+    #: round-off level, reached after 10 to 110 steps on clamped strips of slenderness 30 to 300, where CG
+    #: then stagnates (the check of the answer asks for no less)
+    ROUNDOFF = 4.0
+
+    @property
+    def norm(self) -> float:
+        """``||K||_inf``, an upper bound of ``||K||_2``."""
+        if not hasattr(self, "_norm"):
+            self._norm = float(abs(self._A).sum(axis=1).max())
+        return self._norm
 
     def _pcg(self, b: np.ndarray, x0: np.ndarray | None, done, maxiter: int):
         """Preconditioned CG from ``x0`` until ``done(r, x)`` (r the true residual), stagnation,
@@ -405,11 +420,10 @@ class _AMG:
                 nt = float(np.linalg.norm(rt))
                 if not np.isfinite(nt) or nt > 1e8 * max(nb, best):
                     break  # diverging
-                improved = nt < best
-                if improved:
+                if nt < best:
                     best_x, best = x.copy(), nt
-                    if done(rt, best_x):
-                        break
+                    if done(rt, best_x) or nt <= self.ROUNDOFF * _EPS * (self.norm * float(np.linalg.norm(x)) + nb):
+                        break  # asked for, or a backward error at round-off, where no step can do better
                 if best <= 0.5 * mark:
                     mark, since = best, 0
                 if since >= self.STAGNATION:
@@ -419,6 +433,10 @@ class _AMG:
             rz_new = float(r @ z)
             p = z + (rz_new / rz) * p if rz > 0 else z
             rz = rz_new
+        if its % self.CHECK_EVERY:  # the last steps since the last check
+            nt = float(np.linalg.norm(b - A @ x))
+            if nt < best:
+                best_x, best = x, nt
         return best_x, its, best / nb
 
     def refine(self, b: np.ndarray, x: np.ndarray, eta: float, norm: float, case: int | None = None) -> np.ndarray:
@@ -449,9 +467,7 @@ class _AMG:
         solve check then continues the iteration (:meth:`refine`) as far as the conditioning needs."""
         if rel <= 10 * self.rtol:
             return True
-        if not hasattr(self, "_norm"):
-            self._norm = float(abs(self._A).sum(axis=1).max())
-        return rel * nb <= self.rtol * (self._norm * float(np.linalg.norm(x)) + nb)
+        return rel * nb <= self.rtol * (self.norm * float(np.linalg.norm(x)) + nb)
 
     def approximate(self, b: np.ndarray, rtol: float = 1e-2, x0: np.ndarray | None = None) -> np.ndarray:
         """A rough solution of K x = b (relative residual about ``rtol``, a few cycles), unchecked.
