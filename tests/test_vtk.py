@@ -7,6 +7,7 @@ import meshio
 import numpy as np
 import pytest
 
+from _models import solved_strip
 from planar import Isotropic, Model, Roller, Traction, rectangle_mesh, solve, write_vtu
 from planar.core.errors import InputError
 
@@ -15,12 +16,9 @@ TYPES = {"T3": "triangle", "T6": "triangle6", "Q4": "quad", "Q8": "quad8", "Q9":
 
 def _strip(el, nx=3, ny=2):
     """A strip in uniform tension, 120 MPa (common practice: sigma_xx = P / A)."""
-    mesh = rectangle_mesh(30.0, 10.0, nx, ny, el)
-    model = Model(mesh, Isotropic(210e3, 0.3), thickness=4.0)
-    model.add_support(Roller("left", fixed="x"))
-    model.add_support(Roller("corner_00", fixed="y"))
-    model.add_load(Traction("right", tx=120.0), case="pull")
-    return mesh, solve(model)["pull"]
+    r = solved_strip(30.0, 10.0, nx, ny, el, material=Isotropic(210e3, 0.3), thickness=4.0, hold="roller",
+                     case="pull", loads={"pull": Traction("right", tx=120.0)})
+    return r.model.mesh, r
 
 
 @pytest.mark.parametrize("el", list(TYPES))
