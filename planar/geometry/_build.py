@@ -17,7 +17,10 @@ from ..core.errors import GeometryError, InputError
 from ._curves import _Line, _segment_distance
 from ._session import _Session, _stage
 from ._split import cut_lines
-from .plate import REL_TOL, Plate
+from ._tolerance import REL_TOL
+
+# The plate (planar.geometry.plate) calls this module to build itself, so this module reads the
+# plate only through its methods and never imports it: the annotations below name the class only.
 
 #: fractions of a curve's parameter range where it is sampled for naming
 _SAMPLE_AT = np.array([0.11, 0.3, 0.5, 0.7, 0.89])

@@ -28,12 +28,10 @@ import numpy as np
 
 from ..core.errors import GeometryError, InputError, unknown_name
 from ._curves import _Arc, _as_point, _AxisLine, _Line, _pieces_distance
+from ._tolerance import REL_TOL
 from .shapes import Outline, Polygon, Rectangle, Shape, _check_name, _fmt, _positive
 
 __all__ = ["Plate"]
-
-#: relative tolerance (times the plate's size) for "on the boundary" and "touching"
-REL_TOL = 1e-6
 
 
 @dataclass(frozen=True)
