@@ -3,6 +3,10 @@
 Element matrices are computed for a whole block of same-type elements at once (batched over
 element chunks that stay small in memory), then gathered COO -> CSR once. No Python loop runs over
 elements.
+
+The element maps (Jacobians, strain matrices) live in :mod:`planar.core._element_maps` and the
+element checks before assembly (:func:`prepare`) in :mod:`planar.core._element_checks`; their
+names are importable from here as before.
 """
 from __future__ import annotations
 
@@ -13,264 +17,21 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from .errors import ElementError, InputError, MeshError, fmt_point
+from .errors import MeshError
 from .loads import EdgeGeometry, LoadContext
 from .materials import check_material
-from .mesh import Mesh
 from .quadrature import Rule, rule_for
 from .parallel import map_chunks
 from .registry import check_plugin_array, element_type, plugin_call
-from . import validity
+from ._element_checks import _check_overlaps, _reduced, _twins, prepare  # noqa: F401
+from ._element_maps import (CHUNK, _jac, element_strains, jacobian, jacobian_det, shape_values,  # noqa: F401
+                            strain_matrix, strains)
 
 __all__ = ["Block", "Assembly", "prepare", "strain_matrix", "strains", "jacobian", "jacobian_det", "shape_values",
            "element_strains"]
 
-#: default chunk of elements per batched evaluation
-CHUNK = 4096
 #: COO pieces are compressed in this many groups, side by side, and the groups added
 GATHER_GROUPS = 2
-
-
-def jacobian(etype, coords: np.ndarray, points: np.ndarray):
-    """Jacobian data of a batch of elements at reference points.
-
-    Parameters
-    ----------
-    coords : ndarray, shape (e, k, 2)
-    points : ndarray, shape (q, 2)
-
-    Returns
-    -------
-    detJ : ndarray, shape (e, q)
-    dNdx : ndarray, shape (e, q, k, 2)
-        Shape-function derivatives in x, y.
-    """
-    with plugin_call("element", etype, "shape_derivatives"):
-        dN = etype.shape_derivatives(points)  # (q, k, 2)
-    dN = check_plugin_array("element", etype, "shape_derivatives", dN, (points.shape[0], etype.n_nodes, 2))
-    det, (a, b, c, d) = _jac(coords, dN)
-    # dN/dx = (J11 dN/dxi - J10 dN/deta) / det, dN/dy = (-J01 dN/dxi + J00 dN/deta) / det
-    with np.errstate(divide="ignore", invalid="ignore"):
-        inv_det = 1.0 / det
-    dxi, deta = dN[None, :, :, 0], dN[None, :, :, 1]
-    dNdx = np.empty((coords.shape[0], points.shape[0], dN.shape[1], 2))
-    dNdx[..., 0] = (d * inv_det)[..., None] * dxi - (c * inv_det)[..., None] * deta
-    dNdx[..., 1] = (a * inv_det)[..., None] * deta - (b * inv_det)[..., None] * dxi
-    return det, dNdx
-
-
-def _jac(coords: np.ndarray, dN: np.ndarray):
-    """det J (e, q) and the entries (dx/dxi, dx/deta, dy/dxi, dy/deta), each (e, q), by GEMMs."""
-    x = np.ascontiguousarray(coords[..., 0])
-    y = np.ascontiguousarray(coords[..., 1])
-    a = x @ dN[:, :, 0].T  # dx/dxi
-    b = x @ dN[:, :, 1].T  # dx/deta
-    c = y @ dN[:, :, 0].T  # dy/dxi
-    d = y @ dN[:, :, 1].T  # dy/deta
-    return a * d - b * c, (a, b, c, d)
-
-
-def element_strains(etype, coords: np.ndarray, D: np.ndarray, u_element: np.ndarray, rule: Rule,
-                    dNdx: np.ndarray | None = None) -> np.ndarray:
-    """Strains (e, q, 3) of a batch of elements at a rule's points.
-
-    From the element's own ``strain`` hook when it has one (checked like any plugin output),
-    otherwise from the shape-function derivatives (``dNdx`` if the caller has them already).
-    """
-    own = getattr(etype, "strain", None)
-    if own is not None:
-        with plugin_call("element", etype, "strain"):
-            eps = own(coords, D, u_element, rule)
-        return check_plugin_array("element", etype, "strain", eps, (coords.shape[0], rule.n_points, 3))
-    if dNdx is None:
-        _, dNdx = jacobian(etype, coords, rule.points)
-    return strains(dNdx, u_element)
-
-
-def shape_values(etype, points: np.ndarray) -> np.ndarray:
-    """Shape functions N (q, k) of an element type at reference points, checked like any plugin output."""
-    with plugin_call("element", etype, "shape"):
-        N = etype.shape(points)
-    return check_plugin_array("element", etype, "shape", N, (points.shape[0], etype.n_nodes))
-
-
-def jacobian_det(etype, coords: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """det J (e, q) of a batch of elements at reference points (no derivatives)."""
-    with plugin_call("element", etype, "shape_derivatives"):
-        dN = etype.shape_derivatives(points)
-    dN = check_plugin_array("element", etype, "shape_derivatives", dN, (points.shape[0], etype.n_nodes, 2))
-    return _jac(coords, dN)[0]
-
-
-def strains(dNdx: np.ndarray, u_element: np.ndarray) -> np.ndarray:
-    """Strains (eps_xx, eps_yy, gamma_xy) at the points from element displacements, without B.
-
-    Parameters
-    ----------
-    dNdx : ndarray, shape (e, q, k, 2)
-    u_element : ndarray, shape (e, 2k)
-        (u_1, v_1, u_2, v_2, ...) per element.
-
-    Returns
-    -------
-    ndarray, shape (e, q, 3)
-    """
-    ux = u_element[:, None, 0::2]  # (e, 1, k)
-    uy = u_element[:, None, 1::2]
-    nx, ny = dNdx[..., 0], dNdx[..., 1]
-    out = np.empty(dNdx.shape[:2] + (3,))
-    out[..., 0] = np.sum(nx * ux, axis=-1)
-    out[..., 1] = np.sum(ny * uy, axis=-1)
-    out[..., 2] = np.sum(ny * ux, axis=-1) + np.sum(nx * uy, axis=-1)
-    return out
-
-
-def strain_matrix(dNdx: np.ndarray) -> np.ndarray:
-    """Strain-displacement matrices B from shape-function derivatives.
-
-    Parameters
-    ----------
-    dNdx : ndarray, shape (e, q, k, 2)
-
-    Returns
-    -------
-    ndarray, shape (e, q, 3, 2k)
-        Rows (eps_xx, eps_yy, gamma_xy); columns (u_1, v_1, u_2, v_2, ...).
-    """
-    e, q, k, _ = dNdx.shape
-    B = np.zeros((e, q, 3, 2 * k))
-    B[:, :, 0, 0::2] = dNdx[..., 0]
-    B[:, :, 1, 1::2] = dNdx[..., 1]
-    B[:, :, 2, 0::2] = dNdx[..., 1]
-    B[:, :, 2, 1::2] = dNdx[..., 0]
-    return B
-
-
-def _reduced(etype, rule_full: Rule) -> Rule:
-    if etype.cell == "quad":
-        n = int(round(np.sqrt(rule_full.n_points)))
-        return rule_for("quad", max(1, n - 1))
-    return rule_for("triangle", max(1, rule_full.degree - 1))
-
-
-def prepare(mesh: Mesh, elements: dict[str, str] | None = None, *, distortion_limit: float = 1e-3) -> Mesh:
-    """Check every element and the joins between them; return the mesh with clockwise elements turned round.
-
-    Each element's Jacobian determinant is bounded over the whole element, not only at sample
-    points (Bernstein bounds with subdivision, :mod:`planar.core.validity`), and the mesh is checked
-    for conformity: hanging nodes, unmatched mid-side nodes and partly duplicated nodes that open a
-    slit are refused unless the slit is declared (``Mesh(..., slits=...)``).
-
-    Parameters
-    ----------
-    mesh : Mesh
-    elements : mapping, optional
-        Element formulation per layout (see :class:`~planar.core.model.Model`).
-    distortion_limit : float
-        Smallest accepted ratio of the least to the largest Jacobian determinant in an element.
-
-    Raises
-    ------
-    ElementError
-        For elements with a zero, changing-sign or badly distorted Jacobian, naming their ids, and for
-        cells that overlap (a folded or tangled mesh, or a cell given twice).
-    MeshError
-        For a mesh that does not conform (hanging nodes, unmatched mid-side nodes, an undeclared slit
-        of duplicated nodes), naming the nodes, the cells and the fix.
-    """
-    elements = elements or {}
-    try:
-        ok = 0.0 <= float(distortion_limit) < 1.0
-    except (TypeError, ValueError):
-        ok = False
-    if not ok or isinstance(distortion_limit, bool):
-        raise InputError(f"distortion_limit must be a number from 0 (accept any shape) to below 1, got "
-                         f"{distortion_limit!r}; the default is 1e-3")
-    cells = {}
-    tiny = (1e-14 * mesh.size()) ** 2
-    for layout, conn in mesh.cells.items():
-        etype = element_type(elements.get(layout, layout))
-        if conn.shape[1] != etype.n_nodes:
-            raise MeshError(
-                f"element {etype.name} has {etype.n_nodes} nodes but the mesh block {layout!r} has "
-                f"{conn.shape[1]} per cell"
-            )
-        neg, verdict, ratio = validity.check_block(etype, mesh.nodes, conn, float(distortion_limit), tiny, CHUNK)
-        bad = (verdict == validity.FOLDED) | (verdict == validity.COLLAPSED)
-        if np.any(bad):
-            ids = np.flatnonzero(bad)
-            what = ("collapsed (zero area)" if np.all(verdict[ids] == validity.COLLAPSED) else
-                    "folded or collapsed: the Jacobian is zero or changes sign inside")
-            raise ElementError(
-                f"{ids.size} {etype.name} element(s) are {what}: cell ids {ids[:10].tolist()}"
-                f"{' ...' if ids.size > 10 else ''} of block {layout!r} (first at "
-                f"{fmt_point(mesh.nodes[conn[ids[0]]].mean(axis=0))}); remesh, or check the "
-                "node order and the mid-side node positions"
-            )
-        distorted = verdict == validity.DISTORTED
-        if np.any(distorted):
-            ids = np.flatnonzero(distorted)
-            raise ElementError(
-                f"{ids.size} {etype.name} element(s) are badly distorted (least/largest Jacobian "
-                f"{ratio[ids].min():.2e} < {distortion_limit:g}): cell ids {ids[:10].tolist()} of "
-                f"block {layout!r} (first at {fmt_point(mesh.nodes[conn[ids[0]]].mean(axis=0))}); "
-                "remesh with better-shaped elements"
-            )
-        if np.any(neg):
-            conn = conn.copy()
-            conn[neg] = conn[neg][:, etype.reversed_order]
-        cells[layout] = conn
-    table = validity.side_table(mesh.n_nodes, cells, lambda lay: element_type(elements.get(lay, lay)).edges)
-    _check_overlaps(mesh, cells, table)
-    validity.check_conforming(mesh, cells, table, getattr(mesh, "slits", ()))
-    if all(cells[k] is mesh.cells[k] for k in cells):
-        return mesh
-    return Mesh(mesh.nodes, cells, mesh.edge_sets, mesh.node_sets, mesh.regions, slits=mesh.slits)
-
-
-def _check_overlaps(mesh: Mesh, cells: dict[str, np.ndarray], table: "validity.SideTable") -> None:
-    """Refuse cells that lie on top of each other.
-
-    With every cell counter-clockwise, an edge between two cells is walked once in each direction. An
-    edge walked twice in the same direction (two cells on the same side of it), or shared by more
-    than two cells, means overlapping cells: a folded or tangled mesh, or the same cell given twice
-    (common practice for mesh validity; such a mesh would silently add stiffness where cells overlap).
-    """
-    n = np.int64(mesh.n_nodes)
-    k = table.key
-    same_way = k[1:] == k[:-1]
-    crowded = (k[2:] >> 1) == (k[:-2] >> 1)
-    if not (same_way.any() or crowded.any()):
-        return
-    bad = int(k[1:][same_way][0] if same_way.any() else k[2:][crowded][0])
-    und = bad >> 1
-    a, b = int(und // n), int(und % n)
-    hit = table.order[(k >> 1) == und]
-    owners = [table.owner(int(s)) for s in np.sort(hit)]
-    twins = _twins(cells, owners)
-    if twins:
-        raise ElementError(
-            f"cells overlap: {twins[0]} and {twins[1]} use the same nodes (a cell given twice, near "
-            f"{fmt_point(mesh.nodes[[a, b]].mean(axis=0))}); remove the duplicate cells"
-        )
-    raise ElementError(
-        f"cells overlap (the mesh folds over itself or cells are tangled): {', '.join(owners[:4])} lie on "
-        f"the same side of their shared edge from node {a} {fmt_point(mesh.nodes[a])} to node {b} "
-        f"{fmt_point(mesh.nodes[b])}; remesh (an element turned inside out by a misplaced node does this too)"
-    )
-
-
-def _twins(cells, owners) -> tuple[str, str] | None:
-    """Two of the named cells with the same set of nodes, if any."""
-    seen = {}
-    for o in owners:
-        layout, _, c = o.split(" ")
-        key = frozenset(cells[layout][int(c)].tolist())
-        if key in seen:
-            return seen[key], o
-        seen[key] = o
-    return None
-
 
 
 def _gather(parts: list, shape: tuple[int, int], fmt: str, idt) -> sp.spmatrix:
