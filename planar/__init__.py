@@ -3,9 +3,11 @@
 Linear elastic, small strain, static 2D analysis (plane stress or plane strain) with T3, T6, Q4, Q8
 and Q9 elements. Units are the user's and must be consistent (e.g. N, mm, MPa).
 
-Results are linear-elastic and static figures: no buckling, fatigue, fracture or plasticity check is
-made, and in-plane compression can buckle a thin plate. They need review by a qualified engineer
-under the applicable codes, which take precedence.
+Results are linear-elastic, static figures with the limits stated once in :data:`planar.post.CAUTION`
+(no buckling, fatigue, fracture or plasticity check; review by a qualified engineer).
+
+The faces: ``planar`` (model, solve, results, errors), ``planar.geometry`` (plates and meshing),
+``planar.post`` (checks, estimates, combinations, files, figures, reports).
 
 Examples
 --------
@@ -29,11 +31,12 @@ __version__ = "0.1.0"
 from .core.errors import (DiscretisationWarning, ElementError, GeometryError, InputError, MaterialError,
                           MeshError, NameNotFoundError, OutputError, PlanarError, PlanarWarning, PluginError,
                           ResourceError, SolverError, SupportError)
+from .core.elements import ElementType
 from .core.loads import BodyForce, LoadKind, PointForce, Pressure, TemperatureChange, Traction
 from .core.materials import Isotropic, Orthotropic
 from .core.mesh import Mesh
 from .core.model import Model
-from .core.result import Result
+from .core.result import Extreme, Result
 from .core.static import solve
 from .core.supports import Fixed, Prescribed, Roller, Symmetry
 from .geometry.structured import rectangle_mesh
@@ -41,7 +44,7 @@ from .post.vtk import write_vtu
 from .paths import output_dir  # the output folder of a script run by ``planar run SCRIPT --out DIR``
 
 __all__ = [
-    "Mesh", "Model", "Result", "solve", "write_vtu", "rectangle_mesh", "output_dir",
+    "Mesh", "Model", "Result", "Extreme", "ElementType", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic",
     "Fixed", "Roller", "Prescribed", "Symmetry",
     "Traction", "Pressure", "PointForce", "BodyForce", "TemperatureChange", "LoadKind",

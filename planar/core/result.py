@@ -8,23 +8,39 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import cached_property
-from typing import Any, Callable
+from typing import Any, Callable, NamedTuple
 
 import numpy as np
 
 from .caseresult import CaseResult, as_result, as_results
+from .compat import renamed_keywords
 from .errors import InputError
+from .fields import FIELD_TABLE, names
 from .recovery import METHODS, recover
 from .stress import extrapolation_matrix, nodal_average, stress_at, stress_measures, stress_rule
 
-__all__ = ["Result", "GaussField", "stress_measures", "FIELDS", "extrapolation_matrix", "as_result",
-           "as_results"]
+__all__ = ["Result", "GaussField", "Extreme", "stress_measures", "FIELDS", "FIELD_TABLE", "extrapolation_matrix",
+           "as_result", "as_results"]
 
-#: fields a user can ask for by name
-STRESS_FIELDS = ("sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1",
-                 "sigma_2", "principal_angle")
-STRAIN_FIELDS = ("eps_xx", "eps_yy", "gamma_xy")
-FIELDS = ("ux", "uy", "displacement") + STRESS_FIELDS + STRAIN_FIELDS
+#: fields a user can ask for by name (from the one table, :data:`planar.core.fields.FIELD_TABLE`)
+STRESS_FIELDS = names(kind="stress")
+STRAIN_FIELDS = names(kind="strain")
+FIELDS = tuple(FIELD_TABLE)
+
+
+class Extreme(NamedTuple):
+    """The largest or smallest value of a nodal field (unpacks as ``value, location, node``).
+
+    Attributes
+    ----------
+    value : float
+    location : (float, float)
+    node : int
+    """
+
+    value: float
+    location: tuple[float, float]
+    node: int
 
 
 @dataclass
@@ -128,33 +144,35 @@ class Result(CaseResult):
             out.append(GaussField(b, rule, x, dv, at.strain, at.mech_strain, at.stress, at.szz))
         return out
 
-    def gauss_values(self, name: str) -> list[np.ndarray]:
+    @renamed_keywords(name="field")
+    def gauss_values(self, field: str) -> list[np.ndarray]:
         """A stress or strain field at the Gauss points, one (e, q) array per block."""
-        if name in STRAIN_FIELDS:
-            k = STRAIN_FIELDS.index(name)
+        if field in STRAIN_FIELDS:
+            k = STRAIN_FIELDS.index(field)
             return [g.strain[..., k] for g in self.gauss]
-        if name not in STRESS_FIELDS:
-            raise InputError(f"unknown Gauss-point field {name!r}; pick one of {', '.join(STRESS_FIELDS + STRAIN_FIELDS)}")
-        return [stress_measures(g.stress, g.szz)[name] for g in self.gauss]
+        if field not in STRESS_FIELDS:
+            raise InputError(f"unknown Gauss-point field {field!r}; pick one of {', '.join(STRESS_FIELDS + STRAIN_FIELDS)}")
+        return [stress_measures(g.stress, g.szz)[field] for g in self.gauss]
 
     # ------------------------------------------------------------------ nodal fields
-    def nodal_stress(self, method: str = "spr") -> tuple[np.ndarray, np.ndarray]:
+    @renamed_keywords(method="recovery")
+    def nodal_stress(self, recovery: str = "spr") -> tuple[np.ndarray, np.ndarray]:
         """Nodal (sigma_xx, sigma_yy, tau_xy) and sigma_zz, shape (n, 3) and (n,).
 
         Parameters
         ----------
-        method : {"spr", "average"}
+        recovery : {"spr", "average"}
             ``"spr"`` (default): superconvergent patch recovery; ``"average"``: Gauss values
             extrapolated to each element's nodes and averaged over the elements that share a node.
             Both work region by region (no smoothing across a change of material or thickness); at
             an interface node the region with the larger von Mises stress gives the value
             (:func:`planar.core.recovery.recover`).
         """
-        key = f"stress:{method}"
+        key = f"stress:{recovery}"
         if key not in self._nodal_cache:
-            if method not in METHODS:
-                raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(METHODS)}")
-            vals = recover(self, method=method)
+            if recovery not in METHODS:
+                raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
+            vals = recover(self, method=recovery)
             self._nodal_cache[key] = vals
         v = self._nodal_cache[key]
         return v[:, :3], v[:, 3]
@@ -164,22 +182,24 @@ class Result(CaseResult):
         return nodal_average(self.mesh.n_nodes, ((g.block.etype, g.rule, g.block.conn, getter(g)) for g in self.gauss),
                              empty=0.0)
 
-    def field(self, name: str, *, method: str = "spr") -> np.ndarray:
+    @renamed_keywords(name="field", method="recovery")
+    def field(self, field: str, *, recovery: str = "spr") -> np.ndarray:
         """A nodal field by name.
 
         Parameters
         ----------
-        name : str
+        field : str
             ``ux``, ``uy``, ``displacement`` (magnitude), a stress name (``sigma_xx``, ``sigma_yy``,
             ``tau_xy``, ``sigma_zz``, ``von_mises``, ``tresca``, ``sigma_1``, ``sigma_2``,
             ``principal_angle``) or a strain name (``eps_xx``, ``eps_yy``, ``gamma_xy``).
-        method : {"spr", "average"}
+        recovery : {"spr", "average"}
             Stress recovery (see :meth:`nodal_stress`); SPR by default.
 
         Returns
         -------
         ndarray, shape (n,)
         """
+        name = field
         if name == "ux":
             return self.u[:, 0].copy()
         if name == "uy":
@@ -190,34 +210,44 @@ class Result(CaseResult):
             k = STRAIN_FIELDS.index(name)
             return self._average(lambda g: g.strain[..., k : k + 1])[:, 0]
         if name in STRESS_FIELDS:
-            s, szz = self.nodal_stress(method)
+            s, szz = self.nodal_stress(recovery)
             return stress_measures(s, szz)[name]
         raise InputError(f"unknown field {name!r}; pick one of {', '.join(FIELDS)}")
 
     # ------------------------------------------------------------------ queries
-    def max(self, name: str = "von_mises", *, method: str = "spr", absolute: bool = False):
+    def _extreme(self, v: np.ndarray, i: int) -> Extreme:
+        return Extreme(float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i)
+
+    @renamed_keywords(name="field", method="recovery")
+    def max(self, field: str = "von_mises", *, recovery: str = "spr", absolute: bool = False) -> Extreme:
         """Largest value of a nodal field and where it occurs.
+
+        Parameters
+        ----------
+        field : str, default "von_mises"
+        recovery : {"spr", "average"}
+        absolute : bool
+            The largest magnitude instead of the largest signed value (the value keeps its sign).
 
         Returns
         -------
-        value : float
-        location : (float, float)
-        node : int
+        Extreme
+            ``(value, location, node)``; unpacks as a tuple.
         """
-        v = self.field(name, method=method)
+        v = self.field(field, recovery=recovery)
         used = self.mesh.used_nodes()
         w = np.where(used, np.abs(v) if absolute else v, -np.inf)
-        i = int(np.argmax(w))
-        return float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i
+        return self._extreme(v, int(np.argmax(w)))
 
-    def min(self, name: str, *, method: str = "spr"):
-        """Smallest value of a nodal field, with location and node."""
-        v = self.field(name, method=method)
+    @renamed_keywords(name="field", method="recovery")
+    def min(self, field: str, *, recovery: str = "spr") -> Extreme:
+        """Smallest value of a nodal field, with location and node (an :class:`Extreme`)."""
+        v = self.field(field, recovery=recovery)
         used = self.mesh.used_nodes()
-        i = int(np.argmin(np.where(used, v, np.inf)))
-        return float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i
+        return self._extreme(v, int(np.argmin(np.where(used, v, np.inf))))
 
-    def at(self, points, name: str, *, method: str = "spr") -> np.ndarray:
+    @renamed_keywords(name="field", method="recovery")
+    def at(self, points, field: str, *, recovery: str = "spr") -> np.ndarray:
         """Values of a field at points inside the mesh, interpolated with the shape functions.
 
         Parameters
@@ -236,7 +266,7 @@ class Result(CaseResult):
         from .locate import locate
 
         pts = np.atleast_2d(np.asarray(points, dtype=float))
-        v = self.field(name, method=method)
+        v = self.field(field, recovery=recovery)
         blk, cell, xi = locate(self.mesh, pts)
         out = np.empty(pts.shape[0])
         for layout, conn in self.mesh.cells.items():
@@ -248,7 +278,8 @@ class Result(CaseResult):
             out[sel] = np.einsum("pk,pk->p", N, v[conn[cell[sel]]])
         return out if np.ndim(points) > 1 else float(out[0])
 
-    def along(self, start, end, name: str, *, n_points: int = 101, method: str = "spr"):
+    @renamed_keywords(name="field", method="recovery")
+    def along(self, start, end, field: str, *, n_points: int = 101, recovery: str = "spr"):
         """A field along the straight path from ``start`` to ``end``.
 
         Returns
@@ -262,7 +293,7 @@ class Result(CaseResult):
         a, b = np.asarray(start, float), np.asarray(end, float)
         t = np.linspace(0.0, 1.0, int(n_points))
         pts = a + t[:, None] * (b - a)
-        return t * np.hypot(*(b - a)), pts, self.at(pts, name, method=method)
+        return t * np.hypot(*(b - a)), pts, self.at(pts, field, recovery=recovery)
 
     # ------------------------------------------------------------------ totals
     @property

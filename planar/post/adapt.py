@@ -27,6 +27,7 @@ from typing import Callable
 import numpy as np
 from scipy.spatial import cKDTree
 
+from ..core.compat import callable_module, deprecated, renamed_keywords
 from ..core.errors import InputError
 from ..core.result import as_result
 from .estimate import ErrorEstimate, estimate_error
@@ -211,7 +212,7 @@ class AdaptiveRun:
     target : float
     max_dofs : int
     field : str
-    method : str
+    recovery : str
     """
 
     cycles: list[Cycle]
@@ -220,7 +221,13 @@ class AdaptiveRun:
     target: float
     max_dofs: int
     field: str
-    method: str
+    recovery: str
+
+    @property
+    def method(self) -> str:
+        """The old name of :attr:`recovery`, kept for one release."""
+        deprecated("AdaptiveRun.method is now .recovery; the old name works for one release")
+        return self.recovery
 
     @property
     def final(self) -> Cycle:
@@ -278,8 +285,9 @@ def _say(verbose: bool | None) -> Callable[[str], None] | None:
     return (lambda s: print(s, file=sys.stderr, flush=True)) if verbose else None
 
 
+@renamed_keywords(method="recovery")
 def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: int = 100_000,
-          max_cycles: int = 8, field: str = "von_mises", method: str = "spr", case: str | None = None,
+          max_cycles: int = 8, field: str = "von_mises", recovery: str = "spr", case: str | None = None,
           mesh=None, refine_limit: float = 4.0, coarsen_limit: float = 2.0, grading: float = 0.3,
           verbose: bool | None = None, keep_results: bool = False) -> AdaptiveRun:
     """Refine the mesh of a part until the estimated error meets a target or a budget.
@@ -299,7 +307,7 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
         Most cycles (meshes solved).
     field : str
         Stress field whose peak is tracked and reported.
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
         Recovery for the estimate and the peak.
     case : str, optional
         Load case (default: the model's first).
@@ -342,8 +350,8 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
         model = build(m)
         c = case if case is not None else next(iter(model.cases), None)
         r = solve(model, [c] if c is not None else None)[c]
-        est = estimate_error(r, recovery=method)
-        peak, loc, _ = r.max(field, method=method)
+        est = estimate_error(r, recovery=recovery)
+        peak, loc, _ = r.max(field, recovery=recovery)
         cyc = Cycle(k, r.n_dofs, est.n_elements, est.relative, peak, loc, time.perf_counter() - t0, m, r, est)
         if cycles and not keep_results:
             cycles[-1].result = cycles[-1].estimate = None
@@ -357,7 +365,11 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
             break
         sf = size_field(r, est, target, refine_limit=refine_limit, coarsen_limit=coarsen_limit, grading=grading)
         m = remesh(sf)
-    run = AdaptiveRun(cycles, converged, reason, float(target), int(max_dofs), field, method)
+    run = AdaptiveRun(cycles, converged, reason, float(target), int(max_dofs), field, recovery)
     if say:
         say(f"stopped: {reason}")
     return run
+
+
+# ``from planar.post import adapt`` is this module, and calling it calls adapt() (one name, one meaning)
+callable_module(__name__, adapt)

@@ -27,10 +27,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..core.compat import deprecated, renamed_keywords
 from ..core.values import number
 from ..core.errors import InputError, PlanarWarning, warn
 from ..core.quadrature import gauss_line
+from ..core.recovery import METHODS
 from ..core.result import STRESS_FIELDS, as_result
+from .scope import CAUTION
 
 __all__ = [
     "CAUTION",
@@ -46,11 +49,14 @@ __all__ = [
     "cut_resultant",
 ]
 
-#: the caution that goes with every check
-CAUTION = ("Linear-elastic, static result: no buckling, fatigue, fracture or plasticity check is made. "
-           "It does not replace the applicable design code or a review by a qualified engineer.")
+class _OldMethodName:
+    """The attribute ``method`` of a check, kept for one release (it is ``recovery`` now)."""
 
-_METHODS = ("spr", "average")
+    @property
+    def method(self) -> str:
+        deprecated(f"{type(self).__name__}.method is now .recovery; the old name works for one release",
+                   stacklevel=3)
+        return self.recovery
 
 
 def _check_field(name: str) -> str:
@@ -65,10 +71,10 @@ def _where(x: float, y: float) -> str:
     return f"({0.0 if abs(x) < tol else x:.6g}, {0.0 if abs(y) < tol else y:.6g})"
 
 
-def _check_method(method: str) -> str:
-    if method not in _METHODS:
-        raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(_METHODS)}")
-    return method
+def _check_recovery(recovery: str) -> str:
+    if recovery not in METHODS:
+        raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
+    return recovery
 
 
 def _positive(value, what: str) -> float:
@@ -144,7 +150,7 @@ def nominal_net(load: float, width: float, hole_diameter: float, thickness: floa
 
 # ---------------------------------------------------------------------------- Kt and margins
 @dataclass
-class StressConcentration:
+class StressConcentration(_OldMethodName):
     """A stress concentration factor Kt = peak / nominal.
 
     Attributes
@@ -155,7 +161,7 @@ class StressConcentration:
     nominal : float
         Nominal stress it is referred to.
     field : str
-    method : str
+    recovery : str
         Stress recovery of the peak (``"spr"`` or ``"average"``).
     location : (float, float)
         Where the peak is.
@@ -167,7 +173,7 @@ class StressConcentration:
     peak: float
     nominal: float
     field: str
-    method: str
+    recovery: str
     location: tuple[float, float]
     node: int
     caution: str = CAUTION
@@ -175,12 +181,13 @@ class StressConcentration:
     def summary(self) -> str:
         x, y = self.location
         return (f"Kt = {self.Kt:.4g} ({self.field} peak {self.peak:.6g} at {_where(x, y)} over nominal "
-                f"{self.nominal:.6g}, {self.method} recovery). {self.caution}")
+                f"{self.nominal:.6g}, {self.recovery} recovery). {self.caution}")
 
     __str__ = summary
 
 
-def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
+@renamed_keywords(method="recovery")
+def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr",
        absolute: bool = False) -> StressConcentration:
     """Stress concentration factor of a result.
 
@@ -192,7 +199,7 @@ def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
         :func:`nominal_net`.
     field : str, default "von_mises"
         Stress field whose peak is taken, e.g. ``"sigma_xx"``, ``"sigma_1"``, ``"von_mises"``.
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
         Nodal recovery of the peak.
     absolute : bool
         Take the largest magnitude instead of the largest signed value (for compressive peaks).
@@ -204,29 +211,29 @@ def kt(result, nominal: float, *, field: str = "von_mises", method: str = "spr",
     Raises
     ------
     InputError
-        Unknown field or method, or a zero or non-finite nominal stress.
+        Unknown field or recovery, or a zero or non-finite nominal stress.
     """
     result = as_result(result, "kt")
     _check_field(field)
-    _check_method(method)
+    _check_recovery(recovery)
     try:
         nom = float(nominal)
     except (TypeError, ValueError):
         raise InputError(f"nominal must be a stress value, got {nominal!r}") from None
     if not math.isfinite(nom) or nom == 0:
         raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
-    peak, loc, node = result.max(field, method=method, absolute=absolute)
+    peak, loc, node = result.max(field, recovery=recovery, absolute=absolute)
     if nom < 0:
         warn(f"negative nominal stress {nom:.6g} in Kt (load case {result.case!r}, {field} peak {peak:.6g} at "
              f"{_where(*loc)}): a stress concentration factor is a ratio of tension figures, so a "
              f"compressive nominal gives Kt = {peak / nom:.4g}, with a misleading sign; give the nominal as "
              "a positive magnitude (and absolute=True for a compressive peak)",
              "negative-nominal", category=PlanarWarning, sink=result.warnings)
-    return StressConcentration(peak / nom, peak, nom, field, method, loc, node)
+    return StressConcentration(peak / nom, peak, nom, field, recovery, loc, node)
 
 
 @dataclass
-class Margin:
+class Margin(_OldMethodName):
     """Margin of safety MS = allowable / (FS x peak) - 1.
 
     Attributes
@@ -237,7 +244,7 @@ class Margin:
     factor_of_safety : float
     peak : float
         Peak applied stress (magnitude) in the model's stress unit.
-    field, method : str
+    field, recovery : str
     location : (float, float)
     caution : str
     """
@@ -247,7 +254,7 @@ class Margin:
     factor_of_safety: float
     peak: float
     field: str
-    method: str
+    recovery: str
     location: tuple[float, float]
     caution: str = CAUTION
 
@@ -261,13 +268,14 @@ class Margin:
         verdict = "holds" if self.passed else "DOES NOT hold"
         return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g} / "
                 f"({self.factor_of_safety:g} x {self.field} peak {self.peak:.6g} at {_where(x, y)}) - 1, "
-                f"{self.method} recovery. {self.caution}")
+                f"{self.recovery} recovery. {self.caution}")
 
     __str__ = summary
 
 
+@renamed_keywords(method="recovery")
 def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float = 1.0, *,
-                     field: str = "von_mises", method: str = "spr") -> Margin:
+                     field: str = "von_mises", recovery: str = "spr") -> Margin:
     """Margin of safety of the peak stress against an allowable.
 
     Parameters
@@ -280,7 +288,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         Factor applied to the peak (> 0).
     field : str
         Stress field of the peak (ignored for a given peak value).
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
 
     Returns
     -------
@@ -307,10 +315,10 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
     else:
         result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
         _check_field(field)
-        _check_method(method)
-        peak, loc, _ = result_or_peak.max(field, method=method, absolute=True)
+        _check_recovery(recovery)
+        peak, loc, _ = result_or_peak.max(field, recovery=recovery, absolute=True)
         peak = abs(peak)
-        fname, meth = field, method
+        fname, meth = field, recovery
         sink = result_or_peak.warnings
     if fs < 1.0:
         warn(f"factor of safety {fs:g} is below 1: it reduces the applied stress ({fs:g} x peak) instead of "
@@ -345,7 +353,7 @@ def _check_path(result, a: np.ndarray, b: np.ndarray, n_check: int = 64) -> None
 
 
 @dataclass
-class PathStresses:
+class PathStresses(_OldMethodName):
     """Stresses along a straight path.
 
     Attributes
@@ -356,7 +364,7 @@ class PathStresses:
     points : ndarray, shape (p, 2)
     values : dict of str to ndarray
         Field name -> values at the points.
-    method : str
+    recovery : str
     """
 
     start: tuple[float, float]
@@ -364,10 +372,10 @@ class PathStresses:
     distance: np.ndarray
     points: np.ndarray
     values: dict[str, np.ndarray]
-    method: str
+    recovery: str
 
     def summary(self) -> str:
-        lines = [f"path {self.start} -> {self.end}, {self.distance.size} points, {self.method} recovery"]
+        lines = [f"path {self.start} -> {self.end}, {self.distance.size} points, {self.recovery} recovery"]
         for k, v in self.values.items():
             i = int(np.argmax(np.abs(v)))
             lines.append(f"  {k}: max |.| {abs(v[i]):.6g} at distance {self.distance[i]:.6g}; mean {v.mean():.6g}")
@@ -376,8 +384,9 @@ class PathStresses:
     __str__ = summary
 
 
+@renamed_keywords(method="recovery")
 def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", "von_mises"), *,
-                  n_points: int = 101, method: str = "spr") -> PathStresses:
+                  n_points: int = 101, recovery: str = "spr") -> PathStresses:
     """Recovered stresses along the straight path from ``start`` to ``end``.
 
     Parameters
@@ -386,7 +395,7 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     start, end : (x, y)
     fields : str or sequence of str
     n_points : int
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
 
     Returns
     -------
@@ -395,26 +404,26 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     Raises
     ------
     InputError
-        Unknown field or method, or a path that leaves the mesh.
+        Unknown field or recovery, or a path that leaves the mesh.
     """
     result = as_result(result, "path_stresses")
     a, b = _point(start, "start"), _point(end, "end")
     names = [fields] if isinstance(fields, str) else list(fields)
     for f in names:
         _check_field(f)
-    _check_method(method)
+    _check_recovery(recovery)
     if int(n_points) < 2:
         raise InputError(f"a path needs at least 2 points, got n_points={n_points!r}")
     _check_path(result, a, b)
     values = {}
     dist = pts = None
     for f in names:
-        dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), method=method)
-    return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, method)
+        dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), recovery=recovery)
+    return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, recovery)
 
 
 @dataclass
-class CutResultant:
+class CutResultant(_OldMethodName):
     """Resultant of the stresses on a straight cut (force in the model's unit).
 
     Attributes
@@ -435,7 +444,7 @@ class CutResultant:
         The load it is compared with.
     relative_difference : float or None
         |force - applied| / |applied|.
-    method : str
+    recovery : str
     n_points : int
     """
 
@@ -447,14 +456,14 @@ class CutResultant:
     normal: tuple[float, float]
     applied: tuple[float, float] | None
     relative_difference: float | None
-    method: str
+    recovery: str
     n_points: int
     caution: str = field(default=CAUTION, repr=False)
 
     def summary(self) -> str:
         s = (f"cut of length {self.length:.6g}: resultant ({self.force[0]:.6g}, {self.force[1]:.6g}), "
              f"normal {self.normal_force:.6g}, shear {self.shear_force:.6g}, moment about the midpoint "
-             f"{self.moment:.6g} ({self.method} stresses, {self.n_points} points)")
+             f"{self.moment:.6g} ({self.recovery} stresses, {self.n_points} points)")
         if self.applied is not None:
             s += (f"; applied ({self.applied[0]:.6g}, {self.applied[1]:.6g}), relative difference "
                   f"{self.relative_difference:.3e}")
@@ -477,7 +486,8 @@ def _thickness_at(result, pts: np.ndarray) -> np.ndarray:
     return out
 
 
-def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segments: int = 64,
+@renamed_keywords(method="recovery")
+def cut_resultant(result, start, end, *, applied=None, recovery: str = "spr", segments: int = 64,
                   order: int = 4) -> CutResultant:
     """Resultant force of the stresses on a straight cut, to check statics against the applied load.
 
@@ -488,7 +498,7 @@ def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segm
         Ends of the cut; it must run inside the plate.
     applied : float or (float, float), optional
         The load the cut should carry: a vector (Fx, Fy), or a number compared with the normal force.
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
         Stresses sampled with ``result.at`` from these nodal values.
     segments, order : int
         The cut is split into ``segments`` equal pieces with an ``order``-point Gauss-Legendre rule on
@@ -510,11 +520,11 @@ def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segm
     Raises
     ------
     InputError
-        Bad points, a cut that leaves the mesh, unknown method.
+        Bad points, a cut that leaves the mesh, unknown recovery.
     """
     result = as_result(result, "cut_resultant")
     a, b = _point(start, "start"), _point(end, "end")
-    _check_method(method)
+    _check_recovery(recovery)
     if int(segments) < 1 or not 1 <= int(order) <= 10:
         raise InputError(f"need segments >= 1 and 1 <= order <= 10, got {segments!r}, {order!r}")
     _check_path(result, a, b)
@@ -527,9 +537,9 @@ def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segm
     u = ((np.arange(m)[:, None] + 0.5 * (rule.points[None, :, 0] + 1.0)) / m).ravel()
     w = np.tile(rule.weights / 2.0, m) / m * L
     pts = a + u[:, None] * d
-    sxx = result.at(pts, "sigma_xx", method=method)
-    syy = result.at(pts, "sigma_yy", method=method)
-    txy = result.at(pts, "tau_xy", method=method)
+    sxx = result.at(pts, "sigma_xx", recovery=recovery)
+    syy = result.at(pts, "sigma_yy", recovery=recovery)
+    txy = result.at(pts, "tau_xy", recovery=recovery)
     th = _thickness_at(result, pts)
     tx = sxx * n[0] + txy * n[1]
     ty = txy * n[0] + syy * n[1]
@@ -550,4 +560,4 @@ def cut_resultant(result, start, end, *, applied=None, method: str = "spr", segm
         rel = diff / scale if scale > 0 else diff
         app = (float(av[0]), float(av[1]))
     return CutResultant((Fx, Fy), float(Fx * n[0] + Fy * n[1]), float(Fx * tdir[0] + Fy * tdir[1]), M, L,
-                        (float(n[0]), float(n[1])), app, rel, method, int(pts.shape[0]))
+                        (float(n[0]), float(n[1])), app, rel, recovery, int(pts.shape[0]))

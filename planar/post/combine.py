@@ -47,15 +47,16 @@ import warnings
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
-from typing import Mapping, Sequence
+from typing import Mapping, NamedTuple, Sequence
 
 import numpy as np
 
+from ..core.compat import callable_module, deprecated, renamed_keywords
 from ..core.values import number
 from ..core.errors import InputError, unknown_name
 from ..core.result import FIELDS, GaussField, Result, as_results
 
-__all__ = ["CombinedResult", "Combination", "combine", "combinations", "Envelope", "envelope",
+__all__ = ["CombinedResult", "Combination", "combine", "combinations", "Envelope", "EnvelopePeak", "envelope",
            "write_envelope_vtu", "plot_envelope"]
 
 
@@ -333,6 +334,24 @@ def combinations(results: Mapping[str, Result],
 
 
 # ---------------------------------------------------------------------------- envelope
+class EnvelopePeak(NamedTuple):
+    """The largest or smallest value of an envelope (unpacks as ``value, location, node, case``).
+
+    Attributes
+    ----------
+    value : float
+    location : (float, float)
+    node : int
+    case : str
+        The case or combination that gives it.
+    """
+
+    value: float
+    location: tuple[float, float]
+    node: int
+    case: str
+
+
 @dataclass
 class Envelope:
     """Largest and smallest value of a nodal field over cases and combinations.
@@ -341,7 +360,7 @@ class Envelope:
     ----------
     field : str
         The nodal field (any name of :meth:`planar.Result.field`).
-    method : str
+    recovery : str
         Stress recovery used for stress fields (``"average"`` or ``"spr"``).
     names : list of str
         The cases and combinations, in order; the governing indices point into this list.
@@ -356,7 +375,7 @@ class Envelope:
     """
 
     field: str
-    method: str
+    recovery: str
     names: list[str]
     max: np.ndarray
     min: np.ndarray
@@ -374,15 +393,23 @@ class Envelope:
             raise InputError(f"node {node} belongs to no element, so it has no envelope value")
         return self.names[i], self.names[j]
 
-    def peak(self) -> tuple[float, tuple[float, float], int, str]:
-        """Largest value of the envelope: (value, (x, y), node, governing case)."""
-        i = int(np.nanargmax(self.max))
-        return float(self.max[i]), (float(self.nodes[i, 0]), float(self.nodes[i, 1])), i, self.names[self.governs_max[i]]
+    @property
+    def method(self) -> str:
+        """The old name of :attr:`recovery`, kept for one release."""
+        deprecated("Envelope.method is now .recovery; the old name works for one release")
+        return self.recovery
 
-    def lowest(self) -> tuple[float, tuple[float, float], int, str]:
+    def _at(self, v: np.ndarray, i: int, governs: np.ndarray) -> EnvelopePeak:
+        return EnvelopePeak(float(v[i]), (float(self.nodes[i, 0]), float(self.nodes[i, 1])), i,
+                            self.names[governs[i]])
+
+    def peak(self) -> EnvelopePeak:
+        """Largest value of the envelope: (value, (x, y), node, governing case)."""
+        return self._at(self.max, int(np.nanargmax(self.max)), self.governs_max)
+
+    def lowest(self) -> EnvelopePeak:
         """Smallest value of the envelope: (value, (x, y), node, governing case)."""
-        i = int(np.nanargmin(self.min))
-        return float(self.min[i]), (float(self.nodes[i, 0]), float(self.nodes[i, 1])), i, self.names[self.governs_min[i]]
+        return self._at(self.min, int(np.nanargmin(self.min)), self.governs_min)
 
     def counts(self) -> dict[str, tuple[int, int]]:
         """Number of nodes each case governs: name -> (for the max, for the min)."""
@@ -408,7 +435,8 @@ class Envelope:
         return plot_envelope(self, path, **kw)
 
 
-def envelope(results: Mapping[str, Result], field: str = "von_mises", *, method: str = "spr") -> Envelope:
+@renamed_keywords(method="recovery")
+def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recovery: str = "spr") -> Envelope:
     """Envelope (max and min at every node) of a nodal field over cases and combinations.
 
     Parameters
@@ -419,7 +447,7 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, method:
     field : str, default "von_mises"
         Any nodal field of :meth:`planar.Result.field`. Derived fields (von Mises, principal
         stresses) are taken from each case's own stress, never combined.
-    method : {"average", "spr"}
+    recovery : {"spr", "average"}
         Nodal stress recovery.
 
     Returns
@@ -453,14 +481,14 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, method:
                 f"envelope: {names[0]!r} and {n!r} are on different meshes; an envelope compares cases "
                 "node by node, so solve them on one mesh (one model with several load cases)")
     _check_compatible(list(zip(names, items)), "envelope")
-    V = np.stack([r.field(field, method=method) for r in items])  # (m, n)
+    V = np.stack([r.field(field, recovery=recovery) for r in items])  # (m, n)
     used = first.mesh.used_nodes()
     gmax = np.where(used, np.argmax(V, axis=0), -1)
     gmin = np.where(used, np.argmin(V, axis=0), -1)
     vmax = np.where(used, V.max(axis=0), np.nan)
     vmin = np.where(used, V.min(axis=0), np.nan)
     etypes = {b.layout: b.etype for b in first.assembly.blocks}
-    return Envelope(field, method, names, vmax, vmin, gmax.astype(np.int64), gmin.astype(np.int64),
+    return Envelope(field, recovery, names, vmax, vmin, gmax.astype(np.int64), gmin.astype(np.int64),
                     first.mesh.nodes, dict(first.mesh.cells), first.units, etypes)
 
 
@@ -566,3 +594,7 @@ def plot_envelope(env: Envelope, path: str | os.PathLike | None = None, *, title
     if path is not None:
         save_figure(fig, path)
     return fig
+
+
+# ``from planar.post import combine`` is this module, and calling it calls combine() (one name, one meaning)
+callable_module(__name__, combine)

@@ -29,6 +29,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
+from ..core.compat import renamed_keywords
 from ..core.errors import InputError
 from .files import atomic_path
 
@@ -307,8 +308,9 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
                            (float(r21), float(r32)), float(unc), name, unit, float(safety_factor), notes)
 
 
+@renamed_keywords(method="recovery")
 def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callable = "von_mises", *,
-                      case: str | None = None, method: str = "spr", unit: str = "") -> GridConvergence:
+                      case: str | None = None, recovery: str = "spr", unit: str = "") -> GridConvergence:
     """Solve the same model on three or more meshes and study the convergence of a quantity.
 
     Parameters
@@ -321,7 +323,7 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         A stress field name (its peak nodal value is taken) or ``quantity(result) -> float``.
     case : str, optional
         Load case (default: the model's first).
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
         Recovery of the peak when ``quantity`` is a field name.
     unit : str
         Unit of the quantity, for the table and the plot.
@@ -343,7 +345,7 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         if callable(quantity):
             values.append(float(quantity(r)))
         else:
-            values.append(r.max(quantity, method=method)[0])
+            values.append(r.max(quantity, recovery=recovery)[0])
         dofs.append(r.n_dofs)
     name = quantity if isinstance(quantity, str) else getattr(quantity, "__name__", "quantity")
     return grid_convergence(values, dofs=dofs, name=f"peak {name}" if isinstance(quantity, str) else name, unit=unit)

@@ -4,6 +4,7 @@ and reading back a .vtu result with its digest compared and its numbers checked.
 from __future__ import annotations
 
 import errno
+import math
 import os
 import tempfile
 from contextlib import contextmanager
@@ -15,7 +16,26 @@ from ..core.digest import check_digest
 from ..core.errors import MeshError, OutputError, PlanarWarning, fmt_point
 
 __all__ = ["atomic_path", "atomic_write_text", "atomic_write_bytes", "read_result_file", "check_digest",
-           "non_finite_fields"]
+           "non_finite_fields", "json_safe"]
+
+
+def json_safe(obj):
+    """``obj`` with every NaN or infinite float (at any depth of dicts, lists, tuples) made None.
+
+    JSON has no NaN or infinity; a study that cannot extrapolate, say, writes null there.
+
+    Examples
+    --------
+    >>> json_safe({"a": [1.0, float("nan")], "b": (float("inf"), "x")})
+    {'a': [1.0, None], 'b': [None, 'x']}
+    """
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_safe(v) for v in obj]
+    return obj
 
 
 @contextmanager

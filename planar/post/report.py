@@ -31,6 +31,7 @@ from typing import Any, Iterable, Sequence, Union
 from ..core.errors import InputError
 from ..core.result import as_result
 from .files import atomic_write_text
+from .scope import CAUTIONS, SCOPE_NOTE
 
 __all__ = [
     "Report",
@@ -49,20 +50,6 @@ __all__ = [
     "describe_model_rows",
     "warnings_section",
 ]
-
-#: the cautions every stress-check report carries
-CAUTIONS = (
-    "The analysis is linear elastic, small displacement and static: stresses above the "
-    "proportional limit are not corrected for yielding, and large deflections are not followed.",
-    "No buckling, fatigue, fracture or plasticity check has been made.",
-    "In-plane compression or shear can buckle a thin plate long before the stresses shown here are "
-    "reached; check stability separately wherever compressive or shear stresses appear.",
-    "Stresses next to supports and concentrated loads depend on how they were idealised; judge "
-    "peaks there with care.",
-    "These results need review by a qualified engineer under the applicable codes and standards, "
-    "which take precedence over anything in this report.",
-)
-
 
 # ---------------------------------------------------------------------------------------- content
 @dataclass
@@ -445,9 +432,7 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     blocks_top: list = []
     if headline:
         blocks_top.append(Tiles(list(headline)))
-    blocks_top.append(Notice(["Linear-elastic, small-displacement, static analysis; no buckling, fatigue, "
-                              "fracture or plasticity check. Read the cautions in the last section."],
-                             kind="note"))
+    blocks_top.append(Notice([SCOPE_NOTE], kind="note"))
     sections = [Section("Summary", blocks_top)]
     if getattr(result, "warnings", None):
         sections.append(warnings_section(result.warnings))

@@ -81,8 +81,8 @@ class Peak(Output):
 
     def __call__(self, result, values):
         if self.kind == "min":
-            return result.min(self.field, method=self.method)[0]
-        return result.max(self.field, method=self.method, absolute=self.kind == "absmax")[0]
+            return result.min(self.field, recovery=self.method)[0]
+        return result.max(self.field, recovery=self.method, absolute=self.kind == "absmax")[0]
 
 
 @dataclass(frozen=True)
@@ -111,7 +111,7 @@ class ValueAt(Output):
         _check_stress_args(self.field, self.method)
 
     def __call__(self, result, values):
-        return float(result.at(self.point, self.field, method=self.method))
+        return float(result.at(self.point, self.field, recovery=self.method))
 
 
 @dataclass(frozen=True)
@@ -144,7 +144,7 @@ class ConcentrationFactor(Output):
         from ..post.checks import kt
 
         nom = _number(self.nominal, "the nominal stress", values)
-        return kt(result, nom, field=self.field, method=self.method, absolute=self.absolute).Kt
+        return kt(result, nom, field=self.field, recovery=self.method, absolute=self.absolute).Kt
 
 
 @dataclass(frozen=True)
@@ -175,7 +175,7 @@ class SafetyMargin(Output):
 
         return margin_of_safety(result, _number(self.allowable, "the allowable", values),
                                 _number(self.factor_of_safety, "the factor of safety", values),
-                                field=self.field, method=self.method).margin
+                                field=self.field, recovery=self.method).margin
 
 
 _OUTPUT_FORMS = ("max:FIELD", "min:FIELD", "absmax:FIELD", "at:X,Y:FIELD", "kt:FIELD:NOMINAL",

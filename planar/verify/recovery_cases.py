@@ -318,7 +318,7 @@ def uniform_requirement(element: str, tolerance: float, *, start: float = 0.2, f
         if m.n_dofs > max_dofs:
             return first or last
         r = solve(build(m))["remote tension"]
-        err = abs(r.max("sigma_xx", method="spr")[0] - ref) / ref
+        err = abs(r.max("sigma_xx", recovery="spr")[0] - ref) / ref
         last = (r.n_dofs, err, h)
         if err <= tolerance:
             if first is not None:
@@ -338,7 +338,7 @@ def adaptive_kt(element: str):
     ref = KirschPlate().peak
     t0 = time.perf_counter()
     run = adapt(kirsch_build(), remesher(kirsch_geometry(), size=1.0, seed=1, **_GMSH_OPTIONS[element]),
-                target=0.001, max_dofs=budget, max_cycles=8, field="sigma_xx", method="spr", verbose=False)
+                target=0.001, max_dofs=budget, max_cycles=8, field="sigma_xx", recovery="spr", verbose=False)
     t_adapt = time.perf_counter() - t0
     fin = run.final
     within = [c for c in run.cycles if abs(c.peak - ref) / ref <= tol]
