@@ -12,6 +12,7 @@ from typing import Mapping
 import numpy as np
 
 from .errors import InputError, MeshError, PlanarError, PlanarWarning, fmt_point, unknown_name
+from .layouts import from_file_cells, layout, layouts, meshio_to_layout
 
 __all__ = ["Mesh", "MESHIO_TO_LAYOUT", "LAYOUT_TO_MESHIO"]
 
@@ -21,11 +22,16 @@ _MIN_EXTENT = 1e-100
 #: default distance, relative to the mesh size, under which two nodes count as one point
 DUPLICATE_TOL = 1e-9
 
-#: meshio cell type -> built-in element layout name
-MESHIO_TO_LAYOUT = {"triangle": "T3", "triangle6": "T6", "quad": "Q4", "quad8": "Q8", "quad9": "Q9"}
-LAYOUT_TO_MESHIO = {v: k for k, v in MESHIO_TO_LAYOUT.items()}
-_NODES_PER_LAYOUT = {"T3": 3, "T6": 6, "Q4": 4, "Q8": 8, "Q9": 9}
 _EDGE_TYPES = {"line": 2, "line3": 3}
+
+
+def __getattr__(name: str):
+    """``MESHIO_TO_LAYOUT`` and ``LAYOUT_TO_MESHIO``, derived from the registered element types."""
+    if name == "MESHIO_TO_LAYOUT":
+        return meshio_to_layout()
+    if name == "LAYOUT_TO_MESHIO":
+        return {k: v.meshio_type for k, v in layouts().items()}
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def _index_dtype(n: int):
@@ -149,7 +155,8 @@ class Mesh:
                 continue
             if block.ndim != 2 or not np.issubdtype(block.dtype, np.integer):
                 raise MeshError(f"cell block {name!r} must be a 2D integer array, got {block.dtype} {block.shape}")
-            k = _NODES_PER_LAYOUT.get(name)
+            known = layout(name)
+            k = known.n_nodes if known is not None else None
             if k is not None and block.shape[1] != k:
                 raise MeshError(f"cell block {name!r} has {block.shape[1]} nodes per cell, expected {k}")
             if block.min() < 0 or block.max() >= n:
@@ -471,10 +478,16 @@ class Mesh:
         edges_blocks: list[tuple[int, str, np.ndarray]] = []
         vertex_blocks: list[tuple[int, np.ndarray]] = []
         offsets: list[tuple[str, int] | None] = []
+        kinds = []  # per block: "cell", "edge", "vertex", "points" (higher-order lines) or None
         for bi, block in enumerate(m.cells):
             data = np.asarray(block.data)
-            if block.type in MESHIO_TO_LAYOUT:
-                lay = MESHIO_TO_LAYOUT[block.type]
+            found = from_file_cells(block.type, data.shape[1]) if data.ndim == 2 else None
+            kinds.append("cell" if found else "edge" if block.type in _EDGE_TYPES else
+                         "vertex" if block.type == "vertex" else
+                         "points" if block.type.startswith("line") else None)
+            if found:
+                lay, cols = found
+                data = data if cols is None else data[:, cols]
                 start = sum(c.shape[0] for c in cells.get(lay, []))
                 cells.setdefault(lay, []).append(data)
                 offsets.append((lay, start))
@@ -500,12 +513,12 @@ class Mesh:
                     continue
                 ids = np.asarray(ids, dtype=np.int64)
                 block = m.cells[bi]
-                if block.type in MESHIO_TO_LAYOUT:
+                if kinds[bi] == "cell":
                     lay, start = offsets[bi]
                     regions.setdefault(name, {}).setdefault(lay, []).append(ids + start)
-                elif block.type in _EDGE_TYPES:
+                elif kinds[bi] == "edge":
                     edge_sets.setdefault(name, []).append(np.asarray(block.data)[ids])
-                elif block.type == "vertex":
+                elif kinds[bi] in ("vertex", "points"):  # lines of more than 3 nodes: their nodes
                     node_sets.setdefault(name, []).append(np.asarray(block.data)[ids].ravel())
         regions_out = {n: {t: np.concatenate(v) for t, v in d.items()} for n, d in regions.items()}
         # a single region covering everything carries no information beyond "plate"

@@ -96,8 +96,8 @@ def _validate_element(obj: Any, name: str) -> None:
     _require(obj, needed, hasattr, "element type", "planar.core.elements.ElementType", "name", name)
     if obj.cell not in ("triangle", "quad"):
         raise PluginError(f"element cell must be 'triangle' or 'quad', not {obj.cell!r}")
-    if obj.degree not in (1, 2):
-        raise PluginError(f"element degree must be 1 or 2, not {obj.degree!r}")
+    if not isinstance(obj.degree, (int, np.integer)) or isinstance(obj.degree, bool) or obj.degree < 1:
+        raise PluginError(f"element degree must be a whole number 1 or more, not {obj.degree!r}")
     if not isinstance(obj.meshio_type, str) or not obj.meshio_type:
         raise PluginError(f"meshio_type must be a meshio cell type name such as 'quad', not {obj.meshio_type!r}")
     for hook in ("stiffness", "strain"):

@@ -59,6 +59,7 @@ import numpy as np
 
 from ..core.values import number
 from ..core.errors import GeometryError, InputError, MeshError, ResourceError, fmt_point, unknown_name
+from ..core.layouts import gmsh_type
 from ..core.mesh import Mesh
 from ..core.parallel import threads
 from ._build import _Built, _build
@@ -72,8 +73,6 @@ __all__ = ["Refine", "mesh", "element_options", "estimate_elements"]
 
 #: gmsh element type number -> (layout name, nodes per cell) of the linear mesh gmsh makes
 _GMSH_CELLS = {2: ("T3", 3), 3: ("Q4", 4)}
-#: layout name -> gmsh element type number (for writing .msh files)
-_GMSH_TYPE = {"T3": 2, "T6": 9, "Q4": 3, "Q8": 16, "Q9": 10}
 _ALGORITHMS = {"frontal-delaunay": 6, "delaunay": 5, "adaptive": 1, "frontal-quads": 8}
 #: node order of the mirror image of each linear layout (fixes clockwise cells)
 _FLIP = {"T3": [0, 2, 1], "Q4": [0, 3, 2, 1]}
@@ -924,7 +923,7 @@ def _write_msh(g, m: Mesh, path, s: _Session) -> None:
             for lay, conn in m.cells.items():
                 sel = conn[ids[lay] == i]
                 if sel.size:
-                    g.model.mesh.addElementsByType(tag, _GMSH_TYPE[lay], [], (sel.astype(np.int64) + 1).ravel())
+                    g.model.mesh.addElementsByType(tag, gmsh_type(lay), [], (sel.astype(np.int64) + 1).ravel())
             g.model.addPhysicalGroup(2, [tag], name=nm)
         for i, (nm, seg) in enumerate(sorted(m.edge_sets.items())):
             tag = top[1] + 1 + i

@@ -21,9 +21,8 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
-from ..core.elements import Q4, Q8, Q9, T3, T6
 from ..core.errors import InputError, MeshError, fmt_point
-from ..core.mesh import MESHIO_TO_LAYOUT
+from ..core.layouts import from_file_cells, layouts
 from ..core.result import as_result
 from .files import atomic_path
 
@@ -69,8 +68,6 @@ _LABELS = {
     "eps_yy": r"strain $\varepsilon_{yy}$",
     "gamma_xy": r"shear strain $\gamma_{xy}$",
 }
-#: geometric interpolation of the standard cell layouts (the layout fixes the geometry)
-_LAYOUT_TYPES = {"T3": T3, "T6": T6, "Q4": Q4, "Q8": Q8, "Q9": Q9}
 #: cap on the number of plotted small triangles (keeps big meshes drawable)
 _MAX_TRIANGLES = 1_500_000
 
@@ -179,9 +176,10 @@ def _lattice(etype, n: int):
 def _etype_of(layout: str, etypes: Mapping[str, Any] | None = None):
     if etypes and layout in etypes:
         return etypes[layout]
-    if layout in _LAYOUT_TYPES:
-        return _LAYOUT_TYPES[layout]
-    raise MeshError(f"cannot draw cells of layout {layout!r}; drawable layouts: {', '.join(_LAYOUT_TYPES)}")
+    known = layouts()  # the layout's own element type fixes the geometry
+    if layout in known:
+        return known[layout].etype
+    raise MeshError(f"cannot draw cells of layout {layout!r}; drawable layouts: {', '.join(known)}")
 
 
 def _auto_subdivisions(cells: Mapping[str, np.ndarray], etypes=None) -> dict[str, int]:
@@ -722,7 +720,8 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
              title: str | None = None, changed: str = "error"):
     """Contour of a field stored in a .vtu result file (read with meshio).
 
-    Quadratic cells (triangle6, quad8, quad9) are subdivided with their shape functions. Point
+    Quadratic and higher cells (triangle6, quad8, quad9, a plugin's, e.g. VTK's Lagrange triangle)
+    are subdivided with the shape functions of the element type that defines them. Point
     fields are drawn smooth; cell fields (e.g. ``element_von_mises``) as one colour per cell. A
     point field named ``displacement`` gives the deformed shape.
 
@@ -766,9 +765,11 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
     cells: dict[str, list[np.ndarray]] = {}
     order: list[tuple[int, str]] = []
     for bi, block in enumerate(m.cells):
-        lay = MESHIO_TO_LAYOUT.get(block.type)
-        if lay is not None:
-            cells.setdefault(lay, []).append(np.asarray(block.data, dtype=np.int64))
+        data = np.asarray(block.data, dtype=np.int64)
+        found = from_file_cells(block.type, data.shape[1]) if data.ndim == 2 else None
+        if found is not None:
+            lay, cols = found
+            cells.setdefault(lay, []).append(data if cols is None else data[:, cols])
             order.append((bi, lay))
     if not cells:
         raise MeshError(f"result file {os.fspath(path)!r} holds no triangles or quadrilaterals")

@@ -1,4 +1,4 @@
-"""VTK output (.vtu through meshio): quadratic cells as VTK's quadratic cell types.
+"""VTK output (.vtu): quadratic cells as VTK's quadratic cell types, other layouts as their element types say.
 
 Point data: displacement vector and nodal stresses (sigma_xx, sigma_yy, tau_xy, sigma_zz, von_mises,
 tresca, sigma_1, sigma_2); cell data: element mean stresses, von Mises, region id and any extra cell
@@ -16,6 +16,7 @@ import numpy as np
 
 from ..core.digest import digest_of, sign_file, sign_text
 from ..core.errors import InputError
+from ..core.layouts import layouts as all_layouts, vtk_cells
 from ..core.result import stress_measures
 from ..core.result import as_result
 from .files import atomic_path
@@ -38,15 +39,22 @@ def _field_array(what: str, v, count: int, of: str) -> np.ndarray:
     return a
 
 
-#: meshio cell type names of the built-in layouts
-CELL_TYPES = {"T3": "triangle", "T6": "triangle6", "Q4": "quad", "Q8": "quad8", "Q9": "quad9"}
+def __getattr__(name: str):
+    """``CELL_TYPES`` (layout -> meshio cell name), derived from the registered element types."""
+    if name == "CELL_TYPES":
+        return {k: v.meshio_type for k, v in all_layouts().items()}
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
-def _meshio_type(result, layout: str) -> str:
+def _block_type(result, layout: str) -> tuple[str, object]:
+    """The meshio cell name and element type of a layout's cells in a result."""
     for b in result.assembly.blocks:
         if b.layout == layout:
-            return getattr(b.etype, "meshio_type", CELL_TYPES.get(layout, layout))
-    return CELL_TYPES[layout]
+            return b.etype.meshio_type, b.etype
+    lay = all_layouts().get(layout)
+    if lay is None:
+        raise InputError(f"no element type defines the cell layout {layout!r}")
+    return lay.meshio_type, lay.etype
 
 
 def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
@@ -80,7 +88,10 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
     layouts = list(mesh.cells)
-    cells = [(_meshio_type(result, t), np.asarray(mesh.cells[t], dtype=np.int64)) for t in layouts]
+    cells = []
+    for t in layouts:
+        name, etype = _block_type(result, t)
+        cells.append((name, np.asarray(mesh.cells[t], dtype=np.int64), etype))
     s, szz = result.nodal_stress(recovery)
     meas = stress_measures(s, szz)
     pdata = {"displacement": np.column_stack([result.u, np.zeros(mesh.n_nodes)])}
@@ -118,26 +129,11 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     return path
 
 
-#: VTK cell type numbers of the meshio cell names planar writes (VTK's file format documentation)
-_VTK_TYPES = {"vertex": 1, "line": 3, "triangle": 5, "quad": 9, "line3": 21, "triangle6": 22, "quad8": 23,
-              "quad9": 28}
 _VTK_DTYPES = {"f8": "Float64", "f4": "Float32", "i8": "Int64", "i4": "Int32", "i2": "Int16", "i1": "Int8",
                "u8": "UInt64", "u4": "UInt32", "u2": "UInt16", "u1": "UInt8"}
 
 
-def _vtk_type(name: str) -> int:
-    if name in _VTK_TYPES:
-        return _VTK_TYPES[name]
-    try:  # a plugin element's own meshio type
-        from meshio._vtk_common import meshio_to_vtk_type
-
-        return int(meshio_to_vtk_type[name])
-    except (ImportError, KeyError):
-        raise InputError(f"no VTK cell type for the cell name {name!r}; give the element a meshio_type "
-                         f"VTK knows ({', '.join(sorted(_VTK_TYPES))}, ...)") from None
-
-
-def write_grid(path: Path, points: np.ndarray, cells: list[tuple[str, np.ndarray]],
+def write_grid(path: Path, points: np.ndarray, cells: list[tuple],
                point_data: Mapping[str, np.ndarray], cell_data: Mapping[str, list[np.ndarray]],
                field_data: Mapping[str, int] | None = None, compression: str | None = None) -> None:
     """Write an unstructured grid as a .vtu file, atomically.
@@ -146,18 +142,24 @@ def write_grid(path: Path, points: np.ndarray, cells: list[tuple[str, np.ndarray
     order and UInt64 block headers declared in the file): no base64 encoding, so the write runs at
     disk speed. With ``compression`` the file is written through meshio. ``field_data`` is a table
     name -> index (one Int32 array per name), e.g. the names of the region ids.
+
+    ``cells`` holds (meshio cell name, connectivity in the element's node order[, element type]);
+    VTK's cell type and node order come from the element type that defines the name
+    (:func:`planar.core.layouts.vtk_cells`), e.g. VTK's Lagrange triangle for a 10-node triangle.
     """
+    vtk = [vtk_cells(c[0], c[1], c[2] if len(c) > 2 else None) for c in cells]
     with atomic_path(path) as tmp:
         if compression is not None:
             import meshio
 
-            m = meshio.Mesh(points, cells, point_data=dict(point_data), cell_data=dict(cell_data))
+            m = meshio.Mesh(points, [(name, conn) for _, name, conn in vtk], point_data=dict(point_data),
+                            cell_data=dict(cell_data))
             meshio.write(tmp, m, file_format="vtu", compression=compression)
             if field_data:  # meshio writes no field data to .vtu
                 add_field_data(Path(tmp), field_data)
             sign_file(tmp)
         else:
-            _write_raw(Path(tmp), points, cells, point_data, cell_data, field_data or {})
+            _write_raw(Path(tmp), points, vtk, point_data, cell_data, field_data or {})
 
 
 def _write_raw(path: Path, points, cells, point_data, cell_data, field_data) -> None:
@@ -183,10 +185,10 @@ def _write_raw(path: Path, points, cells, point_data, cell_data, field_data) -> 
         offset += 8 + a.nbytes
         return tag
 
-    n_cells = [int(c.shape[0]) for _, c in cells]
-    conn = np.concatenate([np.zeros(0, np.int64)] + [np.asarray(c, dtype=np.int64).ravel() for _, c in cells])
-    sizes = np.concatenate([np.zeros(0, np.int64)] + [np.full(c.shape[0], c.shape[1], np.int64) for _, c in cells])
-    types = np.concatenate([np.zeros(0, np.uint8)] + [np.full(c.shape[0], _vtk_type(t), np.uint8) for t, c in cells])
+    n_cells = [int(c.shape[0]) for _, _, c in cells]
+    conn = np.concatenate([np.zeros(0, np.int64)] + [np.asarray(c, dtype=np.int64).ravel() for _, _, c in cells])
+    sizes = np.concatenate([np.zeros(0, np.int64)] + [np.full(c.shape[0], c.shape[1], np.int64) for _, _, c in cells])
+    types = np.concatenate([np.zeros(0, np.uint8)] + [np.full(c.shape[0], t, np.uint8) for t, _, c in cells])
     head = ['<?xml version="1.0"?>\n',
             '<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="UInt64">\n',
             "<UnstructuredGrid>\n"]
