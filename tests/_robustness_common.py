@@ -1227,8 +1227,8 @@ def fake_load(hook: str, how: str):
         return np.zeros(blk.x_gauss.shape[:2] + (4,))
 
     name = f"fails-in-{hook}-{how}".replace(" ", "-")
-    attrs = {"kind": name, "nodal_forces": forces, "initial_strain": strain,
-             "names_used": lambda self: [], "describe": lambda self: self.kind}
+    attrs = {"name": name, "nodal_forces": forces, "initial_strain": strain,
+             "names_used": lambda self: [], "describe": lambda self: self.name}
     attrs[hook] = _failing(how, {"nodal_forces": forces, "initial_strain": strain}[hook],
                            lambda a: a.shape[:-1] + (a.shape[-1] + 1,))
     return type(name.replace("-", "_"), (LoadKind,), attrs)
@@ -1251,10 +1251,10 @@ def check_failing_plugin(kind: str, hook: str, how: str, el_mesh: str = "Q4", ca
             exc = expect_planar_error(run, cls.name, kind=PluginError, category=None)
     else:
         cls = fake_load(hook, how)
-        with _registered("load", cls.kind, cls):
+        with _registered("load", cls.name, cls):
             model = planar.Model(mesh, planar.Isotropic(100.0, 0.3, alpha=1e-5), 1.0)
             model.add_support(planar.Fixed("left"))
-            model.add_load(cls.kind)
-            exc = expect_planar_error(lambda: planar.solve(model), cls.kind, kind=PluginError, category=None)
+            model.add_load(cls.name)
+            exc = expect_planar_error(lambda: planar.solve(model), cls.name, kind=PluginError, category=None)
     msg = str(exc)
     assert "planar-fake-plugin" in msg and hook in msg, msg

@@ -7,11 +7,13 @@ Throwaway distributions are made at test time as ``*.dist-info`` folders on a te
 """
 from __future__ import annotations
 
+import ast
 import importlib.metadata as md
 import re
 import sys
 import textwrap
 import tomllib
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -26,7 +28,7 @@ from planar.verify.core_cases import patch_mesh
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = {  # (group, name): distribution
-    ("planar.elements", "Q4i"): "planar-incompatible-quad",
+    ("planar.elements", "QM6"): "planar-incompatible-quad",
     ("planar.loads", "pin-bearing"): "planar-pin-bearing",
 }
 
@@ -86,7 +88,7 @@ def plugin_dirs(monkeypatch, tmp_path):
 
 
 GOOD_ELEMENT = """
-    from planar.core.elements import Q4
+    from planar.plugin import Q4
 
     class {cls}(Q4):
         name = "{name}"
@@ -134,7 +136,7 @@ def test_broken_plugin_is_reported_and_skipped(plugin_dirs, tmp_path):
     from planar.core.loads import LoadKind
 
     class TidyLoad(LoadKind):
-        kind = "tidy-load"
+        name = "tidy-load"
         def nodal_forces(self, ctx):
             import numpy as np
             return np.zeros((ctx.n_nodes, 2))
@@ -148,12 +150,12 @@ def test_broken_plugin_is_reported_and_skipped(plugin_dirs, tmp_path):
     assert "lacks" in problems["Lacking"].error and "n_nodes" in problems["Lacking"].error
     assert "must be a class" in problems["not-a-class"].error
     # the rest still loads: built-ins, the example plugins, and the good entry of the same distribution
-    assert element_type("Q4").name == "Q4" and element_type("Q4i").name == "Q4i"
-    assert load_kind("tidy-load").kind == "tidy-load"
+    assert element_type("Q4").name == "Q4" and element_type("QM6").name == "QM6"
+    assert load_kind("tidy-load").name == "tidy-load"
     with pytest.raises(NameNotFoundError, match=r"could not be loaded: RuntimeError: boom while importing"):
         element_type("Broken")
     mesh = planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4")
-    model = planar.Model(mesh, planar.Isotropic(1.0, 0.3), elements={"Q4": "Q4i"})
+    model = planar.Model(mesh, planar.Isotropic(1.0, 0.3), elements={"Q4": "QM6"})
     model.add_support(planar.Fixed("left"))
     model.add_load("tidy-load", case="nothing")
     model.add_load(planar.Traction("right", tx=1.0), case="pull")
@@ -189,7 +191,7 @@ def test_a_plugin_claiming_a_builtin_name_is_a_conflict_too(plugin_dirs, tmp_pat
     from planar.core.loads import Pressure as _P
 
     class Pressure(_P):
-        kind = "pressure"
+        name = "pressure"
 """})
     plugin_dirs(tmp_path)
     with pytest.raises(PluginError) as exc:
@@ -219,7 +221,8 @@ def test_planar_plugins_lists_names_kinds_distributions_versions(capsys):
     for name in ("T3", "T6", "Q4", "Q8", "Q9"):
         assert (name, "element", "planar", version) in rows
     assert ("temperature-change", "load", "planar", version) in rows
-    assert ("Q4i", "element", "planar-incompatible-quad", md.version("planar-incompatible-quad")) in rows
+    assert ("QM6", "element", "planar-incompatible-quad", md.version("planar-incompatible-quad")) in rows
+    assert "Former names (they work for one release, with a DeprecationWarning): Q4i -> QM6" in out
     assert ("pin-bearing", "load", "planar-pin-bearing", md.version("planar-pin-bearing")) in rows
     assert "No problems" in out
 
@@ -233,16 +236,164 @@ def test_planar_plugins_shows_broken_plugins(plugin_dirs, tmp_path, capsys):
     out = capsys.readouterr().out
     assert re.search(r"load 'crash' from planar-broken-example 0\.0\.1: ModuleNotFoundError: .*"
                      r"a_module_that_does_not_exist_anywhere", out)
-    assert ("Q4i" in out) and ("pin-bearing" in out)  # the rest is still listed
+    assert ("QM6" in out) and ("pin-bearing" in out)  # the rest is still listed
 
 
 def test_planar_verify_runs_for_a_plugin_element(capsys):
-    assert main(["verify", "--element", "Q4i", "--case", "patch-test"]) == 0
+    assert main(["verify", "--element", "QM6", "--case", "patch-test"]) == 0
     out = capsys.readouterr().out
-    assert "patch-test" in out and "Q4i" in out and "4 of 4 checks passed" in out
+    assert "patch-test" in out and "QM6" in out and "4 of 4 checks passed" in out
+    with pytest.warns(DeprecationWarning, match="'Q4i' is now called 'QM6'"):  # the former name, one release
+        assert main(["verify", "--element", "Q4i", "--case", "patch-test"]) == 0
+    assert "4 of 4 checks passed" in capsys.readouterr().out
     assert main(["verify", "--element", "Q4x"]) == 2
     err = capsys.readouterr().err
-    assert "unknown element type 'Q4x'" in err and "'Q4i'" in err
+    assert "unknown element type 'Q4x'" in err and "'QM6'" in err
+
+
+# ---------------------------------------------------------------------------- the smaller contract
+def _element(**attrs):
+    """An element class made from attributes (the shape functions of Q4 unless given)."""
+    from planar.plugin import ElementType, Q4
+
+    base = {"shape": Q4.__dict__["shape"], "shape_derivatives": Q4.__dict__["shape_derivatives"]}
+    return type("Made", (ElementType,), {**base, **attrs})
+
+
+SPEC = dict(name="Made", cell="quad", degree=1, meshio_type="quad", ref_nodes=planar.core.elements.Q4.ref_nodes,
+            edges=np.array([[0, 1], [1, 2], [2, 3], [3, 0]]))
+
+
+@pytest.mark.parametrize("name, order, degree", [("T3", [0, 2, 1], 1), ("T6", [0, 2, 1, 5, 4, 3], 2),
+                                                 ("Q4", [0, 3, 2, 1], 3), ("Q8", [0, 3, 2, 1, 7, 6, 5, 4], 5),
+                                                 ("Q9", [0, 3, 2, 1, 7, 6, 5, 4, 8], 5)])
+def test_builtins_declare_only_their_layout_the_rest_is_derived(name, order, degree):
+    # the values the built-ins used to declare (VTK/gmsh node order), now derived from the layout;
+    # the full rules are the common-practice ones (T3 1 point, T6 3, Q4 2 x 2, Q8 and Q9 3 x 3)
+    from planar.plugin import jacobian
+
+    import inspect
+
+    et = element_type(name)
+    declared = {t.id for node in ast.parse(inspect.getsource(et)).body[0].body if isinstance(node, ast.Assign)
+                for t in node.targets if isinstance(t, ast.Name)}
+    assert declared == {"name", "cell", "degree", "ref_nodes", "edges", "meshio_type"} | (declared - {
+        "n_nodes", "reversed_order", "rule_degree", "default_order"}) and "reversed_order" not in declared
+    assert not {"n_nodes", "reversed_order", "rule_degree", "default_order"} & declared
+    assert et.n_nodes == len(et.ref_nodes) and et.reversed_order.tolist() == order and et.rule_degree == degree
+    assert et.default_rule().n_points == {"T3": 1, "T6": 3, "Q4": 4, "Q8": 9, "Q9": 9}[name]
+    # the derived order really turns a clockwise element round: det J changes sign at every point,
+    # and the reversed element is the same element (its nodes in the same places)
+    flipped = et.ref_nodes[:, ::-1][None]
+    det, _ = jacobian(et, flipped, et.default_rule().points)
+    det_r, _ = jacobian(et, flipped[:, et.reversed_order], et.default_rule().points)
+    assert np.all(det < 0) and np.all(det_r > 0)
+    assert sorted(map(tuple, flipped[0][et.reversed_order])) == sorted(map(tuple, flipped[0]))
+
+
+def test_explicit_values_are_accepted_and_checked():
+    made = _element(**SPEC, n_nodes=4, reversed_order=np.array([0, 3, 2, 1]), rule_degree=5)
+    assert made.default_rule().n_points == 9  # 3 x 3: exact to degree 5
+    from planar.core.registry import _validate_element
+
+    _validate_element(made, "Made")
+    with pytest.raises(PluginError, match="permutation"):
+        _validate_element(_element(**SPEC, reversed_order=np.array([0, 0, 2, 1])), "Made")
+    with pytest.raises(PluginError, match=r"expected \(5, 2\)"):
+        _validate_element(_element(**SPEC, n_nodes=5), "Made")
+
+
+def test_an_unsymmetric_layout_must_declare_its_reversed_order():
+    # nodes not symmetric about the diagonal through node 0: the mirror cannot be read from them
+    odd = {**SPEC, "ref_nodes": np.array([[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-0.5, 1.0]])}
+    made = _element(**odd)
+    assert made.reversed_order is None
+    from planar.core.registry import _validate_element
+
+    with pytest.raises(PluginError, match="reversed_order cannot be derived.*declare reversed_order"):
+        _validate_element(made, "Made")
+
+
+@pytest.mark.parametrize("cell, order, points, degree", [("quad", 2, 4, 3), ("quad", 3, 9, 5), ("triangle", 2, 3, 2)])
+def test_default_order_still_works_with_a_warning(cell, order, points, degree):
+    # the former word: points per side on a quad, degree on a triangle; same rule as before
+    spec = {**SPEC, "cell": cell} if cell == "quad" else dict(
+        name="Made", cell="triangle", degree=1, meshio_type="triangle", ref_nodes=planar.core.elements.T3.ref_nodes,
+        edges=np.array([[0, 1], [1, 2], [2, 0]]), shape=planar.core.elements.T3.__dict__["shape"],
+        shape_derivatives=planar.core.elements.T3.__dict__["shape_derivatives"])
+    with pytest.warns(DeprecationWarning, match="default_order is deprecated"):
+        made = _element(**spec, default_order=order)
+    assert made.rule_degree == degree and made.default_rule().n_points == points
+    with pytest.warns(DeprecationWarning, match="read rule_degree"):
+        assert _element(**spec, rule_degree=degree).default_order == order  # read: the former meaning
+
+
+def test_load_kinds_are_named_by_name_and_kind_still_works_with_a_warning():
+    from planar.plugin import LoadKind
+
+    assert planar.Traction.name == "traction" and load_kind("pin-bearing").name == "pin-bearing"
+    with pytest.warns(DeprecationWarning, match="`kind` is now `name`"):
+        class Old(LoadKind):
+            kind = "old-style"
+    assert Old.name == "old-style" and Old().describe() == "old-style"
+    with pytest.warns(DeprecationWarning, match="`kind` is now `name`"):
+        assert planar.Pressure.kind == "pressure"
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # the new word warns about nothing
+
+        class New(LoadKind):
+            name = "new-style"
+        assert New.name == "new-style"
+
+
+def test_a_misspelt_names_used_word_is_refused_listing_the_valid_words():
+    from planar.plugin import NAME_WORDS, LoadKind
+
+    class Sloppy(LoadKind):
+        name = "sloppy"
+
+        def names_used(self):
+            return [("egde", "no-such-edge")]  # misspelt: the edge name would go unchecked
+
+        def nodal_forces(self, ctx):
+            return np.zeros((ctx.n_nodes, 2))
+
+    model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4"), planar.Isotropic(1.0, 0.3))
+    with pytest.raises(PluginError) as exc:
+        model.add_load(Sloppy())
+    assert "'egde'" in str(exc.value) and all(repr(w) in str(exc.value) for w in NAME_WORDS)
+    assert set(NAME_WORDS) == {"edge", "point", "node set", "region"}
+
+
+def test_the_context_gives_the_material_of_a_region():
+    from planar.core.assembly import Assembly
+
+    mesh = planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4")
+    steel = planar.Isotropic(210e3, 0.3, density=7.85e-9)
+    ctx = Assembly(planar.Model(mesh, steel)).context
+    region = mesh.region_names()[0]
+    assert ctx.material_of(region) is steel
+    with pytest.raises(NameNotFoundError, match="no-such-region"):
+        ctx.material_of("no-such-region")
+
+
+def test_plugins_import_only_planar_plugin():
+    # the example plugins and the docs' plugin files reach planar through its plugin face only
+    # (tests and scripts may use the rest of the public API)
+    sources = {str(p): p.read_text() for p in (ROOT / "plugins").glob("*/planar_*/*.py")}
+    text = (ROOT / "docs" / "plugins.md").read_text()
+    for i, (lang, body) in enumerate(re.findall(r"```(python)\n(# file: .*?)```", text, flags=re.S)):
+        sources[f"docs/plugins.md file block {i}"] = body
+    assert len(sources) >= 5
+    for where, src in sources.items():
+        for node in ast.walk(ast.parse(src)):
+            mods = [a.name for a in node.names] if isinstance(node, ast.Import) else \
+                [node.module] if isinstance(node, ast.ImportFrom) and node.module else []
+            for m in mods:
+                assert not m.startswith("planar") or m == "planar.plugin", f"{where} imports {m}"
+    import planar.plugin as face
+
+    assert all(hasattr(face, n) for n in face.__all__)
 
 
 # ---------------------------------------------------------------------------- the docs' examples
@@ -277,7 +428,7 @@ def test_docs_examples_run_as_installed_plugins(plugin_dirs, tmp_path):
         plugin_dirs(tmp_path / "site" / meta["name"])
     assert registry().problems == []
     assert {"CST", "CST-closed-form"} <= set(registry().names("element"))
-    assert {"hydrostatic-pressure", "swelling"} <= set(registry().names("load"))
+    assert {"hydrostatic-pressure", "swelling", "self-weight"} <= set(registry().names("load"))
     assert registry().entry("element", "CST").distribution == "planar-cst"
     namespace: dict = {}
     for i, src in enumerate(scripts):
@@ -312,7 +463,7 @@ FREE = [planar.Fixed("origin"), planar.Roller("corner_x", fixed="y")]
 SCALE = E * ALPHA * DT
 
 
-@pytest.mark.parametrize("layout, element", [(l, None) for l in LAYOUTS] + [("Q4", "Q4i")])
+@pytest.mark.parametrize("layout, element", [(l, None) for l in LAYOUTS] + [("Q4", "QM6")])
 def test_free_expansion_is_stress_free(layout, element):
     # a free plate heated uniformly expands by alpha dT in every direction without stress
     # (common practice); in plane strain the held thickness adds sigma_zz = -E alpha dT and the
@@ -327,7 +478,7 @@ def test_free_expansion_is_stress_free(layout, element):
     assert np.allclose(r.u, (1 + NU) * ALPHA * DT * mesh.nodes, rtol=0, atol=1e-12 * ALPHA * DT)
 
 
-@pytest.mark.parametrize("layout, element", [(l, None) for l in LAYOUTS] + [("Q4", "Q4i")])
+@pytest.mark.parametrize("layout, element", [(l, None) for l in LAYOUTS] + [("Q4", "QM6")])
 def test_held_plate(layout, element):
     # held on all edges (common practice): plane stress sigma_xx = sigma_yy = -E alpha dT / (1 - nu),
     # sigma_zz = 0; plane strain sigma_xx = sigma_yy = sigma_zz = -E alpha dT / (1 - 2 nu); tau_xy = 0

@@ -251,7 +251,7 @@ def test_plugin_distribution_that_breaks(tmp_path, monkeypatch):
         from planar.core.loads import LoadKind
 
         class RaisingLoad(LoadKind):
-            kind = "raising-load"
+            name = "raising-load"
 
             def nodal_forces(self, ctx):
                 return {}["no such key"]

@@ -12,7 +12,7 @@ Covers, in both directions:
 * zero-energy element modes: reduced and one-point rules on Q4, Q8, Q9, T6 and a toy plugin element
   that under-integrates inside its own stiffness, refused with a SolverError naming the block, rule
   and cells; the opt-ins zero_energy="warn" and "stabilise"; full, over-integrated and selective rules
-  and the Q4i example plugin pass;
+  and the QM6 example plugin pass;
 * the zero threshold: exact counts on thousands of random valid elements of every type;
 * the checks run before any back end: cholmod, pardiso, amg and superlu give the same errors.
 """
@@ -703,9 +703,9 @@ def test_plugin_with_negative_energy_is_refused_even_with_the_opt_in(toy_element
 
 
 def test_example_plugin_q4i_passes():
-    # Q4i has exactly the three rigid-body zero modes (Taylor, Beresford and Wilson 1976): no false alarm
+    # QM6 has exactly the three rigid-body zero modes (Taylor, Beresford and Wilson 1976): no false alarm
     mesh = rect(0, 0, 10, 2, "Q4", 10, 2)
-    model = planar.Model(mesh, MAT, elements={"Q4": "Q4i"})
+    model = planar.Model(mesh, MAT, elements={"Q4": "QM6"})
     model.add_support(planar.Fixed("left"))
     model.add_load(planar.Traction("right", ty=-1.0))
     r = solve_quietly(model)["load case 1"]

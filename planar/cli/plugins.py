@@ -23,6 +23,9 @@ def run(args: argparse.Namespace) -> int:
             rows.append((e.name, kind, e.distribution, e.version, e.value))
     print("Installed element types and load kinds (entry-point groups " + ", ".join(GROUPS.values()) + "):")
     print("\n".join(_table(rows)))
+    old = [f"{o} -> {n}" for kind in GROUPS for o, n in sorted(reg.aliases[kind].items())]
+    if old:
+        print("Former names (they work for one release, with a DeprecationWarning): " + ", ".join(old))
     if not reg.problems:
         print("\nNo problems: every plugin loaded.")
         return 0

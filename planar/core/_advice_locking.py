@@ -125,6 +125,6 @@ def _locking(asm) -> list[tuple[str, str]]:
                     f"{ratio:.3g} >= {LOCKING_RATIO:g}, i.e. nu >= 0.48); such elements cannot deform at nearly "
                     "constant volume, so displacements and stresses come out too small (measured on Cook's "
                     "membrane: 3-20 % at nu = 0.48-0.49, 30-55 % at 0.499); use quadratic elements (order=2: "
-                    "T6, Q8, Q9)" + (", or on Q4 cells the incompatible-mode Q4i of the planar-incompatible-quad "
-                                     "plugin (elements={'Q4': 'Q4i'})" if b.etype.cell == "quad" else "")))
+                    "T6, Q8, Q9)" + (", or on Q4 cells the incompatible-mode QM6 of the planar-incompatible-quad "
+                                     "plugin (elements={'Q4': 'QM6'})" if b.etype.cell == "quad" else "")))
     return out

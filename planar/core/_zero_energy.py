@@ -26,7 +26,7 @@ ZERO_ENERGY_CHOICES = ("refuse", "warn", "stabilise")
 #: eigenvalue of a symmetric matrix to about c eps ||K|| with c a small multiple of the order (at most
 #: 18 here: 18 eps = 4e-15); measured, rigid and hourglass modes come out below 7e-16 of the largest
 #: eigenvalue. The smallest straining eigenvalue of T3, Q4, Q8, Q9 and T6 elements as distorted as the
-#: Jacobian checks accept, under their full and reduced rules (and of the Q4i plugin), stays above
+#: Jacobian checks accept, under their full and reduced rules (and of the QM6 plugin), stays above
 #: 4e-8 (measured on about 10^5 random elements with aspect ratios to 1e5 and a least/largest
 #: Jacobian down to 1e-4; see tests/test_trust_kinematics.py). 1e-11 sits more than three decades
 #: clear of both. One exception: T6 under its own 3-point rule has exactly as many strain samples as

@@ -29,7 +29,7 @@ Codes
 ``"negative-nominal"`` (a compressive nominal stress in a Kt) to the result it checks.
 
 Element types say what they are free of with a class attribute ``free_of_locking``, a tuple with
-``"volumetric"`` and/or ``"shear"`` (the incompatible-mode Q4i declares both). Without it, elements
+``"volumetric"`` and/or ``"shear"`` (the incompatible-mode QM6 declares both). Without it, elements
 of degree 2 or more count as free of both, and linear ones as free of neither unless their rule has
 one point (reduced integration; its zero-energy modes are another check's concern).
 

@@ -9,39 +9,118 @@ Node order (the VTK/gmsh order): corners counter-clockwise, then the mid-side no
 """
 from __future__ import annotations
 
+import warnings
 from typing import Callable, ClassVar, Optional
 
 import numpy as np
 
 from .quadrature import Rule, rule_for
 
-__all__ = ["ElementType", "T3", "T6", "Q4", "Q8", "Q9", "line_shape"]
+__all__ = ["ElementType", "T3", "T6", "Q4", "Q8", "Q9", "line_shape", "mirrored_order", "full_rule_degree"]
+
+
+class _OldRuleWord:
+    """``default_order``, the old name of the rule: points per side on a quad, degree on a triangle."""
+
+    def __get__(self, obj, owner) -> int:
+        warnings.warn(f"element type {owner.__name__}: default_order is deprecated, read rule_degree (the degree "
+                      "its full rule integrates exactly) or default_rule()", DeprecationWarning, stacklevel=2)
+        d = int(owner.rule_degree)
+        return (d + 2) // 2 if owner.cell == "quad" else d
+
+
+def mirrored_order(cell: str, ref_nodes) -> np.ndarray | None:
+    """The node permutation that turns a clockwise element counter-clockwise, read from the layout.
+
+    The reference cell is mirrored about its diagonal through node 0 (xi <-> eta); node ``i`` of the
+    turned element is the node that sits at the mirror image of node ``i``'s position. The mirror
+    keeps node 0, reverses the corners and maps the shape-function space of every symmetric layout
+    onto itself, so x'(xi, eta) = x(eta, xi) and det J changes sign.
+
+    Parameters
+    ----------
+    cell : {"triangle", "quad"}
+    ref_nodes : array_like, shape (k, 2)
+
+    Returns
+    -------
+    ndarray of int, shape (k,), or None
+        None when some node's mirror image is not a node (an unsymmetric layout, which must then
+        declare ``reversed_order`` itself).
+
+    Examples
+    --------
+    >>> mirrored_order("quad", Q8.ref_nodes).tolist()
+    [0, 3, 2, 1, 7, 6, 5, 4]
+    """
+    ref = np.asarray(ref_nodes, dtype=float)
+    if ref.ndim != 2 or ref.shape[1] != 2 or ref.shape[0] == 0:
+        return None
+    image = ref[:, ::-1]  # (xi, eta) -> (eta, xi): the diagonal through (0, 0) and through (-1, -1)
+    dist = np.abs(image[:, None, :] - ref[None, :, :]).max(axis=-1)  # (k, k)
+    perm = np.argmin(dist, axis=1)
+    if np.any(dist[np.arange(ref.shape[0]), perm] > 1e-9) or np.unique(perm).size != perm.size:
+        return None
+    return perm
+
+
+def full_rule_degree(cell: str, degree: int) -> int:
+    """Degree of exactness of the full-integration rule of an element of polynomial ``degree``.
+
+    B^T D B det J of an undistorted element is a polynomial of total degree 2 (degree - 1) on a
+    straight-sided triangle, and of degree 2 degree in each of xi and eta on a parallelogram; the
+    full rule integrates it exactly (common practice: O. C. Zienkiewicz, R. L. Taylor and J. Z. Zhu,
+    The Finite Element Method: Its Basis and Fundamentals, 6th ed., 2005, sec. 6.9).
+
+    Examples
+    --------
+    >>> [full_rule_degree("triangle", p) for p in (1, 2)], [full_rule_degree("quad", p) for p in (1, 2)]
+    ([1, 2], [3, 5])
+    """
+    if cell == "quad":
+        return 2 * int(degree) + 1
+    return max(1, 2 * (int(degree) - 1))
 
 
 class ElementType:
     """The contract every element type, built-in or plugin, fulfils.
 
-    Class attributes
-    ----------------
+    A subclass declares what only it can know; the rest is derived from it when the class is made
+    (an explicit value is accepted and checked at discovery).
+
+    Declared class attributes
+    -------------------------
     name : str
-        Registered name, e.g. ``"Q8"``.
+        Registered name, e.g. ``"Q8"`` (the entry-point name).
     cell : {"triangle", "quad"}
-        Reference cell.
-    n_nodes : int
-        Nodes per element.
+        Reference cell: (0, 0), (1, 0), (0, 1), or [-1, 1]^2.
     degree : int
         Polynomial degree of the complete displacement interpolation (1 or 2): sets the expected
-        convergence rate and the size of recovery patches.
+        convergence rate, the size of recovery patches and the default rule.
     ref_nodes : ndarray, shape (n_nodes, 2)
         Node positions on the reference cell.
     edges : ndarray, shape (n_edges, 2 or 3)
         Local node numbers of each edge, ordered (start, end[, middle]), counter-clockwise.
-    reversed_order : ndarray, shape (n_nodes,)
-        Permutation that turns a clockwise element into a counter-clockwise one.
-    default_order : int
-        Full-integration rule: points per direction (quad) or polynomial degree (triangle).
     meshio_type : str
         meshio cell type used for VTK and .msh I/O (``"triangle6"``, ``"quad9"``, ...).
+
+    Derived class attributes (declare one only to override it)
+    ----------------------------------------------------------
+    n_nodes : int
+        Nodes per element: ``len(ref_nodes)``.
+    reversed_order : ndarray, shape (n_nodes,)
+        Permutation that turns a clockwise element into a counter-clockwise one: the mirror of the
+        layout about the diagonal through node 0 (:func:`mirrored_order`). An unsymmetric layout
+        declares it.
+    rule_degree : int
+        The full-integration rule, as its degree of exactness: polynomials up to this degree (total
+        degree on a triangle, degree in each of xi and eta on a quadrilateral, as
+        :attr:`planar.core.quadrature.Rule.degree`) are integrated exactly. Derived from ``degree``
+        (:func:`full_rule_degree`): 1 for T3, 2 for T6, 3 (2 x 2 points) for Q4, 5 (3 x 3) for Q8
+        and Q9. ``default_order`` (points per side on a quad, degree on a triangle) is its
+        deprecated former spelling.
+    corner_count() : int
+        3 on a triangle, 4 on a quadrilateral.
 
     Optional hooks (``None`` when the element uses the standard displacement formulation):
 
@@ -49,19 +128,56 @@ class ElementType:
         Own element stiffness, e.g. with condensed internal unknowns.
     ``strain(coords, D, u_element, rule) -> (e, q, 3)``
         Own strain evaluation at the rule's points (stresses follow as D (strain - initial strain)).
+
+    Examples
+    --------
+    >>> class Linear(ElementType):
+    ...     name, cell, degree, meshio_type = "linear", "triangle", 1, "triangle"
+    ...     ref_nodes = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+    ...     edges = np.array([[0, 1], [1, 2], [2, 0]])
+    >>> Linear.n_nodes, Linear.reversed_order.tolist(), Linear.rule_degree, Linear.corner_count()
+    (3, [0, 2, 1], 1, 3)
     """
 
     name: ClassVar[str]
     cell: ClassVar[str]
-    n_nodes: ClassVar[int]
     degree: ClassVar[int]
     ref_nodes: ClassVar[np.ndarray]
     edges: ClassVar[np.ndarray]
-    reversed_order: ClassVar[np.ndarray]
-    default_order: ClassVar[int]
     meshio_type: ClassVar[str]
+    n_nodes: ClassVar[int]
+    reversed_order: ClassVar[Optional[np.ndarray]]
+    rule_degree: ClassVar[int]
+    default_order = _OldRuleWord()
     stiffness: ClassVar[Optional[Callable]] = None
     strain: ClassVar[Optional[Callable]] = None
+
+    def __init_subclass__(cls, **kwargs) -> None:
+        super().__init_subclass__(**kwargs)
+        own = cls.__dict__
+        layout_changed = "ref_nodes" in own or "cell" in own
+        ref = getattr(cls, "ref_nodes", None)
+        cell = getattr(cls, "cell", None)
+        if ref is not None and "n_nodes" not in own and (layout_changed or not hasattr(cls, "n_nodes")):
+            try:
+                cls.n_nodes = int(np.shape(ref)[0])
+            except (IndexError, TypeError):
+                pass  # discovery reports the bad ref_nodes
+        if ref is not None and "reversed_order" not in own and (layout_changed or getattr(cls, "reversed_order", None) is None):
+            cls.reversed_order = mirrored_order(cell, ref)
+        if "default_order" in own and "rule_degree" not in own:
+            warnings.warn(f"element type {own.get('name', cls.__name__)!r}: default_order is deprecated; declare "
+                          "rule_degree, the degree its full rule integrates exactly (2 default_order - 1 on a "
+                          "quadrilateral, default_order on a triangle), or leave it out to have it derived from "
+                          "degree", DeprecationWarning, stacklevel=2)
+            try:
+                n = int(own["default_order"])
+                cls.rule_degree = 2 * n - 1 if cell == "quad" else n
+            except (TypeError, ValueError):
+                pass  # discovery reports the missing rule
+        elif "rule_degree" not in own and ("degree" in own or "cell" in own or not hasattr(cls, "rule_degree")):
+            if cell in ("triangle", "quad") and isinstance(getattr(cls, "degree", None), (int, np.integer)):
+                cls.rule_degree = full_rule_degree(cell, cls.degree)
 
     @classmethod
     def shape(cls, xi: np.ndarray) -> np.ndarray:
@@ -89,11 +205,13 @@ class ElementType:
 
     @classmethod
     def default_rule(cls) -> Rule:
-        """The full-integration rule of this element type."""
-        return rule_for(cls.cell, cls.default_order)
+        """The full-integration rule of this element type: the rule exact to :attr:`rule_degree`."""
+        d = int(cls.rule_degree)
+        return rule_for("quad", (d + 2) // 2) if cls.cell == "quad" else rule_for(cls.cell, d)
 
     @classmethod
     def corner_count(cls) -> int:
+        """Corner nodes (listed first): 3 on a triangle, 4 on a quadrilateral."""
         return 3 if cls.cell == "triangle" else 4
 
 
@@ -102,12 +220,9 @@ class T3(ElementType):
 
     name = "T3"
     cell = "triangle"
-    n_nodes = 3
     degree = 1
     ref_nodes = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
     edges = np.array([[0, 1], [1, 2], [2, 0]])
-    reversed_order = np.array([0, 2, 1])
-    default_order = 1
     meshio_type = "triangle"
 
     @classmethod
@@ -128,14 +243,11 @@ class T6(ElementType):
 
     name = "T6"
     cell = "triangle"
-    n_nodes = 6
     degree = 2
     ref_nodes = np.array(
         [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [0.5, 0.0], [0.5, 0.5], [0.0, 0.5]]
     )
     edges = np.array([[0, 1, 3], [1, 2, 4], [2, 0, 5]])
-    reversed_order = np.array([0, 2, 1, 5, 4, 3])
-    default_order = 2
     meshio_type = "triangle6"
 
     @classmethod
@@ -169,12 +281,9 @@ class Q4(ElementType):
 
     name = "Q4"
     cell = "quad"
-    n_nodes = 4
     degree = 1
     ref_nodes = _Q4_SIGNS.copy()
     edges = np.array([[0, 1], [1, 2], [2, 3], [3, 0]])
-    reversed_order = np.array([0, 3, 2, 1])
-    default_order = 2
     meshio_type = "quad"
 
     @classmethod
@@ -202,12 +311,9 @@ class Q8(ElementType):
 
     name = "Q8"
     cell = "quad"
-    n_nodes = 8
     degree = 2
     ref_nodes = _Q8_REF.copy()
     edges = np.array([[0, 1, 4], [1, 2, 5], [2, 3, 6], [3, 0, 7]])
-    reversed_order = np.array([0, 3, 2, 1, 7, 6, 5, 4])
-    default_order = 3
     meshio_type = "quad8"
 
     @classmethod
@@ -255,12 +361,9 @@ class Q9(ElementType):
 
     name = "Q9"
     cell = "quad"
-    n_nodes = 9
     degree = 2
     ref_nodes = np.vstack([_Q8_REF, [[0.0, 0.0]]])
     edges = np.array([[0, 1, 4], [1, 2, 5], [2, 3, 6], [3, 0, 7]])
-    reversed_order = np.array([0, 3, 2, 1, 7, 6, 5, 4, 8])
-    default_order = 3
     meshio_type = "quad9"
 
     @classmethod

@@ -10,19 +10,22 @@ in force per volume, temperature changes in the unit of the material's alpha.
 """
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
-from typing import Callable, ClassVar, Union
+from typing import Any, Callable, ClassVar, Union
 
 import numpy as np
 
 from .values import number_or_function
-from .errors import InputError, MeshError, PlanarError, fmt_point
+from .errors import InputError, MeshError, PlanarError, PluginError, fmt_point
 from .elements import line_shape
 from .quadrature import gauss_line
 
 __all__ = [
     "LoadKind",
     "LoadContext",
+    "NAME_WORDS",
+    "checked_names",
     "EdgeGeometry",
     "Traction",
     "Pressure",
@@ -143,18 +146,45 @@ class EdgeGeometry:
 
 
 class LoadContext:
-    """What a load kind sees of the model: geometry by name, and consistent integration.
+    """What a load kind sees of the model: geometry by name, materials by region, and consistent integration.
 
     Built by the assembly; a plugin uses its methods and never the assembly's internals.
+
+    Parameters
+    ----------
+    mesh : Mesh
+    analysis : {"plane stress", "plane strain"}
+    edge_owner : callable
+        ``edge_owner(name) -> EdgeGeometry``.
+    cell_blocks : callable
+        ``cell_blocks(region or None) -> list`` of block views (``conn``, ``N``, ``x_gauss``,
+        ``dvol``, ``region``, ``material``).
+    material_of : callable, optional
+        ``material_of(region) -> material``; by default read from the region's cell blocks.
     """
 
     def __init__(self, mesh, analysis: str, edge_owner: Callable[[str], EdgeGeometry],
-                 cell_blocks: Callable[[str | None], list], material_of=None):
+                 cell_blocks: Callable[[str | None], list], material_of: Callable[[str], Any] | None = None):
         self.mesh = mesh
         self.analysis = analysis
         self._edge_owner = edge_owner
         self._cell_blocks = cell_blocks
-        self.material_of = material_of
+        self._material_of = material_of
+
+    def material_of(self, region: str):
+        """The material of a named region (a body force from its density, say).
+
+        Raises
+        ------
+        NameNotFoundError
+            For a region the mesh does not have (listing those it has).
+        """
+        if self._material_of is not None:
+            return self._material_of(region)
+        blocks = self._cell_blocks(region)
+        if not blocks:
+            raise InputError(f"region {region!r} has no cells, so no material")
+        return blocks[0].material
 
     @property
     def n_nodes(self) -> int:
@@ -225,14 +255,65 @@ class LoadContext:
         return self._cell_blocks(region)
 
 
+#: the words of :meth:`LoadKind.names_used`, and what each names in the mesh
+NAME_WORDS = {"edge": "a named edge set", "point": "a named single point", "node set": "a named set of nodes",
+              "region": "a named region of cells"}
+
+
+def checked_names(load) -> list[tuple[str, str]]:
+    """A load's :meth:`~LoadKind.names_used` pairs, each word checked against :data:`NAME_WORDS`.
+
+    Raises
+    ------
+    PluginError
+        When the pairs are not (word, name) pairs or a word is not one of NAME_WORDS (a misspelt
+        word would otherwise leave its name unchecked).
+
+    Examples
+    --------
+    >>> checked_names(Pressure("hole", 5.0))
+    [('edge', 'hole')]
+    """
+    from .registry import describe_provider, plugin_call
+
+    with plugin_call("load", load, "names_used"):
+        pairs = [tuple(p) for p in (load.names_used() or [])]
+    for pair in pairs:
+        if len(pair) != 2 or pair[0] not in NAME_WORDS:
+            valid = ", ".join(repr(w) for w in NAME_WORDS)
+            raise PluginError(f"{describe_provider('load', load)}: names_used() gave {pair!r}; each pair is "
+                              f"(word, name) with the word one of {valid}")
+    return pairs
+
+
+class _OldNameWord:
+    """``kind``, the former name of a load kind's ``name`` attribute."""
+
+    def __get__(self, obj, owner) -> str:
+        warnings.warn(f"load kind {owner.__name__}: the attribute `kind` is now `name`; the old word works for "
+                      "one release", DeprecationWarning, stacklevel=2)
+        return owner.name
+
+
 class LoadKind:
     """Base of every load kind.
 
-    A subclass sets ``kind`` (its registered name) and implements :meth:`nodal_forces`; a thermal-type
-    load also implements :meth:`initial_strain`.
+    A subclass sets ``name`` (its registered name, the entry-point name, as for element types) and
+    implements :meth:`nodal_forces`; a thermal-type load also implements :meth:`initial_strain`.
+    ``kind`` is the deprecated former spelling of ``name`` (a subclass that sets it still works, with
+    a DeprecationWarning).
     """
 
-    kind: ClassVar[str] = ""
+    name: ClassVar[str] = ""
+    kind = _OldNameWord()
+
+    def __init_subclass__(cls, **kwargs) -> None:
+        super().__init_subclass__(**kwargs)
+        own = cls.__dict__
+        if "kind" in own and "name" not in own:
+            warnings.warn(f"load kind {own['kind']!r}: the class attribute `kind` is now `name`; the old word works "
+                          "for one release", DeprecationWarning, stacklevel=2)
+            cls.name = own["kind"]
 
     def nodal_forces(self, ctx: LoadContext) -> np.ndarray:
         """Consistent nodal forces, shape (n_nodes, 2)."""
@@ -243,11 +324,14 @@ class LoadKind:
         return None
 
     def names_used(self) -> list[tuple[str, str]]:
-        """(what, name) pairs this load refers to, checked against the mesh when added."""
+        """(word, name) pairs this load refers to, checked against the mesh when added.
+
+        The word is one of :data:`NAME_WORDS`: ``"edge"``, ``"point"``, ``"node set"``, ``"region"``.
+        """
         return []
 
     def describe(self) -> str:
-        return self.kind
+        return self.name
 
 
 class Traction(LoadKind):
@@ -269,7 +353,7 @@ class Traction(LoadKind):
     Traction('right', tx=100, ty=None)
     """
 
-    kind = "traction"
+    name = "traction"
 
     def __init__(self, where: str, tx: Value | None = None, ty: Value | None = None, *,
                  normal: Value | None = None, tangential: Value | None = None):
@@ -318,7 +402,7 @@ class Pressure(LoadKind):
         Pressure (force per area); positive acts inward (compression), negative is suction.
     """
 
-    kind = "pressure"
+    name = "pressure"
 
     def __init__(self, where: str, p: Value):
         self.where = str(where)
@@ -357,7 +441,7 @@ class PointForce(LoadKind):
     stresses away from its point of action.
     """
 
-    kind = "point-force"
+    name = "point-force"
 
     def __init__(self, where, fx: float = 0.0, fy: float = 0.0):
         if isinstance(where, str):
@@ -414,7 +498,7 @@ class BodyForce(LoadKind):
     region : str, optional
     """
 
-    kind = "body-force"
+    name = "body-force"
 
     def __init__(self, bx: Value = 0.0, by: Value = 0.0, region: str | None = None):
         self.bx = number_or_function(bx, "bx")
@@ -454,7 +538,7 @@ class TemperatureChange(LoadKind):
     out-of-plane expansion adds sigma_zz = nu (sigma_xx + sigma_yy) - E alpha dT.
     """
 
-    kind = "temperature-change"
+    name = "temperature-change"
 
     def __init__(self, dT, region: str | None = None):
         if isinstance(dT, np.ndarray):

@@ -53,7 +53,7 @@ class Model:
         Plate thickness of every region not assigned otherwise (set 1 for plane strain per unit depth).
     analysis : {"plane stress", "plane strain"}
     elements : mapping of str to str, optional
-        Element formulation per mesh layout, e.g. ``{"Q4": "Q4i"}`` to use a plugin's element on the
+        Element formulation per mesh layout, e.g. ``{"Q4": "QM6"}`` to use a plugin's element on the
         mesh's 4-node quadrilaterals. Default: the layout's own element.
     quadrature : mapping of str to int or str, optional
         Integration rule per element name: an int (points per direction for quads, degree for
@@ -101,12 +101,14 @@ class Model:
             raise InputError(f"zero_energy must be one of {ZERO_ENERGY_CHOICES}, got {zero_energy!r}; the default "
                              "'refuse' stops elements with zero-energy (hourglass) modes")
         self.zero_energy = zero_energy
-        from .registry import element_type
+        from .registry import element_type, registry
 
         for layout, name in self.elements.items():
             if layout not in mesh.cells:
                 raise unknown_name("mesh cell layout", layout, mesh.cells)
-            element_type(name)  # an unknown element name fails here, listing the registered ones
+            # an unknown element name fails here, listing the registered ones; a former name becomes the new one
+            self.elements[layout] = element_type(registry().canonical("element", name, stacklevel=3)).name
+        self.quadrature = {registry().canonical("element", k, stacklevel=3): v for k, v in self.quadrature.items()}
         used = {self.elements.get(layout, layout) for layout in mesh.cells}
         for name, q in self.quadrature.items():
             if name not in used:
@@ -177,12 +179,14 @@ class Model:
             try:
                 load = cls(**params)
             except TypeError as exc:
-                raise InputError(f"load kind {cls.kind or cls.__name__!r}: {exc}") from None
+                raise InputError(f"load kind {cls.name or cls.__name__!r}: {exc}") from None
         elif params:
             raise InputError("keyword parameters go with a load kind name, not with a load object")
         if not hasattr(load, "nodal_forces"):
             raise InputError(f"not a load: {load!r}")
-        self._check_names(load.names_used())
+        from .loads import checked_names
+
+        self._check_names(checked_names(load))  # words checked: a misspelt one is a PluginError
         self.cases.setdefault(str(case), []).append(load)
         return load
 

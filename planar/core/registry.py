@@ -13,6 +13,7 @@ plugin leaves every other name usable.
 from __future__ import annotations
 
 import importlib.metadata as _md
+import warnings
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from typing import Any
@@ -91,9 +92,9 @@ def _require(obj: Any, attrs, has, what: str, base: str, name_attr: str, name: s
 
 
 def _validate_element(obj: Any, name: str) -> None:
-    needed = ["cell", "n_nodes", "degree", "ref_nodes", "edges", "default_order", "meshio_type",
-              "reversed_order", "shape", "shape_derivatives", "default_rule"]
-    _require(obj, needed, hasattr, "element type", "planar.core.elements.ElementType", "name", name)
+    needed = ["cell", "degree", "ref_nodes", "edges", "meshio_type", "shape", "shape_derivatives", "n_nodes",
+              "default_rule"]
+    _require(obj, needed, hasattr, "element type", "planar.plugin.ElementType", "name", name)
     if obj.cell not in ("triangle", "quad"):
         raise PluginError(f"element cell must be 'triangle' or 'quad', not {obj.cell!r}")
     if not isinstance(obj.degree, (int, np.integer)) or isinstance(obj.degree, bool) or obj.degree < 1:
@@ -108,6 +109,10 @@ def _validate_element(obj: Any, name: str) -> None:
     ref = np.asarray(obj.ref_nodes, dtype=float)
     if ref.shape != (k, 2):
         raise PluginError(f"ref_nodes has shape {ref.shape}, expected ({k}, 2)")
+    if getattr(obj, "reversed_order", None) is None:
+        raise PluginError("reversed_order cannot be derived: the node layout is not symmetric about the "
+                          "diagonal through node 0; declare reversed_order, the permutation that turns a "
+                          "clockwise element counter-clockwise")
     perm = np.asarray(obj.reversed_order)
     if perm.shape != (k,) or sorted(perm.tolist()) != list(range(k)):
         raise PluginError(f"reversed_order must be a permutation of 0..{k - 1}, got {perm.tolist()}")
@@ -133,8 +138,14 @@ def _validate_element(obj: Any, name: str) -> None:
 def _validate_load(obj: Any, name: str) -> None:
     if not isinstance(obj, type):
         raise PluginError("a load kind must be a class (subclass planar.core.loads.LoadKind)")
+    if not getattr(obj, "name", "") and getattr(obj, "kind", ""):
+        warnings.warn(f"load kind {obj.kind!r}: the class attribute `kind` is now `name`; the old word works "
+                      "for one release", DeprecationWarning, stacklevel=2)
+        name_attr = "kind"
+    else:
+        name_attr = "name"
     _require(obj, ("nodal_forces", "initial_strain", "names_used", "describe"),
-             lambda o, a: callable(getattr(o, a, None)), "load kind", "planar.core.loads.LoadKind", "kind", name)
+             lambda o, a: callable(getattr(o, a, None)), "load kind", "planar.plugin.LoadKind", name_attr, name)
 
 
 _VALIDATORS = {"element": _validate_element, "load": _validate_load}
@@ -153,11 +164,16 @@ class Registry:
     conflicts : dict
         ``{(kind, name): [Entry, Entry, ...]}`` for names claimed by more than one distribution;
         such a name is in no table and asking for it raises a PluginError naming every claimant.
+    aliases : dict
+        ``{"element": {old: new}, "load": {old: new}}``: former names that a registered class still
+        answers to for one release (its ``deprecated_names`` attribute), each use with a
+        DeprecationWarning. A former name never hides a registered one.
     """
 
     entries: dict[str, dict[str, Entry]] = field(default_factory=lambda: {"element": {}, "load": {}})
     problems: list[PluginProblem] = field(default_factory=list)
     conflicts: dict[tuple[str, str], list[Entry]] = field(default_factory=dict)
+    aliases: dict[str, dict[str, str]] = field(default_factory=lambda: {"element": {}, "load": {}})
 
     @classmethod
     def discover(cls) -> "Registry":
@@ -177,6 +193,11 @@ class Registry:
         for (kind, name), claims in reg.conflicts.items():
             reg.problems.append(PluginProblem(kind, name, ", ".join(e.distribution for e in claims),
                                               reg._conflict_message(kind, name)))
+        for kind, table in reg.entries.items():
+            for entry in table.values():
+                for old in getattr(entry.obj, "deprecated_names", ()) or ():
+                    if old not in table and (kind, old) not in reg.conflicts:
+                        reg.aliases[kind][str(old)] = entry.name
         return reg
 
     def _add(self, entry: Entry) -> None:
@@ -213,6 +234,7 @@ class Registry:
         table = self.entries[kind]
         if (kind, name) in self.conflicts:
             raise PluginError(self._conflict_message(kind, name))
+        name = self.canonical(kind, name, stacklevel=4)
         if name not in table:
             hint = ""
             if not self.entries["element"]:
@@ -223,13 +245,23 @@ class Registry:
             raise unknown_name(KIND_WORDS[kind], name, table, hint)
         return table[name].obj
 
+    def canonical(self, kind: str, name: str, stacklevel: int = 2) -> str:
+        """The registered name for ``name``: itself, or the new name of a former one (with a DeprecationWarning)."""
+        new = self.aliases[kind].get(name) if name not in self.entries[kind] else None
+        if new is None:
+            return name
+        warnings.warn(f"the {KIND_WORDS[kind]} {name!r} is now called {new!r}; the old name works for one "
+                      "release", DeprecationWarning, stacklevel=stacklevel)
+        return new
+
     def names(self, kind: str) -> list[str]:
+        """The registered names of a kind, sorted (former names not included)."""
         return sorted(self.entries[kind])
 
     def entry(self, kind: str, name: str) -> Entry:
         """The :class:`Entry` (with distribution and version) registered under ``name``."""
         self.get(kind, name)
-        return self.entries[kind][name]
+        return self.entries[kind][self.aliases[kind].get(name, name) if name not in self.entries[kind] else name]
 
 
 _REGISTRY: Registry | None = None
@@ -251,12 +283,12 @@ def reload_plugins() -> Registry:
 
 
 def element_type(name: str):
-    """The element type registered under ``name`` (e.g. ``"T6"``)."""
+    """The element type registered under ``name`` (e.g. ``"T6"``); a former name warns and gives the new one."""
     return registry().get("element", name)
 
 
 def load_kind(name: str):
-    """The load kind class registered under ``name`` (e.g. ``"pressure"``)."""
+    """The load kind class registered under ``name`` (e.g. ``"pressure"``); a former name warns."""
     return registry().get("load", name)
 
 
@@ -264,11 +296,11 @@ def describe_provider(kind: str, obj: Any) -> str:
     """Who provides an element type or load kind, for messages.
 
     ``obj`` is the registered class (or an instance of a load kind). Returns e.g.
-    ``"element type 'Q4i' (planar-incompatible-quad 0.1.0)"``; a load object made from a class that
+    ``"element type 'QM6' (planar-incompatible-quad 0.1.0)"``; a load object made from a class that
     is not registered is named by its class.
     """
     cls = obj if isinstance(obj, type) else type(obj)
-    name = getattr(cls, "name" if kind == "element" else "kind", "") or cls.__name__
+    name = getattr(cls, "name", "") or cls.__dict__.get("kind", "") or cls.__name__
     word = KIND_WORDS[kind]
     try:
         entries = registry().entries[kind]

@@ -4,7 +4,7 @@ Each case builds a model, solves it and compares a quantity with a published or 
 reference, returning :class:`Record` rows. A plugin author runs the same checks on a new element::
 
     from planar.verify import run
-    records = run(element="Q4i")
+    records = run(element="QM6")
     assert all(r.passed for r in records)
 """
 from __future__ import annotations

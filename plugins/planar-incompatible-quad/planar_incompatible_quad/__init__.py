@@ -1,4 +1,7 @@
-"""Q4i: the 4-node quadrilateral with incompatible (bubble) modes, as a planar element plugin.
+"""QM6: the 4-node quadrilateral with incompatible (bubble) modes, as a planar element plugin.
+
+The name is the authors' own label for the element as modified by Taylor, Beresford and Wilson
+(1976); the earlier registered name ``Q4i`` still works for one release, with a DeprecationWarning.
 
 The displacement of the bilinear quadrilateral Q4 is enriched by four internal modes
 
@@ -17,16 +20,13 @@ element is zero and the element passes the patch test on distorted meshes.
 
 Register it in a model for the mesh's Q4 layout::
 
-    model = planar.Model(mesh, material, thickness, elements={"Q4": "Q4i"})
+    model = planar.Model(mesh, material, thickness, elements={"Q4": "QM6"})
 """
 from __future__ import annotations
 
 import numpy as np
 
-from planar.core.assembly import jacobian, strain_matrix
-from planar.core.elements import Q4
-from planar.core.errors import ElementError
-from planar.core.quadrature import gauss_quad
+from planar.plugin import Q4, ElementError, gauss_quad, jacobian, strain_matrix
 
 __all__ = ["IncompatibleQuad", "element_matrices", "internal_modes"]
 __version__ = "0.1.0"
@@ -94,9 +94,9 @@ def _check_rule(rule) -> None:
     ref = gauss_quad(2)
     if rule.cell != "quad" or rule.n_points != ref.n_points or not np.allclose(rule.points, ref.points):
         raise ElementError(
-            f"element Q4i is formulated with the 2 x 2 Gauss rule (its internal modes are condensed "
+            f"element QM6 is formulated with the 2 x 2 Gauss rule (its internal modes are condensed "
             f"and recovered with it), not a {rule.n_points}-point rule; remove the quadrature "
-            "setting for 'Q4i' from the model"
+            "setting for 'QM6' from the model"
         )
 
 
@@ -138,11 +138,13 @@ def internal_modes(coords: np.ndarray, D: np.ndarray, u_element: np.ndarray, *,
 
 
 class IncompatibleQuad(Q4):
-    """Q4i: 4-node quadrilateral with four condensed incompatible modes (Wilson et al. 1973,
-    corrected by Taylor, Beresford and Wilson 1976). Node layout, edges and VTK cell type of Q4."""
+    """QM6: 4-node quadrilateral with four condensed incompatible modes (Wilson et al. 1973,
+    modified by Taylor, Beresford and Wilson 1976). Node layout, edges, rule and VTK cell type of Q4,
+    all inherited: the plugin declares only its name and its two hooks."""
 
-    name = "Q4i"
-    meshio_type = "quad"
+    name = "QM6"
+    #: its former registered name, still answered for one release (with a DeprecationWarning)
+    deprecated_names = ("Q4i",)
     #: the incompatible modes let the element bend without parasitic shear and deform at nearly
     #: constant volume: a plane-strain cantilever at nu = 0.4999 (20 x 4 cells) gives 98 % of the
     #: quadratic-element answer, against 5 % for Q4 (planar's trust checks read this; see

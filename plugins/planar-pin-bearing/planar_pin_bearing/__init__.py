@@ -23,8 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from planar.core.errors import InputError
-from planar.core.loads import LoadKind
+from planar.plugin import InputError, LoadKind
 
 __all__ = ["PinBearing", "BearingFit", "fit_circle"]
 __version__ = "0.1.0"
@@ -159,7 +158,7 @@ class PinBearing(LoadKind):
     PinBearing('hole', force=1000.0, angle=30.0)
     """
 
-    kind = "pin-bearing"
+    name = "pin-bearing"
 
     def __init__(self, where: str, force: float, *, angle: float | None = None, direction=None,
                  circle_tolerance: float = 1e-3):
