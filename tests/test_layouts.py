@@ -27,7 +27,6 @@ from test_plugins import make_distribution, plugin_dirs  # noqa: F401  (plugin_d
 T10_SOURCE = '''
 import numpy as np
 from planar.core.elements import ElementType
-from planar.core.quadrature import rule_for
 
 # (area coordinate i, j) of each side node: 9/2 Li Lj (3 Li - 1)
 _SIDE = np.array([[0, 1], [1, 0], [1, 2], [2, 1], [2, 0], [0, 2]])
@@ -45,20 +44,12 @@ class T10(ElementType):
 
     name = "T10"
     cell = "triangle"
-    n_nodes = 10
-    degree = 3
+    degree = 3  # n_nodes, reversed_order and the full rule (degree 4) are derived by planar
     ref_nodes = np.array([[0, 0], [1, 0], [0, 1], [1 / 3, 0], [2 / 3, 0], [2 / 3, 1 / 3], [1 / 3, 2 / 3],
                           [0, 2 / 3], [0, 1 / 3], [1 / 3, 1 / 3]])
     edges = np.array([[0, 1], [1, 2], [2, 0]])
-    reversed_order = np.array([0, 2, 1, 8, 7, 6, 5, 4, 3, 9])
-    default_order = 4  # triangle rule of degree 4: B^T D B of a straight cubic triangle
-    rule_degree = 4
     meshio_type = "triangle10"
     jacobian_degree = 4  # det J of a cubic map: products of two quadratics
-
-    @classmethod
-    def default_rule(cls):
-        return rule_for("triangle", 4)
 
     @classmethod
     def shape(cls, xi):
@@ -93,7 +84,11 @@ def t10(plugin_dirs, tmp_path):  # noqa: F811  (the fixture imported above)
                              {"planar_cubic_triangle.py": T10_SOURCE})
     reg = plugin_dirs(site)
     assert [p for p in reg.problems if p.name == "T10"] == []
-    return element_type("T10")
+    t10 = element_type("T10")
+    # derived by planar: the mirror about the diagonal through node 0 swaps the side nodes
+    assert t10.n_nodes == 10 and t10.reversed_order.tolist() == [0, 2, 1, 8, 7, 6, 5, 4, 3, 9]
+    assert t10.default_rule().degree >= 4  # B^T D B of a straight-sided cubic triangle: degree 4
+    return t10
 
 
 # ---------------------------------------------------------------------------- built-in tables
@@ -112,6 +107,18 @@ def test_builtin_tables_are_derived_and_unchanged():
         conn = np.arange(2 * k).reshape(2, k)
         t, meshio_name, out = vtk_cells(name, conn)
         assert (t, meshio_name) == (vtk, name) and np.array_equal(out, conn)
+
+
+def test_gmsh_numbers_of_the_layouts(t10):
+    # gmsh reference manual, "MSH file format": 2 triangle, 3 quadrangle, 9 6-node triangle,
+    # 16 8-node quadrangle, 10 9-node quadrangle, 21 10-node triangle
+    from planar.core.errors import InputError
+    from planar.core.layouts import gmsh_type
+
+    assert {k: gmsh_type(k) for k in ("T3", "Q4", "T6", "Q8", "Q9", "T10")} == \
+        {"T3": 2, "Q4": 3, "T6": 9, "Q8": 16, "Q9": 10, "T10": 21}
+    with pytest.raises(InputError, match="no element type defines it"):
+        gmsh_type("T99")
 
 
 def test_a_plugin_sharing_a_builtin_meshio_name_does_not_take_it():
@@ -228,6 +235,9 @@ def test_t10_from_msh_to_solve_to_vtu_to_show(t10, tmp_path):
     assert np.allclose(m.point_data["sigma_xx"], exact[0], rtol=1e-7)
     back = Mesh.read(vtu)  # planar reads its own file back as T10 cells
     assert np.array_equal(back.cells["T10"], mesh.cells["T10"])
+    packed = planar.write_vtu(tmp_path / "packed.vtu", r, compression="zlib")  # written through meshio
+    assert [c.type for c in meshio.read(packed).cells] == ["VTK_LAGRANGE_TRIANGLE"]
+    assert np.array_equal(Mesh.read(packed).cells["T10"], mesh.cells["T10"])
 
     # drawn by the command line, from the file alone
     png = tmp_path / "plate.png"

@@ -122,6 +122,17 @@ class ElementType:
     corner_count() : int
         3 on a triangle, 4 on a quadrilateral.
 
+    Optional layout attributes (files and figures read them; :mod:`planar.core.layouts`):
+
+    ``vtk_type`` : int
+        VTK cell type number; default VTK's number for ``meshio_type``, else VTK's Lagrange cell
+        (69 on a triangle, 70 on a quadrilateral).
+    ``vtk_order`` : array of int, shape (n_nodes,)
+        The local node numbers in VTK's order; default the element's own order.
+    ``layout`` : str
+        The layout whose nodes the element uses, for a formulation on another element's layout;
+        default its own name.
+
     Optional hooks (``None`` when the element uses the standard displacement formulation):
 
     ``stiffness(coords, D, thickness, rule) -> (e, 2k, 2k)``
