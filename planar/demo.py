@@ -16,28 +16,15 @@ from __future__ import annotations
 import json
 import math
 import os
-import sys
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from .core.progress import Progress
 from .paths import DEFAULT_OUT, OUT_ENV, output_dir  # noqa: F401 (re-exported: scripts import output_dir from here)
 
 __all__ = ["SpliceStrap", "run_demo", "output_dir", "DemoOutcome", "format_summary"]
-
-
-class _Progress:
-    """One line per long step on the terminal (stderr); silent in scripts and tests unless asked."""
-
-    def __init__(self, enabled: bool | None = None, prefix: str = "planar"):
-        self.enabled = sys.stderr.isatty() if enabled is None else bool(enabled)
-        self.prefix = prefix
-        self.t0 = time.perf_counter()
-
-    def __call__(self, text: str) -> None:
-        if self.enabled:
-            print(f"{self.prefix}: [{time.perf_counter() - self.t0:6.1f} s] {text}", file=sys.stderr, flush=True)
 
 
 # ---------------------------------------------------------------------------------------- the demo part
@@ -101,12 +88,11 @@ class SpliceStrap:
 
         Notes
         -----
-        Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3, valid for 0 <= d/W <= 1
-        (W. D. Pilkey and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., Wiley,
-        2008, chart 4.1, the Heywood-type fit; coefficients from memory).
+        :func:`planar.post.handbook.kt_hole_in_strip` (Peterson's chart 4.1 fit).
         """
-        q = self.hole_diameter / self.width
-        return 3.00 - 3.13 * q + 3.66 * q**2 - 1.53 * q**3
+        from .post.handbook import kt_hole_in_strip
+
+        return kt_hole_in_strip(self.hole_diameter / self.width)
 
     def plate(self):
         """The strap as a geometry-layer plate: centred on the origin, hole named ``bolt_hole``."""
@@ -121,7 +107,7 @@ class SpliceStrap:
         """Quadratic triangles (T6), ``hole_size`` at the hole growing to 4 x ``hole_size`` away."""
         from .geometry import Refine, mesh
 
-        return mesh(self.plate(), size=4.0 * hole_size, order=2, seed=1,
+        return mesh(self.plate(), size=4.0 * hole_size, element="T6", seed=1,
                     refine=[Refine("bolt_hole", size=hole_size, growth=1.15, within=0.5 * self.hole_diameter)])
 
     def model(self, mesh):
@@ -171,17 +157,6 @@ class DemoOutcome:
     convergence: Any = None
 
 
-def _json_safe(v):
-    """NaN and infinities (e.g. no extrapolation of an oscillating study) become null."""
-    if isinstance(v, dict):
-        return {k: _json_safe(x) for k, x in v.items()}
-    if isinstance(v, (list, tuple)):
-        return [_json_safe(x) for x in v]
-    if isinstance(v, float) and not math.isfinite(v):
-        return None
-    return v
-
-
 def _fmt_int(n: int) -> str:
     return f"{int(n):,}".replace(",", " ")
 
@@ -217,7 +192,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     from .post.vtk import write_vtu
 
     part = part or SpliceStrap()
-    say = _Progress(verbose, "planar demo")
+    say = Progress(verbose, "planar demo")
     out = output_dir(out)
     t_start = time.perf_counter()
     r = part.hole_diameter / 2
@@ -232,8 +207,8 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
         say(f"  solving {_fmt_int(m.n_dofs)} unknowns ({m.n_cells} T6 elements)")
         res = solve(part.model(m))["tension"]
         say("  recovering stresses at the nodes (superconvergent patch recovery)")
-        vm, vm_at, _ = res.max("von_mises", method="spr")
-        sxx, sxx_at, _ = res.max("sigma_xx", method="spr")
+        vm, vm_at, _ = res.max("von_mises", recovery="spr")
+        sxx, sxx_at, _ = res.max("sigma_xx", recovery="spr")
         meshes.append({"hole_edge_size": h, "elements": m.n_cells, "nodes": m.n_nodes,
                        "unknowns": res.n_dofs, "peak_von_mises": vm, "peak_sigma_xx": sxx,
                        "peak_location": list(vm_at), "seconds": time.perf_counter() - t,
@@ -250,8 +225,8 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
                             name="peak von Mises stress", unit="MPa")
     conv_kt = grid_convergence([mm["peak_sigma_xx"] / nominal for mm in meshes], dofs=dofs,
                                name="Kt (net section)")
-    conc = kt(fine, nominal, field="sigma_xx", method="spr")
-    margin = margin_of_safety(fine, part.allowable, part.factor_of_safety, field="von_mises", method="spr")
+    conc = kt(fine, nominal, field="sigma_xx", recovery="spr")
+    margin = margin_of_safety(fine, part.allowable, part.factor_of_safety, field="von_mises", recovery="spr")
     margin_band = margin_of_safety(conv.band()[1], part.allowable, part.factor_of_safety)
     say("estimating the discretisation error (Zienkiewicz-Zhu, energy norm)")
     est = estimate_error(fine, recovery="spr")
@@ -260,7 +235,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     cut_bottom = cut_resultant(fine, (0.0, -part.width / 2 + eps), (0.0, -r - eps))
     # both cuts run in +y, so their normals point to +x, towards the loaded end: F_x is the pull
     net_force = cut_top.force[0] + cut_bottom.force[0]
-    vm_peak, vm_at, _ = fine.max("von_mises", method="spr")
+    vm_peak, vm_at, _ = fine.max("von_mises", recovery="spr")
     t_checked = time.perf_counter()
 
     # -- files: result, figures, report ----------------------------------------------------------
@@ -313,10 +288,10 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     files["report"] = write_report(out / "report.html", report)
     summary["seconds"] = time.perf_counter() - t_start
     summary["seconds_by_step"]["report"] = time.perf_counter() - t_figures
-    from .post.files import atomic_write_text
+    from .post.files import atomic_write_text, json_safe
 
     files["summary"] = atomic_write_text(out / "summary.json",
-                                         json.dumps(_json_safe(summary), indent=2, allow_nan=False) + "\n")
+                                         json.dumps(json_safe(summary), indent=2, allow_nan=False) + "\n")
     say(f"done in {summary['seconds']:.1f} s")
     return DemoOutcome(summary, files, conv)
 
@@ -357,6 +332,7 @@ def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[P
 
 
 def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs):
+    from .post.handbook import HOLE_IN_STRIP_FORMULA, HOLE_IN_STRIP_SOURCE
     from .post.report import Figure, KeyValues, Notice, Paragraph, Table, stress_check_report
 
     def fig(role):
@@ -402,9 +378,8 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
              f"{net_force:.1f} N", f"{part.load:g} N applied", f"{100 * abs(net_force / part.load - 1):.3f} %",
              "pass" if abs(net_force / part.load - 1) < 0.01 else "fail"],
         ], status_column=4,
-            caption="Checks. Handbook curve: Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3 "
-                    "(W. D. and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., 2008, "
-                    "chart 4.1). Margin of safety MS = allowable / (factor of safety x peak) - 1."),
+            caption=f"Checks. Handbook curve: {HOLE_IN_STRIP_FORMULA} ({HOLE_IN_STRIP_SOURCE}). "
+                    "Margin of safety MS = allowable / (factor of safety x peak) - 1."),
         Paragraph(f"d/W = {part.hole_diameter / part.width:.3f}. The handbook curve is for a long strip; "
                   f"here the hole is {part.length / 2 / part.width:g} widths from the clamped and the "
                   f"loaded ends, far enough for their effect on the peak to be small. The allowable and "
@@ -456,6 +431,8 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
 
 def format_summary(outcome: DemoOutcome) -> str:
     """The summary table printed by ``planar demo``."""
+    from .post.scope import CAUTION
+
     s = outcome.summary
     x, y = s["peak_location"]
     on_hole = abs(math.hypot(x, y) - s["hole_diameter"] / 2) < 1e-6 * s["width"]
@@ -490,7 +467,6 @@ def format_summary(outcome: DemoOutcome) -> str:
     names = ", ".join(sorted(p.name for p in outcome.files.values()))
     lines += ["", f"  written to {folder}{os.sep}"]
     lines += textwrap.wrap(names, 96, initial_indent="    ", subsequent_indent="    ")
-    lines += ["  open report.html in a browser; splice_strap.vtu in any VTK viewer",
-              "", "  Linear-elastic, static results: no buckling, fatigue, fracture or plasticity check.",
-              "  They need review by a qualified engineer under the applicable codes."]
+    lines += ["  open report.html in a browser; splice_strap.vtu in any VTK viewer", ""]
+    lines += textwrap.wrap(CAUTION, 100, initial_indent="  ", subsequent_indent="  ")
     return "\n".join(lines)

@@ -14,6 +14,6 @@ def out_dir() -> Path:
 
 def report_peak(result, label: str, unit: str = "MPa") -> None:
     """Print the SPR-recovered peak von Mises stress with its location."""
-    peak, (x, y), _ = result.max("von_mises", method="spr")
+    peak, (x, y), _ = result.max("von_mises", recovery="spr")
     print(f"{label}: peak von Mises {peak:.1f} {unit} at ({x:.2f}, {y:.2f}) mm; "
           f"{result.n_dofs:,} unknowns; equilibrium error {result.equilibrium_error():.1e}")

@@ -13,7 +13,8 @@ sigma_xx at the hole edge by superconvergent patch recovery, and
 
 Reference: Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3 (W. D. and D. F. Pilkey, Peterson's
 Stress Concentration Factors, 3rd ed., 2008, chart 4.1, after Howland's 1930 solution; coefficients
-from memory). The sweep must agree within 2 % at every point.
+from memory), computed by planar.post.handbook.kt_hole_in_strip. The sweep must agree within 2 % at
+every point.
 
 Units: N, mm, MPa.
 
@@ -46,8 +47,9 @@ TOLERANCE = 0.02    # 2 % against the chart
 
 def peterson_kt_net(d_over_w):
     """Peterson chart 4.1 (Pilkey and Pilkey 2008, after Howland 1930; coefficients from memory)."""
-    r = np.asarray(d_over_w, dtype=float)
-    return 3.00 - 3.13 * r + 3.66 * r**2 - 1.53 * r**3
+    from planar.post.handbook import kt_hole_in_strip
+
+    return np.asarray(kt_hole_in_strip(d_over_w))
 
 
 def strap_with_hole(d_over_w: float, width: float = WIDTH, thickness: float = THICKNESS, load: float = LOAD,
@@ -74,7 +76,7 @@ def strap_with_hole(d_over_w: float, width: float = WIDTH, thickness: float = TH
              .cut(Circle((0.0, 0.0), d / 2, name="hole"))
              .quarter())
     hole_size = math.pi * (d / 2) / hole_elements
-    m = mesh(plate, size=width / 8, order=2, refine=[Refine("hole", size=hole_size, growth=1.25)], seed=1)
+    m = mesh(plate, size=width / 8, element="T6", refine=[Refine("hole", size=hole_size, growth=1.25)], seed=1)
     model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=thickness, units="N, mm, MPa")
     model.add_support(planar.Symmetry("symmetry_x"))
     model.add_support(planar.Symmetry("symmetry_y"))

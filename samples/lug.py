@@ -24,7 +24,7 @@ outline = (Outline((0.0, 0.0), name="base")
            .arc_to((0.0, HEIGHT - R), centre=(R, HEIGHT - R), name="crown")
            .close(name="side"))
 plate = Plate(outline).cut(Circle((R, HEIGHT - R), PIN_D / 2, name="pin_hole"))
-m = mesh(plate, size=5.0, order=2, refine=[Refine("pin_hole", size=0.8, growth=1.25)])
+m = mesh(plate, size=5.0, element="T6", refine=[Refine("pin_hole", size=0.8, growth=1.25)])
 
 model = planar.Model(m, planar.Isotropic(E=205e3, nu=0.29), thickness=THICK, units="N, mm, MPa")
 model.add_support(planar.Fixed("base"))

@@ -15,7 +15,7 @@ plate = Plate.rectangle(WIDTH, HEIGHT)
 plate = plate.cut(Circle((0.0, 0.0), 6.5, name="bolt_hole"),
                   at=[(25.0, 25.0), (135.0, 25.0), (25.0, 75.0), (135.0, 75.0)])
 plate = plate.cut(Slot((80.0, 55.0), 40.0, 16.0, name="cable_slot"))
-m = mesh(plate, size=6.0, order=2, quads=True, quadratic="Q8",
+m = mesh(plate, size=6.0, element="Q8",
          refine=[Refine(["bolt_hole", "cable_slot"], size=0.8, growth=1.25)])
 
 model = planar.Model(m, planar.Isotropic(E=205e3, nu=0.29), thickness=THICK, units="N, mm, MPa")

@@ -13,7 +13,7 @@ WIDTH, LENGTH, THICK, HOLE_D, FORCE = 60.0, 240.0, 6.0, 14.0, 18e3
 plate = (Plate.rectangle(LENGTH, WIDTH, centre=(0.0, 0.0))
          .cut(Circle((0.0, 0.0), HOLE_D / 2, name="bolt_hole"))
          .quarter())                                   # symmetric part: a quarter model
-m = mesh(plate, size=5.0, order=2, refine=[Refine("bolt_hole", size=0.5, growth=1.25)])
+m = mesh(plate, size=5.0, element="T6", refine=[Refine("bolt_hole", size=0.5, growth=1.25)])
 
 model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=THICK, units="N, mm, MPa")
 model.add_support(planar.Symmetry("symmetry_x"))
@@ -22,7 +22,7 @@ model.add_load(planar.Traction("right", tx=FORCE / (WIDTH * THICK)), case="tensi
 result = planar.solve(model)["tension"]
 
 report_peak(result, "plate with hole")
-s_max, where, _ = result.max("sigma_xx", method="spr")
+s_max, where, _ = result.max("sigma_xx", recovery="spr")
 net = FORCE / ((WIDTH - HOLE_D) * THICK)
 print(f"net-section stress {net:.1f} MPa, Kt (net) = {s_max / net:.3f} at ({where[0]:.2f}, {where[1]:.2f}) mm")
 planar.write_vtu(out_dir() / "plate_with_hole.vtu", result, recovery="spr")

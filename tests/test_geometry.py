@@ -370,7 +370,7 @@ def min_angles(m: Mesh, lay: str) -> np.ndarray:
     return np.min(out, axis=0)
 
 
-QUADRATIC = [dict(), dict(quads=True), dict(quads=True, quadratic="Q9")]
+QUADRATIC = [dict(element="T6"), dict(element="Q8"), dict(element="Q9")]
 
 
 @pytest.mark.parametrize("kw", QUADRATIC)
@@ -379,7 +379,7 @@ def test_mid_nodes_on_true_curves_and_at_midpoints_of_straight_sides(kw):
     p = hole_plate().cut(ell).with_region(Circle((100.0, 40.0), 18.0), name="boss")
     with warnings.catch_warnings():
         warnings.simplefilter("error")  # no side put back on its chord (see the next test) here
-        m = mesh(p, size=2.5, order=2, **kw)
+        m = mesh(p, size=2.5, **kw)
     lay = next(iter(m.cells))
     S = cell_sides(m, lay)
     A, B, M = m.nodes[S[:, 0]], m.nodes[S[:, 1]], m.nodes[S[:, 2]]
@@ -430,7 +430,7 @@ def test_curved_side_that_would_turn_its_cell_inside_out_stays_straight():
     assert cells["T6"].shape == (2, 6)
 
 
-@pytest.mark.parametrize("kw", [dict(order=2)] + [dict(order=2, **k) for k in QUADRATIC[1:]])
+@pytest.mark.parametrize("kw", QUADRATIC)
 def test_node_count_is_corners_plus_sides(kw):
     # Euler's formula for a plane mesh of a plate with one hole: V - E + F = 1 - 1 = 0 (common practice)
     m = mesh(hole_plate(), size=4.0, **kw)
@@ -460,7 +460,7 @@ def test_quadratic_jacobians_positive(kw, fast, monkeypatch):
         .cut(Circle((100.0, 40.0), 10.0, name="bolt_hole"), Ellipse((160.0, 40.0), 12.0, 5.0, angle=20.0))
         .with_region(Circle((100.0, 40.0), 18.0), name="boss")
     )
-    m = mesh(p, size=2.5, order=2, fast=fast, **kw)
+    m = mesh(p, size=2.5, fast=fast, **kw)
     prepare(m)  # raises ElementError for a zero, changing-sign or badly distorted Jacobian
     lay = next(iter(m.cells))
     assert cell_areas(m, lay).min() > 0
@@ -483,7 +483,7 @@ def test_cuts_into_pieces_keep_names_area_and_regions():
     assert cut.area == pytest.approx(whole.area, rel=1e-12)
 
 
-@pytest.mark.parametrize("kw", [dict(), dict(quads=True)])
+@pytest.mark.parametrize("kw", [dict(element="T6"), dict(element="Q8")])
 def test_fast_mesh_is_conforming_named_good_and_repeatable(kw, monkeypatch):
     from planar.geometry import meshing
 
@@ -494,8 +494,8 @@ def test_fast_mesh_is_conforming_named_good_and_repeatable(kw, monkeypatch):
     p = hole_plate().with_region(Circle((100.0, 40.0), 18.0), name="boss").add_point("lp", (150.0, 60.0))
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        m = mesh(p, size=2.0, order=2, fast=True, **kw)
-    ref = mesh(p, size=2.0, order=2, fast=False, **kw)
+        m = mesh(p, size=2.0, fast=True, **kw)
+    ref = mesh(p, size=2.0, fast=False, **kw)
     assert m.names() == ref.names()
     lay = next(iter(m.cells))
     # conforming: no two nodes at one point, and the sides used by one cell only are the named edges
@@ -511,7 +511,7 @@ def test_fast_mesh_is_conforming_named_good_and_repeatable(kw, monkeypatch):
     # also without smoothing; quadrilaterals above 30 degrees (measured 45-50)
     assert min_angles(m, lay).min() > (25.0 if lay == "T6" else 30.0)
     # the same input gives the same mesh
-    m2 = mesh(p, size=2.0, order=2, fast=True, **kw)
+    m2 = mesh(p, size=2.0, fast=True, **kw)
     assert np.array_equal(m.nodes, m2.nodes)
     assert all(np.array_equal(m.cells[k], m2.cells[k]) for k in m.cells)
     assert all(np.array_equal(m.edge_sets[k], m2.edge_sets[k]) for k in m.edge_sets)

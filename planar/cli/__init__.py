@@ -40,14 +40,14 @@ def command(name: str, help: str):
 
 def build_parser() -> argparse.ArgumentParser:
     from .. import __version__
+    from ..post.scope import CAUTION
 
     parser = argparse.ArgumentParser(
         prog="planar",
         description="Stress checks of flat parts under in-plane loads (2D linear elasticity, "
                     "plane stress or plane strain). Units are yours and must be consistent, "
                     "e.g. N, mm, MPa.",
-        epilog="Results are linear-elastic and static: no buckling, fatigue, fracture or plasticity "
-               "check. They need review by a qualified engineer under the applicable codes.",
+        epilog=CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"planar {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")

@@ -5,6 +5,7 @@ import argparse
 
 from ..demo import format_summary, run_demo
 from ..paths import DEFAULT_OUT
+from ..post.scope import CAUTION
 from ._help import Formatter, wrap
 
 COMMAND = "demo"
@@ -25,8 +26,7 @@ def arguments(p: argparse.ArgumentParser) -> None:
         "Writes into the output folder: the result for any VTK viewer (.vtu, quadratic cells, "
         "displacement and stress fields), PNG figures, and a self-contained HTML report; prints a "
         "summary table. Needs no input files and no network.")
-    p.epilog = ("examples:\n  planar demo\n  planar demo --out /tmp/strap-check\n\n"
-                "Linear-elastic, static results; no buckling, fatigue, fracture or plasticity check.")
+    p.epilog = "examples:\n  planar demo\n  planar demo --out /tmp/strap-check\n\n" + wrap(CAUTION)
     p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
                    help=f"folder for the result files, figures and report, created if missing "
                         f"(default: ./{DEFAULT_OUT})")

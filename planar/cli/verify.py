@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import argparse
-import sys
 
 COMMAND = "verify"
 HELP = "run the published benchmark suite and compare with the references"
@@ -21,10 +20,11 @@ def arguments(p: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Run the cases; exit code 0 when every check passed, 1 otherwise."""
+    from ..core.progress import Progress
     from ..post.files import atomic_write_text
     from ..verify import format_table, records_to_json, run as run_cases
 
-    progress = None if args.quiet or not sys.stderr.isatty() else (lambda s: print(s, file=sys.stderr))
+    progress = Progress(False if args.quiet else None, clock=False)   # on a terminal only
     records = run_cases(element=args.element, case_names=args.case, progress=progress)
     if not args.quiet:
         print(format_table(records))

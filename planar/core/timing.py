@@ -4,6 +4,8 @@ from __future__ import annotations
 import sys
 import time
 
+from .progress import Progress
+
 
 class Timer:
     """Collects the wall time of named stages; prints them as they end when ``verbose``."""
@@ -12,6 +14,7 @@ class Timer:
         self.stages: dict[str, float] = {}
         self.verbose = verbose
         self.stream = stream or sys.stderr
+        self._say = Progress(bool(verbose), stream=self.stream, clock=False)
         self._t = time.perf_counter()
         self._t0 = self._t
 
@@ -20,8 +23,7 @@ class Timer:
         dt = now - self._t
         self.stages[name] = self.stages.get(name, 0.0) + dt
         self._t = now
-        if self.verbose:
-            print(f"  {name:<22s} {dt:8.3f} s", file=self.stream, flush=True)
+        self._say(f"  {name:<22s} {dt:8.3f} s")
         return dt
 
     def total(self) -> float:

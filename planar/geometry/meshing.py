@@ -57,6 +57,7 @@ from typing import Callable, Sequence
 
 import numpy as np
 
+from ..core.compat import deprecated
 from ..core.values import number
 from ..core.errors import GeometryError, InputError, MeshError, ResourceError, fmt_point, unknown_name
 from ..core.layouts import gmsh_type
@@ -199,13 +200,32 @@ def element_options(element: str) -> dict:
     return out
 
 
+def _element_choice(element, order, quads, quadratic) -> tuple[int, bool, str]:
+    """(order, quads, quadratic) from ``element=``, or from the old keywords with a DeprecationWarning."""
+    old = {k: v for k, v in (("order", order), ("quads", quads), ("quadratic", quadratic)) if v is not None}
+    if element is not None:
+        if old:
+            raise InputError(f"mesh() got element={element!r} and {', '.join(f'{k}=' for k in old)}; give element= "
+                             "only (the others are its old spelling)")
+        if not isinstance(element, str):
+            raise InputError(f"element must be an element name such as 'T6', got {element!r}")
+        o = element_options(element)
+        return o["order"], o["quads"], o.get("quadratic", "Q8")
+    if old:
+        deprecated("mesh(): order=, quads= and quadratic= are now one keyword, element= ('T3', 'T6', 'Q4', 'Q8' "
+                   "or 'Q9'); the old keywords work for one release", stacklevel=4)
+    return (1 if order is None else order, False if quads is None else quads,
+            "Q8" if quadratic is None else quadratic)
+
+
 def mesh(
     geometry: Plate | Shape,
     size: float | None = None,
     *,
-    order: int = 1,
-    quads: bool = False,
-    quadratic: str = "Q8",
+    element: str | None = None,
+    order: int | None = None,
+    quads: bool | None = None,
+    quadratic: str | None = None,
     refine: Sequence[Refine] | Refine = (),
     size_function: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
     algorithm: str | None = None,
@@ -224,14 +244,14 @@ def mesh(
         The plate (a bare shape is taken as a plate outline).
     size : float, optional
         Global element size (side length). Required unless ``size_function`` is given.
-    order : {1, 2}
-        1 gives T3 or Q4 cells, 2 gives T6 or Q8/Q9 with the mid-side nodes on the true curves (at
-        the mean curve parameter of the side's ends; a Q9 centre node by the blend of its sides).
-    quads : bool, default False
-        Quadrilaterals only: gmsh's quad-dominant mesh at twice the size, every cell split into
-        quadrilaterals and smoothed (see the module's notes).
-    quadratic : {"Q8", "Q9"}
-        The quadratic quadrilateral: 8 nodes (serendipity) or 9 (Lagrange).
+    element : {"T3", "T6", "Q4", "Q8", "Q9"}, default "T3"
+        The cells: linear or quadratic triangles or quadrilaterals. Quadratic cells have their
+        mid-side nodes on the true curves (at the mean curve parameter of the side's ends; a Q9
+        centre node by the blend of its sides). Quadrilaterals: gmsh's quad-dominant mesh at twice
+        the size, every cell split into quadrilaterals and smoothed (see the module's notes).
+    order, quads, quadratic
+        The old way to choose the cells (``order=2, quads=True, quadratic="Q9"`` is ``element="Q9"``);
+        they work for one release with a DeprecationWarning.
     refine : Refine or sequence of Refine
         Local sizes at named edges, points or regions.
     size_function : callable, optional
@@ -290,7 +310,7 @@ def mesh(
     --------
     >>> from planar.geometry import Plate, Circle, Refine, mesh
     >>> plate = Plate.rectangle(200.0, 80.0).cut(Circle((100.0, 40.0), 10.0, name="bolt_hole"))
-    >>> m = mesh(plate, size=8.0, order=2, refine=[Refine("bolt_hole", size=2.0)])
+    >>> m = mesh(plate, size=8.0, element="T6", refine=[Refine("bolt_hole", size=2.0)])
     >>> sorted(m.cells), sorted(m.edge_sets)
     (['T6'], ['bolt_hole', 'bottom', 'left', 'right', 'top'])
     """
@@ -300,6 +320,7 @@ def mesh(
     if size is None and size_function is None:
         raise InputError("give a mesh size (size=...) or a size function (size_function=...)")
     h = None if size is None else _size(size, "mesh size")
+    order, quads, quadratic = _element_choice(element, order, quads, quadratic)
     if order not in (1, 2) or isinstance(order, bool):
         raise InputError(f"order must be 1 (linear) or 2 (quadratic), got {order!r}")
     if quadratic not in ("Q8", "Q9"):

@@ -563,7 +563,7 @@ def plot_envelope(env: Envelope, path: str | os.PathLike | None = None, *, title
     axes = fig.subplots(3, 1)
     unit = field_unit(env.field, env.units)
     length = length_unit(env.units)
-    common = dict(name=env.field, unit=unit, length=length, etypes=env._etypes, scale=None)
+    common = dict(field=env.field, unit=unit, length=length, etypes=env._etypes, scale=None)
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.max, nan=np.nanmin(env.max)), cmap="viridis",
                      title=f"max of {field_label(env.field)} over {len(env.names)} cases", ax=axes[0], **common)
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.min, nan=np.nanmax(env.min)), cmap="cividis",

@@ -21,7 +21,9 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
+from ..core.compat import renamed_keywords
 from ..core.errors import InputError, MeshError, fmt_point
+from ..core.fields import FIELD_TABLE, names
 from ..core.layouts import from_file_cells, layouts
 from ..core.result import as_result
 from .files import atomic_path
@@ -44,30 +46,12 @@ __all__ = [
     "SIGNED_FIELDS",
 ]
 
-#: fields that take both signs: drawn with a diverging colour map centred on zero
-SIGNED_FIELDS = frozenset({"ux", "uy", "sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "sigma_1",
-                           "sigma_2", "eps_xx", "eps_yy", "gamma_xy", "principal_angle"})
-_STRESS = frozenset({"sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1",
-                     "sigma_2"})
-_LENGTH = frozenset({"ux", "uy", "displacement"})
-_STRAIN = frozenset({"eps_xx", "eps_yy", "gamma_xy"})
-_LABELS = {
-    "von_mises": "von Mises stress",
-    "tresca": "Tresca stress",
-    "sigma_xx": r"$\sigma_{xx}$",
-    "sigma_yy": r"$\sigma_{yy}$",
-    "tau_xy": r"$\tau_{xy}$",
-    "sigma_zz": r"$\sigma_{zz}$",
-    "sigma_1": r"major principal stress $\sigma_1$",
-    "sigma_2": r"minor principal stress $\sigma_2$",
-    "principal_angle": "angle of $\\sigma_1$ from x",
-    "ux": "displacement $u_x$",
-    "uy": "displacement $u_y$",
-    "displacement": "displacement magnitude",
-    "eps_xx": r"strain $\varepsilon_{xx}$",
-    "eps_yy": r"strain $\varepsilon_{yy}$",
-    "gamma_xy": r"shear strain $\gamma_{xy}$",
-}
+#: fields that take both signs: drawn with a diverging colour map centred on zero (from the one field
+#: table, :data:`planar.core.fields.FIELD_TABLE`, like the units and labels below)
+SIGNED_FIELDS = frozenset(names(signed=True))
+_STRESS = frozenset(names(unit="stress"))
+_LENGTH = frozenset(names(unit="length"))
+_LABELS = {f.name: f.label for f in FIELD_TABLE.values()}
 #: cap on the number of plotted small triangles (keeps big meshes drawable)
 _MAX_TRIANGLES = 1_500_000
 
@@ -120,22 +104,23 @@ def force_unit(units: str | None) -> str:
     return items[0] if len(items) >= 3 else ""
 
 
-def field_unit(name: str, units: str | None) -> str:
+@renamed_keywords(name="field")
+def field_unit(field: str, units: str | None) -> str:
     """Unit of a named field given the model's units text (strains are dimensionless)."""
-    if name in _STRESS or name.startswith("element_"):
+    if field in _STRESS or field.startswith("element_"):
         return stress_unit(units)
-    if name in _LENGTH:
+    if field in _LENGTH:
         return length_unit(units)
-    if name == "principal_angle":
-        return "deg"
-    return ""
+    info = FIELD_TABLE.get(field)
+    return info.unit if info is not None and info.unit == "deg" else ""
 
 
-def field_label(name: str, unit: str = "") -> str:
+@renamed_keywords(name="field")
+def field_label(field: str, unit: str = "") -> str:
     """Axis or colour-bar label of a field, with its unit in brackets."""
-    base = _LABELS.get(name, name.replace("_", " "))
-    if name.startswith("element_") and name[8:] in _LABELS:
-        base = _LABELS[name[8:]] + " (element mean)"
+    base = _LABELS.get(field, field.replace("_", " "))
+    if field.startswith("element_") and field[8:] in _LABELS:
+        base = _LABELS[field[8:]] + " (element mean)"
     return f"{base} [{unit}]" if unit else base
 
 
@@ -442,7 +427,8 @@ def _check_finite(nodes, cells, values, cell_values, displacement, name: str) ->
                                  f"{lay} cells (first: cell {k}); they cannot be drawn")
 
 
-def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str = "field",
+@renamed_keywords(name="field")
+def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str = "field",
                      unit: str = "", length: str = "", scale: float | str | None = "auto",
                      mesh_lines: bool = False, mark_peak: bool = True, levels: int | None = None,
                      cmap: str | None = None, title: str | None = None, note: str | None = None,
@@ -460,7 +446,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str 
         Nodal field; or give ``cell_values`` (one value per cell) instead.
     displacement : ndarray, shape (n, 2), optional
         Displacements for the deformed shape.
-    name : str
+    field : str
         Field name (sets the label and whether the colour map is diverging, see ``SIGNED_FIELDS``).
     unit, length : str
         Unit of the field and of lengths, for the colour bar and the peak label.
@@ -500,6 +486,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, name: str 
     levels = check_levels(levels)
     if displacement is not None:
         displacement = np.asarray(displacement, float)[:, :2]
+    name = field
     _check_finite(nodes, cells, values, cell_values, displacement, name)
     if scale == "auto":
         scale = deformation_scale(nodes, displacement) if displacement is not None else 0.0
@@ -666,7 +653,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     '$\\\\sigma_{xx}$ [MPa]'
     """
     result = as_result(result, "plot_field")
-    values = result.field(field, method=recovery)
+    values = result.field(field, recovery=recovery)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)
     etypes = {b.layout: b.etype for b in result.assembly.blocks}
@@ -675,7 +662,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     if title is None:
         title = f"{field_label(field)}, load case '{result.case}'"
     return plot_nodal_field(result.mesh.nodes, result.mesh.cells, values, displacement=result.u,
-                            name=field, unit=unit, length=length_unit(model_units), scale=scale,
+                            field=field, unit=unit, length=length_unit(model_units), scale=scale,
                             mesh_lines=mesh_lines, mark_peak=mark_peak, levels=levels, cmap=cmap,
                             title=title, note=note, etypes=etypes, subdivisions=subdivisions, window=window, ax=ax,
                             path=path)
@@ -809,7 +796,7 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
     if title is None:
         title = f"{field_label(field)}, {Path(path).name}"
     return plot_nodal_field(np.asarray(m.points, float)[:, :2], cells_, values, displacement=disp,
-                            name=field, unit=units or "", length=length,
+                            field=field, unit=units or "", length=length,
                             scale=scale if disp is not None else None, mesh_lines=mesh_lines,
                             mark_peak=mark_peak, levels=levels, cmap=cmap, title=title,
                             cell_values=cell_values, path=png)
@@ -843,7 +830,7 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
     matplotlib.figure.Figure
     """
     result = as_result(result, "plot_along")
-    dist, pts, vals = result.along(start, end, field, n_points=n_points, method=recovery)
+    dist, pts, vals = result.along(start, end, field, n_points=n_points, recovery=recovery)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)
     length = length_unit(model_units)

@@ -1,9 +1,9 @@
 """Where a running sweep stands, and its progress lines on stderr."""
 from __future__ import annotations
 
-import sys
-import time
 from dataclasses import dataclass
+
+from ..core.progress import Progress
 
 
 # ============================================================================ progress
@@ -59,22 +59,10 @@ def _duration(s: float) -> str:
 
 
 class _Reporter:
+    """The sweep's line on stderr, through the one progress printer (:class:`planar.core.progress.Progress`)."""
+
     def __init__(self, enabled: bool, stream=None):
-        self.stream = stream or sys.stderr
-        self.enabled = enabled
-        self.tty = bool(getattr(self.stream, "isatty", lambda: False)())
-        self._last = 0.0
-        self._said = ""
+        self._line = Progress(enabled, stream=stream, clock=False)
 
     def __call__(self, prog: SweepProgress, final: bool = False) -> None:
-        if not self.enabled:
-            return
-        now = time.perf_counter()
-        text = prog.line()
-        if self.tty:
-            if final or now - self._last > 0.2:
-                print("\r" + text.ljust(100), end="\n" if final else "", file=self.stream, flush=True)
-                self._last = now
-        elif text != self._said:
-            print(text, file=self.stream, flush=True)
-        self._said = text
+        self._line.update(prog.line(), final)

@@ -13,27 +13,25 @@ from ..core.materials import Isotropic
 from ..core.model import Model
 from ..core.static import solve
 from ..core.supports import Roller
+from ..post.handbook import HOLE_IN_STRIP_FORMULA, HOLE_IN_STRIP_SOURCE, kt_hole_in_strip
 from . import case, check
 from .recovery_cases import KIRSCH, ExactTraction, KirschPlate
 
 QUADRATIC = ("T6", "Q8", "Q9")
-PETERSON = ("W. D. Pilkey and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., 2008, "
-            "chart 4.1 (R. C. J. Howland 1930): Ktn = 3.00 - 3.13 (d/W) + 3.66 (d/W)^2 - 1.53 (d/W)^3 "
-            "(coefficients from memory)")
+PETERSON = f"{HOLE_IN_STRIP_SOURCE}: {HOLE_IN_STRIP_FORMULA}"
 LE1 = ("NAFEMS, The Standard NAFEMS Benchmarks, 1990, test LE1 (elliptic membrane): sigma_yy at D (2, 0) "
        "= 92.7 MPa (from memory)")
 
 
 def _mesh(plate, element: str, size: float, refine=()):
-    from ..geometry import element_options, mesh
+    from ..geometry import mesh
 
-    return mesh(plate, size=size, refine=list(refine), **element_options(element))
+    return mesh(plate, size=size, refine=list(refine), element=element)
 
 
 def peterson_ktn(d_over_w: float) -> float:
     """Net-section Kt of a central hole in a finite-width strip in tension (Peterson chart 4.1 fit)."""
-    r = float(d_over_w)
-    return 3.00 - 3.13 * r + 3.66 * r * r - 1.53 * r**3
+    return kt_hole_in_strip(float(d_over_w))
 
 
 @case("kirsch-hole", QUADRATIC)
