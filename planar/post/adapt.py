@@ -19,7 +19,6 @@ Examples
 from __future__ import annotations
 
 import math
-import sys
 import time
 from dataclasses import dataclass, field
 from typing import Callable
@@ -29,6 +28,7 @@ from scipy.spatial import cKDTree
 
 from ..core.compat import callable_module, deprecated, renamed_keywords
 from ..core.errors import InputError
+from ..core.progress import Progress
 from ..core.result import as_result
 from .estimate import ErrorEstimate, estimate_error
 
@@ -279,12 +279,6 @@ def remesher(geometry, **mesh_options) -> Callable:
     return remesh
 
 
-def _say(verbose: bool | None) -> Callable[[str], None] | None:
-    if verbose is None:
-        verbose = bool(getattr(sys.stderr, "isatty", lambda: False)())
-    return (lambda s: print(s, file=sys.stderr, flush=True)) if verbose else None
-
-
 @renamed_keywords(method="recovery")
 def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: int = 100_000,
           max_cycles: int = 8, field: str = "von_mises", recovery: str = "spr", case: str | None = None,
@@ -335,7 +329,7 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
         raise InputError(f"target must lie between 0 and 1 (a relative error, e.g. 0.01), got {target!r}")
     if int(max_dofs) < 8 or int(max_cycles) < 1:
         raise InputError(f"need max_dofs >= 8 and max_cycles >= 1, got {max_dofs!r}, {max_cycles!r}")
-    say = _say(verbose)
+    say = Progress(verbose, clock=False)
     cycles: list[Cycle] = []
     m = mesh if mesh is not None else remesh(None)
     converged, reason = False, f"reached {max_cycles} cycles"
