@@ -9,9 +9,7 @@ import numpy as np
 
 from ..core.values import number
 from ..core.errors import InputError, unknown_name
-
-
-_METHODS = ("spr", "average")
+from ..core.recovery import METHODS as _METHODS  # the one list of stress recoveries
 
 # ============================================================================ outputs
 class Output:

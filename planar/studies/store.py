@@ -9,7 +9,7 @@ import time
 from pathlib import Path
 
 from ..core.errors import InputError
-from ..post.files import atomic_write_text
+from ..post.files import atomic_write_text, json_safe as _jsonable
 
 
 _STATUS = ("done", "failed")
@@ -39,16 +39,6 @@ class _Store:
 
     def save(self, record: dict) -> None:
         atomic_write_text(self.path(record["key"]), json.dumps(_jsonable(record), indent=1, sort_keys=True))
-
-
-def _jsonable(obj):
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _jsonable(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_jsonable(v) for v in obj]
-    return obj
 
 
 def _reusable(rec: dict | None, function_id: str, specs: dict[str, str], retry_failed: bool) -> bool:
