@@ -2,8 +2,8 @@
 
 Shapes (:class:`Rectangle`, :class:`Polygon`, :class:`Outline`, :class:`Circle`, :class:`Ellipse`,
 :class:`Slot`, :class:`RoundedRectangle`) make a :class:`Plate`; :func:`mesh` turns it into a
-:class:`planar.core.mesh.Mesh` with every boundary piece, point and region named. gmsh is imported
-only when a plate is built or meshed.
+:class:`planar.core.mesh.Mesh` of the element named (``mesh(plate, size=5.0, element="T6")``) with
+every boundary piece, point and region named. gmsh is imported only when a plate is built or meshed.
 """
 from .meshing import Refine, element_options, mesh
 from .plate import Plate
