@@ -69,7 +69,7 @@ def strap_with_hole(d_over_w: float, width: float = WIDTH, thickness: float = TH
     """
     import planar
     from planar.geometry import Circle, Plate, Refine, mesh
-    from planar.post.checks import nominal_net
+    from planar.post import nominal_net
 
     d = float(d_over_w) * width
     plate = (Plate.rectangle(length, width, centre=(0.0, 0.0))
