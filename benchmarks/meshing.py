@@ -19,11 +19,11 @@ DEFAULT_CASES = ["T6:0.76", "T6:0.4", "Q8:0.6", "Q9:0.6", "Q8:0.3"]
 _CHILD = r"""
 import json, resource, sys, time
 import numpy as np
-from planar.geometry import Circle, Plate, element_options, mesh
+from planar.geometry import Circle, Plate, mesh
 
 element, size, fast, repeat = sys.argv[1], float(sys.argv[2]), {"auto": None, "fast": True, "slow": False}[sys.argv[3]], int(sys.argv[4])
 plate = Plate.rectangle(400.0, 160.0).cut(Circle((200.0, 80.0), 20.0, name="hole")).add_point("anchor", (0.0, 0.0))
-kw = dict(element_options(element), fast=fast)
+kw = dict(element=element, fast=fast)
 best = float("inf")
 for _ in range(repeat):
     t = time.perf_counter()

@@ -56,10 +56,10 @@ def _plate(width=400.0, height=160.0, radius=20.0):
 
 
 def _mesh(plate, element: str, size: float):
-    from planar.geometry import element_options, mesh
+    from planar.geometry import mesh
 
     # the benchmark asks for its size on purpose: no element-count bound beyond the memory check
-    return mesh(plate, size=size, max_elements=10**9, **element_options(element))
+    return mesh(plate, size=size, element=element, max_elements=10**9)
 
 
 def size_for(plate, element: str, dofs: int) -> float:

@@ -73,6 +73,7 @@ import numpy as np
 from ._spr import (_BOUNDARY, RecoveryOperator, Samples, patch_recovery, recovery_operator,  # noqa: F401
                    sampling_rule)
 from .caseresult import as_result
+from .compat import renamed_keywords
 from .errors import InputError
 from .parallel import background
 from .stress import has_initial_strain, nodal_average, stress_at, stress_measures, stress_rule
@@ -211,14 +212,15 @@ def prepare_recovery(asm, n_unknowns: int) -> list[Future]:
     return started
 
 
-def recover(result, method: str = "spr", per_region: bool = False, *, boundary: str = "enlarged",
+@renamed_keywords(method="recovery")
+def recover(result, recovery: str = "spr", per_region: bool = False, *, boundary: str = "enlarged",
             degree: int | None = None) -> np.ndarray | dict[str, np.ndarray]:
     """Nodal stresses of a result, recovered region by region.
 
     Parameters
     ----------
     result : Result
-    method : {"spr", "average"}
+    recovery : {"spr", "average"}
         ``"spr"``: superconvergent patch recovery (the default for reported peaks);
         ``"average"``: Gauss values extrapolated to the nodes and averaged per region.
     per_region : bool, default False
@@ -256,8 +258,8 @@ def recover(result, method: str = "spr", per_region: bool = False, *, boundary: 
     (50.0, (85, 4))
     """
     result = as_result(result, "recover")
-    if method not in METHODS:
-        raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(METHODS)}")
+    if recovery not in METHODS:
+        raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
     if boundary not in _BOUNDARY:
         raise InputError(f"unknown boundary treatment {boundary!r}; pick one of {', '.join(_BOUNDARY)}")
     blocks = result.assembly.blocks
@@ -265,7 +267,7 @@ def recover(result, method: str = "spr", per_region: bool = False, *, boundary: 
     for i, b in enumerate(blocks):
         regions.setdefault(b.region, []).append(i)
     out: dict[str, np.ndarray] = {}
-    if method == "spr":
+    if recovery == "spr":
         samples = stress_samples(result)
         for name, ids in regions.items():
             mine = [samples[i] for i in ids]

@@ -172,7 +172,7 @@ class Result(CaseResult):
         if key not in self._nodal_cache:
             if recovery not in METHODS:
                 raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
-            vals = recover(self, method=recovery)
+            vals = recover(self, recovery=recovery)
             self._nodal_cache[key] = vals
         v = self._nodal_cache[key]
         return v[:, :3], v[:, 3]

@@ -102,7 +102,7 @@ class ExactTraction(LoadKind):
         ``stress(x, y) -> (..., 3)`` (sigma_xx, sigma_yy, tau_xy).
     """
 
-    kind = "exact-traction"
+    name = "exact-traction"
 
     def __init__(self, where: str, stress):
         self.where = str(where)
