@@ -10,86 +10,16 @@ reference, returning :class:`Record` rows. A plugin author runs the same checks 
 from __future__ import annotations
 
 import json
-import math
 import time
 import warnings
-from dataclasses import asdict, dataclass
-from typing import Callable, Iterable
+from typing import Iterable
 
-from ..core.errors import DiscretisationWarning, InputError, PlanarError, unknown_name
+from ..core.errors import DiscretisationWarning, PlanarError, unknown_name
 
 __all__ = ["Record", "case", "cases", "run", "records_to_json", "format_table", "ELEMENT_CASES"]
 
 
-@dataclass
-class Record:
-    """One checked quantity of one benchmark case."""
-
-    case: str
-    element: str
-    quantity: str
-    reference: float
-    computed: float
-    rel_error: float
-    tolerance: float
-    dofs: int
-    source: str
-    passed: bool
-    note: str = ""
-
-    def to_json(self) -> dict:
-        d = asdict(self)
-        for k in ("reference", "computed", "rel_error", "tolerance"):
-            v = d[k]
-            d[k] = None if v is None or (isinstance(v, float) and not math.isfinite(v)) else float(v)
-        d["dofs"] = int(d["dofs"])
-        d["passed"] = bool(d["passed"])
-        return d
-
-
-def check(case: str, element: str, quantity: str, reference: float, computed: float, tolerance: float,
-          dofs: int, source: str, *, relative_to: float | None = None, at_least: bool = False,
-          note: str = "") -> Record:
-    """Build a record; rel_error = |computed - reference| / |relative_to or reference|.
-
-    With ``at_least``, the check passes when computed >= reference - tolerance (an observed rate
-    or order that must reach a floor); rel_error is then the shortfall (0 when met).
-    """
-    if at_least:
-        rel = max(0.0, (reference - computed) / abs(reference)) if reference else 0.0
-        ok = computed >= reference - tolerance
-    else:
-        den = abs(relative_to if relative_to is not None else reference)
-        rel = abs(computed - reference) / den if den > 0 else abs(computed - reference)
-        ok = rel <= tolerance
-    ok = bool(ok and math.isfinite(computed))
-    return Record(case, element, quantity, float(reference), float(computed), float(rel), float(tolerance),
-                  int(dofs), source, ok, note)
-
-
-@dataclass
-class _Case:
-    name: str
-    func: Callable[[str], list[Record]]
-    elements: tuple[str, ...]
-    any_element: bool
-    slow: bool
-
-
-_CASES: dict[str, _Case] = {}
-
-#: cases that `planar verify --element NAME` runs for any registered element
-ELEMENT_CASES = ("patch-test", "energy-rate", "cantilever-tip", "cook-membrane")
-
-
-def case(name: str, elements: Iterable[str], *, any_element: bool = False, slow: bool = False):
-    """Register a benchmark case ``func(element) -> list[Record]``."""
-
-    def deco(func):
-        _CASES[name] = _Case(name, func, tuple(elements), any_element, slow)
-        return func
-
-    return deco
+from ._register import _CASES, ELEMENT_CASES, Record, _Case, case, check  # noqa: F401
 
 
 def _load_cases() -> None:

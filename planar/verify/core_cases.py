@@ -13,7 +13,7 @@ from ..core.static import solve
 from ..core.supports import Fixed, Prescribed, Roller
 from ..geometry.structured import quad_panel_mesh, rectangle_mesh
 from ..post.norms import energy_norm_error
-from . import case, check
+from ._register import case, check
 
 MH1985 = ("R. H. MacNeal and R. L. Harder, A proposed standard set of problems to test finite element "
           "accuracy, Finite Elements in Analysis and Design 1 (1985)")

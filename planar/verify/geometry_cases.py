@@ -14,7 +14,7 @@ from ..core.model import Model
 from ..core.static import solve
 from ..core.supports import Roller
 from ..post.handbook import HOLE_IN_STRIP_FORMULA, HOLE_IN_STRIP_SOURCE, kt_hole_in_strip
-from . import case, check
+from ._register import case, check
 from .recovery_cases import KIRSCH, ExactTraction, KirschPlate
 
 QUADRATIC = ("T6", "Q8", "Q9")

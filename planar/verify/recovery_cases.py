@@ -22,7 +22,7 @@ from ..core.static import solve
 from ..core.supports import Roller
 from ..geometry.structured import mapped_mesh
 from ..post.norms import energy_norm_error
-from . import case, check
+from ._register import case, check
 
 KIRSCH = ("G. Kirsch 1898; exact field in S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, "
           "3rd ed., 1970, art. 35: sigma_xx(0, a) = 3 sigma_0")
