@@ -17,8 +17,8 @@ import numpy as np
 from ..core.digest import digest_of, sign_file, sign_text
 from ..core.errors import InputError
 from ..core.layouts import layouts as all_layouts, vtk_cells
-from ..core.result import stress_measures
-from ..core.result import as_result
+from ..core.fields import names as field_names
+from ..core.result import as_result, stress_measures
 from .files import atomic_path
 
 __all__ = ["write_vtu", "write_grid", "add_field_data", "CELL_TYPES"]
@@ -95,7 +95,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     s, szz = result.nodal_stress(recovery)
     meas = stress_measures(s, szz)
     pdata = {"displacement": np.column_stack([result.u, np.zeros(mesh.n_nodes)])}
-    for k in ("sigma_xx", "sigma_yy", "tau_xy", "sigma_zz", "von_mises", "tresca", "sigma_1", "sigma_2"):
+    for k in field_names(unit="stress"):  # the stress fields of the one field table
         pdata[k] = np.ascontiguousarray(meas[k])
     pdata["reaction"] = np.column_stack([result.reactions, np.zeros(mesh.n_nodes)])
     for k, v in (point_fields or {}).items():
