@@ -133,7 +133,7 @@ def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | Non
     end_to_end = time.perf_counter() - t_start
     peak = _rss_mb()
     system, rhs = res.assembly.system, res.assembly.rhs
-    peak_vm, loc, _ = res.max("von_mises", method="spr")
+    peak_vm, loc, _ = res.max("von_mises", recovery="spr")
     used_solver = res.solver
     del res
     gc.collect()
