@@ -19,7 +19,18 @@ from .solvers import choose, factorize
 from .supports import gather
 from .timing import Timer
 
-__all__ = ["solve", "Constrained", "constrain"]
+__all__ = ["solve", "Results", "Constrained", "constrain"]
+
+
+class Results(dict):
+    """The results of :func:`solve` by load case name: a plain ``dict`` whose unknown keys raise a
+    :class:`~planar.core.errors.NameNotFoundError` listing the load cases (not a bare ``KeyError``).
+
+    It stays a ``dict`` (``isinstance``, iteration, ``json``); ``.get`` still returns its default.
+    """
+
+    def __missing__(self, key):
+        raise unknown_name("load case", key, list(self))
 
 
 @dataclass
@@ -139,9 +150,9 @@ def _case_names(model, cases) -> list[str]:
     return names
 
 
-def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool = False,
+def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool | None = None,
           distortion_limit: float = 1e-3, timer: Timer | None = None,
-          keep_system: bool = False) -> dict[str, Result]:
+          keep_system: bool = False) -> Results:
     """Assemble and solve a model for its load cases with one factorization.
 
     Parameters
@@ -152,16 +163,19 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     solver : {"auto", "pardiso", "cholmod", "amg", "superlu"}
         Linear solver back end (see :mod:`planar.core.solvers`); ``"auto"`` picks by size, memory and
         what is installed.
-    verbose : bool
-        Print the stage times.
+    verbose : bool, optional
+        True: print every stage's time; False: print nothing; None (default): on a terminal (or with
+        ``PLANAR_PROGRESS=1``; ``0`` silences it), print the stages that take over a second, and
+        announce the long ones before they start on large models (see :mod:`planar.core.timing`).
     keep_system : bool
         Keep the reduced system and right-hand sides on ``result.assembly.system`` (for benchmarks
         and checks; costs the matrix's memory for as long as the results live).
 
     Returns
     -------
-    dict of str to Result
-        One result per load case, in the order of ``cases``.
+    Results (a dict of str to Result)
+        One result per load case, in the order of ``cases``; a mistyped case name raises a
+        NameNotFoundError listing the cases.
 
     Raises
     ------
@@ -171,6 +185,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         A singular stiffness matrix (a mechanism).
     """
     timer = timer or Timer(verbose)
+    timer.size(2 * model.mesh.n_nodes)
+    timer.start("checking")
     cases = _case_names(model, cases)
     for c in cases:
         if c not in model.cases:
@@ -207,6 +223,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
     solver = choose(free.size, solver, matrix_entries=entries)  # refuse up front what cannot fit
     timer.lap("checks")
+    timer.size(free.size)
+    timer.start("assembling")
     try:
         system = asm.system(free_index, pres_index, cons.rotation, timer)
     except MemoryError:
@@ -232,9 +250,11 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         asm.rhs = rhs
     try:
         figures = diagnose.start_figures(system.lower, solver)  # ||K|| on the core the ordering leaves idle
+        timer.start(f"factorizing ({solver})")
         fac = factorize(system.lower, solver, rigid_modes=modes,
                         after_ordering=diagnose.also_wait(after_ordering, figures))
         timer.lap("factorization")
+        timer.start("solving")
         ul = np.zeros((ndof, len(cases)))
         ul[pdofs] = up[pdofs][:, None]
         # one more column: a step of inverse iteration for the condition estimate
@@ -248,6 +268,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
             raise
         raise diagnose.explain_failure(asm, system, free, solver, exc, rhs) from None
     timer.lap("solve")
+    timer.start("checking the solution of")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
     _check_finite(ul, Rl, cases)
@@ -260,7 +281,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         U, R = ul, Rl
     trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R, F, U, free=free, figures=figures)
     timer.lap("solution check")
-    results = {}
+    results = Results()
     for j, c in enumerate(cases):
         results[c] = Result(asm, c, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), F[:, j].reshape(-1, 2),
                             loads[j][1], solver=fac.name, timer=timer,
