@@ -1,7 +1,14 @@
 """Progress lines on the terminal: the one printer of every long step (demo, adaptivity, sweeps, verify, timing).
 
 Quiet in scripts and tests: by default a :class:`Progress` speaks only when its stream is a
-terminal; ``enabled=True`` forces it on, ``False`` off.
+terminal; ``enabled=True`` forces it on, ``False`` off. The environment variable
+``PLANAR_PROGRESS`` overrides the terminal test for every default printer: ``0`` (or ``off``)
+keeps them quiet, ``1`` (or ``on``) makes them speak on any stream.
+
+Long steps of a solve (see :class:`planar.core.timing.Timer`) report on their own when a stage
+takes over ``PLANAR_PROGRESS_MIN_SECONDS`` (default 1 s), and announce themselves before they
+start on models of at least ``PLANAR_PROGRESS_MIN_UNKNOWNS`` unknowns (default 200,000); both
+thresholds may be lowered, e.g. to see the lines on a small model in a test.
 
 Examples
 --------
@@ -18,16 +25,61 @@ False
 """
 from __future__ import annotations
 
+import os
 import sys
 import time
 from typing import TextIO
 
-__all__ = ["Progress", "is_terminal"]
+__all__ = ["Progress", "is_terminal", "env_choice", "min_seconds", "min_unknowns", "ENV"]
+
+#: the environment variable that forces progress on (``1``) or off (``0``)
+ENV = "PLANAR_PROGRESS"
+_ON = {"1", "on", "yes", "true"}
+_OFF = {"0", "off", "no", "false"}
 
 
 def is_terminal(stream) -> bool:
     """True when ``stream`` is an interactive terminal."""
-    return bool(getattr(stream, "isatty", lambda: False)())
+    try:
+        return bool(getattr(stream, "isatty", lambda: False)())
+    except (ValueError, OSError):  # a closed stream
+        return False
+
+
+def env_choice() -> bool | None:
+    """``PLANAR_PROGRESS`` read as True (``1``/``on``), False (``0``/``off``), or None (unset, other).
+
+    Examples
+    --------
+    >>> import os
+    >>> old = os.environ.pop("PLANAR_PROGRESS", None)
+    >>> env_choice() is None
+    True
+    >>> os.environ["PLANAR_PROGRESS"] = "0"; env_choice()
+    False
+    >>> _ = os.environ.pop("PLANAR_PROGRESS") if old is None else os.environ.update(PLANAR_PROGRESS=old)
+    """
+    v = os.environ.get(ENV, "").strip().lower()
+    return True if v in _ON else False if v in _OFF else None
+
+
+def _env_number(name: str, default: float) -> float:
+    try:
+        v = float(os.environ.get(name, ""))
+    except ValueError:
+        return default
+    return v if v >= 0 else default
+
+
+def min_seconds() -> float:
+    """A stage that took at least this long prints its line (``PLANAR_PROGRESS_MIN_SECONDS``, default 1)."""
+    return _env_number("PLANAR_PROGRESS_MIN_SECONDS", 1.0)
+
+
+def min_unknowns() -> int:
+    """Models of at least this many unknowns announce each long stage before it starts
+    (``PLANAR_PROGRESS_MIN_UNKNOWNS``, default 200,000)."""
+    return int(_env_number("PLANAR_PROGRESS_MIN_UNKNOWNS", 200_000))
 
 
 class Progress:
@@ -36,7 +88,8 @@ class Progress:
     Parameters
     ----------
     enabled : bool, optional
-        None (default): on when the stream is a terminal.
+        None (default): as ``PLANAR_PROGRESS`` says when it is set, else on when the stream is a
+        terminal.
     prefix : str
         Put before every line (``"prefix: text"``).
     stream : file, optional
@@ -55,6 +108,8 @@ class Progress:
                  clock: bool = True):
         self.stream = stream if stream is not None else sys.stderr
         self.tty = is_terminal(self.stream)
+        if enabled is None:
+            enabled = env_choice()
         self.enabled = self.tty if enabled is None else bool(enabled)
         self.prefix = prefix
         self.clock = clock
