@@ -89,6 +89,13 @@ def test_terminal_shows_the_stages():
         assert f"planar:   {stage}" in out, out
 
 
+def test_iterations_of_the_iterative_solver_show():
+    pytest.importorskip("pyamg")
+    out = _run_pty(_env(**LOW), "8", "amg")
+    assert "planar: CG on" in out and "iterations, residual" in out, out
+    assert "CG on" not in _run_pipe(_env(**LOW), "8", "amg").stderr
+
+
 def test_pipe_is_quiet():
     p = _run_pipe(_env(**LOW))
     assert "done" in p.stdout
@@ -126,5 +133,5 @@ def test_verbose_keeps_printing_every_stage(capsys, monkeypatch):
 @pytest.mark.slow
 def test_a_million_unknowns_on_a_terminal():
     """The issue's check: 10^6 unknowns under a pseudo-terminal show progress with default thresholds."""
-    out = _run_pty(_env(), "250", timeout=600)   # 1250 x 250 Q8 cells: about 10^6 unknowns
+    out = _run_pty(_env(), "182", timeout=600)   # 910 x 182 Q8 cells: about 10^6 unknowns
     assert "planar: factorizing" in out and "planar:   factorization" in out

@@ -404,6 +404,7 @@ class _AMG:
         p = z.copy()
         rz = float(r @ z)
         its = 0
+        say = _IterationLine(A.shape[0])
         while its < maxiter:
             Ap = A @ p
             pAp = float(p @ Ap)
@@ -420,6 +421,7 @@ class _AMG:
                 nt = float(np.linalg.norm(rt))
                 if not np.isfinite(nt) or nt > 1e8 * max(nb, best):
                     break  # diverging
+                say(its, nt / nb)
                 if nt < best:
                     best_x, best = x.copy(), nt
                     if done(rt, best_x) or nt <= self.ROUNDOFF * _EPS * (self.norm * float(np.linalg.norm(x)) + nb):
@@ -437,6 +439,7 @@ class _AMG:
             nt = float(np.linalg.norm(b - A @ x))
             if nt < best:
                 best_x, best = x, nt
+        say.end(its, best / nb)
         return best_x, its, best / nb
 
     def refine(self, b: np.ndarray, x: np.ndarray, eta: float, norm: float, case: int | None = None) -> np.ndarray:
@@ -561,3 +564,32 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
         raise SolverError("there are no free unknowns left: every displacement is prescribed")
     name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
     return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering)
+
+
+class _IterationLine:
+    """The CG iteration count and residual on the terminal, once a run has lasted over
+    :func:`planar.core.progress.min_seconds` (one line rewritten in place; quiet when not a terminal
+    or with ``PLANAR_PROGRESS=0``)."""
+
+    def __init__(self, n: int):
+        import time
+
+        self._clock = time.perf_counter
+        self._t0 = self._clock()
+        self._n = n
+        self._say = None
+
+    def __call__(self, its: int, residual: float) -> None:
+        if self._say is None:
+            from .progress import Progress, min_seconds
+
+            if self._clock() - self._t0 < min_seconds():
+                return
+            self._say = Progress(None, "planar", clock=False)
+        if self._say:
+            self._say.update(f"CG on {self._n:,} unknowns: iteration {its}, residual {residual:.1e}")
+
+    def end(self, its: int, residual: float) -> None:
+        if self._say:
+            self._say.update(f"CG on {self._n:,} unknowns: {its} iterations, residual {residual:.1e} "
+                             f"({self._clock() - self._t0:.1f} s)", final=True)
