@@ -86,6 +86,9 @@ def test_demo_physics(demo_run):
     unknowns = [m["unknowns"] for m in s["meshes"]]
     assert unknowns == sorted(unknowns) and s["unknowns"] == unknowns[-1]
     assert s["seconds"] < 60.0
+    # the study judges itself in the asymptotic range (Roache 1998) and claims its GCI (about 0.19 %)
+    assert s["convergence"] == "monotonic" and s["convergence_verdict"] == "in the asymptotic range"
+    assert 0 < s["gci"] < 0.01
 
 
 def test_demo_report_shows_cautions_and_renders(demo_run, tmp_path):

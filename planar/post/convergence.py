@@ -18,6 +18,24 @@ Examples
 >>> g = grid_convergence([3.0 + 0.4 * h**2 for h in (1.0, 0.5, 0.25)], sizes=[1.0, 0.5, 0.25])
 >>> round(g.order, 10), round(g.extrapolated, 10), g.kind
 (2.0, 3.0, 'monotonic')
+>>> g.asymptotic, round(100 * g.gci, 4)
+(True, 1.0331)
+
+A study judges itself: an observed order outside the plausible band, a non-monotone series or an
+asymptotic ratio far from 1 means the meshes are not in the asymptotic range, and no GCI is claimed
+(``gci`` is None, ``verdict`` says why, a ``DiscretisationWarning`` with code ``"not-asymptotic"``
+is raised).
+
+The bands (P. J. Roache 1998, ch. 5: the GCI and Richardson's extrapolation hold only in the
+asymptotic range, where the observed order is the formal one and GCI_32 = r^p GCI_21):
+
+- observed order in [0.5, q + 1] for elements of polynomial degree q. Above q + 1: no stress,
+  recovered stress or local quantity of degree-q elements converges faster (q + 1 is the
+  superconvergent rate of recovered stresses and of displacements in L2); an order of 7 is an
+  accident of three nearly equal values. Below 0.5: the strongest singularity of 2D elasticity, a
+  crack (displacements ~ r^(1/2)), limits energy-norm convergence to h^(1/2); slower observed rates
+  are pre-asymptotic (or the quantity is unbounded, such as a peak at a re-entrant corner).
+- asymptotic ratio GCI_32 / (r21^p GCI_21) in [0.9, 1.1] (Roache: "approximately 1").
 """
 from __future__ import annotations
 
@@ -30,13 +48,20 @@ from typing import Callable, Sequence
 import numpy as np
 
 from ..core.compat import renamed_keywords
-from ..core.errors import InputError
+from ..core.errors import InputError, warn
 from .files import atomic_path
 
-__all__ = ["GridConvergence", "grid_convergence", "convergence_study", "FS_THREE_GRIDS"]
+__all__ = ["GridConvergence", "grid_convergence", "convergence_study", "FS_THREE_GRIDS", "ORDER_FLOOR",
+           "RATIO_BAND", "DEFAULT_DEGREE"]
 
 #: Roache's factor of safety for a study of three or more grids with an observed order
 FS_THREE_GRIDS = 1.25
+#: lowest plausible observed order: a crack's r^(1/2) singularity gives h^(1/2) in the energy norm
+ORDER_FLOOR = 0.5
+#: band of the asymptotic ratio GCI_32 / (r21^p GCI_21) taken as "approximately 1" (Roache 1998)
+RATIO_BAND = (0.9, 1.1)
+#: element degree assumed when a study is given numbers only (quadratic, the meshing default)
+DEFAULT_DEGREE = 2
 
 
 @dataclass
@@ -72,6 +97,13 @@ class GridConvergence:
         J. Fluids Eng. 123, 2001, from memory).
     name, unit : str
     safety_factor : float
+    asymptotic : bool
+        False when the observed order lies outside ``order_band``, the series is not monotone or
+        the asymptotic ratio lies outside :data:`RATIO_BAND`: then no GCI is claimed.
+    verdict : str
+        One line: "in the asymptotic range" or why not.
+    order_band : (float, float)
+        The plausible band of the observed order, [0.5, degree + 1].
     """
 
     values: np.ndarray
@@ -89,6 +121,14 @@ class GridConvergence:
     unit: str = ""
     safety_factor: float = FS_THREE_GRIDS
     notes: list[str] = field(default_factory=list)
+    asymptotic: bool = True
+    verdict: str = "in the asymptotic range"
+    order_band: tuple[float, float] = (ORDER_FLOOR, DEFAULT_DEGREE + 1.0)
+
+    @property
+    def gci(self) -> float | None:
+        """GCI_21 (relative) when the meshes are in the asymptotic range, else None (no GCI claimed)."""
+        return float(self.gci_fine) if self.asymptotic else None
 
     @property
     def finest(self) -> float:
@@ -119,11 +159,19 @@ class GridConvergence:
         lines.append("")
         lines.append(f"refinement ratios r21 = {self.ratios[0]:.4g}, r32 = {self.ratios[1]:.4g}; convergence {self.kind}")
         lines.append(f"observed order p = {self.order:.4g}")
-        lines.append(f"Richardson extrapolation = {self.extrapolated:.8g}{u}")
-        lines.append(f"GCI fine = {100 * self.gci_fine:.4g} %, GCI coarse = {100 * self.gci_coarse:.4g} % "
-                     f"(Fs = {self.safety_factor:g}); asymptotic ratio {self.asymptotic_ratio:.4g} (1 = asymptotic)")
+        lines.append(f"Richardson extrapolation = {self.extrapolated:.8g}{u}"
+                     + ("" if self.asymptotic else " (not reliable: not in the asymptotic range)"))
         lo, hi = self.band()
-        lines.append(f"band on the finest value: {self.finest:.8g} +/- {self.uncertainty:.4g} = [{lo:.8g}, {hi:.8g}]{u}")
+        if self.asymptotic:
+            lines.append(f"GCI fine = {100 * self.gci_fine:.4g} %, GCI coarse = {100 * self.gci_coarse:.4g} % "
+                         f"(Fs = {self.safety_factor:g}); asymptotic ratio {self.asymptotic_ratio:.4g} "
+                         f"(band {RATIO_BAND[0]:g} to {RATIO_BAND[1]:g})")
+            lines.append(f"band on the finest value: {self.finest:.8g} +/- {self.uncertainty:.4g} = "
+                         f"[{lo:.8g}, {hi:.8g}]{u}")
+        else:
+            lines.append(f"NO GCI CLAIMED ({self.verdict}). Refine further or check the quantity is "
+                         f"bounded; the finest values differ by {self.uncertainty:.4g}{u}")
+        lines.append(f"verdict: {self.verdict}")
         lines.extend(self.notes)
         return "\n".join(lines)
 
@@ -169,16 +217,21 @@ class GridConvergence:
         ax.set_ylabel(f"{self.name}{u}")
         ax.plot(x, self.values, "o-", color=cmap(0.25), label="finite-element values")
         lo, hi = self.band()
-        ax.errorbar([x[0]], [self.finest], yerr=[[self.finest - lo], [hi - self.finest]], fmt="none",
-                    ecolor=cmap(0.55), elinewidth=2, capsize=6, label=f"GCI band ({100 * self.gci_fine:.3g} %)")
-        if math.isfinite(self.extrapolated):
+        if self.asymptotic:
+            ax.errorbar([x[0]], [self.finest], yerr=[[self.finest - lo], [hi - self.finest]], fmt="none",
+                        ecolor=cmap(0.55), elinewidth=2, capsize=6, label=f"GCI band ({100 * self.gci_fine:.3g} %)")
+        else:
+            ax.text(0.02, 0.02, f"not in the asymptotic range: no GCI claimed\n({self.verdict})",
+                    transform=ax.transAxes, fontsize=8, color="firebrick", va="bottom", ha="left")
+        if self.asymptotic and math.isfinite(self.extrapolated):
             ax.axhline(self.extrapolated, color=cmap(0.55), ls="--", lw=1,
                        label=f"Richardson extrapolation (p = {self.order:.3g})")
         if exact is not None:
             ax.axhline(float(exact), color=cmap(0.85), ls=":", lw=2, label="exact")
         ax.grid(True, which="both", alpha=0.3)
         ax.legend(loc="best", fontsize=8)
-        ax.set_title(title or f"convergence of {self.name} ({self.kind})", fontsize=10)
+        state = self.kind if self.asymptotic else f"{self.kind}, NOT asymptotic"
+        ax.set_title(title or f"convergence of {self.name} ({state})", fontsize=10)
         fig.tight_layout()
         with atomic_path(path) as tmp:
             fig.savefig(tmp, format="png", dpi=dpi)
@@ -206,7 +259,8 @@ def _observed_order(e21: float, e32: float, r21: float, r32: float) -> float:
 
 def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = None,
                      sizes: Sequence[float] | None = None, dim: int = 2, name: str = "quantity",
-                     unit: str = "", safety_factor: float = FS_THREE_GRIDS) -> GridConvergence:
+                     unit: str = "", safety_factor: float = FS_THREE_GRIDS, degree: int | None = None,
+                     order_band: tuple[float, float] | None = None, stacklevel: int = 2) -> GridConvergence:
     """Observed order, Richardson extrapolation and GCI of a quantity on three or more meshes.
 
     Parameters
@@ -223,6 +277,14 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
         For the table and the plot.
     safety_factor : float
         Fs of the GCI (1.25 for three or more grids, Roache 1998).
+    degree : int, optional
+        Polynomial degree of the elements (default :data:`DEFAULT_DEGREE`, quadratic); the plausible
+        observed order is [0.5, degree + 1].
+    order_band : (float, float), optional
+        The plausible band of the observed order, instead of [0.5, degree + 1] (e.g. (0.5, 2 degree)
+        for an energy-like quantity such as a compliance).
+    stacklevel : int
+        Where the "not-asymptotic" warning points (2: the caller).
 
     Returns
     -------
@@ -231,7 +293,13 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
     Raises
     ------
     InputError
-        Fewer than three meshes, sizes and unknowns both or neither given, equal sizes, non-finite values.
+        Fewer than three meshes, sizes and unknowns both or neither given, equal sizes, non-finite values,
+        a degree below 1 or an empty order band.
+
+    Warns
+    -----
+    DiscretisationWarning
+        Code ``"not-asymptotic"`` when the study is not in the asymptotic range (no GCI claimed).
 
     Notes
     -----
@@ -304,13 +372,57 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
                          "range (or the quantity is singular, e.g. a peak at a sharp re-entrant corner).")
     if v.size > 3:
         notes.append(f"{v.size} meshes: order, extrapolation and GCI use the three finest")
-    return GridConvergence(v, h, nd, float(p), float(fext), float(g21), float(g32), float(ar), kind,
-                           (float(r21), float(r32)), float(unc), name, unit, float(safety_factor), notes)
+    band = _order_band(degree, order_band)
+    reasons = _not_asymptotic(v, kind, float(p), float(ar), band)
+    if reasons and kind == "monotonic":
+        unc = abs(e21)  # no GCI band: the last change is all that is known
+    verdict = "in the asymptotic range" if not reasons else "not in the asymptotic range: " + "; ".join(reasons)
+    g = GridConvergence(v, h, nd, float(p), float(fext), float(g21), float(g32), float(ar), kind,
+                        (float(r21), float(r32)), float(unc), name, unit, float(safety_factor), notes,
+                        not reasons, verdict, band)
+    if reasons:
+        warn(f"convergence study of {name}: {verdict}; no GCI is claimed (Roache 1998: the GCI holds only in "
+             "the asymptotic range). Refine further, or check that the quantity is bounded (not a peak at a "
+             "sharp corner or a point load)", "not-asymptotic", stacklevel=stacklevel)
+    return g
+
+
+def _order_band(degree: int | None, order_band: tuple[float, float] | None) -> tuple[float, float]:
+    """[0.5, degree + 1], or the band given."""
+    if order_band is not None:
+        lo, hi = (float(b) for b in order_band)
+        if not (math.isfinite(lo) and math.isfinite(hi) and 0 <= lo < hi):
+            raise InputError(f"order_band must be (low, high) with 0 <= low < high, got {order_band!r}")
+        return lo, hi
+    q = DEFAULT_DEGREE if degree is None else int(degree)
+    if q < 1:
+        raise InputError(f"the element degree must be 1 or more, got {degree!r}")
+    return ORDER_FLOOR, q + 1.0
+
+
+def _not_asymptotic(v: np.ndarray, kind: str, p: float, ar: float, band: tuple[float, float]) -> list[str]:
+    """Reasons the study is not in the asymptotic range (empty when it is)."""
+    if kind == "converged":
+        return []
+    reasons = []
+    d = np.diff(v)
+    d = d[np.abs(d) > 1e-13 * np.max(np.abs(v))]
+    if kind == "divergent":
+        reasons.append("the changes grow under refinement (divergent)")
+    elif kind != "monotonic" or (d.size and not (np.all(d > 0) or np.all(d < 0))):
+        reasons.append(f"the series is not monotone ({kind if kind != 'monotonic' else 'over all meshes'})")
+    if kind == "monotonic":
+        if not (band[0] <= p <= band[1]):
+            reasons.append(f"observed order {p:.3g} outside the plausible band [{band[0]:g}, {band[1]:g}]")
+        if not (RATIO_BAND[0] <= ar <= RATIO_BAND[1]):
+            reasons.append(f"asymptotic ratio {ar:.4g} outside [{RATIO_BAND[0]:g}, {RATIO_BAND[1]:g}]")
+    return reasons
 
 
 @renamed_keywords(method="recovery")
 def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callable = "von_mises", *,
-                      case: str | None = None, recovery: str = "spr", unit: str = "") -> GridConvergence:
+                      case: str | None = None, recovery: str = "spr", unit: str = "", name: str | None = None,
+                      order_band: tuple[float, float] | None = None) -> GridConvergence:
     """Solve the same model on three or more meshes and study the convergence of a quantity.
 
     Parameters
@@ -327,18 +439,30 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         Recovery of the peak when ``quantity`` is a field name.
     unit : str
         Unit of the quantity, for the table and the plot.
+    name : str, optional
+        The quantity's name for the table and the plot axis (default: "peak <field>", or the
+        callable's name).
+    order_band : (float, float), optional
+        Plausible band of the observed order (default [0.5, q + 1], q the highest element degree of
+        the meshes).
 
     Returns
     -------
     GridConvergence
     """
+    from ..core.registry import element_type
     from ..core.static import solve
 
     meshes = list(meshes)
     if len(meshes) < 3:
         raise InputError(f"a convergence study needs at least 3 meshes, got {len(meshes)}")
-    values, dofs = [], []
+    values, dofs, degree = [], [], 1
     for m in meshes:
+        for t in getattr(m, "cells", {}):
+            try:
+                degree = max(degree, int(element_type(t).degree))
+            except Exception:  # an unregistered layout: keep the default band
+                degree = max(degree, DEFAULT_DEGREE)
         model = build(m)
         c = case if case is not None else next(iter(model.cases), None)
         r = solve(model, [c] if c is not None else None)[c]
@@ -347,5 +471,7 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         else:
             values.append(r.max(quantity, recovery=recovery)[0])
         dofs.append(r.n_dofs)
-    name = quantity if isinstance(quantity, str) else getattr(quantity, "__name__", "quantity")
-    return grid_convergence(values, dofs=dofs, name=f"peak {name}" if isinstance(quantity, str) else name, unit=unit)
+    if name is None:
+        name = f"peak {quantity}" if isinstance(quantity, str) else getattr(quantity, "__name__", "quantity")
+    return grid_convergence(values, dofs=dofs, name=name, unit=unit, degree=degree, order_band=order_band,
+                            stacklevel=3)

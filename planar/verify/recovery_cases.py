@@ -385,7 +385,7 @@ def gci_bracket(element: str):
     note = (f"values {', '.join(f'{v:.6f}' for v in vals)} on {', '.join(map(str, dofs))} unknowns; "
             f"r21 = {g.ratios[0]:.3f}, r32 = {g.ratios[1]:.3f}; {g.kind}; p = {g.order:.3f}; "
             f"extrapolated {g.extrapolated:.6f}; GCI fine {100 * g.gci_fine:.4f} %; band "
-            f"[{g.band()[0]:.6f}, {g.band()[1]:.6f}]")
+            f"[{g.band()[0]:.6f}, {g.band()[1]:.6f}]; {g.verdict}")
     src = ROACHE + "; Celik et al., J. Fluids Eng. 130 (2008) for non-integer ratios; " + KIRSCH
     tol = g.gci_fine if math.isfinite(g.gci_fine) else 0.0
     recs = [check("gci-bracket", element, "Richardson-extrapolated peak within its GCI band of 3 sigma_0",
@@ -393,5 +393,5 @@ def gci_bracket(element: str):
             check("gci-bracket", element, "exact peak inside the GCI band of the finest value", ref, g.finest,
                   g.uncertainty / ref, dofs[-1], src, note=note)]
     for rec in recs:
-        rec.passed = bool(rec.passed and g.kind == "monotonic")
+        rec.passed = bool(rec.passed and g.kind == "monotonic" and g.asymptotic)
     return recs
