@@ -152,7 +152,10 @@ class Model:
         """Add a support (it acts in every load case)."""
         if not isinstance(support, Support):
             raise InputError(f"add_support takes Fixed, Roller, Prescribed or Symmetry, got {support!r}")
-        self._check_names([("node set", support.where)])
+        if isinstance(support.where, str):
+            self._check_names([("node set", support.where)])
+        else:  # a point (x, y): held at the nearest node, refused when far (SupportError)
+            support.snap(self.mesh)
         self.supports.append(support)
         return support
 

@@ -16,7 +16,7 @@ from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigi
 from .result import Result
 from . import diagnose, solvers
 from .solvers import choose, factorize
-from .supports import gather
+from .supports import gather, note_snapped
 from .timing import Timer
 
 __all__ = ["solve", "Results", "Constrained", "constrain"]
@@ -204,6 +204,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     asm = Assembly(model, distortion_limit=distortion_limit)
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
+    note_snapped(mesh, model.supports, pending_warnings(asm))  # supports at coordinates: the distance kept
     zero_energy_check(asm, sink=pending_warnings(asm))  # hourglass modes, before any global work
     rigid_body_check(mesh, cons, sink=pending_warnings(asm))  # free motions and hinges
     ndof = 2 * mesh.n_nodes
