@@ -32,7 +32,7 @@ from .core.errors import (DiscretisationWarning, ElementError, GeometryError, In
                           MeshError, NameNotFoundError, OutputError, PlanarError, PlanarWarning, PluginError,
                           ResourceError, SolverError, SupportError)
 from .core.elements import ElementType
-from .core.loads import BodyForce, LoadKind, PointForce, Pressure, TemperatureChange, Traction
+from .core.loads import BodyForce, Gravity, LoadKind, PointForce, Pressure, TemperatureChange, Traction
 from .core.materials import Isotropic, Orthotropic
 from .core.mesh import Mesh
 from .core.model import Model
@@ -47,7 +47,7 @@ __all__ = [
     "Mesh", "Model", "Result", "Extreme", "ElementType", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic",
     "Fixed", "Roller", "Prescribed", "Symmetry",
-    "Traction", "Pressure", "PointForce", "BodyForce", "TemperatureChange", "LoadKind",
+    "Traction", "Pressure", "PointForce", "BodyForce", "Gravity", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
     "SupportError", "SolverError", "PluginError", "GeometryError", "ResourceError", "OutputError",
     "PlanarWarning", "DiscretisationWarning",

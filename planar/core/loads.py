@@ -1,4 +1,4 @@
-"""Load kinds (natural conditions): traction, pressure, point force, body force, temperature change.
+"""Load kinds (natural conditions): traction, pressure, point force, body force, gravity, temperature change.
 
 Every load kind, built-in or plugin, is a class registered in the ``planar.loads`` entry-point group.
 An instance knows where it acts (a named edge, point or region) and turns itself into consistent
@@ -31,6 +31,7 @@ __all__ = [
     "Pressure",
     "PointForce",
     "BodyForce",
+    "Gravity",
     "TemperatureChange",
 ]
 
@@ -515,6 +516,90 @@ class BodyForce(LoadKind):
         return ctx.integrate_body(
             self.region, lambda x: np.stack([_evaluate("bx", self.bx, x), _evaluate("by", self.by, x)], -1)
         )
+
+    def describe(self):
+        return repr(self)
+
+
+class Gravity(LoadKind):
+    """The weight of the part: rho g over every region, rho from the region's material ``density``.
+
+    Parameters
+    ----------
+    gx, gy : float
+        The acceleration of gravity (a vector), in the length unit of the model per second squared.
+    regions : str or sequence of str, optional
+        Only these regions carry their weight. By default every region does, and each must have a
+        material with a density.
+
+    Notes
+    -----
+    Units are the user's consistent system. In N, mm, MPa the density is in t/mm^3 (steel
+    7.85e-9) and g = 9810 mm/s^2, so ``Gravity(gy=-9810.0)`` pulls down; in SI base units (N, m, Pa)
+    the density is in kg/m^3 and g = 9.81 m/s^2. Each region's force per volume rho g is integrated
+    as a :class:`BodyForce` (consistent nodal forces with the stiffness's own rule and thickness).
+
+    Raises
+    ------
+    InputError
+        A region carrying its weight whose material has no (or a zero) density, naming the region.
+
+    Examples
+    --------
+    >>> Gravity(gy=-9810.0)
+    Gravity(gx=0, gy=-9810, regions=None)
+    """
+
+    name = "gravity"
+
+    def __init__(self, gx: float = 0.0, gy: float = 0.0, regions: str | list[str] | None = None):
+        from .values import number
+
+        self.gx = number(gx, "gravity gx")
+        self.gy = number(gy, "gravity gy")
+        if self.gx == 0.0 and self.gy == 0.0:
+            raise InputError("gravity needs a non-zero vector (gx, gy), e.g. gy=-9810.0 in N, mm, MPa "
+                             "(g in mm/s^2) or gy=-9.81 in N, m, Pa")
+        if isinstance(regions, str):
+            regions = [regions]
+        self.regions = None if regions is None else [str(r) for r in regions]
+        if self.regions is not None and not self.regions:
+            raise InputError("gravity on no region: give regions=None (every region) or name some")
+
+    def __repr__(self):
+        return f"Gravity(gx={_fmt(self.gx)}, gy={_fmt(self.gy)}, regions={self.regions!r})"
+
+    def names_used(self):
+        return [("region", r) for r in self.regions] if self.regions is not None else []
+
+    def densities(self, ctx) -> dict[str, float]:
+        """The density of each region that carries its weight (regions without cells left out)."""
+        regions = self.regions if self.regions is not None else ctx.mesh.region_names()
+        out = {}
+        for r in regions:
+            if not ctx.cell_blocks(r):
+                continue
+            mat = ctx.material_of(r)
+            rho = getattr(mat, "density", None)
+            try:
+                rho = float(rho)
+            except (TypeError, ValueError):
+                rho = float("nan")
+            if not (np.isfinite(rho) and rho > 0):
+                what = "no density" if getattr(mat, "density", None) is None else f"density {rho:g}"
+                raise InputError(
+                    f"gravity: region {r!r} has a material with {what}, so no weight; give the material a density "
+                    f"(e.g. Isotropic(..., density=7.85e-9) for steel in t/mm^3), or pass regions= naming the "
+                    "regions that carry their weight"
+                )
+            out[r] = rho
+        return out
+
+    def nodal_forces(self, ctx):
+        out = np.zeros((ctx.n_nodes, 2))
+        for r, rho in self.densities(ctx).items():
+            out += BodyForce(rho * self.gx, rho * self.gy, region=r).nodal_forces(ctx)
+        return out
 
     def describe(self):
         return repr(self)
