@@ -135,3 +135,37 @@ def test_a_million_unknowns_on_a_terminal():
     """The issue's check: 10^6 unknowns under a pseudo-terminal show progress with default thresholds."""
     out = _run_pty(_env(), "182", timeout=600)   # 910 x 182 Q8 cells: about 10^6 unknowns
     assert "planar: factorizing" in out and "planar:   factorization" in out
+
+
+def test_step_of_meshing_and_output(monkeypatch, tmp_path):
+    """The one mechanism for steps outside the solve (meshing, recovery, output): forced on, it prints
+    the announcement and the time; with the default thresholds a short small step prints nothing."""
+    import io
+
+    import planar
+    from planar.core.progress import step
+
+    monkeypatch.setenv("PLANAR_PROGRESS", "1")
+    monkeypatch.setenv("PLANAR_PROGRESS_MIN_UNKNOWNS", "10")
+    monkeypatch.setenv("PLANAR_PROGRESS_MIN_SECONDS", "0")
+    out = io.StringIO()
+    with step("meshing", 1234, about=True, stream=out):
+        pass
+    assert out.getvalue().startswith("planar: meshing (about 1,234 unknowns)...\nplanar:   meshing ")
+    mesh = planar.rectangle_mesh(20.0, 4.0, 10, 2, "Q4")
+    model = planar.Model(mesh, planar.Isotropic(E=70e3, nu=0.33), thickness=1.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="pull")
+    r = planar.solve(model, verbose=False)["pull"]
+    import contextlib
+
+    err = io.StringIO()
+    with contextlib.redirect_stderr(err):
+        planar.write_vtu(tmp_path / "a.vtu", r)
+    assert "planar: writing a.vtu" in err.getvalue() and "planar:   stress recovery" in err.getvalue()
+    monkeypatch.delenv("PLANAR_PROGRESS_MIN_UNKNOWNS")
+    monkeypatch.delenv("PLANAR_PROGRESS_MIN_SECONDS")
+    out = io.StringIO()
+    with step("meshing", 1234, stream=out):
+        pass
+    assert out.getvalue() == ""

@@ -28,9 +28,10 @@ from __future__ import annotations
 import os
 import sys
 import time
-from typing import TextIO
+from contextlib import contextmanager
+from typing import Iterator, TextIO
 
-__all__ = ["Progress", "is_terminal", "env_choice", "min_seconds", "min_unknowns", "ENV"]
+__all__ = ["Progress", "is_terminal", "env_choice", "min_seconds", "min_unknowns", "step", "ENV"]
 
 #: the environment variable that forces progress on (``1``) or off (``0``)
 ENV = "PLANAR_PROGRESS"
@@ -142,3 +143,29 @@ class Progress:
         elif text != self._said:
             print(line, file=self.stream, flush=True)
         self._said = text
+
+
+@contextmanager
+def step(what: str, unknowns: int = 0, *, about: bool = False, stream: TextIO | None = None) -> Iterator[None]:
+    """One long step of a job (meshing, output) on the terminal, like the stages of a solve.
+
+    Announces ``what...`` before it starts when ``unknowns`` reaches :func:`min_unknowns`, and
+    prints its time when it ends after :func:`min_seconds` or more; quiet when the stream (stderr)
+    is not a terminal, unless ``PLANAR_PROGRESS=1``. ``about=True`` marks ``unknowns`` as an estimate.
+
+    Examples
+    --------
+    >>> import io
+    >>> out = io.StringIO()
+    >>> with step("writing out.vtu", 10**7, stream=out): pass
+    >>> out.getvalue()          # not a terminal: quiet
+    ''
+    """
+    say = Progress(None, "planar", stream=stream, clock=False)
+    if say and unknowns and unknowns >= min_unknowns():
+        say(f"{what} ({'about ' if about else ''}{unknowns:,} unknowns)...")
+    t0 = time.perf_counter()
+    yield
+    dt = time.perf_counter() - t0
+    if say and dt >= min_seconds():
+        say(f"  {what:<22s} {dt:8.3f} s")

@@ -65,6 +65,7 @@ from ..core.compat import deprecated
 from ..core.values import number
 from ..core.errors import GeometryError, InputError, fmt_point
 from ..core.mesh import Mesh
+from ..core.progress import step
 from ._build import _build
 from ._estimate import CELL_AREA, MAX_ELEMENTS, MESH_BYTES_PER_ELEMENT, estimate as _estimate, estimate_elements, refuse_beyond  # noqa: F401
 # the gmsh generation and checks, and the size fields: mesh() calls them by these names (tests replace
@@ -385,7 +386,8 @@ def mesh(
         if seed is not None:
             s.set("Mesh.RandomSeed", seed)
         piecewise = plan.fast and len(built.surfaces) > 1
-        with _stage("mesh the plate", s, "try another size or algorithm, or check for very thin parts"):
+        with _stage("mesh the plate", s, "try another size or algorithm, or check for very thin parts"), \
+                step("meshing", int(plan.estimate * (4 if order == 2 else 1)), about=True):  # on a terminal
             for attempt in range(1 + RETRIES):
                 lin = _generate(g, built, s, piecewise=piecewise)
                 if quads:

@@ -17,6 +17,7 @@ import numpy as np
 from ..core.digest import digest_of, sign_file, sign_text
 from ..core.errors import InputError
 from ..core.layouts import layouts as all_layouts, vtk_cells
+from ..core.progress import step
 from ..core.fields import names as field_names
 from ..core.result import as_result, stress_measures
 from .files import atomic_path
@@ -92,7 +93,8 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     for t in layouts:
         name, etype = _block_type(result, t)
         cells.append((name, np.asarray(mesh.cells[t], dtype=np.int64), etype))
-    s, szz = result.nodal_stress(recovery)
+    with step(f"stress recovery ({recovery})", 2 * mesh.n_nodes):  # a line on a terminal for large jobs
+        s, szz = result.nodal_stress(recovery)
     meas = stress_measures(s, szz)
     pdata = {"displacement": np.column_stack([result.u, np.zeros(mesh.n_nodes)])}
     for k in field_names(unit="stress"):  # the stress fields of the one field table
@@ -125,7 +127,8 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
             v = _field_array(f"cell field {k!r}", v, sum(counts), "cells (all blocks in order)")
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
     table = {n: i for i, n in enumerate(names)} if len(names) > 1 else {}  # names of the region ids
-    write_grid(path, pts, cells, pdata, cdata, table, compression)
+    with step(f"writing {os.path.basename(path)}", 2 * mesh.n_nodes):
+        write_grid(path, pts, cells, pdata, cdata, table, compression)
     return path
 
 
