@@ -118,3 +118,47 @@ def test_study_takes_a_name_and_the_element_degree():
     assert g.name == "tip deflection" and "tip deflection [mm]" in g.table()
     assert g.order_band == (0.5, 2.0)       # Q4: degree 1
     assert math.isfinite(g.order)
+
+
+# ------------------------------------------------------------------ `planar verify` layout
+def test_verify_table_fits_120_columns_with_sources_as_footnotes():
+    """Common practice for terminal tables: 120 columns, long references as numbered footnotes."""
+    from planar.verify import check, format_table
+
+    long_src = "P. J. Roache, Verification and Validation in Computational Science and Engineering, 1998; " * 6
+    recs = [check("gci-bracket", "T6", "Richardson-extrapolated peak within its GCI band of 3 sigma_0 " * 2,
+                  3.0, 3.001, 1e-3, 8450, long_src),
+            check("energy-rate", "Q8", "energy-norm error rate", 1.9, 1.7, 0.05, 400, "Strang and Fix 1973",
+                  at_least=True),
+            check("energy-rate", "Q4", "energy-norm error rate", 0.9, 0.98, 0.0, 400, "Strang and Fix 1973",
+                  at_least=True)]
+    text = format_table(recs)
+    lines = text.splitlines()
+    assert max(map(len, lines)) <= 120
+    assert "[1]" in lines[2] and any(ln.startswith("[1] P. J. Roache") for ln in lines)
+    assert sum(ln.startswith("[2] Strang") for ln in lines) == 1          # each source once
+    # lower bounds print as bounds with the shortfall, not "rel. error 0, tolerance 0"
+    q8 = next(ln for ln in lines if ln.startswith("energy-rate  Q8"))
+    q4 = next(ln for ln in lines if ln.startswith("energy-rate  Q4"))
+    assert ">= 1.9" in q8 and "short 0.2" in q8 and "NO" in q8
+    assert ">= 0.9" in q4 and "met" in q4 and "0.00e+00" not in q4 and "0.0e+00" not in q4
+    assert recs[1].to_json()["bound"] is True
+
+
+def test_verify_command_lines_fit(capsys):
+    from planar.cli import main
+
+    assert main(["verify", "--case", "energy-rate", "--case", "cook-membrane"]) == 0
+    out = capsys.readouterr().out
+    assert max(map(len, out.splitlines())) <= 120 and "sources:" in out and ">= " in out
+
+
+# ------------------------------------------------------------------ no NaN coordinates in text
+def test_margin_from_a_number_has_no_nan_location():
+    """A margin of safety from a given peak (MS = allowable / (FS peak) - 1, common practice) has no
+    location: its text says so instead of "(nan, nan)"."""
+    from planar.post.checks import margin_of_safety
+
+    m = margin_of_safety(200.0, allowable=276.0, factor_of_safety=1.15)
+    assert m.margin == pytest.approx(0.2)
+    assert "nan" not in m.summary().lower() and "a given value" in m.summary()

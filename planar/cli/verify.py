@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import argparse
+import textwrap
 
 COMMAND = "verify"
 HELP = "run the published benchmark suite and compare with the references"
@@ -31,6 +32,7 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         atomic_write_text(args.json, records_to_json(records))
     failed = [r for r in records if not r.passed]
-    print(f"\n{len(records) - len(failed)} of {len(records)} checks passed"
-          + (f"; failed: {', '.join(sorted({f'{r.case}[{r.element}]' for r in failed}))}" if failed else ""))
+    summary = (f"{len(records) - len(failed)} of {len(records)} checks passed"
+               + (f"; failed: {', '.join(sorted({f'{r.case}[{r.element}]' for r in failed}))}" if failed else ""))
+    print("\n" + "\n".join(textwrap.wrap(summary, 120, subsequent_indent="  ")))
     return 0 if not failed else 1

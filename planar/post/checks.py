@@ -66,7 +66,10 @@ def _check_field(name: str) -> str:
 
 
 def _where(x: float, y: float) -> str:
-    """A location for messages, with round-off below 1e-9 of its size shown as 0."""
+    """A location for messages, with round-off below 1e-9 of its size shown as 0; a peak given as a
+    number has no location ("a given value", never "(nan, nan)")."""
+    if not (math.isfinite(x) and math.isfinite(y)):
+        return "a given value"
     tol = 1e-9 * max(abs(x), abs(y), 1e-300)
     return f"({0.0 if abs(x) < tol else x:.6g}, {0.0 if abs(y) < tol else y:.6g})"
 

@@ -10,6 +10,8 @@ reference, returning :class:`Record` rows. A plugin author runs the same checks 
 from __future__ import annotations
 
 import json
+import math
+import textwrap
 import time
 import warnings
 from typing import Iterable
@@ -88,17 +90,50 @@ def records_to_json(records: list[Record]) -> str:
     return json.dumps([r.to_json() for r in records], indent=1)
 
 
-def format_table(records: list[Record]) -> str:
-    """A plain-text table: case, element, quantity, reference, computed, rel. error, tolerance, source."""
-    head = ("case", "element", "quantity", "reference", "computed", "rel. error", "tolerance", "ok", "source")
-    rows = [head]
+def _num(v: float, spec: str = ".6g") -> str:
+    return format(v, spec) if math.isfinite(v) else "-"
+
+
+def _cells(r: Record) -> tuple[str, str, str]:
+    """(reference, error, tolerance) as printed: a lower bound reads ">= 1.9" with its shortfall."""
+    if r.bound:
+        short = r.reference - r.computed
+        err = "met" if math.isfinite(short) and short <= 0 else f"short {_num(short, '.3g')}"
+        return f">= {_num(r.reference)}", err, (f"slack {r.tolerance:.2g}" if r.tolerance > 0 else "-")
+    return _num(r.reference), _num(r.rel_error, ".2e"), _num(r.tolerance, ".1e")
+
+
+def format_table(records: list[Record], *, width: int = 120) -> str:
+    """A plain-text table within ``width`` columns: case, element, quantity, reference, computed,
+    rel. error, tolerance, ok and a footnote number; the sources follow the table as numbered
+    footnotes (each source once). A lower-bound check prints its reference as ``>= value`` and its
+    error as "met" or the shortfall.
+    """
+    notes: dict[str, int] = {}
+    head = ("case", "element", "quantity", "reference", "computed", "rel. error", "tolerance", "ok", "src")
+    rows = []
     for r in records:
-        rows.append((r.case, r.element, r.quantity, f"{r.reference:.6g}", f"{r.computed:.6g}",
-                     f"{r.rel_error:.2e}", f"{r.tolerance:.1e}", "yes" if r.passed else "NO", r.source))
-    widths = [max(len(str(row[i])) for row in rows) for i in range(len(head) - 1)]
-    lines = []
+        ref, err, tol = _cells(r)
+        src = f"[{notes.setdefault(r.source, len(notes) + 1)}]" if r.source.strip(" -") else ""
+        rows.append((r.case, r.element, r.quantity, ref, _num(r.computed), err, tol,
+                     "yes" if r.passed else "NO", src))
+    widths = [max([len(head[i])] + [len(row[i]) for row in rows]) for i in range(len(head))]
+    q = 2
+    widths[q] = max(16, width - (sum(widths) - widths[q]) - 2 * (len(head) - 1))
+    sep = "  "
+
+    def line(cells) -> str:
+        return sep.join(str(c).ljust(w) for c, w in zip(cells, widths)).rstrip()
+
+    out = [line(head), "-" * min(width, sum(widths) + len(sep) * (len(head) - 1))]
     for row in rows:
-        lines.append("  ".join(str(c).ljust(w) for c, w in zip(row[:-1], widths)) + "  " + row[-1])
-        if row is head:
-            lines.append("-" * (sum(widths) + 2 * len(widths) + 6))
-    return "\n".join(lines)
+        parts = textwrap.wrap(row[q], widths[q]) or [""]
+        out.append(line(row[:q] + (parts[0],) + row[q + 1:]))
+        out.extend(line(("",) * q + (p,) + ("",) * (len(head) - q - 1)) for p in parts[1:])
+    if notes:
+        out.append("")
+        out.append("sources:")
+        for src, n in notes.items():
+            tag = f"[{n}] "
+            out.extend(textwrap.wrap(src or "-", width, initial_indent=tag, subsequent_indent=" " * len(tag)))
+    return "\n".join(out)

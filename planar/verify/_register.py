@@ -27,6 +27,8 @@ class Record:
     source: str
     passed: bool
     note: str = ""
+    #: a lower-bound check (``check(..., at_least=True)``): passes when computed >= reference - tolerance
+    bound: bool = False
 
     def to_json(self) -> dict:
         d = asdict(self)
@@ -55,7 +57,7 @@ def check(case: str, element: str, quantity: str, reference: float, computed: fl
         ok = rel <= tolerance
     ok = bool(ok and math.isfinite(computed))
     return Record(case, element, quantity, float(reference), float(computed), float(rel), float(tolerance),
-                  int(dofs), source, ok, note)
+                  int(dofs), source, ok, note, bool(at_least))
 
 
 @dataclass
