@@ -185,9 +185,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         A singular stiffness matrix (a mechanism).
     """
     timer = timer or Timer(verbose)
+    cases = _case_names(model, cases)
     timer.size(2 * model.mesh.n_nodes)
     timer.start("checking")
-    cases = _case_names(model, cases)
     for c in cases:
         if c not in model.cases:
             raise unknown_name("load case", c, model.cases)
