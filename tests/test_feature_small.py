@@ -103,7 +103,6 @@ def test_non_monotone_and_far_ratio_claim_no_gci():
 
 
 def test_study_takes_a_name_and_the_element_degree():
-    from planar.core.mesh import Mesh  # noqa: F401
     from planar import rectangle_mesh
 
     meshes = [rectangle_mesh(100.0, 20.0, 2 * k, k, "Q4") for k in (2, 4, 8)]
