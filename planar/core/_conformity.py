@@ -357,13 +357,15 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
         hang = (dist <= ON_SIDE_TOL * L[sid]) & ~at_node & ~at_mid
         if not every:
             hang &= ~declared[pid] & ~(declared[A_id[sid]] & declared[B_id[sid]])
+        def place(k0: int):
+            """Side, node, the side's owner cell and the node's own cells of candidate k0."""
+            s, p = int(sid[k0]), int(pid[k0])
+            return s, p, table.owner(int(op[s])), ", ".join(_cells_of(cells, p, 2))
+
         if hang.any():
             h = np.flatnonzero(hang)
-            k0 = h[0]
-            s, p = int(sid[k0]), int(pid[k0])
+            s, p, owner, near = place(h[0])
             a, b = int(A_id[s]), int(B_id[s])
-            owner = table.owner(int(op[s]))
-            near = ", ".join(_cells_of(cells, p, 2))
             raise MeshError(
                 f"the mesh does not conform: {np.unique(pid[h]).size} node(s) lie inside a side of a "
                 f"neighbouring cell without belonging to it (hanging nodes, T-junctions); first, node {p} "
@@ -380,10 +382,7 @@ def check_conforming(mesh, cells: dict, table: SideTable, slits=()) -> None:
             k = np.flatnonzero(off)
             into = _inside_owner(table, cells, nodes, op[sid[k]], Pp[k], pid[k], ON_SIDE_TOL * L[sid[k]])
             if into.any():
-                k0 = k[np.flatnonzero(into)[0]]
-                s, p = int(sid[k0]), int(pid[k0])
-                owner = table.owner(int(op[s]))
-                near = ", ".join(_cells_of(cells, p, 2))
+                s, p, owner, near = place(k[np.flatnonzero(into)[0]])
                 raise ElementError(
                     f"cells overlap: node {p} {fmt_point(nodes[p])} (of {near}) lies inside {owner}, which it "
                     f"does not belong to, near that cell's side from node {int(A_id[s])} "

@@ -95,8 +95,9 @@ class ElementType:
     cell : {"triangle", "quad"}
         Reference cell: (0, 0), (1, 0), (0, 1), or [-1, 1]^2.
     degree : int
-        Polynomial degree of the complete displacement interpolation (1 or 2): sets the expected
-        convergence rate, the size of recovery patches and the default rule.
+        Polynomial degree of the complete displacement interpolation (1 or more, e.g. 3 for a
+        cubic triangle): sets the expected convergence rate, the size of recovery patches and the
+        default rule.
     ref_nodes : ndarray, shape (n_nodes, 2)
         Node positions on the reference cell.
     edges : ndarray, shape (n_edges, 2 or 3)
