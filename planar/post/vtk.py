@@ -18,7 +18,7 @@ from ..core.digest import digest_of, sign_file, sign_text
 from ..core.errors import InputError
 from ..core.layouts import layouts as all_layouts, vtk_cells
 from ..core.progress import step
-from ..core.fields import names as field_names
+from ..core.fields import as_centre, names as field_names, polar_stress
 from ..core.result import as_result, stress_measures
 from .files import atomic_path
 
@@ -61,7 +61,7 @@ def _block_type(result, layout: str) -> tuple[str, object]:
 def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
               cell_fields: Mapping[str, Mapping[str, np.ndarray] | np.ndarray] | None = None,
               point_fields: Mapping[str, np.ndarray] | None = None,
-              compression: str | None = None) -> Path:
+              compression: str | None = None, centre=None) -> Path:
     """Write one load case's result as a VTK unstructured-grid file.
 
     Parameters
@@ -79,6 +79,9 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     compression : {None, "zlib", "lzma"}
         Compression of the binary data blocks. None (default): raw binary, written at disk speed
         (ten times faster than zlib, for a file about a third larger).
+    centre : (float, float), optional
+        Also write the polar stresses about this point (``sigma_r``, ``sigma_theta``,
+        ``tau_r_theta``; :func:`planar.core.fields.polar_stress`), e.g. about a hole's centre.
 
     Returns
     -------
@@ -86,6 +89,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
     """
     result = as_result(result, "write_vtu")
     path = vtu_target(path, compression)
+    centre = None if centre is None else as_centre(centre, "the polar stresses")
     mesh = result.mesh
     pts = np.column_stack([mesh.nodes, np.zeros(mesh.n_nodes)])
     layouts = list(mesh.cells)
@@ -97,8 +101,10 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
         s, szz = result.nodal_stress(recovery)
     meas = stress_measures(s, szz)
     pdata = {"displacement": np.column_stack([result.u, np.zeros(mesh.n_nodes)])}
-    for k in field_names(unit="stress"):  # the stress fields of the one field table
+    for k in field_names(kind="stress", unit="stress"):  # the stress fields of the one field table
         pdata[k] = np.ascontiguousarray(meas[k])
+    if centre is not None:
+        pdata.update(polar_stress(s, mesh.nodes, centre))
     pdata["reaction"] = np.column_stack([result.reactions, np.zeros(mesh.n_nodes)])
     for k, v in (point_fields or {}).items():
         pdata[k] = _field_array(f"point field {k!r}", v, mesh.n_nodes, "nodes")
