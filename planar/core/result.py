@@ -15,7 +15,7 @@ import numpy as np
 from .caseresult import CaseResult, as_result, as_results
 from .compat import renamed_keywords
 from .errors import InputError
-from .fields import FIELD_TABLE, names
+from .fields import FIELD_TABLE, as_centre, names, polar_stress
 from .recovery import METHODS, recover
 from .stress import extrapolation_matrix, nodal_average, stress_at, stress_measures, stress_rule
 
@@ -25,6 +25,7 @@ __all__ = ["Result", "GaussField", "Extreme", "stress_measures", "FIELDS", "FIEL
 #: fields a user can ask for by name (from the one table, :data:`planar.core.fields.FIELD_TABLE`)
 STRESS_FIELDS = names(kind="stress")
 STRAIN_FIELDS = names(kind="strain")
+POLAR_FIELDS = names(kind="polar")
 FIELDS = tuple(FIELD_TABLE)
 
 
@@ -183,7 +184,7 @@ class Result(CaseResult):
                              empty=0.0)
 
     @renamed_keywords(name="field", method="recovery")
-    def field(self, field: str, *, recovery: str = "spr") -> np.ndarray:
+    def field(self, field: str, *, recovery: str = "spr", centre=None) -> np.ndarray:
         """A nodal field by name.
 
         Parameters
@@ -191,15 +192,26 @@ class Result(CaseResult):
         field : str
             ``ux``, ``uy``, ``displacement`` (magnitude), a stress name (``sigma_xx``, ``sigma_yy``,
             ``tau_xy``, ``sigma_zz``, ``von_mises``, ``tresca``, ``sigma_1``, ``sigma_2``,
-            ``principal_angle``) or a strain name (``eps_xx``, ``eps_yy``, ``gamma_xy``).
+            ``principal_angle``), a strain name (``eps_xx``, ``eps_yy``, ``gamma_xy``) or a polar
+            stress about ``centre`` (``sigma_r`` radial, ``sigma_theta`` hoop, ``tau_r_theta``).
         recovery : {"spr", "average"}
             Stress recovery (see :meth:`nodal_stress`); SPR by default.
+        centre : (float, float), optional
+            Origin of the polar axes, needed by the polar fields (e.g. the centre of a hole).
 
         Returns
         -------
         ndarray, shape (n,)
+
+        Raises
+        ------
+        InputError
+            An unknown field, or a polar field without a centre.
         """
         name = field
+        if name in POLAR_FIELDS:
+            c = as_centre(centre, f"the polar field {name!r}")
+            return polar_stress(self.nodal_stress(recovery)[0], self.mesh.nodes, c)[name]
         if name == "ux":
             return self.u[:, 0].copy()
         if name == "uy":
@@ -247,12 +259,18 @@ class Result(CaseResult):
         return self._extreme(v, int(np.argmin(np.where(used, v, np.inf))))
 
     @renamed_keywords(name="field", method="recovery")
-    def at(self, points, field: str, *, recovery: str = "spr") -> np.ndarray:
+    def at(self, points, field: str, *, recovery: str = "spr", centre=None) -> np.ndarray:
         """Values of a field at points inside the mesh, interpolated with the shape functions.
 
         Parameters
         ----------
         points : array_like, shape (p, 2) or (2,)
+        field : str
+            A name of :meth:`field`.
+        recovery : {"spr", "average"}
+        centre : (float, float), optional
+            Origin of the polar axes for ``sigma_r``, ``sigma_theta`` and ``tau_r_theta`` (the
+            Cartesian stresses are interpolated, then turned at each point).
 
         Returns
         -------
@@ -266,21 +284,27 @@ class Result(CaseResult):
         from .locate import locate
 
         pts = np.atleast_2d(np.asarray(points, dtype=float))
-        v = self.field(field, recovery=recovery)
+        if field in POLAR_FIELDS:
+            c = as_centre(centre, f"the polar field {field!r}")
+            v = self.nodal_stress(recovery)[0]
+        else:
+            v = self.field(field, recovery=recovery)
         blk, cell, xi = locate(self.mesh, pts)
-        out = np.empty(pts.shape[0])
+        out = np.empty((pts.shape[0],) + v.shape[1:])
         for layout, conn in self.mesh.cells.items():
             sel = blk == layout
             if not np.any(sel):
                 continue
             et = [b.etype for b in self.assembly.blocks if b.layout == layout][0]
             N = et.shape(xi[sel])
-            out[sel] = np.einsum("pk,pk->p", N, v[conn[cell[sel]]])
+            out[sel] = np.einsum("pk,pk...->p...", N, v[conn[cell[sel]]])
+        if field in POLAR_FIELDS:
+            out = polar_stress(out, pts, c)[field]
         return out if np.ndim(points) > 1 else float(out[0])
 
     @renamed_keywords(name="field", method="recovery")
-    def along(self, start, end, field: str, *, n_points: int = 101, recovery: str = "spr"):
-        """A field along the straight path from ``start`` to ``end``.
+    def along(self, start, end, field: str, *, n_points: int = 101, recovery: str = "spr", centre=None):
+        """A field along the straight path from ``start`` to ``end`` (``centre``: as for :meth:`at`).
 
         Returns
         -------
@@ -293,7 +317,7 @@ class Result(CaseResult):
         a, b = np.asarray(start, float), np.asarray(end, float)
         t = np.linspace(0.0, 1.0, int(n_points))
         pts = a + t[:, None] * (b - a)
-        return t * np.hypot(*(b - a)), pts, self.at(pts, field, recovery=recovery)
+        return t * np.hypot(*(b - a)), pts, self.at(pts, field, recovery=recovery, centre=centre)
 
     # ------------------------------------------------------------------ totals
     @property

@@ -435,7 +435,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
 def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=None,
                scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool = True,
                levels: int | None = None, cmap: str | None = None, units: str | None = None,
-               title: str | None = None, subdivisions=None, window=None, ax=None):
+               title: str | None = None, subdivisions=None, window=None, ax=None, centre=None):
     """Contour of a result field on the deformed shape.
 
     Parameters
@@ -460,6 +460,8 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
         Default: the field and the load case.
     levels, cmap, subdivisions, window, ax
         As for :func:`plot_nodal_field`.
+    centre : (float, float), optional
+        Origin of the polar axes of ``sigma_r``, ``sigma_theta`` and ``tau_r_theta``.
 
     Returns
     -------
@@ -478,7 +480,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     '$\\\\sigma_{xx}$ [MPa]'
     """
     result = as_result(result, "plot_field")
-    values = result.field(field, recovery=recovery)
+    values = result.field(field, recovery=recovery, centre=centre)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)
     etypes = {b.layout: b.etype for b in result.assembly.blocks}
