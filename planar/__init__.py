@@ -39,6 +39,7 @@ from .core.model import Model
 from .core.result import Extreme, Result
 from .core.static import solve
 from .core.supports import Fixed, Prescribed, Roller, Symmetry
+from .core.zones import Away, InBox, InCircle, InRegion, Near, OnEdge, Zone
 from .geometry.structured import rectangle_mesh
 from .post.vtk import write_vtu
 from .paths import output_dir  # the output folder of a script run by ``planar run SCRIPT --out DIR``
@@ -47,6 +48,7 @@ __all__ = [
     "Mesh", "Model", "Result", "Extreme", "ElementType", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic",
     "Fixed", "Roller", "Prescribed", "Symmetry",
+    "Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away",
     "Traction", "Pressure", "PointForce", "BodyForce", "Gravity", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
     "SupportError", "SolverError", "PluginError", "GeometryError", "ResourceError", "OutputError",

@@ -334,6 +334,11 @@ class LoadKind:
     def describe(self) -> str:
         return self.name
 
+    def concentrated_nodes(self, mesh) -> np.ndarray:
+        """Nodes where this load is concentrated (a point force): peaks next to them are flagged as made by
+        the idealisation (:mod:`planar.core.zones`). Distributed loads return no nodes."""
+        return np.zeros(0, dtype=np.int64)
+
 
 class Traction(LoadKind):
     """Distributed force per unit area on a named edge.
@@ -484,6 +489,11 @@ class PointForce(LoadKind):
         out = np.zeros((ctx.n_nodes, 2))
         out[self.node(ctx)] = (self.fx, self.fy)
         return out
+
+    def concentrated_nodes(self, mesh) -> np.ndarray:
+        if isinstance(self.where, str):
+            return np.asarray(mesh.nodes_of(self.where), dtype=np.int64)
+        return np.array([mesh.nearest_node(self.where)], dtype=np.int64)
 
     def describe(self):
         return repr(self)

@@ -29,7 +29,13 @@ POLAR_FIELDS = names(kind="polar")
 FIELDS = tuple(FIELD_TABLE)
 
 
-class Extreme(NamedTuple):
+class _ExtremeTuple(NamedTuple):
+    value: float
+    location: tuple[float, float]
+    node: int
+
+
+class Extreme(_ExtremeTuple):
     """The largest or smallest value of a nodal field (unpacks as ``value, location, node``).
 
     Attributes
@@ -37,11 +43,22 @@ class Extreme(NamedTuple):
     value : float
     location : (float, float)
     node : int
+    where : str
+        Where it was looked for (``"everywhere"``, or the zone's description, e.g. ``"on edge 'fillet'"``).
+    note : str
+        Why the value is not the part's own when it sits next to an idealised support or concentrated load
+        (:func:`planar.core.zones.idealised_reason`); ``""`` otherwise.
     """
 
-    value: float
-    location: tuple[float, float]
-    node: int
+    def __new__(cls, value: float, location: tuple[float, float], node: int, where: str = "everywhere",
+                note: str = ""):
+        self = super().__new__(cls, value, location, node)
+        self.where = where
+        self.note = note
+        return self
+
+    def __getnewargs__(self):
+        return (self.value, self.location, self.node, self.where, self.note)
 
 
 @dataclass
@@ -227,11 +244,42 @@ class Result(CaseResult):
         raise InputError(f"unknown field {name!r}; pick one of {', '.join(FIELDS)}")
 
     # ------------------------------------------------------------------ queries
-    def _extreme(self, v: np.ndarray, i: int) -> Extreme:
-        return Extreme(float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i)
+    def _extreme(self, v: np.ndarray, i: int, where: str = "everywhere", note: str = "") -> Extreme:
+        return Extreme(float(v[i]), (float(self.mesh.nodes[i, 0]), float(self.mesh.nodes[i, 1])), i, where, note)
+
+    def zone_mask(self, where) -> tuple[np.ndarray, str]:
+        """(mask over the nodes, description) of a zone (:mod:`planar.core.zones`) or an edge/region name.
+
+        Only nodes of cells count; an empty zone is an InputError naming it.
+        """
+        from .zones import as_zone
+
+        used = self.mesh.used_nodes()
+        zone = as_zone(where, self.mesh)
+        if zone is None:
+            return used, "everywhere"
+        m = zone.mask(self) & used
+        if not m.any():
+            raise InputError(f"no node of the mesh lies {zone.describe()}: widen the zone or check its name and "
+                             "coordinates")
+        return m, zone.describe()
+
+    def _peak(self, field: str, recovery: str, where, *, largest: bool, absolute: bool = False) -> Extreme:
+        from .zones import idealised_reason
+
+        v = self.field(field, recovery=recovery)
+        mask, said = self.zone_mask(where)
+        a = np.abs(v) if absolute else v
+        i = int(np.argmax(np.where(mask, a, -np.inf))) if largest else int(np.argmin(np.where(mask, a, np.inf)))
+        note = ""
+        if largest or not absolute:
+            # a smallest (most compressive) value is flagged on its magnitude, the same way
+            note = idealised_reason(self, i, a if largest else -a, mask, sign_of_values=1.0 if largest else -1.0)
+        return self._extreme(v, i, said, note)
 
     @renamed_keywords(name="field", method="recovery")
-    def max(self, field: str = "von_mises", *, recovery: str = "spr", absolute: bool = False) -> Extreme:
+    def max(self, field: str = "von_mises", *, recovery: str = "spr", absolute: bool = False,
+            where=None) -> Extreme:
         """Largest value of a nodal field and where it occurs.
 
         Parameters
@@ -240,23 +288,25 @@ class Result(CaseResult):
         recovery : {"spr", "average"}
         absolute : bool
             The largest magnitude instead of the largest signed value (the value keeps its sign).
+        where : str or Zone, optional
+            Read the peak only here: the name of an edge or region, or a zone of
+            :mod:`planar.core.zones` (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``,
+            ``Away``, combined with ``&``). Default: everywhere.
 
         Returns
         -------
         Extreme
-            ``(value, location, node)``; unpacks as a tuple.
+            ``(value, location, node)``; unpacks as a tuple. Its ``where`` says where it was looked
+            for, and its ``note`` why the value is not the part's own when it sits next to an
+            idealised support or concentrated load (``""`` otherwise); Kt, margins and the report
+            print the note beside the value.
         """
-        v = self.field(field, recovery=recovery)
-        used = self.mesh.used_nodes()
-        w = np.where(used, np.abs(v) if absolute else v, -np.inf)
-        return self._extreme(v, int(np.argmax(w)))
+        return self._peak(field, recovery, where, largest=True, absolute=absolute)
 
     @renamed_keywords(name="field", method="recovery")
-    def min(self, field: str, *, recovery: str = "spr") -> Extreme:
-        """Smallest value of a nodal field, with location and node (an :class:`Extreme`)."""
-        v = self.field(field, recovery=recovery)
-        used = self.mesh.used_nodes()
-        return self._extreme(v, int(np.argmin(np.where(used, v, np.inf))))
+    def min(self, field: str, *, recovery: str = "spr", where=None) -> Extreme:
+        """Smallest value of a nodal field, with location and node (an :class:`Extreme`); ``where`` as in :meth:`max`."""
+        return self._peak(field, recovery, where, largest=False)
 
     @renamed_keywords(name="field", method="recovery")
     def at(self, points, field: str, *, recovery: str = "spr", centre=None) -> np.ndarray:
@@ -353,13 +403,15 @@ class Result(CaseResult):
         return float(equilibrium_errors(self.assembly, self.reactions[:, :, None], self.applied[:, :, None])[0])
 
     def summary(self) -> dict[str, Any]:
-        vm, loc, _ = self.max("von_mises")
+        peak = self.max("von_mises")
+        vm, loc, _ = peak
         return {
             "case": self.case,
             "dofs": self.n_dofs,
             "max_displacement": float(np.hypot(self.u[:, 0], self.u[:, 1]).max()),
             "peak_von_mises": vm,
             "peak_location": loc,
+            "peak_note": peak.note,
             "reaction": self.total_reaction().tolist(),
             "applied": self.total_applied().tolist(),
             "equilibrium_error": self.equilibrium_error(),

@@ -87,6 +87,9 @@ class Support:
     """Base of the supports. ``where`` names an edge or point set, or is a point (x, y)."""
 
     where: str | tuple[float, float]
+    #: an idealisation of how the part is held (True), so a peak next to it is flagged
+    #: (:mod:`planar.core.zones`); a symmetry plane is exact (False)
+    idealised = True
     #: (node, its coordinates, distance from the point given) once a support at coordinates is placed
     snapped: tuple[int, tuple[float, float], float] | None = None
 
@@ -214,6 +217,8 @@ class Roller(Support):
 
 class Symmetry(Roller):
     """Symmetry line: the displacement normal to a straight named edge is zero."""
+
+    idealised = False  # exact for a symmetric part under symmetric loads
 
     def __init__(self, where: str):
         super().__init__(where, "normal")

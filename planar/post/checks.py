@@ -180,18 +180,24 @@ class StressConcentration(_OldMethodName):
     location: tuple[float, float]
     node: int
     caution: str = CAUTION
+    #: where the peak was read (``"everywhere"`` or a zone's description)
+    where: str = "everywhere"
+    #: why the peak is not the part's own, when it sits next to an idealised support or load ("" otherwise)
+    note: str = ""
 
     def summary(self) -> str:
         x, y = self.location
-        return (f"Kt = {self.Kt:.4g} ({self.field} peak {self.peak:.6g} at {_where(x, y)} over nominal "
-                f"{self.nominal:.6g}, {self.recovery} recovery). {self.caution}")
+        zone = "" if self.where == "everywhere" else f" {self.where}"
+        note = f" CAUTION: the peak sits {self.note}." if self.note else ""
+        return (f"Kt = {self.Kt:.4g} ({self.field} peak{zone} {self.peak:.6g} at {_where(x, y)} over nominal "
+                f"{self.nominal:.6g}, {self.recovery} recovery).{note} {self.caution}")
 
     __str__ = summary
 
 
 @renamed_keywords(method="recovery")
 def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr",
-       absolute: bool = False) -> StressConcentration:
+       absolute: bool = False, where=None) -> StressConcentration:
     """Stress concentration factor of a result.
 
     Parameters
@@ -206,6 +212,10 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
         Nodal recovery of the peak.
     absolute : bool
         Take the largest magnitude instead of the largest signed value (for compressive peaks).
+    where : str or Zone, optional
+        Read the peak of the feature under check only: an edge or region name, or a zone
+        (:mod:`planar.core.zones`: ``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``,
+        ``Away``). Default everywhere; a peak next to an idealised support or load is noted.
 
     Returns
     -------
@@ -225,14 +235,15 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
         raise InputError(f"nominal must be a stress value, got {nominal!r}") from None
     if not math.isfinite(nom) or nom == 0:
         raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
-    peak, loc, node = result.max(field, recovery=recovery, absolute=absolute)
+    ext = result.max(field, recovery=recovery, absolute=absolute, where=where)
+    peak, loc, node = ext
     if nom < 0:
         warn(f"negative nominal stress {nom:.6g} in Kt (load case {result.case!r}, {field} peak {peak:.6g} at "
              f"{_where(*loc)}): a stress concentration factor is a ratio of tension figures, so a "
              f"compressive nominal gives Kt = {peak / nom:.4g}, with a misleading sign; give the nominal as "
              "a positive magnitude (and absolute=True for a compressive peak)",
              "negative-nominal", category=PlanarWarning, sink=result.warnings)
-    return StressConcentration(peak / nom, peak, nom, field, recovery, loc, node)
+    return StressConcentration(peak / nom, peak, nom, field, recovery, loc, node, where=ext.where, note=ext.note)
 
 
 @dataclass
@@ -260,6 +271,10 @@ class Margin(_OldMethodName):
     recovery: str
     location: tuple[float, float]
     caution: str = CAUTION
+    #: where the peak was read (``"everywhere"``, a zone's description, or ``"given"``)
+    where: str = "everywhere"
+    #: why the peak is not the part's own, when it sits next to an idealised support or load ("" otherwise)
+    note: str = ""
 
     @property
     def passed(self) -> bool:
@@ -269,16 +284,18 @@ class Margin(_OldMethodName):
     def summary(self) -> str:
         x, y = self.location
         verdict = "holds" if self.passed else "DOES NOT hold"
+        zone = "" if self.where in ("everywhere", "given") else f" {self.where}"
+        note = f" CAUTION: the peak sits {self.note}." if self.note else ""
         return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g} / "
-                f"({self.factor_of_safety:g} x {self.field} peak {self.peak:.6g} at {_where(x, y)}) - 1, "
-                f"{self.recovery} recovery. {self.caution}")
+                f"({self.factor_of_safety:g} x {self.field} peak{zone} {self.peak:.6g} at {_where(x, y)}) - 1, "
+                f"{self.recovery} recovery.{note} {self.caution}")
 
     __str__ = summary
 
 
 @renamed_keywords(method="recovery")
 def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float = 1.0, *,
-                     field: str = "von_mises", recovery: str = "spr") -> Margin:
+                     field: str = "von_mises", recovery: str = "spr", where=None) -> Margin:
     """Margin of safety of the peak stress against an allowable.
 
     Parameters
@@ -292,6 +309,8 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
     field : str
         Stress field of the peak (ignored for a given peak value).
     recovery : {"spr", "average"}
+    where : str or Zone, optional
+        Read the peak of the feature under check only (as in :func:`kt`); ignored for a given peak.
 
     Returns
     -------
@@ -315,12 +334,15 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         if not math.isfinite(peak):
             raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
         loc, fname, meth = (float("nan"), float("nan")), "given", "given"
+        said, note = "given", ""
     else:
         result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
         _check_field(field)
         _check_recovery(recovery)
-        peak, loc, _ = result_or_peak.max(field, recovery=recovery, absolute=True)
+        ext = result_or_peak.max(field, recovery=recovery, absolute=True, where=where)
+        peak, loc, _ = ext
         peak = abs(peak)
+        said, note = ext.where, ext.note
         fname, meth = field, recovery
         sink = result_or_peak.warnings
     if fs < 1.0:
@@ -329,7 +351,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
              "(e.g. 1.5 on limit loads), or lower the allowable for a known knock-down instead",
              "factor-of-safety", category=PlanarWarning, sink=sink)
     ms = math.inf if peak == 0 else allow / (fs * peak) - 1.0
-    return Margin(ms, allow, fs, peak, fname, meth, loc)
+    return Margin(ms, allow, fs, peak, fname, meth, loc, where=said, note=note)
 
 
 # ---------------------------------------------------------------------------- cuts and paths

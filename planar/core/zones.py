@@ -1,0 +1,438 @@
+"""Where a peak is read: zones of a part, and the idealised supports and loads a peak may sit next to.
+
+A stress check reads the peak of the feature under check (a fillet, a hole, a notch), not the
+peak of the whole plate: a clamped bolt hole or a point force makes a peak of its own that belongs
+to how the part was idealised, not to the part. Every function that takes a peak (``Result.max``,
+``Kt``, margins, envelopes, hot spots, the report) takes ``where=``, one of the zones below or a
+name:
+
+- ``OnEdge("fillet")``: the nodes of a named edge;
+- ``InRegion("web")``: the nodes of a named region's cells;
+- ``InCircle((x, y), r)`` and ``InBox((x0, y0), (x1, y1))``: a window;
+- ``Near("bolt_centre", r)``: the neighbourhood of a named point (or coordinates);
+- ``Away(d)``: everywhere except within ``d`` of the idealised supports and concentrated loads
+  (``Away()``: except the few elements next to them);
+- ``a & b``: both.
+
+A name alone (``where="fillet"``) is the edge or region of that name.
+
+Idealised supports are every support except symmetry planes (which are exact); concentrated loads
+are point forces (and any load kind whose :meth:`~planar.core.loads.LoadKind.concentrated_nodes`
+names nodes). A node is *next to* one of them when it lies within ``NEAR_ELEMENTS`` local element
+sizes of its nodes. A peak next to one is flagged with the reason (:func:`idealised_reason`).
+
+Examples
+--------
+>>> import planar
+>>> mesh = planar.rectangle_mesh(100.0, 20.0, 20, 4, "Q8")
+>>> model = planar.Model(mesh, planar.Isotropic(70e3, 0.33), thickness=2.0)
+>>> model.add_support(planar.Fixed("left"))
+Fixed('left')
+>>> model.add_load(planar.Traction("right", ty=-1.0), case="tip")
+Traction('right', tx=None, ty=-1)
+>>> r = planar.solve(model)["tip"]
+>>> peak = r.max("von_mises")
+>>> peak.note.startswith("next to the support Fixed('left')")
+True
+>>> away = r.max("von_mises", where=Away(20.0))
+>>> away.location[0] >= 20.0, away.note
+(True, '')
+"""
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError, NameNotFoundError, choices, fmt_point, unknown_name
+
+__all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away", "as_zone", "idealisations",
+           "idealised_reason", "near_idealised", "node_sizes", "NEAR_ELEMENTS", "DOMINANCE"]
+
+#: a node within this many local element sizes of an idealised support's or concentrated load's nodes
+#: is "next to" it: a singular or idealisation-made peak sits at those nodes or in the ring of
+#: elements around them, whatever the mesh size (common practice: read stresses a few elements away
+#: from a point of support or load, St Venant's principle)
+NEAR_ELEMENTS = 2.0
+#: a peak next to an idealisation is flagged when it exceeds the largest value away from every
+#: idealisation by more than this fraction (a uniform field whose maximum happens to be at a
+#: support is not an idealisation's peak)
+DOMINANCE = 0.01
+
+
+def _xy(p, what: str) -> np.ndarray:
+    try:
+        a = np.asarray(p, dtype=float).reshape(-1)
+    except (TypeError, ValueError):
+        a = np.zeros(0)
+    if a.shape != (2,) or not np.all(np.isfinite(a)):
+        raise InputError(f"{what} must be a point (x, y) of finite numbers, got {p!r}")
+    return a
+
+
+def _length(v, what: str) -> float:
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        x = float("nan")
+    if isinstance(v, bool) or not np.isfinite(x) or x <= 0:
+        raise InputError(f"{what} must be a positive length, got {v!r}")
+    return x
+
+
+def _parts(result) -> tuple[Any, Any]:
+    """(mesh, model) of a Result (or of a model, or of a mesh alone: model None)."""
+    model = getattr(result, "model", None)
+    mesh = getattr(result, "mesh", None)
+    if mesh is None and hasattr(result, "nodes"):
+        mesh = result
+    if mesh is None:
+        raise InputError(f"a zone is read on a result, a model or a mesh, got {type(result).__name__}")
+    return mesh, model
+
+
+class Zone:
+    """Where a peak is read: a set of nodes of the mesh. Combine zones with ``&``."""
+
+    def mask(self, result) -> np.ndarray:
+        """Boolean mask over the mesh nodes (True inside the zone) for a Result (or Model, or Mesh)."""
+        raise NotImplementedError
+
+    def describe(self) -> str:
+        """A short phrase for tables and messages (e.g. ``"on edge 'fillet'"``)."""
+        raise NotImplementedError
+
+    def __and__(self, other: "Zone") -> "Zone":
+        if not isinstance(other, Zone):
+            return NotImplemented
+        return _Both(self, other)
+
+    def __str__(self) -> str:
+        return self.describe()
+
+
+class _Both(Zone):
+    def __init__(self, a: Zone, b: Zone):
+        self.a, self.b = a, b
+
+    def mask(self, result) -> np.ndarray:
+        return self.a.mask(result) & self.b.mask(result)
+
+    def describe(self) -> str:
+        return f"{self.a.describe()} and {self.b.describe()}"
+
+    def __repr__(self) -> str:
+        return f"{self.a!r} & {self.b!r}"
+
+
+class OnEdge(Zone):
+    """The nodes of a named edge (a hole, a fillet, a notch root)."""
+
+    def __init__(self, name: str):
+        if not isinstance(name, str) or not name:
+            raise InputError(f"OnEdge needs the name of an edge, got {name!r}")
+        self.name = name
+
+    def mask(self, result) -> np.ndarray:
+        mesh, _ = _parts(result)
+        m = np.zeros(mesh.n_nodes, dtype=bool)
+        m[np.asarray(mesh.edge(self.name)).ravel()] = True
+        return m
+
+    def describe(self) -> str:
+        return f"on edge {self.name!r}"
+
+    def __repr__(self) -> str:
+        return f"OnEdge({self.name!r})"
+
+
+class InRegion(Zone):
+    """The nodes of the cells of a named region (``"plate"``: the cells in no named region)."""
+
+    def __init__(self, name: str):
+        if not isinstance(name, str) or not name:
+            raise InputError(f"InRegion needs the name of a region, got {name!r}")
+        self.name = name
+
+    def mask(self, result) -> np.ndarray:
+        mesh, _ = _parts(result)
+        m = np.zeros(mesh.n_nodes, dtype=bool)
+        for layout, cells in mesh.region_cells(self.name).items():
+            m[mesh.cells[layout][np.asarray(cells)].ravel()] = True
+        return m
+
+    def describe(self) -> str:
+        return f"in region {self.name!r}"
+
+    def __repr__(self) -> str:
+        return f"InRegion({self.name!r})"
+
+
+class InCircle(Zone):
+    """The nodes within ``radius`` of ``centre`` (a round window)."""
+
+    def __init__(self, centre, radius: float):
+        self.centre = _xy(centre, "the window's centre")
+        self.radius = _length(radius, "the window's radius")
+
+    def mask(self, result) -> np.ndarray:
+        mesh, _ = _parts(result)
+        d = mesh.nodes - self.centre
+        return d[:, 0] ** 2 + d[:, 1] ** 2 <= self.radius ** 2 * (1 + 1e-12)
+
+    def describe(self) -> str:
+        return f"within {self.radius:g} of {fmt_point(self.centre)}"
+
+    def __repr__(self) -> str:
+        return f"InCircle({fmt_point(self.centre)}, {self.radius:g})"
+
+
+class InBox(Zone):
+    """The nodes inside the box from ``lower_left`` (x0, y0) to ``upper_right`` (x1, y1), edges included."""
+
+    def __init__(self, lower_left, upper_right):
+        self.lo = _xy(lower_left, "the box's lower-left corner")
+        self.hi = _xy(upper_right, "the box's upper-right corner")
+        if np.any(self.hi <= self.lo):
+            raise InputError(f"the box's upper-right corner {fmt_point(self.hi)} must lie above and right of its "
+                             f"lower-left corner {fmt_point(self.lo)}")
+
+    def mask(self, result) -> np.ndarray:
+        mesh, _ = _parts(result)
+        x, y = mesh.nodes[:, 0], mesh.nodes[:, 1]
+        tol = 1e-12 * max(mesh.size(), 1e-300)
+        return (x >= self.lo[0] - tol) & (x <= self.hi[0] + tol) & (y >= self.lo[1] - tol) & (y <= self.hi[1] + tol)
+
+    def describe(self) -> str:
+        return f"in the box {fmt_point(self.lo)} to {fmt_point(self.hi)}"
+
+    def __repr__(self) -> str:
+        return f"InBox({fmt_point(self.lo)}, {fmt_point(self.hi)})"
+
+
+class Near(Zone):
+    """The nodes within ``radius`` of a named point (its node, or the centroid of its nodes) or of (x, y)."""
+
+    def __init__(self, point, radius: float):
+        if isinstance(point, str):
+            if not point:
+                raise InputError("Near needs a point name or coordinates (x, y), got ''")
+            self.point: str | np.ndarray = point
+        else:
+            self.point = _xy(point, "the point")
+        self.radius = _length(radius, "the radius around the point")
+
+    def centre(self, mesh) -> np.ndarray:
+        if isinstance(self.point, str):
+            if self.point not in mesh.node_sets:
+                raise unknown_name("point", self.point, mesh.names()["points"] + mesh.names()["edges"])
+            return mesh.nodes[np.asarray(mesh.node_sets[self.point])].mean(axis=0)
+        return self.point
+
+    def mask(self, result) -> np.ndarray:
+        mesh, _ = _parts(result)
+        d = mesh.nodes - self.centre(mesh)
+        return d[:, 0] ** 2 + d[:, 1] ** 2 <= self.radius ** 2 * (1 + 1e-12)
+
+    def describe(self) -> str:
+        p = repr(self.point) if isinstance(self.point, str) else fmt_point(self.point)
+        return f"within {self.radius:g} of {p}"
+
+    def __repr__(self) -> str:
+        p = repr(self.point) if isinstance(self.point, str) else fmt_point(self.point)
+        return f"Near({p}, {self.radius:g})"
+
+
+class Away(Zone):
+    """Everywhere except near the idealised supports and concentrated loads.
+
+    Parameters
+    ----------
+    distance : float, optional
+        Leave out the nodes within this distance of a support's or concentrated load's nodes. Default:
+        within ``NEAR_ELEMENTS`` local element sizes (the ring of elements a singular peak sits in).
+    supports, loads : bool
+        Which idealisations to keep away from (both by default). Symmetry planes are exact, not
+        idealisations, and never count.
+    """
+
+    def __init__(self, distance: float | None = None, *, supports: bool = True, loads: bool = True):
+        self.distance = None if distance is None else _length(distance, "the distance from supports and loads")
+        self.supports, self.loads = bool(supports), bool(loads)
+        if not (self.supports or self.loads):
+            raise InputError("Away needs supports=True, loads=True or both: keep away from what?")
+
+    def mask(self, result) -> np.ndarray:
+        mesh, model = _parts(result)
+        if model is None:
+            raise InputError("Away(...) is read on a result or a model (it needs the supports and loads)")
+        near, _ = near_idealised(mesh, model, np.arange(mesh.n_nodes), distance=self.distance,
+                                 supports=self.supports, loads=self.loads)
+        return ~near
+
+    def describe(self) -> str:
+        what = " and ".join(w for w, on in (("supports", self.supports), ("concentrated loads", self.loads)) if on)
+        if self.distance is None:
+            return f"away from {what} (beyond {NEAR_ELEMENTS:g} elements)"
+        return f"at least {self.distance:g} from {what}"
+
+    def __repr__(self) -> str:
+        extra = "".join(f", {k}=False" for k, on in (("supports", self.supports), ("loads", self.loads)) if not on)
+        return f"Away({'' if self.distance is None else format(self.distance, 'g')}{extra})"
+
+
+def as_zone(where, mesh=None) -> Zone | None:
+    """A zone from what a user gave: None (everywhere), a Zone, or the name of an edge or region.
+
+    Raises
+    ------
+    NameNotFoundError
+        A name that is neither an edge nor a region of the mesh (the message lists both), or a named
+        point without a radius.
+    """
+    if where is None or isinstance(where, Zone):
+        return where
+    if isinstance(where, str):
+        if mesh is None:
+            return OnEdge(where)
+        if where in mesh.edge_sets:
+            return OnEdge(where)
+        if where in mesh.region_names():
+            return InRegion(where)
+        if where in mesh.node_sets:
+            raise NameNotFoundError(f"{where!r} is a named point: give the neighbourhood to search, e.g. "
+                                    f"where=planar.Near({where!r}, radius)")
+        names = mesh.names()
+        raise NameNotFoundError(f"no edge or region named {where!r}; edges: {choices(names['edges'])}; regions: "
+                                f"{choices(names['regions'])} (or give a zone: OnEdge, InRegion, InCircle, InBox, "
+                                "Near, Away)")
+    raise InputError(f"where= takes the name of an edge or region, or a zone (OnEdge, InRegion, InCircle, InBox, "
+                     f"Near, Away), got {type(where).__name__}")
+
+
+# ---------------------------------------------------------------------------- idealisations
+def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> list[tuple[str, np.ndarray]]:
+    """The idealised supports and concentrated loads of a model: (description, node ids) pairs.
+
+    Symmetry planes are exact and not listed. Concentrated loads are listed once, from every load case.
+    """
+    out: list[tuple[str, np.ndarray]] = []
+    if supports:
+        for s in getattr(model, "supports", ()):
+            if not getattr(s, "idealised", True):
+                continue
+            try:
+                nodes = np.asarray(s.nodes(mesh), dtype=np.int64).ravel()
+            except Exception:  # noqa: BLE001 - a support that cannot name its nodes is not flagged
+                continue
+            if nodes.size:
+                out.append((f"the support {s!r}", nodes))
+    if loads:
+        seen = set()
+        for case, items in getattr(model, "cases", {}).items():
+            for load in items:
+                get = getattr(load, "concentrated_nodes", None)
+                nodes = np.asarray(get(mesh) if get is not None else [], dtype=np.int64).ravel()
+                key = repr(load)
+                if nodes.size and key not in seen:
+                    seen.add(key)
+                    out.append((f"the concentrated load {load!r}", nodes))
+    return out
+
+
+def node_sizes(mesh) -> np.ndarray:
+    """The local element size at every node: the largest square root of the area of the cells at it.
+
+    Cached on the mesh. Cell areas from the corner polygon (the first three or four nodes).
+    """
+    cached = getattr(mesh, "_planar_node_sizes", None)
+    if cached is not None and cached.shape[0] == mesh.n_nodes:
+        return cached
+    h = np.zeros(mesh.n_nodes)
+    for layout, conn in mesh.cells.items():
+        conn = np.asarray(conn)
+        k = 4 if layout.startswith("Q") and conn.shape[1] >= 4 else 3
+        p = mesh.nodes[conn[:, :k]]
+        x, y = p[..., 0], p[..., 1]
+        area = 0.5 * np.abs(np.sum(x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y, axis=1))
+        size = np.sqrt(area)
+        np.maximum.at(h, conn.ravel(), np.repeat(size, conn.shape[1]))
+    try:
+        object.__setattr__(mesh, "_planar_node_sizes", h)
+    except (AttributeError, TypeError):
+        pass
+    return h
+
+
+def near_idealised(mesh, model, nodes, *, distance: float | None = None, supports: bool = True,
+                   loads: bool = True) -> tuple[np.ndarray, list[str]]:
+    """Which of ``nodes`` lie next to an idealised support or concentrated load, and which one.
+
+    Returns
+    -------
+    near : ndarray of bool, shape (len(nodes),)
+    reasons : list of str
+        For each node, the description of the nearest idealisation it is next to (``""`` if none).
+    """
+    from scipy.spatial import cKDTree
+
+    nodes = np.asarray(nodes, dtype=np.int64).ravel()
+    near = np.zeros(nodes.size, dtype=bool)
+    reasons = [""] * nodes.size
+    items = idealisations(mesh, model, supports=supports, loads=loads)
+    if not items or nodes.size == 0:
+        return near, reasons
+    pts = mesh.nodes[nodes]
+    limit = NEAR_ELEMENTS * node_sizes(mesh)[nodes] if distance is None else np.full(nodes.size, distance)
+    best = np.full(nodes.size, np.inf)
+    which = np.full(nodes.size, -1)
+    for k, (_, ids) in enumerate(items):
+        d, _ = cKDTree(mesh.nodes[np.unique(ids)]).query(pts)
+        better = d < best
+        best[better], which[better] = d[better], k
+    near = best <= limit * (1 + 1e-9)
+    reasons = [items[w][0] if ok else "" for w, ok in zip(which, near)]
+    return near, reasons
+
+
+def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | None = None, *,
+                     absolute: bool = False, sign_of_values: float = 1.0) -> str:
+    """Why a peak at ``node`` is not the part's own, or ``""``.
+
+    The peak is flagged when ``node`` lies next to an idealised support or concentrated load and its
+    value exceeds the largest value of ``values`` (within ``mask``) away from every idealisation by
+    more than ``DOMINANCE``: the peak is then made by the idealisation (a clamped hole, a point force).
+    ``values`` are read largest-first; for a smallest value pass the negated field and
+    ``sign_of_values=-1`` (the message then quotes values with their own sign).
+    """
+    mesh, model = getattr(result, "mesh", None), getattr(result, "model", None)
+    if mesh is None or model is None:
+        return ""
+    near, why = near_idealised(mesh, model, [node])
+    if not near[0]:
+        return ""
+    v = np.abs(values) if absolute else np.asarray(values, dtype=float)
+    peak = float(v[node])
+    # the candidates that could beat the peak less DOMINANCE: only they need the distance test
+    ok = np.isfinite(v) & (mesh.used_nodes() if mask is None else mask)
+    cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
+    near_c, _ = near_idealised(mesh, model, cand)
+    if np.any(~near_c):
+        return ""  # as large a value away from every idealisation: the field's own level
+    # the largest value away from every idealisation: test the values in falling order, a growing batch at a time
+    rest = np.flatnonzero(ok)
+    order = rest[np.argsort(-v[rest], kind="stable")]
+    top, start, batch = float("nan"), 0, 256
+    while start < order.size:
+        chunk = order[start:start + batch]
+        near_k, _ = near_idealised(mesh, model, chunk)
+        if not np.all(near_k):
+            top = float(v[chunk[np.argmin(near_k)]])
+            break
+        start, batch = start + batch, batch * 4
+    sign = -1.0 if sign_of_values < 0 else 1.0
+    other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
+             f"{sign * top:.6g}" if np.isfinite(top) else "")
+    return (f"next to {why[0]}: a peak there is made by the idealisation (how the part is held or loaded), "
+            f"not by the part{other}; read the feature under check with where= (e.g. where=Away() or the "
+            "feature's edge)")
