@@ -11,7 +11,7 @@ name:
 - ``InCircle((x, y), r)`` and ``InBox((x0, y0), (x1, y1))``: a window;
 - ``Near("bolt_centre", r)``: the neighbourhood of a named point (or coordinates);
 - ``Away(d)``: everywhere except within ``d`` of the idealised supports and concentrated loads
-  (``Away()``: except the few elements next to them);
+  (``Away()``: except within the size of each, after St Venant's principle);
 - ``a & b``: both.
 
 A name alone (``where="fillet"``) is the edge or region of that name.
@@ -250,7 +250,10 @@ class Away(Zone):
     ----------
     distance : float, optional
         Leave out the nodes within this distance of a support's or concentrated load's nodes. Default:
-        within ``NEAR_ELEMENTS`` local element sizes (the ring of elements a singular peak sits in).
+        each idealisation's own size, the larger side of the bounding box of its nodes (a clamped edge
+        disturbs the stress over about its own length, St Venant's principle; common practice), and
+        for a single node (a point support or point force, whose singular field has no length of its
+        own) ``NEAR_ELEMENTS`` local element sizes. Give a distance when you know the part better.
     supports, loads : bool
         Which idealisations to keep away from (both by default). Symmetry planes are exact, not
         idealisations, and never count.
@@ -266,14 +269,15 @@ class Away(Zone):
         mesh, model = _parts(result)
         if model is None:
             raise InputError("Away(...) is read on a result or a model (it needs the supports and loads)")
-        near, _ = near_idealised(mesh, model, np.arange(mesh.n_nodes), distance=self.distance,
+        near, _ = near_idealised(mesh, model, np.arange(mesh.n_nodes),
+                                 distance="size" if self.distance is None else self.distance,
                                  supports=self.supports, loads=self.loads)
         return ~near
 
     def describe(self) -> str:
         what = " and ".join(w for w, on in (("supports", self.supports), ("concentrated loads", self.loads)) if on)
         if self.distance is None:
-            return f"away from {what} (beyond {NEAR_ELEMENTS:g} elements)"
+            return f"away from {what} (beyond the size of each)"
         return f"at least {self.distance:g} from {what}"
 
     def __repr__(self) -> str:
@@ -364,9 +368,13 @@ def node_sizes(mesh) -> np.ndarray:
     return h
 
 
-def near_idealised(mesh, model, nodes, *, distance: float | None = None, supports: bool = True,
+def near_idealised(mesh, model, nodes, *, distance: float | str | None = None, supports: bool = True,
                    loads: bool = True) -> tuple[np.ndarray, list[str]]:
     """Which of ``nodes`` lie next to an idealised support or concentrated load, and which one.
+
+    ``distance``: None, within ``NEAR_ELEMENTS`` local element sizes of the node (where a peak made
+    by the idealisation sits); a number, within that distance; ``"size"``, within each
+    idealisation's own size (see :class:`Away`).
 
     Returns
     -------
@@ -383,14 +391,24 @@ def near_idealised(mesh, model, nodes, *, distance: float | None = None, support
     if not items or nodes.size == 0:
         return near, reasons
     pts = mesh.nodes[nodes]
-    limit = NEAR_ELEMENTS * node_sizes(mesh)[nodes] if distance is None else np.full(nodes.size, distance)
-    best = np.full(nodes.size, np.inf)
+    local = NEAR_ELEMENTS * node_sizes(mesh)[nodes]
+    best = np.full(nodes.size, np.inf)  # distance over its limit, to the idealisation that comes nearest
     which = np.full(nodes.size, -1)
     for k, (_, ids) in enumerate(items):
-        d, _ = cKDTree(mesh.nodes[np.unique(ids)]).query(pts)
-        better = d < best
-        best[better], which[better] = d[better], k
-    near = best <= limit * (1 + 1e-9)
+        own = mesh.nodes[np.unique(ids)]
+        d, _ = cKDTree(own).query(pts)
+        if distance is None:
+            limit = local
+        elif isinstance(distance, str):
+            x, y = own[:, 0], own[:, 1]
+            size = max(float(x.max() - x.min()), float(y.max() - y.min()))
+            limit = np.maximum(size, local)
+        else:
+            limit = np.full(nodes.size, float(distance))
+        ratio = d / np.maximum(limit, 1e-300)
+        better = ratio < best
+        best[better], which[better] = ratio[better], k
+    near = best <= 1 + 1e-9
     reasons = [items[w][0] if ok else "" for w, ok in zip(which, near)]
     return near, reasons
 
