@@ -1,13 +1,13 @@
 """The ``"units"`` check: displacements, strains and moduli that point to mixed units."""
 from __future__ import annotations
 
-import re
-
 import numpy as np
 
 from .errors import fmt_point
+from .units import systems, unit_system
 
-__all__ = ["DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "STRAIN_SAMPLE", "STRAIN_QUANTILE", "TINY_STRAIN", "MODULUS_LIMIT"]
+__all__ = ["DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "STRAIN_SAMPLE", "STRAIN_QUANTILE", "TINY_STRAIN", "MODULUS_LIMIT",
+           "MODULUS_LIMIT_MPA"]
 
 #: largest displacement, as a fraction of the part's size, that small-displacement theory covers
 #: (common practice: geometric nonlinearity is felt beyond a few per cent)
@@ -21,10 +21,12 @@ STRAIN_LIMIT = 2e-2
 #: modulus of 1e9 or more and a part 10 or more long, in a model without declared units, looks like
 #: E in Pa with lengths in mm
 TINY_STRAIN = 1e-6
-#: largest Young's modulus of any solid (diamond, about 1.05e6 MPa; from memory) with margin, per
-#: declared stress unit
-MODULUS_LIMIT = {"MPa": 1.2e6, "N/mm2": 1.2e6, "N/mm^2": 1.2e6, "GPa": 1.2e3, "kPa": 1.2e9, "Pa": 1.2e12,
-                 "psi": 1.75e8, "ksi": 1.75e5}
+#: largest Young's modulus of any solid (diamond, about 1.05e6 MPa; from memory) with margin, in MPa;
+#: in a model's own stress unit it is this over the system's ``to_mpa`` (:mod:`planar.core.units`)
+MODULUS_LIMIT_MPA = 1.2e6
+#: the same limit per stress unit of the known systems (kept for code that reads it by unit name)
+MODULUS_LIMIT = {**{s.stress: MODULUS_LIMIT_MPA / s.to_mpa for s in systems()},
+                 "N/mm2": MODULUS_LIMIT_MPA, "N/mm^2": MODULUS_LIMIT_MPA}
 #: cells sampled per solve for the strain level (a strided sample, spread over the whole mesh)
 STRAIN_SAMPLE = 20000
 #: the strain level is this quantile of the sampled cells' strains: a unit mix-up scales the whole
@@ -85,21 +87,19 @@ def _strain_level(r) -> tuple[float, float, np.ndarray]:
     return q, float(mag[i]), np.concatenate(cents)[i]
 
 
-def _stress_unit(units: str) -> str | None:
-    for tok in re.split(r"[,;\s]+", str(units)):
-        t = tok.strip("()[]")
-        if t in MODULUS_LIMIT:
-            return t
-    return None
+def _stress_unit(units) -> str | None:
+    """The stress unit of a model's unit system (or its name), None when not stated."""
+    return unit_system(units or None).stress or None
 
 
 def _units(asm, res) -> list[tuple[str, str, list]]:
     out = []
     x, y = asm.mesh.nodes[:, 0], asm.mesh.nodes[:, 1]  # column reductions: far faster than axis=0
     size = float(max(x.max() - x.min(), y.max() - y.min(), 1e-300))
-    unit = _stress_unit(asm.model.units)
+    system = unit_system(getattr(asm.model, "unit_system", None) or getattr(asm.model, "units", None))
+    unit = system.stress or None
     if unit is not None:
-        lim = MODULUS_LIMIT[unit]
+        lim = MODULUS_LIMIT_MPA / system.to_mpa
         seen = set()
         for b in asm.blocks:
             E = getattr(b.material, "E", None)
@@ -110,7 +110,8 @@ def _units(asm, res) -> list[tuple[str, str, list]]:
                             f"units: region {b.region!r} has a modulus of {E:.4g} {unit}, beyond any solid (diamond "
                             f"is about {lim / 1.15:.3g} {unit}); it looks given in other units (e.g. E in Pa in an "
                             f"N, mm, MPa model), which makes every displacement and strain far too small; give "
-                            f"E in {unit} (aluminium about 70e3 MPa, steel about 210e3 MPa)", res))
+                            f"E in {unit} (aluminium about {70e3 / system.to_mpa:.3g} {unit}, steel about "
+                            f"{210e3 / system.to_mpa:.3g} {unit})", res))
     small = []
     big_u, big_e = [], []
     for r in res:

@@ -16,6 +16,7 @@ from .loads import LoadKind
 from .materials import Isotropic, Orthotropic, check_analysis, check_material
 from .mesh import Mesh
 from .supports import Support
+from .units import UnitSystem, unit_system
 
 __all__ = ["Model", "Section"]
 
@@ -58,8 +59,11 @@ class Model:
     quadrature : mapping of str to int or str, optional
         Integration rule per element name: an int (points per direction for quads, degree for
         triangles) or ``"full"`` (default), ``"reduced"``, ``"selective"`` (shear terms reduced).
-    units : str, optional
-        Free text naming the consistent units (for reports), e.g. ``"N, mm, MPa"``.
+    units : str or UnitSystem, optional
+        The consistent unit system, by name or spelling, e.g. ``"N, mm, MPa"``, ``"kip-in-ksi"``
+        (:mod:`planar.core.units` lists them); an unknown one is refused with the list. Left out:
+        units not stated (the numbers are still taken as consistent; outputs say so). ``units``
+        then reads as the system's label (``"N, mm, MPa"``) and ``unit_system`` gives the system.
     zero_energy : {"refuse", "warn", "stabilise"}
         What to do with element blocks whose stiffness has zero-energy (hourglass) modes beyond the
         three rigid motions, as a reduced or one-point rule gives: refuse them (default), go on with
@@ -81,7 +85,7 @@ class Model:
 
     def __init__(self, mesh: Mesh, material=None, thickness: float = 1.0, *,
                  analysis: str = "plane stress", elements: dict[str, str] | None = None,
-                 quadrature: dict[str, Any] | None = None, units: str = "consistent units",
+                 quadrature: dict[str, Any] | None = None, units: str | UnitSystem | None = "consistent units",
                  zero_energy: str = "refuse"):
         if not isinstance(mesh, Mesh):
             raise InputError(f"Model needs a planar Mesh, got {type(mesh).__name__}")
@@ -94,7 +98,7 @@ class Model:
         self.cases: dict[str, list[LoadKind]] = {}
         self.elements = dict(elements or {})
         self.quadrature = dict(quadrature or {})
-        self.units = units
+        self._unit_system = unit_system(units)  # an unknown name is refused with the known systems
         from .kinematics import ZERO_ENERGY_CHOICES
 
         if not isinstance(zero_energy, str) or zero_energy not in ZERO_ENERGY_CHOICES:
@@ -116,6 +120,20 @@ class Model:
                                    "quadrature= is keyed by the element names the model uses")
             if isinstance(q, bool) or not (isinstance(q, int) or q in _RULE_WORDS):
                 raise InputError(f"quadrature for {name!r} must be an int or one of {_RULE_WORDS}, got {q!r}")
+
+    @property
+    def units(self) -> str:
+        """The unit system's label, ``"N, mm, MPa"`` (``"consistent units"`` when not stated)."""
+        return self._unit_system.label
+
+    @units.setter
+    def units(self, value) -> None:
+        self._unit_system = unit_system(value)
+
+    @property
+    def unit_system(self) -> UnitSystem:
+        """The model's :class:`~planar.core.units.UnitSystem` (``NOT_STATED`` when none was named)."""
+        return self._unit_system
 
     # ------------------------------------------------------------------ building
     def assign(self, region: str, material=None, thickness: float | None = None) -> Section:

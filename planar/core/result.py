@@ -143,6 +143,11 @@ class Result(CaseResult):
     def units(self) -> str:
         return self.model.units
 
+    @property
+    def unit_system(self):
+        """The model's :class:`~planar.core.units.UnitSystem`."""
+        return self.model.unit_system
+
     # ------------------------------------------------------------------ Gauss-point fields
     @cached_property
     def gauss(self) -> list[GaussField]:

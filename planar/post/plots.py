@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import math
 import os
-import re
 from pathlib import Path
 from typing import Mapping, Sequence
 
@@ -26,6 +25,8 @@ from ..core.errors import InputError, MeshError, fmt_point
 from ..core.fields import FIELD_TABLE, names
 from ..core.layouts import from_file_cells
 from ..core.result import as_result
+# units of fields, stress, length, force from the model's unit system or its name (re-exported)
+from ..core.units import field_unit, force_unit, length_unit, stress_unit  # noqa: F401
 from ._subdivide import _cells_in_window, _outline_segments, subdivide  # noqa: F401 (re-exported)
 from .files import atomic_path
 
@@ -51,67 +52,7 @@ __all__ = [
 #: table, :data:`planar.core.fields.FIELD_TABLE`, like the units and labels below)
 SIGNED_FIELDS = frozenset(names(signed=True))
 _STRESS = frozenset(names(unit="stress"))
-_LENGTH = frozenset(names(unit="length"))
 _LABELS = {f.name: f.label for f in FIELD_TABLE.values()}
-
-
-# ---------------------------------------------------------------------------------------- units
-def _unit_items(units: str | None) -> list[str]:
-    if not units:
-        return []
-    items = [u.strip() for u in re.split(r"[,;/]", str(units)) if u.strip()]
-    if len(items) == 1 and items[0].lower().startswith("consistent"):
-        return []
-    return items
-
-
-def stress_unit(units: str | None) -> str:
-    """The stress unit in a free-text units string: its last item (``"N, mm, MPa"`` -> ``"MPa"``).
-
-    Returns ``""`` when the text names no units (e.g. the default ``"consistent units"``).
-
-    Examples
-    --------
-    >>> stress_unit("N, mm, MPa"), stress_unit("lbf; in; psi"), stress_unit("consistent units")
-    ('MPa', 'psi', '')
-    """
-    items = _unit_items(units)
-    return items[-1] if items else ""
-
-
-def length_unit(units: str | None) -> str:
-    """The length unit: the second of three items (force, length, stress), else ``""``.
-
-    Examples
-    --------
-    >>> length_unit("N, mm, MPa")
-    'mm'
-    """
-    items = _unit_items(units)
-    return items[1] if len(items) >= 3 else ""
-
-
-def force_unit(units: str | None) -> str:
-    """The force unit: the first of three items (force, length, stress), else ``""``.
-
-    Examples
-    --------
-    >>> force_unit("N, mm, MPa")
-    'N'
-    """
-    items = _unit_items(units)
-    return items[0] if len(items) >= 3 else ""
-
-
-@renamed_keywords(name="field")
-def field_unit(field: str, units: str | None) -> str:
-    """Unit of a named field given the model's units text (strains are dimensionless)."""
-    if field in _STRESS or field.startswith("element_"):
-        return stress_unit(units)
-    if field in _LENGTH:
-        return length_unit(units)
-    info = FIELD_TABLE.get(field)
-    return info.unit if info is not None and info.unit == "deg" else ""
 
 
 @renamed_keywords(name="field")
