@@ -24,6 +24,8 @@ _WHERE = {
     "kt": "checks", "margin_of_safety": "checks", "nominal_gross": "checks", "nominal_net": "checks",
     "path_stresses": "checks", "cut_resultant": "checks", "StressConcentration": "checks", "Margin": "checks",
     "PathStresses": "checks", "CutResultant": "checks",
+    # stresses along named edges
+    "edge_stresses": "edges", "EdgeStresses": "edges", "EdgePeak": "edges", "plot_edge_stresses": "edges",
     # scope and handbook formulas
     "CAUTION": "scope", "CAUTIONS": "scope", "kt_hole_in_strip": "handbook",
     # error estimate, adaptivity, convergence
@@ -69,6 +71,7 @@ if TYPE_CHECKING:  # what type checkers and editors see; at run time the names l
     from .combine import (Combination, CombinedResult, Envelope, EnvelopePeak, combinations, combine, envelope,
                           plot_envelope, write_envelope_vtu)
     from .convergence import GridConvergence, convergence_study, grid_convergence
+    from .edges import EdgePeak, EdgeStresses, edge_stresses, plot_edge_stresses
     from .estimate import ErrorEstimate, effectivity, estimate_error
     from .files import atomic_write_text, json_safe, read_result_file
     from .handbook import kt_hole_in_strip
