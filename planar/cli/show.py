@@ -37,8 +37,9 @@ def arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--png", metavar="FILE",
                    help="picture to write (default: RESULT-FIELD.png beside the result file)")
     p.add_argument("--units", metavar="TEXT",
-                   help="units of the model, e.g. \"N, mm, MPa\" (stress unit last), or just the "
-                        "field's unit; a .vtu file does not record units")
+                   help="unit system, e.g. \"N, mm, MPa\" or kip-in-ksi, or just the field's unit (MPa); "
+                        "default: the system the file states (planar writes it). Checked: an unknown "
+                        "name is refused with the list of known systems")
     p.add_argument("--mesh", action="store_true", help="draw the element sides")
     p.add_argument("--undeformed", action="store_true", help="draw on the undeformed shape")
     p.add_argument("--scale", type=float, metavar="FACTOR",
@@ -70,7 +71,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _show_file(args) -> int:
-    from ..post.plots import MAX_LEVELS, field_unit, length_unit, plot_vtu, vtu_fields
+    from ..core.units import figure_units
+    from ..post.plots import MAX_LEVELS, plot_vtu, vtu_fields
 
     changed = "warn" if args.allow_changed else "error"
     if args.bands is not None and not 2 <= args.bands <= MAX_LEVELS:
@@ -87,15 +89,11 @@ def _show_file(args) -> int:
         f"{Path(args.result).stem}-{args.field}.png")
     if png.suffix.lower() != ".png":
         raise InputError(f"--png needs a file name ending in .png, got {str(png)!r}")
-    unit = length = ""
     if args.units:
-        if len([u for u in args.units.replace(";", ",").split(",") if u.strip()]) >= 3:
-            unit, length = field_unit(args.field, args.units), length_unit(args.units)
-        else:
-            unit = args.units.strip()
+        figure_units(args.field, args.units)  # checked before the file is read: a system or one known unit
     if args.scale is not None and args.scale < 0:
         raise InputError(f"--scale must not be negative, got {args.scale:g}")
-    plot_vtu(args.result, args.field, png=png, units=unit, length=length, deformed=not args.undeformed,
+    plot_vtu(args.result, args.field, png=png, units=args.units or None, deformed=not args.undeformed,
              scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands,
              changed=changed)
     print(f"wrote {png}")

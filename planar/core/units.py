@@ -50,7 +50,7 @@ from .compat import renamed_keywords
 from .errors import InputError
 
 __all__ = ["UnitSystem", "unit_system", "systems", "NOT_STATED", "QUANTITIES", "stress_unit", "length_unit",
-           "force_unit", "field_unit", "bare_unit", "KNOWN_UNITS"]
+           "force_unit", "field_unit", "bare_unit", "figure_units", "KNOWN_UNITS"]
 
 #: the quantities whose unit a system names (:meth:`UnitSystem.unit_of`)
 QUANTITIES = ("force", "length", "stress", "mass", "time", "density", "moment", "force per length",
@@ -358,3 +358,40 @@ def field_unit(field: str, units) -> str:
     if info.unit == "length":
         return system.length
     return info.unit if info.unit == "deg" else ""
+
+
+def figure_units(field: str, given=None, stored=None) -> tuple[str, str, UnitSystem | None]:
+    """The field's unit, the length unit and the system of a figure.
+
+    Parameters
+    ----------
+    field : str
+        The field drawn.
+    given : str or UnitSystem, optional
+        Units asked for: a system (or its spelling), which wins over ``stored``, or one bare unit
+        for the field (checked by :func:`bare_unit`), lengths then from ``stored``.
+    stored : UnitSystem, optional
+        The system the data states (a result's, a file's).
+
+    Returns
+    -------
+    (str, str, UnitSystem or None)
+
+    Examples
+    --------
+    >>> figure_units("sigma_xx", None, unit_system("N, mm, MPa"))[:2]
+    ('MPa', 'mm')
+    >>> figure_units("sigma_xx", "kip, in, ksi", unit_system("N, mm, MPa"))[:2]
+    ('ksi', 'in')
+    >>> figure_units("sigma_xx", "N/mm^2", unit_system("N, mm, MPa"))[:2]
+    ('N/mm^2', 'mm')
+    """
+    if given is not None and str(given).strip():
+        try:
+            system = unit_system(given)
+        except InputError:
+            return bare_unit(given), stored.length if stored is not None else "", stored
+        return field_unit(field, system), system.length, system
+    if stored is None:
+        return "", "", None
+    return field_unit(field, stored), stored.length, stored

@@ -16,7 +16,10 @@ from ..core.digest import check_digest
 from ..core.errors import MeshError, OutputError, PlanarWarning, fmt_point
 
 __all__ = ["atomic_path", "atomic_write_text", "atomic_write_bytes", "read_result_file", "check_digest",
-           "non_finite_fields", "json_safe"]
+           "non_finite_fields", "json_safe", "file_units", "UNITS_FIELD"]
+
+#: name of the field-data array of a .vtu file that holds the unit system's name (UTF-8 bytes)
+UNITS_FIELD = "planar_units"
 
 
 def json_safe(obj):
@@ -151,6 +154,40 @@ def _sync_folder(folder: Path) -> None:
 
 
 # ---------------------------------------------------------------------------------------- reading
+def file_units(m, path=None):
+    """The unit system a result file states (its ``planar_units`` field data), or None if it states none.
+
+    Parameters
+    ----------
+    m : meshio.Mesh
+        The file as read (:func:`read_result_file`).
+    path : path, optional
+        For messages.
+
+    Returns
+    -------
+    UnitSystem or None
+        None for a file without the entry (older, or from another program); a name this version
+        does not know gives None and a warning of code ``"unknown-units"``.
+    """
+    from ..core.units import unit_system
+
+    raw = getattr(m, "field_data", {}).get(UNITS_FIELD)
+    if raw is None:
+        return None
+    try:
+        name = bytes(np.asarray(raw).astype(np.uint8).ravel()).decode("utf-8")
+        return unit_system(name)
+    except (ValueError, TypeError, OverflowError) as exc:  # InputError is a ValueError
+        import warnings
+
+        warnings.warn(PlanarWarning(
+            f"result file {os.fspath(path) if path is not None else ''!r} names a unit system planar does not "
+            f"know ({str(exc).split(';')[0]}); its figures carry no units: give them with --units "
+            "(planar show) or units= (plot_vtu)", "unknown-units"), stacklevel=2)
+        return None
+
+
 def non_finite_fields(m) -> dict[str, tuple[int, int]]:
     """Point and cell fields of a ``meshio.Mesh`` that hold NaN or infinite values.
 

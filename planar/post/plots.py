@@ -427,6 +427,8 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     etypes = {b.layout: b.etype for b in result.assembly.blocks}
     rec = {"average": "averaged nodal stresses", "spr": "stresses by superconvergent patch recovery"}
     note = rec.get(recovery) if field in _STRESS or field == "principal_angle" else None
+    if not unit and field_unit(field, "N-mm-MPa"):  # a field with a unit, in a model that states none
+        note = "; ".join(filter(None, [note, "units not stated (consistent)"]))
     if title is None:
         title = f"{field_label(field)}, load case '{result.case}'"
     return plot_nodal_field(result.mesh.nodes, result.mesh.cells, values, displacement=result.u,
@@ -489,10 +491,12 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
         ``displacement`` its magnitude.
     png : path, optional
         Write the figure there (atomically).
-    units : str, optional
-        Unit of the field (a .vtu file does not record units), e.g. ``"MPa"``.
+    units : str or UnitSystem, optional
+        Default: the unit system the file states (planar writes it, :func:`planar.post.files.file_units`).
+        A system (``"N, mm, MPa"``, ``"kip-in-ksi"``) overrides it; one bare unit (``"MPa"``) labels
+        the field only. Both are checked (:func:`planar.core.units.figure_units`).
     length : str, optional
-        Length unit for the axes, e.g. ``"mm"``.
+        Length unit for the axes, e.g. ``"mm"``; default from the system.
     deformed : bool
         Draw on the deformed shape when the file has displacements.
     changed : {"error", "warn"}
@@ -563,10 +567,17 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
         disp = np.asarray(m.point_data["displacement"], float)[:, :2]
     if title is None:
         title = f"{field_label(field)}, {Path(path).name}"
+    from ..core.units import figure_units
+    from .files import file_units
+
+    unit, length_, system = figure_units(field, units, file_units(m, path))
+    note = None
+    if not unit and field_unit(field, "N-mm-MPa"):  # a field with a unit, drawn without one: say why
+        note = "units not stated (consistent)" if system is not None else "the file states no units"
     return plot_nodal_field(np.asarray(m.points, float)[:, :2], cells_, values, displacement=disp,
-                            field=field, unit=units or "", length=length,
+                            field=field, unit=unit, length=length or length_,
                             scale=scale if disp is not None else None, mesh_lines=mesh_lines,
-                            mark_peak=mark_peak, levels=levels, cmap=cmap, title=title,
+                            mark_peak=mark_peak, levels=levels, cmap=cmap, title=title, note=note,
                             cell_values=cell_values, path=png)
 
 

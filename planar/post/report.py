@@ -341,7 +341,9 @@ def _g(v: float, digits: int = 4) -> str:
 def describe_model_rows(model) -> list[tuple[str, str]]:
     """Label/value rows of what was analysed, from ``model.describe()``."""
     d = model.describe()
-    rows = [("analysis", d.get("analysis", "")), ("units", d.get("units", ""))]
+    system = getattr(model, "unit_system", None)  # its units, mass, density and g, or "units not stated"
+    rows = [("analysis", d.get("analysis", "")),
+            ("units", system.describe() if system is not None else d.get("units", ""))]
     for region, sec in d.get("regions", {}).items():
         rows.append((f"material ({region})", str(sec.get("material", ""))))
         rows.append((f"thickness ({region})", _g(float(sec.get("thickness", 0.0)))))

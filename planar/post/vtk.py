@@ -2,8 +2,10 @@
 
 Point data: displacement vector and nodal stresses (sigma_xx, sigma_yy, tau_xy, sigma_zz, von_mises,
 tresca, sigma_1, sigma_2); cell data: element mean stresses, von Mises, region id and any extra cell
-fields (e.g. error indicators). Files are written atomically and carry a SHA-256 digest of their
-bytes (:mod:`planar.core.digest`), so readers can tell when a file changed since it was written.
+fields (e.g. error indicators); field data: the names of the region ids and the model's unit system
+(``planar_units``, its name as UTF-8 bytes in a UInt8 array, read back by
+:func:`planar.post.files.file_units`). Files are written atomically and carry a SHA-256 digest of
+their bytes (:mod:`planar.core.digest`), so readers can tell when a file changed since it was written.
 """
 from __future__ import annotations
 
@@ -20,7 +22,8 @@ from ..core.layouts import layouts as all_layouts, vtk_cells
 from ..core.progress import step
 from ..core.fields import as_centre, names as field_names, polar_stress
 from ..core.result import as_result, stress_measures
-from .files import atomic_path
+from ..core.units import unit_system
+from .files import UNITS_FIELD, atomic_path
 
 __all__ = ["write_vtu", "write_grid", "add_field_data", "CELL_TYPES"]
 
@@ -134,7 +137,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
     table = {n: i for i, n in enumerate(names)} if len(names) > 1 else {}  # names of the region ids
     with step(f"writing {os.path.basename(path)}", 2 * mesh.n_nodes):
-        write_grid(path, pts, cells, pdata, cdata, table, compression)
+        write_grid(path, pts, cells, pdata, cdata, table, compression, units=result.unit_system)
     return path
 
 
@@ -144,19 +147,24 @@ _VTK_DTYPES = {"f8": "Float64", "f4": "Float32", "i8": "Int64", "i4": "Int32", "
 
 def write_grid(path: Path, points: np.ndarray, cells: list[tuple],
                point_data: Mapping[str, np.ndarray], cell_data: Mapping[str, list[np.ndarray]],
-               field_data: Mapping[str, int] | None = None, compression: str | None = None) -> None:
+               field_data: Mapping[str, int] | None = None, compression: str | None = None, *,
+               units=None) -> None:
     """Write an unstructured grid as a .vtu file, atomically.
 
     Uncompressed, the arrays go into the file as raw appended binary data (VTK XML format, byte
     order and UInt64 block headers declared in the file): no base64 encoding, so the write runs at
     disk speed. With ``compression`` the file is written through meshio. ``field_data`` is a table
-    name -> index (one Int32 array per name), e.g. the names of the region ids.
+    name -> index (one Int32 array per name), e.g. the names of the region ids. ``units`` (a unit
+    system or its name, :mod:`planar.core.units`) is stored as the field data ``planar_units``.
 
     ``cells`` holds (meshio cell name, connectivity in the element's node order[, element type]);
     VTK's cell type and node order come from the element type that defines the name
     (:func:`planar.core.layouts.vtk_cells`), e.g. VTK's Lagrange triangle for a 10-node triangle.
     """
     vtk = [vtk_cells(c[0], c[1], c[2] if len(c) > 2 else None) for c in cells]
+    field_data = dict(field_data or {})
+    if units is not None:
+        field_data[UNITS_FIELD] = unit_system(units).name  # checked: an unknown name is refused
     with atomic_path(path) as tmp:
         if compression is not None:
             import meshio
@@ -241,8 +249,10 @@ def vtu_target(path, compression: str | None = None) -> Path:
     return path
 
 
-def add_field_data(path: Path, table: Mapping[str, int]) -> None:
+def add_field_data(path: Path, table: Mapping[str, int | str]) -> None:
     """Put a FieldData block (one Int32 array per name, holding its index) into a .vtu file.
+
+    A text value (the unit system's name) goes in as a UInt8 array of its UTF-8 bytes.
 
     meshio 5.3 writes no field data to .vtu (it reads it back), so the block is added here, in the
     place VTK's XML format gives it: the first child of ``<UnstructuredGrid>``.
@@ -256,10 +266,17 @@ def add_field_data(path: Path, table: Mapping[str, int]) -> None:
     path.write_text(text[:at] + "\n" + _field_block(table) + text[at:], encoding="utf-8")
 
 
-def _field_block(table: Mapping[str, int]) -> str:
-    """The FieldData element: one Int32 array per name, holding its index."""
+def _field_block(table: Mapping[str, int | str]) -> str:
+    """The FieldData element: one Int32 array per name, holding its index (a text: its UTF-8 bytes)."""
     from xml.sax.saxutils import quoteattr
 
-    rows = "".join(f'<DataArray type="Int32" Name={quoteattr(str(n))} NumberOfTuples="1" format="ascii">'
-                   f"{int(i)}</DataArray>\n" for n, i in table.items())
+    def row(n, i) -> str:
+        if isinstance(i, str):  # text as bytes: VTK and meshio read a UInt8 array where a String array fails meshio
+            b = i.encode("utf-8")
+            return (f'<DataArray type="UInt8" Name={quoteattr(str(n))} NumberOfTuples="{len(b)}" format="ascii">'
+                    f"{' '.join(map(str, b))}</DataArray>\n")
+        return (f'<DataArray type="Int32" Name={quoteattr(str(n))} NumberOfTuples="1" format="ascii">'
+                f"{int(i)}</DataArray>\n")
+
+    rows = "".join(row(n, i) for n, i in table.items())
     return f"<FieldData>\n{rows}</FieldData>"
