@@ -250,6 +250,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     summary = {
         "part": part.name,
         "units": part.units,
+        "unit_system": fine.unit_system.as_dict(),  # the system's name and the unit of each quantity
         "length": part.length, "width": part.width, "thickness": part.thickness,
         "hole_diameter": part.hole_diameter, "load": part.load,
         "peak_von_mises": vm_peak,

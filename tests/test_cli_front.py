@@ -52,6 +52,9 @@ def test_demo_vtu_is_readable_with_quadratic_cells(demo_run):
     assert vm.shape == (m.points.shape[0],) and np.all(np.isfinite(vm))
     s = json.loads((out / "summary.json").read_text())
     assert vm.max() == pytest.approx(s["peak_von_mises"], rel=1e-6)   # the file holds the SPR field
+    # the unit system, named in the summary and in the file
+    assert s["unit_system"]["name"] == "N-mm-MPa" and s["unit_system"]["stress"] == "MPa"
+    assert bytes(np.asarray(m.field_data["planar_units"], np.uint8)).decode() == "N-mm-MPa"
 
 
 def test_demo_prints_the_summary_table(demo_run):
