@@ -236,3 +236,33 @@ def test_a_file_without_units_says_so(tmp_path):
     assert fig.axes[0].get_xlabel() == "x"
     assert "the file states no units" in " ".join(t.get_text() for t in fig.axes[0].texts)
     assert math.isfinite(fig.axes[1].get_xlim()[0])
+
+
+@pytest.mark.parametrize("name", ["N-mm-MPa", "N-m-Pa", "lbf-in-psi", "kip-ft-ksf"])
+def test_gravity_along_a_direction_takes_the_standard_g_of_the_system(name):
+    # a 1 x 0.4 x 0.05 m steel plate (7850 kg/m^3, common practice) weighs 7850 x 0.02 x 9.80665 N,
+    # stated in each system's own lengths and density (NIST SP 811 factors above)
+    from planar.core.assembly import Assembly
+
+    force, length, _, mass = EXPECTED[name]
+    L, W, t = 1.0 / length, 0.4 / length, 0.05 / length
+    rho = 7850.0 * length ** 3 / mass
+    model = planar.Model(planar.rectangle_mesh(L, W, 4, 2, "Q8"), planar.Isotropic(1.0, 0.3, density=rho),
+                         thickness=t, units=name)
+    model.add_load(planar.Gravity(direction=(0.0, -3.0)), case="weight")
+    total = Assembly(model).load_vector("weight")[0].reshape(-1, 2).sum(axis=0) * force  # in N
+    np.testing.assert_allclose(total, [0.0, -7850.0 * 0.02 * G0], rtol=2e-6, atol=1e-9)
+
+
+def test_gravity_along_a_direction_needs_stated_units():
+    from planar.core.assembly import Assembly
+
+    model = planar.Model(planar.rectangle_mesh(10.0, 4.0, 2, 1), planar.Isotropic(70e3, 0.3, density=2.7e-9))
+    model.add_load(planar.Gravity(direction=(0, -1)), case="weight")
+    with pytest.raises(InputError, match=r"states no units.*units='N, mm, MPa'.*Gravity\(gy=-9806.65\)"):
+        Assembly(model).load_vector("weight")
+    with pytest.raises(InputError, match="not both"):
+        planar.Gravity(gy=-9806.65, direction=(0, -1))
+    with pytest.raises(InputError, match="direction must be two finite numbers"):
+        planar.Gravity(direction=(0, 0))
+    assert repr(planar.Gravity(direction=(0, -2))) == "Gravity(direction=(0, -1), regions=None)"

@@ -236,7 +236,8 @@ class Assembly:
         self.analysis = model.analysis
         self.blocks = self._blocks()
         self._edge_cache: dict[str, EdgeGeometry] = {}
-        self.context = LoadContext(self.mesh, self.analysis, self._edge_geometry, self._cell_views)
+        self.context = LoadContext(self.mesh, self.analysis, self._edge_geometry, self._cell_views,
+                                   units=getattr(model, "unit_system", None))
         #: results derived from the mesh alone (recovery operators), shared by every load case
         self.cache: dict = {}
 

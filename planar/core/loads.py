@@ -162,12 +162,17 @@ class LoadContext:
         ``dvol``, ``region``, ``material``).
     material_of : callable, optional
         ``material_of(region) -> material``; by default read from the region's cell blocks.
+    units : UnitSystem, optional
+        The model's unit system (:mod:`planar.core.units`), e.g. for the standard gravity; None when
+        the caller does not know it.
     """
 
     def __init__(self, mesh, analysis: str, edge_owner: Callable[[str], EdgeGeometry],
-                 cell_blocks: Callable[[str | None], list], material_of: Callable[[str], Any] | None = None):
+                 cell_blocks: Callable[[str | None], list], material_of: Callable[[str], Any] | None = None,
+                 units=None):
         self.mesh = mesh
         self.analysis = analysis
+        self.units = units
         self._edge_owner = edge_owner
         self._cell_blocks = cell_blocks
         self._material_of = material_of
@@ -541,35 +546,59 @@ class Gravity(LoadKind):
     regions : str or sequence of str, optional
         Only these regions carry their weight. By default every region does, and each must have a
         material with a density.
+    direction : (float, float), optional
+        Instead of gx, gy: the direction in which gravity pulls, e.g. ``(0, -1)``; its size is the
+        standard gravity (9.80665 m/s^2) in the model's unit system (``Model(..., units=...)``,
+        :mod:`planar.core.units`), refused when the model states no units.
 
     Notes
     -----
     Units are the user's consistent system. In N, mm, MPa the density is in t/mm^3 (steel
-    7.85e-9) and g = 9810 mm/s^2, so ``Gravity(gy=-9810.0)`` pulls down; in SI base units (N, m, Pa)
-    the density is in kg/m^3 and g = 9.81 m/s^2. Each region's force per volume rho g is integrated
-    as a :class:`BodyForce` (consistent nodal forces with the stiffness's own rule and thickness).
+    7.85e-9) and g = 9806.65 mm/s^2, so ``Gravity(gy=-9806.65)`` or ``Gravity(direction=(0, -1))``
+    pulls down; in SI base units (N, m, Pa) the density is in kg/m^3 and g = 9.80665 m/s^2. Each
+    region's force per volume rho g is integrated as a :class:`BodyForce` (consistent nodal forces
+    with the stiffness's own rule and thickness).
 
     Raises
     ------
     InputError
-        A region carrying its weight whose material has no (or a zero) density, naming the region.
+        A region carrying its weight whose material has no (or a zero) density, naming the region;
+        ``direction=`` in a model that states no units.
 
     Examples
     --------
     >>> Gravity(gy=-9810.0)
     Gravity(gx=0, gy=-9810, regions=None)
+    >>> Gravity(direction=(0, -2))
+    Gravity(direction=(0, -1), regions=None)
     """
 
     name = "gravity"
 
-    def __init__(self, gx: float = 0.0, gy: float = 0.0, regions: str | list[str] | None = None):
+    def __init__(self, gx: float = 0.0, gy: float = 0.0, regions: str | list[str] | None = None, *,
+                 direction=None):
         from .values import number
 
         self.gx = number(gx, "gravity gx")
         self.gy = number(gy, "gravity gy")
-        if self.gx == 0.0 and self.gy == 0.0:
-            raise InputError("gravity needs a non-zero vector (gx, gy), e.g. gy=-9810.0 in N, mm, MPa "
-                             "(g in mm/s^2) or gy=-9.81 in N, m, Pa")
+        self.direction = None
+        if direction is not None:
+            if self.gx != 0.0 or self.gy != 0.0:
+                raise InputError("gravity: give either direction= (the standard g of the model's units) or the "
+                                 "vector gx, gy, not both")
+            try:
+                d = np.asarray(direction, dtype=float)
+            except (TypeError, ValueError):
+                d = np.zeros(0)
+            n = float(np.hypot(*d)) if d.shape == (2,) and np.all(np.isfinite(d)) else 0.0
+            if n == 0.0:
+                raise InputError(f"gravity direction must be two finite numbers, not both zero, e.g. (0, -1); got "
+                                 f"{direction!r}")
+            self.direction = (float(d[0] / n), float(d[1] / n))
+        elif self.gx == 0.0 and self.gy == 0.0:
+            raise InputError("gravity needs a non-zero vector (gx, gy), e.g. gy=-9806.65 in N, mm, MPa "
+                             "(g in mm/s^2) or gy=-9.80665 in N, m, Pa, or direction=(0, -1) with the "
+                             "model's units stated")
         if isinstance(regions, str):
             regions = [regions]
         self.regions = None if regions is None else [str(r) for r in regions]
@@ -577,7 +606,22 @@ class Gravity(LoadKind):
             raise InputError("gravity on no region: give regions=None (every region) or name some")
 
     def __repr__(self):
+        if self.direction is not None:
+            return (f"Gravity(direction=({_fmt(self.direction[0])}, {_fmt(self.direction[1])}), "
+                    f"regions={self.regions!r})")
         return f"Gravity(gx={_fmt(self.gx)}, gy={_fmt(self.gy)}, regions={self.regions!r})"
+
+    def vector(self, ctx) -> tuple[float, float]:
+        """The acceleration (gx, gy): as given, or the standard g of the model's units along ``direction``."""
+        if self.direction is None:
+            return self.gx, self.gy
+        system = getattr(ctx, "units", None)
+        if system is None or not getattr(system, "stated", False):
+            raise InputError(
+                "gravity: direction= takes the standard g of the model's unit system, and this model states no "
+                "units; name them, e.g. Model(..., units='N, mm, MPa') (g = 9806.65 mm/s^2; planar.core.units "
+                "lists the systems), or give the vector yourself, e.g. Gravity(gy=-9806.65) in N, mm, MPa")
+        return system.g * self.direction[0], system.g * self.direction[1]
 
     def names_used(self):
         return [("region", r) for r in self.regions] if self.regions is not None else []
@@ -607,8 +651,9 @@ class Gravity(LoadKind):
 
     def nodal_forces(self, ctx):
         out = np.zeros((ctx.n_nodes, 2))
+        gx, gy = self.vector(ctx)
         for r, rho in self.densities(ctx).items():
-            out += BodyForce(rho * self.gx, rho * self.gy, region=r).nodal_forces(ctx)
+            out += BodyForce(rho * gx, rho * gy, region=r).nodal_forces(ctx)
         return out
 
     def describe(self):
