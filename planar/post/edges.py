@@ -42,6 +42,7 @@ from ..core.fields import as_centre
 from ..core.quadrature import gauss_line
 from ..core.recovery import METHODS
 from ..core.result import as_result, stress_measures
+from ..core.units import length_unit, stress_unit
 
 __all__ = ["EdgeStresses", "EdgePeak", "edge_stresses", "plot_edge_stresses", "EDGE_FIELDS", "fit_circle"]
 
@@ -132,14 +133,10 @@ class EdgeStresses:
     # ------------------------------------------------------------------ units
     @property
     def stress_unit(self) -> str:
-        from .plots import field_unit
-
-        return field_unit("sigma_xx", self.units)
+        return stress_unit(self.units)
 
     @property
     def length_unit(self) -> str:
-        from .plots import length_unit
-
         return length_unit(self.units)
 
     @property
@@ -217,9 +214,9 @@ class EdgeStresses:
     __str__ = table
 
     def plot(self, fields: Sequence[str] | str = ("sigma_t", "sigma_n", "tau_nt", "von_mises"), *,
-             against: str | None = None, path=None, title: str | None = None, ax=None):
+             against: str | None = None, path=None, title: str | None = None, ax=None, lines=None):
         """Plot the components along the edge (:func:`plot_edge_stresses`)."""
-        return plot_edge_stresses(self, fields, against=against, path=path, title=title, ax=ax)
+        return plot_edge_stresses(self, fields, against=against, path=path, title=title, ax=ax, lines=lines)
 
 
 # ---------------------------------------------------------------------------- geometry
@@ -247,10 +244,10 @@ def fit_circle(points) -> tuple[np.ndarray, float, float]:
     q = (p - mid) / scale
     A = np.column_stack([q, np.ones(len(q))])
     b = -(q * q).sum(axis=1)
-    sol, *_ = np.linalg.lstsq(A, b, rcond=None)
+    sol, _, rank, _ = np.linalg.lstsq(A, b, rcond=1e-10)
     c = -0.5 * sol[:2]
     r2 = float(c @ c - sol[2])
-    if not (np.all(np.isfinite(sol)) and r2 > 0) or len(p) < 3:
+    if len(p) < 3 or rank < 3 or not (np.all(np.isfinite(sol)) and r2 > 0):  # rank 2: the points are on a line
         return mid, math.inf, math.inf
     r = math.sqrt(r2)
     res = float(np.abs(np.hypot(*(q - c).T) - r).max() / r)

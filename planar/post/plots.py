@@ -52,6 +52,7 @@ __all__ = [
 #: table, :data:`planar.core.fields.FIELD_TABLE`, like the units and labels below)
 SIGNED_FIELDS = frozenset(names(signed=True))
 _STRESS = frozenset(names(unit="stress"))
+_POLAR = frozenset(names(kind="polar"))
 _LABELS = {f.name: f.label for f in FIELD_TABLE.values()}
 
 
@@ -430,7 +431,8 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
     if not unit and field_unit(field, "N-mm-MPa"):  # a field with a unit, in a model that states none
         note = "; ".join(filter(None, [note, "units not stated (consistent)"]))
     if title is None:
-        title = f"{field_label(field)}, load case '{result.case}'"
+        about = f" about {fmt_point(centre)}" if centre is not None and field in _POLAR else ""
+        title = f"{field_label(field)}{about}, load case '{result.case}'"
     return plot_nodal_field(result.mesh.nodes, result.mesh.cells, values, displacement=result.u,
                             field=field, unit=unit, length=length_unit(model_units), scale=scale,
                             mesh_lines=mesh_lines, mark_peak=mark_peak, levels=levels, cmap=cmap,
