@@ -261,9 +261,9 @@ def remesher(geometry, **mesh_options) -> Callable:
     ----------
     geometry : planar.geometry.Plate or Shape
     **mesh_options
-        Options of :func:`planar.geometry.mesh` (``size``, ``order``, ``quads``, ``quadratic``,
-        ``refine``, ``seed`` ...). ``size`` sets the first mesh; later meshes follow the size function
-        (never coarser than ``size`` where it was given).
+        Options of :func:`planar.geometry.mesh` (``size``, ``element``, ``refine``, ``seed`` ...;
+        the element is mesh()'s default, T6, unless given). ``size`` sets the first mesh; later
+        meshes follow the size function (never coarser than ``size`` where it was given).
     """
     from ..geometry import mesh as gmesh  # post -> geometry is allowed for remeshing
 
