@@ -20,6 +20,7 @@ from .values import number_or_function
 from .errors import InputError, MeshError, PlanarError, PluginError, fmt_point
 from .elements import line_shape
 from .quadrature import gauss_line
+from .units import standard_gravity, unit_direction
 
 __all__ = [
     "LoadKind",
@@ -163,8 +164,7 @@ class LoadContext:
     material_of : callable, optional
         ``material_of(region) -> material``; by default read from the region's cell blocks.
     units : UnitSystem, optional
-        The model's unit system (:mod:`planar.core.units`), e.g. for the standard gravity; None when
-        the caller does not know it.
+        The model's unit system (:mod:`planar.core.units`, e.g. for the standard g), if known.
     """
 
     def __init__(self, mesh, analysis: str, edge_owner: Callable[[str], EdgeGeometry],
@@ -547,23 +547,21 @@ class Gravity(LoadKind):
         Only these regions carry their weight. By default every region does, and each must have a
         material with a density.
     direction : (float, float), optional
-        Instead of gx, gy: the direction in which gravity pulls, e.g. ``(0, -1)``; its size is the
-        standard gravity (9.80665 m/s^2) in the model's unit system (``Model(..., units=...)``,
-        :mod:`planar.core.units`), refused when the model states no units.
+        Instead of gx, gy: where gravity pulls, e.g. ``(0, -1)``, with the standard g (9.80665 m/s^2)
+        in the model's unit system (:mod:`planar.core.units`); refused when the model states none.
 
     Notes
     -----
-    Units are the user's consistent system. In N, mm, MPa the density is in t/mm^3 (steel
-    7.85e-9) and g = 9806.65 mm/s^2, so ``Gravity(gy=-9806.65)`` or ``Gravity(direction=(0, -1))``
-    pulls down; in SI base units (N, m, Pa) the density is in kg/m^3 and g = 9.80665 m/s^2. Each
-    region's force per volume rho g is integrated as a :class:`BodyForce` (consistent nodal forces
-    with the stiffness's own rule and thickness).
+    Units are the user's consistent system. In N, mm, MPa the density is in t/mm^3 (steel 7.85e-9)
+    and g = 9806.65 mm/s^2, so ``Gravity(gy=-9806.65)`` pulls down; in N, m, Pa, kg/m^3 and 9.80665
+    m/s^2. Each region's force per volume rho g is integrated as a :class:`BodyForce` (consistent
+    nodal forces with the stiffness's own rule and thickness).
 
     Raises
     ------
     InputError
-        A region carrying its weight whose material has no (or a zero) density, naming the region;
-        ``direction=`` in a model that states no units.
+        A region carrying its weight without a (non-zero) density, naming it; ``direction=`` in a
+        model that states no units.
 
     Examples
     --------
@@ -581,24 +579,12 @@ class Gravity(LoadKind):
 
         self.gx = number(gx, "gravity gx")
         self.gy = number(gy, "gravity gy")
-        self.direction = None
-        if direction is not None:
-            if self.gx != 0.0 or self.gy != 0.0:
-                raise InputError("gravity: give either direction= (the standard g of the model's units) or the "
-                                 "vector gx, gy, not both")
-            try:
-                d = np.asarray(direction, dtype=float)
-            except (TypeError, ValueError):
-                d = np.zeros(0)
-            n = float(np.hypot(*d)) if d.shape == (2,) and np.all(np.isfinite(d)) else 0.0
-            if n == 0.0:
-                raise InputError(f"gravity direction must be two finite numbers, not both zero, e.g. (0, -1); got "
-                                 f"{direction!r}")
-            self.direction = (float(d[0] / n), float(d[1] / n))
-        elif self.gx == 0.0 and self.gy == 0.0:
-            raise InputError("gravity needs a non-zero vector (gx, gy), e.g. gy=-9806.65 in N, mm, MPa "
-                             "(g in mm/s^2) or gy=-9.80665 in N, m, Pa, or direction=(0, -1) with the "
-                             "model's units stated")
+        self.direction = None if direction is None else unit_direction(direction, "gravity direction")
+        if self.direction is not None and (self.gx != 0.0 or self.gy != 0.0):
+            raise InputError("gravity: give direction= (the standard g of the model's units) or gx, gy, not both")
+        if self.direction is None and self.gx == 0.0 and self.gy == 0.0:
+            raise InputError("gravity needs a non-zero vector (gx, gy), e.g. gy=-9806.65 in N, mm, MPa (g in "
+                             "mm/s^2), or direction=(0, -1) with the model's units stated")
         if isinstance(regions, str):
             regions = [regions]
         self.regions = None if regions is None else [str(r) for r in regions]
@@ -606,22 +592,9 @@ class Gravity(LoadKind):
             raise InputError("gravity on no region: give regions=None (every region) or name some")
 
     def __repr__(self):
-        if self.direction is not None:
-            return (f"Gravity(direction=({_fmt(self.direction[0])}, {_fmt(self.direction[1])}), "
-                    f"regions={self.regions!r})")
-        return f"Gravity(gx={_fmt(self.gx)}, gy={_fmt(self.gy)}, regions={self.regions!r})"
-
-    def vector(self, ctx) -> tuple[float, float]:
-        """The acceleration (gx, gy): as given, or the standard g of the model's units along ``direction``."""
-        if self.direction is None:
-            return self.gx, self.gy
-        system = getattr(ctx, "units", None)
-        if system is None or not getattr(system, "stated", False):
-            raise InputError(
-                "gravity: direction= takes the standard g of the model's unit system, and this model states no "
-                "units; name them, e.g. Model(..., units='N, mm, MPa') (g = 9806.65 mm/s^2; planar.core.units "
-                "lists the systems), or give the vector yourself, e.g. Gravity(gy=-9806.65) in N, mm, MPa")
-        return system.g * self.direction[0], system.g * self.direction[1]
+        d = self.direction
+        g = f"direction=({_fmt(d[0])}, {_fmt(d[1])})" if d else f"gx={_fmt(self.gx)}, gy={_fmt(self.gy)}"
+        return f"Gravity({g}, regions={self.regions!r})"
 
     def names_used(self):
         return [("region", r) for r in self.regions] if self.regions is not None else []
@@ -651,7 +624,7 @@ class Gravity(LoadKind):
 
     def nodal_forces(self, ctx):
         out = np.zeros((ctx.n_nodes, 2))
-        gx, gy = self.vector(ctx)
+        gx, gy = (self.gx, self.gy) if self.direction is None else standard_gravity(self.direction, ctx.units)
         for r, rho in self.densities(ctx).items():
             out += BodyForce(rho * gx, rho * gy, region=r).nodal_forces(ctx)
         return out

@@ -50,7 +50,8 @@ from .compat import renamed_keywords
 from .errors import InputError
 
 __all__ = ["UnitSystem", "unit_system", "systems", "NOT_STATED", "QUANTITIES", "stress_unit", "length_unit",
-           "force_unit", "field_unit", "bare_unit", "figure_units", "KNOWN_UNITS"]
+           "force_unit", "field_unit", "bare_unit", "figure_units", "KNOWN_UNITS", "unit_direction",
+           "standard_gravity"]
 
 #: the quantities whose unit a system names (:meth:`UnitSystem.unit_of`)
 QUANTITIES = ("force", "length", "stress", "mass", "time", "density", "moment", "force per length",
@@ -395,3 +396,41 @@ def figure_units(field: str, given=None, stored=None) -> tuple[str, str, UnitSys
     if stored is None:
         return "", "", None
     return field_unit(field, stored), stored.length, stored
+
+
+# ---------------------------------------------------------------------------------------- gravity
+def unit_direction(direction, what: str = "direction") -> tuple[float, float]:
+    """A direction (dx, dy) scaled to length one; refused unless two finite numbers, not both zero."""
+    import math
+
+    try:
+        dx, dy = (float(v) for v in direction)
+    except (TypeError, ValueError):
+        dx = dy = math.nan
+    n = math.hypot(dx, dy)
+    if not (math.isfinite(n) and n > 0.0):
+        raise InputError(f"{what} must be two finite numbers, not both zero, e.g. (0, -1); got {direction!r}")
+    return dx / n, dy / n
+
+
+def standard_gravity(direction, units) -> tuple[float, float]:
+    """The standard acceleration of gravity (9.80665 m/s^2) along a direction, in a system's units.
+
+    Raises
+    ------
+    InputError
+        When the system is not stated (no g to take), with the fix.
+
+    Examples
+    --------
+    >>> standard_gravity((0, -1), unit_system("N, mm, MPa"))
+    (0.0, -9806.65)
+    """
+    system = unit_system(units)
+    if not system.stated:
+        raise InputError(
+            "gravity: direction= takes the standard g of the model's unit system, and this model states no "
+            "units; name them, e.g. Model(..., units='N, mm, MPa') (g = 9806.65 mm/s^2; planar.core.units "
+            "lists the systems), or give the vector yourself, e.g. Gravity(gy=-9806.65) in N, mm, MPa")
+    dx, dy = unit_direction(direction)
+    return system.g * dx + 0.0, system.g * dy + 0.0
