@@ -28,7 +28,7 @@ Codes
 ``"linear-peak"``
     A stress peak read by linear elements (T3, Q4, any degree-1 type) at a stress raiser: on a
     concave boundary (hole, fillet, notch, re-entrant corner), 1.5 times the median of the field or
-    more, and falling by a quarter or more across the cells around it. Raised by the peak queries
+    more, and falling by a fifth or more across the cells around it. Raised by the peak queries
     through :func:`planar.core._advice_linear.linear_peak`, not by :func:`advise`.
 
 :mod:`planar.post.checks` adds ``"factor-of-safety"`` (a factor below 1 in a margin of safety) and
