@@ -399,7 +399,8 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
     The pieces of an edge set are ordered one by one: with a centre, each runs counter-clockwise
     about it (theta growing) and a closed loop starts nearest theta = 0; otherwise each runs with
     the material on its left (an outer boundary counter-clockwise) and a closed loop starts at its
-    leftmost node. Where two segments meet, the frame is the mean of theirs. The normal points
+    leftmost node. Where two segments meet, the frame is the mean of theirs (at a sharp corner, the
+    bisector's, where the edge's own frame is not defined: read corners with care). The normal points
     out of the material; sigma_n and tau_nt are the traction on the edge, t = sigma . n (Cauchy),
     so on a free edge both vanish and sigma_t is the only stress (common practice).
     """
