@@ -197,7 +197,7 @@ def _stress_unit(result) -> str:
     return u if u else "(model stress units)"
 
 
-def linear_peak(result, node: int, field: str, values: np.ndarray) -> None:
+def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"linear-peak"`` when a stress peak read by linear elements sits at a stress raiser.
 
     The peak ``values[node]`` of the stress field ``field`` is taken as one at a stress raiser when
@@ -219,6 +219,10 @@ def linear_peak(result, node: int, field: str, values: np.ndarray) -> None:
         angle) never warn.
     values : ndarray, shape (n,)
         The nodal field the peak was taken from (signed; the peak may be negative, as a minimum).
+    stacklevel : int, default 2
+        As for :func:`warnings.warn`, counted from the caller of ``linear_peak``: 2 points the
+        warning at the code that called the caller (e.g. the user's ``result.max(...)`` line); add
+        one for every wrapper (decorator) in between.
 
     Notes
     -----
@@ -259,5 +263,5 @@ def linear_peak(result, node: int, field: str, values: np.ndarray) -> None:
          "Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 element sides round the hole reads the peak 26 % "
          "low, Q4 15 %, T6 6 %). Mesh with quadratic elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) "
          "or much finer elements there, and confirm the peak with a convergence study "
-         "(planar.post.convergence_study)", "linear-peak", sink=result.warnings, stacklevel=3)
+         "(planar.post.convergence_study)", "linear-peak", sink=result.warnings, stacklevel=stacklevel + 1)
     return None
