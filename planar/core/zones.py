@@ -433,6 +433,10 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     peak = float(v[node])
     # the candidates that could beat the peak less DOMINANCE: only they need the distance test
     ok = np.isfinite(v) & (mesh.used_nodes() if mask is None else mask)
+    if mask is not None and np.all(near_idealised(mesh, model, np.flatnonzero(ok))[0]):
+        # the zone lies wholly next to idealisations (e.g. the supported edge itself): weigh its peak
+        # against the rest of the part, or a uniform field would be flagged on its own support
+        ok = np.isfinite(v) & mesh.used_nodes()
     cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
     near_c, _ = near_idealised(mesh, model, cand)
     if np.any(~near_c):

@@ -390,6 +390,9 @@ class PathStresses(_OldMethodName):
     values : dict of str to ndarray
         Field name -> values at the points.
     recovery : str
+    notes : dict of str to str
+        Field name -> why its largest magnitude along the path is not the part's own, when it sits
+        next to an idealised support or concentrated load (fields without a note are not listed).
     """
 
     start: tuple[float, float]
@@ -398,15 +401,59 @@ class PathStresses(_OldMethodName):
     points: np.ndarray
     values: dict[str, np.ndarray]
     recovery: str
+    notes: dict[str, str] = field(default_factory=dict)
 
     def summary(self) -> str:
         lines = [f"path {self.start} -> {self.end}, {self.distance.size} points, {self.recovery} recovery"]
         for k, v in self.values.items():
             i = int(np.argmax(np.abs(v)))
-            lines.append(f"  {k}: max |.| {abs(v[i]):.6g} at distance {self.distance[i]:.6g}; mean {v.mean():.6g}")
+            x, y = self.points[i]
+            lines.append(f"  {k}: max |.| {abs(v[i]):.6g} at distance {self.distance[i]:.6g}, {_where(x, y)}; "
+                         f"mean {v.mean():.6g}")
+            if self.notes.get(k):
+                lines.append(f"    CAUTION: it sits {self.notes[k]}")
         return "\n".join(lines)
 
     __str__ = summary
+
+
+def _path_notes(result, pts: np.ndarray, values: dict[str, np.ndarray], recovery: str) -> dict[str, str]:
+    """Field -> note when its largest magnitude along a path sits next to an idealised support or load.
+
+    A path point counts as next to one when its nearest node does (:func:`planar.core.zones.near_idealised`);
+    the peak is noted when it exceeds the largest magnitude at the path's other points by more than
+    :data:`planar.core.zones.DOMINANCE` (a path wholly next to idealisations, e.g. along a supported
+    edge, is weighed against the nodes of the part away from them).
+    """
+    from scipy.spatial import cKDTree
+
+    from ..core.zones import DOMINANCE, near_idealised
+
+    mesh, model = result.mesh, getattr(result, "model", None)
+    if model is None:
+        return {}
+    used = np.flatnonzero(mesh.used_nodes())
+    _, k = cKDTree(mesh.nodes[used]).query(pts)
+    near, why = near_idealised(mesh, model, used[k])
+    if not near.any():
+        return {}
+    far = None
+    if near.all():
+        far = used[~near_idealised(mesh, model, used)[0]]
+    notes = {}
+    for name, v in values.items():
+        a = np.abs(v)
+        i = int(np.argmax(a))
+        if not near[i]:
+            continue
+        away = a[~near] if far is None else np.abs(result.field(name, recovery=recovery)[far])
+        if away.size and a[i] <= (1 + DOMINANCE) * away.max():
+            continue  # as large a value away from every idealisation: the path's own level
+        other = (f"; the largest magnitude {'along the path' if far is None else 'in the part'} away from "
+                 f"supports and concentrated loads is {away.max():.6g}" if away.size else "")
+        notes[name] = (f"next to {why[i]}: a peak there is made by the idealisation (how the part is held or "
+                       f"loaded), not by the part{other}")
+    return notes
 
 
 @renamed_keywords(method="recovery")
@@ -425,6 +472,8 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     Returns
     -------
     PathStresses
+        Its summary says where the largest magnitude of each field lies along the path, and notes it
+        when it sits next to an idealised support or concentrated load (``PathStresses.notes``).
 
     Raises
     ------
@@ -444,7 +493,8 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     dist = pts = None
     for f in names:
         dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), recovery=recovery)
-    return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, recovery)
+    return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, recovery,
+                        _path_notes(result, pts, values, recovery))
 
 
 @dataclass

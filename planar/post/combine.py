@@ -334,7 +334,14 @@ def combinations(results: Mapping[str, Result],
 
 
 # ---------------------------------------------------------------------------- envelope
-class EnvelopePeak(NamedTuple):
+class _EnvelopePeakTuple(NamedTuple):
+    value: float
+    location: tuple[float, float]
+    node: int
+    case: str
+
+
+class EnvelopePeak(_EnvelopePeakTuple):
     """The largest or smallest value of an envelope (unpacks as ``value, location, node, case``).
 
     Attributes
@@ -344,12 +351,22 @@ class EnvelopePeak(NamedTuple):
     node : int
     case : str
         The case or combination that gives it.
+    where : str
+        Where it was looked for (``"everywhere"`` or the zone's description, e.g. ``"on edge 'fillet'"``).
+    note : str
+        Why the value is not the part's own when it sits next to an idealised support or concentrated
+        load (:func:`planar.core.zones.idealised_reason`); ``""`` otherwise.
     """
 
-    value: float
-    location: tuple[float, float]
-    node: int
-    case: str
+    def __new__(cls, value: float, location: tuple[float, float], node: int, case: str,
+                where: str = "everywhere", note: str = ""):
+        self = super().__new__(cls, value, location, node, case)
+        self.where = where
+        self.note = note
+        return self
+
+    def __getnewargs__(self):
+        return (self.value, self.location, self.node, self.case, self.where, self.note)
 
 
 @dataclass
@@ -372,6 +389,14 @@ class Envelope:
     nodes : ndarray, shape (n, 2)
     cells : dict of str to ndarray
     units : str
+    where : str
+        Where the peaks are read (``"everywhere"`` or the zone's description); ``max`` and ``min`` keep
+        every node, the zone limits :meth:`peak` and :meth:`lowest` only.
+    zone : ndarray of bool or None
+        The zone's nodes (None: every node of an element).
+    notes : (str, str)
+        Why the peak and the lowest value are not the part's own, when they sit next to an idealised
+        support or concentrated load (:func:`planar.core.zones.idealised_reason`), or ``""``.
     """
 
     field: str
@@ -385,6 +410,9 @@ class Envelope:
     cells: dict
     units: str
     _etypes: dict | None = None
+    where: str = "everywhere"
+    zone: np.ndarray | None = None
+    notes: tuple[str, str] = ("", "")
 
     def governing(self, node: int) -> tuple[str, str]:
         """Names of the cases that give the max and the min at one node."""
@@ -399,17 +427,24 @@ class Envelope:
         deprecated("Envelope.method is now .recovery; the old name works for one release")
         return self.recovery
 
-    def _at(self, v: np.ndarray, i: int, governs: np.ndarray) -> EnvelopePeak:
+    def _at(self, v: np.ndarray, i: int, governs: np.ndarray, note: str) -> EnvelopePeak:
         return EnvelopePeak(float(v[i]), (float(self.nodes[i, 0]), float(self.nodes[i, 1])), i,
-                            self.names[governs[i]])
+                            self.names[governs[i]], self.where, note)
+
+    def _in_zone(self, v: np.ndarray) -> np.ndarray:
+        return v if self.zone is None else np.where(self.zone, v, np.nan)
 
     def peak(self) -> EnvelopePeak:
-        """Largest value of the envelope: (value, (x, y), node, governing case)."""
-        return self._at(self.max, int(np.nanargmax(self.max)), self.governs_max)
+        """Largest value of the envelope in its zone: (value, (x, y), node, governing case).
+
+        Its ``where`` says where it was looked for and its ``note`` why it is not the part's own
+        when it sits next to an idealised support or concentrated load.
+        """
+        return self._at(self.max, int(np.nanargmax(self._in_zone(self.max))), self.governs_max, self.notes[0])
 
     def lowest(self) -> EnvelopePeak:
-        """Smallest value of the envelope: (value, (x, y), node, governing case)."""
-        return self._at(self.min, int(np.nanargmin(self.min)), self.governs_min)
+        """Smallest value of the envelope in its zone: (value, (x, y), node, governing case), as :meth:`peak`."""
+        return self._at(self.min, int(np.nanargmin(self._in_zone(self.min))), self.governs_min, self.notes[1])
 
     def counts(self) -> dict[str, tuple[int, int]]:
         """Number of nodes each case governs: name -> (for the max, for the min)."""
@@ -418,11 +453,16 @@ class Envelope:
         return {n: (int(a), int(b)) for n, a, b in zip(self.names, cm, cn)}
 
     def summary(self) -> str:
-        vmax, pmax, _, cmax = self.peak()
-        vmin, pmin, _, cmin = self.lowest()
-        return (f"envelope of {self.field} over {len(self.names)} cases: max {vmax:.6g} at "
-                f"({pmax[0]:.6g}, {pmax[1]:.6g}) from {cmax!r}; min {vmin:.6g} at ({pmin[0]:.6g}, "
-                f"{pmin[1]:.6g}) from {cmin!r}")
+        hi, lo = self.peak(), self.lowest()
+        (vmax, pmax, _, cmax), (vmin, pmin, _, cmin) = hi, lo
+        zone = "" if self.where == "everywhere" else f" {self.where}"
+        s = (f"envelope of {self.field}{zone} over {len(self.names)} cases: max {vmax:.6g} at "
+             f"({pmax[0]:.6g}, {pmax[1]:.6g}) from {cmax!r}; min {vmin:.6g} at ({pmin[0]:.6g}, "
+             f"{pmin[1]:.6g}) from {cmin!r}")
+        for what, e in (("max", hi), ("min", lo)):
+            if e.note:
+                s += f". CAUTION: the {what} sits {e.note}"
+        return s
 
     __str__ = summary
 
@@ -436,7 +476,8 @@ class Envelope:
 
 
 @renamed_keywords(method="recovery")
-def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recovery: str = "spr") -> Envelope:
+def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recovery: str = "spr",
+             where=None) -> Envelope:
     """Envelope (max and min at every node) of a nodal field over cases and combinations.
 
     Parameters
@@ -449,6 +490,11 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
         stresses) are taken from each case's own stress, never combined.
     recovery : {"spr", "average"}
         Nodal stress recovery.
+    where : str or Zone, optional
+        Read the envelope's peaks (:meth:`Envelope.peak`, :meth:`Envelope.lowest`) only here: the name
+        of an edge or region, or a zone of :mod:`planar.core.zones` (``OnEdge``, ``InRegion``,
+        ``InCircle``, ``InBox``, ``Near``, ``Away``). The envelope keeps its values at every node.
+        Default everywhere; a peak next to an idealised support or concentrated load carries a note.
 
     Returns
     -------
@@ -457,7 +503,9 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
     Raises
     ------
     InputError
-        No results, an unknown field, or results from different models or meshes.
+        No results, an unknown field, results from different models or meshes, or an empty zone.
+    NameNotFoundError
+        ``where`` names no edge or region of the mesh (the message lists them).
 
     Notes
     -----
@@ -488,8 +536,16 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
     vmax = np.where(used, V.max(axis=0), np.nan)
     vmin = np.where(used, V.min(axis=0), np.nan)
     etypes = {b.layout: b.etype for b in first.assembly.blocks}
+    zone, said = first.zone_mask(where)  # only nodes of elements; an empty zone is refused
+    from ..core.zones import idealised_reason
+
+    i = int(np.nanargmax(np.where(zone, vmax, np.nan)))
+    j = int(np.nanargmin(np.where(zone, vmin, np.nan)))
+    notes = (idealised_reason(first, i, vmax, zone),
+             idealised_reason(first, j, -vmin, zone, sign_of_values=-1.0))
     return Envelope(field, recovery, names, vmax, vmin, gmax.astype(np.int64), gmin.astype(np.int64),
-                    first.mesh.nodes, dict(first.mesh.cells), first.units, etypes)
+                    first.mesh.nodes, dict(first.mesh.cells), first.units, etypes,
+                    said, None if where is None else zone, notes)
 
 
 # ---------------------------------------------------------------------------- output

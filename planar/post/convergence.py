@@ -422,7 +422,7 @@ def _not_asymptotic(v: np.ndarray, kind: str, p: float, ar: float, band: tuple[f
 @renamed_keywords(method="recovery")
 def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callable = "von_mises", *,
                       case: str | None = None, recovery: str = "spr", unit: str = "", name: str | None = None,
-                      order_band: tuple[float, float] | None = None) -> GridConvergence:
+                      order_band: tuple[float, float] | None = None, where=None) -> GridConvergence:
     """Solve the same model on three or more meshes and study the convergence of a quantity.
 
     Parameters
@@ -440,11 +440,16 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
     unit : str
         Unit of the quantity, for the table and the plot.
     name : str, optional
-        The quantity's name for the table and the plot axis (default: "peak <field>", or the
-        callable's name).
+        The quantity's name for the table and the plot axis (default: "peak <field>", with the zone
+        when ``where`` is given, or the callable's name).
     order_band : (float, float), optional
         Plausible band of the observed order (default [0.5, q + 1], q the highest element degree of
         the meshes).
+    where : str or Zone, optional
+        Read the peak only here when ``quantity`` is a field name (:meth:`planar.Result.max`): the
+        name of an edge or region, or a zone (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``,
+        ``Near``, ``Away``). A peak next to an idealised support or concentrated load on the finest
+        mesh is noted in the study (such a peak is singular and does not converge).
 
     Returns
     -------
@@ -456,7 +461,10 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
     meshes = list(meshes)
     if len(meshes) < 3:
         raise InputError(f"a convergence study needs at least 3 meshes, got {len(meshes)}")
-    values, dofs, degree = [], [], 1
+    if where is not None and callable(quantity):
+        raise InputError("where= limits the peak of a field; a quantity given as a function reads its own "
+                         "zone (e.g. lambda r: r.max('von_mises', where='fillet').value)")
+    values, dofs, degree, said, note = [], [], 1, "everywhere", ""
     for m in meshes:
         for t in getattr(m, "cells", {}):
             try:
@@ -469,9 +477,16 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         if callable(quantity):
             values.append(float(quantity(r)))
         else:
-            values.append(r.max(quantity, recovery=recovery)[0])
+            peak = r.max(quantity, recovery=recovery, where=where)
+            values.append(peak.value)
+            if r.n_dofs >= max(dofs, default=0):
+                said, note = peak.where, peak.note  # of the finest mesh
         dofs.append(r.n_dofs)
     if name is None:
-        name = f"peak {quantity}" if isinstance(quantity, str) else getattr(quantity, "__name__", "quantity")
-    return grid_convergence(values, dofs=dofs, name=name, unit=unit, degree=degree, order_band=order_band,
-                            stacklevel=3)
+        name = (f"peak {quantity}" + ("" if said == "everywhere" else f" {said}") if isinstance(quantity, str)
+                else getattr(quantity, "__name__", "quantity"))
+    g = grid_convergence(values, dofs=dofs, name=name, unit=unit, degree=degree, order_band=order_band,
+                         stacklevel=3)
+    if note:
+        g.notes.append(f"the peak on the finest mesh sits {note}")
+    return g
