@@ -59,7 +59,8 @@ def arguments(p: argparse.ArgumentParser) -> None:
                                                         "(instead of --param)")
     p.add_argument("--output", "-o", action="append", default=[], metavar="NAME=SPEC",
                    help="an output: NAME=max:FIELD, min:FIELD, absmax:FIELD, at:X,Y:FIELD, kt:FIELD:NOMINAL or "
-                        "margin:FIELD:ALLOWABLE[:FS], optionally ending in @average or @spr")
+                        "margin:FIELD:ALLOWABLE[:FS], optionally ending in @average or @spr; a peak, kt or "
+                        "margin read on one edge or region adds 'on NAME' (e.g. 'max:von_mises on fillet')")
     p.add_argument("--out", default="planar-sweep", metavar="DIR",
                    help="folder of the table (sweep.csv, sweep.json, sweep.png) and of the point store "
                         "(DIR/points); default ./planar-sweep")
@@ -103,7 +104,7 @@ def run(args: argparse.Namespace) -> int:
     for t in args.output:
         name, sep, spec = t.partition("=")
         if not sep:
-            spec, name = t, t.replace(":", "_").replace("@", "_").replace(",", "_")
+            spec, name = t, "_".join(t.replace(":", "_").replace("@", "_").replace(",", "_").split())
         outputs[name.strip()] = parse_output(spec)
     out = Path(args.out)
     table = sweep(args.function, **kw, outputs=outputs or None, store=args.store or out / "points",

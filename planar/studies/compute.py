@@ -170,7 +170,10 @@ def _compute_point(function, params: dict, outputs: dict, key: str, function_id:
             if isinstance(spec, _DefaultPeak) and not results:
                 continue  # the function gave numbers only, and no output was asked for
             r = _pick(results, getattr(spec, "case", None), name)
-            out[name] = _json_number(spec(r, values))
+            v = spec(r, values)
+            out[name] = _json_number(v)
+            if getattr(v, "note", ""):  # a peak next to an idealised support or load (outputs.NotedValue)
+                record.setdefault("notes", {})[name] = v.note
         for k, v in extras.items():
             out.setdefault(k, _json_number(v))
         record.update(status="done", outputs=out)

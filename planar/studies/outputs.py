@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 from typing import Any, Mapping
 
@@ -30,6 +31,43 @@ class Output:
         return repr(self)
 
 
+class _ZonedRepr:
+    """The dataclass repr, leaving out ``where`` when it is None (so the spec of an output without a
+    zone reads, and is stored, as it did before outputs took ``where``)."""
+
+    def __repr__(self) -> str:
+        from dataclasses import fields
+
+        items = [f"{f.name}={getattr(self, f.name)!r}" for f in fields(self)
+                 if f.repr and not (f.name == "where" and getattr(self, "where", None) is None)]
+        return f"{type(self).__name__}({', '.join(items)})"
+
+
+class NotedValue(float):
+    """A number read from a peak, with where the peak was looked for and its note (a plain float otherwise).
+
+    ``note`` says why the peak is not the part's own when it sits next to an idealised support or
+    concentrated load (:func:`planar.core.zones.idealised_reason`); a sweep records it with the
+    point (``record["notes"]``).
+    """
+
+    def __new__(cls, value: float, where: str = "everywhere", note: str = ""):
+        self = super().__new__(cls, value)
+        self.where = where
+        self.note = note
+        return self
+
+    def __reduce__(self):
+        return (NotedValue, (float(self), self.where, self.note))
+
+
+def _check_where(where) -> None:
+    """A zone or the name of an edge or region (checked against the mesh when the output is read)."""
+    from ..core.zones import as_zone
+
+    as_zone(where)
+
+
 def _number(v, what: str, values: Mapping[str, Any] | None = None) -> float:
     """A number given directly, or by the name of a parameter or reported value."""
     if isinstance(v, str) and values is not None:
@@ -51,8 +89,8 @@ def _check_stress_args(fld: str, method: str) -> None:
         raise InputError(f"unknown stress recovery {method!r}; pick one of {', '.join(_METHODS)}")
 
 
-@dataclass(frozen=True)
-class Peak(Output):
+@dataclass(frozen=True, repr=False)
+class Peak(_ZonedRepr, Output):
     """Largest (or smallest, or largest magnitude) nodal value of a field.
 
     Parameters
@@ -65,22 +103,31 @@ class Peak(Output):
         ``"absmax"`` gives the signed value of largest magnitude.
     case : str, optional
         Load case, when the point's result has several.
+    where : str or Zone, optional
+        Read the peak only here (:meth:`planar.Result.max`): the name of an edge or region, or a zone
+        (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``, ``Away``). Default everywhere.
+        The value is a :class:`NotedValue`; a peak next to an idealised support or concentrated load
+        is noted in the point's record.
     """
 
     field: str = "von_mises"
     method: str = "spr"
     kind: str = "max"
     case: str | None = None
+    where: Any = None
 
     def __post_init__(self):
         _check_stress_args(self.field, self.method)
         if self.kind not in ("max", "min", "absmax"):
             raise InputError(f"Peak kind must be 'max', 'min' or 'absmax', got {self.kind!r}")
+        _check_where(self.where)
 
     def __call__(self, result, values):
         if self.kind == "min":
-            return result.min(self.field, recovery=self.method)[0]
-        return result.max(self.field, recovery=self.method, absolute=self.kind == "absmax")[0]
+            e = result.min(self.field, recovery=self.method, where=self.where)
+        else:
+            e = result.max(self.field, recovery=self.method, absolute=self.kind == "absmax", where=self.where)
+        return NotedValue(e.value, e.where, e.note)
 
 
 @dataclass(frozen=True)
@@ -112,8 +159,8 @@ class ValueAt(Output):
         return float(result.at(self.point, self.field, recovery=self.method))
 
 
-@dataclass(frozen=True)
-class ConcentrationFactor(Output):
+@dataclass(frozen=True, repr=False)
+class ConcentrationFactor(_ZonedRepr, Output):
     """Stress concentration factor Kt = peak / nominal (:func:`planar.post.checks.kt`).
 
     Parameters
@@ -125,6 +172,8 @@ class ConcentrationFactor(Output):
     absolute : bool
         Largest magnitude instead of the largest signed value.
     case : str, optional
+    where : str or Zone, optional
+        Read the peak only here, as in :class:`Peak`.
     """
 
     nominal: float | str
@@ -132,21 +181,24 @@ class ConcentrationFactor(Output):
     method: str = "spr"
     absolute: bool = False
     case: str | None = None
+    where: Any = None
 
     def __post_init__(self):
         _check_stress_args(self.field, self.method)
         if not isinstance(self.nominal, str):
             _number(self.nominal, "the nominal stress")
+        _check_where(self.where)
 
     def __call__(self, result, values):
         from ..post.checks import kt
 
         nom = _number(self.nominal, "the nominal stress", values)
-        return kt(result, nom, field=self.field, recovery=self.method, absolute=self.absolute).Kt
+        c = kt(result, nom, field=self.field, recovery=self.method, absolute=self.absolute, where=self.where)
+        return NotedValue(c.Kt, c.where, c.note)
 
 
-@dataclass(frozen=True)
-class SafetyMargin(Output):
+@dataclass(frozen=True, repr=False)
+class SafetyMargin(_ZonedRepr, Output):
     """Margin of safety allowable / (FS x peak) - 1 (:func:`planar.post.checks.margin_of_safety`).
 
     Parameters
@@ -157,6 +209,8 @@ class SafetyMargin(Output):
     field : str, default "von_mises"
     method : {"spr", "average"}
     case : str, optional
+    where : str or Zone, optional
+        Read the peak only here, as in :class:`Peak`.
     """
 
     allowable: float | str
@@ -164,20 +218,24 @@ class SafetyMargin(Output):
     field: str = "von_mises"
     method: str = "spr"
     case: str | None = None
+    where: Any = None
 
     def __post_init__(self):
         _check_stress_args(self.field, self.method)
+        _check_where(self.where)
 
     def __call__(self, result, values):
         from ..post.checks import margin_of_safety
 
-        return margin_of_safety(result, _number(self.allowable, "the allowable", values),
-                                _number(self.factor_of_safety, "the factor of safety", values),
-                                field=self.field, recovery=self.method).margin
+        m = margin_of_safety(result, _number(self.allowable, "the allowable", values),
+                             _number(self.factor_of_safety, "the factor of safety", values),
+                             field=self.field, recovery=self.method, where=self.where)
+        return NotedValue(m.margin, m.where, m.note)
 
 
 _OUTPUT_FORMS = ("max:FIELD", "min:FIELD", "absmax:FIELD", "at:X,Y:FIELD", "kt:FIELD:NOMINAL",
                  "margin:FIELD:ALLOWABLE[:FS]")
+_ZONE_WORDS = re.compile(r"\s+on\s+([^\s@]+)")
 
 
 def parse_output(text: str) -> Output:
@@ -186,16 +244,24 @@ def parse_output(text: str) -> Output:
     Forms: ``max:FIELD``, ``min:FIELD``, ``absmax:FIELD``, ``at:X,Y:FIELD``, ``kt:FIELD:NOMINAL``,
     ``margin:FIELD:ALLOWABLE[:FS]``, each optionally ending in ``@average`` or ``@spr`` (the stress
     recovery, default spr). NOMINAL, ALLOWABLE and FS are numbers or names of parameters or of values
-    the function returns.
+    the function returns. A peak, Kt or margin read on one feature adds ``on NAME``, the name of an
+    edge or region (``max:von_mises on fillet``, ``kt:sigma_xx:nominal on bolt_hole@average``).
 
     Examples
     --------
     >>> parse_output("kt:sigma_xx:nominal@average")
     ConcentrationFactor(nominal='nominal', field='sigma_xx', method='average', absolute=False, case=None)
+    >>> parse_output("max:von_mises on fillet")
+    Peak(field='von_mises', method='spr', kind='max', case=None, where='fillet')
     >>> parse_output("at:10,2.5:uy")
     ValueAt(point=(10.0, 2.5), field='uy', method='spr', case=None)
     """
     s = str(text).strip()
+    zones = _ZONE_WORDS.findall(s)
+    where = zones[0] if len(zones) == 1 else None
+    if len(zones) > 1:
+        raise InputError(f"output {text!r} names {len(zones)} zones ({', '.join(zones)}); give one: ... on NAME")
+    s = _ZONE_WORDS.sub("", s).strip()
     method = "spr"
     if "@" in s:
         s, method = s.rsplit("@", 1)
@@ -210,21 +276,24 @@ def parse_output(text: str) -> Output:
 
     try:
         if kind in ("max", "min", "absmax") and len(parts) == 2:
-            return Peak(parts[1], method=method, kind=kind)
+            return Peak(parts[1], method=method, kind=kind, where=where)
         if kind == "at" and len(parts) == 3:
+            if where is not None:
+                raise InputError(f"output {text!r}: a value at a point takes no zone; drop 'on {where}'")
             xy = [float(c) for c in parts[1].split(",")]
             return ValueAt(tuple(xy), parts[2], method=method)
         if kind == "kt" and len(parts) == 3:
-            return ConcentrationFactor(num_or_name(parts[2]), parts[1], method=method)
+            return ConcentrationFactor(num_or_name(parts[2]), parts[1], method=method, where=where)
         if kind == "margin" and len(parts) in (3, 4):
             fs = num_or_name(parts[3]) if len(parts) == 4 else 1.0
-            return SafetyMargin(num_or_name(parts[2]), fs, parts[1], method=method)
+            return SafetyMargin(num_or_name(parts[2]), fs, parts[1], method=method, where=where)
     except InputError:
         raise
     except ValueError:  # coordinates that are not numbers
         pass
     raise InputError(f"cannot read the output {text!r}; write it as one of {', '.join(_OUTPUT_FORMS)} "
-                     "(optionally ending in @average or @spr)")
+                     "(optionally ending in @average or @spr; a peak, kt or margin on one edge or region adds "
+                     "'on NAME')")
 
 
 def _describe_output(o) -> str:

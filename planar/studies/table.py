@@ -123,6 +123,10 @@ class SweepTable:
         widths = [max(len(c), *(len(b[i]) for b in body)) if body else len(c) for i, c in enumerate(cols)]
         lines = ["  ".join(c.rjust(w) for c, w in zip(cols, widths))]
         lines += ["  ".join(v.rjust(w) for v, w in zip(b, widths)) for b in body]
+        for o in self.outputs:  # a peak next to an idealised support or load, as its record notes it
+            noted = [r["notes"][o] for r in self.records if o in (r.get("notes") or {})]
+            if noted:
+                lines.append(f"note: {o} at {len(noted)} of {len(self.records)} points: the peak sits {noted[0]}")
         return "\n".join(lines)
 
     __str__ = format
