@@ -232,6 +232,8 @@ def test_plot_table_and_json_state_the_units(kirsch, tmp_path):
     bar = fig.axes[1]
     assert (bar.get_xlabel() or bar.get_ylabel()) == r"hoop stress $\sigma_\theta$ [MPa]"
     assert "about (0, 0)" in fig.axes[0].get_title(loc="left")
+    fig = planar.post.plot_along(r, (1.0, 0.0), (4.0, 0.0), "sigma_theta", centre=(0.0, 0.0))
+    assert fig.axes[0].get_ylabel() == r"hoop stress $\sigma_\theta$ [MPa]"
 
 
 def test_a_straight_edge_has_no_angle_to_plot_against(strip):

@@ -586,7 +586,7 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
 # ---------------------------------------------------------------------------------------- paths
 def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = "spr",
                n_points: int = 201, path=None, units: str | None = None,
-               lines: Mapping[str, float] | None = None, title: str | None = None, ax=None):
+               lines: Mapping[str, float] | None = None, title: str | None = None, ax=None, centre=None):
     """A field along the straight path from ``start`` to ``end`` (:meth:`planar.Result.along`).
 
     Parameters
@@ -605,13 +605,15 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
         Unit of the field; default from ``model.units``.
     lines : mapping of str to float, optional
         Reference levels drawn as labelled horizontal lines, e.g. ``{"net-section stress": 84.0}``.
+    centre : (float, float), optional
+        Origin of the polar axes of ``sigma_r``, ``sigma_theta`` and ``tau_r_theta``.
 
     Returns
     -------
     matplotlib.figure.Figure
     """
     result = as_result(result, "plot_along")
-    dist, pts, vals = result.along(start, end, field, n_points=n_points, recovery=recovery)
+    dist, pts, vals = result.along(start, end, field, n_points=n_points, recovery=recovery, centre=centre)
     model_units = getattr(result, "units", None)
     unit = units if units is not None else field_unit(field, model_units)
     length = length_unit(model_units)
