@@ -409,6 +409,8 @@ def equilibrium_errors(asm, R: np.ndarray, F: np.ndarray) -> np.ndarray:
     if frame is None:  # the centre, size, stiffness and prescribed level: once per assembly
         stiff = max((float(np.abs(b.D).max()) * b.thickness for b in asm.blocks), default=0.0)
         moved = float(np.abs(gather(mesh, model.supports).value).max(initial=0.0))
+        for p in getattr(model, "pins", None) or []:  # a pin moved as a rigid body: its motion at the part's size
+            moved = max(moved, abs(p.move[0]), abs(p.move[1]), abs(p.move[2]) * mesh.size())
         frame = asm._equilibrium_frame = (mesh.nodes.mean(axis=0), max(mesh.size(), 1e-300), stiff * moved)
     centre, L, level = frame
     m = R.shape[2]

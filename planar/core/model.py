@@ -95,6 +95,7 @@ class Model:
                                _check_thickness(thickness))
         self.sections: dict[str, Section] = {}
         self.supports: list[Support] = []
+        self.pins: list = []  # planar.core.pins.Pin, added with add_pin
         self.cases: dict[str, list[LoadKind]] = {}
         self.elements = dict(elements or {})
         self.quadrature = dict(quadrature or {})
@@ -177,6 +178,18 @@ class Model:
         self.supports.append(support)
         return support
 
+    def add_pin(self, pin):
+        """Add a pin tied to a named edge (:class:`planar.core.pins.Pin`); it acts in every load case.
+
+        Load it per case with ``add_load(PinLoad(name, fx=..., fy=..., moment=...), case=...)`` or
+        ``add_load("pin-load", pin=name, ...)``.
+        """
+        from .pins import check_new_pin
+
+        check_new_pin(self, pin)
+        self.pins.append(pin)
+        return pin
+
     def add_case(self, case: str) -> str:
         """Create a load case with no load yet (e.g. one driven by prescribed displacements only)."""
         self.cases.setdefault(str(case), [])
@@ -225,6 +238,6 @@ class Model:
                     "thickness": self.section(r).thickness}
                 for r in regions
             },
-            "supports": [s.describe() for s in self.supports],
+            "supports": [s.describe() for s in self.supports] + [p.describe() for p in self.pins],
             "cases": {c: [l.describe() for l in ls] for c, ls in self.cases.items()},
         }

@@ -93,6 +93,9 @@ class GaussField:
 class Result(CaseResult):
     """Solution of one load case.
 
+    With pins (:class:`planar.core.pins.Pin`), ``pin_forces`` (n, 2) holds the forces the pins exert on
+    their edge nodes and ``pin_states`` each pin's figures; :meth:`support_reactions` reports them.
+
     Attributes
     ----------
     case : str
@@ -380,13 +383,59 @@ class Result(CaseResult):
         """Strain energy 1/2 integral of sigma : (eps - eps0) dV."""
         return float(sum(0.5 * np.einsum("eqa,eqa,eq->", g.stress, g.mech_strain, g.dvol) for g in self.gauss))
 
+    #: forces the pins exert on their edge nodes (n, 2), None without pins
+    pin_forces = None
+    #: each pin's figures in this case (planar.core._tying.PinState), None without pins
+    pin_states = None
+
     def total_reaction(self) -> np.ndarray:
-        """Sum of the support reactions (Rx, Ry)."""
-        return self.reactions.sum(axis=0)
+        """Sum of the support reactions and the pins' reactions (Rx, Ry)."""
+        r = self.reactions.sum(axis=0)
+        for st in self.pin_states or []:
+            r = r + np.asarray(st["reaction"][:2])
+        return r
 
     def total_applied(self) -> np.ndarray:
-        """Sum of the applied nodal forces (Fx, Fy)."""
-        return self.applied.sum(axis=0)
+        """Sum of the applied nodal forces and the loads on pins (Fx, Fy)."""
+        f = self.applied.sum(axis=0)
+        for st in self.pin_states or []:
+            f = f + np.asarray(st["load"][:2])
+        return f
+
+    def support_reactions(self, about=(0.0, 0.0)) -> list:
+        """The force and moment each support and each pin exerts on the part.
+
+        Parameters
+        ----------
+        about : (x, y) or "own"
+            The point moments are taken about: the origin by default (then the records add up with
+            the applied loads to zero), or ``"own"``: each support about the centre of the nodes it
+            holds, each pin about its reference point.
+
+        Returns
+        -------
+        list of planar.core.reactions.Reaction
+            name, kind, force (Rx, Ry), moment, about; pins also load, reaction and motion.
+        """
+        from .reactions import support_reactions
+
+        return support_reactions(self, about)
+
+    def total_moment(self, about=(0.0, 0.0)) -> tuple[float, float]:
+        """(moment of the applied loads, moment of the reactions) about a point, pins' loads and reactions included."""
+        a = np.asarray(about, dtype=float)
+        x = self.mesh.nodes - a
+        ma = float(x[:, 0] @ self.applied[:, 1] - x[:, 1] @ self.applied[:, 0])
+        mr = float(x[:, 0] @ self.reactions[:, 1] - x[:, 1] @ self.reactions[:, 0])
+        for st in self.pin_states or []:
+            p = np.asarray(st["point"]) - a
+            for part, sign in ((st["load"], "a"), (st["reaction"], "r")):
+                m = part[2] + float(p[0] * part[1] - p[1] * part[0])
+                if sign == "a":
+                    ma += m
+                else:
+                    mr += m
+        return ma, mr
 
     def equilibrium_error(self) -> float:
         """|sum of reactions + sum of applied forces| relative to the largest of their magnitudes.
@@ -405,7 +454,8 @@ class Result(CaseResult):
         """
         from .diagnose import equilibrium_errors
 
-        return float(equilibrium_errors(self.assembly, self.reactions[:, :, None], self.applied[:, :, None])[0])
+        R = self.reactions if self.pin_forces is None else self.reactions + self.pin_forces
+        return float(equilibrium_errors(self.assembly, R[:, :, None], self.applied[:, :, None])[0])
 
     def summary(self) -> dict[str, Any]:
         peak = self.max("von_mises")
@@ -420,6 +470,7 @@ class Result(CaseResult):
             "reaction": self.total_reaction().tolist(),
             "applied": self.total_applied().tolist(),
             "equilibrium_error": self.equilibrium_error(),
+            "support_reactions": [r.as_dict() for r in self.support_reactions()],
             "solver": self.solver,
             "warnings": [w.as_dict() for w in self.warnings],
         }

@@ -17,6 +17,7 @@ from .result import Result
 from . import diagnose, solvers
 from .solvers import choose, factorize
 from .supports import gather, note_snapped
+from ._tying import Tying
 from .timing import Timer
 
 __all__ = ["solve", "Results", "Constrained", "constrain"]
@@ -191,7 +192,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     for c in cases:
         if c not in model.cases:
             raise unknown_name("load case", c, model.cases)
-    if not model.supports:
+    if not model.supports and not getattr(model, "pins", None):
         raise SupportError(
             "the model has no supports, so it can move freely: add at least Fixed(edge), or rollers "
             "that hold translation x, translation y and rotation"
@@ -204,9 +205,13 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     asm = Assembly(model, distortion_limit=distortion_limit)
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
+    tie = Tying(asm, model, cons) if getattr(model, "pins", None) else None  # pins: eliminated ties (core/_tying)
     note_snapped(mesh, model.supports, pending_warnings(asm))  # supports at coordinates: the distance kept
     zero_energy_check(asm, sink=pending_warnings(asm))  # hourglass modes, before any global work
-    rigid_body_check(mesh, cons, sink=pending_warnings(asm))  # free motions and hinges
+    if tie is None:
+        rigid_body_check(mesh, cons, sink=pending_warnings(asm))  # free motions and hinges
+    else:
+        tie.check_motions(mesh, cons, sink=pending_warnings(asm))  # the held pins count
     ndof = 2 * mesh.n_nodes
     unused = np.flatnonzero(~mesh.used_nodes())
     pres = np.zeros(ndof, dtype=bool)
@@ -215,6 +220,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     pres[2 * unused + 1] = True
     up = np.zeros(ndof)
     up[cons.dofs] = cons.values
+    if tie is not None:
+        tie.mark(pres, up)  # the eliminated unknowns are assembled as prescribed
     free = np.flatnonzero(~pres)
     pdofs = np.flatnonzero(pres)
     free_index = np.full(ndof, -1, dtype=np.int64)
@@ -235,6 +242,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
     coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
     rhs = Fl[free] - coupling[free][:, None]
+    if tie is not None:
+        system, rhs, Fl = tie.reduce(system, free, pdofs, up, Fl, rhs, cases)
     timer.lap("load vectors")
     after_ordering = None
     if solver in solvers.OVERLAPS_ORDERING:  # its ordering keeps one core busy, without the GIL
@@ -246,6 +255,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     modes = None
     if solver in ("amg", "auto"):
         modes = _rigid_modes(mesh.nodes, cons.rotation)[free]
+        if tie is not None:
+            modes = tie.rigid_modes(modes, mesh.nodes)
     if keep_system:
         asm.system = system
         asm.rhs = rhs
@@ -261,17 +272,21 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         # one more column: a step of inverse iteration for the condition estimate
         sol, probe = diagnose.solve_with_probe(fac, rhs)
         sol = diagnose.meet_accuracy(fac, system, rhs, sol, figures)  # iterative: go on as far as needed
-        ul[free] = sol[:, : len(cases)]
+        ul[free] = sol[: free.size, : len(cases)]
+        if tie is not None:
+            tie.expand(ul, sol[:, : len(cases)])
     except MemoryError:
         raise _out_of_memory(f"factorizing with the {solver!r} solver", free.size, entries) from None
     except SolverError as exc:
         if not getattr(exc, "numerical", False):
             raise
-        raise diagnose.explain_failure(asm, system, free, solver, exc, rhs) from None
+        raise diagnose.explain_failure(asm, system, free if tie is None else tie.diagnosis_free(free), solver, exc,
+                                       rhs) from None
     timer.lap("solve")
     timer.start("checking the solution of")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
+    P = tie.forces(Rl, free) if tie is not None else 0.0  # the forces the pins exert on their edge nodes
     _check_finite(ul, Rl, cases)
     Rl[2 * unused] = 0.0
     Rl[2 * unused + 1] = 0.0
@@ -280,7 +295,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         R = cons.rotation.to_global(Rl.reshape(-1, 2, len(cases))).reshape(ndof, -1)
     else:
         U, R = ul, Rl
-    trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R, F, U, free=free, figures=figures)
+    pin_rows = tie.states(U, P, cases) if tie is not None else None
+    trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R + P, F, U,
+                                    free=free if tie is None else tie.diagnosis_free(free), figures=figures)
     timer.lap("solution check")
     results = Results()
     for j, c in enumerate(cases):
@@ -288,6 +305,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
                             loads[j][1], solver=fac.name, timer=timer,
                             solver_info={**fac.info, **trust.info(j)})
         diagnose.warn_untrusted(results[c], trust, j)
+        if tie is not None:
+            results[c].pin_forces = P[:, j].reshape(-1, 2)
+            results[c].pin_states = pin_rows[j]
     del system
     from .advice import advise
 

@@ -1,0 +1,373 @@
+"""Pins tied to edges, solved by elimination: the multipoint constraints of :mod:`planar.core.pins`.
+
+Method (the classical treatment of multipoint constraints by transformation; R. D. Cook, D. S.
+Malkus, M. E. Plesha and R. J. Witt, Concepts and Applications of Finite Element Analysis, 4th ed.,
+2002, sec. 9.2, "transformation" method; from memory). Some unknowns of the tied edges, ``E``, are
+eliminated: they are written through the unknowns that remain, ``N`` (the other free unknowns ``O``
+of the mesh and the pin unknowns ``P``), and a constant::
+
+    u_E = A u_N + g
+
+* rigid tie: ``E`` is every unknown of the edge, ``u_E = G q`` with ``q`` the pin's three unknowns
+  (two translations in the pin's basis and the rotation times the edge's radius of gyration
+  ``rho``, so all three are lengths) and ``G`` the rigid motion of the edge nodes (master-slave);
+  held components of ``q`` go into ``g``.
+* spreading tie: the pin's motion is the weighted least-squares rigid fit ``q = C u_S`` of the edge
+  nodes' motion (weights: tributary length times thickness), and its load is spread as nodal forces
+  ``C^T f`` (so ``G^T C^T f = f``: the resultant and moment are exact, and no stiffness is added).
+  A free pin needs no unknown at all. Each held component is one linear constraint ``h_k C u_S = v_k``
+  on the edge unknowns: one dependent unknown per constraint is eliminated (chosen by a QR with column
+  pivoting of the constraint rows, for the best-conditioned k x k block), written through the other
+  edge unknowns.
+
+The mesh is assembled as usual with ``E`` among the prescribed unknowns, so the lower triangle of
+``K_OO`` and the rows ``K_E`` come out of :meth:`planar.core.assembly.Assembly.system` untouched. The
+reduced stiffness ``T^T K T`` only changes where ``A`` acts::
+
+    K~ = K_NN + A^T K_EN + K_NE A + A^T K_EE A,      f~ = f_N + A^T (f_E - (K g~)_E)
+
+which is a small sparse matrix over the edge unknowns, their neighbours and the pin unknowns (appended
+after ``O``), added to the lower triangle once. ``K~`` is symmetric positive definite when the model is
+held, one factorization serves every load case, and the cost is one pass over ``K_OO``'s entries plus
+work proportional to the tied edges. The spreading tie of a held pin couples the edge's unknowns to each
+other (a dense block of (2 n_edge)^2 / 2 entries: 2e5 for a hole of 300 nodes).
+
+Afterwards ``u_E = A u_N + g``, and the force each pin exerts on the edge nodes is ``K u - f`` there
+(for the spreading tie also at the other edge nodes, ``f_tie - A^T r_E``); the pin's force and moment
+are their resultant, its reaction that minus its load.
+"""
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.linalg import qr
+
+from .errors import InputError, SupportError, fmt_point
+from .pins import pin_loads
+
+__all__ = ["Tying", "PinState"]
+
+
+class PinState(dict):
+    """One pin's figures in one load case (a dict: name, tie, point, force, moment, load, reaction, motion)."""
+
+
+def _weights(asm, edge: str, nodes: np.ndarray) -> np.ndarray:
+    """Tributary length times thickness of each node of an edge (the integral of its shape function)."""
+    eg = asm._edge_geometry(edge)
+    seg, xy = eg.nodes, eg.coords
+    length = np.hypot(*(xy[:, 1] - xy[:, 0]).T) if seg.shape[1] == 2 else None
+    w = np.zeros(asm.mesh.n_nodes)
+    if seg.shape[1] == 2:
+        share = np.column_stack([length, length]) / 2
+    else:  # quadratic edge: 1/6, 1/6, 2/3 of the length between its ends (Simpson's rule)
+        chord = np.hypot(*(xy[:, 2] - xy[:, 0]).T) + np.hypot(*(xy[:, 1] - xy[:, 2]).T)
+        share = chord[:, None] * np.array([1 / 6, 1 / 6, 2 / 3])
+    np.add.at(w, seg.ravel(), (share * eg.thickness[:, None]).ravel())
+    return w[nodes]
+
+
+class Tying:
+    """The pins of a model tied to the mesh: which unknowns are eliminated, and how.
+
+    Parameters
+    ----------
+    asm : Assembly
+    model : Model
+    cons : Constrained
+        The supports as prescribed unknowns (nodes of a tied edge must not be held by a support).
+    """
+
+    def __init__(self, asm, model, cons):
+        mesh = asm.mesh
+        self.mesh = mesh
+        self.pins = list(model.pins)
+        self.model = model
+        for case in model.cases:  # a load on a pin that does not exist: refused before any work
+            pin_loads(model, case)
+        seen = np.zeros(mesh.n_nodes, bool)
+        self.data = []
+        e_off, p_off = 0, 0
+        for pin in self.pins:
+            nodes = np.unique(mesh.edge(pin.edge))
+            if np.any(seen[nodes]):
+                raise SupportError(f"{pin.describe()} shares nodes with another pin's edge; tie each node to one pin")
+            seen[nodes] = True
+            if cons.rotation is not None and np.intersect1d(nodes, cons.rotation.nodes).size:
+                k = int(np.intersect1d(nodes, cons.rotation.nodes)[0])
+                raise SupportError(f"{pin.describe()}: node {k} at {fmt_point(mesh.nodes[k])} of its edge is held along "
+                                   "an inclined direction by a support; hold the pin instead (hold=, rotation=)")
+            xp = pin.point(mesh)
+            r = mesh.nodes[nodes] - xp
+            rho = float(np.sqrt((r ** 2).sum(axis=1).mean()))
+            if not rho > 0:
+                raise InputError(f"{pin.describe()}: its edge is a single point at the pin; tie it to an edge")
+            ns = nodes.size
+            G = np.zeros((2 * ns, 3))
+            G[0::2, 0] = 1.0
+            G[1::2, 1] = 1.0
+            G[0::2, 2] = -r[:, 1] / rho
+            G[1::2, 2] = r[:, 0] / rho
+            Q = np.eye(3)
+            Q[:2, :2] = pin.basis
+            values = pin.values * np.array([1.0, 1.0, rho])  # in the pin's basis, the rotation times rho
+            if np.unique(r.round(12), axis=0).shape[0] < 2 or np.linalg.matrix_rank(G, tol=1e-9) < 3:
+                raise SupportError(f"{pin.describe()}: its edge has too few distinct nodes to carry a moment; "
+                                   "tie the pin to a longer edge")
+            dofs = np.column_stack([2 * nodes, 2 * nodes + 1]).ravel()
+            w = np.repeat(_weights(asm, pin.edge, nodes), 2)
+            C = np.linalg.solve(G.T @ (w[:, None] * G), (G * w[:, None]).T)  # (3, 2 ns): the weighted rigid fit
+            d = dict(pin=pin, nodes=nodes, point=xp, rho=rho, G=G, Q=Q, C=C, dofs=dofs, values=values)
+            held = pin.held
+            on = np.isin(dofs, cons.dofs)  # edge unknowns a support prescribes too
+            pval = np.zeros(dofs.size)
+            if on.any():
+                pval[on] = cons.values[np.searchsorted(cons.dofs, dofs[on])]
+            if pin.tie == "rigid":
+                d["E"] = dofs
+                d["free_comp"] = np.flatnonzero(~held)
+                d["p_off"] = p_off
+                d["g"] = (G @ Q)[:, held] @ values[held]
+                p_off += d["free_comp"].size
+                # a support row on the edge is allowed where the held pin implies it (a symmetry line through
+                # the hole); the pin then carries its reaction
+                GQ = G @ Q
+                scale = max(1.0, float(np.abs(values).max()), float(np.abs(pval).max()))
+                bad = on & ((np.abs(GQ[:, ~held]).max(axis=1, initial=0.0) > 1e-9)
+                            | (np.abs(d["g"] - pval) > 1e-9 * scale))
+                if bad.any():
+                    k = int(dofs[np.argmax(bad)] // 2)
+                    raise SupportError(f"{pin.describe()}: node {k} at {fmt_point(mesh.nodes[k])} of its edge is held "
+                                       "by a support in a way the pin does not hold it; a rigidly tied edge moves with "
+                                       "its pin: hold the pin instead (hold=, rotation=), or remove that support")
+            else:
+                H = (Q.T @ C)[held]  # (k, 2 ns) held rows
+                if H.shape[0]:
+                    # the dependent unknowns are chosen among the edge unknowns no support prescribes
+                    cand = np.flatnonzero(~on)
+                    _, _, piv = qr(H[:, cand], pivoting=True, mode="economic")
+                    D = np.sort(cand[piv[: H.shape[0]]])
+                    R = np.setdiff1d(cand, D)
+                    MD = H[:, D]
+                    if np.linalg.matrix_rank(MD, tol=1e-9 * max(np.abs(H).max(), 1e-300)) < H.shape[0]:
+                        raise SupportError(f"{pin.describe()}: the supports on its edge leave too few of its unknowns "
+                                           "to hold the pin; remove them or use tie='rigid'")
+                    d["E"], d["R"] = dofs[D], dofs[R]
+                    d["AR"] = -np.linalg.solve(MD, H[:, R])  # u_D = AR u_R + g
+                    d["g"] = np.linalg.solve(MD, values[held] - H[:, on] @ pval[on])
+                else:
+                    R = dofs[~on]
+                    d["E"], d["R"], d["AR"], d["g"] = np.zeros(0, np.int64), R, np.zeros((0, R.size)), np.zeros(0)
+            d["e_off"] = e_off
+            e_off += d["E"].size
+            self.data.append(d)
+        self.n_pin = p_off
+        self.E = np.concatenate([d["E"] for d in self.data]).astype(np.int64)
+        self.g = np.concatenate([d["g"] for d in self.data])
+
+    # ------------------------------------------------------------------ before the solve
+    def mark(self, pres: np.ndarray, up: np.ndarray) -> None:
+        """Mark the eliminated unknowns as prescribed for the assembly, their constant part in ``up``."""
+        pres[self.E] = True
+        up[self.E] = self.g
+
+    def tie_forces(self, cases: list[str]) -> np.ndarray:
+        """Nodal forces (2n, m) of the spreading ties' pin loads, ``C^T f``."""
+        out = np.zeros((2 * self.mesh.n_nodes, len(cases)))
+        for j, c in enumerate(cases):
+            loads = pin_loads(self.model, c)
+            for d in self.data:
+                f = loads.get(d["pin"].name)
+                if f is not None and d["pin"].tie == "spreading":
+                    out[d["dofs"], j] += d["C"].T @ (f * np.array([1.0, 1.0, 1.0 / d["rho"]]))
+        return out
+
+    def reduce(self, system, free: np.ndarray, pdofs: np.ndarray, up: np.ndarray, Fl: np.ndarray,
+               rhs: np.ndarray, cases: list[str]):
+        """The reduced system with the ties eliminated: (system, right-hand sides, nodal forces with the ties')."""
+        from .assembly import ReducedSystem
+
+        ndof = 2 * self.mesh.n_nodes
+        nO = free.size
+        n_new = nO + self.n_pin
+        fidx = np.full(ndof, -1, dtype=np.int64)
+        fidx[free] = np.arange(nO)
+        pidx = np.full(ndof, -1, dtype=np.int64)
+        pidx[pdofs] = np.arange(pdofs.size)
+        rows, cols, vals = [], [], []
+        for d in self.data:
+            if d["pin"].tie == "rigid":
+                GQ = (d["G"] @ d["Q"])[:, d["free_comp"]]
+                k = d["free_comp"].size
+                rows.append(np.repeat(d["e_off"] + np.arange(d["E"].size), k))
+                cols.append(np.tile(nO + d["p_off"] + np.arange(k), d["E"].size))
+                vals.append(GQ.ravel())
+            elif d["E"].size:
+                AR = d["AR"]
+                rows.append(np.repeat(d["e_off"] + np.arange(d["E"].size), AR.shape[1]))
+                cols.append(np.tile(fidx[d["R"]], d["E"].size))
+                vals.append(AR.ravel())
+        nE = self.E.size
+        cat = lambda x, t: np.concatenate(x).astype(t) if x else np.zeros(0, t)  # noqa: E731
+        A = sp.csr_matrix((cat(vals, float), (cat(rows, np.int64), cat(cols, np.int64))), shape=(nE, n_new))
+        KE = system.prescribed_rows[pidx[self.E]].tocoo()
+        inO = fidx[KE.col] >= 0
+        KEN = sp.csr_matrix((KE.data[inO], (KE.row[inO], fidx[KE.col[inO]])), shape=(nE, n_new))
+        eidx = np.full(ndof, -1, dtype=np.int64)
+        eidx[self.E] = np.arange(nE)
+        inE = eidx[KE.col] >= 0
+        KEE = sp.csr_matrix((KE.data[inE], (KE.row[inE], eidx[KE.col[inE]])), shape=(nE, nE))
+        M1 = (A.T @ KEN).tocsr()
+        dK = M1 + M1.T + A.T @ (KEE @ A)
+        L = system.lower
+        indptr = np.r_[L.indptr, np.full(self.n_pin, L.indptr[-1], dtype=L.indptr.dtype)]
+        Lp = sp.csc_matrix((L.data, L.indices, indptr), shape=(n_new, n_new))
+        Lnew = (Lp + sp.tril(dK).tocsc()).tocsc()
+        Lnew.sum_duplicates()
+        Lnew.sort_indices()
+        self.A, self.nO, self.KE = A, nO, system.prescribed_rows[pidx[self.E]]
+        m = len(cases)
+        self.f_tie = self.tie_forces(cases)
+        Fl = Fl + self.f_tie
+        KgE = self.KE @ up  # (K g~)_E: the supports' values and the constant parts of the ties
+        out = np.zeros((n_new, m))
+        out[:nO] = rhs.reshape(nO, m) + self.f_tie[free]
+        out += A.T @ (Fl[self.E] - KgE[:, None])
+        for j, c in enumerate(cases):
+            loads = pin_loads(self.model, c)
+            for d in self.data:
+                f = loads.get(d["pin"].name)
+                if f is not None and d["pin"].tie == "rigid":
+                    fq = d["Q"].T @ (f * np.array([1.0, 1.0, 1.0 / d["rho"]]))
+                    out[nO + d["p_off"] + np.arange(d["free_comp"].size), j] += fq[d["free_comp"]]
+        return ReducedSystem(Lnew, system.prescribed_rows), out, Fl
+
+    def rigid_modes(self, modes: np.ndarray, xy: np.ndarray) -> np.ndarray:
+        """The rigid modes over the free unknowns (as :func:`planar.core.static._rigid_modes`), pins appended."""
+        c = xy.mean(axis=0)
+        Lm = max(np.ptp(xy[:, 0]), np.ptp(xy[:, 1]), 1e-300)
+        extra = []
+        for d in self.data:
+            if d["pin"].tie != "rigid":
+                continue
+            p = d["point"]
+            B = np.array([[1.0, 0.0, -(p[1] - c[1]) / Lm], [0.0, 1.0, (p[0] - c[0]) / Lm], [0.0, 0.0, d["rho"] / Lm]])
+            B[:2] = d["Q"][:2, :2].T @ B[:2]
+            extra.append(B[d["free_comp"]])
+        return np.vstack([modes] + extra) if extra else modes
+
+    def diagnosis_free(self, free: np.ndarray) -> np.ndarray:
+        """A global unknown for each reduced unknown, for locating a soft mode: a pin's at its first edge node."""
+        extra = []
+        for d in self.data:
+            if d["pin"].tie == "rigid":
+                extra.append(d["dofs"][np.minimum(d["free_comp"], 1)])
+        return np.concatenate([free] + extra) if extra else free
+
+    # ------------------------------------------------------------------ after the solve
+    def expand(self, ul: np.ndarray, sol: np.ndarray) -> None:
+        """Fill in the eliminated unknowns: ``u_E = A u_N + g``."""
+        ul[self.E] = self.A @ sol.reshape(self.A.shape[1], -1) + self.g[:, None]
+
+    def forces(self, Rl: np.ndarray, free: np.ndarray) -> np.ndarray:
+        """The forces the pins exert on their edge nodes (2n, m); their rows taken out of ``Rl``."""
+        rE = Rl[self.E].copy()
+        Rl[self.E] = 0.0
+        P = self.f_tie.copy()  # the spread pin loads, then the constraint forces
+        P[self.E] += rE
+        P[free] -= self.A[:, : self.nO].T @ rE
+        return P
+
+    def states(self, U: np.ndarray, P: np.ndarray, cases: list[str]) -> list[list[PinState]]:
+        """Each pin's force, moment, load, reaction and motion, per load case."""
+        out = []
+        for j, c in enumerate(cases):
+            loads = pin_loads(self.model, c)
+            row = []
+            for d in self.data:
+                pin, nodes = d["pin"], d["nodes"]
+                f = P[d["dofs"], j].reshape(-1, 2)
+                r = self.mesh.nodes[nodes] - d["point"]
+                force = f.sum(axis=0)
+                moment = float(r[:, 0] @ f[:, 1] - r[:, 1] @ f[:, 0])
+                load = loads.get(pin.name, np.zeros(3))
+                q = d["C"] @ U[d["dofs"], j]
+                row.append(PinState(name=pin.name, tie=pin.tie, edge=pin.edge, point=tuple(map(float, d["point"])),
+                                    force=(float(force[0]), float(force[1])), moment=moment,
+                                    load=tuple(map(float, load)),
+                                    reaction=(float(force[0] - load[0]), float(force[1] - load[1]),
+                                              moment - float(load[2])),
+                                    motion=(float(q[0]), float(q[1]), float(q[2] / d["rho"])),
+                                    held=tuple(bool(h) for h in pin.held), nodes=nodes))
+            out.append(row)
+        return out
+
+    # ------------------------------------------------------------------ kinematics
+    def check_motions(self, mesh, cons, *, sink=None) -> None:
+        """Refuse a model that the supports and held pins leave free to move (a :class:`SupportError`).
+
+        One piece of mesh (the common case): the part is one rigid body, each support row and each
+        held pin component a row on its three motions (a held translation along ``d`` at the pin's
+        point, a held rotation), and a null space is refused with the free motion named. With several
+        pieces, the pins are given to :func:`planar.core.kinematics.rigid_body_check` as the node rows
+        they are equivalent to where that is exact (held translations with held rotation: the edge
+        nodes held along them; both translations held with free rotation: the edge nodes held
+        radially); a pin whose hold cannot be written so, or whose edge spans pieces, leaves the
+        check to the solve (a singular stiffness is refused there).
+        """
+        from .kinematics import cell_pieces, rigid_body_check
+        from ._linkage import _describe_free, _null, _support_matrix
+
+        pieces = cell_pieces(mesh)
+        used = mesh.used_nodes()
+        rows = cons.rows
+        if pieces.count == 1:
+            xy = mesh.nodes[used]
+            xc = xy.mean(axis=0)
+            L = max(float(np.ptp(xy, axis=0).max()), 1e-300)
+            on = used[rows.node]
+            parts = [_support_matrix(mesh.nodes[rows.node[on]], rows.direction[on], xc, L)]
+            for d in self.data:
+                held = d["pin"].held
+                dirs = d["Q"][:2, :2].T[held[:2]]
+                if dirs.shape[0]:
+                    parts.append(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, L))
+                if held[2]:
+                    parts.append(np.array([[0.0, 0.0, 1.0]]))
+            free = _null(np.vstack(parts), 3)
+            if free.shape[0]:
+                raise SupportError("the model can still move as a rigid body, so it has no unique answer: "
+                                   + _describe_free(free, xc, L, False, xc)
+                                   + " (the supports and the held components of the pins "
+                                   + ", ".join(repr(p.name) for p in self.pins) + " counted)")
+            return
+        from .kinematics import _piece_nodes
+
+        pp, nn = _piece_nodes(mesh, pieces)
+        extra_n, extra_d, exact = [], [], True
+        for d in self.data:
+            held, nodes = d["pin"].held, d["nodes"]
+            if np.unique(pp[np.isin(nn, nodes)]).size > 1:
+                exact = False  # the pin joins pieces: not a node row
+                continue
+            if not held.any():
+                continue
+            if held[2]:
+                for v in d["Q"][:2, :2].T[held[:2]]:
+                    extra_n.append(nodes); extra_d.append(np.tile(v, (nodes.size, 1)))
+            elif held[0] and held[1]:
+                r = mesh.nodes[nodes] - d["point"]
+                extra_n.append(nodes); extra_d.append(r / np.hypot(*r.T)[:, None])
+            else:
+                exact = False
+        if not exact:  # left to the solve, which refuses a singular stiffness
+            return
+        from types import SimpleNamespace
+
+        from .supports import Constraints
+
+        aug = SimpleNamespace(rows=Constraints(np.concatenate([rows.node] + extra_n),
+                                               np.vstack([rows.direction] + extra_d),
+                                               np.zeros(rows.node.size + sum(e.size for e in extra_n)),
+                                               np.zeros(rows.node.size + sum(e.size for e in extra_n), np.int64)))
+        rigid_body_check(mesh, aug, sink=sink)
