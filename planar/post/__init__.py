@@ -41,6 +41,9 @@ _WHERE = {
     "write_vtu": "vtk", "read_result_file": "files", "atomic_write_text": "files", "json_safe": "files",
     "plot_field": "plots", "plot_along": "plots", "plot_vtu": "plots", "vtu_fields": "plots",
     "plot_nodal_field": "plots", "save_figure": "plots",
+    # hot spots
+    "hot_spots": "hotspots", "HotSpot": "hotspots", "HotSpots": "hotspots", "plot_hot_spots": "hotspots",
+    "hot_spot_section": "hotspots",
     "Report": "report", "Section": "report", "Paragraph": "report", "Table": "report", "KeyValues": "report",
     "Figure": "report", "Notice": "report", "Tiles": "report", "render_html": "report",
     "write_report": "report", "stress_check_report": "report",
@@ -75,6 +78,7 @@ if TYPE_CHECKING:  # what type checkers and editors see; at run time the names l
     from .estimate import ErrorEstimate, effectivity, estimate_error
     from .files import atomic_write_text, json_safe, read_result_file
     from .handbook import kt_hole_in_strip
+    from .hotspots import HotSpot, HotSpots, hot_spot_section, hot_spots, plot_hot_spots
     from .norms import energy_norm_error
     from .plots import plot_along, plot_field, plot_nodal_field, plot_vtu, save_figure, vtu_fields
     from .report import (Figure, KeyValues, Notice, Paragraph, Report, Section, Table, Tiles, render_html,
