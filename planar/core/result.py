@@ -272,10 +272,11 @@ class Result(CaseResult):
                              "coordinates")
         return m, zone.describe()
 
-    def _peak(self, field: str, recovery: str, where, *, largest: bool, absolute: bool = False) -> Extreme:
+    def _peak(self, field: str, recovery: str, where, *, largest: bool, absolute: bool = False,
+              centre=None) -> Extreme:
         from .zones import idealised_reason
 
-        v = self.field(field, recovery=recovery)
+        v = self.field(field, recovery=recovery, centre=centre)
         mask, said = self.zone_mask(where)
         a = np.abs(v) if absolute else v
         i = int(np.argmax(np.where(mask, a, -np.inf))) if largest else int(np.argmin(np.where(mask, a, np.inf)))
@@ -287,7 +288,7 @@ class Result(CaseResult):
 
     @renamed_keywords(name="field", method="recovery")
     def max(self, field: str = "von_mises", *, recovery: str = "spr", absolute: bool = False,
-            where=None) -> Extreme:
+            where=None, centre=None) -> Extreme:
         """Largest value of a nodal field and where it occurs.
 
         Parameters
@@ -300,6 +301,8 @@ class Result(CaseResult):
             Read the peak only here: the name of an edge or region, or a zone of
             :mod:`planar.core.zones` (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``,
             ``Away``, combined with ``&``). Default: everywhere.
+        centre : (float, float), optional
+            The centre of the polar fields (``sigma_r``, ``sigma_theta``, ``tau_r_theta``).
 
         Returns
         -------
@@ -309,12 +312,13 @@ class Result(CaseResult):
             idealised support or concentrated load (``""`` otherwise); Kt, margins and the report
             print the note beside the value.
         """
-        return self._peak(field, recovery, where, largest=True, absolute=absolute)
+        return self._peak(field, recovery, where, largest=True, absolute=absolute, centre=centre)
 
     @renamed_keywords(name="field", method="recovery")
-    def min(self, field: str, *, recovery: str = "spr", where=None) -> Extreme:
-        """Smallest value of a nodal field, with location and node (an :class:`Extreme`); ``where`` as in :meth:`max`."""
-        return self._peak(field, recovery, where, largest=False)
+    def min(self, field: str, *, recovery: str = "spr", where=None, centre=None) -> Extreme:
+        """Smallest value of a nodal field, with location and node (an :class:`Extreme`); ``where`` and
+        ``centre`` as in :meth:`max`."""
+        return self._peak(field, recovery, where, largest=False, centre=centre)
 
     @renamed_keywords(name="field", method="recovery")
     def at(self, points, field: str, *, recovery: str = "spr", centre=None) -> np.ndarray:
