@@ -456,9 +456,13 @@ class Envelope:
         hi, lo = self.peak(), self.lowest()
         (vmax, pmax, _, cmax), (vmin, pmin, _, cmin) = hi, lo
         zone = "" if self.where == "everywhere" else f" {self.where}"
-        s = (f"envelope of {self.field}{zone} over {len(self.names)} cases: max {vmax:.6g} at "
-             f"({pmax[0]:.6g}, {pmax[1]:.6g}) from {cmax!r}; min {vmin:.6g} at ({pmin[0]:.6g}, "
-             f"{pmin[1]:.6g}) from {cmin!r}")
+        from ..core.units import field_unit, unit_system
+
+        system = unit_system(self.units)
+        u, L = (f" {field_unit(self.field, system)}".rstrip(), f" {system.length}".rstrip())
+        s = (f"envelope of {self.field}{zone} over {len(self.names)} cases: max {vmax:.6g}{u} at "
+             f"({pmax[0]:.6g}, {pmax[1]:.6g}){L} from {cmax!r}; min {vmin:.6g}{u} at ({pmin[0]:.6g}, "
+             f"{pmin[1]:.6g}){L} from {cmin!r}" + ("" if system.stated else "; units not stated"))
         for what, e in (("max", hi), ("min", lo)):
             if e.note:
                 s += f". CAUTION: the {what} sits {e.note}"
@@ -579,7 +583,8 @@ def write_envelope_vtu(path: str | os.PathLike, env: Envelope, *, compression: s
     f = env.field
     pdata = {f"{f}_max": env.max.astype(float), f"{f}_min": env.min.astype(float),
              f"{f}_max_case": env.governs_max.astype(np.int32), f"{f}_min_case": env.governs_min.astype(np.int32)}
-    write_grid(path, pts, cells, pdata, {}, {name: i for i, name in enumerate(env.names)}, compression)
+    write_grid(path, pts, cells, pdata, {}, {name: i for i, name in enumerate(env.names)}, compression,
+               units=env.units)  # the cases' unit system, read back by planar show
     return path
 
 
