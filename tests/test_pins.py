@@ -315,3 +315,29 @@ def test_pin_input_errors_are_named():
     from planar.core.registry import load_kind
 
     assert load_kind("pin-load") is PinLoad
+
+
+def test_rigid_inclusion_benchmark_passes():
+    # the peak interface stresses of a bonded rigid disc against the closed form (J. N. Goodier, J. Appl.
+    # Mech. 1, 1933; N. I. Muskhelishvili, 1953; re-derived in planar/verify/pin_cases.py), within 2 %
+    from planar.verify.pin_cases import rigid_inclusion
+
+    recs = rigid_inclusion("Q8")
+    assert len(recs) == 4 and all(r.passed for r in recs), [(r.quantity, r.rel_error) for r in recs]
+    assert all(r.rel_error < 0.005 for r in recs)
+
+
+def test_equilibrium_table_has_the_moment_row_and_balances_with_a_pin():
+    from planar.post.report import equilibrium_table
+
+    mesh = quarter("Q4", 6)
+    m = Model(mesh, Isotropic(E, NU), thickness=2.0, units="N, mm, MPa")
+    m.add_support(Fixed("outer"))
+    m.add_pin(Pin("hole", hold=None))
+    m.add_load(PinLoad("hole", fx=10.0, moment=5.0), case="c")
+    r = solve(m)["c"]
+    t = equilibrium_table(r)
+    rows = {row[0]: row for row in t.rows}
+    assert rows["force in x [N]"][1] == "10" and float(rows["force in x [N]"][2]) == pytest.approx(-10.0)
+    mrow = rows["moment about (0, 0) [N mm]"]
+    assert float(mrow[1]) == pytest.approx(5.0) and abs(float(mrow[3])) < 1e-9

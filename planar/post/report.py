@@ -368,10 +368,17 @@ def equilibrium_table(result) -> Table:
     for k, comp in enumerate(("x", "y")):
         rows.append([f"force in {comp}" + (f" [{force}]" if force else ""), f"{F[k]:.6g}", f"{R[k]:.6g}",
                      f"{F[k] + R[k]:.3g}"])
+    if hasattr(result, "total_moment"):  # moments about the origin, the pins' loads and reactions included
+        from .plots import length_unit
+
+        ma, mr = result.total_moment((0.0, 0.0))
+        unit = f"{force} {length_unit(getattr(result, 'units', ''))}".strip() if force else ""
+        rows.append(["moment about (0, 0)" + (f" [{unit}]" if unit else ""), f"{ma:.6g}", f"{mr:.6g}",
+                     f"{ma + mr:.3g}"])
     err = result.equilibrium_error()
     status = "pass" if err < 1e-6 else "fail"
     rows.append(["relative equilibrium error (forces and moment)", "", "", f"{err:.2e}"])
-    t = Table(["quantity", "applied loads", "support reactions", "sum"], rows,
+    t = Table(["quantity", "applied loads", "reactions (supports and pins)", "sum"], rows,
               caption=f"Equilibrium of the whole plate, load case '{result.case}': the reactions must "
                       f"balance the applied loads ({status}: relative error {err:.1e}, limit 1e-6).",
               numeric=[1, 2, 3])
