@@ -284,6 +284,10 @@ class Result(CaseResult):
         if largest or not absolute:
             # a smallest (most compressive) value is flagged on its magnitude, the same way
             note = idealised_reason(self, i, a if largest else -a, mask, sign_of_values=1.0 if largest else -1.0)
+        from ._advice_linear import has_linear, linear_peak
+
+        if has_linear(self):  # linear elements under-read a peak at a hole or fillet: say so
+            linear_peak(self, i, field, v, stacklevel=4)
         return self._extreme(v, i, said, note)
 
     @renamed_keywords(name="field", method="recovery")
