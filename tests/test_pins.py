@@ -341,3 +341,21 @@ def test_equilibrium_table_has_the_moment_row_and_balances_with_a_pin():
     assert rows["force in x [N]"][1] == "10" and float(rows["force in x [N]"][2]) == pytest.approx(-10.0)
     mrow = rows["moment about (0, 0) [N mm]"]
     assert float(mrow[1]) == pytest.approx(5.0) and abs(float(mrow[3])) < 1e-9
+
+
+def test_combinations_superpose_the_pins():
+    # linear superposition (S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 1970, sec. 6)
+    from planar.post.combine import combine
+
+    mesh = quarter("Q4", 6)
+    m = model_of(mesh)
+    m.add_support(Fixed("outer"))
+    m.add_pin(Pin("hole", hold=None))
+    m.add_load(PinLoad("hole", fx=100.0), case="x")
+    m.add_load(PinLoad("hole", fy=50.0, moment=30.0), case="y")
+    rs = solve(m)
+    c = combine(rs, {"x": 1.5, "y": -2.0})
+    pin = c.support_reactions()[-1]
+    assert np.allclose(pin.force, (150.0, -100.0), rtol=1e-9) and np.allclose(pin.load, (150.0, -100.0, -60.0))
+    assert c.equilibrium_error() < 1e-9
+    assert np.allclose(c.total_applied() + c.total_reaction(), 0.0, atol=1e-9 * 150)

@@ -127,3 +127,23 @@ def support_reactions(result, about=(0.0, 0.0)) -> list[Reaction]:
         out.append(Reaction(st["name"], f"pin ({st['tie']} tie)", (fx, fy), moment, (float(a[0]), float(a[1])),
                             load=st["load"], reaction=st["reaction"], motion=st["motion"]))
     return out
+
+
+def combine_pins(result, parts) -> None:
+    """Give a combination of results (factor, result) the factored sums of its parts' pin forces and figures.
+
+    Pins are linear like the rest (their forces, loads, reactions and motions superpose); a result
+    without pins is left as it is.
+    """
+    if not any(getattr(r, "pin_forces", None) is not None for _, r in parts):
+        return
+    result.pin_forces = sum(f * (r.pin_forces if r.pin_forces is not None else 0.0) for f, r in parts)
+    states = [(f, r.pin_states) for f, r in parts if r.pin_states]
+    out = []
+    for k, first in enumerate(states[0][1]):
+        st = dict(first)
+        for key in ("force", "load", "reaction", "motion"):
+            st[key] = tuple(float(v) for v in sum(f * np.asarray(s[k][key]) for f, s in states))
+        st["moment"] = float(sum(f * s[k]["moment"] for f, s in states))
+        out.append(type(first)(st))
+    result.pin_states = out

@@ -154,6 +154,9 @@ class CombinedResult(Result):
                          solver="superposition" + (f" of {', '.join(solvers)} solutions" if solvers else ""),
                          timer=None, solver_info={"combination": True})
         self.parts = parts
+        from ..core.reactions import combine_pins
+
+        combine_pins(self, parts)  # the pins' forces and figures superpose too
         self.factors: dict[str, float] = {}
         for fi, r in parts:
             self.factors[r.case] = self.factors.get(r.case, 0.0) + fi
