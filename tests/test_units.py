@@ -222,6 +222,8 @@ def test_planar_show_labels_the_picture_from_the_file(tmp_path, monkeypatch, cap
     err = capsys.readouterr().err
     assert "pounds and furlongs" in err and "kip-in-ksi" in err and "N-mm-MPa" in err
     assert not (tmp_path / "w.png").exists()
+    assert main(["show", str(path), "--list"]) == 0
+    assert "units:        kip, in, ksi (kip-in-ksi" in capsys.readouterr().out
 
 
 def test_a_file_without_units_says_so(tmp_path):

@@ -27,7 +27,9 @@ def arguments(p: argparse.ArgumentParser) -> None:
         "A file planar wrote carries a digest of its bytes: one changed or damaged since it was "
         "written is refused (--allow-changed draws it anyway, with a warning); files from other "
         "programs are read as they are. NaN or infinite values are named with their count and "
-        "never drawn as a colour.")
+        "never drawn as a colour.\n\n"
+        "Axes and colour bar carry the unit system the file states (planar writes it); --units "
+        "overrides it.")
     p.epilog = ("examples:\n  planar show planar-out/splice_strap.vtu\n"
                 "  planar show result.vtu --field sigma_xx --png sxx.png --units \"N, mm, MPa\" --mesh\n"
                 "  planar show result.vtu --list")
@@ -84,6 +86,10 @@ def _show_file(args) -> int:
         f = vtu_fields(args.result, changed=changed)
         print(f"point fields: {', '.join(f['point']) or '-'}")
         print(f"cell fields:  {', '.join(f['cell']) or '-'}")
+        from ..post.files import file_units, read_result_file
+
+        system = file_units(read_result_file(args.result, changed=changed), args.result)
+        print(f"units:        {system.describe() if system is not None else 'not recorded in the file'}")
         return 0
     png = Path(args.png) if args.png else Path(args.result).with_name(
         f"{Path(args.result).stem}-{args.field}.png")

@@ -301,8 +301,9 @@ def bare_unit(text: str) -> str:
     for u in KNOWN_UNITS:
         if t.casefold().replace(" ", "") == u.casefold().replace(" ", ""):
             return u
+    simple = dict.fromkeys(u for s in _SYSTEMS for u in (s.stress, s.length, s.force))
     raise InputError(f"unknown unit {text!r}: give a unit system (e.g. 'N, mm, MPa') or one unit of a known "
-                     f"system ({', '.join(KNOWN_UNITS)}); " + _listing())
+                     f"system ({', '.join(simple)}, or a derived one such as N/mm^2, N mm, t/mm^3); " + _listing())
 
 
 def stress_unit(units) -> str:
