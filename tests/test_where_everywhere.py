@@ -388,3 +388,21 @@ def test_no_false_alarm_on_a_uniform_strap_held_by_rollers():
     # a path along the roller itself: weighed against the rest of the part, no false alarm
     along = path_stresses(r, (0.0, 0.0), (0.0, 40.0), "sigma_xx", n_points=11)
     assert along.notes == {} and along.values["sigma_xx"] == pytest.approx(np.full(11, 25.0), rel=1e-9)
+
+
+# ---------------------------------------------------------------------------- the demo
+@pytest.mark.slow
+def test_demo_reads_its_check_on_the_bolt_hole(tmp_path):
+    from planar.demo import format_summary, run_demo
+    from planar.post.handbook import kt_hole_in_strip
+
+    outcome = run_demo(tmp_path, verbose=False)
+    s = outcome.summary
+    assert s["peak_where"] == "on edge 'bolt_hole'" and s["peak_note"] == ""
+    # the hole's peak is the whole strap's: the clamp two widths away makes no peak of its own
+    assert s["peak_everywhere"] == pytest.approx(s["peak_von_mises"], rel=1e-12)
+    x, y = s["peak_location"]
+    assert np.hypot(x, y) == pytest.approx(s["hole_diameter"] / 2, rel=1e-6)
+    assert s["kt"] == pytest.approx(kt_hole_in_strip(s["hole_diameter"] / s["width"]), rel=0.025)  # Peterson 4.1
+    text = " ".join(format_summary(outcome).split())  # wrapped at 100 columns
+    assert "read on edge 'bolt_hole'" in text and "the whole strap's peak is the same point" in text
