@@ -209,3 +209,11 @@ def test_bad_input_is_refused_with_the_fix():
     with pytest.raises(InputError, match="nominal"):
         hot_spots(r, nominal=0.0)
     assert isinstance(hot_spots(r, "displacement"), HotSpots)
+
+
+@pytest.mark.slow
+def test_verify_case_hot_spot_feature_passes():
+    from planar.verify import run
+
+    records = run(case_names=["hot-spot-feature"])
+    assert len(records) == 6 and all(r.passed for r in records), [(r.quantity, r.computed) for r in records]
