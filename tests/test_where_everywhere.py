@@ -142,6 +142,11 @@ def test_envelope_with_where_reads_the_beam(cases):
     assert outer.peak().location[0] == pytest.approx(50.0)
     assert outer.peak().value == pytest.approx(bending(50.0), rel=2e-3)
     assert outer.where == "in region 'outer'"
+    # the figure marks the whole part's peak and states the zone's under the title, with its units
+    fig = env.plot()
+    said = [t.get_text() for t in fig.axes[0].texts]
+    assert any("peak at least 40 from supports and concentrated loads: 17.63 MPa at (41.25, 20) mm from 'down'"
+               in t for t in said)
 
 
 def test_envelope_where_errors(cases):

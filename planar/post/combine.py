@@ -628,8 +628,15 @@ def plot_envelope(env: Envelope, path: str | os.PathLike | None = None, *, title
     unit = field_unit(env.field, env.units)
     length = length_unit(env.units)
     common = dict(field=env.field, unit=unit, length=length, etypes=env._etypes, scale=None)
+    zone_note = None
+    if env.where != "everywhere":  # the marked peak is the whole part's; say the zone's beside it
+        hi = env.peak()
+        zone_note = (f"peak {env.where}: {hi.value:.4g}{' ' + unit if unit else ''} at ({hi.location[0]:.4g}, "
+                     f"{hi.location[1]:.4g}){' ' + length if length else ''} from {hi.case!r}" + (" (next to an idealised support or load)"
+                                                                   if hi.note else ""))
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.max, nan=np.nanmin(env.max)), cmap="viridis",
-                     title=f"max of {field_label(env.field)} over {len(env.names)} cases", ax=axes[0], **common)
+                     title=f"max of {field_label(env.field)} over {len(env.names)} cases", ax=axes[0],
+                     note=zone_note, **common)
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.min, nan=np.nanmax(env.min)), cmap="cividis",
                      title=f"min of {field_label(env.field)}", ax=axes[1], mark_peak=False, **common)
     ax = axes[2]
