@@ -406,7 +406,8 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
                         mesh_rows: Sequence[tuple[str, Any]] = (),
                         extra_sections: Sequence[Section] = (),
                         run_rows: Sequence[tuple[str, Any]] = (),
-                        cautions: Iterable[str] = CAUTIONS) -> Report:
+                        cautions: Iterable[str] = CAUTIONS,
+                        hot_spots: Any = None) -> Report:
     """The usual sections of a stress check around one result.
 
     Parameters
@@ -430,6 +431,9 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
         Run details (times, versions) for the last section.
     cautions : iterable of str
         Default :data:`CAUTIONS`.
+    hot_spots : HotSpots or Section, optional
+        The hot spots of the result (:func:`planar.post.hot_spots`), tabled in a section "Hot spots"
+        after "Results" (or a section made by :func:`planar.post.hot_spot_section`, e.g. with its figure).
 
     Returns
     -------
@@ -454,7 +458,8 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     free = getattr(result, "n_free", None)
     rows = [("elements", blocks), ("nodes", str(mesh.n_nodes)),
             ("unknowns (two displacements per node, before supports)", str(result.n_dofs)),
-            ("extent of the mesh", f"x {x0:g} to {x1:g}, y {y0:g} to {y1:g}"),
+            ("extent of the mesh", f"x {x0:g} to {x1:g}, y {y0:g} to {y1:g}"
+                                   + (f" [{result.unit_system.length}]" if result.unit_system.stated else "")),
             ("named edges", ", ".join(sorted(mesh.edge_sets)) or "-")]
     if free is not None:
         rows.insert(3, ("free unknowns solved", str(free)))
@@ -462,6 +467,10 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     sections.append(Section("Mesh", [KeyValues(rows)]))
     if results:
         sections.append(Section("Results", list(results)))
+    if hot_spots is not None:
+        from .hotspots import hot_spot_section
+
+        sections.append(hot_spots if isinstance(hot_spots, Section) else hot_spot_section(hot_spots))
     if checks:
         sections.append(Section("Checks against handbook values and allowables", list(checks)))
     sections.append(Section("Convergence evidence", list(convergence) or [
