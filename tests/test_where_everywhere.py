@@ -11,6 +11,7 @@ its end): the exact elasticity field there is the same linear bending stress.
 """
 from __future__ import annotations
 
+import json
 import pickle
 import warnings
 
@@ -244,6 +245,22 @@ def test_sweep_output_objects_and_text_forms(down):
     q = pickle.loads(pickle.dumps(p))  # outputs go to worker processes
     assert q.describe() == p.describe() and q(down, {}) == pytest.approx(float(p(down, {})))
     assert pickle.loads(pickle.dumps(v)).where == v.where
+
+
+def test_sweep_command_line_reads_a_zone(tmp_path, capsys):
+    from planar.cli import main
+
+    out = tmp_path / "sw"
+    code = main(["sweep", "planar.studies:example_strap", "--param", "width=20,40", "--output",
+                 "max:sigma_xx on right@average", "--workers", "0", "--out", str(out), "--no-plot"])
+    assert code == 0
+    head, *rows = (out / "sweep.csv").read_text().splitlines()
+    assert "max_sigma_xx_on_right_average" in head.split(",")
+    col = head.split(",").index("max_sigma_xx_on_right_average")
+    # 2000 N over 2 mm x width, uniform (common practice)
+    assert [float(r.split(",")[col]) for r in rows] == pytest.approx([50.0, 25.0], rel=1e-9)
+    spec = json.loads((out / "sweep.json").read_text())["records"][0]["output_specs"]
+    assert "where='right'" in spec["max_sigma_xx_on_right_average"]
 
 
 # ---------------------------------------------------------------------------- convergence studies
