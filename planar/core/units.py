@@ -8,8 +8,9 @@ an unknown name is refused with the list of those planar knows. Leaving it out m
 the numbers are still taken as consistent, and outputs say "units not stated (consistent)".
 
 A system is consistent when force = stress x length^2 and force = mass x length / time^2, with
-time in seconds; each system here is so, with its mass unit chosen to make it so (e.g. the tonne
-in N, mm, MPa: 1 N = 1 t x 1 mm/s^2).
+time in seconds; each system here is so, with its mass unit chosen to make it so: the tonne in
+N, mm, MPa (1 N = 1e3 kg x 1e-3 m/s^2), the kilotonne in kN, mm, GPa (1 kN = 1e6 kg x 1e-3 m/s^2;
+1 kN/mm^2 = 1e9 Pa = 1 GPa), lbf s^2/in in lbf, in, psi (1 lbf = 175.1268 kg x 0.0254 m/s^2).
 
 =============  =====  ======  ======  ==================  =================  ==============
 name           force  length  stress  mass                density            g [length/s^2]
