@@ -359,3 +359,39 @@ def test_combinations_superpose_the_pins():
     assert np.allclose(pin.force, (150.0, -100.0), rtol=1e-9) and np.allclose(pin.load, (150.0, -100.0, -60.0))
     assert c.equilibrium_error() < 1e-9
     assert np.allclose(c.total_applied() + c.total_reaction(), 0.0, atol=1e-9 * 150)
+
+
+def two_pieces():
+    """Two quarter plates side by side, not joined: edges hole, outer (first) and outer_b (second)."""
+    from planar import Mesh
+
+    a = quarter("Q4", 6)
+    n = a.n_nodes
+    nodes = np.vstack([a.nodes, a.nodes + [20.0, 0.0]])
+    (lay, conn), = a.cells.items()
+    return Mesh(nodes, {lay: np.vstack([conn, conn + n])},
+                {"hole": a.edge_sets["hole"], "outer": a.edge_sets["outer"], "outer_b": a.edge_sets["outer"] + n})
+
+
+def test_pins_on_a_mesh_of_several_pieces():
+    mesh = two_pieces()
+    m = model_of(mesh)
+    m.add_support(Fixed("outer_b"))
+    m.add_pin(Pin("hole", hold="both", rotation="held"))
+    m.add_load(Traction("outer", tx=1.0), case="c")
+    r = solve(m)["c"]  # each piece held: the first by its pin, the second by its fixed edge
+    assert r.equilibrium_error() < 1e-9
+    # held in both directions with its rotation free, the first piece turns about the pin: refused by name
+    m2 = model_of(mesh)
+    m2.add_support(Fixed("outer_b"))
+    m2.add_pin(Pin("hole", hold="both"))
+    m2.add_load(Traction("outer", tx=1.0), case="c")
+    with pytest.raises(SupportError, match="rotation"):
+        solve(m2)
+    # held along x only, with its rotation free: refused, by the solve
+    m3 = model_of(mesh)
+    m3.add_support(Fixed("outer_b"))
+    m3.add_pin(Pin("hole", hold="x"))
+    m3.add_load(Traction("outer", tx=1.0), case="c")
+    with pytest.raises((SupportError, planar.SolverError)):
+        solve(m3)
