@@ -39,6 +39,7 @@ from .core.model import Model
 from .core.result import Extreme, Result
 from .core.static import solve
 from .core.supports import Fixed, Prescribed, Roller, Symmetry
+from .core.pins import Pin, PinLoad
 from .core.units import UnitSystem, unit_system
 from .core.zones import Away, InBox, InCircle, InRegion, Near, OnEdge, Zone
 from .geometry.structured import rectangle_mesh
@@ -48,7 +49,7 @@ from .paths import output_dir  # the output folder of a script run by ``planar r
 __all__ = [
     "Mesh", "Model", "Result", "Extreme", "ElementType", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic", "UnitSystem", "unit_system",
-    "Fixed", "Roller", "Prescribed", "Symmetry",
+    "Fixed", "Roller", "Prescribed", "Symmetry", "Pin", "PinLoad",
     "Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away",
     "Traction", "Pressure", "PointForce", "BodyForce", "Gravity", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
