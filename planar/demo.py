@@ -244,6 +244,10 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     vm_ext = fine.max("von_mises", recovery="spr", where=HOLE_EDGE)
     vm_peak, vm_at, _ = vm_ext
     everywhere = fine.max("von_mises", recovery="spr")  # the whole strap's, to say whether it is the hole's
+    from .post.hotspots import hot_spots
+
+    spots = hot_spots(fine, recovery="spr", nominal=nominal, allowable=part.allowable,
+                      factor_of_safety=part.factor_of_safety)  # the local peaks by feature, ranked
     t_checked = time.perf_counter()
 
     # -- files: result, figures, report ----------------------------------------------------------
@@ -252,6 +256,10 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     files["result"] = write_vtu(out / "splice_strap.vtu", fine, recovery="spr", cell_fields=est.cell_fields())
     say("drawing the figures")
     figs = _demo_figures(part, fine, conv, out)
+    spots.plot(out / "hot_spots.png")
+    figs["hot_spots"] = (out / "hot_spots.png", "Hot spots of the von Mises stress, numbered by rank; grey "
+                                                "squares mark spots made by the clamp (an idealisation), not by "
+                                                "the strap.")
     files.update({k: v[0] for k, v in figs.items()})
     t_figures = time.perf_counter()
 
@@ -290,13 +298,15 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
         "solver": fine.solver,
         "meshes": meshes,
     }
+    summary["hot_spots"] = spots.as_dict()  # ranked local peaks: feature, location, value, Kt, margin, flag
     # every planar warning of the solves and checks, once each (none for the built-in strap)
     summary["warnings"] = list({(w.code, w.message): w.as_dict() for r in solved for w in r.warnings}.values())
     summary["seconds_by_step"] = {"meshes and solutions": t_solved - t_start,
                                   "checks and error estimate": t_checked - t_solved,
                                   "result file and figures": t_figures - t_checked}
     say("writing the report (report.html)")
-    report = _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs)
+    report = _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs,
+                          spots)
     from .post.report import write_report
 
     files["report"] = write_report(out / "report.html", report)
@@ -345,7 +355,7 @@ def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[P
     return figs
 
 
-def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs):
+def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_force, summary, figs, spots=None):
     from .post.handbook import HOLE_IN_STRIP_FORMULA, HOLE_IN_STRIP_SOURCE
     from .post.report import Figure, KeyValues, Notice, Paragraph, Table, stress_check_report
 
@@ -443,7 +453,13 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
                    ("element size", f"{part.sizes[-1]:g} mm at the hole edge, growing to "
                                     f"{4 * part.sizes[-1]:g} mm away from it"),
                    ("mesher", "gmsh, through planar.geometry")],
-        run_rows=run_rows)
+        run_rows=run_rows, hot_spots=None if spots is None else _hot_spot_section(spots, figs))
+
+
+def _hot_spot_section(spots, figs):
+    from .post.hotspots import hot_spot_section
+
+    return hot_spot_section(spots, figure=figs["hot_spots"][0].read_bytes() if "hot_spots" in figs else None)
 
 
 def format_summary(outcome: DemoOutcome) -> str:

@@ -264,3 +264,17 @@ def test_library_modules_do_not_import_the_command_line():
                 continue
             offenders += [f"{rel}: {n}" for n in names if n == "planar.cli" or n.startswith("planar.cli.")]
     assert not offenders, offenders
+
+
+def test_demo_summary_lists_the_hot_spots(demo_run):
+    _, _, out = demo_run
+    s = json.loads((out / "summary.json").read_text())
+    hs = s["hot_spots"]
+    gov = hs["spots"][hs["governing"] - 1]
+    # the bolt hole governs; the clamp's corner spots are flagged as made by the idealisation
+    assert gov["feature"] == "bolt_hole" and not gov["flagged"]
+    assert gov["value"] == pytest.approx(s["peak_von_mises"], rel=1e-12)
+    assert gov["kt"] == pytest.approx(gov["value"] / s["net_stress"], rel=1e-12)
+    assert all(sp["flagged"] for sp in hs["spots"] if sp["x"] == -s["length"] / 2)
+    assert hs["unit"] == "MPa" and (out / "hot_spots.png").read_bytes()[:4] == b"\x89PNG"
+    assert "Hot spots" in (out / "report.html").read_text()

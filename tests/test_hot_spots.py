@@ -198,6 +198,19 @@ def test_report_section_tables_the_spots():
     assert len(table.rows) == len(hs) and "[MPa]" in " ".join(table.headers)
 
 
+def test_stress_check_report_takes_the_hot_spots():
+    from planar.post.report import render_html, stress_check_report
+
+    r = _clamped_strip()
+    hs = hot_spots(r, nominal=125.0, allowable=400.0)
+    rep = stress_check_report(r, title="strip", hot_spots=hs)
+    titles = [sec.title for sec in rep.sections]
+    assert "Hot spots" in titles
+    html = render_html(rep)
+    assert "FLAGGED" not in html and "made by the idealisation" in html and "hole (edge)" in html
+    assert "Hot spots" not in [sec.title for sec in stress_check_report(r, title="strip").sections]
+
+
 def test_bad_input_is_refused_with_the_fix():
     r = _uniform_strap()
     with pytest.raises(NameNotFoundError, match="hole"):
