@@ -268,3 +268,17 @@ def test_gravity_along_a_direction_needs_stated_units():
     with pytest.raises(InputError, match="direction must be two finite numbers"):
         planar.Gravity(direction=(0, 0))
     assert repr(planar.Gravity(direction=(0, -2))) == "Gravity(direction=(0, -1), regions=None)"
+
+
+def test_checks_and_result_summary_state_the_units(solved_strip):
+    # a strip pulled by 10 psi: the peak, nominal and allowable are printed in the model's own units
+    from planar.post.checks import kt, margin_of_safety
+
+    r = solved_strip(20.0, 5.0, 4, 1, "Q8", case="pull", units="lbf, in, psi",
+                     loads={"pull": planar.Traction("right", tx=10.0)})
+    k = kt(r, 10.0, where=planar.Away())
+    assert " psi at (" in k.summary() and ") in over nominal 10 psi" in k.summary()
+    ms = margin_of_safety(r, 35e3, 1.5, where=planar.Away())
+    assert "allowable 35000 psi" in ms.summary() and ms.units == "lbf, in, psi"
+    assert "psi" not in margin_of_safety(12.0, 35e3).summary()   # a given peak: its units are not known
+    assert r.summary()["units"]["name"] == "lbf-in-psi" and r.summary()["units"]["g"] == pytest.approx(G0 / INCH)

@@ -470,6 +470,7 @@ class Result(CaseResult):
         vm, loc, _ = peak
         return {
             "case": self.case,
+            "units": self.unit_system.as_dict(),  # the system's name and the unit of each quantity
             "dofs": self.n_dofs,
             "max_displacement": float(np.hypot(self.u[:, 0], self.u[:, 1]).max()),
             "peak_von_mises": vm,

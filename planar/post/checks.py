@@ -74,6 +74,19 @@ def _where(x: float, y: float) -> str:
     return f"({0.0 if abs(x) < tol else x:.6g}, {0.0 if abs(y) < tol else y:.6g})"
 
 
+def _unit_suffixes(units: str) -> tuple[str, str]:
+    """(" MPa", " mm") from a unit system's label for messages; ("", "") when not stated."""
+    from ..core.units import unit_system
+
+    s = unit_system(units or None)
+    return (f" {s.stress}", f" {s.length}") if s.stated else ("", "")
+
+
+def _at(x: float, y: float, length: str) -> str:
+    where = _where(x, y)
+    return where + length if where.startswith("(") else where
+
+
 def _check_recovery(recovery: str) -> str:
     if recovery not in METHODS:
         raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
@@ -184,13 +197,16 @@ class StressConcentration(_OldMethodName):
     where: str = "everywhere"
     #: why the peak is not the part's own, when it sits next to an idealised support or load ("" otherwise)
     note: str = ""
+    #: the model's unit system, by its label (``"N, mm, MPa"``; ``""`` when not stated)
+    units: str = ""
 
     def summary(self) -> str:
         x, y = self.location
         zone = "" if self.where == "everywhere" else f" {self.where}"
         note = f" CAUTION: the peak sits {self.note}." if self.note else ""
-        return (f"Kt = {self.Kt:.4g} ({self.field} peak{zone} {self.peak:.6g} at {_where(x, y)} over nominal "
-                f"{self.nominal:.6g}, {self.recovery} recovery).{note} {self.caution}")
+        u, L = _unit_suffixes(self.units)
+        return (f"Kt = {self.Kt:.4g} ({self.field} peak{zone} {self.peak:.6g}{u} at {_at(x, y, L)} over nominal "
+                f"{self.nominal:.6g}{u}, {self.recovery} recovery).{note} {self.caution}")
 
     __str__ = summary
 
@@ -243,7 +259,8 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
              f"compressive nominal gives Kt = {peak / nom:.4g}, with a misleading sign; give the nominal as "
              "a positive magnitude (and absolute=True for a compressive peak)",
              "negative-nominal", category=PlanarWarning, sink=result.warnings)
-    return StressConcentration(peak / nom, peak, nom, field, recovery, loc, node, where=ext.where, note=ext.note)
+    return StressConcentration(peak / nom, peak, nom, field, recovery, loc, node, where=ext.where, note=ext.note,
+                               units=result.units)
 
 
 @dataclass
@@ -275,6 +292,8 @@ class Margin(_OldMethodName):
     where: str = "everywhere"
     #: why the peak is not the part's own, when it sits next to an idealised support or load ("" otherwise)
     note: str = ""
+    #: the model's unit system, by its label (``"N, mm, MPa"``; ``""`` when not stated or for a given peak)
+    units: str = ""
 
     @property
     def passed(self) -> bool:
@@ -286,8 +305,9 @@ class Margin(_OldMethodName):
         verdict = "holds" if self.passed else "DOES NOT hold"
         zone = "" if self.where in ("everywhere", "given") else f" {self.where}"
         note = f" CAUTION: the peak sits {self.note}." if self.note else ""
-        return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g} / "
-                f"({self.factor_of_safety:g} x {self.field} peak{zone} {self.peak:.6g} at {_where(x, y)}) - 1, "
+        u, L = _unit_suffixes(self.units)
+        return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g}{u} / "
+                f"({self.factor_of_safety:g} x {self.field} peak{zone} {self.peak:.6g}{u} at {_at(x, y, L)}) - 1, "
                 f"{self.recovery} recovery.{note} {self.caution}")
 
     __str__ = summary
@@ -334,7 +354,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         if not math.isfinite(peak):
             raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
         loc, fname, meth = (float("nan"), float("nan")), "given", "given"
-        said, note = "given", ""
+        said, note, units = "given", "", ""
     else:
         result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
         _check_field(field)
@@ -342,7 +362,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         ext = result_or_peak.max(field, recovery=recovery, absolute=True, where=where)
         peak, loc, _ = ext
         peak = abs(peak)
-        said, note = ext.where, ext.note
+        said, note, units = ext.where, ext.note, result_or_peak.units
         fname, meth = field, recovery
         sink = result_or_peak.warnings
     if fs < 1.0:
@@ -351,7 +371,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
              "(e.g. 1.5 on limit loads), or lower the allowable for a known knock-down instead",
              "factor-of-safety", category=PlanarWarning, sink=sink)
     ms = math.inf if peak == 0 else allow / (fs * peak) - 1.0
-    return Margin(ms, allow, fs, peak, fname, meth, loc, where=said, note=note)
+    return Margin(ms, allow, fs, peak, fname, meth, loc, where=said, note=note, units=units)
 
 
 # ---------------------------------------------------------------------------- cuts and paths
