@@ -418,8 +418,9 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     """Why a peak at ``node`` is not the part's own, or ``""``.
 
     The peak is flagged when ``node`` lies next to an idealised support or concentrated load and its
-    value exceeds the largest value of ``values`` (within ``mask``) away from every idealisation by
-    more than ``DOMINANCE``: the peak is then made by the idealisation (a clamped hole, a point force).
+    value exceeds the largest value of ``values`` (within ``mask``, or in the whole part when the zone
+    lies wholly next to idealisations) away from every idealisation by more than ``DOMINANCE``: the
+    peak is then made by the idealisation (a clamped hole, a point force).
     ``values`` are read largest-first; for a smallest value pass the negated field and
     ``sign_of_values=-1`` (the message then quotes values with their own sign).
     """
@@ -431,27 +432,30 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
         return ""
     v = np.abs(values) if absolute else np.asarray(values, dtype=float)
     peak = float(v[node])
-    # the candidates that could beat the peak less DOMINANCE: only they need the distance test
-    ok = np.isfinite(v) & (mesh.used_nodes() if mask is None else mask)
-    if mask is not None and np.all(near_idealised(mesh, model, np.flatnonzero(ok))[0]):
-        # the zone lies wholly next to idealisations (e.g. the supported edge itself): weigh its peak
-        # against the rest of the part, or a uniform field would be flagged on its own support
-        ok = np.isfinite(v) & mesh.used_nodes()
-    cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
-    near_c, _ = near_idealised(mesh, model, cand)
-    if np.any(~near_c):
-        return ""  # as large a value away from every idealisation: the field's own level
-    # the largest value away from every idealisation: test the values in falling order, a growing batch at a time
-    rest = np.flatnonzero(ok)
-    order = rest[np.argsort(-v[rest], kind="stable")]
-    top, start, batch = float("nan"), 0, 256
-    while start < order.size:
-        chunk = order[start:start + batch]
-        near_k, _ = near_idealised(mesh, model, chunk)
-        if not np.all(near_k):
-            top = float(v[chunk[np.argmin(near_k)]])
+    used = np.isfinite(v) & mesh.used_nodes()
+    zone = used if mask is None else np.isfinite(v) & mask
+    top = float("nan")
+    # within the zone; when the zone lies wholly next to idealisations (e.g. the supported edge itself),
+    # against the rest of the part, or a uniform field would be flagged on its own support
+    for ok in (zone, used) if not np.array_equal(zone, used) else (zone,):
+        # the candidates that could beat the peak less DOMINANCE: only they need the distance test
+        cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
+        near_c, _ = near_idealised(mesh, model, cand)
+        if np.any(~near_c):
+            return ""  # as large a value away from every idealisation: the field's own level
+        # the largest value away from every idealisation: the values in falling order, a growing batch at a time
+        rest = np.flatnonzero(ok)
+        order = rest[np.argsort(-v[rest], kind="stable")]
+        start, batch = 0, 256
+        while start < order.size:
+            chunk = order[start:start + batch]
+            near_k, _ = near_idealised(mesh, model, chunk)
+            if not np.all(near_k):
+                top = float(v[chunk[np.argmin(near_k)]])
+                break
+            start, batch = start + batch, batch * 4
+        if np.isfinite(top):
             break
-        start, batch = start + batch, batch * 4
     sign = -1.0 if sign_of_values < 0 else 1.0
     other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
              f"{sign * top:.6g}" if np.isfinite(top) else "")
