@@ -395,3 +395,16 @@ def test_pins_on_a_mesh_of_several_pieces():
     m3.add_load(Traction("outer", tx=1.0), case="c")
     with pytest.raises((SupportError, planar.SolverError)):
         solve(m3)
+
+
+def test_a_peak_at_a_tied_edge_is_noted_as_made_by_the_idealisation():
+    # a tie is an idealisation of the pin's fit in its hole (common practice: read no peak at a clamp)
+    mesh = quarter("Q4", 8)
+    m = model_of(mesh)
+    m.add_pin(Pin("hole", hold="both", rotation="held"))
+    m.add_load(Traction("outer", tx=1.0), case="c")
+    r = solve(m)["c"]
+    peak = r.max("von_mises")
+    assert "the pin" in str(peak.note)
+    away = r.max("von_mises", where=planar.Away())
+    assert away.value < peak.value and np.hypot(*away.location) > 1.5

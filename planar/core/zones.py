@@ -331,6 +331,8 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
                 continue
             if nodes.size:
                 out.append((f"the support {s!r}", nodes))
+        for p in getattr(model, "pins", ()):  # a pin's tie is an idealisation of the fit of the pin in its hole
+            out.append((f"the pin {p.describe()}", np.asarray(mesh.nodes_of(p.edge), dtype=np.int64).ravel()))
     if loads:
         seen = set()
         for case, items in getattr(model, "cases", {}).items():
