@@ -122,6 +122,8 @@ def test_envelope_peak_at_the_clamp_is_noted(cases):
     assert lo.case == "down" and lo.location == (0.0, 0.0) and lo.note.startswith(CLAMP)
     assert hi.where == "everywhere"
     value, location, node, case = hi  # still unpacks as four
+    again = pickle.loads(pickle.dumps(hi))
+    assert again == hi and again.note == hi.note and again.where == hi.where
     assert value == hi.value and case == "down"
     text = env.summary()
     assert "CAUTION: the max sits next to the support Fixed('left')" in text
