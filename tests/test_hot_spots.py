@@ -123,6 +123,23 @@ def test_a_peak_at_a_clamp_is_flagged_and_the_hole_governs():
     assert "FLAGGED: next to the support Fixed('left')" in text and "governing" in text
 
 
+def test_a_point_force_inside_makes_a_flagged_region_spot():
+    from planar.geometry import Plate, Refine, mesh
+
+    plate = Plate.rectangle(100.0, 40.0, centre=(0.0, 0.0)).add_point("pin", (10.0, 0.0))
+    m = mesh(plate, size=4.0, element="T6", seed=1, refine=[Refine("pin", size=0.5)])
+    model = planar.Model(m, planar.Isotropic(70e3, 0.33), thickness=2.0, units=UNITS)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.PointForce("pin", fx=1000.0), case="c")
+    hs = hot_spots(planar.solve(model)["c"])
+    # a point force's field is singular (Flamant/Kelvin, Timoshenko and Goodier art. 36): its peak is
+    # the idealisation's, inside the region, and nothing else is left to govern
+    s = hs.spots[0]
+    assert s.kind == "region" and s.feature == "plate" and s.flagged and "PointForce('pin'" in s.next_to
+    assert s.location == pytest.approx((10.0, 0.0), abs=1.5)
+    assert hs.governing is None and "every spot is made by how the part is held" in hs.table()
+
+
 def test_kt_and_margin_columns_agree_with_kt_and_margin_of_safety_on_the_same_node():
     r = _clamped_strip()
     nominal, allowable, fs = 125.0, 400.0, 1.5

@@ -224,7 +224,10 @@ class HotSpots:
             notes.append(f"margin = allowable {self.allowable:.6g}{u} / ({self.factor_of_safety:g} x value) - 1")
         notes.append(self.rule)
         if any(s.flagged for s in self.spots):
-            notes.append("a flagged spot is made by how the part is held or loaded; check the feature's own spot")
+            notes.append("a flagged spot is made by how the part is held or loaded; check the feature's own spot"
+                         if self.governing is not None else
+                         "every spot is made by how the part is held or loaded: read the feature under check "
+                         "a distance away, e.g. result.max(field, where=Away(d))")
         out += ["", *notes]
         return "\n".join(out)
 
