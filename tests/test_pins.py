@@ -408,3 +408,17 @@ def test_a_peak_at_a_tied_edge_is_noted_as_made_by_the_idealisation():
     assert "the pin" in str(peak.note)
     away = r.max("von_mises", where=planar.Away())
     assert away.value < peak.value and np.hypot(*away.location) > 1.5
+
+
+def test_reactions_table_lists_each_support_and_pin_with_units():
+    from planar.post.report import reactions_table
+
+    mesh = quarter("Q4", 6)
+    m = Model(mesh, Isotropic(E, NU), thickness=2.0, units="N, mm, MPa")
+    m.add_support(Fixed("outer"))
+    m.add_pin(Pin("hole", hold=None))
+    m.add_load(PinLoad("hole", fy=-20.0), case="c")
+    t = reactions_table(solve(m)["c"])
+    assert list(t.headers) == ["support or pin", "kind", "force in x [N]", "force in y [N]", "moment [N mm]"]
+    assert [row[1] for row in t.rows] == ["fixed", "pin (rigid tie)"]
+    assert float(t.rows[0][3]) == pytest.approx(20.0) and float(t.rows[1][3]) == pytest.approx(-20.0)

@@ -47,6 +47,7 @@ __all__ = [
     "write_report",
     "stress_check_report",
     "equilibrium_table",
+    "reactions_table",
     "describe_model_rows",
     "warnings_section",
 ]
@@ -385,6 +386,23 @@ def equilibrium_table(result) -> Table:
     return t
 
 
+def reactions_table(result, about=(0.0, 0.0)) -> Table:
+    """The force and moment of each support and each pin on the part (:meth:`planar.Result.support_reactions`)."""
+    result = as_result(result, "reactions_table")
+    from .plots import force_unit, length_unit
+
+    force = force_unit(getattr(result, "units", ""))
+    moment = f"{force} {length_unit(getattr(result, 'units', ''))}".strip() if force else ""
+    recs = result.support_reactions(about=about)
+    rows = [[r.name, r.kind, f"{r.force[0]:.6g}", f"{r.force[1]:.6g}", f"{r.moment:.6g}"] for r in recs]
+    where = f"({recs[0].about[0]:.6g}, {recs[0].about[1]:.6g})" if recs and about != "own" else "each one's own point"
+    return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
+                  "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
+                 rows, caption=f"Reactions of each support and pin on the part, load case '{result.case}'; moments "
+                               f"about {where}, counter-clockwise positive. With the applied loads they add up to zero.",
+                 numeric=[2, 3, 4])
+
+
 def warnings_section(warnings: Sequence[Any]) -> Section:
     """A "Warnings" section listing planar warnings (code and message), e.g. ``result.warnings``."""
     rows = []
@@ -476,7 +494,8 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     sections.append(Section("Convergence evidence", list(convergence) or [
         Paragraph("No convergence study was made for this report: the figures above come from one "
                   "mesh, and their discretisation error is not shown.")]))
-    sections.append(Section("Equilibrium", [equilibrium_table(result)]))
+    sections.append(Section("Equilibrium", [equilibrium_table(result)]
+                            + ([reactions_table(result)] if hasattr(result, "support_reactions") else [])))
     sections += list(extra_sections)
     sections.append(Section("Cautions and limits", [Notice(list(cautions), heading="Read before using these results")]))
     run = [("load case", result.case), ("solver", getattr(result, "solver", "") or "-")] + \
