@@ -81,6 +81,29 @@ def _uniform_strap():
     return planar.solve(model)["pull"]
 
 
+def test_edges_walk_into_ordered_chains_and_a_plateau_peaks_at_its_middle():
+    import numpy as np
+
+    from planar.post._peaks import chain_maxima, edge_chains
+
+    mesh = planar.rectangle_mesh(10.0, 2.0, 10, 2, "Q8")
+    [(order, closed)] = edge_chains(mesh, "top")
+    x = mesh.nodes[order, 0]
+    assert closed is False and order.size == 21 and np.all(np.abs(np.diff(x)) == pytest.approx(0.5))
+    v = np.zeros(mesh.n_nodes)
+    # along the chain: a single peak at node 3, a plateau over nodes 10 to 14 (middle 12), the end 20
+    along = np.array([0, 1, 2, 5, 2, 1, 0, 1, 2, 3, 7, 7, 7, 7, 7, 3, 2, 1, 2, 3, 4], float)
+    v[order] = along
+    found = chain_maxima(order, closed, v, 1e-12)
+    assert sorted(int(np.flatnonzero(order == n)[0]) for n in found) == [3, 12, 20]
+    # a hole is one closed chain, walked round at its radius
+    [(ring, closed)] = edge_chains(_two_holes().mesh, "big_hole")
+    p = _two_holes().mesh.nodes[ring] - (-40.0, 0.0)
+    assert closed is True and np.hypot(*p.T) == pytest.approx(8.0, rel=1e-9)
+    step = np.abs(np.diff(np.unwrap(np.arctan2(p[:, 1], p[:, 0]))))
+    assert step.max() < 0.1  # neighbours along the walk are neighbours on the hole
+
+
 def test_a_smooth_field_gives_one_spot_at_the_hole():
     # Kirsch 1898 (Timoshenko and Goodier art. 35): sigma_1 peaks once, 3 sigma_0 at (0, a)
     hs = hot_spots(_kirsch_quarter(), "sigma_1")
