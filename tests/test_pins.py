@@ -422,3 +422,17 @@ def test_reactions_table_lists_each_support_and_pin_with_units():
     assert list(t.headers) == ["support or pin", "kind", "force in x [N]", "force in y [N]", "moment [N mm]"]
     assert [row[1] for row in t.rows] == ["fixed", "pin (rigid tie)"]
     assert float(t.rows[0][3]) == pytest.approx(20.0) and float(t.rows[1][3]) == pytest.approx(-20.0)
+
+
+def test_the_tying_is_kept_with_the_results_and_gives_the_edge_frame():
+    mesh = quarter("Q4", 6)
+    m = model_of(mesh)
+    m.add_pin(Pin("hole", hold="both", rotation="held", name="bolt"))
+    m.add_load(Traction("outer", tx=1.0), case="c")
+    r = solve(m)["c"]
+    frame = r.assembly.tying.edge_frame("bolt")
+    x = mesh.nodes[frame["nodes"]]
+    assert np.allclose(frame["normals"], x / np.hypot(*x.T)[:, None], atol=1e-12)  # radial on the unit hole
+    assert frame["G"].shape == (2 * frame["nodes"].size, 3)
+    with pytest.raises(NameNotFoundError):
+        r.assembly.tying.edge_frame("hole")

@@ -35,6 +35,13 @@ other (a dense block of (2 n_edge)^2 / 2 entries: 2e5 for a hole of 300 nodes).
 Afterwards ``u_E = A u_N + g``, and the force each pin exerts on the edge nodes is ``K u - f`` there
 (for the spreading tie also at the other edge nodes, ``f_tie - A^T r_E``); the pin's force and moment
 are their resultant, its reaction that minus its load.
+
+For bearing contact (compression only, with clearance) the same pieces serve: the pin's three
+unknowns ``q`` and the rigid map ``G`` of :meth:`Tying.edge_frame` give each edge node's gap
+``g_i = n_i . (u_i - G_i q) + c`` along the node's normal ``n_i`` (from the pin's point into the part),
+a linear function of the mesh unknowns and ``q``; a contact tie adds no row to ``A`` and condenses onto
+those gaps through solves with the one factorization. The Tying of a solve is kept on its assembly
+(``result.assembly.tying``).
 """
 from __future__ import annotations
 
@@ -162,8 +169,24 @@ class Tying:
             e_off += d["E"].size
             self.data.append(d)
         self.n_pin = p_off
+        asm.tying = self  # kept with the results (result.assembly.tying)
         self.E = np.concatenate([d["E"] for d in self.data]).astype(np.int64)
         self.g = np.concatenate([d["g"] for d in self.data])
+
+    def edge_frame(self, name: str) -> dict:
+        """A pin's edge as a contact would read it: nodes, point, rho, G (2 ns, 3) and unit normals (ns, 2).
+
+        ``G`` maps the pin's (ux, uy, rho theta) to the rigid motion of the edge nodes; the normals point
+        from the pin's point to each node (radially outward for a hole).
+        """
+        for d in self.data:
+            if d["pin"].name == name:
+                r = self.mesh.nodes[d["nodes"]] - d["point"]
+                return {"nodes": d["nodes"], "point": d["point"], "rho": d["rho"], "G": d["G"],
+                        "normals": r / np.hypot(*r.T)[:, None]}
+        from .errors import unknown_name
+
+        raise unknown_name("pin", name, [d["pin"].name for d in self.data])
 
     # ------------------------------------------------------------------ before the solve
     def mark(self, pres: np.ndarray, up: np.ndarray) -> None:
