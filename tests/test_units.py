@@ -282,3 +282,16 @@ def test_checks_and_result_summary_state_the_units(solved_strip):
     assert "allowable 35000 psi" in ms.summary() and ms.units == "lbf, in, psi"
     assert "psi" not in margin_of_safety(12.0, 35e3).summary()   # a given peak: its units are not known
     assert r.summary()["units"]["name"] == "lbf-in-psi" and r.summary()["units"]["g"] == pytest.approx(G0 / INCH)
+
+
+def test_path_and_cut_summaries_state_the_units(solved_strip):
+    # a strip 4 m wide pulled by 1 kPa: the cut across it carries 4 kN per metre of thickness (statics)
+    from planar.post.checks import cut_resultant, path_stresses
+
+    r = solved_strip(10.0, 4.0, 4, 2, "Q8", case="pull", units="kN, m, kPa", thickness=1.0, hold="roller",
+                     loads={"pull": planar.Traction("right", tx=1.0)})
+    text = path_stresses(r, (5.0, 0.0), (5.0, 4.0), ("sigma_xx",)).summary()
+    assert "-> (5.0, 4.0) m," in text and "sigma_xx: max |.| 1 kPa at distance" in text
+    cut = cut_resultant(r, (5.0, 0.0), (5.0, 4.0))
+    assert cut.normal_force == pytest.approx(4.0, rel=1e-9)
+    assert "cut of length 4 m" in cut.summary() and "normal 4 kN" in cut.summary() and " kN m (" in cut.summary()

@@ -422,14 +422,20 @@ class PathStresses(_OldMethodName):
     values: dict[str, np.ndarray]
     recovery: str
     notes: dict[str, str] = field(default_factory=dict)
+    #: the model's unit system, by its label (``"N, mm, MPa"``; ``""`` when not stated)
+    units: str = ""
 
     def summary(self) -> str:
-        lines = [f"path {self.start} -> {self.end}, {self.distance.size} points, {self.recovery} recovery"]
+        from ..core.units import field_unit
+
+        _, L = _unit_suffixes(self.units)
+        lines = [f"path {self.start} -> {self.end}{L}, {self.distance.size} points, {self.recovery} recovery"]
         for k, v in self.values.items():
             i = int(np.argmax(np.abs(v)))
             x, y = self.points[i]
-            lines.append(f"  {k}: max |.| {abs(v[i]):.6g} at distance {self.distance[i]:.6g}, {_where(x, y)}; "
-                         f"mean {v.mean():.6g}")
+            u = f" {field_unit(k, self.units or None)}".rstrip()
+            lines.append(f"  {k}: max |.| {abs(v[i]):.6g}{u} at distance {self.distance[i]:.6g}{L}, "
+                         f"{_at(x, y, L)}; mean {v.mean():.6g}{u}")
             if self.notes.get(k):
                 lines.append(f"    CAUTION: it sits {self.notes[k]}")
         return "\n".join(lines)
@@ -514,7 +520,7 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     for f in names:
         dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), recovery=recovery)
     return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, recovery,
-                        _path_notes(result, pts, values, recovery))
+                        _path_notes(result, pts, values, recovery), units=result.units)
 
 
 @dataclass
@@ -554,13 +560,19 @@ class CutResultant(_OldMethodName):
     recovery: str
     n_points: int
     caution: str = field(default=CAUTION, repr=False)
+    #: the model's unit system, by its label (``"N, mm, MPa"``; ``""`` when not stated)
+    units: str = ""
 
     def summary(self) -> str:
-        s = (f"cut of length {self.length:.6g}: resultant ({self.force[0]:.6g}, {self.force[1]:.6g}), "
-             f"normal {self.normal_force:.6g}, shear {self.shear_force:.6g}, moment about the midpoint "
-             f"{self.moment:.6g} ({self.recovery} stresses, {self.n_points} points)")
+        from ..core.units import unit_system
+
+        s_ = unit_system(self.units or None)
+        L, F, M = (f" {s_.length}", f" {s_.force}", f" {s_.moment}") if s_.stated else ("", "", "")
+        s = (f"cut of length {self.length:.6g}{L}: resultant ({self.force[0]:.6g}, {self.force[1]:.6g}){F}, "
+             f"normal {self.normal_force:.6g}{F}, shear {self.shear_force:.6g}{F}, moment about the midpoint "
+             f"{self.moment:.6g}{M} ({self.recovery} stresses, {self.n_points} points)")
         if self.applied is not None:
-            s += (f"; applied ({self.applied[0]:.6g}, {self.applied[1]:.6g}), relative difference "
+            s += (f"; applied ({self.applied[0]:.6g}, {self.applied[1]:.6g}){F}, relative difference "
                   f"{self.relative_difference:.3e}")
         return s
 
@@ -655,4 +667,4 @@ def cut_resultant(result, start, end, *, applied=None, recovery: str = "spr", se
         rel = diff / scale if scale > 0 else diff
         app = (float(av[0]), float(av[1]))
     return CutResultant((Fx, Fy), float(Fx * n[0] + Fy * n[1]), float(Fx * tdir[0] + Fy * tdir[1]), M, L,
-                        (float(n[0]), float(n[1])), app, rel, recovery, int(pts.shape[0]))
+                        (float(n[0]), float(n[1])), app, rel, recovery, int(pts.shape[0]), units=result.units)
