@@ -245,6 +245,10 @@ class HotSpots:
                           "governing": None if gov is None else gov.rank,
                           "spots": [s.as_dict() for s in self.spots]})
 
+    def section(self, *, figure: bytes | str | os.PathLike | None = None):
+        """:func:`hot_spot_section` of these spots (a report Section)."""
+        return hot_spot_section(self, figure=figure)
+
     def plot(self, path: str | os.PathLike | None = None, **kwargs):
         """:func:`plot_hot_spots` of these spots."""
         return plot_hot_spots(self, path, **kwargs)

@@ -485,10 +485,8 @@ def stress_check_report(result, *, title: str, subtitle: str = "",
     sections.append(Section("Mesh", [KeyValues(rows)]))
     if results:
         sections.append(Section("Results", list(results)))
-    if hot_spots is not None:
-        from .hotspots import hot_spot_section
-
-        sections.append(hot_spots if isinstance(hot_spots, Section) else hot_spot_section(hot_spots))
+    if hot_spots is not None:  # a HotSpots tables itself (planar.post.hotspots.hot_spot_section)
+        sections.append(hot_spots if isinstance(hot_spots, Section) else hot_spots.section())
     if checks:
         sections.append(Section("Checks against handbook values and allowables", list(checks)))
     sections.append(Section("Convergence evidence", list(convergence) or [
