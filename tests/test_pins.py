@@ -399,7 +399,7 @@ def test_pins_on_a_mesh_of_several_pieces():
 
 def test_a_peak_at_a_tied_edge_is_noted_as_made_by_the_idealisation():
     # a tie is an idealisation of the pin's fit in its hole (common practice: read no peak at a clamp)
-    mesh = quarter("Q4", 8)
+    mesh = quarter("Q8", 8)
     m = model_of(mesh)
     m.add_pin(Pin("hole", hold="both", rotation="held"))
     m.add_load(Traction("outer", tx=1.0), case="c")
