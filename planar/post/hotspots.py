@@ -631,7 +631,7 @@ def hot_spot_section(hs: HotSpots, *, figure: bytes | str | os.PathLike | None =
         rows.append([str(s.rank), f"{s.feature} ({s.kind})", fmt_point(s.location), f"{s.value:.5g}",
                      _g(s.Kt), _g(s.margin, "+.3f"), remark])
     caption = (f"Local peaks of {hs.field} ({hs.recovery} recovery) along the named edges and inside the regions, "
-               f"load case '{hs.case}'" + ("" if hs.where == "everywhere" else f", {hs.where}") + f". {hs.rule}.")
+               f"load case '{hs.case}'" + ("" if hs.where == "everywhere" else f", {hs.where}") + f". {hs.rule[:1].upper()}{hs.rule[1:]}.")
     if hs.nominal is not None:
         caption += f" Kt = value / {hs.nominal:.6g}{u}."
     if hs.allowable is not None:
