@@ -221,12 +221,13 @@ def test_spreading_tie_held_pin_reacts_the_load_and_stays_put_on_average():
     assert r.equilibrium_error() < 1e-9
 
 
-def test_pin_held_in_one_direction_and_with_its_rotation_free():
+@pytest.mark.parametrize("tie", ["rigid", "spreading"])
+def test_pin_held_in_one_direction_and_with_its_rotation_free(tie):
     mesh = quarter("Q4", 10)
     m = model_of(mesh)
     m.add_support(Roller((5.0, 0.0), fixed="y"))
     m.add_support(Roller((0.0, 5.0), fixed="y"))
-    m.add_pin(Pin("hole", hold="x", rotation="free"))
+    m.add_pin(Pin("hole", tie=tie, hold="x", rotation="free"))
     m.add_load(Traction("outer", tx=2.0), case="c")
     r = solve(m)["c"]
     pin = r.support_reactions(about="own")[-1]
@@ -240,7 +241,7 @@ def test_pin_held_in_one_direction_and_with_its_rotation_free():
     # a direction: held along (1, 1), free across it
     m2 = model_of(mesh)
     m2.add_support(Roller((5.0, 5.0), fixed=(1.0, -1.0)))
-    m2.add_pin(Pin("hole", hold=(1.0, 1.0), rotation="held"))
+    m2.add_pin(Pin("hole", tie=tie, hold=(1.0, 1.0), rotation="held"))
     m2.add_load(Traction("outer", tx=2.0), case="c")
     pin2 = solve(m2)["c"].support_reactions()[-1]
     assert abs(pin2.reaction[0] - pin2.reaction[1]) < 1e-9 * 10  # along (1, 1) only
