@@ -137,6 +137,11 @@ class Support:
             return mesh.nodes_of(self.where)
         return np.array([self.snap(mesh, quiet=True)], dtype=np.int64)
 
+    def is_idealised(self, mesh) -> bool:
+        """True when this support idealises how the part is held, so a peak next to it is not the part's own
+        (:mod:`planar.core.zones`). Symmetry planes, and rollers sliding along a straight edge, are not."""
+        return bool(self.idealised)
+
     def describe(self) -> str:
         if self.snapped is not None:
             i, at, d = self.snapped
@@ -205,6 +210,20 @@ class Roller(Support):
 
     def __repr__(self):
         return f"Roller({self.where!r}, fixed={self.fixed!r})"
+
+    def is_idealised(self, mesh) -> bool:
+        """A roller holding a straight named edge along its normal is a symmetry line in effect: it restrains no
+        contraction along the edge and makes no peak of its own, so it is not flagged; any other roller is."""
+        if not self.idealised:
+            return False
+        if not isinstance(self.where, str) or self.where not in mesh.edge_sets:
+            return True
+        try:
+            n = _edge_normal(mesh, self.where, "roller")
+            d = n if isinstance(self.fixed, str) and self.fixed.lower() == "normal" else _direction(self.fixed)
+        except InputError:
+            return True
+        return abs(abs(float(np.dot(n, d))) - 1.0) >= 1e-9
 
     def rows(self, mesh):
         ids = self.nodes(mesh)

@@ -16,7 +16,8 @@ name:
 
 A name alone (``where="fillet"``) is the edge or region of that name.
 
-Idealised supports are every support except symmetry planes (which are exact); concentrated loads
+Idealised supports are every support except symmetry planes (which are exact) and rollers that
+slide along a straight edge (symmetry lines in effect); concentrated loads
 are point forces (and any load kind whose :meth:`~planar.core.loads.LoadKind.concentrated_nodes`
 names nodes). A node is *next to* one of them when it lies within ``NEAR_ELEMENTS`` local element
 sizes of its nodes. A peak next to one is flagged with the reason (:func:`idealised_reason`).
@@ -323,7 +324,8 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
     out: list[tuple[str, np.ndarray]] = []
     if supports:
         for s in getattr(model, "supports", ()):
-            if not getattr(s, "idealised", True):
+            test = getattr(s, "is_idealised", None)
+            if not (test(mesh) if test is not None else getattr(s, "idealised", True)):
                 continue
             try:
                 nodes = np.asarray(s.nodes(mesh), dtype=np.int64).ravel()

@@ -272,36 +272,6 @@ def _held_edges(model) -> set[str]:
     return out
 
 
-def _slides_on_edge(support, mesh) -> bool:
-    """A roller holding a straight named edge along its normal: a symmetry line in effect.
-
-    It restrains no Poisson contraction along the edge and makes no peak of its own (the field next to
-    it is the mirror image of the field of the whole part), so a peak beside it is the part's own.
-    """
-    from ..core.supports import _direction, _edge_normal
-
-    where, fixed = getattr(support, "where", None), getattr(support, "fixed", None)
-    if not isinstance(where, str) or where not in mesh.edge_sets or fixed is None:
-        return False
-    try:
-        n = _edge_normal(mesh, where, "roller")
-        d = n if isinstance(fixed, str) and fixed.lower() == "normal" else _direction(fixed)
-    except InputError:
-        return False
-    return abs(abs(float(np.dot(n, d))) - 1.0) < 1e-9
-
-
-class _Held:
-    """The model as the flag sees it: its supports less the rollers that slide along straight edges."""
-
-    def __init__(self, result):
-        model = result.model
-        self.mesh = result.mesh
-        self.model = self
-        self.supports = [s for s in getattr(model, "supports", ()) if not _slides_on_edge(s, self.mesh)]
-        self.cases = getattr(model, "cases", {})
-
-
 def _names(given, available: Sequence[str], what: str) -> list[str]:
     if given is None:
         return sorted(available)
@@ -482,8 +452,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         kept = [k for k in kept if keep_mask[nodes[k]]]
     if top is not None:
         kept = kept[:int(top)]
-    held_by = _Held(result)
-    near, why = near_idealised(mesh, held_by, nodes[kept]) if kept else (np.zeros(0, bool), [])
+    near, why = near_idealised(mesh, result.model, nodes[kept]) if kept else (np.zeros(0, bool), [])
     spots: list[HotSpot] = []
     for r, k in enumerate(kept):  # one pass per spot
         i = int(nodes[k])
@@ -498,7 +467,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         reason = next_to = ""
         if near[r]:
             mask = _feature_mask(mesh, str(feats[k]), str(kinds[k]), i)
-            reason = idealised_reason(held_by, i, v, mask)
+            reason = idealised_reason(result, i, v, mask)
             next_to = why[r] if reason else ""
         also = tuple(_at(mesh, j) for j in twins.get(k, []))
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
