@@ -437,3 +437,31 @@ def test_the_tying_is_kept_with_the_results_and_gives_the_edge_frame():
     assert frame["G"].shape == (2 * frame["nodes"].size, 3)
     with pytest.raises(NameNotFoundError):
         r.assembly.tying.edge_frame("hole")
+
+
+def test_a_pin_joining_pieces_holds_them_together():
+    # two plates side by side whose holes are tied to one pin: the pin joins them (statics of the pair)
+    from planar import Mesh
+
+    a = quarter("Q4", 6)
+    n = a.n_nodes
+    (lay, conn), = a.cells.items()
+    nodes = np.vstack([a.nodes, a.nodes * [-1.0, 1.0]])  # the mirror image across x = 0, not joined
+    mesh = Mesh(nodes, {lay: np.vstack([conn, conn[:, ::-1] + n])},
+                {"holes": np.vstack([a.edge_sets["hole"], a.edge_sets["hole"][:, ::-1] + n]),
+                 "outer": a.edge_sets["outer"], "outer_b": a.edge_sets["outer"][:, ::-1] + n}, slits=True)
+    m = model_of(mesh)
+    m.add_support(Fixed("outer_b"))
+    m.add_pin(Pin("holes", hold=None, at=(0.0, 0.0)))
+    m.add_load(Traction("outer", tx=1.0), case="c")
+    r = solve(m)["c"]  # the first plate is held through the pin by the second
+    assert r.equilibrium_error() < 1e-9
+    fixed = r.support_reactions()[0]
+    assert np.allclose(np.array(fixed.force) + r.applied.sum(axis=0), 0.0, atol=1e-9 * 5)
+    # without the fixed edge both plates and the pin are free: refused by name before the solve
+    m2 = model_of(mesh)
+    m2.add_pin(Pin("holes", hold=None, at=(0.0, 0.0)))
+    m2.add_support(Roller("outer_b", fixed="x"))
+    m2.add_load(Traction("outer", tx=1.0), case="c")
+    with pytest.raises(SupportError, match="can still move"):
+        solve(m2)

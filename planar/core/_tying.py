@@ -375,7 +375,9 @@ class Tying:
                 continue
             if not held.any():
                 continue
-            if held[2]:
+            if held[2] and not held[0]:
+                exact = False  # the rotation alone is held: no node rows say that
+            elif held[2]:
                 for v in d["Q"][:2, :2].T[held[:2]]:
                     extra_n.append(nodes); extra_d.append(np.tile(v, (nodes.size, 1)))
             elif held[0] and held[1]:
@@ -383,7 +385,8 @@ class Tying:
                 extra_n.append(nodes); extra_d.append(r / np.hypot(*r.T)[:, None])
             else:
                 exact = False
-        if not exact:  # left to the solve, which refuses a singular stiffness
+        if not exact:  # the pins join pieces or hold what node rows cannot say: the linkage with the pins
+            self._linkage_check(mesh, cons, pieces, pp, nn)
             return
         from types import SimpleNamespace
 
@@ -394,3 +397,81 @@ class Tying:
                                                np.zeros(rows.node.size + sum(e.size for e in extra_n)),
                                                np.zeros(rows.node.size + sum(e.size for e in extra_n), np.int64)))
         rigid_body_check(mesh, aug, sink=sink)
+
+    def _linkage_check(self, mesh, cons, pieces, pp, nn) -> None:
+        """Free motions of the pieces and the pins together (three motions each), by a dense SVD.
+
+        Rows: the support rows on every body at their node; two per node shared by two bodies (a
+        hinge); two per edge node of a pin and each body at that node (the tie: the body and the pin
+        move alike there); the pins' held components. Each group of rows is compressed by a QR to its
+        rank first. Above ``MAX_DENSE_BODIES`` bodies the check is left to the solve.
+        """
+        from .kinematics import MAX_DENSE_BODIES, _chain_pairs, _merge_rigid
+        from ._linkage import _null, _split, _support_matrix
+
+        body, nb = _merge_rigid(pp, nn, pieces.count)
+        npin = len(self.data)
+        if nb > MAX_DENSE_BODIES:
+            return
+        used = mesh.used_nodes()
+        xy = mesh.nodes[used]
+        xc = xy.mean(axis=0)
+        L = max(float(np.ptp(xy, axis=0).max()), 1e-300)
+        ncol = 3 * (nb + npin)
+        order = np.argsort(nn, kind="stable")
+        nn_s, body_s = nn[order], body[order]
+        ex = np.eye(2)
+        groups = []
+
+        def add(rows, blocks):
+            if rows.shape[0]:
+                r = np.linalg.qr(rows, mode="r") if rows.shape[0] > rows.shape[1] else rows
+                groups.append((r, blocks))
+
+        rows = cons.rows
+        lo, hi = np.searchsorted(nn_s, rows.node), np.searchsorted(nn_s, rows.node, side="right")
+        cnt = hi - lo  # each support row acts on every body at its node
+        ri = np.repeat(np.arange(rows.node.size), cnt)
+        ki = np.repeat(lo - np.r_[0, np.cumsum(cnt)[:-1]], cnt) + np.arange(int(cnt.sum()))
+        rb = body_s[ki]
+        for b, idx in enumerate(_split(rb, nb)):
+            if idx.size:
+                sel = ri[idx]
+                add(_support_matrix(mesh.nodes[rows.node[sel]], rows.direction[sel], xc, L), [b])
+        hn, b1, b2 = _chain_pairs(body, nn, nb)  # hinges: two bodies move alike at a shared node
+        for k in range(hn.size):
+            r1 = _support_matrix(np.tile(mesh.nodes[hn[k]], (2, 1)), ex, xc, L)
+            add(np.hstack([r1, -r1]), [int(b1[k]), int(b2[k])])
+        for j, d in enumerate(self.data):  # ties, and the pins' held components
+            pb = nb + j
+            inc = np.isin(nn_s, d["nodes"])
+            for b in np.unique(body_s[inc]):
+                nodes = nn_s[inc & (body_s == b)]
+                r = _support_matrix(np.repeat(mesh.nodes[nodes], 2, axis=0), np.tile(ex, (nodes.size, 1)), xc, L)
+                add(np.hstack([r, -r]), [int(b), pb])
+            held = d["pin"].held
+            dirs = d["Q"][:2, :2].T[held[:2]]
+            if dirs.shape[0]:
+                add(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, L), [pb])
+            if held[2]:
+                add(np.array([[0.0, 0.0, 1.0]]), [pb])
+        A = []
+        for r, blocks in groups:
+            full = np.zeros((r.shape[0], ncol))
+            for i, b in enumerate(blocks):
+                full[:, 3 * b:3 * b + 3] = r[:, 3 * i:3 * i + 3]
+            A.append(full)
+        N = _null(np.vstack(A) if A else np.zeros((0, ncol)), ncol)
+        if N.shape[0] == 0:
+            return
+        motion = np.abs(N).reshape(N.shape[0], -1, 3).max(axis=(0, 2))
+        moving = np.flatnonzero(motion > 1e-6 * motion.max())
+        from ._linkage import _body_stats
+
+        stats = _body_stats(mesh.nodes, body, nn, nb)
+        parts = [f"the piece near {fmt_point(stats.centre[b])}" for b in moving if b < nb][:5]
+        pins = [repr(self.data[b - nb]["pin"].name) for b in moving if b >= nb]
+        raise SupportError(
+            f"the model can still move, so it has no unique answer: {N.shape[0]} motion(s) are left free by the "
+            f"supports and pins; " + ", ".join(parts + ([f"the pin(s) {', '.join(pins)}"] if pins else []))
+            + " move without straining: hold them with supports, or hold the pins (hold=, rotation=)")
