@@ -335,8 +335,8 @@ class Tying:
         pieces, the pins are given to :func:`planar.core.kinematics.rigid_body_check` as the node rows
         they are equivalent to where that is exact (held translations with held rotation: the edge
         nodes held along them; both translations held with free rotation: the edge nodes held
-        radially); a pin whose hold cannot be written so, or whose edge spans pieces, leaves the
-        check to the solve (a singular stiffness is refused there).
+        radially), which keeps that check's hinge warnings; a pin whose hold cannot be written so, or
+        whose edge spans pieces, makes the pieces and the pins one linkage (:meth:`_linkage_check`).
         """
         from .kinematics import cell_pieces, rigid_body_check
         from ._linkage import _describe_free, _null, _support_matrix
