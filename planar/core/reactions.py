@@ -97,7 +97,26 @@ def _shares(mesh, supports, R: np.ndarray) -> list[np.ndarray]:
         for s in np.unique(lab[one]):
             k = lab[one] == s
             np.add.at(out[s], n1[k], c[k, None] * d1[k])
-    for p in np.unique(node[~one]):  # nodes held by several rows: few
+    two = count[node] == 2  # two rows at a node (x and y of a clamp, or of two supports): 2 x 2 solves at once
+    if np.any(two):
+        k2 = np.flatnonzero(two)
+        k2 = k2[np.argsort(node[k2], kind="stable")].reshape(-1, 2)
+        M = np.stack([d[k2[:, 0]], d[k2[:, 1]]], axis=2)  # (p, 2, 2): columns the two directions
+        p2 = node[k2[:, 0]]
+        ok = np.abs(np.linalg.det(M)) > 1e-12
+        c = np.zeros((k2.shape[0], 2))
+        if np.any(ok):
+            c[ok] = np.linalg.solve(M[ok], R[p2[ok]][:, :, None])[:, :, 0]
+        for j in range(2):
+            kk = k2[ok, j]
+            for s in np.unique(lab[kk]):
+                sel = lab[kk] == s
+                np.add.at(out[s], node[kk][sel], c[ok, j][sel, None] * d[kk][sel])
+        rest = np.unique(p2[~ok])
+    else:
+        rest = np.zeros(0, np.int64)
+    many = np.union1d(np.unique(node[count[node] > 2]), rest)
+    for p in many:  # nodes held by more rows, or by two parallel ones: few
         k = np.flatnonzero(node == p)
         c, *_ = np.linalg.lstsq(d[k].T, R[p], rcond=None)
         for kk, cc in zip(k, c):
