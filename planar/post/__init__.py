@@ -40,7 +40,7 @@ _WHERE = {
     # files, figures, reports
     "write_vtu": "vtk", "read_result_file": "files", "atomic_write_text": "files", "json_safe": "files",
     "plot_field": "plots", "plot_along": "plots", "plot_vtu": "plots", "vtu_fields": "plots",
-    "plot_nodal_field": "plots", "save_figure": "plots",
+    "plot_nodal_field": "plots", "save_figure": "plots", "plot_model": "picture",
     # hot spots
     "hot_spots": "hotspots", "HotSpot": "hotspots", "HotSpots": "hotspots", "plot_hot_spots": "hotspots",
     "hot_spot_section": "hotspots",
@@ -80,6 +80,7 @@ if TYPE_CHECKING:  # what type checkers and editors see; at run time the names l
     from .handbook import kt_hole_in_strip
     from .hotspots import HotSpot, HotSpots, hot_spot_section, hot_spots, plot_hot_spots
     from .norms import energy_norm_error
+    from .picture import plot_model
     from .plots import plot_along, plot_field, plot_nodal_field, plot_vtu, save_figure, vtu_fields
     from .report import (Figure, KeyValues, Notice, Paragraph, Report, Section, Table, Tiles, render_html,
                          stress_check_report, write_report)

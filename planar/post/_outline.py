@@ -1,0 +1,183 @@
+"""The part's outline and a magnification that keeps the drawn shape true (behind the model and result pictures).
+
+* :class:`Outline`: the boundary sides of a mesh (element sides used by one cell), drawn along curved
+  sides with the elements' shape functions, for the undeformed or any displaced node positions, with
+  the outward normal of each side (away from its cell's centre).
+* :func:`true_scale`: the largest displacement magnification that stretches or shortens no element
+  side (nor a quadrilateral's diagonal) by more than a fraction of its length. A drawn hole, fillet or
+  element then keeps its shape and size within that fraction: a rigid motion changes no length, and
+  a magnified rotation stretches sides only to second order, so it is counted too.
+"""
+from __future__ import annotations
+
+import math
+from typing import Any, Mapping
+
+import numpy as np
+
+from ._subdivide import _etype_of
+
+__all__ = ["Outline", "true_scale", "side_pairs", "DISTORTION"]
+
+#: the largest relative change of length of any element side drawn at an automatic magnification
+DISTORTION = 0.03
+
+
+def _sides(cells: Mapping[str, np.ndarray], etypes=None):
+    """For every cell side: (block index, cell, local edge, corner node pair sorted) over all blocks."""
+    blocks, cell_ids, edge_ids, keys, layouts = [], [], [], [], []
+    for b, (layout, conn) in enumerate(cells.items()):
+        conn = np.asarray(conn)
+        if conn.size == 0:
+            continue
+        et = _etype_of(layout, etypes)
+        ed = np.asarray(et.edges)
+        e, ne = conn.shape[0], ed.shape[0]
+        k = np.sort(np.stack([conn[:, ed[:, 0]], conn[:, ed[:, 1]]], axis=-1), axis=-1).reshape(-1, 2)
+        keys.append(k)
+        blocks.append(np.full(e * ne, b))
+        cell_ids.append(np.repeat(np.arange(e), ne))
+        edge_ids.append(np.tile(np.arange(ne), e))
+        layouts.append(layout)
+    if not keys:
+        z = np.zeros(0, np.int64)
+        return z, z, z, np.zeros((0, 2), np.int64)
+    return (np.concatenate(blocks), np.concatenate(cell_ids), np.concatenate(edge_ids), np.vstack(keys))
+
+
+class Outline:
+    """The boundary sides of a mesh, drawable for any node positions.
+
+    Parameters
+    ----------
+    nodes : ndarray, shape (n, 2)
+        Undeformed node coordinates.
+    cells : mapping of str to ndarray
+        Cell blocks by layout.
+    etypes : mapping, optional
+        Element types of layouts other than the built-in ones.
+    samples : int
+        Points per curved (quadratic or higher) side.
+
+    Attributes
+    ----------
+    corners : ndarray, shape (s, 2)
+        The corner nodes of each boundary side.
+    normal : ndarray, shape (s, 2)
+        Unit outward normal of each side (from its cell's centre towards the side).
+    middle : ndarray, shape (s, 2)
+        Middle of each side (mean of its two corners).
+    """
+
+    def __init__(self, nodes, cells: Mapping[str, np.ndarray], etypes=None, samples: int = 6):
+        self.cells = {k: np.asarray(v) for k, v in cells.items() if np.asarray(v).size}
+        self.etypes = etypes
+        self.samples = int(samples)
+        nodes = np.asarray(nodes, float)[:, :2]
+        block, cell, edge, keys = _sides(self.cells, etypes)
+        if keys.shape[0]:
+            _, inv, count = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
+            once = count[inv.reshape(-1)] == 1
+        else:
+            once = np.zeros(0, bool)
+        self.block, self.cell, self.edge, self.corners = block[once], cell[once], edge[once], keys[once]
+        layouts = list(self.cells)
+        centre = np.zeros((self.corners.shape[0], 2))
+        for b, layout in enumerate(layouts):
+            sel = self.block == b
+            if sel.any():
+                conn = self.cells[layout]
+                ncorner = _etype_of(layout, etypes).corner_count()
+                centre[sel] = nodes[conn[self.cell[sel], :ncorner]].mean(axis=1)
+        a, c = nodes[self.corners[:, 0]], nodes[self.corners[:, 1]]
+        self.middle = 0.5 * (a + c)
+        t = c - a
+        n = np.stack([t[:, 1], -t[:, 0]], axis=1)
+        n /= np.maximum(np.hypot(n[:, 0], n[:, 1]), 1e-300)[:, None]
+        flip = np.einsum("ij,ij->i", n, self.middle - centre) < 0
+        n[flip] *= -1.0
+        self.normal = n
+
+    def __len__(self) -> int:
+        return int(self.corners.shape[0])
+
+    def polylines(self, positions) -> np.ndarray:
+        """Each boundary side as a polyline of the node ``positions`` (n, 2): shape (s, samples, 2).
+
+        The sides are mapped with the cells' shape functions, so a displaced curved side is drawn as the
+        element sees it (positions = nodes + scale * u).
+        """
+        x = np.asarray(positions, float)[:, :2]
+        out = np.zeros((len(self), self.samples, 2))
+        t = np.linspace(0.0, 1.0, self.samples)
+        for b, (layout, conn) in enumerate(self.cells.items()):
+            sel = np.flatnonzero(self.block == b)
+            if sel.size == 0:
+                continue
+            et = _etype_of(layout, self.etypes)
+            ed = np.asarray(et.edges)
+            ref = np.asarray(et.ref_nodes, float)
+            p, q = ref[ed[:, 0]], ref[ed[:, 1]]
+            xi = (p[:, None, :] * (1 - t)[None, :, None] + q[:, None, :] * t[None, :, None]).reshape(-1, 2)
+            N = np.asarray(et.shape(xi)).reshape(ed.shape[0], self.samples, -1)   # (edges, m, k)
+            out[sel] = np.einsum("smk,skd->smd", N[self.edge[sel]], x[conn[self.cell[sel]]])
+        return out
+
+
+def side_pairs(cells: Mapping[str, np.ndarray], etypes=None) -> np.ndarray:
+    """Node pairs (p, 2) whose distance a drawing must keep: every cell side, and each quadrilateral's diagonals."""
+    _, _, _, keys = _sides(cells, etypes)
+    pairs = [keys]
+    for layout, conn in cells.items():
+        conn = np.asarray(conn)
+        if conn.size and _etype_of(layout, etypes).cell == "quad":
+            pairs += [conn[:, [0, 2]], conn[:, [1, 3]]]
+    return np.unique(np.sort(np.vstack(pairs), axis=1), axis=0) if pairs[0].size else np.zeros((0, 2), np.int64)
+
+
+def _nice_down(x: float) -> float:
+    """Round down to 1, 2 or 5 times a power of ten."""
+    if not (x > 0 and math.isfinite(x)):
+        return 0.0
+    e = math.floor(math.log10(x))
+    m = x / 10**e
+    return (5 if m >= 5 else 2 if m >= 2 else 1) * 10.0**e
+
+
+def true_scale(nodes, u, cells: Mapping[str, np.ndarray], *, distortion: float = DISTORTION,
+               etypes: Any = None) -> float:
+    """The largest magnification that changes no element side's (or quadrilateral diagonal's) length by
+    more than ``distortion`` of it, rounded down to 1, 2 or 5 times a power of ten (inf when nothing strains).
+
+    For a side a (undeformed) with end displacements differing by b, the drawn length is
+    ``|a + s b|``; the bound is the first s > 0 where ``|a + s b| = (1 +/- distortion) |a|``, a root of
+    ``|b|^2 s^2 + 2 (a.b) s + (1 - (1 +/- f)^2) |a|^2 = 0``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> nodes = np.array([[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]])
+    >>> u = np.array([[0.0, 0.0], [0.01, 0.0], [0.01, 0.0], [0.0, 0.0]])   # a strain of 1e-3
+    >>> true_scale(nodes, u, {"Q4": np.array([[0, 1, 2, 3]])})      # 3 % / 1e-3 = 30 (diagonals stretch less)
+    20.0
+    """
+    nodes = np.asarray(nodes, float)[:, :2]
+    u = np.asarray(u, float)[:, :2]
+    pairs = side_pairs(cells, etypes)
+    if pairs.shape[0] == 0:
+        return math.inf
+    a = nodes[pairs[:, 1]] - nodes[pairs[:, 0]]
+    b = u[pairs[:, 1]] - u[pairs[:, 0]]
+    aa = np.einsum("ij,ij->i", a, a)
+    bb = np.einsum("ij,ij->i", b, b)
+    ab = np.einsum("ij,ij->i", a, b)
+    keep = (bb > 1e-30 * np.maximum(aa, 1e-300)) & (aa > 0)
+    if not keep.any():
+        return math.inf
+    aa, bb, ab = aa[keep], bb[keep], ab[keep]
+    f = float(distortion)
+    up = (-ab + np.sqrt(ab**2 + bb * aa * ((1 + f) ** 2 - 1))) / bb           # stretched to (1 + f)
+    disc = ab**2 - bb * aa * (1 - (1 - f) ** 2)
+    lo = np.where((ab < 0) & (disc >= 0), (-ab - np.sqrt(np.maximum(disc, 0.0))) / bb, np.inf)  # shortened
+    s = float(np.min(np.minimum(up, lo)))
+    return _nice_down(s) if math.isfinite(s) else math.inf
