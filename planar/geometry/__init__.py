@@ -5,6 +5,7 @@ Shapes (:class:`Rectangle`, :class:`Polygon`, :class:`Outline`, :class:`Circle`,
 :class:`planar.core.mesh.Mesh` of the element named (``mesh(plate, size=5.0, element="T6")``) with
 every boundary piece, point and region named. gmsh is imported only when a plate is built or meshed.
 """
+from .lugs import lug
 from .meshing import Refine, element_options, mesh
 from .plate import Plate
 from .shapes import Circle, Ellipse, Outline, Polygon, Rectangle, RoundedRectangle, Shape, Slot
@@ -22,4 +23,5 @@ __all__ = [
     "Refine",
     "mesh",
     "element_options",
+    "lug",
 ]

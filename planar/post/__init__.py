@@ -28,6 +28,9 @@ _WHERE = {
     "edge_stresses": "edges", "EdgeStresses": "edges", "EdgePeak": "edges", "plot_edge_stresses": "edges",
     # scope and handbook formulas
     "CAUTION": "scope", "CAUTIONS": "scope", "kt_hole_in_strip": "handbook",
+    # lugs
+    "lug_check": "lugs", "LugCheck": "lugs", "net_section_stress": "lugs", "bearing_stress": "lugs",
+    "shear_out_stress": "lugs", "kt_pin_loaded_lug": "lugs",
     # error estimate, adaptivity, convergence
     "estimate_error": "estimate", "ErrorEstimate": "estimate", "effectivity": "estimate",
     "energy_norm_error": "norms",
@@ -78,6 +81,7 @@ if TYPE_CHECKING:  # what type checkers and editors see; at run time the names l
     from .estimate import ErrorEstimate, effectivity, estimate_error
     from .files import atomic_write_text, json_safe, read_result_file
     from .handbook import kt_hole_in_strip
+    from .lugs import LugCheck, bearing_stress, kt_pin_loaded_lug, lug_check, net_section_stress, shear_out_stress
     from .hotspots import HotSpot, HotSpots, hot_spot_section, hot_spots, plot_hot_spots
     from .norms import energy_norm_error
     from .picture import plot_model

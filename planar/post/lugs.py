@@ -1,0 +1,344 @@
+"""The lug check: net-section tension, bearing and shear-out stresses, and the peak hoop stress on the hole.
+
+A lug of width W, hole diameter D, thickness t and edge distance e (hole centre to the lug's end,
+:func:`planar.geometry.lugs.lug`) carries a pin load P along its axis. The nominal stresses of
+common practice (E. F. Bruhn, Analysis and Design of Flight Vehicle Structures, 1973, sec. D1, from
+memory; the same in most stress manuals) are:
+
+* net-section tension ``P / ((W - D) t)`` (also the nominal of the lug charts' Kt_n);
+* bearing ``P / (D t)`` (the pin's projected area);
+* shear-out ``P / (2 (e - D / 2) t)`` (two shear planes from the hole to the end, the simple form).
+
+The peak the part sees is the hoop stress on the hole, read from a solved model along the hole's
+edge (:func:`planar.post.edges.edge_stresses`); its ratio to the net-section stress is the
+net-section stress concentration factor Kt_n of the lug charts, and :func:`kt_pin_loaded_lug`
+gives the chart's value for a close-fitting pin to compare with.
+
+Examples
+--------
+>>> from planar.post.lugs import bearing_stress, net_section_stress, shear_out_stress
+>>> net_section_stress(20e3, width=50.0, hole_diameter=20.0, thickness=8.0)
+83.33333333333333
+>>> bearing_stress(20e3, hole_diameter=20.0, thickness=8.0)
+125.0
+>>> shear_out_stress(20e3, edge_distance=40.0, hole_diameter=20.0, thickness=8.0)
+41.666666666666664
+>>> round(kt_pin_loaded_lug(0.5), 3)
+2.507
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..core.errors import InputError
+from ..core.result import as_result
+from ..core.units import force_unit, length_unit, stress_unit
+from .checks import StressConcentration, kt, nominal_net
+from .edges import EdgeStresses, edge_stresses
+from .scope import CAUTION
+
+__all__ = ["net_section_stress", "bearing_stress", "shear_out_stress", "kt_pin_loaded_lug", "LugCheck",
+           "lug_check", "LUG_CHART_SOURCE", "LUG_CHART_FORMULA", "LUG_CHART_RANGE", "LUG_CHART_CONDITIONS",
+           "LUG_NOMINALS_SOURCE"]
+
+#: where the nominal stresses come from
+LUG_NOMINALS_SOURCE = ("E. F. Bruhn, Analysis and Design of Flight Vehicle Structures, 1973, sec. D1 (lugs), "
+                       "common practice; from memory")
+#: the lug chart's curve, as printed beside the figures that use it
+LUG_CHART_FORMULA = "Ktn = 12.882 - 52.714 (d/W) + 89.762 (d/W)^2 - 51.667 (d/W)^3"
+#: the range of d/W the curve covers
+LUG_CHART_RANGE = (0.15, 0.75)
+#: where it comes from
+LUG_CHART_SOURCE = ("W. D. Pilkey and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., Wiley, 2008, "
+                    "chapter 5, the pin-loaded lug chart (after M. M. Frocht and H. N. Hill, J. Appl. Mech. 7 (1940) "
+                    "A5-A9, photoelastic); curve for e/W = 1, coefficients from memory")
+#: the conditions of the chart's tests
+LUG_CHART_CONDITIONS = ("square-ended lug, close-fitting pin (no stated clearance), end distance e/W = 1 (hole "
+                        "centre to end over width), Kt_n = peak hoop stress on the hole / (P / ((W - d) t))")
+
+
+def _positive(value, what: str) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} must be a number, got {value!r}") from None
+    if not math.isfinite(v) or v <= 0:
+        raise InputError(f"{what} must be positive and finite, got {value!r}")
+    return v
+
+
+def _load(value) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"the lug load must be a force (a number), got {value!r}") from None
+    if not math.isfinite(v) or v == 0:
+        raise InputError(f"the lug load must be non-zero and finite, got {value!r}")
+    return abs(v)
+
+
+def net_section_stress(load: float, width: float, hole_diameter: float, thickness: float) -> float:
+    """Net-section tension stress of a lug, ``P / ((W - D) t)`` (common practice; :data:`LUG_NOMINALS_SOURCE`).
+
+    Parameters
+    ----------
+    load : float
+        Pin load P along the lug.
+    width, hole_diameter, thickness : float
+        W, D (0 < D < W) and t.
+
+    Returns
+    -------
+    float
+    """
+    return nominal_net(load, width, hole_diameter, thickness)
+
+
+def bearing_stress(load: float, hole_diameter: float, thickness: float) -> float:
+    """Bearing stress of a pin on its hole, ``P / (D t)`` (the projected area; :data:`LUG_NOMINALS_SOURCE`).
+
+    Parameters
+    ----------
+    load : float
+        Pin load P.
+    hole_diameter, thickness : float
+        D and t.
+
+    Returns
+    -------
+    float
+    """
+    return float(load) / (_positive(hole_diameter, "hole_diameter") * _positive(thickness, "thickness"))
+
+
+def shear_out_stress(load: float, edge_distance: float, hole_diameter: float, thickness: float) -> float:
+    """Shear-out stress of a lug, ``P / (2 (e - D / 2) t)`` (two planes from the hole to the end; simple form).
+
+    Parameters
+    ----------
+    load : float
+        Pin load P toward the lug's end.
+    edge_distance, hole_diameter, thickness : float
+        e (hole centre to end, e > D / 2), D and t.
+
+    Returns
+    -------
+    float
+    """
+    e = _positive(edge_distance, "edge_distance")
+    D = _positive(hole_diameter, "hole_diameter")
+    if e <= D / 2:
+        raise InputError(f"edge_distance {e:g} must exceed the hole radius {D / 2:g}")
+    return float(load) / (2 * (e - D / 2) * _positive(thickness, "thickness"))
+
+
+def kt_pin_loaded_lug(d_over_w):
+    """Net-section Kt of a square-ended lug on a close-fitting pin, read from the lug chart's curve.
+
+    Parameters
+    ----------
+    d_over_w : float or array_like
+        Hole diameter over lug width, within :data:`LUG_CHART_RANGE` (0.15 to 0.75).
+
+    Returns
+    -------
+    float or ndarray
+        Kt_n = peak hoop stress on the hole / (P / ((W - d) t)).
+
+    Raises
+    ------
+    InputError
+        A ratio outside the chart's range or not finite.
+
+    Notes
+    -----
+    :data:`LUG_CHART_FORMULA`, under :data:`LUG_CHART_CONDITIONS` (:data:`LUG_CHART_SOURCE`). The
+    curve comes from photoelastic tests with real pins: read it to about +/- 5 % (the chart's
+    scatter and reading), and expect a frictionless rigid pin with no clearance to read lower than
+    it (the tests' pins had a fit and friction the chart does not state).
+    """
+    r = np.asarray(d_over_w, dtype=float)
+    lo, hi = LUG_CHART_RANGE
+    if not np.all(np.isfinite(r)) or np.any(r < lo) or np.any(r > hi):
+        raise InputError(f"the lug chart covers d/W from {lo:g} to {hi:g}, got {d_over_w!r}")
+    k = 12.882 - 52.714 * r + 89.762 * r**2 - 51.667 * r**3
+    return float(k) if np.ndim(d_over_w) == 0 else k
+
+
+def _ms(allowable: float | None, stress: float, fs: float) -> float | None:
+    if allowable is None:
+        return None
+    return math.inf if stress == 0 else _positive(allowable, "an allowable") / (fs * abs(stress)) - 1.0
+
+
+@dataclass
+class LugCheck:
+    """A lug's nominal stresses, its peak hoop stress on the hole and the margins (:func:`lug_check`).
+
+    Attributes
+    ----------
+    load, width, hole_diameter, thickness : float
+    edge_distance : float or None
+    net_section, bearing : float
+        ``P / ((W - D) t)`` and ``P / (D t)``.
+    shear_out : float or None
+        ``P / (2 (e - D / 2) t)`` when the edge distance is given.
+    peak_hoop : float
+        Largest hoop (tangential) stress on the hole.
+    peak_angle : float
+        Where it is, degrees about the hole centre, counter-clockwise from +x.
+    peak_point : (float, float)
+    kt_net, kt_bearing : float
+        The peak over the net-section and over the bearing stress.
+    concentration : StressConcentration
+        The largest principal stress on the hole over the net-section stress (:func:`planar.post.kt`
+        with ``where=edge``), with its note when the peak sits at an idealised tie or load.
+    margins : dict of str to float
+        Margins of safety ``allowable / (FS x stress) - 1`` for the allowables given: ``"net_section"``,
+        ``"bearing"``, ``"shear_out"``, ``"peak"``.
+    edge : EdgeStresses
+        The stresses along the hole's edge.
+    units : str
+    case : str
+    """
+
+    load: float
+    width: float
+    hole_diameter: float
+    thickness: float
+    edge_distance: float | None
+    net_section: float
+    bearing: float
+    shear_out: float | None
+    peak_hoop: float
+    peak_angle: float
+    peak_point: tuple[float, float]
+    kt_net: float
+    kt_bearing: float
+    concentration: StressConcentration
+    edge: EdgeStresses
+    units: str = ""
+    case: str = ""
+    factor_of_safety: float = 1.0
+    margins: dict = field(default_factory=dict)
+    caution: str = CAUTION
+
+    @property
+    def stress_unit(self) -> str:
+        return stress_unit(self.units)
+
+    def rows(self) -> list[tuple[str, str, float, str]]:
+        """(quantity, formula, value, unit) for each figure of the check."""
+        su = self.stress_unit
+        out = [("net-section tension", "P / ((W - D) t)", self.net_section, su),
+               ("bearing", "P / (D t)", self.bearing, su)]
+        if self.shear_out is not None:
+            out.append(("shear-out", "P / (2 (e - D/2) t)", self.shear_out, su))
+        out += [("peak hoop stress on the hole", f"at {self.peak_angle:.1f} deg", self.peak_hoop, su),
+                ("Kt on the net section", "peak / net-section", self.kt_net, "-"),
+                ("Kt on bearing", "peak / bearing", self.kt_bearing, "-")]
+        return out
+
+    def table(self) -> str:
+        """A plain-text table of the check, units stated, margins where allowables were given."""
+        rows = self.rows()
+        w0 = max(len(r[0]) for r in rows)
+        w1 = max(len(r[1]) for r in rows)
+        lu, fu = length_unit(self.units), force_unit(self.units)
+        head = (f"lug check, load case {self.case!r}: P = {self.load:.6g}{' ' + fu if fu else ''}, W = {self.width:g}, "
+                f"D = {self.hole_diameter:g}, t = {self.thickness:g}"
+                + (f", e = {self.edge_distance:g}" if self.edge_distance is not None else "")
+                + (f" {lu}" if lu else ""))
+        lines = [head]
+        keys = {"net-section tension": "net_section", "bearing": "bearing", "shear-out": "shear_out",
+                "peak hoop stress on the hole": "peak"}
+        for name, formula, value, unit in rows:
+            ms = self.margins.get(keys.get(name, ""))
+            tail = "" if ms is None else f"  MS = {ms:+.3f}" + ("" if ms >= 0 else "  (DOES NOT hold)")
+            lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {value:10.4g} {unit}{tail}")
+        if self.margins:
+            lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
+        if self.concentration.note:
+            lines.append(f"  CAUTION: the peak sits {self.concentration.note}.")
+        return "\n".join(lines)
+
+    __str__ = table
+
+    def as_dict(self) -> dict[str, Any]:
+        """The check as plain numbers (for JSON), units stated."""
+        from .files import json_safe
+
+        return json_safe({
+            "case": self.case, "units": {"model": self.units, "stress": self.stress_unit,
+                                         "length": length_unit(self.units), "force": force_unit(self.units),
+                                         "angle": "deg"},
+            "load": self.load, "width": self.width, "hole_diameter": self.hole_diameter,
+            "thickness": self.thickness, "edge_distance": self.edge_distance,
+            "net_section": self.net_section, "bearing": self.bearing, "shear_out": self.shear_out,
+            "peak_hoop": self.peak_hoop, "peak_angle": self.peak_angle, "peak_point": list(self.peak_point),
+            "kt_net": self.kt_net, "kt_bearing": self.kt_bearing, "margins": dict(self.margins),
+            "factor_of_safety": self.factor_of_safety, "note": self.concentration.note,
+        })
+
+
+def lug_check(result, load: float, width: float, hole_diameter: float, thickness: float, *,
+              edge_distance: float | None = None, edge: str = "hole", recovery: str = "spr",
+              tension_allowable: float | None = None, bearing_allowable: float | None = None,
+              shear_allowable: float | None = None, peak_allowable: float | None = None,
+              factor_of_safety: float = 1.0) -> LugCheck:
+    """Check a solved lug: nominal stresses, the peak hoop stress on its hole, Kt and margins.
+
+    Parameters
+    ----------
+    result : Result
+        The solved lug (one load case).
+    load : float
+        The pin load P along the lug (its magnitude is used).
+    width, hole_diameter, thickness : float
+        W, D and t, in the model's length unit.
+    edge_distance : float, optional
+        e, hole centre to the lug's end; gives the shear-out stress.
+    edge : str, default "hole"
+        The hole's named edge.
+    recovery : {"spr", "average"}
+    tension_allowable, bearing_allowable, shear_allowable, peak_allowable : float, optional
+        Allowables (stress unit of the model) for the net-section, bearing, shear-out and peak
+        stresses; each one given adds its margin of safety.
+    factor_of_safety : float, default 1.0
+
+    Returns
+    -------
+    LugCheck
+
+    Raises
+    ------
+    InputError
+        A dimension or load that is not a positive number, a hole as wide as the lug.
+    NameNotFoundError
+        An edge name the mesh does not have.
+    """
+    result = as_result(result, "lug_check")
+    P = _load(load)
+    W = _positive(width, "width")
+    D = _positive(hole_diameter, "hole_diameter")
+    t = _positive(thickness, "thickness")
+    fs = _positive(factor_of_safety, "factor_of_safety")
+    net = net_section_stress(P, W, D, t)
+    brg = bearing_stress(P, D, t)
+    so = None if edge_distance is None else shear_out_stress(P, edge_distance, D, t)
+    es = edge_stresses(result, edge, recovery=recovery)
+    pk = es.peak("sigma_t", absolute=False)
+    conc = kt(result, net, field="sigma_1", recovery=recovery, where=edge)
+    margins = {k: v for k, v in (("net_section", _ms(tension_allowable, net, fs)),
+                                 ("bearing", _ms(bearing_allowable, brg, fs)),
+                                 ("shear_out", None if so is None else _ms(shear_allowable, so, fs)),
+                                 ("peak", _ms(peak_allowable, pk.value, fs))) if v is not None}
+    if shear_allowable is not None and so is None:
+        raise InputError("a shear-out allowable needs the edge_distance (hole centre to the lug's end)")
+    return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
+                    pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
+                    units=result.units, case=result.case, factor_of_safety=fs, margins=margins)
