@@ -40,6 +40,7 @@ from .core.result import Extreme, Result
 from .core.static import solve
 from .core.supports import Fixed, Prescribed, Roller, Symmetry
 from .core.pins import Pin, PinLoad
+from .core.joints import Fasteners, Joint, JointResult
 from .core.units import UnitSystem, unit_system
 from .core.zones import Away, InBox, InCircle, InRegion, Near, OnEdge, Zone
 from .geometry.structured import rectangle_mesh
@@ -50,6 +51,7 @@ __all__ = [
     "Mesh", "Model", "Result", "Extreme", "ElementType", "solve", "write_vtu", "rectangle_mesh", "output_dir",
     "Isotropic", "Orthotropic", "UnitSystem", "unit_system",
     "Fixed", "Roller", "Prescribed", "Symmetry", "Pin", "PinLoad",
+    "Joint", "Fasteners", "JointResult",
     "Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away",
     "Traction", "Pressure", "PointForce", "BodyForce", "Gravity", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",

@@ -158,7 +158,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
 
     Parameters
     ----------
-    model : Model
+    model : Model or Joint
+        A model, or a :class:`planar.core.joints.Joint` of layers joined by fasteners (then the answer
+        is ``{case: JointResult}``, see :func:`planar.core._joint_solve.solve_joint`).
     cases : str or list of str, optional
         A load case name or a list of them (default: all of them).
     solver : {"auto", "pardiso", "cholmod", "amg", "superlu"}
@@ -185,6 +187,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     SolverError
         A singular stiffness matrix (a mechanism).
     """
+    if getattr(model, "is_joint", False):  # layers joined by fasteners (core/joints): {case: JointResult}
+        return model.solve(cases, solver=solver, verbose=verbose, distortion_limit=distortion_limit, timer=timer)
     timer = timer or Timer(verbose)
     cases = _case_names(model, cases)
     timer.size(2 * model.mesh.n_nodes)

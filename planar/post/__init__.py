@@ -44,6 +44,7 @@ _WHERE = {
     "write_vtu": "vtk", "read_result_file": "files", "atomic_write_text": "files", "json_safe": "files",
     "plot_field": "plots", "plot_along": "plots", "plot_vtu": "plots", "vtu_fields": "plots",
     "plot_nodal_field": "plots", "save_figure": "plots", "plot_model": "picture",
+    "plot_joint": "joints",
     # hot spots
     "hot_spots": "hotspots", "HotSpot": "hotspots", "HotSpots": "hotspots", "plot_hot_spots": "hotspots",
     "hot_spot_section": "hotspots",

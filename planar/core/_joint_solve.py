@@ -1,0 +1,447 @@
+"""The solve of a fastened joint: every layer's system in one sparse SPD matrix, the fasteners as springs.
+
+Each layer is prepared as :func:`planar.core.static.solve` prepares a model (element checks,
+supports, its own pins and the fasteners' hole pins tied by elimination, assembly of the lower
+triangle of its reduced stiffness), and the layers' reduced systems are placed side by side. A
+fastener end's motion is a linear function of its layer's full unknowns, ``q = S u`` (the translation
+rows of the spreading fit ``C`` of :mod:`planar.core._tying` at a modelled hole, which for a rigid tie
+is the pin's own motion since ``C G = I``; the weighted mean over the patch elsewhere), and the full
+unknowns are ``u = T v + u0`` through the layer's reduced unknowns ``v`` (identity on the free
+unknowns, the ties' ``A`` on the eliminated ones, ``u0`` the prescribed values). Between the ends
+``a`` and ``b`` of each adjacent pair of joined layers acts a spring of stiffness ``k = 1 / C``::
+
+    s = q_a - q_b = B v + c,    B = S_a T_a - S_b T_b,    c = S_a u0_a - S_b u0_b
+
+    K += B^T diag(k) B,         f -= B^T diag(k) c
+
+so the springs add couplings (for a rigid tie, a 4 x 4 block between the two pins' unknowns) and no
+solver of their own: one factorization serves every load case. The spring's force ``k s`` is the
+fastener's shear load; its ends' forces are spread on the layers by ``S^T`` and kept with the pins'
+forces (``Result.pin_forces``), so each layer's Result balances on its own.
+"""
+from __future__ import annotations
+
+import copy
+from types import SimpleNamespace
+
+import numpy as np
+import scipy.sparse as sp
+
+from .assembly import Assembly
+from .errors import InputError, SolverError, SupportError, unknown_name, warn
+from .kinematics import pending_warnings, zero_energy_check
+from .pins import Pin, check_new_pin
+from .result import Result
+from .supports import note_snapped
+from .timing import Timer
+from ._tying import Tying
+from . import diagnose, solvers
+from ._conditioning import matrix_figures, matvec
+
+__all__ = ["solve_joint"]
+
+#: backward error above which the joint's answer is flagged (as :data:`planar.core.diagnose.WARN`)
+WARN = 1e-5
+
+
+def _case_names(joint, cases) -> list[str]:
+    known = joint.cases
+    if not known:
+        raise unknown_name("load case", "(none)", [], "add a load to a layer first with model.add_load(...)")
+    if cases is None:
+        return known
+    names = [str(cases)] if isinstance(cases, (str, int)) else [str(c) for c in cases]
+    for c in names:
+        if c not in known:
+            raise unknown_name("load case", c, known)
+    if not names:
+        raise InputError(f"cases is empty; give at least one of {known}, or leave it out to solve every case")
+    return names
+
+
+def _node_weights(asm) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Each node's share of the area times thickness, its thickness and Young's modulus (largest of its cells)."""
+    mesh = asm.mesh
+    w = np.zeros(mesh.n_nodes)
+    t = np.zeros(mesh.n_nodes)
+    E = np.zeros(mesh.n_nodes)
+    for b in asm.blocks:
+        nv = 3 if b.etype.cell == "triangle" else 4
+        xy = mesh.nodes[b.conn[:, :nv]]
+        x, y = xy[..., 0], xy[..., 1]
+        area = 0.5 * np.abs((x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1))
+        k = b.conn.shape[1]
+        np.add.at(w, b.conn.ravel(), np.repeat(area * b.thickness / k, k))
+        np.maximum.at(t, b.conn.ravel(), b.thickness)
+        mat = b.material
+        e = getattr(mat, "E", None)
+        if e is None:  # orthotropic: the mean of the principal moduli (only a flexibility formula reads it)
+            e = 0.5 * (float(getattr(mat, "E1", 0.0)) + float(getattr(mat, "E2", 0.0)))
+        np.maximum.at(E, b.conn.ravel(), float(e))
+    return w, t, E
+
+
+class _Layer:
+    """One layer prepared for the joint's system: its assembly, reduced system and end operators."""
+
+    def __init__(self, name, model, joint, cases, distortion_limit, timer):
+        self.name = name
+        lm = copy.copy(model)
+        lm.cases = {c: list(model.cases.get(c, [])) for c in cases}
+        lm.pins = list(model.pins)
+        self.hole_pins: dict[tuple[int, int], str] = {}
+        for g, fz in enumerate(joint.fasteners):
+            edges = fz.holes.get(name)
+            if edges is None or name not in fz.layers:
+                continue
+            pts = fz.points(joint)
+            for i, edge in enumerate(edges):  # one pin per modelled hole (the ties are per pin)
+                pin = Pin(edge, tie=fz.tie, at=pts[i], hold=None, name=f"{fz.name}[{i}]@{name}")
+                check_new_pin(lm, pin)
+                lm.pins.append(pin)
+                self.hole_pins[(g, i)] = pin.name
+        self.model = lm
+        asm = Assembly(lm, distortion_limit=distortion_limit)
+        self.asm, mesh = asm, asm.mesh
+        self.mesh = mesh
+        from .static import constrain
+
+        cons = constrain(mesh, lm.supports)
+        self.cons = cons
+        self.tie = Tying(asm, lm, cons) if lm.pins else None
+        note_snapped(mesh, lm.supports, pending_warnings(asm))
+        zero_energy_check(asm, sink=pending_warnings(asm))
+        ndof = 2 * mesh.n_nodes
+        unused = np.flatnonzero(~mesh.used_nodes())
+        pres = np.zeros(ndof, dtype=bool)
+        pres[cons.dofs] = True
+        pres[2 * unused] = True
+        pres[2 * unused + 1] = True
+        up = np.zeros(ndof)
+        up[cons.dofs] = cons.values
+        if self.tie is not None:
+            self.tie.mark(pres, up)
+        self.unused = unused
+        self.free = np.flatnonzero(~pres)
+        self.pdofs = np.flatnonzero(pres)
+        free_index = np.full(ndof, -1, dtype=np.int64)
+        free_index[self.free] = np.arange(self.free.size)
+        pres_index = np.full(ndof, -1, dtype=np.int64)
+        pres_index[self.pdofs] = np.arange(self.pdofs.size)
+        self.entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
+        system = asm.system(free_index, pres_index, cons.rotation, timer)
+        self.loads = [asm.load_vector(c) for c in cases]
+        F = np.column_stack([f for f, _ in self.loads])
+        Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+        coupling = system.prescribed_rows.T @ up[self.pdofs]
+        rhs = Fl[self.free] - coupling[self.free][:, None]
+        if self.tie is not None:
+            system, rhs, Fl = self.tie.reduce(system, self.free, self.pdofs, up, Fl, rhs, cases)
+        self.system, self.rhs, self.F, self.Fl, self.up = system, rhs, F, Fl, up
+        self.n = system.lower.shape[0]
+        nO = self.free.size
+        rows, cols, vals = [self.free], [np.arange(nO)], [np.ones(nO)]
+        if self.tie is not None and self.tie.E.size:
+            A = self.tie.A.tocoo()
+            rows.append(self.tie.E[A.row]); cols.append(A.col); vals.append(A.data)
+        self.T = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                               shape=(ndof, self.n))
+        self.eliminated = np.zeros(ndof, bool)
+        if self.tie is not None:
+            self.eliminated[self.tie.E] = True
+        self._weights = None
+
+    def weights(self):
+        if self._weights is None:
+            self._weights = _node_weights(self.asm)
+        return self._weights
+
+    def end_operator(self, g: int, fz, pts: np.ndarray) -> tuple[sp.csr_matrix, np.ndarray, np.ndarray]:
+        """(S (2k, 2n): each end's mean translation from the full unknowns, thickness (k,), modulus (k,))."""
+        mesh, k, ndof = self.mesh, pts.shape[0], 2 * self.mesh.n_nodes
+        w, t, E = self.weights()
+        if (g, 0) in self.hole_pins:
+            by_name = {d["pin"].name: d for d in self.tie.data}
+            rows, cols, vals, tt, ee = [], [], [], [], []
+            for i in range(k):  # the hole pins' fits (one per modelled hole, from the ties)
+                d = by_name[self.hole_pins[(g, i)]]
+                C = d["C"][:2]
+                rows.append(np.repeat(2 * i + np.arange(2), C.shape[1])); cols.append(np.tile(d["dofs"], 2))
+                vals.append(C.ravel())
+                tt.append(t[d["nodes"]].max()); ee.append(E[d["nodes"]].max())
+            S = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(2 * k, ndof))
+            return S, np.array(tt), np.array(ee)
+        from scipy.spatial import cKDTree
+
+        used = np.flatnonzero(mesh.used_nodes())
+        tree = cKDTree(mesh.nodes[used])
+        dist, near = tree.query(pts)
+        # the nodes within d / 2, a node at d / 2 to round-off among them (a patch does not hang on round-off)
+        pairs = cKDTree(pts).sparse_distance_matrix(tree, fz.diameter / 2 * (1 + 1e-9), output_type="ndarray")
+        pi = np.r_[np.arange(k), pairs["i"].astype(np.int64)]
+        nj = used[np.r_[near, pairs["j"].astype(np.int64)]]
+        key = np.unique(pi * mesh.n_nodes + nj)
+        pi, nj = key // mesh.n_nodes, key % mesh.n_nodes
+        far = dist > fz.diameter
+        if far.any():
+            i = int(np.argmax(far))
+            raise InputError(f"fastener {i} of {fz.name!r} at ({pts[i, 0]:g}, {pts[i, 1]:g}) is {dist[i]:.3g} from the "
+                             f"nearest node of layer {self.name!r}, more than its diameter: is it outside that layer?")
+        rot = self.cons.rotation
+        if rot is not None and np.isin(nj, rot.nodes).any():
+            raise InputError(f"fasteners {fz.name!r}: a fastener's patch in layer {self.name!r} takes a node held along "
+                             "an inclined direction; move the fastener or hold that edge along x or y")
+        wn = w[nj]
+        total = np.bincount(pi, wn, minlength=k)
+        share = wn / total[pi]
+        S = sp.csr_matrix((np.r_[share, share], (np.r_[2 * pi, 2 * pi + 1], np.r_[2 * nj, 2 * nj + 1])),
+                          shape=(2 * k, ndof))
+        tt = np.zeros(k)
+        ee = np.zeros(k)
+        np.maximum.at(tt, pi, t[nj])
+        np.maximum.at(ee, pi, E[nj])
+        return S, tt, ee
+
+
+def _embed(M: sp.csr_matrix, offset: int, n: int) -> sp.csr_matrix:
+    M = M.tocsr()
+    return sp.csr_matrix((M.data, M.indices + offset, M.indptr), shape=(M.shape[0], n))
+
+
+def _motion_check(joint, layers, springs) -> None:
+    """Refuse a joint whose layers can still move as rigid bodies (the layers as bodies, the springs as ties).
+
+    Each layer of one piece is a rigid body with three motions; its supports and held pins are rows
+    on them, and each spring two rows tying the two layers' translations at its point (a spring of
+    any stiffness stores energy in a relative translation). Layers of several pieces are left to the
+    solve (a singular matrix is refused there).
+    """
+    from .kinematics import cell_pieces
+    from ._linkage import _describe_free, _null, _support_matrix
+
+    if any(cell_pieces(L.mesh).count != 1 for L in layers):
+        return
+    allxy = np.vstack([L.mesh.nodes[L.mesh.used_nodes()] for L in layers])
+    xc = allxy.mean(axis=0)
+    Lc = max(float(np.ptp(allxy, axis=0).max()), 1e-300)
+    nb = len(layers)
+    blocks = []
+    for b, L in enumerate(layers):
+        rows = L.cons.rows
+        parts = [_support_matrix(L.mesh.nodes[rows.node], rows.direction, xc, Lc)]
+        for d in (L.tie.data if L.tie is not None else []):
+            held = d["pin"].held
+            dirs = d["Q"][:2, :2].T[held[:2]]
+            if dirs.shape[0]:
+                parts.append(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, Lc))
+            if held[2]:
+                parts.append(np.array([[0.0, 0.0, 1.0]]))
+        r = np.vstack(parts)
+        if r.shape[0] > 3:
+            r = np.linalg.qr(r, mode="r")
+        full = np.zeros((r.shape[0], 3 * nb))
+        full[:, 3 * b:3 * b + 3] = r
+        blocks.append(full)
+    for a, b, pts in springs:
+        ex = np.tile(np.eye(2), (pts.shape[0], 1))
+        r = _support_matrix(np.repeat(pts, 2, axis=0), ex, xc, Lc)
+        if r.shape[0] > 3:
+            r = np.linalg.qr(r, mode="r")
+        full = np.zeros((r.shape[0], 3 * nb))
+        full[:, 3 * a:3 * a + 3] = r
+        full[:, 3 * b:3 * b + 3] = -r
+        blocks.append(full)
+    N = _null(np.vstack(blocks), 3 * nb)
+    if N.shape[0]:
+        motion = np.abs(N).reshape(N.shape[0], nb, 3).max(axis=(0, 2))
+        moving = [layers[i].name for i in np.flatnonzero(motion > 1e-6 * motion.max())]
+        k = int(np.argmax(motion))
+        raise SupportError(f"the joint can still move, so it has no unique answer: layer(s) {', '.join(map(repr, moving))} "
+                           f"move without straining ({_describe_free(N[:1, 3 * k:3 * k + 3], xc, Lc, False, xc)}); "
+                           "add supports, or fasteners at two or more points between the layers")
+
+
+def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None = None,
+                distortion_limit: float = 1e-3, timer: Timer | None = None):
+    """Solve a :class:`planar.core.joints.Joint` for its load cases with one factorization.
+
+    Parameters
+    ----------
+    joint : planar.core.joints.Joint
+    cases : str or list of str, optional
+        Load case names (default: every case of any layer).
+    solver, verbose, distortion_limit
+        As for :func:`planar.core.static.solve`.
+
+    Returns
+    -------
+    Results (a dict of str to JointResult)
+
+    Raises
+    ------
+    SupportError
+        Layers left free to move by the supports and fasteners.
+    SolverError
+        A singular joint matrix.
+    """
+    from ._joint_tables import JointResult
+    from .static import Results, _check_finite, _rigid_modes
+
+    timer = timer or Timer(verbose)
+    cases = _case_names(joint, cases)
+    m = len(cases)
+    timer.start("checking")
+    groups = joint.fasteners
+    total_dofs = sum(2 * mdl.mesh.n_nodes for mdl in joint.layers.values())
+    solvers.choose(total_dofs, solver)
+    timer.size(total_dofs)
+    timer.start("assembling")
+    layers = [_Layer(nm, mdl, joint, cases, distortion_limit, timer) for nm, mdl in joint.layers.items()]
+    index = {L.name: i for i, L in enumerate(layers)}
+    offs = np.r_[0, np.cumsum([L.n for L in layers])]
+    N = int(offs[-1])
+    Bs, cs, ks, springs, ends = [], [], [], [], []
+    for g, fz in enumerate(groups):
+        pts = fz.points(joint)
+        k = pts.shape[0]
+        ops = {}
+        for name in fz.layers:
+            L = layers[index[name]]
+            S, t, E = L.end_operator(g, fz, pts)
+            ops[name] = (_embed((S @ L.T).tocsr(), int(offs[index[name]]), N), S @ L.up, t, E)
+            ends.append(dict(group=g, layer=name, S=S, t=t, E=E, points=pts, count=k,
+                             rigid=(g, 0) in L.hole_pins and fz.tie == "rigid"))
+        for a, b in zip(fz.layers[:-1], fz.layers[1:]):
+            Ba, ca, ta, Ea = ops[a]
+            Bb, cb, tb, Eb = ops[b]
+            if isinstance(fz.flexibility, str):  # a formula: per fastener, from the joined layers' sections
+                if fz.shear == "double" and b in fz.layers[1:-1] and a not in fz.layers[1:-1]:
+                    ta, tb, Ea, Eb = tb, ta, Eb, Ea  # the formula's t1 is the middle plate
+                sec, inv = np.unique(np.column_stack([ta, tb, Ea, Eb]), axis=0, return_inverse=True)
+                comp = np.array([fz.compliance(t1=x[0], t2=x[1], E1=x[2], E2=x[3]) for x in sec])[inv.ravel()]
+            else:
+                comp = np.full(k, float(fz.flexibility))
+            Bs.append(Ba - Bb); cs.append(ca - cb); ks.append(np.repeat(1.0 / comp, 2))
+            springs.append(dict(group=g, a=a, b=b, points=pts, compliance=comp))
+    _motion_check(joint, layers, [(index[s["a"]], index[s["b"]], s["points"]) for s in springs])
+    lower = sp.block_diag([L.system.lower for L in layers], format="csc")
+    rhs = np.vstack([L.rhs.reshape(L.n, m) for L in layers])
+    if Bs:
+        B = sp.vstack(Bs).tocsr()
+        kv = np.concatenate(ks)
+        c = np.concatenate(cs)
+        lower = (lower + sp.tril(B.T @ sp.diags(kv) @ B).tocsc()).tocsc()
+        lower.sum_duplicates()
+        lower.sort_indices()
+        rhs = rhs - (B.T @ (kv * c))[:, None]
+    else:
+        B, kv, c = sp.csr_matrix((0, N)), np.zeros(0), np.zeros(0)
+    entries = sum(L.entries for L in layers) + lower.nnz
+    solver = solvers.choose(N, solver, matrix_entries=entries)
+    modes = None
+    if solver in ("amg", "auto"):
+        blocks = []
+        for L in layers:
+            mo = _rigid_modes(L.mesh.nodes, L.cons.rotation)[L.free]
+            if L.tie is not None:
+                mo = L.tie.rigid_modes(mo, L.mesh.nodes)
+            blocks.append(mo)
+        modes = sp.block_diag(blocks).toarray() if len(blocks) > 1 else blocks[0]
+    timer.lap("assembly")
+    system = SimpleNamespace(lower=lower)
+    try:
+        figures = diagnose.start_figures(lower, solver)
+        timer.start(f"factorizing ({solver})")
+        fac = solvers.factorize(lower, solver, rigid_modes=modes, after_ordering=diagnose.also_wait(None, figures))
+        timer.lap("factorization")
+        timer.start("solving")
+        sol, _probe = diagnose.solve_with_probe(fac, rhs)
+        sol = diagnose.meet_accuracy(fac, system, rhs, sol, figures)
+        sol = sol[:, :m]
+    except SolverError as exc:
+        if getattr(exc, "numerical", False):
+            raise SolverError(f"the joint's stiffness matrix is singular or nearly so ({exc}); a layer or a piece of "
+                              "one may be free to move: check its supports and that each layer is joined at two or "
+                              "more points") from None
+        raise
+    diag_, nrm = figures.result() if figures is not None else matrix_figures(lower)
+    KV = matvec(lower, sol, diag_)
+    eta = np.abs(KV - rhs).max(axis=0) / np.maximum(nrm * np.abs(sol).max(axis=0) + np.abs(rhs).max(axis=0), 1e-300)
+    timer.lap("solve")
+    # the springs' forces: k s, the force each fastener passes from layer a into layer b
+    s = B @ sol + c[:, None]
+    V = (kv[:, None] * s).reshape(-1, 2, m)  # (n_springs_total, 2, m)
+    # each end's force on its layer: -V on the a side, +V on the b side
+    end_force = {}
+    p = 0
+    for sd in springs:
+        k = sd["points"].shape[0]
+        v = V[p:p + k]
+        sd["V"] = v
+        p += k
+        for nm, sign in ((sd["a"], -1.0), (sd["b"], 1.0)):
+            key = (sd["group"], nm)
+            end_force[key] = end_force.get(key, 0.0) + sign * v
+    results = Results()
+    per_layer = {}
+    for i, L in enumerate(layers):
+        ndof = 2 * L.mesh.n_nodes
+        v = sol[offs[i]:offs[i + 1]]
+        ul = np.zeros((ndof, m))
+        ul[L.pdofs] = L.up[L.pdofs][:, None]
+        ul[L.free] = v[:L.free.size]
+        if L.tie is not None:
+            L.tie.expand(ul, v)
+        fs = np.zeros((ndof, m))
+        rest_off = np.zeros(ndof, bool)  # nodes whose pin forces are a fastener's own (rigid hole edges)
+        for e in ends:
+            if e["layer"] != L.name:
+                continue
+            fe = end_force[(e["group"], L.name)]  # (k, 2, m)
+            e["force"] = fe
+            fs += e["S"].T @ fe.reshape(-1, m)
+            if e["rigid"]:
+                rest_off[e["S"].indices] = True
+        Rl = np.zeros((ndof, m))
+        outside = np.ones(ndof, bool)
+        outside[L.eliminated] = False
+        Rl[L.pdofs] = L.system.prescribed_rows @ ul - L.Fl[L.pdofs] - (fs[L.pdofs] * outside[L.pdofs, None])
+        P = L.tie.forces(Rl, L.free) if L.tie is not None else np.zeros((ndof, m))
+        _check_finite(ul, Rl, cases)
+        Rl[2 * L.unused] = 0.0
+        Rl[2 * L.unused + 1] = 0.0
+        rot = L.cons.rotation
+        if rot is not None:
+            U = rot.to_global(ul.reshape(-1, 2, m)).reshape(ndof, -1)
+            R = rot.to_global(Rl.reshape(-1, 2, m)).reshape(ndof, -1)
+            P = rot.to_global(P.reshape(-1, 2, m)).reshape(ndof, -1)
+        else:
+            U, R = ul, Rl
+        rest = P.copy()
+        rest[rest_off] = 0.0  # the forces other than the fasteners' own: the user's pins
+        P = P + fs * outside[:, None]
+        states = L.tie.states(U, P, cases) if L.tie is not None else None
+        layer_res = {}
+        for j, cn in enumerate(cases):
+            r = Result(L.asm, cn, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), L.F[:, j].reshape(-1, 2),
+                       L.loads[j][1], solver=fac.name, timer=timer,
+                       solver_info={**fac.info, "backward_error": float(eta[j])})
+            r.pin_forces = P[:, j].reshape(-1, 2)
+            r.pin_states = states[j] if states is not None else []
+            r.rest_forces = (L.F[:, j] + R[:, j] + rest[:, j]).reshape(-1, 2)
+            if eta[j] > WARN:
+                warn(f"load case {cn!r}: the joint's solve has backward error {eta[j]:.1e}; the answer may be "
+                     "inaccurate (check the fasteners' flexibility against the plates' stiffness)", "joint-accuracy",
+                     sink=r.warnings)
+            layer_res[cn] = r
+        per_layer[L.name] = layer_res
+    from .advice import advise
+
+    for L in layers:
+        advise(Results(per_layer[L.name]))
+    for j, cn in enumerate(cases):
+        results[cn] = JointResult(joint, cn, {L.name: per_layer[L.name][cn] for L in layers},
+                                  [dict(sd, V=sd["V"][:, :, j]) for sd in springs],
+                                  [dict(e, force=e["force"][:, :, j]) for e in ends], timer=timer)
+    timer.lap("results")
+    return results

@@ -1,0 +1,266 @@
+"""A fastened joint's results: per-layer Results, fastener loads, bearing, bypass and load transfer by row.
+
+The bypass load at a hole comes from a cut through the hole's centre across its layer, square to the
+hole's bearing load: the free body on the side the load leaves by carries the layer's applied loads,
+support and pin reactions and the other fasteners' forces on that side, so the force crossing the
+cut is their sum (statics of the free body, common practice; the same force a stress integral along
+the net section gives, as :func:`planar.post.cut_resultant` does on a cut within the plate, without
+its quadrature error). The fasteners whose centres lie within ``d / 2`` of the cut (the hole itself
+and the others of its row) are taken out, their bearing loads going in at the cut; what crosses the
+cut beyond them is the bypass, shared equally among them (the bypass per fastener pitch). At every
+hole the load arriving equals the bypass plus the bearing load taken out there.
+"""
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+__all__ = ["JointResult", "FastenerTable"]
+
+
+def _f(x: float) -> float:
+    x = float(x) + 0.0  # no "-0" in a table
+    return x if np.isfinite(x) else 0.0
+
+
+def _unit(us, q: str) -> str:
+    return f" [{us.unit_of(q)}]" if us.stated else ""
+
+
+class FastenerTable:
+    """Fastener loads of one load case (built by :attr:`JointResult.fasteners`).
+
+    Attributes
+    ----------
+    pairs : list of dict
+        One per fastener and joined pair of layers: ``group``, ``index``, ``layers`` (a, b), ``point``,
+        ``shear`` (the force the fastener passes from layer a into layer b, (Vx, Vy)), ``magnitude``,
+        ``compliance``.
+    holes : list of dict
+        One per fastener end (hole) in a layer: ``group``, ``index``, ``layer``, ``point``, ``load``
+        (the force the fastener exerts on the layer), ``bearing`` (its magnitude), ``thickness``,
+        ``bearing_stress`` = P / (d t), ``bypass`` (per fastener on the cut), ``section_bypass`` (the
+        whole cut), ``on_cut`` (fasteners on the cut).
+    rows : list of dict
+        Load transfer row by row: ``group``, ``row`` (1, 2, ... along the load direction), ``layers``,
+        ``centre``, ``count``, ``load`` (magnitude of the row's summed shear), ``share`` of the load
+        passed between those two layers.
+    shear : ndarray (p, 2), magnitude : ndarray (p,)
+        The pairs' shear loads as arrays.
+    """
+
+    def __init__(self, jr: "JointResult"):
+        self.case = jr.case
+        self.units = jr.unit_system
+        joint = jr.joint
+        pairs = []
+        for sd in jr._springs:
+            fz = joint.fasteners[sd["group"]]
+            for i in range(sd["points"].shape[0]):
+                v = sd["V"][i]
+                pairs.append(dict(group=fz.name, index=i, layers=(sd["a"], sd["b"]),
+                                  point=(float(sd["points"][i, 0]), float(sd["points"][i, 1])),
+                                  shear=(_f(v[0]), _f(v[1])), magnitude=_f(np.hypot(*v)),
+                                  compliance=_f(sd["compliance"][i])))
+        self.pairs = pairs
+        self.shear = np.array([p["shear"] for p in pairs]).reshape(-1, 2)
+        self.magnitude = np.array([p["magnitude"] for p in pairs])
+        self.holes = self._holes(jr)
+        self.rows = self._rows(jr)
+
+    def _holes(self, jr) -> list[dict]:
+        joint = jr.joint
+        out = []
+        for layer, res in jr.layers.items():
+            ends = [e for e in jr._ends if e["layer"] == layer]
+            if not ends:
+                continue
+            P = np.vstack([e["points"] for e in ends])
+            F = np.vstack([e["force"] for e in ends])
+            d = np.concatenate([np.full(e["count"], joint.fasteners[e["group"]].diameter) for e in ends])
+            t = np.concatenate([e["t"] for e in ends])
+            bypass, section, count = _bypass(res.mesh.nodes, res.rest_forces, P, F, d)
+            h = 0
+            for e in ends:
+                fz = joint.fasteners[e["group"]]
+                for i in range(e["count"]):
+                    P_b = float(np.hypot(*F[h]))
+                    out.append(dict(group=fz.name, index=i, layer=layer, point=(float(P[h, 0]), float(P[h, 1])),
+                                    load=(_f(F[h, 0]), _f(F[h, 1])), bearing=_f(P_b), thickness=_f(t[h]),
+                                    diameter=_f(d[h]), bearing_stress=_f(P_b / (d[h] * t[h])) if t[h] > 0 else 0.0,
+                                    bypass=_f(bypass[h]), section_bypass=_f(section[h]), on_cut=int(count[h])))
+                    h += 1
+        return out
+
+    def _rows(self, jr) -> list[dict]:
+        joint = jr.joint
+        rows = []
+        totals: dict[tuple[str, str], float] = {}
+        for sd in jr._springs:
+            fz = joint.fasteners[sd["group"]]
+            pts, V = sd["points"], sd["V"]
+            u = V.sum(axis=0)
+            if not np.hypot(*u) > 0:
+                u = np.array([1.0, 0.0])
+            u = u / np.hypot(*u)
+            proj = pts @ u
+            order = np.argsort(proj, kind="stable")
+            label = np.zeros(proj.size, np.int64)
+            label[order] = np.cumsum(np.r_[0, np.diff(proj[order]) > fz.diameter / 2])
+            nrow = int(label.max()) + 1
+            key = (sd["a"], sd["b"])
+            for r in range(nrow):
+                sel = label == r
+                load = float(np.hypot(*V[sel].sum(axis=0)))
+                totals[key] = totals.get(key, 0.0) + load
+                c = pts[sel].mean(axis=0)
+                rows.append(dict(group=fz.name, row=r + 1, layers=key, centre=(float(c[0]), float(c[1])),
+                                 count=int(sel.sum()), load=_f(load)))
+        for r in rows:
+            tot = totals[r["layers"]]
+            r["share"] = _f(r["load"] / tot) if tot > 0 else 0.0
+        return rows
+
+    def as_dict(self) -> dict[str, Any]:
+        """The table as plain data (JSON-ready): units, fastener pairs, holes, rows."""
+        return {"case": self.case, "units": self.units.as_dict(),
+                "fasteners": [dict(p, layers=list(p["layers"]), point=list(p["point"]), shear=list(p["shear"]))
+                              for p in self.pairs],
+                "holes": [dict(h, point=list(h["point"]), load=list(h["load"])) for h in self.holes],
+                "rows": [dict(r, layers=list(r["layers"]), centre=list(r["centre"])) for r in self.rows]}
+
+    def text(self) -> str:
+        """The table as text, units stated."""
+        us = self.units
+        F, L, S = _unit(us, "force"), _unit(us, "length"), _unit(us, "stress")
+        lines = [f"Fastener loads, load case {self.case!r} ({us.label})", "",
+                 f"{'group':<12} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<20} {'Vx' + F:>12} {'Vy' + F:>12} "
+                 f"{'|V|' + F:>12}"]
+        for p in self.pairs:
+            lines.append(f"{p['group'][:12]:<12} {p['index'] + 1:>3} {p['point'][0]:>12.4g} {p['point'][1]:>12.4g} "
+                         f"{'-'.join(p['layers'])[:20]:<20} {p['shear'][0]:>12.5g} {p['shear'][1]:>12.5g} "
+                         f"{p['magnitude']:>12.5g}")
+        lines += ["", f"{'group':<12} {'#':>3} {'layer':<10} {'bearing P' + F:>16} {'t' + L:>10} "
+                      f"{'P/(d t)' + S:>16} {'bypass' + F:>14} {'on cut':>7}"]
+        for h in self.holes:
+            lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:10]:<10} {h['bearing']:>16.5g} "
+                         f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {h['bypass']:>14.5g} {h['on_cut']:>7}")
+        lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<20} {'x' + L:>12} {'y' + L:>12} "
+                                              f"{'n':>4} {'load' + F:>14} {'share':>7}"]
+        for r in self.rows:
+            lines.append(f"{r['group'][:12]:<12} {r['row']:>4} {'-'.join(r['layers'])[:20]:<20} {r['centre'][0]:>12.4g} "
+                         f"{r['centre'][1]:>12.4g} {r['count']:>4} {r['load']:>14.5g} {100 * r['share']:>6.1f}%")
+        return "\n".join(lines)
+
+    def __str__(self) -> str:
+        return self.text()
+
+    def __repr__(self) -> str:
+        return f"FastenerTable(case={self.case!r}, {len(self.pairs)} fastener pairs, {len(self.holes)} holes)"
+
+
+def _bypass(nodes, rest, P, F, d):
+    """(bypass per fastener on the cut, whole-cut bypass, fasteners on the cut) for each end of one layer."""
+    H = P.shape[0]
+    mag = np.hypot(*F.T)
+    mean = -F.sum(axis=0)
+    if not np.hypot(*mean) > 0:
+        mean = np.array([1.0, 0.0])
+    mean = mean / np.hypot(*mean)
+    big = mag > 1e-12 * max(mag.max(initial=0.0), 1e-300)
+    n = np.where(big[:, None], -F / np.where(big, mag, 1.0)[:, None], mean)
+    key = np.round(np.arctan2(n[:, 1], n[:, 0]), 9)
+    out = np.zeros(H)
+    count = np.zeros(H, np.int64)
+    span = max(float(np.ptp(nodes, axis=0).max()), 1e-300)
+    for k in np.unique(key):  # one sort per load direction (usually one)
+        sel = np.flatnonzero(key == k)
+        nv = n[sel[0]]
+        pn = nodes @ nv
+        o = np.argsort(pn, kind="stable")
+        ps = pn[o]
+        cum = np.r_[0.0, np.cumsum((rest @ nv)[o])]
+        pe = P @ nv
+        oe = np.argsort(pe, kind="stable")
+        pes = pe[oe]
+        cume = np.r_[0.0, np.cumsum((F @ nv)[oe])]
+        c = pe[sel]
+        tol = d[sel] / 2
+        eps = 1e-9 * span
+        lo = np.searchsorted(ps, c - eps, side="left")
+        hi = np.searchsorted(ps, c + eps, side="right")
+        side_nodes = cum[lo] + 0.5 * (cum[hi] - cum[lo])  # nodes on the cut line: half to each side
+        lo_e = np.searchsorted(pes, c - tol, side="left")
+        hi_e = np.searchsorted(pes, c + tol, side="right")
+        out[sel] = -(side_nodes + cume[lo_e])
+        count[sel] = hi_e - lo_e
+    count = np.maximum(count, 1)
+    return out / count, out, count
+
+
+class JointResult:
+    """One load case of a solved :class:`planar.core.joints.Joint`.
+
+    Attributes
+    ----------
+    case : str
+    layers : dict of str to Result
+        Each layer's result (stresses, hot spots, edge stresses, VTK: everything a Result does). The
+        fasteners' forces on a layer are among its pin forces, so each layer balances on its own.
+    joint : Joint
+    """
+
+    def __init__(self, joint, case: str, layers: dict, springs: list[dict], ends: list[dict], *, timer=None):
+        self.joint = joint
+        self.case = case
+        self.layers = layers
+        self._springs = springs
+        self._ends = ends
+        self.timer = timer
+        self._table = None
+
+    def __repr__(self):
+        return f"JointResult(case={self.case!r}, layers={list(self.layers)}, {sum(s['points'].shape[0] for s in self._springs)} springs)"
+
+    @property
+    def unit_system(self):
+        return self.joint.unit_system
+
+    @property
+    def warnings(self) -> list:
+        """The layers' warnings, each once."""
+        seen, out = set(), []
+        for r in self.layers.values():
+            for w in r.warnings:
+                if id(w) not in seen:
+                    seen.add(id(w)); out.append(w)
+        return out
+
+    @property
+    def fasteners(self) -> FastenerTable:
+        """The fasteners' loads, bearing and bypass at each hole, and the load transfer by row."""
+        if self._table is None:
+            self._table = FastenerTable(self)
+        return self._table
+
+    def balance_error(self) -> float:
+        """|sum over the layers of loads, support and pin reactions| over the load's scale (the fasteners are internal)."""
+        tot = sum(r.rest_forces.sum(axis=0) for r in self.layers.values())
+        scale = max(sum(float(np.abs(r.applied.sum(axis=0)).max()) for r in self.layers.values()),
+                    sum(0.5 * float(np.abs(r.reactions).sum()) for r in self.layers.values()),
+                    sum(0.5 * float(np.abs(r.applied).sum()) for r in self.layers.values()), 1e-300)
+        return float(np.hypot(*tot) / scale)
+
+    def table(self) -> str:
+        """The fastener table as text, units stated."""
+        return self.fasteners.text()
+
+    def as_dict(self) -> dict[str, Any]:
+        """Summary (JSON-ready): units, each layer's summary, the fastener table, the load balance."""
+        out = {"case": self.case, "units": self.unit_system.as_dict(),
+               "layers": {k: r.summary() for k, r in self.layers.items()},
+               "load_balance_error": self.balance_error()}
+        tab = self.fasteners.as_dict()
+        out.update({k: tab[k] for k in ("fasteners", "holes", "rows")})
+        return out
