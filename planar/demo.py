@@ -330,8 +330,8 @@ def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[P
     p = out / "von_mises.png"
     plot_field(fine, "von_mises", recovery="spr", path=p,
                title=f"von Mises stress in the splice strap, {part.load / 1000:g} kN tension")
-    figs["von_mises"] = (p, "von Mises stress on the deformed strap (displacements magnified), "
-                            "recovered by superconvergent patch recovery; the peak is marked.")
+    figs["von_mises"] = (p, "von Mises stress on the strap, with its deformed outline dashed (displacements "
+                            "magnified), recovered by superconvergent patch recovery; the peak is marked.")
     p = out / "hole_close_up.png"
     plot_field(fine, "von_mises", recovery="spr", path=p, mesh_lines=True, scale=None,
                window=(-2.5 * r, -w, 2.5 * r, w), title="von Mises stress around the bolt hole, finest mesh")
@@ -340,7 +340,7 @@ def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[P
     p = out / "sigma_xx.png"
     plot_field(fine, "sigma_xx", recovery="spr", path=p, title=r"axial stress $\sigma_{xx}$")
     figs["sigma_xx"] = (p, "Axial stress sigma_xx (diverging colours centred on zero: red tension, "
-                           "blue compression).")
+                           "blue compression); its maximum and minimum are marked.")
     p = out / "net_section.png"
     plot_along(fine, (0.0, r), (0.0, w), "sigma_xx", recovery="spr", n_points=201, path=p,
                lines={"net-section stress P/((W-d)t)": part.net_stress,

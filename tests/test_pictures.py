@@ -100,3 +100,143 @@ def test_model_picture_symmetry_prescribed_gravity_temperature_and_unknown_case(
     assert "load:gravity:all" in g2 and g2["load-letter:gravity"].get_text() == "g"
     with pytest.raises(planar.NameNotFoundError):
         plot_model(model, case="wind")
+
+
+# ------------------------------------------------------------------------------------------ result pictures
+A, SIGMA = 5.0, 100.0   # hole radius [mm], remote tension [MPa]
+
+
+@pytest.fixture(scope="module")
+def kirsch():
+    """A quarter of a 100 x 100 mm plate with a 10 mm hole, pulled along x by 100 MPa (symmetry on x = 0, y = 0)."""
+    from planar.verify.recovery_cases import kirsch_mesh
+
+    m = kirsch_mesh("Q8", 12, a=A, width=10.0)
+    L = 10.0 * A
+    model = planar.Model(m, planar.Isotropic(E, NU), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Symmetry("symmetry_x"))
+    model.add_support(planar.Symmetry("symmetry_y"))
+    model.add_load(planar.Traction("outer", tx=lambda x, y: np.where(x > L - 1e-9, SIGMA, 0.0)), case="pull")
+    return planar.solve(model)["pull"]
+
+
+def _texts(fig) -> str:
+    return "\n".join(t.get_text() for ax in fig.axes for t in ax.texts)
+
+
+def _label_point(text: str, word: str = "at") -> tuple[float, float]:
+    import re
+
+    m = re.search(word + r" \((-?[\d.]+), (-?[\d.]+)\)", text)
+    assert m, text
+    return float(m.group(1)), float(m.group(2))
+
+
+def test_peak_label_marker_and_axes_share_the_part_coordinates(kirsch):
+    from planar.post.plots import plot_field
+
+    fig = plot_field(kirsch, "von_mises")
+    g = _gids(fig)
+    ring, label = g["peak-max"], g["peak-max-label"]
+    marker = (ring.get_xdata()[0], ring.get_ydata()[0])
+    # the label states the point the marker sits on (2 decimals for a 50 mm part)
+    assert np.allclose(_label_point(label.get_text()), marker, atol=0.0051)
+    assert np.allclose(label.xy, marker)
+    # ... which is the node of the largest value, on the part as made (not moved by the displacements)
+    v = kirsch.field("von_mises", recovery="spr")
+    assert np.allclose(marker, kirsch.mesh.nodes[int(np.argmax(v))], atol=1e-12)
+    # the axes hold the undeformed part and the picture says so
+    assert fig.axes[0].get_xlim()[1] < 10 * A * 1.03
+    assert "contours on the undeformed part (axes, markers, labels in its coordinates)" in _texts(fig)
+    # drawn on the deformed shape, the label says where the point is drawn as well as where it is on the part
+    fig = plot_field(kirsch, "von_mises", on="deformed", scale=500.0)
+    g = _gids(fig)
+    ring, text = g["peak-max"], g["peak-max-label"].get_text()
+    drawn = np.array([ring.get_xdata()[0], ring.get_ydata()[0]])
+    i = int(np.argmax(v))
+    assert np.allclose(_label_point(text, "drawn at"), drawn, atol=0.0051)
+    assert np.allclose(_label_point(text), kirsch.mesh.nodes[i], atol=0.0051)
+    assert np.allclose(drawn, kirsch.mesh.nodes[i] + 500.0 * kirsch.u[i], atol=1e-9)
+    with pytest.raises(planar.InputError, match="undeformed"):
+        plot_field(kirsch, "von_mises", on="sideways")
+
+
+def test_undeformed_outline_is_drawn_with_a_deformed_shape(kirsch):
+    from planar.post.plots import plot_field
+
+    for on in ("undeformed", "deformed"):
+        g = _gids(plot_field(kirsch, "sigma_xx", on=on))
+        und, dfm = g["undeformed-outline"], g["deformed-outline"]
+        assert len(und.get_segments()) == len(dfm.get_segments()) > 0
+        # the undeformed outline holds the part's own corners; the deformed one has moved
+        pts = np.concatenate(und.get_segments())
+        assert np.isclose(pts[:, 0].max(), 10 * A) and np.isclose(pts[:, 1].max(), 10 * A)
+        assert not np.allclose(np.concatenate(dfm.get_segments()), pts)
+    g = _gids(plot_field(kirsch, "sigma_xx", scale=None))
+    assert "undeformed-outline" in g and "deformed-outline" not in g
+
+
+def test_automatic_magnification_keeps_the_hole_within_three_per_cent(kirsch):
+    import re
+
+    from planar.post.plots import plot_field
+
+    fig = plot_field(kirsch, "von_mises")
+    s = float(re.search(r"displacements x ([\d.e+-]+)", _texts(fig)).group(1))
+    g = _gids(fig)
+    und = g["undeformed-outline"].get_segments()
+    dfm = g["deformed-outline"].get_segments()
+    on_hole = [k for k, p in enumerate(und) if np.allclose(np.hypot(p[[0, -1], 0], p[[0, -1], 1]), A)]
+    hole = np.concatenate([dfm[k] for k in on_hole])
+    rx, ry = hole[:, 0].max(), hole[:, 1].max()           # drawn radius along and across the load
+    assert abs(rx / A - 1) <= 0.03 + 1e-9 and abs(ry / A - 1) <= 0.03 + 1e-9
+    # the drawing is true to scale: the hole grows by 3 sigma d / E along the load and shrinks by
+    # sigma d / E across it (Kirsch, 1898, via Timoshenko and Goodier, sec. 35), times the stated factor
+    assert (rx / A - 1) / s == pytest.approx(3 * SIGMA / E, rel=0.08)
+    assert (ry / A - 1) / s == pytest.approx(-SIGMA / E, rel=0.15)
+    assert rx / A - 1 > 0.005                               # and it is still visible (not drawn at x 1)
+    # asked for more, the picture draws it and says how far the shapes are out
+    assert "distorted by up to" in _texts(plot_field(kirsch, "von_mises", scale=20 * s))
+
+
+def test_minimum_marked_for_a_signed_field_not_for_von_mises(kirsch):
+    from planar.post.plots import plot_field
+
+    g = _gids(plot_field(kirsch, "sigma_yy"))
+    assert {"peak-max", "peak-min", "peak-min-label"} <= set(g)
+    assert g["peak-max"].get_marker() != g["peak-min"].get_marker()
+    text = g["peak-min-label"].get_text()
+    v = kirsch.field("sigma_yy", recovery="spr")
+    assert text.startswith(f"min {plots_fmt(v.min())} MPa")
+    # Kirsch: sigma_yy = sigma_theta = -sigma at the hole's edge on the load axis, (a, 0)
+    assert v.min() == pytest.approx(-SIGMA, rel=0.08)
+    assert np.allclose(_label_point(text), (A, 0.0), atol=0.6)
+    g = _gids(plot_field(kirsch, "von_mises"))
+    assert "peak-max" in g and "peak-min" not in g
+
+
+def plots_fmt(v: float) -> str:
+    from planar.post import plots
+
+    return plots._fmt(v)
+
+
+# ------------------------------------------------------------------------------------------ sweep plot
+def _table(margins):
+    from planar.studies.table import SweepTable
+
+    records = [{"key": str(i), "params": {"width": w}, "status": "done", "outputs": {"peak": 100.0 + w, "margin": m}}
+               for i, (w, m) in enumerate(zip((40.0, 50.0, 60.0), margins))]
+    return SweepTable("m:f", ["width"], ["peak", "margin"], records)
+
+
+def test_sweep_plot_units_and_zero_line_on_a_margin_that_changes_sign():
+    fig = _table([-0.2, 0.1, 0.4]).plot(units={"width": "mm", "peak": "MPa"})
+    ax_peak, ax_margin = fig.axes
+    assert ax_peak.get_ylabel() == "peak [MPa]" and ax_margin.get_xlabel() == "width [mm]"
+    assert ax_margin.get_ylabel() == "margin"                # a margin is a pure number
+    zero = [ln for ln in ax_margin.lines if ln.get_gid() == "zero-line"]
+    assert len(zero) == 1 and np.allclose(zero[0].get_ydata(), 0.0)
+    assert not [ln for ln in ax_peak.lines if ln.get_gid() == "zero-line"]
+    fig = _table([0.1, 0.2, 0.4]).plot()                    # all passing: no zero line to cross
+    assert not [ln for ax in fig.axes for ln in ax.lines if ln.get_gid() == "zero-line"]

@@ -636,7 +636,7 @@ def plot_envelope(env: Envelope, path: str | os.PathLike | None = None, *, title
                                                                    if hi.note else ""))
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.max, nan=np.nanmin(env.max)), cmap="viridis",
                      title=f"max of {field_label(env.field)} over {len(env.names)} cases", ax=axes[0],
-                     note=zone_note, **common)
+                     note=zone_note, mark_peak="max", **common)
     plot_nodal_field(env.nodes, env.cells, np.nan_to_num(env.min, nan=np.nanmax(env.min)), cmap="cividis",
                      title=f"min of {field_label(env.field)}", ax=axes[1], mark_peak=False, **common)
     ax = axes[2]

@@ -1,4 +1,4 @@
-"""PNG figures of results: contours on the deformed shape, stress along a path.
+"""PNG figures of results: contours with the deformed shape, stress along a path.
 
 Every figure is drawn on a matplotlib :class:`~matplotlib.figure.Figure` with the Agg canvas (no
 display, no pyplot state), or into axes the caller passes. PNG files are written atomically.
@@ -197,12 +197,17 @@ def _check_finite(nodes, cells, values, cell_values, displacement, name: str) ->
 @renamed_keywords(name="field")
 def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str = "field",
                      unit: str = "", length: str = "", scale: float | str | None = "auto",
-                     mesh_lines: bool = False, mark_peak: bool = True, levels: int | None = None,
+                     mesh_lines: bool = False, mark_peak: bool | str = True, levels: int | None = None,
                      cmap: str | None = None, title: str | None = None, note: str | None = None,
                      cell_values: Mapping[str, np.ndarray] | None = None, etypes=None,
                      subdivisions=None, window: Sequence[float] | None = None, ax=None,
-                     path: str | os.PathLike | None = None):
+                     path: str | os.PathLike | None = None, on: str = "undeformed"):
     """Contour of a nodal field on plain arrays (the drawing engine behind :func:`plot_field`).
+
+    Marker, label and axes are in one coordinate system, stated on the figure
+    (:mod:`planar.post._marks`): by default the contour is drawn on the part as made and the deformed
+    outline over it (dashed); ``on="deformed"`` draws the contour on the deformed shape with the
+    undeformed outline behind it.
 
     Parameters
     ----------
@@ -219,11 +224,15 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
         Unit of the field and of lengths, for the colour bar and the peak label.
     scale : float, "auto" or None
         Displacement magnification; "auto" picks a round factor that makes the largest displacement
-        about 6 % of the model size (:func:`deformation_scale`); 0 or None draws the undeformed shape.
+        about 6 % of the model size (:func:`deformation_scale`), lowered so that no element side, hole
+        or fillet is drawn more than 3 % out of its length (:func:`planar.post._outline.true_scale`);
+        0 or None draws no deformed shape. A number is used as given; the figure then states how far
+        the drawn shapes are distorted.
     mesh_lines : bool
         Draw the element sides (along curved edges).
-    mark_peak : bool
-        Mark and label the largest value (the largest magnitude for signed fields).
+    mark_peak : bool or {"max", "both"}
+        Mark and label the largest value, and for a signed field the smallest too; ``"max"`` marks the
+        largest only, ``"both"`` both for any field.
     levels : int, optional
         Draw that many filled bands instead of a smooth (Gouraud-shaded) colour field.
     cmap : str, optional
@@ -231,12 +240,15 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
     title, note : str, optional
         Figure title and a line of text under it (the scale factor is always stated).
     window : (x0, y0, x1, y1), optional
-        Show only this box (of the drawn, deformed shape), e.g. a close-up of a hole; the colour
-        range and the peak are those of the cells in view.
+        Show only this box (in the coordinates of the axes: the part's, or the deformed shape's with
+        ``on="deformed"``), e.g. a close-up of a hole; the colour range and the peaks are those of the
+        cells in view.
     ax : matplotlib Axes, optional
         Draw into these axes; otherwise a new Agg figure is made.
     path : path, optional
         Also write the figure as PNG (atomically).
+    on : {"undeformed", "deformed"}
+        Where the contour is drawn (see above).
 
     Returns
     -------
@@ -245,6 +257,9 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
     from matplotlib.collections import LineCollection
     from matplotlib.colors import Normalize
     from matplotlib.tri import Triangulation
+
+    from ._marks import check_place, distortion_at, draw_outlines, mark_extremes, shape_note
+    from ._outline import true_scale
 
     nodes = np.asarray(nodes, float)[:, :2]
     cells = {k: np.asarray(v) for k, v in cells.items() if np.asarray(v).size}
@@ -255,16 +270,21 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
         displacement = np.asarray(displacement, float)[:, :2]
     name = field
     _check_finite(nodes, cells, values, cell_values, displacement, name)
+    on = check_place(on)
     if scale == "auto":
-        scale = deformation_scale(nodes, displacement) if displacement is not None else 0.0
+        # about 6 % of the model size, lowered so no drawn side or hole is more than 3 % out of shape
+        scale = min(deformation_scale(nodes, displacement), true_scale(nodes, displacement, cells, etypes=etypes)) \
+            if displacement is not None else 0.0
     scale = float(scale or 0.0)
     if scale < 0 or not math.isfinite(scale):
         raise InputError(f"the displacement scale must be a positive number or 'auto', got {scale!r}")
     drawn = nodes + scale * displacement if (displacement is not None and scale > 0) else nodes
+    shown = drawn if on == "deformed" else nodes   # the coordinates of the axes, markers and labels
+    all_cells = cells
     if window is not None:
-        cells, cell_values = _cells_in_window(drawn, cells, cell_values, window)
+        cells, cell_values = _cells_in_window(shown, cells, cell_values, window)
 
-    pts, tris, pv, tv = subdivide(drawn, cells, values, subdivisions=subdivisions, etypes=etypes,
+    pts, tris, pv, tv = subdivide(shown, cells, values, subdivisions=subdivisions, etypes=etypes,
                                   cell_values=cell_values)
     data = pv if pv is not None else tv
     finite = data[np.isfinite(data)]
@@ -302,8 +322,9 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
     else:
         art = ax.tripcolor(tri, facecolors=tv, cmap=cmap, norm=norm, edgecolors="none")
     if mesh_lines:
-        segs = _outline_segments(drawn, cells, etypes)
+        segs = _outline_segments(shown, cells, etypes)
         ax.add_collection(LineCollection(segs, colors="0.15", linewidths=0.25, alpha=0.7))
+    draw_outlines(ax, nodes, all_cells, displacement, scale, on, etypes)
     horizontal = aspect > 1.4
     cb = fig.colorbar(art, ax=ax, orientation="horizontal" if horizontal else "vertical",
                       shrink=0.8 if horizontal else 0.9, pad=0.02 if not horizontal else 0.04,
@@ -311,41 +332,9 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
     cb.set_label(field_label(name, unit))
 
     if mark_peak:
-        if pv is not None:
-            used = np.zeros(nodes.shape[0], dtype=bool)
-            for conn in cells.values():
-                used[conn.ravel()] = True
-            vals = np.asarray(values, float)
-            w = np.where(used & np.isfinite(vals), np.abs(vals) if signed else vals, -np.inf)
-            i = int(np.argmax(w))
-            peak, at, where = float(vals[i]), nodes[i], drawn[i]
-        else:
-            allv = np.concatenate([np.asarray(cell_values[k], float) for k in cells])
-            j = int(np.nanargmax(np.abs(allv) if signed else allv))
-            peak = float(allv[j])
-            k = j
-            for layout, conn in cells.items():  # cell centre of the peak cell
-                if k < conn.shape[0]:
-                    at = nodes[conn[k]].mean(axis=0)
-                    where = drawn[conn[k]].mean(axis=0)
-                    break
-                k -= conn.shape[0]
-        word = "max" if peak >= 0 or not signed else "min"
-        label = f"{word} {_fmt(peak)}{' ' + unit if unit else ''}\nat {_fmt_point(at, nodes)}" \
-                f"{' ' + length if length else ''}"
-        ax.plot([where[0]], [where[1]], marker="o", ms=7, mfc="none", mec="black", mew=1.6, zorder=5)
-        ax.plot([where[0]], [where[1]], marker="+", ms=10, color="black", mew=1.0, zorder=5)
-        # put the label on the side away from the middle of the part (into the material beside
-        # a hole-edge peak, inside the axes at an outer-edge peak)
-        cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
-        fx = (where[0] - cx) / max(0.5 * (x1 - x0), 1e-300)
-        fy = (where[1] - cy) / max(0.5 * (y1 - y0), 1e-300)
-        dx = (1 if fx >= 0 else -1) * (-1 if abs(fx) > 0.6 else 1)
-        dy = (1 if fy >= 0 else -1) * (-1 if abs(fy) > 0.6 else 1)
-        ax.annotate(label, xy=(where[0], where[1]), xytext=(dx * 48, dy * 30), textcoords="offset points",
-                    ha="center", va="center", fontsize=8.5, zorder=6,
-                    bbox=dict(boxstyle="round,pad=0.3", fc="white", ec="0.3", alpha=0.92),
-                    arrowprops=dict(arrowstyle="-", color="0.2", lw=0.9))
+        mark_extremes(ax, values=values if pv is not None else None, cell_values=cell_values, cells=cells,
+                      nodes=nodes, drawn=shown, signed=signed, which=mark_peak, unit=unit, length=length,
+                      box=(x0, y0, x1, y1), on=on, fmt=_fmt, fmt_point=_fmt_point)
 
     ax.set_aspect("equal")
     if window is not None:
@@ -358,13 +347,10 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
     ax.set_ylabel(f"y [{length}]" if length else "y")
     for s in ("top", "right"):
         ax.spines[s].set_visible(False)
-    if displacement is not None and scale > 0:
-        umax = float(np.max(np.hypot(displacement[:, 0], displacement[:, 1])))
-        shape_note = (f"deformed shape, displacements magnified {scale:g} times "
-                      f"(largest displacement {_fmt(umax)}{' ' + length if length else ''})")
-    else:
-        shape_note = "undeformed shape"
-    lines_ = [shape_note] + ([note] if note else [])
+    moved = displacement is not None and scale > 0
+    lines_ = shape_note(displacement, scale, on, length,
+                        distortion_at(nodes, displacement, all_cells, scale, etypes) if moved else 0.0, _fmt).split("\n")
+    lines_ += [note] if note else []
     if title:
         ax.set_title(title, fontsize=11, loc="left", pad=6 + 12 * len(lines_))
     ax.text(0.0, 1.01, "\n".join(lines_), transform=ax.transAxes, fontsize=8.5, color="0.25",
@@ -377,8 +363,9 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
 def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=None,
                scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool = True,
                levels: int | None = None, cmap: str | None = None, units: str | None = None,
-               title: str | None = None, subdivisions=None, window=None, ax=None, centre=None):
-    """Contour of a result field on the deformed shape.
+               title: str | None = None, subdivisions=None, window=None, ax=None, centre=None,
+               on: str = "undeformed"):
+    """Contour of a result field, with the deformed outline over it (or on the deformed shape, ``on="deformed"``).
 
     Parameters
     ----------
@@ -400,7 +387,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
         length ``mm``).
     title : str, optional
         Default: the field and the load case.
-    levels, cmap, subdivisions, window, ax
+    levels, cmap, subdivisions, window, ax, on
         As for :func:`plot_nodal_field`.
     centre : (float, float), optional
         Origin of the polar axes of ``sigma_r``, ``sigma_theta`` and ``tau_r_theta``.
@@ -437,7 +424,7 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
                             field=field, unit=unit, length=length_unit(model_units), scale=scale,
                             mesh_lines=mesh_lines, mark_peak=mark_peak, levels=levels, cmap=cmap,
                             title=title, note=note, etypes=etypes, subdivisions=subdivisions, window=window, ax=ax,
-                            path=path)
+                            path=path, on=on)
 
 
 # ---------------------------------------------------------------------------------------- vtu files
@@ -476,7 +463,7 @@ def _point_fields(m) -> dict[str, np.ndarray]:
 def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = None, length: str = "",
              deformed: bool = True, scale: float | str | None = "auto", mesh_lines: bool = False,
              mark_peak: bool = True, levels: int | None = None, cmap: str | None = None,
-             title: str | None = None, changed: str = "error"):
+             title: str | None = None, changed: str = "error", on: str = "undeformed"):
     """Contour of a field stored in a .vtu result file (read with meshio).
 
     Quadratic and higher cells (triangle6, quad8, quad9, a plugin's, e.g. VTK's Lagrange triangle)
@@ -500,7 +487,8 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
     length : str, optional
         Length unit for the axes, e.g. ``"mm"``; default from the system.
     deformed : bool
-        Draw on the deformed shape when the file has displacements.
+        Draw the deformed shape when the file has displacements (its outline over the contour, or the
+        contour on it with ``on="deformed"``, as for :func:`plot_nodal_field`).
     changed : {"error", "warn"}
         A file planar wrote whose bytes changed since (its digest no longer matches): refuse it
         (default) or draw it with a warning (:func:`planar.post.files.read_result_file`).
@@ -580,7 +568,7 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
                             field=field, unit=unit, length=length or length_,
                             scale=scale if disp is not None else None, mesh_lines=mesh_lines,
                             mark_peak=mark_peak, levels=levels, cmap=cmap, title=title, note=note,
-                            cell_values=cell_values, path=png)
+                            cell_values=cell_values, path=png, on=on)
 
 
 # ---------------------------------------------------------------------------------------- paths

@@ -134,8 +134,13 @@ class SweepTable:
     def plot(self, path: str | os.PathLike | None = None, *, x: str | None = None,
              y: Sequence[str] | str | None = None,
              reference: Mapping[str, tuple[str, Any]] | None = None, title: str | None = None,
-             xlabel: str | None = None, ylabels: Mapping[str, str] | None = None):
+             xlabel: str | None = None, ylabels: Mapping[str, str] | None = None,
+             units: Mapping[str, str] | None = None, zero_lines: Sequence[str] | None = None):
         """Outputs against a parameter, one panel per output (PNG written atomically).
+
+        A margin of safety (an output whose name has "margin" in it, or one named in ``zero_lines``)
+        whose values change sign gets a zero line on its panel, gid ``"zero-line"``: the points on
+        either side of it pass and fail.
 
         Parameters
         ----------
@@ -152,6 +157,11 @@ class SweepTable:
         title, xlabel : str, optional
         ylabels : mapping of str to str, optional
             Axis label of each output (default its name).
+        units : mapping of str to str, optional
+            The unit of a parameter or output, e.g. ``{"width": "mm", "peak": "MPa"}``, written in its
+            axis label as ``width [mm]`` (a margin or Kt has none).
+        zero_lines : sequence of str, optional
+            Further outputs that get a zero line when they change sign.
 
         Returns
         -------
@@ -210,12 +220,18 @@ class SweepTable:
                 else:
                     xs, ys_ = (np.asarray(c, float) for c in curve)
                 ax.plot(xs, ys_, "-", color=cmap(0.8), lw=1.8, label=label, zorder=1)
-            ax.set_ylabel((ylabels or {}).get(o, o))
+            unit = (units or {}).get(o)
+            ax.set_ylabel((ylabels or {}).get(o, f"{o} [{unit}]" if unit else o))
+            fin = Y[np.isfinite(Y)]
+            if ("margin" in o.lower() or o in (zero_lines or ())) and fin.size and fin.min() < 0 <= fin.max():
+                zero = ax.axhline(0.0, color="#b3261e", lw=1.1, ls="--", zorder=0.5, label="zero margin")
+                zero.set_gid("zero-line")
             ax.grid(True, lw=0.4, alpha=0.5)
             for s in ("top", "right"):
                 ax.spines[s].set_visible(False)
             ax.legend(fontsize=8, frameon=False)
-        axes[-1].set_xlabel(xlabel or x)
+        xunit = (units or {}).get(x)
+        axes[-1].set_xlabel(xlabel or (f"{x} [{xunit}]" if xunit else x))
         if title:
             axes[0].set_title(title, fontsize=11, loc="left")
         if path is not None:
