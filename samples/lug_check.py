@@ -84,7 +84,7 @@ print(text)
 from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
 
-fig = Figure(figsize=(7.5, 4.2), dpi=120, layout="constrained")
+fig = Figure(figsize=(10.0, 4.2), dpi=120, layout="constrained")
 FigureCanvasAgg(fig)
 ax = fig.add_subplot()
 for w, c in checks.items():
@@ -93,12 +93,16 @@ for w, c in checks.items():
 ax.axhline(first.net_section, color="0.4", lw=0.9, ls="--",
            label=f"net-section stress P/((W-D)t) ({first.net_section:.0f} {first.stress_unit})")
 ax.axhline(0.0, color="0.6", lw=0.6)
+state = getattr(results.get("contact"), "contact_states", {}).get("pin")
+if state is not None:
+    ax.axvspan(state.arc_start_deg, state.arc_end_deg, color="#1f77b4", alpha=0.08, lw=0,
+               label=f"contact arc ({state.arc_start_deg:.0f} to {state.arc_end_deg:.0f} deg)")
 ax.set_xlabel(r"angle $\theta$ about the hole centre, counter-clockwise from +x (the pin pulls at 90) [deg]")
 ax.set_ylabel(f"hoop stress $\\sigma_t$ on the hole [{first.stress_unit}]")
 ax.set_title(f"lug W = {WIDTH:g} mm, D = {HOLE_D:g} mm, e = {EDGE:g} mm, t = {THICK:g} mm, P = {FORCE / 1e3:g} kN",
              fontsize=10, loc="left")
 ax.grid(True, color="0.88", lw=0.6)
-ax.legend(fontsize=8, frameon=False)
+ax.legend(fontsize=8, frameon=False, loc="upper left", bbox_to_anchor=(1.01, 1.0))
 fig.savefig(out_dir() / "lug_check.png")
 
 report_peak(results[best], f"lug ({best})")
