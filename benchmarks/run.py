@@ -3,10 +3,13 @@
 Usage::
 
     python benchmarks/run.py --dofs 1000000 [--element T6] [--solver auto] [--json out.json]
+                             [--compare-iterative]
 
 Prints and writes (JSON) the time of each stage, the peak resident memory and the unknowns, and the
 time of the bare factorization and solve of the same matrix by the fastest installed back end,
-measured in the same run so the ratios hold on a noisy machine. Not a timed test.
+measured in the same run so the ratios hold on a noisy machine. With ``--compare-iterative`` the bare
+iterative solve (multigrid-preconditioned CG) of the same matrix is timed right after the bare direct one.
+Not a timed test.
 """
 from __future__ import annotations
 
@@ -98,10 +101,43 @@ def warm_memory(gib: float) -> None:
         del block
 
 
+def compare_iterative(res_assembly, direct: str) -> dict:
+    """The bare direct solve and the bare iterative solve (multigrid set-up and CG) of the same matrix,
+    one after the other in this run: times, their ratio, iterations and residual."""
+    from planar.core._multigrid import nodal_space
+    from planar.core.solvers import factorize
+    from planar.core.static import _rigid_modes
+
+    asm = res_assembly
+    system, rhs = asm.system, asm.rhs
+    space = asm.space
+    if space is None:
+        cons, mesh = asm.constrained, asm.mesh
+        space = nodal_space(asm.blocks, mesh.n_nodes, asm.free, _rigid_modes(mesh.nodes, cons.rotation),
+                            cons.rotation)
+    gc.collect()
+    t = time.perf_counter()
+    fac = factorize(system.lower, direct)
+    x_direct = fac.solve(rhs)
+    t_direct = time.perf_counter() - t
+    del fac
+    gc.collect()
+    t = time.perf_counter()
+    fac = factorize(system.lower, "amg", space=space)
+    t_setup = time.perf_counter() - t
+    x_amg = fac.solve(rhs)
+    t_amg = time.perf_counter() - t
+    diff = float(np.abs(x_amg - x_direct).max() / max(np.abs(x_direct).max(), 1e-300))
+    return {"direct_solver": direct, "direct_s": round(t_direct, 3), "iterative_s": round(t_amg, 3),
+            "iterative_setup_s": round(t_setup, 3), "ratio_iterative_over_direct": round(t_amg / t_direct, 3),
+            "iterations": fac.info["iterations"], "residual": [float(f"{r:.3g}") for r in fac.info["residual"]],
+            "levels": fac.info.get("levels"), "max_relative_difference": float(f"{diff:.3g}")}
+
+
 def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | None = None,
-        warm_gib: float | None = None) -> dict:
+        warm_gib: float | None = None, compare: bool = False) -> dict:
     import planar
-    from planar.core.solvers import available_solvers, factorize
+    from planar.core.solvers import available_memory, available_solvers, estimate_memory, factorize
     from planar.core.timing import Timer
     from planar.post.vtk import write_vtu
 
@@ -135,14 +171,23 @@ def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | Non
     system, rhs = res.assembly.system, res.assembly.rhs
     peak_vm, loc, _ = res.max("von_mises", recovery="spr")
     used_solver = res.solver
+    fastest = available_solvers()[0]
+    asm = res.assembly
+    if estimate_memory(system.lower.shape[0], fastest) > available_memory():
+        fastest = used_solver  # the fastest back end cannot hold this matrix: the pipeline's own
+    iterative = compare_iterative(asm, fastest) if compare else None
+    info = res.solver_info
     del res
     gc.collect()
-    fastest = available_solvers()[0]
-    t = time.perf_counter()
-    fac = factorize(system.lower, fastest)
-    fac.solve(rhs)
-    bare = time.perf_counter() - t
-    return {
+    if iterative is not None:
+        bare = iterative["direct_s"]
+    else:
+        t = time.perf_counter()
+        fac = factorize(system.lower, fastest, space=asm.space, rigid_modes=asm.modes)
+        fac.solve(rhs)
+        bare = time.perf_counter() - t
+        del fac
+    rec = {
         "dofs": int(mesh.n_dofs),
         "element": element,
         "elements": int(mesh.n_cells),
@@ -159,6 +204,12 @@ def run(dofs: int, element: str = "T6", solver: str = "auto", out_dir: str | Non
         "peak_von_mises": round(peak_vm, 3),
         "peak_location": [round(loc[0], 4), round(loc[1], 4)],
     }
+    if "iterations" in info:  # the pipeline's own iterative solve
+        rec["iterations"] = [int(i) for i in info["iterations"]]
+        rec["residual"] = [float(f"{r:.3g}") for r in info["residual"]]
+    if iterative is not None:
+        rec["compare_iterative"] = iterative
+    return rec
 
 
 def main(argv=None) -> int:
@@ -169,8 +220,11 @@ def main(argv=None) -> int:
     p.add_argument("--json", metavar="PATH", help="write the figures as JSON")
     p.add_argument("--warm-gib", type=float, default=None,
                    help="memory to touch once before timing (default 3 GiB per million unknowns; 0 to skip)")
+    p.add_argument("--compare-iterative", action="store_true",
+                   help="also time the bare iterative solve (multigrid-preconditioned CG) of the same matrix "
+                        "against the bare direct one, in this run")
     args = p.parse_args(argv)
-    rec = run(args.dofs, args.element, args.solver, warm_gib=args.warm_gib)
+    rec = run(args.dofs, args.element, args.solver, warm_gib=args.warm_gib, compare=args.compare_iterative)
     print(f"{rec['dofs']:,} unknowns, {rec['elements']:,} {rec['element']} elements, solver {rec['solver']}")
     for k, v in rec["stages"].items():
         print(f"  {k:<22s} {v:8.3f} s")
@@ -180,6 +234,17 @@ def main(argv=None) -> int:
     print(f"  assembly / bare        {rec['ratio_assembly_over_bare']:8.3f}")
     print(f"  checks / end to end    {rec['ratio_checks_over_end_to_end']:8.3f}  ({', '.join(CHECK_STAGES)})")
     print(f"  peak memory            {rec['peak_rss_mb']:8.1f} MB")
+    if "iterations" in rec:
+        print(f"  CG iterations          {', '.join(map(str, rec['iterations']))} "
+              f"(relative residual {', '.join(f'{r:.1e}' for r in rec['residual'])})")
+    c = rec.get("compare_iterative")
+    if c:
+        print(f"  bare direct ({c['direct_solver']})    {c['direct_s']:8.3f} s")
+        print(f"  bare iterative (amg)   {c['iterative_s']:8.3f} s  (set-up {c['iterative_setup_s']:.3f} s, "
+              f"{c['levels']} levels, {', '.join(map(str, c['iterations']))} iterations, residual "
+              f"{', '.join(f'{r:.1e}' for r in c['residual'])})")
+        print(f"  iterative / direct     {c['ratio_iterative_over_direct']:8.3f}  "
+              f"(largest difference {c['max_relative_difference']:.1e} of the largest displacement)")
     if args.json:
         from planar.post.files import atomic_write_text
 

@@ -296,22 +296,23 @@ class _AMG:
 
     name = "amg"
 
-    def __init__(self, lower, *, rigid_modes=None, rtol: float = 1e-10, maxiter: int = 2000, **_):
+    def __init__(self, lower, *, rigid_modes=None, space=None, rtol: float = 1e-10, maxiter: int = 2000, **_):
         self._A = _full(lower)
-        self._B = rigid_modes
-        self._ml = self._hierarchy(rigid_modes)
+        self._space = space
+        self._B = rigid_modes if space is None else space.modes
+        self._ml = self._hierarchy(self._B)
         self.rtol, self.maxiter = rtol, maxiter
-        self.info = {"iterations": [], "residual": []}
+        self.info = {"iterations": [], "residual": [], "levels": len(self._ml.levels),
+                     "method": "p-multigrid + smoothed aggregation" if space is not None and not space.injection
+                     else "smoothed aggregation"}
 
     def _hierarchy(self, B):
-        import pyamg
+        from ._multigrid import hierarchy
 
-        return pyamg.smoothed_aggregation_solver(
-            self._A, B=None if B is None else np.array(B, dtype=float, order="C"), strength="symmetric", smooth="jacobi",
-            max_coarse=1000,
-            presmoother=("block_gauss_seidel", {"sweep": "symmetric", "blocksize": 2}),
-            postsmoother=("block_gauss_seidel", {"sweep": "symmetric", "blocksize": 2}),
-        )
+        return hierarchy(self._A, self._space, B)
+
+    def _reset_info(self):
+        self.info = {**self.info, "iterations": [], "residual": []}
 
     def solve(self, b):
         try:
@@ -324,7 +325,7 @@ class _AMG:
                 raise
             self._B = self._B[:, :2]
             self._ml = self._hierarchy(self._B)
-            self.info = {"iterations": [], "residual": []}
+            self._reset_info()
             return self._solve(b)
 
     def _solve(self, b):
@@ -535,7 +536,8 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
 
 
 def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarray | None = None,
-              rtol: float = 1e-10, after_ordering: Callable[[], None] | None = None) -> Factorization:
+              rtol: float = 1e-10, after_ordering: Callable[[], None] | None = None,
+              space=None) -> Factorization:
     """Factorize a symmetric positive-definite stiffness matrix given by its lower triangle.
 
     Parameters
@@ -551,6 +553,10 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
         Called between PARDISO's ordering phase (which keeps one core busy) and its numeric
         factorization (which takes every core), e.g. to wait for work done meanwhile in the
         background; other back ends ignore it.
+    space : planar.core._multigrid.NodalSpace, optional
+        The nodal space of the unknowns (corner nodes, two unknowns each) for the multigrid
+        hierarchy of ``"amg"``: a p-multigrid step on quadratic elements, 2 x 2 node blocks on
+        every support layout. Without it, AMG works on the matrix as given.
 
     Raises
     ------
@@ -563,7 +569,7 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
     if n == 0:
         raise SolverError("there are no free unknowns left: every displacement is prescribed")
     name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
-    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering)
+    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering, space=space)
 
 
 class _IterationLine:

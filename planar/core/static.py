@@ -16,6 +16,7 @@ from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigi
 from .result import Result
 from . import diagnose, solvers
 from .solvers import choose, factorize
+from ._multigrid import nodal_space
 from .supports import gather, note_snapped
 from ._tying import Tying
 from .timing import Timer
@@ -256,18 +257,25 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         pending = prepare_recovery(asm, free.size)
         if pending:  # the numeric factorization waits for them, and then has every core
             after_ordering = lambda: futures.wait(pending)  # noqa: E731
-    modes = None
+    modes = space = None
     if solver in ("amg", "auto"):
-        modes = _rigid_modes(mesh.nodes, cons.rotation)[free]
+        every = _rigid_modes(mesh.nodes, cons.rotation)
+        modes = every[free]
         if tie is not None:
             modes = tie.rigid_modes(modes, mesh.nodes)
+        # the corner nodes' space (p-multigrid on quadratic elements; 2 x 2 node blocks on every level)
+        space = nodal_space(asm.blocks, mesh.n_nodes, free, every, cons.rotation,
+                            modes[free.size:] if modes.shape[0] > free.size else None)
+        del every
     if keep_system:
         asm.system = system
         asm.rhs = rhs
+        asm.space, asm.modes = space, modes  # the iterative back end's nodal space (None for a direct one)
+        asm.free, asm.constrained = free, cons
     try:
         figures = diagnose.start_figures(system.lower, solver)  # ||K|| on the core the ordering leaves idle
         timer.start(f"factorizing ({solver})")
-        fac = factorize(system.lower, solver, rigid_modes=modes,
+        fac = factorize(system.lower, solver, rigid_modes=modes, space=space,
                         after_ordering=diagnose.also_wait(after_ordering, figures))
         timer.lap("factorization")
         timer.start("solving")
