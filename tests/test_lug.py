@@ -129,6 +129,10 @@ def test_lug_check_reads_the_hole_and_its_margins(lug_results):
     assert c.as_dict()["units"]["stress"] == "MPa"
     with pytest.raises(InputError, match="edge_distance"):
         lug_check(r, P, W, D, T, shear_allowable=100.0)
+    # read on a straight edge there is no angle: the table gives the point, never a NaN
+    flat = lug_check(r, P, W, D, T, edge="end")
+    assert math.isnan(flat.peak_angle) and "nan" not in flat.table().lower() and "at (" in flat.table()
+    assert flat.as_dict()["peak_angle"] is None
 
 
 @pytest.mark.parametrize("how, share", [("spreading", 0.5), ("bearing", 1.0), ("contact", 1.0)])

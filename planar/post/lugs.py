@@ -190,7 +190,8 @@ class LugCheck:
     peak_hoop : float
         Largest hoop (tangential) stress on the hole.
     peak_angle : float
-        Where it is, degrees about the hole centre, counter-clockwise from +x.
+        Where it is, degrees about the hole centre, counter-clockwise from +x (NaN when the edge is
+        not a circular arc; the table then gives the point).
     peak_point : (float, float)
     kt_net, kt_bearing : float
         The peak over the net-section and over the bearing stress.
@@ -238,7 +239,10 @@ class LugCheck:
                ("bearing", "P / (D t)", self.bearing, su)]
         if self.shear_out is not None:
             out.append(("shear-out", "P / (2 (e - D/2) t)", self.shear_out, su))
-        out += [("peak hoop stress on the hole", f"at {self.peak_angle:.1f} deg", self.peak_hoop, su),
+        lu = length_unit(self.units)
+        at = (f"at {self.peak_angle:.1f} deg" if math.isfinite(self.peak_angle) else
+              f"at ({self.peak_point[0]:.4g}, {self.peak_point[1]:.4g})" + (f" {lu}" if lu else ""))
+        out += [("peak hoop stress on the hole", at, self.peak_hoop, su),
                 ("Kt on the net section", "peak / net-section", self.kt_net, "-"),
                 ("Kt on bearing", "peak / bearing", self.kt_bearing, "-")]
         return out
@@ -322,6 +326,8 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
         An edge name the mesh does not have.
     """
     result = as_result(result, "lug_check")
+    if shear_allowable is not None and edge_distance is None:
+        raise InputError("a shear-out allowable needs the edge_distance (hole centre to the lug's end)")
     P = _load(load)
     W = _positive(width, "width")
     D = _positive(hole_diameter, "hole_diameter")
@@ -337,8 +343,6 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
                                  ("bearing", _ms(bearing_allowable, brg, fs)),
                                  ("shear_out", None if so is None else _ms(shear_allowable, so, fs)),
                                  ("peak", _ms(peak_allowable, pk.value, fs))) if v is not None}
-    if shear_allowable is not None and so is None:
-        raise InputError("a shear-out allowable needs the edge_distance (hole centre to the lug's end)")
     return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins)
