@@ -1,7 +1,7 @@
 """A fastened joint's results: per-layer Results, fastener loads, bearing, bypass and load transfer by row.
 
 The bypass load at a hole comes from a cut through the hole's centre across its layer, square to the
-hole's bearing load: the free body on the side the load leaves by carries the layer's applied loads,
+load the hole's group of fasteners takes out of that layer (so a row's holes share one cut): the free body on the side the load leaves by carries the layer's applied loads,
 support and pin reactions and the other fasteners' forces on that side, so the force crossing the
 cut is their sum (statics of the free body, common practice; the same force a stress integral along
 the net section gives, as :func:`planar.post.cut_resultant` does on a cut within the plate, without
@@ -80,7 +80,9 @@ class FastenerTable:
             F = np.vstack([e["force"] for e in ends])
             d = np.concatenate([np.full(e["count"], joint.fasteners[e["group"]].diameter) for e in ends])
             t = np.concatenate([e["t"] for e in ends])
-            bypass, section, count = _bypass(res.mesh.nodes, res.rest_forces, P, F, d)
+            # each hole's cut is square to its group's load in this layer, so a row's holes share one cut
+            gdir = np.vstack([np.tile(-e["force"].sum(axis=0), (e["count"], 1)) for e in ends])
+            bypass, section, count = _bypass(res.mesh.nodes, res.rest_forces, P, F, d, gdir)
             h = 0
             for e in ends:
                 fz = joint.fasteners[e["group"]]
@@ -135,21 +137,21 @@ class FastenerTable:
         us = self.units
         F, L, S = _unit(us, "force"), _unit(us, "length"), _unit(us, "stress")
         lines = [f"Fastener loads, load case {self.case!r} ({us.label})", "",
-                 f"{'group':<12} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<20} {'Vx' + F:>12} {'Vy' + F:>12} "
+                 f"{'group':<12} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<28} {'Vx' + F:>12} {'Vy' + F:>12} "
                  f"{'|V|' + F:>12}"]
         for p in self.pairs:
             lines.append(f"{p['group'][:12]:<12} {p['index'] + 1:>3} {p['point'][0]:>12.4g} {p['point'][1]:>12.4g} "
-                         f"{'-'.join(p['layers'])[:20]:<20} {p['shear'][0]:>12.5g} {p['shear'][1]:>12.5g} "
+                         f"{'-'.join(p['layers'])[:28]:<28} {p['shear'][0]:>12.5g} {p['shear'][1]:>12.5g} "
                          f"{p['magnitude']:>12.5g}")
-        lines += ["", f"{'group':<12} {'#':>3} {'layer':<10} {'bearing P' + F:>16} {'t' + L:>10} "
+        lines += ["", f"{'group':<12} {'#':>3} {'layer':<14} {'bearing P' + F:>16} {'t' + L:>10} "
                       f"{'P/(d t)' + S:>16} {'bypass' + F:>14} {'on cut':>7}"]
         for h in self.holes:
-            lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:10]:<10} {h['bearing']:>16.5g} "
+            lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:14]:<14} {h['bearing']:>16.5g} "
                          f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {h['bypass']:>14.5g} {h['on_cut']:>7}")
-        lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<20} {'x' + L:>12} {'y' + L:>12} "
+        lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<28} {'x' + L:>12} {'y' + L:>12} "
                                               f"{'n':>4} {'load' + F:>14} {'share':>7}"]
         for r in self.rows:
-            lines.append(f"{r['group'][:12]:<12} {r['row']:>4} {'-'.join(r['layers'])[:20]:<20} {r['centre'][0]:>12.4g} "
+            lines.append(f"{r['group'][:12]:<12} {r['row']:>4} {'-'.join(r['layers'])[:28]:<28} {r['centre'][0]:>12.4g} "
                          f"{r['centre'][1]:>12.4g} {r['count']:>4} {r['load']:>14.5g} {100 * r['share']:>6.1f}%")
         return "\n".join(lines)
 
@@ -160,16 +162,23 @@ class FastenerTable:
         return f"FastenerTable(case={self.case!r}, {len(self.pairs)} fastener pairs, {len(self.holes)} holes)"
 
 
-def _bypass(nodes, rest, P, F, d):
-    """(bypass per fastener on the cut, whole-cut bypass, fasteners on the cut) for each end of one layer."""
+def _bypass(nodes, rest, P, F, d, gdir):
+    """(bypass per fastener on the cut, whole-cut bypass, fasteners on the cut) for each end of one layer.
+
+    ``gdir`` (H, 2): the direction of each end's cut normal, the load its group takes out of the layer
+    reversed (a hole's own bearing where that is nil, the layer's mean where all are).
+    """
     H = P.shape[0]
-    mag = np.hypot(*F.T)
     mean = -F.sum(axis=0)
     if not np.hypot(*mean) > 0:
         mean = np.array([1.0, 0.0])
     mean = mean / np.hypot(*mean)
-    big = mag > 1e-12 * max(mag.max(initial=0.0), 1e-300)
-    n = np.where(big[:, None], -F / np.where(big, mag, 1.0)[:, None], mean)
+    scale = max(np.hypot(*F.T).max(initial=0.0), 1e-300)
+    n = np.tile(mean, (H, 1))
+    for v in (-F, gdir):  # the hole's own bearing, then its group's (preferred where it is not nil)
+        mag = np.hypot(*v.T)
+        big = mag > 1e-12 * scale
+        n = np.where(big[:, None], v / np.where(big, mag, 1.0)[:, None], n)
     key = np.round(np.arctan2(n[:, 1], n[:, 0]), 9)
     out = np.zeros(H)
     count = np.zeros(H, np.int64)

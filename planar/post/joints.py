@@ -24,7 +24,7 @@ import numpy as np
 
 from ..core.errors import InputError
 from ..core.joints import JointResult
-from .plots import _new_figure, save_figure
+from .plots import save_figure
 
 __all__ = ["plot_joint"]
 
@@ -48,9 +48,19 @@ def _boundary(mesh) -> np.ndarray:
     return mesh.nodes[once]
 
 
+def _figure(aspect: float, width: float):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    h = float(np.clip(0.8 * width / max(aspect, 0.2) + 2.4, 3.5, 10.0))  # room for the title and the legend
+    fig = Figure(figsize=(width, h), dpi=120, layout="constrained")
+    FigureCanvasAgg(fig)
+    return fig
+
+
 def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, scale: float | None = None,
                title: str | None = None, width: float = 8.0):
-    """The layers' outlines and an arrow at each fastener for each joined pair, scaled by its shear load.
+    """The layers' outlines and an arrow at each fastener scaled by its bearing load.
 
     Parameters
     ----------
@@ -60,7 +70,7 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
         Also write the figure to this PNG file.
     scale : float, optional
         Length of the arrow of unit load (length per force); default: the largest load drawn a tenth
-        of the joint's extent long.
+        of the joint's extent long, or 0.8 of the closest two fasteners' distance if that is shorter.
     title : str, optional
     width : float
         Figure width in inches.
@@ -68,8 +78,9 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
     Returns
     -------
     matplotlib.figure.Figure
-        The arrows show the force each fastener exerts on the second layer of its pair; the legend
-        gives the layers, the largest load and the units.
+        One arrow per fastener: its largest bearing load on a joined layer (the force it exerts on
+        that layer; the middle layer of a double-shear stack, either plate of a single-shear pair),
+        coloured as that layer's outline; the legend gives the layers, the largest load and the units.
     """
     if not isinstance(result, JointResult):
         raise InputError(f"plot_joint takes one load case of a solved joint, planar.solve(joint)['case'], got "
@@ -83,33 +94,53 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
     allxy = np.vstack([s.reshape(-1, 2) for s in segs.values()])
     lo, hi = allxy.min(axis=0), allxy.max(axis=0)
     span = max(float((hi - lo).max()), 1e-300)
-    fig = _new_figure(max(float((hi - lo)[0]) / max(float((hi - lo)[1]), 1e-300 * span), 0.2), width)
+    fig = _figure(float((hi - lo)[0]) / max(float((hi - lo)[1]), 1e-3 * span), width)
     ax = fig.add_subplot(1, 1, 1)
     for i, (name, s) in enumerate(segs.items()):
-        ax.add_collection(LineCollection(s, colors=_COLOURS[i % len(_COLOURS)], linewidths=1.0 + 0.6 * i,
-                                         alpha=0.8, label=f"layer {name}"))
+        ax.add_collection(LineCollection(s, colors=_COLOURS[i % len(_COLOURS)], linewidths=1.2,
+                                         linestyles=("solid", "dashed", "dashdot", "dotted")[i % 4], alpha=0.9,
+                                         label=f"layer {name}"))
     tab = result.fasteners
-    P = np.array([p["point"] for p in tab.pairs]).reshape(-1, 2)
-    V = tab.shear
-    vmax = float(tab.magnitude.max(initial=0.0))
-    if scale is None:
-        scale = 0.1 * span / vmax if vmax > 0 else 1.0
-    pairs = sorted({p["layers"] for p in tab.pairs})
-    for k, pr in enumerate(pairs):
-        sel = np.array([p["layers"] == pr for p in tab.pairs])
-        ax.quiver(P[sel, 0], P[sel, 1], V[sel, 0] * scale, V[sel, 1] * scale, angles="xy", scale_units="xy",
-                  scale=1.0, color=("k", "#d62728", "#2ca02c")[k % 3], width=0.004,
-                  label=f"load on {pr[1]} from {pr[0]} (largest {float(tab.magnitude[sel].max()):.4g}{F_u})")
-    ax.plot(P[:, 0], P[:, 1], "o", ms=3, color="k")
+    colour = {name: _COLOURS[i % len(_COLOURS)] for i, name in enumerate(segs)}
+    best: dict = {}
+    for h in tab.holes:  # each fastener's largest bearing load: on the middle layer of a double-shear stack
+        key = (h["group"], h["index"])
+        if key not in best or h["bearing"] > best[key]["bearing"]:
+            best[key] = h
+    chosen = list(best.values())
+    P = np.array([h["point"] for h in chosen]).reshape(-1, 2)
+    V = np.array([h["load"] for h in chosen]).reshape(-1, 2)
+    mags = np.hypot(*V.T) if V.size else np.zeros(0)
+    vmax = float(mags.max(initial=0.0))
+    if scale is None:  # the largest arrow a tenth of the joint, and shorter than the closest fasteners' gap
+        reach = 0.1 * span
+        if P.shape[0] > 1:
+            from scipy.spatial import cKDTree
+
+            gap = cKDTree(P).query(P, k=2)[0][:, 1]
+            gap = gap[gap > 1e-9 * span]
+            if gap.size:
+                reach = min(reach, 0.8 * float(gap.min()))
+        scale = reach / vmax if vmax > 0 else 1.0
+    layers_drawn = np.array([h["layer"] for h in chosen])
+    for name in segs:
+        sel = layers_drawn == name
+        if sel.any():
+            ax.quiver(P[sel, 0], P[sel, 1], V[sel, 0] * scale, V[sel, 1] * scale, angles="xy", scale_units="xy",
+                      scale=1.0, color=colour[name], edgecolor="k", linewidth=0.5, width=0.005,
+                      label=f"bearing load on {name} (largest {float(mags[sel].max()):.4g}{F_u})")
+    if P.size:
+        ax.plot(P[:, 0], P[:, 1], "o", ms=3, color="k")
     pad = 0.08 * span
     ax.set_xlim(lo[0] - pad, hi[0] + pad)
     ax.set_ylim(lo[1] - pad, hi[1] + pad)
     ax.set_aspect("equal")
     ax.set_xlabel(f"x{L_u}")
     ax.set_ylabel(f"y{L_u}")
-    ax.set_title(title or f"Fastener loads, load case {result.case!r} ({us.label}); arrow of "
-                          f"{vmax:.4g}{F_u} = {vmax * scale:.3g}{' ' + us.length if us.stated else ''}")
-    ax.legend(loc="best", fontsize="small")
+    ax.set_title(title or f"Fastener bearing loads, load case {result.case!r} ({us.label})\narrow of "
+                          f"{vmax:.4g}{F_u} drawn {vmax * scale:.3g}{' ' + us.length if us.stated else ''} long",
+                 fontsize="medium")
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, fontsize="small", frameon=False)
     if path is not None:
         save_figure(fig, path)
     return fig
