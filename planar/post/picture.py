@@ -112,11 +112,17 @@ class _Scene:
             c = 0.5 * (self.lo + self.hi)
             n[np.einsum("ij,ij->i", n, mid[miss] - c) < 0] *= -1
             normal[miss] = n
+        # evenly spaced by arc length along the sides in their stored order (a chain for a meshed edge)
+        length = np.hypot(*(b - a).T)
+        total = float(length.sum())
         h = spacing or self.size / 18.0
-        cell = np.floor((mid - self.lo) / h).astype(np.int64)
-        _, first = np.unique(cell, axis=0, return_index=True)
-        first = np.sort(first)
-        return mid[first], normal[first], (a, b)
+        n = max(1, int(round(total / h)))
+        at = (np.arange(n) + 0.5) * total / n
+        ends = np.cumsum(length)
+        k = np.clip(np.searchsorted(ends, at), 0, len(length) - 1)
+        frac = np.clip((at - (ends[k] - length[k])) / np.maximum(length[k], 1e-300), 0.0, 1.0)
+        pts = a[k] + (b[k] - a[k]) * frac[:, None]
+        return pts, normal[k], (a, b)
 
     def add_legend(self, kind: str, handle, text: str | None = None) -> None:
         if kind not in self.legend:
@@ -146,7 +152,7 @@ def _draw_edge_names(sc: _Scene) -> None:
         if pts.shape[0] == 0:
             continue
         k = pts.shape[0] // 2
-        p = pts[k] + nrm[k] * 0.045 * sc.size
+        p = pts[k] - nrm[k] * 0.04 * sc.size        # just inside the part, clear of the symbols outside
         t = sc.ax.text(p[0], p[1], name, fontsize=7.5, color="0.25", ha="center", va="center", style="italic",
                        zorder=7, bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.75))
         t.set_gid(f"edge-name:{name}")
@@ -254,7 +260,10 @@ def _draw_supports(sc: _Scene) -> None:
                                   arrowprops=dict(arrowstyle="]->,widthA=0.6,lengthA=0", color="#8a5a00", lw=1.6))
                 ann.set_gid(f"support:prescribed:{tag}")
                 txt = f"{comp} = {'f(x, y)' if callable(v) else _with(float(v), sc.unit('length'))}"
-                tt = ax.text(tail[0], tail[1], txt, fontsize=7.5, color="#8a5a00", ha="center", va="bottom", zorder=7)
+                up = nrm[len(pts) // 2] * 0.03 * L
+                tt = ax.text(tail[0] + up[0], tail[1] + up[1], txt, fontsize=7.5, color="#8a5a00", ha="center",
+                             va="center", zorder=7, bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none",
+                                                              alpha=0.8))
                 tt.set_gid(f"support:prescribed-value:{tag}")
             sc.add_legend("prescribed", Line2D([], [], color="#8a5a00", lw=1.6, marker="|", ms=9))
         else:  # a support of a kind this picture does not know: its place, named
@@ -285,8 +294,10 @@ def _draw_pins(sc: _Scene) -> None:
         cross.set_gid(f"pin-cross:{pin.name}")
         held = {None: "free", "both": "held", "x": "held in x", "y": "held in y"}.get(
             pin.hold if isinstance(pin.hold, (str, type(None))) else "", "held along a direction")
-        t = ax.annotate(f"pin {pin.name}\n{pin.tie} tie, {held}, rotation {pin.rotation}", xy=(c[0], c[1]),
-                        xytext=(12, -14), textcoords="offset points", fontsize=7, color=_PIN, zorder=7)
+        reach = float(np.max(np.hypot(*(ends - c).T))) if ends.size else 0.0
+        t = ax.text(c[0] + reach + 0.015 * sc.size, c[1] - reach, f"pin {pin.name}\n{pin.tie} tie, {held}, "
+                    f"rotation {pin.rotation}", fontsize=7, color=_PIN, zorder=7, ha="left", va="top",
+                    bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.8))
         t.set_gid(f"pin-label:{pin.name}")
         sc.add_legend("pin", Line2D([], [], ls="none", marker="$\\bigotimes$", ms=11, color=_PIN))
 
@@ -370,20 +381,20 @@ def _draw_loads(sc: _Scene, cases: Sequence[str]) -> None:
                       color=colour, width=0.004, headwidth=3.5, headlength=4.5, zorder=6)
         kind = load.name
         q.set_gid(f"load:{kind}:{load.where}")
-        k = int(np.argmax(mag))
+        k = int(np.argmax(mag)) if np.ptp(mag) > 1e-9 * mag.max() else len(mag) // 2
         value = "f(x, y), largest " if any(callable(getattr(load, a, None)) for a in ("tx", "ty", "normal",
                                                                                      "tangential", "p")) else ""
         if isinstance(load, Pressure):
             text = f"p = {value}{_with(float(load.p) if not callable(load.p) else float(mag[k]), stress)}"
         else:
             text = f"{value}{_with(float(mag[k]), stress)}"
-        far = tail[k] + d[k] * (0.0 if inward[k] else 1.0) + nrm[k] * 0.02 * L
+        far = tail[k] + d[k] * (0.0 if inward[k] else 1.0) + nrm[k] * 0.05 * L
         t = ax.text(far[0], far[1], (f"{case}: " if several else "") + text, fontsize=7.5, color=colour,
                     ha="center", va="center", zorder=7,
                     bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8))
         t.set_gid(f"load-value:{kind}:{load.where}")
         sc.add_legend(kind, Line2D([], [], color=colour, lw=1.4, marker=">", ms=5),
-                      f"{SYMBOLS[kind]} (arrow length in proportion; largest drawn {_with(big, stress)})")
+                      f"{SYMBOLS[kind]} (arrow lengths in proportion, one scale for every edge load)")
     for ci, case in enumerate(cases):
         colour = _CASE_COLOURS[ci % len(_CASE_COLOURS)]
         prefix = f"{case}: " if several else ""
@@ -430,7 +441,10 @@ def _draw_loads(sc: _Scene, cases: Sequence[str]) -> None:
                                          f"gravity {_with(float(np.hypot(load.gx, load.gy)), sc.unit('acceleration'))}")
                 else:
                     fv = ("" if not sc.units.stated else f"{sc.unit('force')}/{sc.unit('length')}^3")
-                    d = (0.0 if callable(load.bx) else float(load.bx), 0.0 if callable(load.by) else float(load.by))
+                    from ..core.loads import _evaluate
+
+                    xy = sc.mesh.nodes[sc.mesh.used_nodes()]   # a function drawn by its mean over the nodes
+                    d = (float(np.mean(_evaluate("bx", load.bx, xy))), float(np.mean(_evaluate("by", load.by, xy))))
                     letter = "b"
                     what = "body force " + ("f(x, y)" if callable(load.bx) or callable(load.by) else
                                             _with(float(np.hypot(*d)), fv))
@@ -503,7 +517,8 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     cases = _cases(model, case)
     x0, y0, x1, y1 = model.mesh.bounding_box()
     aspect = (x1 - x0) / max(y1 - y0, 1e-12 * max(x1 - x0, 1.0))
-    if ax is None:
+    own = ax is None
+    if own:
         fig = _new_figure(aspect)
         ax = fig.add_subplot()
     else:
@@ -538,9 +553,13 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
                    ha="left", va="bottom")
     info.set_gid("units")
     if sc.legend:
+        ncols = 2 if len(sc.legend) > 3 else 1
         leg = fig.legend(handles=list(sc.legend.values()), loc="outside lower left", fontsize=7.5, frameon=False,
-                         ncols=2 if len(sc.legend) > 3 else 1)
+                         ncols=ncols)
         leg.set_gid("legend")
+        if own:  # room for the legend's rows below the picture
+            w, h = fig.get_size_inches()
+            fig.set_size_inches(w, h + 0.19 * math.ceil(len(sc.legend) / ncols) + 0.2)
     if path is not None:
         save_figure(fig, path)
     return fig
