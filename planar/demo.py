@@ -409,8 +409,7 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
                   f"here the hole is {part.length / 2 / part.width:g} widths from the clamped and the "
                   f"loaded ends, far enough for their effect on the peak to be small. The allowable and "
                   f"the factor of safety are demonstration values, not design data."),
-        Notice([margin.caution], kind="note"),
-    ]
+    ]  # the scope caution is the report's own last section: said once
     conv_rows = []
     for i, mm in enumerate(summary["meshes"], 1):
         conv_rows.append([str(i), f"{mm['hole_edge_size']:g}", str(mm["elements"]), _fmt_int(mm["unknowns"]),
@@ -438,13 +437,8 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
                    "2008): order from the three finest meshes"),
         fig("convergence"),
     ] + ([Notice(conv.notes, kind="note")] if conv.notes else [])
-    import numpy, scipy, matplotlib
-
-    from . import __version__
-
+    # the versions, the script's digest and the date are the report's own (planar.post.provenance)
     run_rows = [(f"time: {k}", f"{v:.1f} s") for k, v in summary.get("seconds_by_step", {}).items()]
-    run_rows += [("versions", f"planar {__version__}, numpy {numpy.__version__}, scipy {scipy.__version__}, "
-                              f"matplotlib {matplotlib.__version__}")]
     return stress_check_report(
         fine, title="Stress check: splice strap with an open bolt hole",
         subtitle=f"{part.name}; {part.load:g} N axial tension; units {part.units}",

@@ -108,6 +108,27 @@ def test_demo_report_shows_cautions_and_renders(demo_run, tmp_path):
     assert distinct > 2000 and saturated > 100_000
 
 
+def test_demo_report_prints_to_pdf(demo_run, tmp_path):
+    """The demo's report printed by headless Chromium: numbered pages with the title and revision, whole
+    figures, inputs with units, no Python spellings, the sign-off block and the versions (tests/test_report_print.py
+    holds the checks)."""
+    import html as _html
+
+    from test_report_print import FORBIDDEN, check_pages, print_pdf, read_pdf
+
+    _, _, out = demo_run
+    text = (out / "report.html").read_text()
+    captions = [_html.unescape(c) for c in re.findall(r"<figcaption>(.*?)</figcaption>", text)]
+    pages = read_pdf(print_pdf(out / "report.html", tmp_path))
+    check_pages(pages, "Stress check: splice strap with an open bolt hole", "", captions)
+    whole = " ".join(p["text"] for p in pages)
+    assert not [bad for bad in FORBIDDEN if bad in whole]
+    for words in ("E = 71000 MPa", "thickness, region 'plate' 3 mm", "traction on edge 'right': 40 MPa along x",
+                  "edge 'left' clamped", "prepared by", "checked by", "approved by", "planar ", "gmsh ", "numpy ",
+                  "scipy ", "solver back end", "SHA-256 of the script"):
+        assert words in whole, words
+
+
 # ---------------------------------------------------------------------------------------- show
 def test_show_draws_a_written_result(demo_run, tmp_path, capsys):
     _, _, out = demo_run

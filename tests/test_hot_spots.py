@@ -248,7 +248,7 @@ def test_stress_check_report_takes_the_hot_spots():
     assert "Hot spots" in titles
     html = render_html(rep)
     assert "FLAGGED" not in html and "made by the idealisation" in html and "hole (edge)" in html
-    assert "Hot spots" not in [sec.title for sec in stress_check_report(r, title="strip").sections]
+    assert "Hot spots" not in [sec.title for sec in stress_check_report(r, title="strip", hot_spots=False).sections]
 
 
 def test_bad_input_is_refused_with_the_fix():

@@ -100,7 +100,8 @@ def test_report_carries_the_cautions_model_and_equilibrium():
                   "qualified engineer", "which take precedence"):
         assert words in html
     assert "plane stress" in html and "N, mm, MPa" in html
-    assert "Fixed(&#x27;left&#x27;)" in html                   # supports from model.describe()
+    assert "edge &#x27;left&#x27; clamped: both displacements held" in html   # supports in plain words
+    assert "Fixed(" not in html and "Traction(" not in html and "=None" not in html
     assert str(r.mesh.n_nodes) in html and str(r.n_dofs) in html
     t = equilibrium_table(r)
     # reactions balance the applied loads (common practice): sums are zero to round-off

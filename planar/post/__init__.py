@@ -50,7 +50,8 @@ _WHERE = {
     "hot_spot_section": "hotspots",
     "Report": "report", "Section": "report", "Paragraph": "report", "Table": "report", "KeyValues": "report",
     "Figure": "report", "Notice": "report", "Tiles": "report", "render_html": "report",
-    "write_report": "report", "stress_check_report": "report",
+    "write_report": "report", "stress_check_report": "report", "SignOff": "report",
+    "mesh_quality": "meshquality", "MeshQuality": "meshquality",
 }
 
 __all__ = sorted(_WHERE)
@@ -87,7 +88,8 @@ if TYPE_CHECKING:  # what type checkers and editors see; at run time the names l
     from .norms import energy_norm_error
     from .picture import plot_model
     from .plots import plot_along, plot_field, plot_nodal_field, plot_vtu, save_figure, vtu_fields
-    from .report import (Figure, KeyValues, Notice, Paragraph, Report, Section, Table, Tiles, render_html,
+    from .meshquality import MeshQuality, mesh_quality
+    from .report import (Figure, KeyValues, Notice, Paragraph, Report, Section, SignOff, Table, Tiles, render_html,
                          stress_check_report, write_report)
     from .scope import CAUTION, CAUTIONS
     from .vtk import write_vtu

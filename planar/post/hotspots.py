@@ -587,7 +587,7 @@ def plot_hot_spots(result_or_spots, path: str | os.PathLike | None = None, *, wi
 # ---------------------------------------------------------------------------------------- report
 def hot_spot_section(hs: HotSpots, *, figure: bytes | str | os.PathLike | None = None):
     """A report section ("Hot spots") with the table of spots, and the figure when given."""
-    from .report import Figure, Notice, Paragraph, Section, Table
+    from ._blocks import Figure, Notice, Paragraph, Section, Table
 
     u = f" [{hs.unit}]" if hs.unit else ""
     lu = f" [{hs.length}]" if hs.length else ""

@@ -1,14 +1,19 @@
-"""The stress-check report: one self-contained HTML file.
+"""The stress-check report: one self-contained HTML file that prints as a signed calculation.
 
 A report is plain data (:class:`Report` made of :class:`Section` objects holding paragraphs, tables,
-key-value lists, figures and notices) rendered by :func:`render_html`. Figures are embedded as
-base64 PNG data URIs and the style sheet is inline, so the file opens anywhere, offline, and can be
-mailed or archived as it is; a content-security policy in the file forbids loading anything from
-outside it. All text is HTML-escaped. :func:`write_report` writes the file atomically.
+key-value lists, figures, notices, tiles and a sign-off block) rendered by :func:`render_html`
+(the blocks and the rendering live in :mod:`planar.post._blocks`). Figures are embedded as base64
+PNG data URIs and the style sheet is inline, so the file opens anywhere, offline, and can be mailed
+or archived as it is; a content-security policy in the file forbids loading anything from outside
+it. All text is HTML-escaped. :func:`write_report` writes the file atomically. Printed (from a
+browser, or ``chromium --headless --no-pdf-header-footer --print-to-pdf``), each page carries the
+title and revision on top and "page N of M" below; tables and figures are not split.
 
-:func:`stress_check_report` assembles the usual sections of a check from a :class:`planar.Result`
-(what was analysed, mesh and unknowns, equilibrium, the cautions) around the figures and tables the
-caller supplies (peak stresses, Kt, margins, convergence evidence).
+:func:`stress_check_report` builds the complete check of a :class:`planar.Result` from the model
+and the result alone (summary tiles from the hot spots, the model picture, the inputs in plain
+words with units, the mesh and its worst element shapes, results, hot spots, equilibrium and
+reactions, warnings, the cautions once, provenance and sign-off); every part can be given or
+left out by the caller.
 
 Examples
 --------
@@ -20,20 +25,17 @@ True
 """
 from __future__ import annotations
 
-import base64
-import datetime as _dt
-import html
 import os
-from dataclasses import dataclass, field
-from pathlib import Path
-from typing import Any, Iterable, Sequence, Union
+from typing import Any, Iterable, Sequence
 
 from ..core.errors import InputError
 from ..core.result import as_result
-from .files import atomic_write_text
 from .scope import CAUTIONS, SCOPE_NOTE
 
 __all__ = [
+    "SignOff",
+    "SECTION_KEYS",
+    "PAGE_SIZES",
     "Report",
     "Section",
     "Paragraph",
@@ -52,286 +54,8 @@ __all__ = [
     "warnings_section",
 ]
 
-# ---------------------------------------------------------------------------------------- content
-@dataclass
-class Paragraph:
-    """A paragraph of plain text (escaped; blank lines are not special)."""
-
-    text: str
-
-
-@dataclass
-class Table:
-    """A table of plain-text cells.
-
-    Parameters
-    ----------
-    headers : sequence of str
-    rows : sequence of sequence
-        Cells are converted with ``str`` (numbers should be formatted by the caller).
-    caption : str, optional
-    numeric : sequence of int, optional
-        Columns to right-align (default: columns whose cells all look like numbers).
-    status_column : int, optional
-        A column whose cells ``"pass"``/``"fail"``/``"note"`` are shown as coloured marks.
-    """
-
-    headers: Sequence[str]
-    rows: Sequence[Sequence[Any]]
-    caption: str = ""
-    numeric: Sequence[int] | None = None
-    status_column: int | None = None
-
-
-@dataclass
-class KeyValues:
-    """Two-column list of labels and values."""
-
-    rows: Sequence[tuple[str, Any]]
-    caption: str = ""
-
-
-@dataclass
-class Figure:
-    """A PNG figure with its caption.
-
-    Parameters
-    ----------
-    png : bytes or path
-        PNG data, or a PNG file to read.
-    caption : str
-    alt : str, optional
-        Text for readers that cannot see the picture (default: the caption).
-    """
-
-    png: Union[bytes, str, os.PathLike]
-    caption: str = ""
-    alt: str = ""
-
-    def data(self) -> bytes:
-        if isinstance(self.png, (bytes, bytearray)):
-            data = bytes(self.png)
-        else:
-            data = Path(self.png).read_bytes()
-        if not data.startswith(b"\x89PNG\r\n\x1a\n"):
-            raise InputError(f"figure {self.caption or self.png!r} is not PNG data")
-        return data
-
-
-@dataclass
-class Notice:
-    """A framed box of points: ``kind`` "caution" (amber) or "note" (blue-grey)."""
-
-    items: Sequence[str]
-    kind: str = "caution"
-    heading: str = ""
-
-
-@dataclass
-class Tiles:
-    """A row of headline figures: (label, value, detail, status) with status "pass", "fail" or ""."""
-
-    items: Sequence[tuple[str, str, str, str]]
-
-
-Block = Union[Paragraph, Table, KeyValues, Figure, Notice, Tiles]
-
-
-@dataclass
-class Section:
-    """A titled part of the report."""
-
-    title: str
-    blocks: list = field(default_factory=list)
-
-
-@dataclass
-class Report:
-    """A whole report: title, a line under it, sections, and a footer.
-
-    Parameters
-    ----------
-    title : str
-    subtitle : str, optional
-    sections : list of Section
-    footer : str, optional
-        Default: the planar version and the date and time of writing.
-    """
-
-    title: str
-    subtitle: str = ""
-    sections: list = field(default_factory=list)
-    footer: str = ""
-
-
-# ---------------------------------------------------------------------------------------- rendering
-_CSS = """
-:root { --ink:#1c2430; --muted:#5b6675; --rule:#d7dde4; --band:#f3f6f8; --accent:#155e75;
-        --pass:#2f7d32; --fail:#b42318; --amber:#fff6df; --amber-edge:#c7890a; --note:#eef3f7; }
-* { box-sizing: border-box; }
-body { margin: 0; background: #fff; color: var(--ink);
-       font: 15px/1.5 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }
-main { max-width: 1060px; margin: 0 auto; padding: 28px 32px 40px; }
-header { border-bottom: 3px solid var(--accent); padding-bottom: 12px; margin-bottom: 18px; }
-h1 { font-size: 26px; margin: 0 0 4px; letter-spacing: .2px; }
-.subtitle { color: var(--muted); margin: 0; }
-h2 { font-size: 19px; color: var(--accent); margin: 30px 0 10px; padding-bottom: 4px;
-     border-bottom: 1px solid var(--rule); }
-table { border-collapse: collapse; margin: 8px 0 14px; min-width: 50%; }
-caption { text-align: left; color: var(--muted); font-size: 13.5px; padding: 2px 0 6px; }
-th, td { padding: 5px 12px; border-bottom: 1px solid var(--rule); text-align: left; vertical-align: top; }
-th { background: var(--band); font-weight: 600; }
-td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-table.kv th { width: 16em; background: none; font-weight: 600; color: var(--muted); }
-code, .mono { font-family: "DejaVu Sans Mono", Consolas, monospace; font-size: 13.5px; }
-figure { margin: 12px 0 20px; }
-figure img { display: block; max-width: 100%; height: auto; border: 1px solid var(--rule); }
-figcaption { color: var(--muted); font-size: 13.5px; margin-top: 6px; }
-.tiles { display: flex; flex-wrap: wrap; gap: 12px; margin: 10px 0 6px; }
-.tile { flex: 1 1 180px; border: 1px solid var(--rule); border-top: 4px solid var(--accent);
-        padding: 10px 12px; background: #fff; }
-.tile.pass { border-top-color: var(--pass); }
-.tile.fail { border-top-color: var(--fail); }
-.tile .label { color: var(--muted); font-size: 13px; }
-.tile .value { font-size: 22px; font-weight: 600; }
-.tile .detail { color: var(--muted); font-size: 12.5px; }
-.notice { padding: 10px 16px; margin: 12px 0; border-left: 5px solid var(--amber-edge);
-          background: var(--amber); }
-.notice.note { border-left-color: #6b8299; background: var(--note); }
-.notice h3 { margin: 2px 0 6px; font-size: 15px; }
-.notice ul { margin: 0; padding-left: 20px; }
-.status { font-weight: 700; }
-.status.pass { color: var(--pass); }
-.status.fail { color: var(--fail); }
-.status.note { color: var(--muted); }
-footer { margin-top: 36px; padding-top: 8px; border-top: 1px solid var(--rule); color: var(--muted);
-         font-size: 12.5px; }
-@media print { main { padding: 0; } h2 { break-after: avoid; } figure, table { break-inside: avoid; } }
-"""
-
-
-def _e(text: Any) -> str:
-    return html.escape(str(text), quote=True)
-
-
-def _looks_numeric(s: str) -> bool:
-    t = s.strip().replace(",", "").replace("%", "").replace("+", "").replace("\u2212", "-")
-    t = t.split(" ")[0] if t else t
-    try:
-        float(t)
-        return True
-    except ValueError:
-        return False
-
-
-def _status(text: str) -> str:
-    t = str(text).strip().lower()
-    cls = "pass" if t in ("pass", "ok", "yes") else "fail" if t in ("fail", "no") else "note"
-    return f'<span class="status {cls}">{_e(text)}</span>'
-
-
-def _render_block(b) -> str:
-    if isinstance(b, Paragraph):
-        return f"<p>{_e(b.text)}</p>"
-    if isinstance(b, Table):
-        rows = [[str(c) for c in r] for r in b.rows]
-        ncol = len(b.headers)
-        if any(len(r) != ncol for r in rows):
-            raise InputError(f"table {b.caption!r}: every row needs {ncol} cells")
-        if b.numeric is None:
-            numeric = {j for j in range(ncol) if rows and all(_looks_numeric(r[j]) or r[j] in ("", "-")
-                                                             for r in rows)}
-        else:
-            numeric = set(b.numeric)
-        out = ["<table>"]
-        if b.caption:
-            out.append(f"<caption>{_e(b.caption)}</caption>")
-        out.append("<thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in b.headers) + "</tr></thead><tbody>")
-        for r in rows:
-            cells = []
-            for j, c in enumerate(r):
-                if j == b.status_column:
-                    cells.append(f"<td>{_status(c)}</td>")
-                else:
-                    cells.append(f'<td class="num">{_e(c)}</td>' if j in numeric else f"<td>{_e(c)}</td>")
-            out.append("<tr>" + "".join(cells) + "</tr>")
-        out.append("</tbody></table>")
-        return "".join(out)
-    if isinstance(b, KeyValues):
-        out = ['<table class="kv">']
-        if b.caption:
-            out.append(f"<caption>{_e(b.caption)}</caption>")
-        out += [f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in b.rows]
-        out.append("</table>")
-        return "".join(out)
-    if isinstance(b, Figure):
-        data = base64.b64encode(b.data()).decode("ascii")
-        alt = b.alt or b.caption or "figure"
-        cap = f"<figcaption>{_e(b.caption)}</figcaption>" if b.caption else ""
-        return f'<figure><img alt="{_e(alt)}" src="data:image/png;base64,{data}">{cap}</figure>'
-    if isinstance(b, Notice):
-        kind = "note" if b.kind == "note" else "caution"
-        head = f"<h3>{_e(b.heading)}</h3>" if b.heading else ""
-        items = "".join(f"<li>{_e(i)}</li>" for i in b.items)
-        return f'<div class="notice {kind}" role="note">{head}<ul>{items}</ul></div>'
-    if isinstance(b, Tiles):
-        out = ['<div class="tiles">']
-        for label, value, detail, status in b.items:
-            cls = f" {status}" if status in ("pass", "fail") else ""
-            out.append(f'<div class="tile{cls}"><div class="label">{_e(label)}</div>'
-                       f'<div class="value">{_e(value)}</div><div class="detail">{_e(detail)}</div></div>')
-        out.append("</div>")
-        return "".join(out)
-    raise InputError(f"a report block must be Paragraph, Table, KeyValues, Figure, Notice or Tiles, got {b!r}")
-
-
-def render_html(report: Report) -> str:
-    """The report as one self-contained HTML document (a string).
-
-    Nothing outside the file is referenced: the style sheet is inline and figures are data URIs. A
-    ``Content-Security-Policy`` meta element forbids scripts and any outside resource.
-    """
-    from .. import __version__
-
-    footer = report.footer or (f"Written by planar {__version__} on "
-                               f"{_dt.datetime.now().astimezone().strftime('%Y-%m-%d %H:%M %Z').strip()}.")
-    parts = [
-        "<!DOCTYPE html>",
-        '<html lang="en"><head><meta charset="utf-8">',
-        '<meta http-equiv="Content-Security-Policy" content="default-src \'none\'; img-src data:; '
-        'style-src \'unsafe-inline\'">',
-        '<meta name="viewport" content="width=device-width, initial-scale=1">',
-        f'<meta name="generator" content="planar {_e(__version__)}">',
-        f"<title>{_e(report.title)}</title><style>{_CSS}</style></head><body><main>",
-        f"<header><h1>{_e(report.title)}</h1>"
-        + (f'<p class="subtitle">{_e(report.subtitle)}</p>' if report.subtitle else "") + "</header>",
-    ]
-    for i, sec in enumerate(report.sections, 1):
-        anchor = f"s{i}"
-        parts.append(f'<section id="{anchor}"><h2>{i}. {_e(sec.title)}</h2>')
-        parts += [_render_block(b) for b in sec.blocks]
-        parts.append("</section>")
-    parts.append(f"<footer>{_e(footer)}</footer></main></body></html>")
-    return "\n".join(parts) + "\n"
-
-
-def write_report(path: str | os.PathLike, report: Report) -> Path:
-    """Write the report as a self-contained HTML file, atomically.
-
-    Parameters
-    ----------
-    path : path
-        Target file, normally ending in ``.html``.
-    report : Report
-
-    Returns
-    -------
-    Path
-    """
-    path = Path(path)
-    if path.suffix.lower() not in (".html", ".htm"):
-        raise InputError(f"the report is an HTML file; give a name ending in .html, got {str(path)!r}")
-    return atomic_write_text(path, render_html(report))
+from ._blocks import (Block, Figure, KeyValues, Notice, Paragraph, Report, Section, SignOff, Table,
+                      Tiles, render_html, write_report, PAGE_SIZES)
 
 
 # ---------------------------------------------------------------------------------------- stress check
@@ -339,20 +63,11 @@ def _g(v: float, digits: int = 4) -> str:
     return f"{v:.{digits}g}"
 
 
-def describe_model_rows(model) -> list[tuple[str, str]]:
-    """Label/value rows of what was analysed, from ``model.describe()``."""
-    d = model.describe()
-    system = getattr(model, "unit_system", None)  # its units, mass, density and g, or "units not stated"
-    rows = [("analysis", d.get("analysis", "")),
-            ("units", system.describe() if system is not None else d.get("units", ""))]
-    for region, sec in d.get("regions", {}).items():
-        rows.append((f"material ({region})", str(sec.get("material", ""))))
-        rows.append((f"thickness ({region})", _g(float(sec.get("thickness", 0.0)))))
-    sup = d.get("supports", [])
-    rows.append(("supports (essential conditions)", "; ".join(map(str, sup)) or "none"))
-    for case, loads in d.get("cases", {}).items():
-        rows.append((f"loads, case '{case}' (natural conditions)", "; ".join(map(str, loads)) or "none"))
-    return rows
+def describe_model_rows(model, case: str | None = None) -> list[tuple[str, str]]:
+    """Label/value rows of what was analysed, in plain words with units (:func:`planar.post.inputs.input_rows`)."""
+    from .inputs import input_rows
+
+    return input_rows(model, case)
 
 
 def equilibrium_table(result) -> Table:
@@ -415,88 +130,460 @@ def warnings_section(warnings: Sequence[Any]) -> Section:
         Table(["code", "message"], rows, caption="Each warning names the concern, where it is and the fix.")])
 
 
-def stress_check_report(result, *, title: str, subtitle: str = "",
+# ---------------------------------------------------------------------------------------- the complete check
+#: the sections of :func:`stress_check_report`, by the key ``omit=`` names them with
+SECTION_KEYS = ("summary", "warnings", "what was analysed", "mesh", "results", "hot spots", "checks", "contact",
+                "joints", "convergence", "equilibrium", "cautions", "run details", "sign-off")
+_FIELD_WORDS = {"von_mises": "von Mises stress", "tresca": "Tresca stress", "sigma_1": "largest principal stress",
+                "sigma_2": "smallest principal stress"}
+
+
+def _png(fig) -> bytes:
+    from .plots import figure_png
+
+    try:
+        return figure_png(fig)
+    finally:
+        import matplotlib.pyplot as plt
+
+        plt.close(fig)
+
+
+def _units(result) -> tuple[str, str, str]:
+    """(stress, length, force) units of a result ("" when not stated)."""
+    s = result.unit_system
+    return s.unit_of("stress"), s.unit_of("length"), s.unit_of("force")
+
+
+def _pt(p, length: str) -> str:
+    return f"({p[0]:.4g}, {p[1]:.4g})" + (f" {length}" if length else "")
+
+
+def _spots(result, given, field, recovery, nominal, allowable, factor_of_safety):
+    """The hot spots to report: the caller's, none (False), or found here; with the reason when none can be."""
+    if given is False:
+        return None, ""
+    if given is not None:
+        return given, ""
+    from .hotspots import hot_spots
+
+    try:
+        return hot_spots(result, field, recovery=recovery, nominal=nominal, allowable=allowable,
+                         factor_of_safety=factor_of_safety), ""
+    except InputError as exc:
+        return None, str(exc)
+
+
+def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) -> list:
+    """Headline tiles: the governing spot, its Kt and margin, the other features' peaks, the largest motion."""
+    import numpy as np
+
+    from ..core.units import field_unit
+
+    stress, length, _ = _units(result)
+    if hs is not None and not isinstance(hs, Section):  # the spots say what they were found with
+        field, nominal = getattr(hs, "field", field), getattr(hs, "nominal", nominal)
+        allowable, factor_of_safety = getattr(hs, "allowable", allowable), getattr(hs, "factor_of_safety", 1.0)
+    unit = field_unit(field, result.unit_system) if result.unit_system.stated else ""
+    word = _FIELD_WORDS.get(field, field)
+    u = f" {unit}" if unit else ""
+    tiles = []
+    spots = list(getattr(hs, "spots", []) or []) if hs is not None and not isinstance(hs, Section) else []
+    if spots:
+        gov = hs.governing
+        first = gov if gov is not None else spots[0]
+        detail = f"{first.feature}, at {_pt(first.location, length)}"
+        if first.flagged:
+            detail += f"; made by the idealisation next to it ({first.next_to})"
+        tiles.append((f"governing {word}" if gov is not None else f"highest {word} (every spot flagged)",
+                      f"{first.value:.4g}{u}", detail, ""))
+        if first.Kt is not None:
+            tiles.append((f"Kt, {first.feature}", f"{first.Kt:.3f}", f"peak / nominal {nominal:.4g}{u}", ""))
+        if first.margin is not None:
+            tiles.append((f"margin of safety, {first.feature}", f"{first.margin:+.2f}",
+                          f"allowable {allowable:.4g}{u}, factor of safety {factor_of_safety:g}",
+                          "pass" if first.margin >= 0 else "fail"))
+        if gov is None:  # every spot is made by how the part is held or loaded: say what the part carries away from them
+            from ..core.zones import Away
+
+            try:
+                away = result.max(field, recovery=recovery, where=Away())
+                tiles.append((f"highest {word} away from supports and point loads", f"{away.value:.4g}{u}",
+                              f"at {_pt(away.location, length)}", ""))
+            except InputError:  # the whole part lies next to them
+                pass
+        seen = {first.feature}
+        for s in spots:
+            if s.feature in seen or len(tiles) >= 5:
+                continue
+            seen.add(s.feature)
+            extra = [f"at {_pt(s.location, length)}"]
+            if s.Kt is not None:
+                extra.append(f"Kt {s.Kt:.3f}")
+            if s.margin is not None:
+                extra.append(f"margin {s.margin:+.2f}")
+            if s.flagged:
+                extra.append("flagged: made by the idealisation")
+            tiles.append((f"{word}, {s.feature}", f"{s.value:.4g}{u}", "; ".join(extra),
+                          "" if s.margin is None or s.flagged else ("pass" if s.margin >= 0 else "fail")))
+    else:
+        peak = result.max(field, recovery=recovery)
+        detail = f"at {_pt(peak.location, length)}" + (f"; it sits {peak.note}" if peak.note else "")
+        tiles.append((f"peak {word}", f"{peak.value:.4g}{u}", detail, ""))
+    umax = float(np.sqrt((np.asarray(result.u, float) ** 2).sum(axis=1)).max())
+    tiles.append(("largest displacement", f"{umax:.4g}" + (f" {length}" if length else ""),
+                  f"load case '{result.case}'", ""))
+    return tiles
+
+
+def _model_picture(result, picture, fasteners=None):
+    """The picture of the model with its supports, pins and loads as symbols (a Figure), or None."""
+    if picture is False:
+        return None
+    if isinstance(picture, Figure):
+        return picture
+    if picture is not None:
+        return Figure(picture, "The model: supports, pins and loads.")
+    model = result.model
+    try:
+        from .picture import plot_model
+    except ImportError:  # no model-picture module: the stress contour stands in for it
+        from .plots import plot_field
+
+        fig = plot_field(result, "von_mises", mesh_lines=False)
+        return Figure(_png(fig), "von Mises stress on the deformed shape (no picture of the supports and loads "
+                                 "is available in this installation).")
+    case = result.case if result.case in model.cases else None
+    fig = plot_model(model, case=case, fasteners=fasteners)
+    return Figure(_png(fig), "The model as analysed: outline, named edges, supports, pins and loads drawn as "
+                             "symbols" + (f" (load case '{case}')" if case else "") + ".")
+
+
+def _mesh_section(result, mesh_rows) -> Section:
+    from ..core.registry import element_type
+    from .meshquality import mesh_quality
+
+    mesh = result.mesh
+    _, length, _ = _units(result)
+    kinds = []
+    for t, b in mesh.cells.items():
+        try:
+            et = element_type(t)
+            what = f"{'quadratic' if et.degree == 2 else 'linear' if et.degree == 1 else f'degree {et.degree}'} " \
+                   f"{'triangles' if et.cell == 'triangle' else 'quadrilaterals'}"
+        except Exception:  # noqa: BLE001 - a layout the registry does not know: named as it is
+            what = "elements"
+        kinds.append(f"{b.shape[0]} {t} ({what})")
+    x0, y0, x1, y1 = mesh.bounding_box()
+    rows = [("elements by type", ", ".join(kinds)), ("elements in all", str(mesh.n_cells)),
+            ("nodes", str(mesh.n_nodes)),
+            ("unknowns (two displacements per node, before supports)", str(result.n_dofs))]
+    free = getattr(result, "n_free", None)
+    if free is not None:
+        rows.append(("free unknowns solved", str(free)))
+    rows += [("extent of the mesh", f"x {x0:g} to {x1:g}, y {y0:g} to {y1:g}" + (f" {length}" if length else "")),
+             ("named edges", ", ".join(sorted(mesh.edge_sets)) or "-")]
+    rows += [(str(k), str(v)) for k, v in mesh_rows]
+    q = mesh_quality(mesh)
+    return Section("Mesh", [KeyValues(rows, caption="Elements, nodes and unknowns"),
+                            KeyValues(q.rows(length), caption="Worst element shapes: aspect ratio (1 for an "
+                                      "equilateral triangle or a square), Jacobian ratio (smallest over largest "
+                                      "determinant in the element; 1 undistorted) and corner angles")])
+
+
+def _auto_results(result, field, recovery) -> list:
+    from .plots import plot_field
+
+    stress, length, _ = _units(result)
+    su = f" [{stress}]" if stress else ""
+    rows = []
+    names = {"von_mises": "von Mises stress", "sigma_1": "sigma_1 (largest principal stress)",
+             "sigma_2": "sigma_2 (smallest principal stress)"}
+    for f, how in (("von_mises", "max"), ("sigma_1", "max"), ("sigma_2", "min"), ("sigma_xx", "max"),
+                   ("sigma_xx", "min"), ("sigma_yy", "max"), ("sigma_yy", "min"), ("tau_xy", "max"), ("tau_xy", "min")):
+        e = result.max(f, recovery=recovery) if how == "max" else result.min(f, recovery=recovery)
+        remark = e.note.split(":")[0] + ": made by the idealisation" if e.note else ""
+        rows.append([f"{names.get(f, f)}, {'highest' if how == 'max' else 'lowest'}{su}", f"{e.value:.5g}",
+                     _pt(e.location, length), remark])
+    fig = plot_field(result, field, recovery=recovery)
+    return [Table(["quantity", "value", "where", "remark"], rows,
+                  caption=f"Extremes of the stresses over the whole part, load case '{result.case}' ({recovery} "
+                          "recovery); a remark says when a value is made by how the part is held or loaded.",
+                  numeric=[1]),
+            Figure(_png(fig), f"{_FIELD_WORDS.get(field, field)} on the deformed shape, load case "
+                              f"'{result.case}'; the magnification is stated on the picture.")]
+
+
+def _convergence_blocks(convergence) -> list:
+    """Blocks of convergence evidence: given blocks as they are, a GridConvergence as a table with its verdict."""
+    if convergence is None:
+        return []
+    items = [convergence] if hasattr(convergence, "verdict") else list(convergence)
+    out = []
+    for c in items:
+        if not hasattr(c, "verdict"):
+            out.append(c)
+            continue
+        u = f" {c.unit}" if c.unit else ""
+        rows = [[str(i + 1), "-" if c.dofs is None else str(int(c.dofs[i])), f"{c.sizes[i] / c.sizes[0]:.4g}",
+                 f"{c.values[i]:.6g}"] for i in range(len(c.values))]
+        out.append(Table(["mesh", "unknowns", "size / finest size", f"{c.name}" + (f" [{c.unit}]" if c.unit else "")],
+                         rows, caption=f"Convergence study of {c.name}, finest mesh first.", numeric=[1, 2, 3]))
+        lo, hi = c.band()
+        kv = [("behaviour", c.kind), ("observed order", f"{c.order:.3g}" if c.order == c.order else "-"),
+              ("verdict", c.verdict)]
+        if c.asymptotic:
+            kv += [("Richardson extrapolation", f"{c.extrapolated:.6g}{u}"),
+                   ("grid convergence index, finest mesh", f"{100 * c.gci_fine:.3g} %"),
+                   ("band on the finest value", f"{lo:.6g} to {hi:.6g}{u}")]
+        else:
+            kv += [("grid convergence index", "none claimed: not in the asymptotic range"),
+                   ("spread of the finest values", f"{c.uncertainty:.4g}{u}")]
+        out.append(KeyValues(kv, caption="Convergence verdict (P. J. Roache, 1998; I. B. Celik et al., J. Fluids "
+                                         "Eng. 130, 2008)"))
+        if c.notes:
+            out.append(Notice(list(c.notes), kind="note"))
+    return out
+
+
+def _table_of(title: str, thing) -> Section | None:
+    """A section for contact states or joints: the object's own section, or a table of its records."""
+    if thing is None:
+        return None
+    if isinstance(thing, Section):
+        return thing
+    own = getattr(thing, "section", None)
+    if callable(own):
+        return own()
+    for attr in ("fastener_table", "table_rows", "as_rows", "records"):
+        got = getattr(thing, attr, None)
+        if got is not None:
+            thing = got() if callable(got) else got
+            break
+    rows = [r.as_dict() if hasattr(r, "as_dict") else dict(r) for r in thing] if thing is not None else []
+    if not rows:
+        return None
+    heads = list(dict.fromkeys(k for r in rows for k in r))
+
+    def cell(v):
+        if isinstance(v, float):
+            return f"{v:.5g}"
+        if isinstance(v, (tuple, list)):
+            return "(" + ", ".join(cell(x) for x in v) + ")"
+        return "-" if v is None else str(v)
+
+    return Section(title, [Table(heads, [[cell(r.get(h)) for h in heads] for r in rows])])
+
+
+def _plain_text(sections: list, names: dict[str, str]) -> None:
+    """Replace the Python spellings of supports, pins and loads in the text of every block by plain words."""
+    if not names:
+        return
+    import re
+
+    pattern = re.compile("|".join(re.escape(k) for k in names))
+
+    def fix(text):
+        return pattern.sub(lambda m: names[m.group(0)], text) if isinstance(text, str) else text
+
+    for sec in sections:
+        for b in sec.blocks:
+            if isinstance(b, Paragraph):
+                b.text = fix(b.text)
+            elif isinstance(b, Table):
+                b.caption = fix(b.caption)
+                b.headers = [fix(h) for h in b.headers]
+                b.rows = [[fix(str(c)) for c in r] for r in b.rows]
+            elif isinstance(b, KeyValues):
+                b.caption = fix(b.caption)
+                b.rows = [(fix(str(k)), fix(str(v))) for k, v in b.rows]
+            elif isinstance(b, Notice):
+                b.items = [fix(i) for i in b.items]
+            elif isinstance(b, Tiles):
+                b.items = [tuple(fix(str(c)) for c in item) for item in b.items]
+
+
+def _once(sections: list, cautions: Sequence[str]) -> None:
+    """The scope caution is said once, in its own section: drop its repetitions from other blocks."""
+    from .scope import CAUTION
+
+    for sec in sections:
+        keep = []
+        for b in sec.blocks:
+            if isinstance(b, Paragraph) and CAUTION in b.text:
+                b = Paragraph(b.text.replace(CAUTION, "").strip())
+                if not b.text:
+                    continue
+            if isinstance(b, Notice) and sec.title != "Cautions and limits":
+                items = [i.replace(CAUTION, "").strip() for i in b.items]
+                items = [i for i in items if i and i not in cautions]
+                if not items:
+                    continue
+                b = Notice(items, b.kind, b.heading)
+            keep.append(b)
+        sec.blocks = keep
+
+
+def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
                         part: Sequence[tuple[str, Any]] = (),
-                        headline: Sequence[tuple[str, str, str, str]] = (),
-                        results: Sequence[Block] = (),
+                        headline: Sequence[tuple[str, str, str, str]] | None = None,
+                        results: Sequence[Block] | None = None,
                         checks: Sequence[Block] = (),
-                        convergence: Sequence[Block] = (),
+                        convergence: Any = (),
                         mesh_rows: Sequence[tuple[str, Any]] = (),
                         extra_sections: Sequence[Section] = (),
                         run_rows: Sequence[tuple[str, Any]] = (),
                         cautions: Iterable[str] = CAUTIONS,
-                        hot_spots: Any = None) -> Report:
-    """The usual sections of a stress check around one result.
+                        hot_spots: Any = None,
+                        field: str = "von_mises", recovery: str = "spr",
+                        nominal: float | None = None, allowable: float | None = None,
+                        factor_of_safety: float = 1.0,
+                        picture: Any = None, fasteners: Any = None,
+                        contact: Any = None, joints: Any = None,
+                        prepared_by: str = "", checked_by: str = "", approved_by: str = "",
+                        revision: str = "", signed_date: str = "",
+                        script: str | os.PathLike | None = None,
+                        omit: Iterable[str] = (), page: str = "A4") -> Report:
+    """The complete stress check of one result, built from the model and the result.
+
+    With the result alone it gives: summary tiles (the governing hot spot by feature, with Kt when
+    ``nominal`` is given and the margin of safety when ``allowable`` is given, the other features'
+    peaks, the largest displacement); a picture of the model with its supports, pins and loads as
+    symbols; the inputs in plain words with units (materials and thicknesses per region, supports,
+    pins, load cases and loads); the mesh (elements by type, nodes, unknowns, the worst aspect
+    ratio, Jacobian ratio and corner angles); the extremes of the stresses and a contour; the
+    hot-spot table; contact and joint tables when given or present on the result; the convergence
+    evidence when given, with its verdict; the equilibrium of forces and moment and the reaction
+    of each support and pin; the warnings of the solve; the cautions, once; the date, the script
+    and its SHA-256 digest, the versions of planar, gmsh, numpy, scipy and the solver back end; and
+    a sign-off block (filled when names are given, blank lines otherwise). Printed, every page
+    carries the title, the revision and "page N of M".
 
     Parameters
     ----------
     result : Result
-        The load case checked; gives the model description, mesh, unknowns and equilibrium.
-    title, subtitle : str
+        The load case (or combination) checked.
+    title, subtitle : str, optional
+        Default title: "Stress check, load case '<case>'".
     part : sequence of (label, value)
-        Geometry summary of the part (dimensions, features), shown first under "What was analysed".
-    headline : sequence of (label, value, detail, status)
-        Headline figures shown at the top (peak stress, Kt, margin of safety, error, ...).
-    results, checks, convergence : sequence of blocks
-        Content of the sections "Results", "Checks against handbook values and allowables" and
-        "Convergence evidence" (figures, tables, paragraphs); a section with no blocks is left out,
-        except "Convergence evidence", which then states that no study was made.
-    mesh_rows : sequence of (label, value)
-        More rows for the "Mesh" section.
+        Geometry summary of the part, shown first under "What was analysed".
+    headline : sequence of (label, value, detail, status), optional
+        Replaces the summary tiles found from the hot spots.
+    results : sequence of blocks, optional
+        Replaces the section "Results" (default: the extremes of the stresses and a contour of ``field``).
+    checks : sequence of blocks
+        Section "Checks against handbook values and allowables" (left out when empty).
+    convergence : GridConvergence, or a sequence of them or of blocks
+        Convergence evidence; a study is tabled with its verdict (including "not in the asymptotic
+        range"). Without it the section says that no study was made.
+    mesh_rows, run_rows : sequence of (label, value)
+        More rows for the "Mesh" and "Run details" sections.
     extra_sections : sequence of Section
         Placed before the cautions.
-    run_rows : sequence of (label, value)
-        Run details (times, versions) for the last section.
     cautions : iterable of str
-        Default :data:`CAUTIONS`.
-    hot_spots : HotSpots or Section, optional
-        The hot spots of the result (:func:`planar.post.hot_spots`), tabled in a section "Hot spots"
-        after "Results" (or a section made by :func:`planar.post.hot_spot_section`, e.g. with its figure).
+        Default :data:`CAUTIONS`; said once, in their own section.
+    hot_spots : HotSpots, Section or False, optional
+        The hot spots of the result; default :func:`planar.post.hot_spots` of ``field`` with
+        ``nominal``, ``allowable`` and ``factor_of_safety``; False leaves them out.
+    field, recovery : str
+        The stress field the summary, the hot spots and the contour read (default von Mises, SPR).
+    nominal : float, optional
+        Nominal stress for Kt (value / nominal) in the model's stress unit.
+    allowable, factor_of_safety : float, optional
+        For the margins of safety, allowable / (factor_of_safety x value) - 1.
+    picture : Figure, PNG bytes or path, or False, optional
+        The model picture (default drawn by :func:`planar.post.picture.plot_model`).
+    fasteners : iterable of (x, y), optional
+        Fastener positions drawn on the model picture.
+    contact, joints : optional
+        Contact states (default ``result.contact_states`` when present) and a joint result (its
+        ``section()``, or its fastener table): each gets a section when given.
+    prepared_by, checked_by, approved_by, revision, signed_date : str
+        The sign-off block; the revision is also printed on every page.
+    script : path, optional
+        The script whose name and digest are reported (default the running script).
+    omit : iterable of str
+        Sections to leave out, by key (:data:`SECTION_KEYS`) or title.
+    page : str
+        Printed page size ("A4", "Letter", ...).
 
     Returns
     -------
     Report
     """
+    from ..core.errors import unknown_name
+
     result = as_result(result, "stress_check_report")
     model = result.model
-    mesh = result.mesh
-    blocks_top: list = []
-    if headline:
-        blocks_top.append(Tiles(list(headline)))
-    blocks_top.append(Notice([SCOPE_NOTE], kind="note"))
-    sections = [Section("Summary", blocks_top)]
+    omit = {str(o).strip().lower() for o in ([omit] if isinstance(omit, str) else omit)}
+    known = set(SECTION_KEYS)
+    for o in omit:
+        if o not in known and o not in {"checks against handbook values and allowables", "convergence evidence",
+                                        "cautions and limits"}:
+            raise unknown_name("report section", o, SECTION_KEYS)
+    want = lambda key: key not in omit  # noqa: E731
+    cautions = list(cautions)
+    if title is None:
+        title = f"Stress check, load case '{result.case}'"
+    hs, no_spots = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
+    top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
+                                                              factor_of_safety))]
+    top.append(Notice([SCOPE_NOTE], kind="note"))
+    sections = [Section("Summary", top)]
     if getattr(result, "warnings", None):
         sections.append(warnings_section(result.warnings))
-    sections.append(Section("What was analysed", [
-        KeyValues(list(part), caption="The part") if part else Paragraph("Geometry as given by the script."),
-        KeyValues(describe_model_rows(model), caption="Model: analysis, material, thickness, supports and loads"),
-    ]))
-    blocks = ", ".join(f"{b.shape[0]} {t}" for t, b in mesh.cells.items())
-    x0, y0, x1, y1 = mesh.bounding_box()
-    free = getattr(result, "n_free", None)
-    rows = [("elements", blocks), ("nodes", str(mesh.n_nodes)),
-            ("unknowns (two displacements per node, before supports)", str(result.n_dofs)),
-            ("extent of the mesh", f"x {x0:g} to {x1:g}, y {y0:g} to {y1:g}"
-                                   + (f" [{result.unit_system.length}]" if result.unit_system.stated else "")),
-            ("named edges", ", ".join(sorted(mesh.edge_sets)) or "-")]
-    if free is not None:
-        rows.insert(3, ("free unknowns solved", str(free)))
-    rows += [(str(k), str(v)) for k, v in mesh_rows]
-    sections.append(Section("Mesh", [KeyValues(rows)]))
-    if results:
-        sections.append(Section("Results", list(results)))
-    if hot_spots is not None:  # a HotSpots tables itself (planar.post.hotspots.hot_spot_section)
-        sections.append(hot_spots if isinstance(hot_spots, Section) else hot_spots.section())
+    analysed: list = [KeyValues(list(part), caption="The part")] if part else []
+    pic = _model_picture(result, picture, fasteners)
+    if pic is not None:
+        analysed.append(pic)
+    analysed.append(KeyValues(describe_model_rows(model, result.case),
+                              caption="Inputs: analysis, units, materials and thicknesses, supports, pins, load "
+                                      "cases and loads"))
+    factors = getattr(result, "factors", None)
+    if factors:
+        terms = " + ".join(f"{f:g} x {c}" for c, f in factors.items()).replace("+ -", "- ")
+        analysed.append(KeyValues([("combination", f"{result.case} = {terms}")],
+                                  caption="Load combination checked (linear superposition of the solved cases)"))
+    sections.append(Section("What was analysed", analysed))
+    sections.append(_mesh_section(result, mesh_rows))
+    res_blocks = list(results) if results is not None else _auto_results(result, field, recovery)
+    if res_blocks:
+        sections.append(Section("Results", res_blocks))
+    if isinstance(hs, Section):
+        sections.append(hs)
+    elif hs is not None:
+        sections.append(hs.section())
+    elif no_spots:
+        sections.append(Section("Hot spots", [Paragraph(f"No hot spots could be found: {no_spots}")]))
     if checks:
         sections.append(Section("Checks against handbook values and allowables", list(checks)))
-    sections.append(Section("Convergence evidence", list(convergence) or [
+    if contact is None:
+        contact = getattr(result, "contact_states", None)
+    for key, title_, thing in (("contact", "Contact", contact), ("joints", "Joints and fasteners", joints)):
+        sec = _table_of(title_, thing)
+        if sec is not None:
+            sec.title = title_ if sec.title in ("", None) else sec.title
+            sections.append(sec)
+    sections.append(Section("Convergence evidence", _convergence_blocks(convergence) or [
         Paragraph("No convergence study was made for this report: the figures above come from one "
                   "mesh, and their discretisation error is not shown.")]))
     sections.append(Section("Equilibrium", [equilibrium_table(result)]
                             + ([reactions_table(result)] if hasattr(result, "support_reactions") else [])))
     sections += list(extra_sections)
-    sections.append(Section("Cautions and limits", [Notice(list(cautions), heading="Read before using these results")]))
-    run = [("load case", result.case), ("solver", getattr(result, "solver", "") or "-")] + \
-          [(str(k), str(v)) for k, v in run_rows]
-    sections.append(Section("Run details", [KeyValues(run)]))
-    return Report(title, subtitle, sections)
+    _once(sections, cautions)
+    from .inputs import plain_names
+
+    _plain_text(sections, plain_names(model))
+    sections.append(Section("Cautions and limits", [Notice(cautions, heading="Read before using these results")]))
+    from .provenance import provenance_rows
+
+    run = [("load case", str(result.case))] + [(str(k), str(v)) for k, v in run_rows] + provenance_rows(result, script)
+    sections.append(Section("Run details", [KeyValues(run, caption="What made this report")]))
+    sections.append(Section("Sign-off", [SignOff(prepared_by, checked_by, approved_by, revision, signed_date)]))
+    keys = {"Summary": "summary", "Warnings": "warnings", "What was analysed": "what was analysed", "Mesh": "mesh",
+            "Results": "results", "Hot spots": "hot spots", "Checks against handbook values and allowables": "checks",
+            "Contact": "contact", "Joints and fasteners": "joints", "Convergence evidence": "convergence",
+            "Equilibrium": "equilibrium", "Cautions and limits": "cautions", "Run details": "run details",
+            "Sign-off": "sign-off"}
+    sections = [s for s in sections if want(keys.get(s.title, s.title.lower())) and want(s.title.lower())]
+    return Report(title, subtitle, sections, revision=revision, page=page)

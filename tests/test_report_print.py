@@ -1,0 +1,273 @@
+"""The stress-check report printed to PDF by real headless Chromium, and read back from the PDF.
+
+Two reports are printed: a bolted bracket of our own (a plate held by two bolts, modelled as pins,
+and loaded at its free end) made by ``stress_check_report(result)`` with nothing else, and the
+demo's report. From the PDF's text and layout (pypdf) the tests check what a checker relies on
+(common practice for a signed calculation): every page says "page N of M" and carries the title
+and the revision; no figure is split across a page break (each is drawn once, wholly inside the
+page's printable area); no table row is split (its first and last cells print on one page); a
+table that runs on to another page repeats its header there; the text states the unit of every
+input, holds no Python spelling of a support or load (``Fixed(``, ``Traction(``, ``=None``), and
+carries the sign-off block and the versions.
+
+Equilibrium of the bracket (common practice, statics): the two bolts carry the end load, their
+reactions add up to it.
+"""
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+import unicodedata
+
+import numpy as np
+import pytest
+
+import planar
+from planar.post import stress_check_report, write_report
+from planar.post.report import Figure, KeyValues, Table
+from planar.post.inputs import input_rows
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+pypdf = pytest.importorskip("pypdf", reason="pypdf reads the printed PDF (pip install pypdf; the test extras have it)")
+
+#: the printed page margins of the report's style sheet (18 mm top, 15 mm sides, 17 mm bottom), in points
+MM = 72.0 / 25.4
+FORBIDDEN = ("Fixed(", "Roller(", "Traction(", "Pressure(", "PointForce(", "Pin(", "PinLoad(", "=None", "Isotropic(")
+
+
+def print_pdf(html_path, tmp_path):
+    """Print a local HTML file to PDF with headless Chromium; skip when it is not installed."""
+    if CHROMIUM is None:
+        pytest.skip("chromium is not installed (apt-get install chromium); CI installs it")
+    pdf = tmp_path / (html_path.stem + ".pdf")
+    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--disable-extensions",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={tmp_path / 'chromium-profile'}", "--no-pdf-header-footer",
+           f"--print-to-pdf={pdf}", html_path.resolve().as_uri()]
+    proc = subprocess.run(cmd, capture_output=True, text=True, timeout=120)
+    assert pdf.exists() and pdf.stat().st_size > 0, f"chromium printed no PDF (exit {proc.returncode}): " \
+                                                    f"{proc.stderr[-2000:]}"
+    return pdf
+
+
+def _norm(text: str) -> str:
+    return re.sub(r"\s+", " ", unicodedata.normalize("NFKC", text)).strip()
+
+
+def read_pdf(path):
+    """Per page: its normalised text, its size, and the boxes (x0, y0, x1, y1) of the images drawn on it."""
+    reader = pypdf.PdfReader(str(path))
+    pages = []
+    for page in reader.pages:
+        boxes, stack, ctm = [], [], [np.eye(3)]
+
+        def before(op, args, cm, tm):
+            if op == b"q":
+                stack.append(ctm[0].copy())
+            elif op == b"Q" and stack:
+                ctm[0] = stack.pop()
+            elif op == b"cm":
+                a, b, c, d, e, f = (float(v) for v in args)
+                ctm[0] = np.array([[a, b, 0], [c, d, 0], [e, f, 1]]) @ ctm[0]
+            elif op == b"Do":
+                name = args[0]
+                xobj = page["/Resources"]["/XObject"][name].get_object()
+                if xobj.get("/Subtype") == "/Image":
+                    corners = np.array([[0, 0, 1], [1, 0, 1], [0, 1, 1], [1, 1, 1]]) @ ctm[0]
+                    boxes.append((corners[:, 0].min(), corners[:, 1].min(), corners[:, 0].max(), corners[:, 1].max()))
+
+        page.extract_text(visitor_operand_before=before)
+        box = page.mediabox
+        pages.append({"text": _norm(page.extract_text()), "width": float(box.width), "height": float(box.height),
+                      "images": boxes})
+    return pages
+
+
+def _cells(block) -> list[list[str]]:
+    if isinstance(block, Table):
+        return [[str(c) for c in r] for r in block.rows]
+    if isinstance(block, KeyValues):
+        return [[str(k), str(v)] for k, v in block.rows]
+    return []
+
+
+def check_pages(pages, title: str, revision: str, captions) -> None:
+    """Every page numbered "page N of M" with the title and revision; each figure drawn once, whole, inside the
+    printable area, on the page of its caption (``captions`` in document order)."""
+    n = len(pages)
+    assert n >= 2
+    title, revision = _norm(title), f"revision {revision}" if revision else "revision -"
+    for i, p in enumerate(pages, 1):
+        assert f"page {i} of {n}" in p["text"], f"page {i} has no page number"
+        assert title in p["text"] and revision in p["text"], f"page {i} lacks the title or the revision"
+    drawn = [(k, box) for k, p in enumerate(pages) for box in p["images"]]
+    assert len(drawn) == len(captions), f"{len(captions)} figures but {len(drawn)} images drawn: one is split"
+    drawn.sort(key=lambda kb: (kb[0], -kb[1][3]))  # in reading order: page, then top down
+    for caption, (k, (x0, y0, x1, y1)) in zip(captions, drawn):
+        w, h = pages[k]["width"], pages[k]["height"]
+        assert x0 >= 15 * MM - 1 and x1 <= w - 15 * MM + 1, f"a figure on page {k + 1} runs past the side margins"
+        assert y0 >= 17 * MM - 1 and y1 <= h - 18 * MM + 1, f"a figure on page {k + 1} runs past a page break"
+        caption = _norm(caption)[:50]
+        assert caption in pages[k]["text"], f"the caption {caption!r} is not on the page of its figure ({k + 1})"
+
+
+def check_printed(report, pages) -> None:
+    """The print-layout checks shared by both reports (see the module notes)."""
+    figures = [b for s in report.sections for b in s.blocks if isinstance(b, Figure)]
+    check_pages(pages, report.title, report.revision, [f.caption for f in figures])
+    # table rows: the first and the last cell of a row print on one page (pieces found once in the document)
+    text = [p["text"] for p in pages]
+    checked = 0
+    for sec in report.sections:
+        for block in sec.blocks:
+            head = _norm(" ".join(block.headers)) if isinstance(block, Table) else ""
+            row_pages = set()
+            for row in _cells(block):
+                first, last = _norm(row[0])[:40], _norm(row[-1])[-40:]
+                if len(first) < 6 or len(last) < 6:
+                    continue
+                on_first = [k for k, t in enumerate(text) if first in t]
+                on_last = [k for k, t in enumerate(text) if last in t]
+                if len(on_first) != 1 or len(on_last) != 1:
+                    continue  # not unique in the document: this row cannot be located
+                checked += 1
+                assert on_first == on_last, f"row {row[0]!r} is split across pages {on_first[0] + 1} and " \
+                                            f"{on_last[0] + 1}"
+                row_pages.add(on_first[0])
+            if head and len(row_pages) > 1:  # a table that runs on repeats its header on every page it spans
+                for k in row_pages:
+                    assert head in text[k], f"table {block.caption[:40]!r} has no header on page {k + 1}"
+    assert checked >= 10, f"only {checked} rows could be located in the PDF"
+
+
+def check_words(report, pages, model) -> str:
+    """Text checks: inputs with their units, no Python spellings, the sign-off block, the versions."""
+    whole = " ".join(p["text"] for p in pages)
+    for bad in FORBIDDEN:
+        assert bad not in whole, f"the PDF prints Python code: {bad!r}"
+    for label, value in input_rows(model):
+        assert _norm(value) in whole, f"input {label!r} is not printed in full: {value!r}"
+    units = model.unit_system
+    for k, sec in enumerate([model.section(r) for r in model.mesh.region_names()]):
+        assert f"E = {sec.material.E:.6g} {units.stress}" in whole
+        assert f"{sec.thickness:.6g} {units.length}" in whole
+    for words in ("Sign-off", "prepared by", "checked by", "approved by", "revision", "signature"):
+        assert words in whole
+    from planar import __version__
+
+    for words in (f"planar {__version__}", "gmsh ", "numpy ", "scipy ", "solver back end", "SHA-256 of the script",
+                  "date written"):
+        assert words in whole, f"the PDF lacks {words!r}"
+    return whole
+
+
+# ---------------------------------------------------------------------------------------- a bolted bracket
+def bolted_bracket():
+    """A 120 x 40 x 4 mm aluminium bracket held by two 8 mm bolts (pins with spreading ties) near its left end
+    and pushed down by 5 MPa of shear traction on its right end (800 N)."""
+    from planar.core.pins import Pin
+    from planar.geometry import Circle, Plate, Refine, mesh
+
+    plate = (Plate.rectangle(120.0, 40.0, centre=(60.0, 20.0))
+             .cut(Circle((15.0, 20.0), 4.0, name="bolt_a"))
+             .cut(Circle((45.0, 20.0), 4.0, name="bolt_b")))
+    m = mesh(plate, size=6.0, element="T6", seed=1, refine=[Refine("bolt_a", size=1.5), Refine("bolt_b", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33, name="aluminium alloy sheet"), thickness=4.0,
+                         units="N, mm, MPa")
+    model.add_pin(Pin("bolt_a", tie="spreading"))
+    model.add_pin(Pin("bolt_b", tie="spreading"))
+    model.add_load(planar.Traction("right", ty=-5.0), case="end load")
+    return planar.solve(model)["end load"]
+
+
+@pytest.fixture(scope="module")
+def bracket():
+    return bolted_bracket()
+
+
+def test_bracket_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path, bracket):
+    r = bracket
+    # statics (common practice): the two bolts carry the 5 MPa x 40 mm x 4 mm = 800 N end load
+    recs = {rec.name: rec for rec in r.support_reactions()}
+    assert recs["bolt_a"].force[1] + recs["bolt_b"].force[1] == pytest.approx(800.0, rel=1e-9)
+    # lever rule about bolt_a (x = 15): bolt_b at x = 45 carries 800 x (120 - 15) / 30 = 2800 N up
+    assert recs["bolt_b"].force[1] == pytest.approx(2800.0, rel=1e-6)
+    report = stress_check_report(r)                      # nothing else: the complete check
+    html = write_report(tmp_path / "bracket.html", report)
+    pages = read_pdf(print_pdf(html, tmp_path))
+    check_printed(report, pages)
+    whole = check_words(report, pages, r.model)
+    assert "revision -" in whole                         # no revision given: a dash, and blank sign-off lines
+    assert "pin 'bolt_a' tied to edge 'bolt_a' by a spreading tie" in whole and "-5 MPa along y" in whole
+    for title in ("Summary", "What was analysed", "Mesh", "Results", "Hot spots", "Equilibrium", "Run details"):
+        assert title in whole
+    assert "worst aspect ratio" in whole and "smallest Jacobian ratio" in whole and "smallest corner angle" in whole
+    assert "bolt_a pin (spreading tie)" in whole         # a reaction per pin
+    assert "moment about (0, 0) [N mm]" in whole         # and the moment row of the equilibrium
+    caution = "No buckling, fatigue, fracture or plasticity check has been made."
+    assert whole.count(caution) == 1                     # the cautions once
+
+
+@pytest.mark.slow
+def test_signed_report_says_who_and_which_revision(tmp_path, bracket):
+    report = stress_check_report(bracket, title="Bracket BR-7 <bolted>", allowable=290.0, factor_of_safety=1.5,
+                                 nominal=10.0, prepared_by="A. Writer", checked_by="B. Reader",
+                                 approved_by="C. Boss", revision="C", signed_date="2026-12-01",
+                                 omit=["results"])
+    html = write_report(tmp_path / "signed.html", report)
+    pages = read_pdf(print_pdf(html, tmp_path))
+    check_printed(report, pages)
+    whole = check_words(report, pages, bracket.model)
+    for words in ("prepared by A. Writer", "checked by B. Reader", "approved by C. Boss", "revision C",
+                  "Bracket BR-7 <bolted>", "margin of safety", "Kt, "):
+        assert words in whole, words
+    assert "Extremes of the stresses" not in whole
+
+
+def test_the_print_checks_can_fail():
+    """The checks above are not vacuous: a missing page number, a figure cut by a page break, a caption torn
+    from its figure and a row split over two pages each fail them."""
+    from planar.post.report import Report, Section
+
+    rows = [[f"row number {i} first", f"row number {i} last"] for i in range(12)]
+    rep = Report("T check", sections=[Section("s", [Table(["head A", "head B"], rows),
+                                                    Figure(b"\x89PNG\r\n\x1a\n", "the figure caption here")])],
+                 revision="A")
+    body = " ".join(" ".join(r) for r in rows)
+
+    def pages(third_page_number="page 2 of 2", image=(60.0, 100.0, 500.0, 400.0), caption_page=0, split=False):
+        a = f"T check revision A page 1 of 2 head A head B {body} the figure caption here"
+        b = f"T check revision A {third_page_number}"
+        if split:
+            a, b = a.replace("row number 3 last", ""), b + " row number 3 last"
+        if caption_page == 1:
+            a, b = a.replace("the figure caption here", ""), b + " the figure caption here"
+        return [{"text": a, "width": 595.0, "height": 842.0, "images": [image]},
+                {"text": b, "width": 595.0, "height": 842.0, "images": []}]
+
+    check_printed(rep, pages())                          # a sound print passes
+    for bad, words in ((pages("page two"), "page number"), (pages(image=(60.0, 20.0, 500.0, 400.0)), "page break"),
+                       (pages(caption_page=1), "caption"), (pages(split=True), "split")):
+        with pytest.raises(AssertionError, match=words):
+            check_printed(rep, bad)
+
+
+# ---------------------------------------------------------------------------------------- the demo
+@pytest.mark.slow
+def test_demo_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path, monkeypatch):
+    import planar.post.report as report_module
+    from planar.demo import SpliceStrap, run_demo
+
+    made = []
+    build = report_module.stress_check_report
+    monkeypatch.setattr(report_module, "stress_check_report",
+                        lambda result, **kw: made.append((result, build(result, **kw))) or made[-1][1])
+    out = run_demo(tmp_path / "demo", part=SpliceStrap(sizes=(3.2, 2.4, 1.8)), verbose=False)
+    result, report = made[0]
+    pages = read_pdf(print_pdf(out.files["report"], tmp_path))
+    check_printed(report, pages)
+    whole = check_words(report, pages, result.model)
+    for words in ("thickness, region 'plate' 3 mm", "traction on edge 'right': 40 MPa along x",
+                  "edge 'left' clamped", "not in the asymptotic range"):
+        assert words in whole, words
