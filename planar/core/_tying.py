@@ -74,6 +74,45 @@ def _weights(asm, edge: str, nodes: np.ndarray) -> np.ndarray:
     return w[nodes]
 
 
+def _contact_pin(d: dict, asm, model, pin, r: np.ndarray, p_off: int) -> None:
+    """A contact pin's data: no eliminated unknown, its free translations, the disc's radius, the nodes' weights."""
+    held = pin.held
+    d["E"] = np.zeros(0, np.int64)
+    d["g"] = np.zeros(0)
+    d["free_comp"] = np.flatnonzero(~held[:2])
+    d["p_off"] = p_off
+    dist = np.hypot(*r.T)
+    if np.any(dist <= 0):
+        raise InputError(f"{pin.describe()}: a node of its edge is at the pin's point; a contact pin needs a hole or an "
+                         "edge around it")
+    if pin.radius is not None:
+        rp = pin.radius
+    else:
+        R = float(dist.mean())
+        if np.ptp(dist) > 1e-3 * R:
+            raise InputError(f"{pin.describe()}: its edge is not a circle about the pin's point {fmt_point(d['point'])} "
+                             f"(distances {dist.min():.4g} to {dist.max():.4g}); give the pin's radius= (and at=) for a "
+                             "pin bearing on an edge that is not its hole")
+        rp = R - pin.clearance
+        if not rp > 0:
+            raise InputError(f"{pin.describe()}: the clearance {pin.clearance:g} is not smaller than the hole's radius "
+                             f"{R:.4g}; give the radial clearance (hole radius minus pin radius)")
+    pen = rp - dist
+    if pen.max() > 1e-6 * rp:
+        k = int(d["nodes"][np.argmax(pen)])
+        raise InputError(f"{pin.describe()}: the pin (radius {rp:.6g}) overlaps its edge at node {k} "
+                         f"{fmt_point(asm.mesh.nodes[k])} by {pen.max():.3g}; a contact pin must start clear of (or "
+                         "touching) the edge: move it (at=) or make it smaller")
+    for case in model.cases:
+        f = pin_loads(model, case).get(pin.name)
+        if f is not None and f[2] != 0:
+            raise InputError(f"{pin.describe()}: load case {case!r} puts a moment {f[2]:g} on it, but a frictionless "
+                             "contact pin carries no moment (its forces pass through its centre); use tie='rigid' "
+                             "to apply a moment through a pin")
+    d["radius"] = float(rp)
+    d["w"] = _weights(asm, pin.edge, d["nodes"])
+
+
 class Tying:
     """The pins of a model tied to the mesh: which unknowns are eliminated, and how.
 
@@ -130,7 +169,10 @@ class Tying:
             pval = np.zeros(dofs.size)
             if on.any():
                 pval[on] = cons.values[np.searchsorted(cons.dofs, dofs[on])]
-            if pin.tie == "rigid":
+            if pin.tie == "contact":  # no eliminated unknown: the pin's free translations, and the gaps
+                _contact_pin(d, asm, model, pin, r, p_off)
+                p_off += d["free_comp"].size
+            elif pin.tie == "rigid":
                 d["E"] = dofs
                 d["free_comp"] = np.flatnonzero(~held)
                 d["p_off"] = p_off
@@ -260,7 +302,7 @@ class Tying:
             loads = pin_loads(self.model, c)
             for d in self.data:
                 f = loads.get(d["pin"].name)
-                if f is not None and d["pin"].tie == "rigid":
+                if f is not None and d["pin"].tie in ("rigid", "contact"):
                     fq = d["Q"].T @ (f * np.array([1.0, 1.0, 1.0 / d["rho"]]))
                     out[nO + d["p_off"] + np.arange(d["free_comp"].size), j] += fq[d["free_comp"]]
         return ReducedSystem(Lnew, system.prescribed_rows), out, Fl
@@ -271,7 +313,7 @@ class Tying:
         Lm = max(np.ptp(xy[:, 0]), np.ptp(xy[:, 1]), 1e-300)
         extra = []
         for d in self.data:
-            if d["pin"].tie != "rigid":
+            if d["pin"].tie == "spreading":
                 continue
             p = d["point"]
             B = np.array([[1.0, 0.0, -(p[1] - c[1]) / Lm], [0.0, 1.0, (p[0] - c[0]) / Lm], [0.0, 0.0, d["rho"] / Lm]])
@@ -283,7 +325,7 @@ class Tying:
         """A global unknown for each reduced unknown, for locating a soft mode: a pin's at its first edge node."""
         extra = []
         for d in self.data:
-            if d["pin"].tie == "rigid":
+            if d["pin"].tie != "spreading":
                 extra.append(d["dofs"][np.minimum(d["free_comp"], 1)])
         return np.concatenate([free] + extra) if extra else free
 
@@ -314,7 +356,7 @@ class Tying:
                 force = f.sum(axis=0)
                 moment = float(r[:, 0] @ f[:, 1] - r[:, 1] @ f[:, 0])
                 load = loads.get(pin.name, np.zeros(3))
-                q = d["C"] @ U[d["dofs"], j]
+                q = d["C"] @ U[d["dofs"], j] if "motion" not in d else d["motion"](j)
                 row.append(PinState(name=pin.name, tie=pin.tie, edge=pin.edge, point=tuple(map(float, d["point"])),
                                     force=(float(force[0]), float(force[1])), moment=moment,
                                     load=tuple(map(float, load)),

@@ -1,6 +1,6 @@
 """Pins: a reference point with two translations and a rotation, tied to a named edge (usually a hole).
 
-A :class:`Pin` is tied to its edge in one of two ways:
+A :class:`Pin` is tied to its edge in one of three ways:
 
 * ``tie="rigid"``: every node of the edge moves with the pin as a rigid body,
   ``u_i = u_p + theta z x (x_i - x_p)`` (linearised). The edge keeps its shape.
@@ -8,6 +8,11 @@ A :class:`Pin` is tied to its edge in one of two ways:
   tributary length times thickness of each node) and the pin moves as the weighted least-squares
   rigid fit of the edge's motion. The tie adds no stiffness: the hole keeps its own flexibility and
   may ovalise.
+* ``tie="contact"``: bearing contact: the pin is a rigid disc that touches the edge only where it
+  bears (compression only, frictionless), with a radial ``clearance`` (the disc's radius is the
+  hole's minus the clearance, or ``radius=`` for any edge near the disc). Solved by an active-set
+  iteration on one factorization (:mod:`planar.core.contact`); each result reports its state in
+  ``result.contact_states``.
 
 A pin is held (``hold=`` for its translations: both, ``"x"``, ``"y"``, a direction, or none;
 ``rotation=`` held or free), possibly moved by a prescribed rigid motion (``move=``), or loaded by a
@@ -36,7 +41,7 @@ from .values import number
 __all__ = ["Pin", "PinLoad", "TIES", "reference_point"]
 
 #: the ways a pin is tied to its edge
-TIES = ("rigid", "spreading")
+TIES = ("rigid", "spreading", "contact")
 _HOLD_WORDS = ("both", "x", "y")
 
 
@@ -70,9 +75,11 @@ class Pin:
     ----------
     edge : str
         The named edge the pin is tied to (usually a hole).
-    tie : {"rigid", "spreading"}
+    tie : {"rigid", "spreading", "contact"}
         ``"rigid"``: the edge moves with the pin as a rigid body; ``"spreading"``: the pin's force and
-        moment are spread over the edge nodes by weights that add no stiffness (the hole may ovalise).
+        moment are spread over the edge nodes by weights that add no stiffness (the hole may ovalise);
+        ``"contact"``: the pin is a rigid disc bearing on the edge where it touches (compression only,
+        frictionless; it carries no moment and its rotation stays free).
     at : (x, y), optional
         The pin's reference point. Default: the centre of the circle fitted to the edge when it is
         an arc (a hole), else the length-weighted centre of the edge.
@@ -85,10 +92,16 @@ class Pin:
         direction for a pin held in one direction); a non-zero value for a free component is refused.
     name : str, optional
         The pin's name in reactions and in :class:`PinLoad` (default: the edge name).
+    clearance : float
+        Contact tie only: the radial clearance of the fit (hole radius minus pin radius, length
+        unit; zero allowed).
+    radius : float, optional
+        Contact tie only: the pin's radius, for an edge that is not a hole about the pin (e.g. a pin
+        pressed on a straight edge); give either ``radius`` or ``clearance``.
     """
 
     def __init__(self, edge: str, *, tie: str = "rigid", at=None, hold="both", rotation: str = "free",
-                 move=None, name: str | None = None):
+                 move=None, name: str | None = None, clearance: float = 0.0, radius: float | None = None):
         if not isinstance(edge, str):
             raise InputError(f"a pin is tied to a named edge (a str), got {edge!r}")
         self.edge = edge
@@ -96,6 +109,19 @@ class Pin:
             raise InputError(f"a pin's tie must be one of {TIES}, got {tie!r}: 'rigid' keeps the edge's shape, "
                              "'spreading' lets the hole ovalise")
         self.tie = tie.strip().lower()
+        self.clearance = number(clearance, "a pin's clearance")
+        if self.clearance < 0:
+            raise InputError(f"a pin's clearance must be zero or positive (hole radius minus pin radius), got {clearance!r}")
+        self.radius = None if radius is None else number(radius, "a pin's radius")
+        if self.radius is not None and not self.radius > 0:
+            raise InputError(f"a pin's radius must be a positive number, got {radius!r}")
+        if self.tie != "contact" and (self.clearance != 0 or self.radius is not None):
+            raise InputError(f"pin on {edge!r}: clearance= and radius= belong to a contact pin; use tie='contact'")
+        if self.radius is not None and self.clearance != 0:
+            raise InputError(f"pin on {edge!r}: give the pin's radius= or its clearance= in the hole, not both")
+        if self.tie == "contact" and isinstance(rotation, str) and rotation.strip().lower() == "held":
+            raise InputError(f"pin on {edge!r}: a contact pin is frictionless, so it cannot hold the part's rotation; "
+                             "leave rotation='free' and hold the rotation with a support (or use tie='rigid')")
         if at is not None:
             xy = np.asarray(at, dtype=float).reshape(-1)
             if xy.shape != (2,) or not np.all(np.isfinite(xy)):
@@ -125,7 +151,10 @@ class Pin:
         self.name = str(name) if name is not None else edge
 
     def __repr__(self):
-        return f"Pin({self.edge!r}, tie={self.tie!r}, hold={self.hold!r}, rotation={self.rotation!r})"
+        extra = ""
+        if self.tie == "contact":
+            extra = f", radius={self.radius:g}" if self.radius is not None else f", clearance={self.clearance:g}"
+        return f"Pin({self.edge!r}, tie={self.tie!r}{extra}, hold={self.hold!r}, rotation={self.rotation!r})"
 
     def describe(self) -> str:
         extra = f", name={self.name!r}" if self.name != self.edge else ""

@@ -395,6 +395,9 @@ class Result(CaseResult):
     pin_forces = None
     #: each pin's figures in this case (planar.core._tying.PinState), None without pins
     pin_states = None
+    #: each contact pin's state in this case (planar.core.contact.ContactState) by pin name; empty without
+    #: contact pins (a read-only mapping; a solve with contact sets a dict)
+    contact_states = __import__("types").MappingProxyType({})
 
     def total_reaction(self) -> np.ndarray:
         """Sum of the support reactions and the pins' reactions (Rx, Ry)."""

@@ -151,6 +151,14 @@ class _Cholmod:
         self._cholmod.solve(self._F, B)
         return np.array(B).reshape(b.shape)
 
+    def gram(self, b):
+        """``b^T K^-1 b`` by the forward half of the solve only: ``Z = L^-1 P b``, then ``Z^T Z`` (K = P^T L L^T P)."""
+        B = self._cvxopt.matrix(np.array(np.asarray(b, float).reshape(self.n, -1), dtype=float, order="F"))
+        self._cholmod.solve(self._F, B, sys=7)
+        self._cholmod.solve(self._F, B, sys=4)
+        Z = np.array(B)
+        return Z.T @ Z
+
 
 _MKL = None
 
@@ -256,6 +264,13 @@ class _Pardiso:
                 raise ResourceError("PARDISO ran out of memory; use solver='amg' or a coarser mesh")
             raise SolverError(f"PARDISO failed with error {err.value}")
         return x
+
+    def gram(self, b):
+        """``b^T K^-1 b`` by the forward substitution only (phase 331: ``Z = L^-1 P b``), then ``Z^T Z``."""
+        Z = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))
+        if not np.all(np.isfinite(Z)):
+            raise _numerical(_SINGULAR)
+        return Z.T @ Z
 
     def solve(self, b):
         b = np.asarray(b, dtype=float)

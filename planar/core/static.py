@@ -249,6 +249,12 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     rhs = Fl[free] - coupling[free][:, None]
     if tie is not None:
         system, rhs, Fl = tie.reduce(system, free, pdofs, up, Fl, rhs, cases)
+    contact = None
+    if tie is not None and any(p.tie == "contact" for p in tie.pins):  # bearing contact (core/contact.py)
+        from .contact import ContactSet
+
+        contact = ContactSet(tie, system, free, up)
+        system = contact.system  # the pins' springs added: taken out exactly by the condensation
     timer.lap("load vectors")
     after_ordering = None
     if solver in solvers.OVERLAPS_ORDERING:  # its ordering keeps one core busy, without the GIL
@@ -278,6 +284,10 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         fac = factorize(system.lower, solver, rigid_modes=modes, space=space,
                         after_ordering=diagnose.also_wait(after_ordering, figures))
         timer.lap("factorization")
+        if contact is not None:
+            timer.start("contact iteration")
+            rhs = contact.solve(fac, rhs, cases)  # the contact forces added: the same factor, no other
+            timer.lap("contact")
         timer.start("solving")
         ul = np.zeros((ndof, len(cases)))
         ul[pdofs] = up[pdofs][:, None]
@@ -298,7 +308,15 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     timer.start("checking the solution of")
     Rl = np.zeros((ndof, len(cases)))
     Rl[pdofs] = system.prescribed_rows @ ul - Fl[pdofs]
+    if contact is not None:  # the contact forces on the edge nodes, the supports' share of them taken out
+        Pc = contact.forces(sol, len(cases))
+        Rl[pdofs] -= Pc[pdofs]
     P = tie.forces(Rl, free) if tie is not None else 0.0  # the forces the pins exert on their edge nodes
+    if contact is not None:
+        P = P + Pc
+        for d in tie.data:
+            if d["pin"].tie == "contact":
+                d["motion"] = lambda j, d=d: contact.pin_motion(d, j)
     _check_finite(ul, Rl, cases)
     Rl[2 * unused] = 0.0
     Rl[2 * unused + 1] = 0.0
@@ -308,6 +326,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     else:
         U, R = ul, Rl
     pin_rows = tie.states(U, P, cases) if tie is not None else None
+    contact_rows = contact.states(cases, model.unit_system) if contact is not None else None
     trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R + P, F, U,
                                     free=free if tie is None else tie.diagnosis_free(free), figures=figures)
     timer.lap("solution check")
@@ -320,6 +339,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         if tie is not None:
             results[c].pin_forces = P[:, j].reshape(-1, 2)
             results[c].pin_states = pin_rows[j]
+        if contact is not None:
+            results[c].contact_states = contact_rows[j]
     del system
     from .advice import advise
 

@@ -133,12 +133,18 @@ class CombinedResult(Result):
     von Mises, Tresca and principal values are computed afterwards from the combined stress. A
     prescribed displacement is part of every case, so in a combination it counts with the sum of
     the factors (a warning says so when that sum is not 1 and the prescribed value is not zero).
+    Results with bearing contact (a pin with ``tie="contact"``) are refused: the contact arc
+    depends on the load, so they do not superpose; a load case with the combined loads, solved anew,
+    is the answer (the choice to refuse, not to re-solve silently: the user sees which loads act).
     """
 
     def __init__(self, name: str, parts: Sequence[tuple[float, Result]]):
         parts = [(float(f), r) for f, r in parts]
         if not parts:
             raise InputError("a combination needs at least one result with a factor")
+        from ..core.contact import refuse_superposition
+
+        refuse_superposition([r for _, r in parts], f"combination {name!r}")  # contact is not linear
         f = np.array([p[0] for p in parts])
         first = parts[0][1]
         u = np.einsum("i,ink->nk", f, np.stack([r.u for _, r in parts]))
@@ -518,6 +524,8 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
     -----
     max_i v_i(x) and min_i v_i(x) over the cases i at each node x, with argmax / argmin naming the
     governing case (common practice in design by load combinations).
+    An envelope does not superpose: each case keeps its own field, so cases solved with bearing
+    contact are enveloped like any other (a combination of them is refused by :func:`combine`).
     """
     results = as_results(results, "envelope")
     if not results:

@@ -1,0 +1,515 @@
+"""Bearing contact of a rigid pin on a named edge: compression only, frictionless, with a radial clearance.
+
+The pin (:class:`planar.core.pins.Pin` with ``tie="contact"``) is a rigid disc of radius ``r_p``
+centred at its reference point ``x_p``; it has two translations ``u_p`` (a frictionless disc
+carries no moment, and its rotation moves no gap). Every node ``i`` of the edge (usually a hole of
+radius ``R``, then ``r_p = R - c`` with the radial clearance ``c``) has the gap::
+
+    g_i = (|x_i - x_p| - r_p) + e_i . (u_i - u_p),      e_i = (x_i - x_p) / |x_i - x_p|
+
+measured from the disc's surface along the disc's normal through the node (node to rigid surface;
+for a hole the first term is ``c``). This is the gap linearised about the undeformed shape: it holds
+while the displacements are small compared with the radius; the neglected term is of the order of
+``|u_t|^2 / (2 R)``, ``u_t`` the relative motion across ``e_i``. The same gap serves any edge near a
+disc (a straight edge pressed by a pin of given ``radius``: the two-dimensional Hertz problem).
+The contact force on node ``i`` is ``lambda_i e_i`` (the pin pushes the part away from its centre),
+``-lambda_i e_i`` on the pin, with ``lambda_i >= 0, g_i >= 0, lambda_i g_i = 0`` (Signorini's
+conditions, node-wise).
+
+Method: the primal-dual active set method for the contact conditions (S. Hüeber and B. I.
+Wohlmuth, A primal-dual active set strategy for non-linear multibody contact problems, Comput.
+Methods Appl. Mech. Engrg. 194 (2005) 3147-3166; equivalent to a semi-smooth Newton method, M.
+Hintermüller, K. Ito and K. Kunisch, SIAM J. Optim. 13 (2002) 865-888; from memory), on the problem
+condensed onto the contact nodes with one factorization:
+
+* ``B`` (m x n) maps the unknowns (the part's and the pins' free translations) to the relative
+  normal motions ``e_i . (u_i - u_p)``. The factorized matrix is ``K_a = K + B^T D B``: the part's
+  stiffness, the pins' unknowns and springs ``D`` (each the node's own diagonal stiffness) between
+  the pin and a few nodes spread along its edge (:data:`ANCHORS`). The springs make ``K_a`` definite
+  when the pin is the only support in some direction (the pre-solve check counts a pin as holding
+  its edge); they are not a penalty: the condensation takes them out exactly. With
+  ``mu = lambda + D B u``, ``K u = F + B^T lambda`` reads ``K_a u = F + B^T mu``, so ``B u = h + W mu``
+  with ``h = B K_a^-1 F`` and the flexibility ``W = B K_a^-1 B^T``.
+* The condensed problem is written over the candidate nodes only: those that penetrate in the
+  springs' answer, widened along the edge, and the anchors. ``W`` over them (m_c x m_c) comes from
+  one multi-right-hand-side solve with the factor (its forward half ``Z = L^-1 P B^T``, ``W = Z^T Z``,
+  where the back end offers it). A node left out that the answer makes penetrate is added and the
+  iteration run again.
+* Each iteration solves the dense system of the active set ``A``: ``g_i = 0`` on ``A``,
+  ``lambda_i = 0`` off it; then ``A = {i : lambda_i - c_i g_i >= 0}`` (``c_i`` the node's stiffness
+  scale); it stops when ``A`` repeats (then ``lambda >= 0`` and ``g >= 0`` hold). No refactorization
+  ever: the final displacements are one more solve with the factor, of ``F + B^T mu``.
+* A singular active-set system means that nothing holds the part (or a loaded pin) once the
+  open nodes are let go: a :class:`~planar.core.errors.SolverError` says so.
+
+The load cases are solved one by one on the same factor and flexibility; their answers do not
+superpose (:mod:`planar.post.combine` refuses to combine them).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+
+from .errors import SolverError, fmt_point
+
+__all__ = ["ContactState", "ContactSet", "MAX_ITERATIONS"]
+
+#: the active-set iterations allowed before a load case is refused as not converged
+MAX_ITERATIONS = 60
+#: reciprocal condition (1-norm) of the active-set system below which the part counts as free
+SINGULAR_RCOND = 1e-11
+#: the springs between a pin and its edge: at most this many nodes, spread along the edge
+ANCHORS = 8
+#: bytes of right-hand sides per block of the flexibility solve
+BLOCK_BYTES = 64 * 2**20
+
+
+@dataclass
+class ContactState:
+    """A contact pin's state in one load case, at convergence.
+
+    Attributes
+    ----------
+    pin, case : str
+    iterations : int
+        Active-set iterations (each a small dense solve; the factorization is shared).
+    converged : bool
+        Always True: a load case that does not converge is a SolverError.
+    arc_start_deg, arc_end_deg : float or None
+        The contact arc, as angles about the pin's point counter-clockwise from +x (degrees, start
+        to end counter-clockwise; the start in (-180, 180], the end may pass 180). Each end lies half-way between the last node
+        in contact and the first open one (so read to half a node spacing). None without contact.
+    peak_pressure : float
+        Largest contact pressure (force per length per thickness), stress unit; 0 without contact.
+    peak_at : (float, float) or None
+        Where it is (the node's coordinates).
+    max_penetration : float
+        Largest penetration (negative gap) of any edge node, length unit (round-off at convergence).
+    max_tension : float
+        Largest tensile contact pressure, stress unit (round-off at convergence).
+    force : (float, float)
+        The resultant the pin exerts on the part through contact (force unit).
+    nodes : ndarray
+        The edge nodes (sorted by angle).
+    angles_deg, gap, pressure : ndarray
+        Per edge node: angle about the pin's point, gap (length) and contact pressure (stress).
+    clearance, radius : float
+        The radial clearance and the pin's radius (length).
+    units : dict
+        The units of the figures (length, stress, force).
+    """
+
+    pin: str
+    case: str
+    iterations: int
+    converged: bool
+    arc_start_deg: float | None
+    arc_end_deg: float | None
+    peak_pressure: float
+    peak_at: tuple | None
+    max_penetration: float
+    max_tension: float
+    force: tuple
+    clearance: float
+    radius: float
+    nodes: np.ndarray = field(repr=False)
+    angles_deg: np.ndarray = field(repr=False)
+    gap: np.ndarray = field(repr=False)
+    pressure: np.ndarray = field(repr=False)
+    units: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def in_contact(self) -> bool:
+        """Whether any node bears on the pin."""
+        return self.arc_start_deg is not None
+
+    @property
+    def arc_deg(self) -> float:
+        """The contact arc's extent in degrees (0 without contact)."""
+        return 0.0 if self.arc_start_deg is None else float(self.arc_end_deg - self.arc_start_deg)
+
+    def _u(self, q: str) -> str:
+        u = self.units.get(q, "")
+        return f" {u}" if u else ""
+
+    def summary(self) -> str:
+        """One line with units, e.g. ``pin 'pin' (case 'pull'): contact arc 242.1 to 297.9 deg ...``."""
+        head = f"pin {self.pin!r} (case {self.case!r}, clearance {self.clearance:.4g}{self._u('length')})"
+        if not self.in_contact:
+            return (f"{head}: no contact, the pin carries nothing; {self.iterations} active-set iteration(s); "
+                    f"smallest gap {float(self.gap.min()):.4g}{self._u('length')}")
+        return (f"{head}: contact arc {self.arc_start_deg:.1f} to {self.arc_end_deg:.1f} deg ({self.arc_deg:.1f} deg), "
+                f"peak pressure {self.peak_pressure:.4g}{self._u('stress')} at {fmt_point(self.peak_at)}, "
+                f"force ({self.force[0]:.4g}, {self.force[1]:.4g}){self._u('force')}; "
+                f"{self.iterations} active-set iteration(s), largest penetration {self.max_penetration:.2e}"
+                f"{self._u('length')}, largest tension {self.max_tension:.2e}{self._u('stress')}")
+
+    __str__ = summary
+
+    def as_dict(self) -> dict:
+        """The figures as plain numbers and lists (JSON-ready), per-node arrays included."""
+        return {"pin": self.pin, "case": self.case, "iterations": int(self.iterations), "converged": True,
+                "arc_start_deg": self.arc_start_deg, "arc_end_deg": self.arc_end_deg, "arc_deg": self.arc_deg,
+                "peak_pressure": self.peak_pressure, "peak_at": self.peak_at,
+                "max_penetration": self.max_penetration, "max_tension": self.max_tension,
+                "force": list(self.force), "clearance": self.clearance, "radius": self.radius,
+                "units": dict(self.units), "nodes": self.nodes.tolist(), "angles_deg": self.angles_deg.tolist(),
+                "gap": self.gap.tolist(), "pressure": self.pressure.tolist()}
+
+    def table(self, *, contact_only: bool = True) -> str:
+        """The edge nodes as a text table: node, angle, gap, pressure (units in the header)."""
+        keep = self.pressure > 0 if contact_only and self.in_contact else np.ones(self.nodes.size, bool)
+        lu, su = self.units.get("length", ""), self.units.get("stress", "")
+        head = f"{'node':>8}  {'angle (deg)':>11}  {'gap' + (f' ({lu})' if lu else ''):>14}  " \
+               f"{'pressure' + (f' ({su})' if su else ''):>16}"
+        rows = [head, "-" * len(head)]
+        for n, a, g, p in zip(self.nodes[keep], self.angles_deg[keep], self.gap[keep], self.pressure[keep]):
+            rows.append(f"{int(n):>8}  {a:>11.2f}  {g:>14.4g}  {p:>16.4g}")
+        return "\n".join([self.summary(), *rows])
+
+
+def _arc(angles: np.ndarray, on: np.ndarray) -> tuple[float | None, float | None]:
+    """The contact arc (start, end) in degrees from the nodes' angles (sorted) and which bear.
+
+    The arc runs counter-clockwise over the bearing nodes, across the largest run of open nodes left
+    out; each end is half-way to the neighbouring open node (or at the last node of an open edge).
+    """
+    n = angles.size
+    if not on.any():
+        return None, None
+    if on.all():
+        return 0.0, 360.0
+    # angular spacing to the next node (circular); an edge that is not a full circle has one large step
+    nxt = np.r_[angles[1:], angles[0] + 360.0] - angles
+    full = nxt.max() < 90.0  # a closed hole
+    idx = np.flatnonzero(on)
+    # start: a bearing node whose predecessor is open; end: a bearing node whose successor is open
+    prev_open = ~on[(idx - 1) % n]
+    next_open = ~on[(idx + 1) % n]
+    if not full:
+        prev_open |= idx == 0
+        next_open |= idx == n - 1
+    starts, ends = idx[prev_open], idx[next_open]
+    # the longest run counter-clockwise from a start to the next end is the arc
+    best = None
+    for s in starts:
+        e = ends[np.argmin((ends - s) % n)]
+        length = (e - s) % n
+        if best is None or length > best[2]:
+            best = (s, e, length)
+    s, e, _ = best
+    a0 = angles[s] - (nxt[(s - 1) % n] / 2 if (full or s > 0) else 0.0)
+    a1 = angles[e] + (nxt[e] / 2 if (full or e < n - 1) else 0.0)
+    while a1 < a0:
+        a1 += 360.0
+    a0, a1 = a0 % 360.0, a0 % 360.0 + (a1 - a0)
+    if a0 > 180.0:  # the start in (-180, 180]: an arc across +x reads -30 to 30
+        a0, a1 = a0 - 360.0, a1 - 360.0
+    return float(a0), float(a1)
+
+
+class ContactSet:
+    """The contact pins of a solve: the gap map, the springs, the condensed problem and its answer.
+
+    Parameters
+    ----------
+    tie : planar.core._tying.Tying
+    system : ReducedSystem
+        The system with the ties eliminated (the contact pins' free translations appended).
+    free : ndarray
+        The mesh's free unknowns (global numbering).
+    up : ndarray
+        The prescribed values of every unknown (global numbering).
+    """
+
+    def __init__(self, tie, system, free: np.ndarray, up: np.ndarray):
+        mesh = tie.mesh
+        self.tie = tie
+        nO = free.size
+        n_new = system.lower.shape[0]
+        fidx = np.full(2 * mesh.n_nodes, -1, dtype=np.int64)
+        fidx[free] = np.arange(nO)
+        kd = np.asarray(system.lower.diagonal())
+        rows, cols, vals, g0, d0, k, self.parts = [], [], [], [], [], [], []
+        row0 = 0
+        for d in tie.data:
+            pin = d["pin"]
+            if pin.tie != "contact":
+                continue
+            nodes = d["nodes"]
+            r = mesh.nodes[nodes] - d["point"]
+            dist = np.hypot(*r.T)
+            e = r / dist[:, None]
+            ns = nodes.size
+            ri = row0 + np.arange(ns)
+            gi = dist - d["radius"]
+            di = np.zeros(ns)
+            ki = np.zeros(ns)
+            for c in (0, 1):
+                dof = 2 * nodes + c
+                f = fidx[dof]
+                on = f >= 0
+                rows.append(ri[on]); cols.append(f[on]); vals.append(e[on, c])
+                ki[on] += e[on, c] ** 2 * kd[f[on]]
+                di[~on] += e[~on, c] * up[dof[~on]]
+            Q2 = d["Q"][:2, :2]
+            for j, comp in enumerate((0, 1)):
+                a = e @ Q2[:, comp]
+                if pin.held[comp]:
+                    di -= a * d["values"][comp]
+                else:
+                    col = nO + d["p_off"] + int(np.flatnonzero(d["free_comp"] == comp)[0])
+                    rows.append(ri); cols.append(np.full(ns, col)); vals.append(-a)
+            w = d["w"]
+            self.parts.append(dict(d=d, rows=ri, e=e, angles=np.degrees(np.arctan2(r[:, 1], r[:, 0])) % 360.0, w=w))
+            g0.append(gi); d0.append(di); k.append(ki)
+            row0 += ns
+        m = row0
+        cat = np.concatenate
+        B = sp.csr_matrix((cat(vals), (cat(rows), cat(cols))), shape=(m, n_new))
+        B.eliminate_zeros()
+        k = cat(k)
+        live = np.diff(B.indptr) > 0  # a node whose gap no unknown moves keeps its gap (checked below)
+        pos = k[live & (k > 0)]
+        k = np.where(k > 0, k, np.median(pos) if pos.size else max(float(kd.mean()), 1e-300))
+        anchor = np.zeros(m, bool)  # the springs: ANCHORS nodes spread along each pin's edge
+        for p in self.parts:
+            rows = p["rows"][np.argsort(p["angles"], kind="stable")]
+            rows = rows[live[rows]]
+            if rows.size:
+                anchor[rows[np.unique(np.linspace(0, rows.size - 1, min(ANCHORS, rows.size)).round().astype(int))]] = True
+        self.m, self.B, self.c, self.live, self.anchor = m, B, k, live, anchor
+        self.k = np.where(anchor, k, 0.0)
+        self.g0, self.d0 = cat(g0), cat(d0)
+        self.nO, self.n_new = nO, n_new
+        BtDB = (B.T @ sp.diags(self.k) @ B).tocsc()
+        low = (system.lower + sp.tril(BtDB).tocsc()).tocsc()
+        low.sum_duplicates()
+        low.sort_indices()
+        from .assembly import ReducedSystem
+
+        self.system = ReducedSystem(low, system.prescribed_rows)
+        self.iterations: list[int] = []
+        self.mu = None
+
+    # ------------------------------------------------------------------ the condensed problem
+    def flexibility(self, fac, rows: np.ndarray) -> np.ndarray:
+        """``W = B_c K_a^-1 B_c^T`` over the contact rows ``rows``, by multi-RHS solves with the factor in
+        column blocks (the forward half only, ``Z^T Z``, where the back end offers it)."""
+        Bt = self.B[rows].T.tocsc()
+        mc = rows.size
+        step = max(8, int(BLOCK_BYTES // (8 * max(self.n_new, 1))))
+        if hasattr(fac, "gram") and mc <= step:  # one block: the forward solve alone gives W
+            return fac.gram(Bt.toarray()) if mc else np.zeros((0, 0))
+        W = np.zeros((mc, mc))
+        Bc = self.B[rows]
+        for a in range(0, mc, step):
+            b = min(a + step, mc)
+            W[:, a:b] = Bc @ fac.solve(Bt[:, a:b].toarray()).reshape(self.n_new, -1)
+        return (W + W.T) / 2
+
+    def _dilate(self, mark: np.ndarray) -> np.ndarray:
+        """Rows marked, widened along each pin's edge by a tenth of its nodes on each side (in angle order)."""
+        out = mark.copy()
+        for p in self.parts:
+            rows = p["rows"][np.argsort(p["angles"], kind="stable")]
+            mk = mark[rows].astype(float)
+            ns = rows.size
+            k = max(2, ns // 10)
+            kern = np.ones(2 * k + 1)
+            closed = np.ptp(p["angles"]) > 270.0
+            if closed:
+                wide = np.convolve(np.r_[mk[-k:], mk, mk[:k]], kern, mode="valid") > 0
+            else:
+                wide = np.convolve(mk, kern, mode="same") > 0
+            out[rows] |= wide
+        return out & self.live
+
+    def solve(self, fac, rhs: np.ndarray, cases: list[str]) -> np.ndarray:
+        """The contact forces of every case by the active-set iteration; returns ``rhs + B^T mu``.
+
+        The candidate nodes are those the springs' (bonded) answer presses onto the pin, or that it
+        lets penetrate, widened along the edge; a node left out that the answer makes penetrate is
+        added and the iteration run again (the flexibility of the new set: one more multi-RHS solve).
+        """
+        rhs = np.asarray(rhs).reshape(self.n_new, -1)
+        nc = rhs.shape[1]
+        h = self.B @ fac.solve(rhs).reshape(self.n_new, -1)  # the relative motions with mu = 0
+        gf = (self.g0 + self.d0)[:, None] + h
+        fixed = np.flatnonzero(~self.live)
+        for j, case in enumerate(cases):
+            if fixed.size:
+                bad = gf[fixed, j] < -1e-9 * self._radius_of(fixed)
+                if bad.any():
+                    self._refuse_fixed(fixed[np.argmax(bad)], case)
+        cand = self._dilate(np.any(gf < 0, axis=1) & self.live) | self.anchor
+        tol = 1e-8 * self._radius_of(np.arange(self.m))
+        for _ in range(8):
+            rows = np.flatnonzero(cand)
+            W = self.flexibility(fac, rows)
+            mu = np.zeros((self.m, nc))
+            self.iterations = []
+            for j, case in enumerate(cases):
+                mu[rows, j], it = self._active_set(W, h[rows, j], gf[rows, j], self.g0[rows], self.k[rows],
+                                                   self.c[rows], case)
+                self.iterations.append(it)
+            out = rhs + self.B.T @ mu
+            g = (self.g0 + self.d0)[:, None] + self.B @ fac.solve(out).reshape(self.n_new, -1)
+            viol = self.live & ~cand & np.any(g < -tol[:, None], axis=1)
+            if not viol.any():
+                break
+            cand = self._dilate(cand | viol) | self.anchor
+        self.mu = mu
+        return out
+
+    def _active_set(self, W: np.ndarray, hj: np.ndarray, gf: np.ndarray, g0: np.ndarray, k: np.ndarray,
+                    c: np.ndarray, case: str):
+        """The primal-dual active set iteration on the condensed problem of one case: (mu, iterations).
+
+        ``k`` the springs (zero off the anchors), ``c`` the nodes' stiffness scale (the rows of the
+        closed nodes are scaled by it, and it weighs the gap in the update ``lambda - c g``).
+        """
+        from scipy.linalg import lapack, lu_factor, lu_solve
+
+        ml = hj.size
+        if ml == 0:
+            return np.zeros(0), 0
+        DW = k[:, None] * W
+        CW = c[:, None] * W
+        I = np.eye(ml)
+        scale = max(float(np.abs(c * gf).max(initial=0.0)), float(np.abs(c * hj).max(initial=0.0)), 1e-300)
+        # start from the nodes that bear when the edge is bonded to the pin without clearance
+        x0 = np.linalg.solve(CW, -c * (gf - g0))
+        active = x0 - k * (hj + W @ x0) > 0
+        if not active.any():
+            active[:] = True
+        for it in range(1, MAX_ITERATIONS + 1):
+            M = np.where(active[:, None], CW, I - DW)
+            b = np.where(active, -c * gf, k * hj)
+            lu = lu_factor(M, check_finite=False)
+            rc = lapack.dgecon(lu[0], np.abs(M).sum(axis=0).max(), norm="1")[0]
+            if not rc > SINGULAR_RCOND:
+                self._refuse_free(case, active)
+            x = lu_solve(lu, b, check_finite=False)
+            Wx = W @ x
+            g = gf + Wx
+            lam = x - k * (hj + Wx)
+            new = lam - c * g >= -1e-12 * scale
+            if np.array_equal(new, active):
+                return x, it
+            active = new
+        names = ", ".join(repr(p["d"]["pin"].name) for p in self.parts)
+        raise SolverError(
+            f"load case {case!r}: the bearing contact of the pin(s) {names} did not settle in "
+            f"{MAX_ITERATIONS} active-set iterations (the contact arc keeps changing); refine the mesh "
+            "along the pin's edge, or check that the clearance is small compared with the radius")
+
+    def _radius_of(self, rows: np.ndarray) -> np.ndarray:
+        out = np.zeros(rows.size)
+        for p in self.parts:
+            sel = np.isin(rows, p["rows"])
+            out[sel] = p["d"]["radius"]
+        return out
+
+    def _part_of(self, row: int) -> dict:
+        return next(p for p in self.parts if p["rows"][0] <= row <= p["rows"][-1])
+
+    def _refuse_fixed(self, row: int, case: str):
+        p = self._part_of(row)
+        node = int(p["d"]["nodes"][row - p["rows"][0]])
+        raise SolverError(f"load case {case!r}: node {node} at {fmt_point(self.tie.mesh.nodes[node])} of the edge of pin "
+                          f"{p['d']['pin'].name!r} is held by supports inside the pin (gap "
+                          f"{self.g0[row] + self.d0[row]:.3g}); move the pin (at=) or the supports")
+
+    def _refuse_free(self, case: str, active: np.ndarray):
+        names = ", ".join(repr(p["d"]["pin"].name) for p in self.parts)
+        loaded = [p["d"]["pin"].name for p in self.parts if not p["d"]["pin"].held[:2].all()]
+        what = "the part" + (f" or the loaded pin(s) {', '.join(map(repr, loaded))}" if loaded else "")
+        raise SolverError(
+            f"load case {case!r}: {what} would move freely: where the edge of the contact pin(s) {names} is "
+            f"let go ({int((~active).sum())} open node(s), {int(active.sum())} bearing), nothing else holds it. "
+            "A contact pin only pushes (no tension, no friction): check the direction of the loads, reduce the "
+            "clearance, or hold the part with a support (or use tie='rigid' for a bonded pin)")
+
+    # ------------------------------------------------------------------ after the solve
+    def forces(self, sol: np.ndarray, ncases: int) -> np.ndarray:
+        """The contact forces on the part's edge nodes (2n, m) from the final solution; keeps lambda and the gaps."""
+        y = sol.reshape(self.n_new, -1)[:, :ncases]
+        By = self.B @ y
+        self.gap = self.g0[:, None] + self.d0[:, None] + By
+        self.lam = self.mu - self.k[:, None] * By
+        self.lam[~self.live] = 0.0
+        self.motion = y[self.nO:]
+        P = np.zeros((2 * self.tie.mesh.n_nodes, ncases))
+        for p in self.parts:
+            nodes, e = p["d"]["nodes"], p["e"]
+            lam = self.lam[p["rows"]]
+            P[2 * nodes] += e[:, :1] * lam
+            P[2 * nodes + 1] += e[:, 1:] * lam
+        return P
+
+    def pin_motion(self, d: dict, j: int) -> np.ndarray:
+        """A contact pin's (ux, uy, 0) in global components, in case j."""
+        comps = np.where(d["pin"].held[:2], d["values"][:2], 0.0)
+        for i, comp in enumerate(d["free_comp"]):
+            comps[comp] = self.motion[d["p_off"] + i, j]
+        return np.r_[d["Q"][:2, :2] @ comps, 0.0]
+
+    def states(self, cases: list[str], units) -> list[dict[str, ContactState]]:
+        """Each contact pin's :class:`ContactState`, per case; refuses penetration beyond 1e-6 of the radius."""
+        lab = {"length": units.unit_of("length"), "stress": units.unit_of("stress"),
+               "force": units.unit_of("force")}
+        mesh = self.tie.mesh
+        out = []
+        for j, case in enumerate(cases):
+            row = {}
+            for p in self.parts:
+                d = p["d"]
+                order = np.argsort(p["angles"], kind="stable")
+                rr = p["rows"][order]
+                nodes = d["nodes"][order]
+                ang = p["angles"][order]
+                lam = self.lam[rr, j]
+                gap = self.gap[rr, j]
+                pres = lam / p["w"][order]
+                scale = max(float(np.abs(pres).max(initial=0.0)), 1e-300)
+                bearing = pres > 1e-9 * scale
+                pen = max(0.0, -float(gap.min(initial=0.0))) + 0.0
+                if pen > 1e-6 * d["radius"]:
+                    raise SolverError(f"load case {case!r}: the edge of pin {d['pin'].name!r} penetrates it by {pen:.3g} "
+                                      f"after the contact iteration (more than 1e-6 of its radius {d['radius']:.4g}); "
+                                      "the stiffness matrix is too ill-conditioned for the contact solve: check the "
+                                      "units and the supports")
+                a0, a1 = _arc(ang, bearing)
+                i = int(np.argmax(pres))
+                f = (p["e"][order] * lam[:, None]).sum(axis=0)
+                pres_out = np.where(bearing, pres, 0.0)
+                row[d["pin"].name] = ContactState(
+                    d["pin"].name, case, int(self.iterations[j]), True, a0, a1,
+                    float(pres_out.max(initial=0.0)), tuple(map(float, mesh.nodes[nodes[i]])) if bearing.any() else None,
+                    pen, max(0.0, -float(pres.min(initial=0.0))) + 0.0, (float(f[0]), float(f[1])),
+                    float(d["pin"].clearance), float(d["radius"]), nodes, ang, gap, pres_out, lab)
+            out.append(row)
+        return out
+
+
+def has_contact(model) -> bool:
+    """Whether a model has a pin with a contact tie."""
+    return any(p.tie == "contact" for p in getattr(model, "pins", []) or [])
+
+
+def refuse_superposition(results, what: str) -> None:
+    """Refuse to superpose results with bearing contact (a :class:`~planar.core.errors.InputError`)."""
+    from .errors import InputError
+
+    for r in results:
+        states = getattr(r, "contact_states", None)
+        if states:
+            pins = ", ".join(map(repr, states))
+            raise InputError(
+                f"{what}: load case {r.case!r} has bearing contact (pin {pins}); contact is not linear (the contact "
+                "arc depends on the load), so load cases with contact do not superpose. Add a load case with the "
+                "combined loads (the factored loads of each case, in one case) and solve it")
+
