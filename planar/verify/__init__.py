@@ -26,7 +26,8 @@ from ._register import _CASES, ELEMENT_CASES, Record, _Case, case, check  # noqa
 
 def _load_cases() -> None:
     from . import core_cases  # noqa: F401
-    for mod in ("geometry_cases", "recovery_cases", "edge_cases", "pin_cases", "hotspot_cases", "lug_cases"):
+    for mod in ("geometry_cases", "recovery_cases", "edge_cases", "pin_cases", "hotspot_cases", "lug_cases",
+                "contact_cases", "joint_cases"):
         try:
             __import__(f"{__name__}.{mod}")
         except ModuleNotFoundError as exc:
