@@ -240,3 +240,22 @@ def test_sweep_plot_units_and_zero_line_on_a_margin_that_changes_sign():
     assert not [ln for ln in ax_peak.lines if ln.get_gid() == "zero-line"]
     fig = _table([0.1, 0.2, 0.4]).plot()                    # all passing: no zero line to cross
     assert not [ln for ax in fig.axes for ln in ax.lines if ln.get_gid() == "zero-line"]
+
+
+def test_model_picture_of_a_joint_draws_each_layer_and_its_fasteners():
+    mat = planar.Isotropic(E=70e3, nu=0.3)
+    a = planar.Model(planar.rectangle_mesh(40.0, 10.0, 8, 2), mat, thickness=2.0, units="N, mm, MPa")
+    b = planar.Model(planar.rectangle_mesh(40.0, 10.0, 8, 2, origin=(20.0, 0.0)), mat, thickness=2.0,
+                     units="N, mm, MPa")
+    a.add_support(planar.Fixed("left"))
+    b.add_load(planar.Traction("right", tx=50.0), case="pull")
+    joint = planar.Joint({"skin": a, "strap": b})
+    joint.add_fasteners(planar.Fasteners([(25.0, 5.0), (35.0, 5.0)], layers=("skin", "strap"), diameter=4.0,
+                                         flexibility=2e-5))
+    fig = plot_model(joint, fasteners=[(30.0, 2.0)])
+    g = _gids(fig)
+    assert {"outline:skin", "outline:strap", "layer-name:skin", "support:fixed:left", "load:traction:right"} <= set(g)
+    dots = g["fastener"]
+    assert sorted(zip(dots.get_xdata(), dots.get_ydata())) == [(25.0, 5.0), (30.0, 2.0), (35.0, 5.0)]
+    assert np.allclose(np.asarray(g["load:traction:right"].X), 60.0)   # on the strap's right edge, x = 60
+    assert fig.axes[0].get_xlim()[0] < 0.0 < 60.0 < fig.axes[0].get_xlim()[1]

@@ -69,19 +69,28 @@ def _with(v: float, unit: str) -> str:
     return f"{_num(v)} {unit}".rstrip()
 
 
+def _bounds(models) -> tuple[np.ndarray, np.ndarray]:
+    """The box (lower, upper corners) of the nodes used by the models' cells."""
+    xy = []
+    for m in models:
+        used = m.mesh.used_nodes()
+        xy.append(m.mesh.nodes[used] if used.any() else m.mesh.nodes)
+    xy = np.vstack(xy)
+    return xy.min(axis=0), xy.max(axis=0)
+
+
 class _Scene:
     """What every symbol needs: the axes, the outline, sizes and the legend entries collected."""
 
-    def __init__(self, model, ax):
-        self.model, self.mesh, self.ax = model, model.mesh, ax
-        used = model.mesh.used_nodes()
-        xy = model.mesh.nodes[used] if used.any() else model.mesh.nodes
-        self.lo, self.hi = xy.min(axis=0), xy.max(axis=0)
+    def __init__(self, model, ax, *, bounds=None, legend=None, notes=None, layer: str | None = None):
+        self.model, self.mesh, self.ax, self.layer = model, model.mesh, ax, layer
+        self.lo, self.hi = bounds if bounds is not None else _bounds([model])
         self.size = float(max(np.max(self.hi - self.lo), 1e-300))
         self.units = unit_system(getattr(model, "unit_system", None) or getattr(model, "units", None))
         self.outline = Outline(model.mesh.nodes, model.mesh.cells)
-        self.legend: dict[str, Any] = {}
-        self.notes: list[str] = []
+        self.legend: dict[str, Any] = {} if legend is None else legend
+        self.layer_index = 0
+        self.notes: list[str] = [] if notes is None else notes
 
     def unit(self, quantity: str) -> str:
         return self.units.unit_of(quantity)
@@ -138,11 +147,14 @@ def _draw_outline(sc: _Scene) -> None:
 
     pts, tris, _, _ = subdivide(sc.mesh.nodes, {k: v for k, v in sc.mesh.cells.items() if np.asarray(v).size},
                                 subdivisions=2)
-    fill = PolyCollection(pts[tris], facecolors="#eceff2", edgecolors="none", zorder=0)
-    fill.set_gid("part")
+    suffix = f":{sc.layer}" if sc.layer else ""
+    fill = PolyCollection(pts[tris], facecolors="#eceff2" if not sc.layer else "#c9d3dd", edgecolors="none",
+                          zorder=0, alpha=1.0 if not sc.layer else 0.45, antialiaseds=False)
+    fill.set_gid("part" + suffix)
     sc.ax.add_collection(fill)
-    lines = LineCollection(sc.outline.polylines(sc.mesh.nodes), colors=_INK, linewidths=1.1, zorder=2)
-    lines.set_gid("outline")
+    lines = LineCollection(sc.outline.polylines(sc.mesh.nodes), colors=_INK, linewidths=1.1, zorder=2,
+                           linestyles="solid" if not sc.layer else ((0, (6, 2)) if sc.layer_index % 2 else "solid"))
+    lines.set_gid("outline" + suffix)
     sc.ax.add_collection(lines)
 
 
@@ -308,6 +320,9 @@ def _fastener_points(model, given) -> np.ndarray:
     sources.append(getattr(model, "fasteners", None))
     for src in sources:
         for f in (src or []):
+            if callable(getattr(f, "points", None)):   # a group of fasteners of a joint
+                pts.extend(np.asarray(f.points(model), dtype=float).reshape(-1, 2))
+                continue
             p = f
             for attr in ("at", "point", "xy", "centre"):
                 if hasattr(f, attr):
@@ -320,10 +335,10 @@ def _fastener_points(model, given) -> np.ndarray:
     return np.array(pts).reshape(-1, 2)
 
 
-def _draw_fasteners(sc: _Scene, given) -> None:
+def _draw_fasteners(sc: _Scene, given, owner) -> None:
     from matplotlib.lines import Line2D
 
-    pts = _fastener_points(sc.model, given)
+    pts = _fastener_points(owner, given)
     if pts.size:
         ln, = sc.ax.plot(pts[:, 0], pts[:, 1], ls="none", marker="o", ms=6, color=_INK, zorder=6)
         ln.set_gid("fastener")
@@ -394,7 +409,7 @@ def _draw_loads(sc: _Scene, cases: Sequence[str]) -> None:
                     bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8))
         t.set_gid(f"load-value:{kind}:{load.where}")
         sc.add_legend(kind, Line2D([], [], color=colour, lw=1.4, marker=">", ms=5),
-                      f"{SYMBOLS[kind]} (arrow lengths in proportion, one scale for every edge load)")
+                      f"{SYMBOLS[kind]} (arrow length in proportion)")
     for ci, case in enumerate(cases):
         colour = _CASE_COLOURS[ci % len(_CASE_COLOURS)]
         prefix = f"{case}: " if several else ""
@@ -480,7 +495,9 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
 
     Parameters
     ----------
-    model : Model
+    model : Model or Joint
+        A model, or a fastened joint (:class:`planar.Joint`): its layers drawn over one another, each
+        with its supports and loads, and its fasteners as dots.
     path : path, optional
         Also write the picture as PNG (atomically).
     case : str or sequence of str, optional
@@ -488,7 +505,7 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     ax : matplotlib Axes, optional
         Draw into these axes; otherwise a new Agg figure is made.
     fasteners : iterable of (x, y), optional
-        Fastener positions drawn as dots (added to a model's own ``fasteners`` when it has them).
+        Fastener positions drawn as dots (added to a joint's own fasteners).
     title : str, optional
         Default: "Model: supports and loads" and the cases drawn.
     names : bool
@@ -512,25 +529,39 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     """
     from .plots import _new_figure, save_figure
 
-    if not hasattr(model, "mesh") or not hasattr(model, "supports"):
-        raise InputError(f"plot_model draws a planar Model, got {type(model).__name__}")
+    layers = getattr(model, "layers", None)
+    if isinstance(layers, dict) and layers and hasattr(model, "fasteners"):   # a fastened joint: its layers
+        models = [(str(k), m) for k, m in layers.items()]
+    elif hasattr(model, "mesh") and hasattr(model, "supports"):
+        models = [(None, model)]
+    else:
+        raise InputError(f"plot_model draws a planar Model or a Joint of layers, got {type(model).__name__}")
     cases = _cases(model, case)
-    x0, y0, x1, y1 = model.mesh.bounding_box()
-    aspect = (x1 - x0) / max(y1 - y0, 1e-12 * max(x1 - x0, 1.0))
+    lo, hi = _bounds([m for _, m in models])
+    aspect = float((hi[0] - lo[0]) / max(hi[1] - lo[1], 1e-12 * max(hi[0] - lo[0], 1.0)))
     own = ax is None
     if own:
         fig = _new_figure(aspect)
         ax = fig.add_subplot()
     else:
         fig = ax.figure
-    sc = _Scene(model, ax)
-    _draw_outline(sc)
-    if names:
-        _draw_edge_names(sc)
-    _draw_supports(sc)
-    _draw_pins(sc)
-    _draw_fasteners(sc, fasteners)
-    _draw_loads(sc, cases)
+    legend: dict[str, Any] = {}
+    notes: list[str] = []
+    for i, (layer, m) in enumerate(models):
+        sc = _Scene(m, ax, bounds=(lo, hi), legend=legend, notes=notes, layer=layer)
+        sc.layer_index = i
+        _draw_outline(sc)
+        if names and layer is None:
+            _draw_edge_names(sc)
+        elif names:  # the layers overlap: each is named at the top left of its own extent
+            a, b = _bounds([m])
+            t = ax.text(a[0], b[1], f" layer {layer}", fontsize=8, color=_INK, ha="left", va="bottom", zorder=7,
+                        style="italic")
+            t.set_gid(f"layer-name:{layer}")
+        _draw_supports(sc)
+        _draw_pins(sc)
+        _draw_loads(sc, [c for c in cases if c in m.cases])
+    _draw_fasteners(sc, fasteners, model)
     length = sc.unit("length")
     pad = 0.14 * sc.size
     ax.set_xlim(sc.lo[0] - pad, sc.hi[0] + pad)
@@ -548,9 +579,12 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
         t = ax.text(0.01, 0.01, "\n".join(sc.notes), transform=ax.transAxes, fontsize=7.5, color="0.2",
                     ha="left", va="bottom", zorder=8, bbox=dict(boxstyle="round,pad=0.3", fc="white", ec="0.6"))
         t.set_gid("notes")
-    ax.set_title(title or "Model: supports and loads", fontsize=11, loc="left", pad=6 + 12 * 2)
-    info = ax.text(0.0, 1.01, "\n".join(lines[:2]), transform=ax.transAxes, fontsize=8.5, color="0.25",
-                   ha="left", va="bottom")
+    heading = title or "Model: supports and loads"
+    if own:  # the heading above the figure, the units and cases under it (both kept in the layout)
+        fig.suptitle(heading, fontsize=11, x=0.02, ha="left")
+        info = ax.set_title("\n".join(lines[:2]), fontsize=8.5, color="0.25", loc="left")
+    else:
+        info = ax.set_title("\n".join([heading] + lines[:2]), fontsize=8.5, loc="left")
     info.set_gid("units")
     if sc.legend:
         ncols = 2 if len(sc.legend) > 3 else 1
