@@ -271,3 +271,120 @@ def test_demo_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path, m
     for words in ("thickness, region 'plate' 3 mm", "traction on edge 'right': 40 MPa along x",
                   "edge 'left' clamped", "not in the asymptotic range"):
         assert words in whole, words
+
+
+# ---------------------------------------------------------------------------------------- content, no browser
+def test_every_built_in_support_and_load_in_plain_words_with_units():
+    from planar.core.pins import Pin, PinLoad
+    from planar.core.units import unit_system
+    from planar.post.inputs import describe_load, describe_material, describe_pin, describe_support, short_name
+
+    u = unit_system("N, mm, MPa")
+    said = {
+        describe_support(planar.Fixed("left"), u): "edge 'left' clamped: both displacements held (ux = uy = 0)",
+        describe_support(planar.Roller("left", fixed="x"), u): "edge 'left' on rollers: ux held (= 0), free to move "
+                                                               "along y",
+        describe_support(planar.Symmetry("bottom"), u): "edge 'bottom' a line of symmetry: the displacement normal "
+                                                        "to it held, free to slide along it",
+        describe_support(planar.Prescribed("right", ux=0.1), u): "edge 'right': ux = 0.1 mm prescribed, uy free",
+        describe_support(planar.Fixed((0.0, 10.0)), u): "the point (0, 10) mm clamped: both displacements held "
+                                                        "(ux = uy = 0)",
+        describe_load(planar.Traction("right", tx=40.0), u): "traction on edge 'right': 40 MPa along x",
+        describe_load(planar.Traction("hole", normal=-5.0), u): "traction on edge 'hole': -5 MPa normal to the edge "
+                                                                "(positive pulls outward)",
+        describe_load(planar.Pressure("top", 2.5), u): "pressure on edge 'top': 2.5 MPa (positive pushes on the edge)",
+        describe_load(planar.PointForce("tip", fy=-100.0), u): "point force at point 'tip': fx = 0 N, fy = -100 N",
+        describe_load(planar.BodyForce(by=-1e-5), u): "body force per unit volume: bx = 0 N/mm^3, by = -1e-05 "
+                                                      "N/mm^3, in the whole plate",
+        describe_load(PinLoad("hole", fy=-1000.0, moment=50.0), u): "load on pin 'hole': fx = 0 N, fy = -1000 N, "
+                                                                    "moment 50 N mm (counter-clockwise positive)",
+        describe_pin(Pin("hole", hold="x", at=(5.0, 0.0)), u): "pin 'hole' tied rigidly to edge 'hole' (the edge "
+                                                               "moves with the pin as a rigid body) about (5, 0) mm; "
+                                                               "held along x, free along y; free to turn",
+        describe_material(planar.Isotropic(E=205e3, nu=0.29, density=7.85e-9), u):
+            "isotropic: E = 205000 MPa, nu = 0.29, density = 7.85e-09 t/mm^3",
+        short_name(planar.Fixed("left"), u): "clamp on edge 'left'",
+    }
+    for got, want in said.items():
+        assert got == want
+    for text in said:
+        assert not any(bad in text for bad in FORBIDDEN)
+
+
+def test_mesh_quality_of_known_shapes():
+    """Exact figures (geometry): an equilateral triangle has aspect ratio 1 and 60 deg corners; a right triangle
+    with legs 10 and 1 has aspect ratio L P / (4 sqrt(3) A) (Frey and George, Mesh Generation, 2000) and angles
+    atan(1/10) and 90 deg; a 2 x 1 rectangle has side ratio 2; a trapezoid Q4 with parallel sides 2 and 1 and
+    height 1 has det J linear in eta, from (1 + 2) / ... : the ratio of its smallest to largest value, 1 / 2."""
+    from planar.core.mesh import Mesh
+    from planar.post.meshquality import mesh_quality
+
+    s3 = np.sqrt(3.0)
+    q = mesh_quality(Mesh(np.array([[0, 0], [1, 0], [0.5, s3 / 2]]), {"T3": np.array([[0, 1, 2]])}))
+    assert q.worst_aspect == pytest.approx(1.0) and q.min_angle == pytest.approx(60.0) == q.max_angle
+    q = mesh_quality(Mesh(np.array([[0, 0], [10, 0], [0, 1.0]]), {"T3": np.array([[0, 1, 2]])}))
+    L, P, A = np.hypot(10, 1), 11 + np.hypot(10, 1), 5.0
+    assert q.worst_aspect == pytest.approx(L * P / (4 * s3 * A))
+    assert q.min_angle == pytest.approx(np.degrees(np.arctan(0.1))) and q.max_angle == pytest.approx(90.0)
+    assert q.counts["aspect"] == 1 and q.counts["small angle"] == 1
+    q = mesh_quality(Mesh(np.array([[0, 0], [2, 0], [2, 1], [0, 1.0]]), {"Q4": np.array([[0, 1, 2, 3]])}))
+    assert q.worst_aspect == pytest.approx(2.0) and q.min_jacobian_ratio == pytest.approx(1.0)
+    # trapezoid: bottom 2 wide, top 1 wide; det J = (1.5 - 0.5 eta) / 4 ... the width at eta: 1.5 - 0.5 eta
+    q = mesh_quality(Mesh(np.array([[0, 0], [2, 0], [1.5, 1], [0.5, 1.0]]), {"Q4": np.array([[0, 1, 2, 3]])}))
+    assert q.min_jacobian_ratio == pytest.approx(1.0 / 2.0)
+
+
+def test_convergence_verdict_joints_and_omitted_sections(bracket):
+    from planar.post import grid_convergence
+    from planar.post.report import render_html
+
+    from planar.core.errors import DiscretisationWarning
+
+    with pytest.warns(DiscretisationWarning, match="not in the asymptotic range"):  # oscillating values
+        wild = grid_convergence([100.0, 90.0, 95.0, 70.0], sizes=[1.0, 2.0, 4.0, 8.0], name="peak", unit="MPa")
+    # h halves each time, the change falls by 2^2: second order, in the asymptotic range (Roache 1998)
+    tame = grid_convergence([100.0, 99.0, 95.0], sizes=[1.0, 2.0, 4.0], name="peak", unit="MPa")
+    assert tame.asymptotic and not wild.asymptotic
+    html = render_html(stress_check_report(bracket, convergence=[tame, wild], picture=False, results=[],
+                                           hot_spots=False))
+    assert "not in the asymptotic range" in html and "none claimed" in html
+    assert tame.verdict in html and "Richardson extrapolation" in html
+    assert "Hot spots" not in html and "The model as analysed" not in html
+    rep = stress_check_report(bracket, omit=["mesh", "equilibrium"], picture=False, results=[])
+    titles = [s.title for s in rep.sections]
+    assert "Mesh" not in titles and "Equilibrium" not in titles and titles[-1] == "Sign-off"
+    with pytest.raises(planar.core.errors.NameNotFoundError, match="report section"):
+        stress_check_report(bracket, omit=["meshes"])
+    old = stress_check_report(bracket, title="old call", headline=[("peak", "1 MPa", "", "")], results=[],
+                              picture=False)                                   # the former signature still works
+    assert old.title == "old call" and old.sections[0].blocks[0].items == [("peak", "1 MPa", "", "")]
+
+
+def test_joint_and_contact_tables_state_their_units():
+    from test_joints import lap
+
+    jr = planar.solve(lap(2, 2.0, 3.2, 3e-5))["pull"]
+    from planar.post.report import render_html
+
+    html = render_html(stress_check_report(jr.layers["top"], joints=jr, picture=False, results=[], hot_spots=False))
+    assert "Joints and fasteners" in html and "bearing stress P/(d t) [MPa]" in html and "shear [N]" in html
+    assert "row 1" in html or ">row<" in html
+    from planar.core.pins import Pin, PinLoad, TIES
+
+    if "contact" not in TIES:
+        pytest.skip("this planar has no contact pins")
+    from planar.geometry import Circle, Plate, mesh
+
+    m = mesh(Plate.rectangle(60.0, 30.0, centre=(0.0, 0.0)).cut(Circle((10.0, 0.0), 5.0, name="hole")), size=2.5,
+             element="Q8", seed=1)
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_pin(Pin("hole", tie="contact", hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fx=1000.0), case="pull")
+    r = planar.solve(model)["pull"]
+    html = render_html(stress_check_report(r, picture=False, results=[], hot_spots=False))
+    assert "Contact" in html and "peak pressure [MPa]" in html and "force on the part [N]" in html
+    assert "bearing on edge &#x27;hole&#x27; where it touches" in html
+    st = r.contact_states["pin"]
+    # statics: the pin passes its whole load to the part through contact
+    assert st.force[0] == pytest.approx(1000.0, rel=1e-6)

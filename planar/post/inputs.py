@@ -112,7 +112,13 @@ def describe_pin(pin, units: UnitSystem | str | None = None, mesh=None) -> str:
         return str(own(units))
     tie = {"rigid": "tied rigidly to edge '{e}' (the edge moves with the pin as a rigid body)",
            "spreading": "tied to edge '{e}' by a spreading tie (its force spread over the edge; the hole may "
-                        "ovalise)"}.get(pin.tie, "tied to edge '{e}'").format(e=pin.edge)
+                        "ovalise)",
+           "contact": "bearing on edge '{e}' where it touches (contact: compression only, frictionless)"
+           }.get(pin.tie, "tied to edge '{e}'").format(e=pin.edge)
+    if pin.tie == "contact":
+        radius = getattr(pin, "radius", None)
+        tie += (f", pin radius {_num(radius)}{_u(units, 'length')}" if radius is not None else
+                f", radial clearance {_num(getattr(pin, 'clearance', 0.0))}{_u(units, 'length')}")
     at = pin.at
     if at is None and mesh is not None:
         try:

@@ -346,33 +346,22 @@ def _convergence_blocks(convergence) -> list:
     return out
 
 
-def _table_of(title: str, thing) -> Section | None:
-    """A section for contact states or joints: the object's own section, or a table of its records."""
+def _table_of(title: str, thing, units=None) -> Section | None:
+    """A section for contact states or a joint: their own tables, or a table of their records."""
+    from ._report_tables import contact_section, joint_section, records_section
+
     if thing is None:
         return None
-    if isinstance(thing, Section):
-        return thing
-    own = getattr(thing, "section", None)
-    if callable(own):
-        return own()
-    for attr in ("fastener_table", "table_rows", "as_rows", "records"):
-        got = getattr(thing, attr, None)
-        if got is not None:
-            thing = got() if callable(got) else got
-            break
-    rows = [r.as_dict() if hasattr(r, "as_dict") else dict(r) for r in thing] if thing is not None else []
-    if not rows:
-        return None
-    heads = list(dict.fromkeys(k for r in rows for k in r))
-
-    def cell(v):
-        if isinstance(v, float):
-            return f"{v:.5g}"
-        if isinstance(v, (tuple, list)):
-            return "(" + ", ".join(cell(x) for x in v) + ")"
-        return "-" if v is None else str(v)
-
-    return Section(title, [Table(heads, [[cell(r.get(h)) for h in heads] for r in rows])])
+    if hasattr(thing, "fasteners") and hasattr(thing, "layers"):
+        return joint_section(thing)
+    items = list(thing.values()) if hasattr(thing, "values") and callable(thing.values) else thing
+    if not isinstance(thing, Section) and not hasattr(thing, "section"):
+        items = list(items)
+        if not items:
+            return None
+        if all(hasattr(s, "peak_pressure") and hasattr(s, "arc_start_deg") for s in items):
+            return contact_section(items, units)
+    return records_section(title, thing)
 
 
 def _plain_text(sections: list, names: dict[str, str]) -> None:
@@ -559,10 +548,9 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         sections.append(Section("Checks against handbook values and allowables", list(checks)))
     if contact is None:
         contact = getattr(result, "contact_states", None)
-    for key, title_, thing in (("contact", "Contact", contact), ("joints", "Joints and fasteners", joints)):
-        sec = _table_of(title_, thing)
+    for title_, thing in (("Contact", contact), ("Joints and fasteners", joints)):
+        sec = _table_of(title_, thing, result.unit_system)
         if sec is not None:
-            sec.title = title_ if sec.title in ("", None) else sec.title
             sections.append(sec)
     sections.append(Section("Convergence evidence", _convergence_blocks(convergence) or [
         Paragraph("No convergence study was made for this report: the figures above come from one "
