@@ -88,7 +88,10 @@ def huth(*, diameter: float, t1: float, t2: float, E1: float, E2: float, Ef: flo
 
     Single shear: ``t1, E1`` and ``t2, E2`` are the two plates (the formula is symmetric in them only
     in single shear). Double shear: ``t1, E1`` is the middle plate and ``t2, E2`` each of the two outer
-    plates (together ``n t2``), and ``C`` is per the fastener's whole load. Range: fitted by Huth to
+    plates (together ``n t2``), and ``C`` is per the fastener's whole load. This reading is the one
+    that makes the plate terms consistent (the middle plate bears the whole load over ``t1``, the two
+    outer plates over ``2 t2``; the bracket then equals that of a half model, the middle plate's half
+    ``t1 / 2`` against one outer plate carrying half the load); the convention is recalled, not quoted. Range: fitted by Huth to
     his tests of aircraft-proportioned joints (thicknesses of the order of the diameter), loaded below
     the fastener's yield; the exact span of ``t / d`` tested is not recalled here, so far from
     ``t / d`` near 1 treat it as extrapolation.
