@@ -259,3 +259,18 @@ def test_model_picture_of_a_joint_draws_each_layer_and_its_fasteners():
     assert sorted(zip(dots.get_xdata(), dots.get_ydata())) == [(25.0, 5.0), (30.0, 2.0), (35.0, 5.0)]
     assert np.allclose(np.asarray(g["load:traction:right"].X), 60.0)   # on the strap's right edge, x = 60
     assert fig.axes[0].get_xlim()[0] < 0.0 < 60.0 < fig.axes[0].get_xlim()[1]
+
+
+def test_path_plot_marks_max_and_min_of_a_signed_field(kirsch):
+    from planar.post.plots import plot_along
+
+    fig = plot_along(kirsch, (A, 0.0), (10 * A, 0.0), "sigma_yy", n_points=91)
+    g = _gids(fig)
+    low = g["peak-min"]
+    # Kirsch: sigma_yy = -sigma at the hole's edge on the load axis, rising towards zero away from it
+    assert low.get_xdata()[0] == pytest.approx(0.0, abs=1e-9)
+    assert low.get_ydata()[0] == pytest.approx(-SIGMA, rel=0.08)
+    assert g["peak-min-label"].get_text().startswith("min -") and "MPa" in g["peak-min-label"].get_text()
+    assert g["peak-max"].get_ydata()[0] > low.get_ydata()[0]
+    g = _gids(plot_along(kirsch, (0.0, A), (0.0, 10 * A), "von_mises", n_points=31))
+    assert "peak-max" in g and "peak-min" not in g

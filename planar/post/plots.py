@@ -616,10 +616,13 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
     else:
         fig = ax.figure
     ax.plot(dist, vals, color="#1f5f8b", lw=1.8, label=field_label(field))
-    i = int(np.argmax(np.abs(vals) if field in SIGNED_FIELDS else vals))
-    ax.plot([dist[i]], [vals[i]], "o", mfc="none", mec="black", mew=1.4)
-    ax.annotate(f"{_fmt(vals[i])}{' ' + unit if unit else ''}", xy=(dist[i], vals[i]),
-                xytext=(8, -14 if vals[i] > 0 else 10), textcoords="offset points", fontsize=8.5)
+    ends = [("max", int(np.nanargmax(vals)))] + ([("min", int(np.nanargmin(vals)))] if field in SIGNED_FIELDS else [])
+    for word, i in ends:  # the maximum, and the minimum of a signed field
+        ring, = ax.plot([dist[i]], [vals[i]], "o" if word == "max" else "s", mfc="none", mec="black", mew=1.4)
+        ring.set_gid(f"peak-{word}")
+        ax.annotate(f"{word} {_fmt(vals[i])}{' ' + unit if unit else ''}", xy=(dist[i], vals[i]),
+                    xytext=(8, -14 if word == "max" else 10), textcoords="offset points",
+                    fontsize=8.5).set_gid(f"peak-{word}-label")
     for k, (lab, level) in enumerate((lines or {}).items()):
         ax.axhline(level, color=["#b5651d", "#5a7d2a", "#7b4f9d"][k % 3], lw=1.1, ls="--",
                    label=f"{lab} ({_fmt(level)}{' ' + unit if unit else ''})")
