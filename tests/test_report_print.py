@@ -186,6 +186,49 @@ def bracket():
     return bolted_bracket()
 
 
+# ---------------------------------------------------------------------------------------- the lug sample
+#: the mooring lug of samples/lug_check.py: 12 mm steel, 60 mm wide, a 25 mm hole 45 mm from the end, a shackle pin
+#: with 0.03 mm radial clearance pulling 50 kN along the lug, welded along its base (N, mm, MPa)
+WIDTH, HOLE_D, EDGE, THICK, FORCE, CLEARANCE = 60.0, 25.0, 45.0, 12.0, 50e3, 0.03
+
+
+def test_lug_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path):
+    from planar.core.pins import TIES, Pin, PinLoad
+    from planar.geometry import Refine, lug, mesh
+    from planar.post import lug_check
+
+    tie = "contact" if "contact" in TIES else "spreading"
+    m = mesh(lug(WIDTH, HOLE_D, EDGE, end="square"), size=6.0, element="T6",
+             refine=[Refine("hole", size=0.9, growth=1.25)])
+    model = planar.Model(m, planar.Isotropic(E=205e3, nu=0.29), thickness=THICK, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie=tie, hold=None, name="pin", **({"clearance": CLEARANCE} if tie == "contact" else {})))
+    model.add_load(PinLoad("pin", fy=FORCE), case="pull")
+    r = planar.solve(model)["pull"]
+    check = lug_check(r, FORCE, WIDTH, HOLE_D, THICK, edge_distance=EDGE, tension_allowable=355.0,
+                      bearing_allowable=530.0, factor_of_safety=1.5)
+    # the lug's nominal stresses (common practice): net section P / ((W - D) t), bearing P / (D t)
+    assert check.net_section == pytest.approx(FORCE / ((WIDTH - HOLE_D) * THICK))
+    assert check.bearing == pytest.approx(FORCE / (HOLE_D * THICK))
+    report = stress_check_report(r, checks=[check], nominal=check.net_section, allowable=355.0,
+                                 factor_of_safety=1.5, title="Mooring lug ML-12, 50 kN pull", revision="A")
+    html = write_report(tmp_path / "lug.html", report)
+    pages = read_pdf(print_pdf(html, tmp_path))
+    check_printed(report, pages)
+    whole = check_words(report, pages, r.model)
+    assert "revision A" in whole and "load on pin 'pin': fx = 0 N, fy = 50000 N" in whole
+    from planar.post import hot_spots
+
+    spots = hot_spots(r, nominal=check.net_section, allowable=355.0, factor_of_safety=1.5)
+    assert f"{spots[0].value:.4g} MPa" in pages[0]["text"]  # the summary shows the highest spot, flagged or not
+    assert "net-section tension P / ((W - D) t)" in whole and "Kt, " in whole and "margin of safety" in whole
+    if tie == "contact":
+        assert "Contact" in whole and "radial clearance 0.03 mm" in whole
+    caution = "No buckling, fatigue, fracture or plasticity check has been made."
+    assert whole.count(caution) == 1                     # the cautions once, not after each check
+
+
+@pytest.mark.slow
 def test_bracket_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path, bracket):
     r = bracket
     # statics (common practice): the two bolts carry the 5 MPa x 40 mm x 4 mm = 800 N end load

@@ -125,6 +125,12 @@ def describe_pin(pin, units: UnitSystem | str | None = None, mesh=None) -> str:
             at = tuple(float(c) for c in pin.point(mesh))
         except Exception:  # noqa: BLE001 - the point is extra information
             at = None
+    if at is not None:
+        scale = 1.0
+        if mesh is not None:
+            x0, y0, x1, y1 = mesh.bounding_box()
+            scale = max(x1 - x0, y1 - y0, 1e-300)
+        at = tuple(0.0 if abs(c) < 1e-9 * scale else c for c in at)  # round-off of a fitted centre reads 0
     point = f" about ({_num(at[0])}, {_num(at[1])}){_u(units, 'length')}" if at is not None else ""
     hold = pin.hold
     if hold is None:

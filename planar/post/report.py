@@ -203,6 +203,16 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
             tiles.append((f"margin of safety, {first.feature}", f"{first.margin:+.2f}",
                           f"allowable {allowable:.4g}{u}, factor of safety {factor_of_safety:g}",
                           "pass" if first.margin >= 0 else "fail"))
+        top = spots[0]
+        if gov is not None and top is not gov and top.value > gov.value:  # a flagged spot above the governing one
+            extra = [f"{top.feature}, at {_pt(top.location, length)}", f"next to {top.next_to}: judge it by how the "
+                     "part is really held or loaded"]
+            if top.Kt is not None:
+                extra.insert(1, f"Kt {top.Kt:.3f}")
+            if top.margin is not None:
+                extra.insert(1, f"margin {top.margin:+.2f}")
+            tiles.append((f"highest {word}, flagged", f"{top.value:.4g}{u}", "; ".join(extra),
+                          "fail" if top.margin is not None and top.margin < 0 else ""))
         if gov is None:  # every spot is made by how the part is held or loaded: say what the part carries away from them
             from ..core.zones import Away
 
@@ -214,7 +224,7 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
                 pass
         seen = {first.feature}
         for s in spots:
-            if s.feature in seen or len(tiles) >= 5:
+            if s.feature in seen or len(tiles) >= 6:
                 continue
             seen.add(s.feature)
             extra = [f"at {_pt(s.location, length)}"]
@@ -364,6 +374,33 @@ def _table_of(title: str, thing, units=None) -> Section | None:
     return records_section(title, thing)
 
 
+def _check_blocks(checks) -> list:
+    """The caller's checks as blocks: blocks as they are; a check object (a lug check, Kt, a margin) tabled."""
+    out = []
+    for c in checks:
+        if isinstance(c, (Paragraph, Table, KeyValues, Figure, Notice, Tiles, SignOff)):
+            out.append(c)
+        elif callable(getattr(c, "rows", None)) and isinstance(getattr(c, "margins", None), dict):
+            keys = {"net-section tension": "net_section", "bearing": "bearing", "shear-out": "shear_out",
+                    "peak hoop stress on the hole": "peak"}
+            rows = []
+            for name, formula, value, unit in c.rows():
+                ms = c.margins.get(keys.get(name, ""))
+                rows.append([name, formula, f"{value:.4g}" + (f" {unit}" if unit and unit != "-" else ""),
+                             "-" if ms is None else f"{ms:+.3f}", "" if ms is None else ("pass" if ms >= 0 else "fail")])
+            fs = getattr(c, "factor_of_safety", 1.0)
+            note = getattr(getattr(c, "concentration", None), "note", "")
+            out.append(Table(["check", "formula", "value", "margin of safety", "status"], rows, status_column=4,
+                             caption=f"{type(c).__name__.replace('Check', ' check')}, load case '{c.case}': "
+                                     f"margins = allowable / ({fs:g} x stress) - 1"
+                                     + (f". The peak sits {note}." if note else "."), numeric=[3]))
+        elif callable(getattr(c, "summary", None)):
+            out.append(Paragraph(str(c.summary())))
+        else:
+            raise InputError(f"checks= takes report blocks or check results (a lug check, Kt, a margin), got {c!r}")
+    return out
+
+
 def _plain_text(sections: list, names: dict[str, str]) -> None:
     """Replace the Python spellings of supports, pins and loads in the text of every block by plain words."""
     if not names:
@@ -460,8 +497,10 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         Replaces the summary tiles found from the hot spots.
     results : sequence of blocks, optional
         Replaces the section "Results" (default: the extremes of the stresses and a contour of ``field``).
-    checks : sequence of blocks
-        Section "Checks against handbook values and allowables" (left out when empty).
+    checks : sequence of blocks or check results
+        Section "Checks against handbook values and allowables" (left out when empty); a check result
+        (:func:`planar.post.lug_check`, :func:`planar.post.kt`, :func:`planar.post.margin_of_safety`)
+        is tabled or summarised.
     convergence : GridConvergence, or a sequence of them or of blocks
         Convergence evidence; a study is tabled with its verdict (including "not in the asymptotic
         range"). Without it the section says that no study was made.
@@ -545,7 +584,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     elif no_spots:
         sections.append(Section("Hot spots", [Paragraph(f"No hot spots could be found: {no_spots}")]))
     if checks:
-        sections.append(Section("Checks against handbook values and allowables", list(checks)))
+        sections.append(Section("Checks against handbook values and allowables", _check_blocks(checks)))
     if contact is None:
         contact = getattr(result, "contact_states", None)
     for title_, thing in (("Contact", contact), ("Joints and fasteners", joints)):
