@@ -76,7 +76,8 @@ class Outline:
         nodes = np.asarray(nodes, float)[:, :2]
         block, cell, edge, keys = _sides(self.cells, etypes)
         if keys.shape[0]:
-            _, inv, count = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
+            code = keys[:, 0].astype(np.int64) * (int(keys.max()) + 1) + keys[:, 1]   # one int per side
+            _, inv, count = np.unique(code, return_inverse=True, return_counts=True)
             once = count[inv.reshape(-1)] == 1
         else:
             once = np.zeros(0, bool)
@@ -125,14 +126,22 @@ class Outline:
 
 
 def side_pairs(cells: Mapping[str, np.ndarray], etypes=None) -> np.ndarray:
-    """Node pairs (p, 2) whose distance a drawing must keep: every cell side, and each quadrilateral's diagonals."""
-    _, _, _, keys = _sides(cells, etypes)
-    pairs = [keys]
+    """Node pairs (p, 2) whose distance a drawing must keep: every cell side, and each quadrilateral's diagonals.
+
+    A side shared by two cells is listed twice (it changes no largest or smallest stretch, and
+    leaving it saves a sort of every side).
+    """
+    pairs = []
     for layout, conn in cells.items():
         conn = np.asarray(conn)
-        if conn.size and _etype_of(layout, etypes).cell == "quad":
+        if conn.size == 0:
+            continue
+        et = _etype_of(layout, etypes)
+        ed = np.asarray(et.edges)
+        pairs.append(np.stack([conn[:, ed[:, 0]], conn[:, ed[:, 1]]], axis=-1).reshape(-1, 2))
+        if et.cell == "quad":
             pairs += [conn[:, [0, 2]], conn[:, [1, 3]]]
-    return np.unique(np.sort(np.vstack(pairs), axis=1), axis=0) if pairs[0].size else np.zeros((0, 2), np.int64)
+    return np.vstack(pairs).astype(np.int64) if pairs else np.zeros((0, 2), np.int64)
 
 
 def _nice_down(x: float) -> float:
