@@ -307,7 +307,8 @@ def _draw_pins(sc: _Scene) -> None:
         held = {None: "free", "both": "held", "x": "held in x", "y": "held in y"}.get(
             pin.hold if isinstance(pin.hold, (str, type(None))) else "", "held along a direction")
         reach = float(np.max(np.hypot(*(ends - c).T))) if ends.size else 0.0
-        t = ax.text(c[0] + reach + 0.015 * sc.size, c[1] - reach, f"pin {pin.name}\n{pin.tie} tie, {held}, "
+        spot = np.clip(c + np.array([reach + 0.015 * sc.size, -reach]), sc.lo, sc.hi - [0.2 * sc.size, 0.0])
+        t = ax.text(spot[0], spot[1], f"pin {pin.name}\n{pin.tie} tie, {held}, "
                     f"rotation {pin.rotation}", fontsize=7, color=_PIN, zorder=7, ha="left", va="top",
                     bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.8))
         t.set_gid(f"pin-label:{pin.name}")
