@@ -226,7 +226,7 @@ h2, h3, caption { break-after: avoid; }
   body { font-size: 10pt; }
   main { max-width: none; padding: 0; }
   h1 { font-size: 18pt; } h2 { font-size: 13pt; margin-top: 16pt; }
-  figure img { max-height: 190mm; width: auto; max-width: 100%; }
+  figure img { max-height: 118mm; width: auto; max-width: 100%; }
   .tile .value { font-size: 15pt; }
   a { color: inherit; text-decoration: none; }
 }
