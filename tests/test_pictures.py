@@ -77,6 +77,25 @@ def test_model_picture_draws_fixed_roller_pin_and_load_as_distinct_tagged_symbol
     ax = fig.axes[0]
     assert ax.get_xlabel() == "x [mm]" and ax.get_ylabel() == "y [mm]" and ax.get_aspect() == 1.0
     assert "units: N, mm, MPa" in g["units"].get_text()
+    # and on the rendered image: each symbol's own colour is painted where its artist says it is
+    fig.canvas.draw()
+    image = np.asarray(fig.canvas.buffer_rgba())[..., :3].astype(int)
+
+    def painted(xy, colour, r=6):
+        px, py = ax.transData.transform(xy)
+        row, col = int(round(image.shape[0] - py)), int(round(px))
+        patch = image[max(row - r, 0):row + r + 1, max(col - r, 0):col + r + 1]
+        rgb = np.array([int(colour[k:k + 2], 16) for k in (1, 3, 5)])
+        return bool((np.abs(patch - rgb).sum(axis=-1) < 60).any())
+
+    from planar.post import picture
+
+    assert painted((-35.0, 0.0), picture._PIN)                                      # the pin's ring and cross
+    assert painted(fixed.get_segments()[0].mean(axis=0), picture._SUPPORT)          # a hatching stroke
+    assert painted((roller.get_xdata()[3], roller.get_ydata()[3]), picture._SUPPORT)  # a roller
+    tip = np.asarray(load.X)[0] + 0.5 * np.asarray(load.U)[0], np.asarray(load.Y)[0]
+    assert painted(tip, picture._LOAD)                                              # a traction arrow
+    assert not painted((0.0, 0.0), picture._LOAD) and not painted((0.0, 0.0), picture._PIN)  # the bare plate
 
 
 def test_model_picture_symmetry_prescribed_gravity_temperature_and_unknown_case():
