@@ -223,7 +223,20 @@ def main(argv=None) -> int:
     p.add_argument("--compare-iterative", action="store_true",
                    help="also time the bare iterative solve (multigrid-preconditioned CG) of the same matrix "
                         "against the bare direct one, in this run")
+    p.add_argument("--contact-lug", action="store_true",
+                   help="the lug-with-contact case instead (benchmarks/contact.py): the contact solve against the "
+                        "linear solve of the same lug mesh, time and peak memory, in this run")
     args = p.parse_args(argv)
+    if args.contact_lug:
+        from contact import report, run_contact
+
+        rec = run_contact(args.dofs, args.element, args.solver, warm_gib=args.warm_gib)
+        print(report(rec))
+        if args.json:
+            from planar.post.files import atomic_write_text
+
+            atomic_write_text(args.json, json.dumps(rec, indent=1))
+        return 0
     rec = run(args.dofs, args.element, args.solver, warm_gib=args.warm_gib, compare=args.compare_iterative)
     print(f"{rec['dofs']:,} unknowns, {rec['elements']:,} {rec['element']} elements, solver {rec['solver']}")
     for k, v in rec["stages"].items():

@@ -179,3 +179,18 @@ def test_hertz_half_width_and_peak_pressure_within_3_percent():
 
     for rec in hertz_contact("Q4"):
         assert rec.passed, rec
+
+
+@pytest.mark.parametrize("name", [s for s in ("pardiso", "cholmod") if s in solvers_module.available_solvers()])
+def test_gram_by_the_forward_half_equals_the_flexibility(name):
+    """b^T K^-1 b from the forward substitution alone (K = P^T L L^T P) equals the full solve's."""
+    import scipy.sparse as sp
+
+    rng = np.random.default_rng(3)
+    n = 60
+    M = sp.random(n, n, density=0.1, random_state=4)
+    K = (M @ M.T + sp.eye(n) * n).tocsc()
+    f = solvers_module.factorize(sp.tril(K).tocsc(), name)
+    b = np.zeros((n, 5))
+    b[rng.choice(n, 5, replace=False), np.arange(5)] = 1.0
+    assert f.gram(b) == pytest.approx(b.T @ f.solve(b), rel=1e-10, abs=1e-14)

@@ -344,7 +344,7 @@ class ContactSet:
                 bad = gf[fixed, j] < -1e-9 * self._radius_of(fixed)
                 if bad.any():
                     self._refuse_fixed(fixed[np.argmax(bad)], case)
-        cand = self._dilate(np.any(gf < 0, axis=1) & self.live) | self.anchor
+        cand = self._dilate(np.any((h < 0) | (gf < 0), axis=1) & self.live) | self.anchor
         tol = 1e-8 * self._radius_of(np.arange(self.m))
         for _ in range(8):
             rows = np.flatnonzero(cand)

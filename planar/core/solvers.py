@@ -29,7 +29,7 @@ from .errors import InputError, ResourceError, SolverError
 _EPS = float(np.finfo(float).eps)
 
 __all__ = ["Factorization", "factorize", "available_solvers", "estimate_memory", "available_memory",
-           "SOLVERS"]
+           "coarse_unknowns", "SOLVERS"]
 
 SOLVERS = ("auto", "pardiso", "cholmod", "amg", "superlu")
 
@@ -93,16 +93,41 @@ def available_memory() -> int:
     return 1 << 62
 
 
-def estimate_memory(n: int, method: str, matrix_entries: int = 0) -> int:
-    """Rough peak bytes a back end needs for n unknowns of a 2D elasticity system.
+def estimate_memory(n: int, method: str, matrix_entries: int = 0, coarse_unknowns: int | None = None) -> int:
+    """Rough peak bytes of the whole pipeline (mesh, assembly, solve, recovery) for n unknowns of a 2D
+    elasticity system with a given back end.
 
-    Fitted to measurements on this project's benchmark (structured and gmsh plates, T3 to Q9):
-    direct factors grow like n log n; AMG like n. ``matrix_entries`` (element-matrix entries of the
+    Direct back ends: fitted to measurements on this project's benchmark (structured and gmsh plates,
+    T3 to Q9): the factor grows like n log n, and ``matrix_entries`` (element-matrix entries of the
     lower triangle) adds the assembly's own arrays, 32 bytes each at the peak.
+
+    ``"amg"``: ``150 MiB + 522 n + 34 matrix_entries + 629 coarse_unknowns`` bytes, a least-squares
+    fit to the peak resident memory of ``benchmarks/run.py --solver amg`` at 10^6 unknowns for T3,
+    T6, Q4 and Q8 (each within 5 %): the mesh and the assembled matrix with its full copy grow with
+    n and the entries, the multigrid hierarchy with the unknowns of its nodal space
+    (``coarse_unknowns``: the corner nodes' on quadratic elements, about a quarter of n; n on linear
+    ones, the default).
     """
     n = max(int(n), 1)
+    if method == "amg":
+        nc = n if coarse_unknowns is None else min(max(int(coarse_unknowns), 0), n)
+        return int(150 * 2**20 + 522 * n + 34 * int(matrix_entries) + 629 * nc)
     extra = 32 * int(matrix_entries)
     return _solver_memory(n, method) + extra
+
+
+def coarse_unknowns(cells) -> int:
+    """The unknowns of the multigrid's nodal space, estimated from the cell blocks before any node is
+    counted: two per corner node, a triangle mesh having about half as many vertices as cells and a
+    quadrilateral mesh about as many (Euler's formula).
+
+    Parameters
+    ----------
+    cells : iterable of (cell, n_cells)
+        The reference cell (``"triangle"`` or ``"quad"``; anything else counts as a quadrilateral,
+        the larger estimate) and the number of cells of each block.
+    """
+    return int(sum(2 * int(k) * (0.5 if c == "triangle" else 1.0) for c, k in cells))
 
 
 def _solver_memory(n: int, method: str) -> int:
@@ -112,7 +137,7 @@ def _solver_memory(n: int, method: str) -> int:
     if method == "superlu":
         return int(260 * n * logn)
     if method == "amg":
-        return int(1200 * n)
+        return estimate_memory(n, "amg")
     raise InputError(f"unknown solver {method!r}; pick one of {', '.join(map(repr, SOLVERS))}")
 
 
@@ -266,11 +291,29 @@ class _Pardiso:
         return x
 
     def gram(self, b):
-        """``b^T K^-1 b`` by the forward substitution only (phase 331: ``Z = L^-1 P b``), then ``Z^T Z``."""
+        """``b^T K^-1 b`` by the forward substitution only (phase 331: ``Z = L^-1 P b``), then ``Z^T Z``.
+
+        ``Z`` is zero outside the elimination tree's paths from the right-hand sides' rows, so only its
+        non-zero rows enter the product, which MKL's own ``dsyrk`` forms (numpy's BLAS threads, started
+        right after PARDISO's, fight MKL's for the cores and were measured up to 50 times slower).
+        """
+        import ctypes
+
         Z = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))
         if not np.all(np.isfinite(Z)):
             raise _numerical(_SINGULAR)
-        return Z.T @ Z
+        Zs = np.ascontiguousarray(Z[np.flatnonzero(np.any(Z != 0.0, axis=1))])
+        m = Zs.shape[1]
+        W = np.zeros((m, m))
+        if Zs.shape[0] and m:
+            fn = ctypes.CDLL(_mkl_path()).cblas_dsyrk
+            c = ctypes
+            fn.argtypes = [c.c_int, c.c_int, c.c_int, c.c_int, c.c_int, c.c_double, c.c_void_p, c.c_int,
+                           c.c_double, c.c_void_p, c.c_int]
+            fn.restype = None
+            fn(101, 121, 112, m, Zs.shape[0], 1.0, Zs.ctypes.data, m, 0.0, W.ctypes.data, m)  # row-major, upper, A^T A
+            W = np.triu(W) + np.triu(W, 1).T
+        return W
 
     def solve(self, b):
         b = np.asarray(b, dtype=float)
@@ -510,8 +553,11 @@ _INSTALL = {"pardiso": "pip install 'planar[fast]' (pypardiso, x86 only)", "chol
             "amg": "pip install pyamg", "superlu": "pip install scipy"}
 
 
-def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_entries: int = 0) -> str:
-    """The back end ``factorize`` would use for n unknowns.
+def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_entries: int = 0,
+           coarse_unknowns: int | None = None) -> str:
+    """The back end ``factorize`` would use for n unknowns: the fastest installed direct one whose
+    estimate of the whole pipeline's peak memory (:func:`estimate_memory`) fits, else the iterative
+    one (``coarse_unknowns``: the size of its nodal space, see :func:`coarse_unknowns`).
 
     Raises
     ------
@@ -524,7 +570,7 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
     if method != "auto":
         if not _importable(_MODULES[method]):
             raise SolverError(f"the {method!r} solver is not installed: {_INSTALL[method]}")
-        need = estimate_memory(n, method, matrix_entries)
+        need = estimate_memory(n, method, matrix_entries, coarse_unknowns)
         if need > memory:
             raise ResourceError(
                 f"{n:,} unknowns with the {method!r} solver need about {need / 2**30:.1f} GiB but "
@@ -540,9 +586,9 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
     for name in order:
         if name == "superlu" and n > 200_000:
             continue
-        if estimate_memory(n, name, matrix_entries) <= memory:
+        if estimate_memory(n, name, matrix_entries, coarse_unknowns) <= memory:
             return name
-    best = min(estimate_memory(n, m, matrix_entries) for m in ("amg", "cholmod"))
+    best = min(estimate_memory(n, m, matrix_entries, coarse_unknowns) for m in ("amg", "cholmod"))
     raise ResourceError(
         f"{n:,} unknowns need about {best / 2**30:.1f} GiB even with the leanest solver, but "
         f"{memory / 2**30:.1f} GiB is available; coarsen the mesh away from the stress raisers or "
