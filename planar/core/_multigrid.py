@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-__all__ = ["NodalSpace", "nodal_space", "hierarchy", "Cycle"]
+__all__ = ["NodalSpace", "nodal_space", "hierarchy", "Cycle", "coarse_size"]
 
 
 @dataclass
@@ -287,3 +287,19 @@ class Cycle:
 
         n = self.levels[0].A.shape[0] if self._P is None else self._P.shape[0]
         return LinearOperator((n, n), matvec=self.apply, dtype=float)
+
+
+def coarse_size(blocks) -> int | None:
+    """The nodal space's unknowns estimated from cell blocks (for the memory estimate), or None when a
+    block is of linear elements (the nodal space is then every node's).
+
+    Parameters
+    ----------
+    blocks : iterable of (element type or None, n_cells)
+    """
+    from .solvers import coarse_unknowns
+
+    blocks = list(blocks)
+    if any(t is None or int(getattr(t, "degree", 1)) < 2 or _layout(t) is None for t, _ in blocks):
+        return None
+    return coarse_unknowns((t.cell, k) for t, k in blocks)

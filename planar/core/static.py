@@ -16,7 +16,7 @@ from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigi
 from .result import Result
 from . import diagnose, solvers
 from .solvers import choose, factorize
-from ._multigrid import nodal_space
+from ._multigrid import coarse_size, nodal_space
 from .supports import gather, note_snapped
 from ._tying import Tying
 from .timing import Timer
@@ -206,7 +206,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     # the matrix entries from the cell blocks' widths, the unknowns at most two per node
     blocks0 = model.mesh.cells.values()
     choose(2 * model.mesh.n_nodes, solver,
-           matrix_entries=sum(c.shape[0] * (2 * c.shape[1]) * (2 * c.shape[1] + 1) // 2 for c in blocks0))
+           matrix_entries=sum(c.shape[0] * (2 * c.shape[1]) * (2 * c.shape[1] + 1) // 2 for c in blocks0),
+           coarse_unknowns=coarse_size((_element_or_none(name), c.shape[0]) for name, c in model.mesh.cells.items()))
     asm = Assembly(model, distortion_limit=distortion_limit)
     mesh = asm.mesh
     cons = constrain(mesh, model.supports)
@@ -234,7 +235,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     pres_index = np.full(ndof, -1, dtype=np.int64)
     pres_index[pdofs] = np.arange(pdofs.size)
     entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
-    solver = choose(free.size, solver, matrix_entries=entries)  # refuse up front what cannot fit
+    solver = choose(free.size, solver, matrix_entries=entries,  # refuse up front what cannot fit
+                    coarse_unknowns=coarse_size((b.etype, b.n) for b in asm.blocks))
     timer.lap("checks")
     timer.size(free.size)
     timer.start("assembling")
@@ -369,6 +371,17 @@ def _check_finite(u: np.ndarray, reactions: np.ndarray, cases: list[str]) -> Non
                 "the loads, moduli or sizes are far out of range (check the units: e.g. N, mm, MPa), or "
                 "the model is nearly a mechanism"
             )
+
+
+def _element_or_none(name: str):
+    """The registered element type of a cell block's name, or None (the memory estimate then assumes
+    the larger, linear case)."""
+    from .registry import element_type
+
+    try:
+        return element_type(name)
+    except Exception:  # an unknown name is reported by the element checks, with its fix
+        return None
 
 
 def _rigid_modes(xy: np.ndarray, rotation) -> np.ndarray:
