@@ -21,7 +21,7 @@ import numpy as np
 
 from ._outline import DISTORTION, Outline, side_pairs
 
-__all__ = ["distortion_at", "draw_outlines", "mark_extremes", "shape_note", "PLACES"]
+__all__ = ["distortion_at", "draw_outlines", "mark_extremes", "shape_note", "check_place", "PLACES"]
 
 #: where the contour of a result picture is drawn
 PLACES = ("undeformed", "deformed")
@@ -129,13 +129,12 @@ def shape_note(displacement, scale: float, on: str, length: str, distortion: flo
     if displacement is None or scale <= 0:
         return "undeformed shape: axes, markers and labels in the part's coordinates"
     umax = float(np.max(np.hypot(displacement[:, 0], displacement[:, 1])))
-    s = f"{scale:g}"
     pct = 100.0 * distortion
     shape = (f"; drawn sides within {pct:.2g} % of their length)" if distortion <= DISTORTION + 1e-12 else
              f")\ndrawn sides distorted by up to {pct:.2g} % of their length: features look out of shape")
     factor = f"displacements x {scale:g} (magnified {scale:g} times; largest {fmt(umax)}{len_}{shape}"
     if on == "undeformed":
-        return f"contours on the undeformed part (axes, markers, labels in its coordinates); dashed: deformed outline\n" \
+        return "contours on the undeformed part (axes, markers, labels in its coordinates); dashed: deformed outline\n" \
                + factor
     return f"contours on the deformed shape (axes, markers where drawn); grey dashed: undeformed outline\n{factor}"
 
