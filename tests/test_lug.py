@@ -182,6 +182,15 @@ def test_contact_on_the_lug_bears_on_the_loaded_half(lug_results):
 
 
 @pytest.mark.skipif(not HAS_CONTACT, reason="bearing contact is not in this planar")
+def test_a_peak_on_a_hole_in_contact_is_the_parts_own_and_a_tied_holes_is_the_idealisations(lug_results):
+    # a tie forces the hole's motion (rigid) or its load's shape (spreading): the peak there is the tie's;
+    # contact lets the hole bear only where it touches, so its peak is the lug's own (no caution)
+    assert lug_check(lug_results["contact"], P, W, D, T).concentration.note == ""
+    for tie in ("rigid", "spreading"):
+        assert "idealisation" in lug_check(lug_results[tie], P, W, D, T).concentration.note
+
+
+@pytest.mark.skipif(not HAS_CONTACT, reason="bearing contact is not in this planar")
 def test_contact_with_clearance_narrows_the_arc_and_raises_the_peak_pressure(lug_results):
     loose = planar.solve(lug_model("contact", clearance=0.05))["pull"].contact_states["pin"]
     tight = lug_results["contact"].contact_states["pin"]

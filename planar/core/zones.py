@@ -334,6 +334,8 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
             if nodes.size:
                 out.append((f"the support {s!r}", nodes))
         for p in getattr(model, "pins", ()):  # a pin's tie is an idealisation of the fit of the pin in its hole
+            if getattr(p, "tie", None) == "contact":  # bearing contact: the hole bears only where it touches
+                continue
             out.append((f"the pin {p.describe()}", np.asarray(mesh.nodes_of(p.edge), dtype=np.int64).ravel()))
     if loads:
         seen = set()
