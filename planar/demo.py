@@ -447,7 +447,8 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
                    ("element size", f"{part.sizes[-1]:g} mm at the hole edge, growing to "
                                     f"{4 * part.sizes[-1]:g} mm away from it"),
                    ("mesher", "gmsh, through planar.geometry")],
-        run_rows=run_rows, hot_spots=None if spots is None else _hot_spot_section(spots, figs))
+        run_rows=run_rows, hot_spots=None if spots is None else _hot_spot_section(spots, figs),
+        script=__file__)  # the code that made the report is this module
 
 
 def _hot_spot_section(spots, figs):

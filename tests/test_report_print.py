@@ -431,3 +431,43 @@ def test_joint_and_contact_tables_state_their_units():
     st = r.contact_states["pin"]
     # statics: the pin passes its whole load to the part through contact
     assert st.force[0] == pytest.approx(1000.0, rel=1e-6)
+
+
+def test_plugin_loads_say_themselves_and_combinations_are_named():
+    from planar.core.loads import LoadKind
+    from planar.core.units import unit_system
+    from planar.post.inputs import describe_load
+    from planar.post import combine
+    from planar.post.report import render_html
+
+    class Quiet(LoadKind):  # a plugin load with no plain words: its kind and describe()
+        name = "quiet-load"
+
+        def describe(self):
+            return "a load of its own kind"
+
+    class Plain(Quiet):
+        def describe_plain(self, units):
+            return f"a load of 3 {units.unit_of('force')}"
+
+    u = unit_system("N, mm, MPa")
+    assert describe_load(Quiet(), u) == "quiet-load: a load of its own kind"
+    assert describe_load(Plain(), u) == "a load of 3 N"
+    mesh = planar.rectangle_mesh(100.0, 20.0, 10, 2, "Q8")
+    model = planar.Model(mesh, planar.Isotropic(E=70e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=-2.0), case="shear")
+    model.add_load(planar.PointForce("corner_11", fx=50.0), case="pull")
+    res = planar.solve(model)
+    html = render_html(stress_check_report(combine(res, {"shear": 1.35, "pull": 1.5}, name="ultimate"),
+                                           picture=False, results=[]))
+    assert "ultimate = 1.35 x shear + 1.5 x pull" in html
+    assert "point force at point &#x27;corner_11&#x27;: fx = 50 N, fy = 0 N" in html
+    assert not [bad for bad in FORBIDDEN if bad.replace("'", "&#x27;") in html]
+    from planar.core.registry import registry
+
+    if "pin-bearing" in registry().names("load"):  # the example plugin says itself in plain words
+        from planar.core.registry import load_kind
+
+        text = describe_load(load_kind("pin-bearing")("hole", 40e3, angle=90.0), u)
+        assert text.startswith("pin bearing on edge 'hole': 40000 N at 90 deg from x")

@@ -202,6 +202,12 @@ class PinBearing(LoadKind):
     def describe(self):
         return repr(self)
 
+    def describe_plain(self, units) -> str:
+        """In plain words with units, for reports (``units``: the model's unit system)."""
+        force = units.unit_of("force") if units is not None else ""
+        return (f"pin bearing on edge '{self.where}': {self.force:.6g}{' ' + force if force else ''} at "
+                f"{self.angle:.4g} deg from x, spread as a cosine pressure over the loaded half of the hole")
+
     def names_used(self):
         return [("edge", self.where)]
 
