@@ -232,6 +232,10 @@ def test_minimum_marked_for_a_signed_field_not_for_von_mises(kirsch):
     assert np.allclose(_label_point(text), (A, 0.0), atol=0.6)
     g = _gids(plot_field(kirsch, "von_mises"))
     assert "peak-max" in g and "peak-min" not in g
+    assert "peak-min" not in _gids(plot_field(kirsch, "sigma_yy", mark_peak="max"))
+    assert "peak-min" in _gids(plot_field(kirsch, "von_mises", mark_peak="both"))
+    with pytest.raises(planar.InputError, match="mark_peak"):
+        plot_field(kirsch, "sigma_yy", mark_peak="least")
 
 
 def plots_fmt(v: float) -> str:

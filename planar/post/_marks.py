@@ -86,6 +86,10 @@ def _extreme(values, cell_values, cells, nodes, drawn, largest: bool):
 def mark_extremes(ax, *, values, cell_values, cells, nodes, drawn, signed: bool, which: str | bool, unit: str,
                   length: str, box, on: str, fmt, fmt_point) -> None:
     """Mark the maximum (and for a signed field the minimum) with a marker and a label in one coordinate system."""
+    if isinstance(which, str) and which not in ("max", "both"):
+        from ..core.errors import InputError
+
+        raise InputError(f"mark_peak must be True, False, 'max' or 'both', got {which!r}")
     x0, y0, x1, y1 = box
     kinds = ["max"] + (["min"] if signed and which is True or which == "both" else [])
     placed: list[np.ndarray] = []

@@ -361,7 +361,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
 
 
 def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=None,
-               scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool = True,
+               scale: float | str | None = "auto", mesh_lines: bool = False, mark_peak: bool | str = True,
                levels: int | None = None, cmap: str | None = None, units: str | None = None,
                title: str | None = None, subdivisions=None, window=None, ax=None, centre=None,
                on: str = "undeformed"):
@@ -387,8 +387,8 @@ def plot_field(result, field: str = "von_mises", *, recovery: str = "spr", path=
         length ``mm``).
     title : str, optional
         Default: the field and the load case.
-    levels, cmap, subdivisions, window, ax, on
-        As for :func:`plot_nodal_field`.
+    mark_peak, levels, cmap, subdivisions, window, ax, on
+        As for :func:`plot_nodal_field` (the maximum marked, and the minimum of a signed field).
     centre : (float, float), optional
         Origin of the polar axes of ``sigma_r``, ``sigma_theta`` and ``tau_r_theta``.
 
