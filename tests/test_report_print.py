@@ -471,3 +471,32 @@ def test_plugin_loads_say_themselves_and_combinations_are_named():
 
         text = describe_load(load_kind("pin-bearing")("hole", 40e3, angle=90.0), u)
         assert text.startswith("pin bearing on edge 'hole': 40000 N at 90 deg from x")
+
+
+def test_a_long_table_repeats_its_header_and_keeps_its_rows_whole(tmp_path):
+    """A table longer than a page runs on with its header repeated; rows with wrapped cells are not split."""
+    import struct
+    import zlib
+
+    from planar.post.report import Paragraph, Report, Section, SignOff
+
+    def chunk(kind, data):
+        return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data) & 0xFFFFFFFF)
+
+    w, h = 480, 320  # a plain PNG (PNG specification, W3C 2003): grey RGB rows, each with filter byte 0
+    png = (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", struct.pack(">IIBBBBB", w, h, 8, 2, 0, 0, 0))
+           + chunk(b"IDAT", zlib.compress((b"\x00" + b"\x80\xa0\xc0" * w) * h)) + chunk(b"IEND", b""))
+    words = "a long remark that wraps over several lines of its cell to make the row tall " * 3
+    rows = [[f"station {i:03d} start", f"{i * 1.5:.1f}", f"{words} end of station {i:03d}"] for i in range(60)]
+    rep = Report("Long table check", sections=[
+        Section("Stations", [Paragraph("intro"), Table(["station", "value [MPa]", "remark"], rows,
+                                                       caption="Stations along the edge")]),
+        Section("Pictures", [Figure(png, f"picture {k} of the part") for k in range(3)]),
+        Section("Sign-off", [SignOff()])], revision="D")
+    html = write_report(tmp_path / "long.html", rep)
+    pages = read_pdf(print_pdf(html, tmp_path))
+    check_printed(rep, pages)
+    spanned = [k for k, p in enumerate(pages) if "station 0" in p["text"]]
+    assert len(spanned) >= 3                                 # the table runs over several pages ...
+    for k in spanned:
+        assert "station value [MPa] remark" in pages[k]["text"]  # ... with its header on each
