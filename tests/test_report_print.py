@@ -462,6 +462,14 @@ def test_plugin_loads_say_themselves_and_combinations_are_named():
     html = render_html(stress_check_report(combine(res, {"shear": 1.35, "pull": 1.5}, name="ultimate"),
                                            picture=False, results=[]))
     assert "ultimate = 1.35 x shear + 1.5 x pull" in html
+    from planar.post import Combination
+
+    html = render_html(stress_check_report(res["shear"], picture=False, results=[], hot_spots=False,
+                                           combinations=[Combination("service", {"shear": 1.0, "pull": -1.0})],
+                                           page="Letter"))
+    assert "service = 1 x shear - 1 x pull" in html and "size: 8.5in 11in" in html
+    with pytest.raises(planar.core.errors.InputError, match="page size"):
+        render_html(stress_check_report(res["shear"], picture=False, results=[], hot_spots=False, page="B7"))
     assert "point force at point &#x27;corner_11&#x27;: fx = 50 N, fy = 0 N" in html
     assert not [bad for bad in FORBIDDEN if bad.replace("'", "&#x27;") in html]
     from planar.core.registry import registry

@@ -465,7 +465,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
                         nominal: float | None = None, allowable: float | None = None,
                         factor_of_safety: float = 1.0,
                         picture: Any = None, fasteners: Any = None,
-                        contact: Any = None, joints: Any = None,
+                        contact: Any = None, joints: Any = None, combinations: Any = (),
                         prepared_by: str = "", checked_by: str = "", approved_by: str = "",
                         revision: str = "", signed_date: str = "",
                         script: str | os.PathLike | None = None,
@@ -523,6 +523,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         The model picture (default drawn by :func:`planar.post.picture.plot_model`).
     fasteners : iterable of (x, y), optional
         Fastener positions drawn on the model picture.
+    combinations : sequence of Combination, or mapping of name to {case: factor}, optional
+        The load combinations of the job, listed with the inputs (a combined result lists its own).
     contact, joints : optional
         Contact states (default ``result.contact_states`` when present) and a joint result (its
         ``section()``, or its fastener table): each gets a section when given.
@@ -567,11 +569,19 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     analysed.append(KeyValues(describe_model_rows(model, result.case),
                               caption="Inputs: analysis, units, materials and thicknesses, supports, pins, load "
                                       "cases and loads"))
+    combos = []
     factors = getattr(result, "factors", None)
     if factors:
         terms = " + ".join(f"{f:g} x {c}" for c, f in factors.items()).replace("+ -", "- ")
-        analysed.append(KeyValues([("combination", f"{result.case} = {terms}")],
-                                  caption="Load combination checked (linear superposition of the solved cases)"))
+        combos.append(("combination checked", f"{result.case} = {terms}"))
+    items = combinations.items() if hasattr(combinations, "items") else \
+        [(getattr(c, "name", ""), getattr(c, "factors", c)) for c in combinations]
+    for name, fac in items:
+        terms = " + ".join(f"{float(f):g} x {c}" for c, f in dict(fac).items()).replace("+ -", "- ")
+        if not factors or str(name) != str(result.case):
+            combos.append(("combination", f"{name} = {terms}"))
+    if combos:
+        analysed.append(KeyValues(combos, caption="Load combinations (linear superposition of the solved cases)"))
     sections.append(Section("What was analysed", analysed))
     sections.append(_mesh_section(result, mesh_rows))
     res_blocks = list(results) if results is not None else _auto_results(result, field, recovery)
