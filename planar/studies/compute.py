@@ -153,6 +153,19 @@ def _json_number(v):
     return v if math.isfinite(v) else None
 
 
+def _unit_of(spec, result) -> str:
+    """The unit of a peak's or a point value's field in the result's unit system ("" for Kt, margins, numbers)."""
+    from ..core.units import field_unit
+    from .outputs import Peak, ValueAt, _DefaultPeak
+
+    if not isinstance(spec, (Peak, ValueAt, _DefaultPeak)):
+        return ""
+    try:
+        return field_unit(getattr(spec, "field", "von_mises"), getattr(result, "units", None))
+    except InputError:  # a result without a known unit system: the label goes without a unit
+        return ""
+
+
 def _compute_point(function, params: dict, outputs: dict, key: str, function_id: str) -> dict:
     """Run one point and return its record; every error of the user's code is caught and recorded."""
     t0 = time.perf_counter()
@@ -174,6 +187,9 @@ def _compute_point(function, params: dict, outputs: dict, key: str, function_id:
             out[name] = _json_number(v)
             if getattr(v, "note", ""):  # a peak next to an idealised support or load (outputs.NotedValue)
                 record.setdefault("notes", {})[name] = v.note
+            unit = _unit_of(spec, r)
+            if unit:  # a peak's or a point value's unit, from the result's unit system (the sweep plot's labels)
+                record.setdefault("units", {})[name] = unit
         for k, v in extras.items():
             out.setdefault(k, _json_number(v))
         record.update(status="done", outputs=out)

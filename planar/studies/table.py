@@ -159,7 +159,8 @@ class SweepTable:
             Axis label of each output (default its name).
         units : mapping of str to str, optional
             The unit of a parameter or output, e.g. ``{"width": "mm", "peak": "MPa"}``, written in its
-            axis label as ``width [mm]`` (a margin or Kt has none).
+            axis label as ``width [mm]`` (a margin or Kt has none). A peak or a value at a point carries
+            the unit of its result's unit system without it (recorded with each point).
         zero_lines : sequence of str, optional
             Further outputs that get a zero line when they change sign.
 
@@ -173,6 +174,11 @@ class SweepTable:
 
         from ..post.plots import save_figure
 
+        recorded: dict[str, str] = {}
+        for r in self.records:  # the units the points recorded (a peak's from its model's unit system)
+            for k, v in (r.get("units") or {}).items():
+                recorded.setdefault(k, v)
+        units = {**recorded, **dict(units or {})}
         varying = [p for p in self.parameters if len({_canonical(r["params"].get(p)) for r in self.records}) > 1]
         if x is None:
             numeric = [p for p in (varying or self.parameters) if self.column(p).dtype != object]
