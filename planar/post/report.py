@@ -155,6 +155,13 @@ def _units(result) -> tuple[str, str, str]:
     return s.unit_of("stress"), s.unit_of("length"), s.unit_of("force")
 
 
+def _v(v, spec: str = ".4g") -> str:
+    """A number for the report; "-" for a missing or non-finite one (never a NaN in the text)."""
+    import math
+
+    return "-" if v is None or not math.isfinite(float(v)) else format(float(v), spec)
+
+
 def _pt(p, length: str) -> str:
     return f"({p[0]:.4g}, {p[1]:.4g})" + (f" {length}" if length else "")
 
@@ -196,29 +203,29 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
         if first.flagged:
             detail += f"; made by the idealisation next to it ({first.next_to})"
         tiles.append((f"governing {word}" if gov is not None else f"highest {word} (every spot flagged)",
-                      f"{first.value:.4g}{u}", detail, ""))
+                      f"{_v(first.value)}{u}", detail, ""))
         if first.Kt is not None:
-            tiles.append((f"Kt, {first.feature}", f"{first.Kt:.3f}", f"peak / nominal {nominal:.4g}{u}", ""))
+            tiles.append((f"Kt, {first.feature}", _v(first.Kt, ".3f"), f"peak / nominal {_v(nominal)}{u}", ""))
         if first.margin is not None:
-            tiles.append((f"margin of safety, {first.feature}", f"{first.margin:+.2f}",
-                          f"allowable {allowable:.4g}{u}, factor of safety {factor_of_safety:g}",
+            tiles.append((f"margin of safety, {first.feature}", _v(first.margin, "+.2f"),
+                          f"allowable {_v(allowable)}{u}, factor of safety {_v(factor_of_safety, 'g')}",
                           "pass" if first.margin >= 0 else "fail"))
         top = spots[0]
         if gov is not None and top is not gov and top.value > gov.value:  # a flagged spot above the governing one
             extra = [f"{top.feature}, at {_pt(top.location, length)}", f"next to {top.next_to}: judge it by how the "
                      "part is really held or loaded"]
             if top.Kt is not None:
-                extra.insert(1, f"Kt {top.Kt:.3f}")
+                extra.insert(1, f"Kt {_v(top.Kt, '.3f')}")
             if top.margin is not None:
-                extra.insert(1, f"margin {top.margin:+.2f}")
-            tiles.append((f"highest {word}, flagged", f"{top.value:.4g}{u}", "; ".join(extra),
+                extra.insert(1, f"margin {_v(top.margin, '+.2f')}")
+            tiles.append((f"highest {word}, flagged", f"{_v(top.value)}{u}", "; ".join(extra),
                           "fail" if top.margin is not None and top.margin < 0 else ""))
         if gov is None:  # every spot is made by how the part is held or loaded: say what the part carries away from them
             from ..core.zones import Away
 
             try:
                 away = result.max(field, recovery=recovery, where=Away())
-                tiles.append((f"highest {word} away from supports and point loads", f"{away.value:.4g}{u}",
+                tiles.append((f"highest {word} away from supports and point loads", f"{_v(away.value)}{u}",
                               f"at {_pt(away.location, length)}", ""))
             except InputError:  # the whole part lies next to them
                 pass
@@ -229,17 +236,17 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
             seen.add(s.feature)
             extra = [f"at {_pt(s.location, length)}"]
             if s.Kt is not None:
-                extra.append(f"Kt {s.Kt:.3f}")
+                extra.append(f"Kt {_v(s.Kt, '.3f')}")
             if s.margin is not None:
-                extra.append(f"margin {s.margin:+.2f}")
+                extra.append(f"margin {_v(s.margin, '+.2f')}")
             if s.flagged:
                 extra.append("flagged: made by the idealisation")
-            tiles.append((f"{word}, {s.feature}", f"{s.value:.4g}{u}", "; ".join(extra),
+            tiles.append((f"{word}, {s.feature}", f"{_v(s.value)}{u}", "; ".join(extra),
                           "" if s.margin is None or s.flagged else ("pass" if s.margin >= 0 else "fail")))
     else:
         peak = result.max(field, recovery=recovery)
         detail = f"at {_pt(peak.location, length)}" + (f"; it sits {peak.note}" if peak.note else "")
-        tiles.append((f"peak {word}", f"{peak.value:.4g}{u}", detail, ""))
+        tiles.append((f"peak {word}", f"{_v(peak.value)}{u}", detail, ""))
     umax = float(np.sqrt((np.asarray(result.u, float) ** 2).sum(axis=1)).max())
     tiles.append(("largest displacement", f"{umax:.4g}" + (f" {length}" if length else ""),
                   f"load case '{result.case}'", ""))
@@ -313,7 +320,7 @@ def _auto_results(result, field, recovery) -> list:
                    ("sigma_xx", "min"), ("sigma_yy", "max"), ("sigma_yy", "min"), ("tau_xy", "max"), ("tau_xy", "min")):
         e = result.max(f, recovery=recovery) if how == "max" else result.min(f, recovery=recovery)
         remark = e.note.split(":")[0] + ": made by the idealisation" if e.note else ""
-        rows.append([f"{names.get(f, f)}, {'highest' if how == 'max' else 'lowest'}{su}", f"{e.value:.5g}",
+        rows.append([f"{names.get(f, f)}, {'highest' if how == 'max' else 'lowest'}{su}", _v(e.value, ".5g"),
                      _pt(e.location, length), remark])
     fig = plot_field(result, field, recovery=recovery)
     return [Table(["quantity", "value", "where", "remark"], rows,
