@@ -305,11 +305,11 @@ def test_sweep_records_a_peak_in_its_model_units_and_the_plot_labels_it(tmp_path
     # the strap carries sigma_xx = load / (width t) = 2000 / (w 2) MPa (common practice): 25 MPa at w = 40 mm,
     # so an allowable of 30 MPa passes at w >= 40 and fails at w = 30 (margin 30 / 33.3 - 1 < 0)
     table = sweep(example_strap, [{"width": w} for w in (30.0, 40.0, 50.0)], workers=0,
-                  outputs={"peak": "max:sigma_xx", "margin": SafetyMargin(30.0, 1.0, field="sigma_xx")},
+                  outputs={"peak": "max:sigma_xx", "MS": SafetyMargin(30.0, 1.0, field="sigma_xx")},
                   store=tmp_path / "store")
     assert table.records[0]["units"] == {"peak": "MPa"}              # a margin is a pure number: no unit
     np.testing.assert_allclose(table.column("peak"), [2000.0 / (w * 2.0) for w in (30.0, 40.0, 50.0)], rtol=1e-9)
     fig = table.plot(units={"width": "mm"})
-    assert [ax.get_ylabel() for ax in fig.axes] == ["peak [MPa]", "margin"]
+    assert [ax.get_ylabel() for ax in fig.axes] == ["peak [MPa]", "MS"]
     assert fig.axes[-1].get_xlabel() == "width [mm]"
     assert [ln.get_gid() for ln in fig.axes[1].lines].count("zero-line") == 1

@@ -138,7 +138,8 @@ class SweepTable:
              units: Mapping[str, str] | None = None, zero_lines: Sequence[str] | None = None):
         """Outputs against a parameter, one panel per output (PNG written atomically).
 
-        A margin of safety (an output whose name has "margin" in it, or one named in ``zero_lines``)
+        A margin of safety (a :class:`~planar.studies.SafetyMargin` output, an output whose name has
+        "margin" in it, or one named in ``zero_lines``)
         whose values change sign gets a zero line on its panel, gid ``"zero-line"``: the points on
         either side of it pass and fail.
 
@@ -229,7 +230,9 @@ class SweepTable:
             unit = (units or {}).get(o)
             ax.set_ylabel((ylabels or {}).get(o, f"{o} [{unit}]" if unit else o))
             fin = Y[np.isfinite(Y)]
-            if ("margin" in o.lower() or o in (zero_lines or ())) and fin.size and fin.min() < 0 <= fin.max():
+            spec = next((r.get("output_specs", {}).get(o, "") for r in self.records if r.get("output_specs")), "")
+            margin = "margin" in o.lower() or spec.startswith("SafetyMargin(") or o in (zero_lines or ())
+            if margin and fin.size and fin.min() < 0 <= fin.max():
                 zero = ax.axhline(0.0, color="#b3261e", lw=1.1, ls="--", zorder=0.5, label="zero margin")
                 zero.set_gid("zero-line")
             ax.grid(True, lw=0.4, alpha=0.5)
