@@ -5,8 +5,10 @@ part is held and loaded. Every symbol is a matplotlib artist tagged with ``set_g
 ``"outline"``, ``"edge-name:NAME"``, ``"support:KIND:WHERE"`` (``fixed``, ``roller``,
 ``roller-ground``, ``symmetry``, ``prescribed``), ``"pin:NAME"``, ``"pin-tie:NAME"``,
 ``"fastener"``, ``"load:KIND:WHERE"`` (``traction``, ``pressure``, ``point-force``, ``pin-load``,
-``body-force``, ``gravity``, ``temperature-change``, or a plugin's name), so a test or a report can
-read which symbols are drawn. The symbols:
+``body-force``, ``gravity``, ``temperature-change``, or a plugin's name), ``"load-value:KIND:WHERE"``
+(the magnitude written beside it), ``"units"`` (the units line) and ``"notes"``; a joint's layers add
+``":LAYER"`` to ``"outline"`` and ``"part"`` and are named by ``"layer-name:LAYER"``. So a test or a
+report can read which symbols are drawn. The symbols:
 
 * fixed edge or point: short hatching strokes on the outside of the edge;
 * roller: small open circles beside the edge and a ground line along the sliding direction;
