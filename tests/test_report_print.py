@@ -414,7 +414,9 @@ def test_joint_and_contact_tables_state_their_units():
     jr = planar.solve(lap(2, 2.0, 3.2, 3e-5))["pull"]
     from planar.post.report import render_html
 
-    html = render_html(stress_check_report(jr.layers["top"], joints=jr, picture=False, results=[], hot_spots=False))
+    rep = stress_check_report(jr.layers["top"], joints=jr, results=[], hot_spots=False)
+    html = render_html(rep)
+    assert "The model as analysed" in html
     assert "Joints and fasteners" in html and "bearing stress P/(d t) [MPa]" in html and "shear [N]" in html
     assert "row 1" in html or ">row<" in html
     from planar.core.pins import Pin, PinLoad, TIES

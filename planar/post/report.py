@@ -570,6 +570,9 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     if getattr(result, "warnings", None):
         sections.append(warnings_section(result.warnings))
     analysed: list = [KeyValues(list(part), caption="The part")] if part else []
+    if fasteners is None and joints is not None and hasattr(joints, "fasteners"):  # a joint's fasteners in this layer
+        layer = next((k for k, r in getattr(joints, "layers", {}).items() if r is result), None)
+        fasteners = [h["point"] for h in joints.fasteners.holes if h["layer"] == layer] or None
     pic = _model_picture(result, picture, fasteners)
     if pic is not None:
         analysed.append(pic)
