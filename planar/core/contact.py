@@ -210,6 +210,14 @@ def _arc(angles: np.ndarray, on: np.ndarray) -> tuple[float | None, float | None
     return float(a0), float(a1)
 
 
+class _Free(Exception):
+    """The active-set system of a case is singular: nothing holds the part once the open nodes let go."""
+
+    def __init__(self, case: str, active: np.ndarray):
+        super().__init__(case)
+        self.case, self.active = case, active
+
+
 class ContactSet:
     """The contact pins of a solve: the gap map, the springs, the condensed problem and its answer.
 
@@ -295,31 +303,52 @@ class ContactSet:
         self.mu = None
 
     # ------------------------------------------------------------------ the condensed problem
-    def flexibility(self, fac, rows: np.ndarray) -> np.ndarray:
-        """``W = B_c K_a^-1 B_c^T`` over the contact rows ``rows``, by multi-RHS solves with the factor in
-        column blocks (the forward half only, ``Z^T Z``, where the back end offers it)."""
-        Bt = self.B[rows].T.tocsc()
-        mc = rows.size
-        step = max(8, int(BLOCK_BYTES // (8 * max(self.n_new, 1))))
-        if hasattr(fac, "gram") and mc <= step:  # one block: the forward solve alone gives W
-            return fac.gram(Bt.toarray()) if mc else np.zeros((0, 0))
-        W = np.zeros((mc, mc))
-        Bc = self.B[rows]
-        for a in range(0, mc, step):
-            b = min(a + step, mc)
-            W[:, a:b] = Bc @ fac.solve(Bt[:, a:b].toarray()).reshape(self.n_new, -1)
-        return (W + W.T) / 2
+    def flexibility(self, fac, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``(order, W)``: ``W = B_c K_a^-1 B_c^T`` over the contact rows ``rows`` (in the order ``order``).
 
-    def _dilate(self, mark: np.ndarray) -> np.ndarray:
-        """Rows marked, widened along each pin's edge by a tenth of its nodes on each side (in angle order)."""
-        out = mark.copy()
+        Multi-RHS solves with the factor in column blocks, only for rows not met before (the set
+        only grows). Where the back end offers the forward half ``Z = L^-1 P B_c^T`` alone, ``W = Z^T Z``
+        over the rows where ``Z`` is not zero (the elimination tree's paths from the edge), kept
+        compressed; else ``B`` times the full solves.
+        """
+        new = np.setdiff1d(rows, self._done)
+        step = max(8, int(BLOCK_BYTES // (8 * max(self.n_new, 1))))
+        forward = hasattr(fac, "forward") and hasattr(fac, "gram_of")
+        for a in range(0, new.size, step):
+            blk = new[a:a + step]
+            cols = self.B[blk].T.toarray()
+            if forward:
+                Z = fac.forward(cols)
+                nz = np.flatnonzero(np.any(Z != 0.0, axis=1))
+                self._blocks.append((nz, Z[nz]))
+                del Z
+            else:
+                self._blocks.append(self.B @ fac.solve(cols).reshape(self.n_new, -1))
+            self._done = np.r_[self._done, blk]
+        order = self._done
+        if forward:
+            R = np.unique(np.concatenate([nz for nz, _ in self._blocks])) if self._blocks else np.zeros(0, np.int64)
+            Zc = np.zeros((R.size, order.size))
+            c0 = 0
+            for nz, Zb in self._blocks:
+                Zc[np.searchsorted(R, nz), c0:c0 + Zb.shape[1]] = Zb
+                c0 += Zb.shape[1]
+            return order, fac.gram_of(Zc)
+        W = np.hstack(self._blocks)[order] if self._blocks else np.zeros((0, 0))
+        return order, (W + W.T) / 2
+
+    def _sorted_rows(self):
+        """Each pin's rows in angle order, and whether its edge closes on itself."""
         for p in self.parts:
-            rows = p["rows"][np.argsort(p["angles"], kind="stable")]
+            yield p["rows"][np.argsort(p["angles"], kind="stable")], np.ptp(p["angles"]) > 270.0
+
+    def _dilate(self, mark: np.ndarray, frac: int = 20) -> np.ndarray:
+        """Rows marked, widened along each pin's edge by 1/``frac`` of its nodes on each side (in angle order)."""
+        out = mark.copy()
+        for rows, closed in self._sorted_rows():
             mk = mark[rows].astype(float)
-            ns = rows.size
-            k = max(2, ns // 10)
+            k = max(2, rows.size // frac)
             kern = np.ones(2 * k + 1)
-            closed = np.ptp(p["angles"]) > 270.0
             if closed:
                 wide = np.convolve(np.r_[mk[-k:], mk, mk[:k]], kern, mode="valid") > 0
             else:
@@ -327,12 +356,25 @@ class ContactSet:
             out[rows] |= wide
         return out & self.live
 
+    def _touching(self, active: np.ndarray, cand: np.ndarray) -> np.ndarray:
+        """Active rows next (along the edge) to a row that is not a candidate: the arc may go on there."""
+        out = np.zeros_like(cand)
+        for rows, closed in self._sorted_rows():
+            a, c = active[rows], cand[rows]
+            if closed:
+                nb_out = ~np.roll(c, 1) | ~np.roll(c, -1)
+            else:
+                nb_out = ~np.r_[True, c[:-1]] | ~np.r_[c[1:], True]
+            out[rows] = a & nb_out & self.live[rows]
+        return out & self.live
+
     def solve(self, fac, rhs: np.ndarray, cases: list[str]) -> np.ndarray:
         """The contact forces of every case by the active-set iteration; returns ``rhs + B^T mu``.
 
-        The candidate nodes are those the springs' (bonded) answer presses onto the pin, or that it
-        lets penetrate, widened along the edge; a node left out that the answer makes penetrate is
-        added and the iteration run again (the flexibility of the new set: one more multi-RHS solve).
+        The candidate nodes start as those that penetrate in the springs' answer, widened along the
+        edge; while the contact arc reaches the edge of the candidates, or the final answer makes a
+        node left out penetrate, the set grows (the flexibility of the new nodes only: one more
+        multi-RHS solve) and the iteration runs again.
         """
         rhs = np.asarray(rhs).reshape(self.n_new, -1)
         nc = rhs.shape[1]
@@ -344,24 +386,35 @@ class ContactSet:
                 bad = gf[fixed, j] < -1e-9 * self._radius_of(fixed)
                 if bad.any():
                     self._refuse_fixed(fixed[np.argmax(bad)], case)
-        cand = self._dilate(np.any((h < 0) | (gf < 0), axis=1) & self.live) | self.anchor
+        self._done, self._blocks = np.zeros(0, np.int64), []
+        pen = np.any(gf < 0, axis=1) & self.live
+        cand = (self._dilate(pen) if pen.any() else self.live.copy()) | self.anchor
         tol = 1e-8 * self._radius_of(np.arange(self.m))
-        for _ in range(8):
-            rows = np.flatnonzero(cand)
-            W = self.flexibility(fac, rows)
+        for _ in range(4 * self.m + 4):
+            rows, W = self.flexibility(fac, np.flatnonzero(cand))
             mu = np.zeros((self.m, nc))
             self.active = np.zeros((self.m, nc), bool)
             self.iterations = []
-            for j, case in enumerate(cases):
-                mu[rows, j], it, self.active[rows, j] = self._active_set(W, h[rows, j], gf[rows, j], self.g0[rows], self.k[rows],
-                                                   self.c[rows], case)
-                self.iterations.append(it)
+            try:
+                for j, case in enumerate(cases):
+                    mu[rows, j], it, self.active[rows, j] = self._active_set(
+                        W, h[rows, j], gf[rows, j], self.g0[rows], self.k[rows], self.c[rows], case)
+                    self.iterations.append(it)
+            except _Free as free:
+                if np.array_equal(cand, self.live):
+                    self._refuse_free(free.case, free.active)
+                cand = self.live.copy()  # the candidates may lack the nodes that hold the part: all of them
+                continue
+            grow = self._touching(np.any(self.active, axis=1), cand)
+            if grow.any():
+                cand = cand | self._dilate(grow)
+                continue
             out = rhs + self.B.T @ mu
             g = (self.g0 + self.d0)[:, None] + self.B @ fac.solve(out).reshape(self.n_new, -1)
             viol = self.live & ~cand & np.any(g < -tol[:, None], axis=1)
             if not viol.any():
                 break
-            cand = self._dilate(cand | viol) | self.anchor
+            cand = cand | self._dilate(viol)
         self.mu = mu
         return out
 
@@ -392,7 +445,7 @@ class ContactSet:
             lu = lu_factor(M, check_finite=False)
             rc = lapack.dgecon(lu[0], np.abs(M).sum(axis=0).max(), norm="1")[0]
             if not rc > SINGULAR_RCOND:
-                self._refuse_free(case, active)
+                raise _Free(case, active)
             x = lu_solve(lu, b, check_finite=False)
             Wx = W @ x
             g = gf + Wx
