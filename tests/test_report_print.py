@@ -398,6 +398,14 @@ def test_convergence_verdict_joints_and_omitted_sections(bracket):
     assert "not in the asymptotic range" in html and "none claimed" in html
     assert tame.verdict in html and "Richardson extrapolation" in html
     assert "Hot spots" not in html and "The model as analysed" not in html
+    from planar.post import kt, margin_of_safety
+    from planar.post.scope import CAUTION, CAUTIONS
+
+    k, ms = kt(bracket, 10.0), margin_of_safety(bracket, 290.0, 1.5)
+    assert CAUTION in k.summary() and CAUTION in ms.summary()   # each check says it on its own ...
+    html = render_html(stress_check_report(bracket, checks=[k, ms], picture=False, results=[], hot_spots=False))
+    assert CAUTION not in html and html.count(CAUTIONS[1]) == 1  # ... the report says it once
+    assert "Kt" in html and "margin" in html
     rep = stress_check_report(bracket, omit=["mesh", "equilibrium"], picture=False, results=[])
     titles = [s.title for s in rep.sections]
     assert "Mesh" not in titles and "Equilibrium" not in titles and titles[-1] == "Sign-off"
