@@ -483,6 +483,7 @@ class Result(CaseResult):
             "applied": self.total_applied().tolist(),
             "equilibrium_error": self.equilibrium_error(),
             "support_reactions": [r.as_dict() for r in self.support_reactions()],
+            **({"contact": {k: v.as_dict() for k, v in self.contact_states.items()}} if self.contact_states else {}),
             "solver": self.solver,
             "warnings": [w.as_dict() for w in self.warnings],
         }
