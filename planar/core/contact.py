@@ -33,8 +33,9 @@ condensed onto the contact nodes with one factorization:
 * The condensed problem is written over the candidate nodes only: those that penetrate in the
   springs' answer, widened along the edge, and the anchors. ``W`` over them (m_c x m_c) comes from
   one multi-right-hand-side solve with the factor (its forward half ``Z = L^-1 P B^T``, ``W = Z^T Z``,
-  where the back end offers it). A node left out that the answer makes penetrate is added and the
-  iteration run again.
+  where the back end offers it). Where the contact arc reaches the edge of the candidates, or the
+  answer makes a node left out penetrate, the set grows (only the new nodes' columns are solved) and
+  the iteration runs again; the nodes left out carry nothing and are open.
 * Each iteration solves the dense system of the active set ``A``: ``g_i = 0`` on ``A``,
   ``lambda_i = 0`` off it; then ``A = {i : lambda_i - c_i g_i >= 0}`` (``c_i`` the node's stiffness
   scale); it stops when ``A`` repeats (then ``lambda >= 0`` and ``g >= 0`` hold). No refactorization
@@ -42,8 +43,16 @@ condensed onto the contact nodes with one factorization:
 * A singular active-set system means that nothing holds the part (or a loaded pin) once the
   open nodes are let go: a :class:`~planar.core.errors.SolverError` says so.
 
-The load cases are solved one by one on the same factor and flexibility; their answers do not
-superpose (:mod:`planar.post.combine` refuses to combine them).
+The load cases are solved one by one on the same factor; their answers do not superpose
+(:mod:`planar.post.combine` refuses to combine them; an envelope, which superposes nothing, takes them).
+
+Before the solve, the kinematics check counts a contact pin as holding its edge the way a bonded pin
+would (a held pin holds the part at its point, in translation only): a contact pin may hold the part,
+in compression. Whether it does is known only from the loads: a case whose loads pull the part off
+the pin (or leave a loaded pin touching nothing) makes the active-set system singular, and the solve
+refuses it with a :class:`~planar.core.errors.SolverError` that says so. A clearance that the loads
+cannot close, with the part held elsewhere, is no error: the pin then carries nothing and its state
+says "no contact".
 """
 from __future__ import annotations
 
