@@ -208,3 +208,10 @@ def test_iterative_and_lu_back_ends_give_the_same_contact(pulled):
     import json
 
     assert "arc_start_deg" in json.loads(json.dumps(summary["contact"]))["pin"]
+
+
+def test_free_pin_moves_by_its_clearance_and_more(pulled):
+    """The loaded pin crosses its clearance before it bears (geometry of the fit): ux > c, towards the load."""
+    pin = next(x for x in pulled["pull"].support_reactions() if x.name == "pin")
+    assert pin.motion[0] > 0.005 and pin.motion[2] == 0.0
+    assert abs(pin.motion[1]) < 1e-9 * pin.motion[0]

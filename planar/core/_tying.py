@@ -356,7 +356,7 @@ class Tying:
                 force = f.sum(axis=0)
                 moment = float(r[:, 0] @ f[:, 1] - r[:, 1] @ f[:, 0])
                 load = loads.get(pin.name, np.zeros(3))
-                q = d["C"] @ U[d["dofs"], j] if "motion" not in d else d["motion"](j)
+                q = d["C"] @ U[d["dofs"], j] if "motion" not in d else d["motion"][:, j]
                 row.append(PinState(name=pin.name, tie=pin.tie, edge=pin.edge, point=tuple(map(float, d["point"])),
                                     force=(float(force[0]), float(force[1])), moment=moment,
                                     load=tuple(map(float, load)),

@@ -424,6 +424,8 @@ class ContactSet:
             if not viol.any():
                 break
             cand = cand | self._dilate(viol)
+        else:  # pragma: no cover - every round adds a node, so the loop ends well before
+            raise SolverError("the contact candidate set kept growing; report this model")
         self.mu = mu
         return out
 

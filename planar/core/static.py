@@ -318,7 +318,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         P = P + Pc
         for d in tie.data:
             if d["pin"].tie == "contact":
-                d["motion"] = lambda j, d=d: contact.pin_motion(d, j)
+                d["motion"] = np.column_stack([contact.pin_motion(d, j) for j in range(len(cases))])
     _check_finite(ul, Rl, cases)
     Rl[2 * unused] = 0.0
     Rl[2 * unused + 1] = 0.0
