@@ -176,13 +176,20 @@ class _Cholmod:
         self._cholmod.solve(self._F, B)
         return np.array(B).reshape(b.shape)
 
-    def gram(self, b):
-        """``b^T K^-1 b`` by the forward half of the solve only: ``Z = L^-1 P b``, then ``Z^T Z`` (K = P^T L L^T P)."""
+    def forward(self, b):
+        """The forward half of the solve, ``Z = L^-1 P b`` (K = P^T L L^T P), so that ``b^T K^-1 b = Z^T Z``."""
         B = self._cvxopt.matrix(np.array(np.asarray(b, float).reshape(self.n, -1), dtype=float, order="F"))
         self._cholmod.solve(self._F, B, sys=7)
         self._cholmod.solve(self._F, B, sys=4)
-        Z = np.array(B)
+        return np.array(B)
+
+    def gram_of(self, Z):
         return Z.T @ Z
+
+    def gram(self, b):
+        """``b^T K^-1 b`` by the forward half of the solve only."""
+        Z = self.forward(b)
+        return self.gram_of(Z)
 
 
 _MKL = None
@@ -290,30 +297,35 @@ class _Pardiso:
             raise SolverError(f"PARDISO failed with error {err.value}")
         return x
 
-    def gram(self, b):
-        """``b^T K^-1 b`` by the forward substitution only (phase 331: ``Z = L^-1 P b``), then ``Z^T Z``.
-
-        ``Z`` is zero outside the elimination tree's paths from the right-hand sides' rows, so only its
-        non-zero rows enter the product, which MKL's own ``dsyrk`` forms (numpy's BLAS threads, started
-        right after PARDISO's, fight MKL's for the cores and were measured up to 50 times slower).
-        """
-        import ctypes
-
+    def forward(self, b):
+        """The forward half of the solve, ``Z = L^-1 P b`` (phase 331), so that ``b^T K^-1 b = Z^T Z``."""
         Z = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))
         if not np.all(np.isfinite(Z)):
             raise _numerical(_SINGULAR)
-        Zs = np.ascontiguousarray(Z[np.flatnonzero(np.any(Z != 0.0, axis=1))])
-        m = Zs.shape[1]
+        return Z
+
+    def gram_of(self, Z):
+        """``Z^T Z`` by MKL's own ``dsyrk`` (numpy's BLAS threads, started right after PARDISO's, fight MKL's
+        for the cores and were measured up to 50 times slower on two cores)."""
+        import ctypes
+
+        Z = np.ascontiguousarray(Z, dtype=float)
+        m = Z.shape[1]
         W = np.zeros((m, m))
-        if Zs.shape[0] and m:
-            fn = ctypes.CDLL(_mkl_path()).cblas_dsyrk
+        if Z.shape[0] and m:
             c = ctypes
+            fn = c.CDLL(_mkl_path()).cblas_dsyrk
             fn.argtypes = [c.c_int, c.c_int, c.c_int, c.c_int, c.c_int, c.c_double, c.c_void_p, c.c_int,
                            c.c_double, c.c_void_p, c.c_int]
             fn.restype = None
-            fn(101, 121, 112, m, Zs.shape[0], 1.0, Zs.ctypes.data, m, 0.0, W.ctypes.data, m)  # row-major, upper, A^T A
+            fn(101, 121, 112, m, Z.shape[0], 1.0, Z.ctypes.data, m, 0.0, W.ctypes.data, m)  # row-major, upper, A^T A
             W = np.triu(W) + np.triu(W, 1).T
         return W
+
+    def gram(self, b):
+        """``b^T K^-1 b`` by the forward substitution only, over the non-zero rows of ``Z``."""
+        Z = self.forward(b)
+        return self.gram_of(Z[np.flatnonzero(np.any(Z != 0.0, axis=1))])
 
     def solve(self, b):
         b = np.asarray(b, dtype=float)
