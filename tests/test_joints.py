@@ -209,6 +209,11 @@ def test_holes_modelled_rigid_and_spreading():
         assert r.fasteners.magnitude[0] == pytest.approx(1000.0, rel=1e-9)  # statics
         assert r.balance_error() < 1e-9
         assert all(x.equilibrium_error() < 1e-9 for x in r.layers.values())
+        # the hole's stresses along its edge, and the fastener among the layer's pins (statics: it takes the load)
+        es = planar.post.edge_stresses(r.layers["a"], "hole")
+        assert np.isfinite(es.peak("von_mises").value) if hasattr(es, "peak") else es is not None
+        pins = {x.name: x for x in r.layers["a"].support_reactions()}
+        assert pins["fasteners[0]@a"].force[0] == pytest.approx(1000.0, rel=1e-9)
 
 
 def test_refusals():
@@ -229,3 +234,20 @@ def test_refusals():
     one = lap(1, 2.0, 2.0, 1e-5)
     with pytest.raises(SupportError, match="bottom"):
         planar.solve(one)
+
+
+def test_named_points_and_a_case_in_one_layer():
+    # fasteners at a named point of a layer's mesh; the case 'pull' is in one layer only (no load in the other)
+    a = _strip(0.0, 60.0, 2.0)
+    b = _strip(30.0, 90.0, 2.0)
+    node = int(np.argmin(np.hypot(a.mesh.nodes[:, 0] - 40.0, a.mesh.nodes[:, 1])))
+    a.mesh.node_sets["bolt"] = np.array([node])
+    node2 = int(np.argmin(np.hypot(a.mesh.nodes[:, 0] - 50.0, a.mesh.nodes[:, 1])))
+    a.mesh.node_sets["bolt2"] = np.array([node2])
+    a.add_support(planar.Fixed("left"))
+    b.add_load(planar.Traction("right", tx=10.0), case="pull")
+    joint = planar.Joint({"a": a, "b": b})
+    f = joint.add_fasteners(planar.Fasteners(["bolt", "bolt2"], layers=("a", "b"), diameter=D, flexibility=1e-5))
+    assert f.points(joint) == pytest.approx(np.array([[40.0, 0.0], [50.0, 0.0]]))
+    r = planar.solve(joint, cases="pull")["pull"]
+    assert r.fasteners.magnitude.sum() == pytest.approx(10.0 * W * 2.0, rel=1e-6)  # statics, both along x

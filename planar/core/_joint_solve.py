@@ -71,13 +71,15 @@ def _node_weights(asm) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         x, y = xy[..., 0], xy[..., 1]
         area = 0.5 * np.abs((x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y).sum(axis=1))
         k = b.conn.shape[1]
-        np.add.at(w, b.conn.ravel(), np.repeat(area * b.thickness / k, k))
-        np.maximum.at(t, b.conn.ravel(), b.thickness)
+        w += np.bincount(b.conn.ravel(), np.repeat(area * b.thickness / k, k), minlength=mesh.n_nodes)
+        on = np.zeros(mesh.n_nodes, bool)
+        on[b.conn.ravel()] = True
+        t[on] = np.maximum(t[on], b.thickness)  # one thickness and material per block
         mat = b.material
         e = getattr(mat, "E", None)
         if e is None:  # orthotropic: the mean of the principal moduli (only a flexibility formula reads it)
             e = 0.5 * (float(getattr(mat, "E1", 0.0)) + float(getattr(mat, "E2", 0.0)))
-        np.maximum.at(E, b.conn.ravel(), float(e))
+        E[on] = np.maximum(E[on], float(e))
     return w, t, E
 
 
@@ -182,16 +184,25 @@ class _Layer:
         nj = used[np.r_[near, pairs["j"].astype(np.int64)]]
         key = np.unique(pi * mesh.n_nodes + nj)
         pi, nj = key // mesh.n_nodes, key % mesh.n_nodes
-        far = dist > fz.diameter
-        if far.any():
-            i = int(np.argmax(far))
-            raise InputError(f"fastener {i} of {fz.name!r} at ({pts[i, 0]:g}, {pts[i, 1]:g}) is {dist[i]:.3g} from the "
-                             f"nearest node of layer {self.name!r}, more than its diameter: is it outside that layer?")
+        from .locate import locate
+
+        try:
+            locate(mesh, pts)
+        except InputError as exc:
+            raise InputError(f"fasteners {fz.name!r} join layer {self.name!r}, but {exc}; move the fastener into the "
+                             "layer, or leave the layer out of its layers=") from None
         rot = self.cons.rotation
         if rot is not None and np.isin(nj, rot.nodes).any():
             raise InputError(f"fasteners {fz.name!r}: a fastener's patch in layer {self.name!r} takes a node held along "
                              "an inclined direction; move the fastener or hold that edge along x or y")
         wn = w[nj]
+        few = np.bincount(pi, minlength=k) < 3
+        if few.any():
+            i = int(np.argmax(few))
+            warn(f"{int(few.sum())} of the {k} fasteners {fz.name!r} have fewer than 3 nodes of layer {self.name!r} "
+                 f"within d/2 (first at ({pts[i, 0]:g}, {pts[i, 1]:g})): the mesh is coarser than the fastener, so "
+                 "its spring acts almost at a point and its load depends on the mesh; refine near the fasteners to "
+                 "an element size of d/4 or less", "fastener-patch", sink=pending_warnings(self.asm))
         total = np.bincount(pi, wn, minlength=k)
         share = wn / total[pi]
         S = sp.csr_matrix((np.r_[share, share], (np.r_[2 * pi, 2 * pi + 1], np.r_[2 * nj, 2 * nj + 1])),
