@@ -172,7 +172,6 @@ def test_contact_pin_input_is_checked():
         planar.solve(model, verbose=False)
 
 
-@pytest.mark.slow
 def test_hertz_half_width_and_peak_pressure_within_3_percent():
     """K. L. Johnson, Contact Mechanics, 1985, sec. 5.2: a^2 = 4 P R / (pi E*), p0 = 2 P / (pi a)."""
     from planar.verify.contact_cases import hertz_contact

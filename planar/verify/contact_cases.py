@@ -64,7 +64,7 @@ def hertz_reference(P: float, R: float, E: float, nu: float, analysis: str) -> t
 
 
 def hertz_model(analysis: str, *, element: str = "Q4", a_target: float = 0.5, R: float = 10.0,
-                size: float = 40.0, cells: int = 48, per_half_width: int = 30):
+                size: float = 40.0, cells: int = 24, per_half_width: int = 30):
     """The block [-L, L] x [-L, 0] (L = ``size`` a) pressed by a rigid disc of radius R touching (0, 0).
 
     The mesh is graded towards the contact: ``per_half_width`` cells across the expected half-width
