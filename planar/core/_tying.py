@@ -36,12 +36,12 @@ Afterwards ``u_E = A u_N + g``, and the force each pin exerts on the edge nodes 
 (for the spreading tie also at the other edge nodes, ``f_tie - A^T r_E``); the pin's force and moment
 are their resultant, its reaction that minus its load.
 
-For bearing contact (compression only, with clearance) the same pieces serve: the pin's three
-unknowns ``q`` and the rigid map ``G`` of :meth:`Tying.edge_frame` give each edge node's gap
-``g_i = n_i . (u_i - G_i q) + c`` along the node's normal ``n_i`` (from the pin's point into the part),
-a linear function of the mesh unknowns and ``q``; a contact tie adds no row to ``A`` and condenses onto
-those gaps through solves with the one factorization. The Tying of a solve is kept on its assembly
-(``result.assembly.tying``).
+Bearing contact (``tie="contact"``, compression only, with clearance) uses the same pieces: a contact
+tie eliminates nothing (no row of ``A``); its pin's free translations are appended after ``O`` like a
+rigid pin's, its load goes to them, and :mod:`planar.core.contact` writes each edge node's gap
+``g_i = (|x_i - x_p| - r_p) + e_i . (u_i - u_p)`` along ``e_i`` (from the pin's point to the node) and
+condenses onto those gaps through solves with the one factorization. The Tying of a solve is kept on
+its assembly (``result.assembly.tying``).
 """
 from __future__ import annotations
 
