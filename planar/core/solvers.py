@@ -101,7 +101,7 @@ def estimate_memory(n: int, method: str, matrix_entries: int = 0, coarse_unknown
     T3 to Q9): the factor grows like n log n, and ``matrix_entries`` (element-matrix entries of the
     lower triangle) adds the assembly's own arrays, 32 bytes each at the peak.
 
-    ``"amg"``: ``150 MiB + 522 n + 34 matrix_entries + 629 coarse_unknowns`` bytes, a least-squares
+    ``"amg"``: ``150 MiB + 548 n + 36 matrix_entries + 660 coarse_unknowns`` bytes, a least-squares
     fit to the peak resident memory of ``benchmarks/run.py --solver amg`` at 10^6 unknowns for T3,
     T6, Q4 and Q8 (each within 5 %): the mesh and the assembled matrix with its full copy grow with
     n and the entries, the multigrid hierarchy with the unknowns of its nodal space
@@ -111,7 +111,7 @@ def estimate_memory(n: int, method: str, matrix_entries: int = 0, coarse_unknown
     n = max(int(n), 1)
     if method == "amg":
         nc = n if coarse_unknowns is None else min(max(int(coarse_unknowns), 0), n)
-        return int(150 * 2**20 + 522 * n + 34 * int(matrix_entries) + 629 * nc)
+        return int(150 * 2**20 + 548 * n + 36 * int(matrix_entries) + 660 * nc)
     extra = 32 * int(matrix_entries)
     return _solver_memory(n, method) + extra
 
