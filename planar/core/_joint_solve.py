@@ -176,27 +176,38 @@ class _Layer:
         from scipy.spatial import cKDTree
 
         used = np.flatnonzero(mesh.used_nodes())
+        pad = 2 * fz.diameter  # the nodes around the fasteners only (a tree over a band, not the whole layer)
+        lo, hi = pts.min(axis=0) - pad, pts.max(axis=0) + pad
+        xy = mesh.nodes[used]
+        box = used[np.all((xy >= lo) & (xy <= hi), axis=1)]
+        if box.size:
+            used = box
         tree = cKDTree(mesh.nodes[used])
         dist, near = tree.query(pts)
+        if np.any(dist > pad) and used.size < mesh.n_nodes:  # a mesh coarser than the box: the nearest of all
+            used = np.flatnonzero(mesh.used_nodes())
+            tree = cKDTree(mesh.nodes[used])
+            dist, near = tree.query(pts)
         # the nodes within d / 2, a node at d / 2 to round-off among them (a patch does not hang on round-off)
         pairs = cKDTree(pts).sparse_distance_matrix(tree, fz.diameter / 2 * (1 + 1e-9), output_type="ndarray")
         pi = np.r_[np.arange(k), pairs["i"].astype(np.int64)]
         nj = used[np.r_[near, pairs["j"].astype(np.int64)]]
         key = np.unique(pi * mesh.n_nodes + nj)
         pi, nj = key // mesh.n_nodes, key % mesh.n_nodes
-        from .locate import locate
+        few = np.bincount(pairs["i"].astype(np.int64), minlength=k) < 3
+        if few.any():  # a point with few nodes near it: inside the layer at all? (point location of those only)
+            from .locate import locate
 
-        try:
-            locate(mesh, pts)
-        except InputError as exc:
-            raise InputError(f"fasteners {fz.name!r} join layer {self.name!r}, but {exc}; move the fastener into the "
-                             "layer, or leave the layer out of its layers=") from None
+            try:
+                locate(mesh, pts[few])
+            except InputError as exc:
+                raise InputError(f"fasteners {fz.name!r} join layer {self.name!r}, but {exc}; move the fastener into "
+                                 "the layer, or leave the layer out of its layers=") from None
         rot = self.cons.rotation
         if rot is not None and np.isin(nj, rot.nodes).any():
             raise InputError(f"fasteners {fz.name!r}: a fastener's patch in layer {self.name!r} takes a node held along "
                              "an inclined direction; move the fastener or hold that edge along x or y")
         wn = w[nj]
-        few = np.bincount(pi, minlength=k) < 3
         if few.any():
             i = int(np.argmax(few))
             warn(f"{int(few.sum())} of the {k} fasteners {fz.name!r} have fewer than 3 nodes of layer {self.name!r} "

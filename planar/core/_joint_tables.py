@@ -136,18 +136,20 @@ class FastenerTable:
         """The table as text, units stated."""
         us = self.units
         F, L, S = _unit(us, "force"), _unit(us, "length"), _unit(us, "stress")
+        tiny = 1e-9 * max(float(self.magnitude.max(initial=0.0)), 1e-300)
+        z = lambda v: 0.0 if abs(v) < tiny else v  # noqa: E731  (round-off of a load printed as 0)
         lines = [f"Fastener loads, load case {self.case!r} ({us.label})", "",
                  f"{'group':<12} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<28} {'Vx' + F:>12} {'Vy' + F:>12} "
                  f"{'|V|' + F:>12}"]
         for p in self.pairs:
             lines.append(f"{p['group'][:12]:<12} {p['index'] + 1:>3} {p['point'][0]:>12.4g} {p['point'][1]:>12.4g} "
-                         f"{'-'.join(p['layers'])[:28]:<28} {p['shear'][0]:>12.5g} {p['shear'][1]:>12.5g} "
+                         f"{'-'.join(p['layers'])[:28]:<28} {z(p['shear'][0]):>12.5g} {z(p['shear'][1]):>12.5g} "
                          f"{p['magnitude']:>12.5g}")
         lines += ["", f"{'group':<12} {'#':>3} {'layer':<14} {'bearing P' + F:>16} {'t' + L:>10} "
                       f"{'P/(d t)' + S:>16} {'bypass' + F:>14} {'on cut':>7}"]
         for h in self.holes:
             lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:14]:<14} {h['bearing']:>16.5g} "
-                         f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {h['bypass']:>14.5g} {h['on_cut']:>7}")
+                         f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {z(h['bypass']):>14.5g} {h['on_cut']:>7}")
         lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<28} {'x' + L:>12} {'y' + L:>12} "
                                               f"{'n':>4} {'load' + F:>14} {'share':>7}"]
         for r in self.rows:
