@@ -397,7 +397,7 @@ class ContactSet:
                     self._refuse_fixed(fixed[np.argmax(bad)], case)
         self._done, self._blocks = np.zeros(0, np.int64), []
         pen = np.any(gf < 0, axis=1) & self.live
-        cand = (self._dilate(pen) if pen.any() else self.live.copy()) | self.anchor
+        cand = (self._dilate(pen, 10) if pen.any() else self.live.copy()) | self.anchor
         tol = 1e-8 * self._radius_of(np.arange(self.m))
         for _ in range(4 * self.m + 4):
             rows, W = self.flexibility(fac, np.flatnonzero(cand))
