@@ -29,7 +29,7 @@ from .errors import InputError, ResourceError, SolverError
 _EPS = float(np.finfo(float).eps)
 
 __all__ = ["Factorization", "factorize", "available_solvers", "estimate_memory", "available_memory",
-           "coarse_unknowns", "SOLVERS"]
+           "SOLVERS"]
 
 SOLVERS = ("auto", "pardiso", "cholmod", "amg", "superlu")
 
@@ -114,20 +114,6 @@ def estimate_memory(n: int, method: str, matrix_entries: int = 0, coarse_unknown
         return int(150 * 2**20 + 548 * n + 36 * int(matrix_entries) + 660 * nc)
     extra = 32 * int(matrix_entries)
     return _solver_memory(n, method) + extra
-
-
-def coarse_unknowns(cells) -> int:
-    """The unknowns of the multigrid's nodal space, estimated from the cell blocks before any node is
-    counted: two per corner node, a triangle mesh having about half as many vertices as cells and a
-    quadrilateral mesh about as many (Euler's formula).
-
-    Parameters
-    ----------
-    cells : iterable of (cell, n_cells)
-        The reference cell (``"triangle"`` or ``"quad"``; anything else counts as a quadrilateral,
-        the larger estimate) and the number of cells of each block.
-    """
-    return int(sum(2 * int(k) * (0.5 if c == "triangle" else 1.0) for c, k in cells))
 
 
 def _solver_memory(n: int, method: str) -> int:
@@ -572,7 +558,8 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
            coarse_unknowns: int | None = None) -> str:
     """The back end ``factorize`` would use for n unknowns: the fastest installed direct one whose
     estimate of the whole pipeline's peak memory (:func:`estimate_memory`) fits, else the iterative
-    one (``coarse_unknowns``: the size of its nodal space, see :func:`coarse_unknowns`).
+    one (``coarse_unknowns``: the size of its nodal space, estimated by
+    :func:`planar.core._multigrid.coarse_size`).
 
     Raises
     ------
