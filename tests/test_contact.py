@@ -214,3 +214,13 @@ def test_free_pin_moves_by_its_clearance_and_more(pulled):
     pin = next(x for x in pulled["pull"].support_reactions() if x.name == "pin")
     assert pin.motion[0] > 0.005 and pin.motion[2] == 0.0
     assert abs(pin.motion[1]) < 1e-9 * pin.motion[0]
+
+
+def test_large_sliding_across_the_pin_is_flagged(pulled):
+    """The linearised gap leaves out u_t^2 / (2 r): a fit loose against its radius is flagged, a close one not."""
+    assert not [w for w in pulled["pull"].warnings if w.code == "contact-large-motion"]
+    assert pulled["pull"].contact_states["pin"].neglected < 0.01 * pulled["pull"].contact_states["pin"].motion
+    model = loaded_hole_model(1.0, n_around=32, n_radial=8, a=A, load=2000.0)
+    with pytest.warns(Warning, match="contact-large-motion"):
+        r = planar.solve(model, verbose=False)["pull"]
+    assert any(w.code == "contact-large-motion" for w in r.warnings)

@@ -108,6 +108,12 @@ class ContactState:
         The radial clearance and the pin's radius (length).
     units : dict
         The units of the figures (length, stress, force).
+    neglected : float
+        The largest term the linearised gap leaves out, ``u_t^2 / (2 r)`` over the edge nodes (``u_t``
+        the relative motion across the pin's normal), length unit; a warning ``contact-large-motion``
+        follows when it passes 1 % of the largest normal motion (or of the clearance).
+    motion : float
+        The largest normal motion of the edge relative to the pin, ``|e_i . (u_i - u_p)|`` (length).
     """
 
     pin: str
@@ -128,6 +134,8 @@ class ContactState:
     gap: np.ndarray = field(repr=False)
     pressure: np.ndarray = field(repr=False)
     units: dict = field(default_factory=dict, repr=False)
+    neglected: float = 0.0
+    motion: float = 0.0
 
     @property
     def in_contact(self) -> bool:
@@ -164,7 +172,7 @@ class ContactState:
                 "peak_pressure": self.peak_pressure, "peak_at": self.peak_at,
                 "max_penetration": self.max_penetration, "max_tension": self.max_tension,
                 "force": list(self.force), "clearance": self.clearance, "radius": self.radius,
-                "units": dict(self.units), "nodes": self.nodes.tolist(), "angles_deg": self.angles_deg.tolist(),
+                "neglected": self.neglected, "motion": self.motion, "units": dict(self.units), "nodes": self.nodes.tolist(), "angles_deg": self.angles_deg.tolist(),
                 "gap": self.gap.tolist(), "pressure": self.pressure.tolist()}
 
     def table(self, *, contact_only: bool = True) -> str:
@@ -522,8 +530,11 @@ class ContactSet:
             comps[comp] = self.motion[d["p_off"] + i, j]
         return np.r_[d["Q"][:2, :2] @ comps, 0.0]
 
-    def states(self, cases: list[str], units) -> list[dict[str, ContactState]]:
-        """Each contact pin's :class:`ContactState`, per case; refuses penetration beyond 1e-6 of the radius."""
+    def states(self, cases: list[str], units, U: np.ndarray | None = None) -> list[dict[str, ContactState]]:
+        """Each contact pin's :class:`ContactState`, per case; refuses penetration beyond 1e-6 of the radius.
+
+        ``U`` (2n, m), the displacements, gives the term the linearised gap leaves out.
+        """
         lab = {"length": units.unit_of("length"), "stress": units.unit_of("stress"),
                "force": units.unit_of("force")}
         mesh = self.tie.mesh
@@ -550,13 +561,35 @@ class ContactSet:
                 i = int(np.argmax(pres))
                 f = (p["e"][order] * lam[:, None]).sum(axis=0)
                 pres_out = np.where(bearing, pres, 0.0)
+                neglected = motion = 0.0
+                if U is not None:
+                    e = p["e"][order]
+                    urel = U[:, j].reshape(-1, 2)[nodes] - self.pin_motion(d, j)[:2]
+                    ut = urel[:, 1] * e[:, 0] - urel[:, 0] * e[:, 1]
+                    neglected = float((ut ** 2).max(initial=0.0)) / (2 * d["radius"])
+                    motion = float(np.abs((urel * e).sum(axis=1)).max(initial=0.0))
                 row[d["pin"].name] = ContactState(
                     d["pin"].name, case, int(self.iterations[j]), True, a0, a1,
                     float(pres_out.max(initial=0.0)), tuple(map(float, mesh.nodes[nodes[i]])) if bearing.any() else None,
                     pen, max(0.0, -float(pres.min(initial=0.0))) + 0.0, (float(f[0]), float(f[1])),
-                    float(d["pin"].clearance), float(d["radius"]), nodes, ang, gap, pres_out, lab)
+                    float(d["pin"].clearance), float(d["radius"]), nodes, ang, gap, pres_out, lab, neglected, motion)
             out.append(row)
         return out
+
+
+def advise(result) -> None:
+    """Warn (``contact-large-motion``) where the linearised gap leaves out more than 1 % of the motion it reads."""
+    from .errors import warn
+
+    for name, st in (getattr(result, "contact_states", None) or {}).items():
+        scale = max(st.motion, st.clearance)
+        if scale > 0 and st.neglected > 0.01 * scale:
+            lu = st.units.get("length", "")
+            warn(f"contact-large-motion: pin {name!r} (case {st.case!r}): the edge slides across the pin by up to "
+                 f"{np.sqrt(2 * st.radius * st.neglected):.3g}{' ' + lu if lu else ''}, so the linearised gap leaves out "
+                 f"{st.neglected:.3g}{' ' + lu if lu else ''}, {st.neglected / scale:.1%} of the motion it reads; the "
+                 "contact arc and pressure are doubtful: the displacements are not small against the radius "
+                 "(check the loads and units, or reduce the clearance)", "contact-large-motion", sink=result.warnings)
 
 
 def has_contact(model) -> bool:

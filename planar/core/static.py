@@ -328,7 +328,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     else:
         U, R = ul, Rl
     pin_rows = tie.states(U, P, cases) if tie is not None else None
-    contact_rows = contact.states(cases, model.unit_system) if contact is not None else None
+    contact_rows = contact.states(cases, model.unit_system, U) if contact is not None else None
     trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R + P, F, U,
                                     free=free if tie is None else tie.diagnosis_free(free), figures=figures)
     timer.lap("solution check")
@@ -343,6 +343,9 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
             results[c].pin_states = pin_rows[j]
         if contact is not None:
             results[c].contact_states = contact_rows[j]
+            from .contact import advise as contact_advice
+
+            contact_advice(results[c])  # the linearised gap's own limit
     del system
     from .advice import advise
 
