@@ -170,6 +170,16 @@ def test_contact_pin_input_is_checked():
     model.pins[0] = Pin("hole", tie="contact", clearance=A, hold=None, at=(0.0, 0.0), name="pin")
     with pytest.raises(InputError, match="not smaller than the hole's radius"):
         planar.solve(model, verbose=False)
+    block = planar.Model(planar.rectangle_mesh(10.0, 4.0, 10, 4, "Q4", origin=(-5.0, -4.0)),
+                         planar.Isotropic(70e3, 0.3), thickness=1.0)
+    block.add_support(planar.Fixed("bottom"))
+    block.add_load(PinLoad("disc", fy=-1.0), case="press")
+    block.add_pin(Pin("top", tie="contact", at=(0.0, 20.0), name="disc"))
+    with pytest.raises(InputError, match="not a circle about the pin's point.*radius="):
+        planar.solve(block, verbose=False)
+    block.pins[0] = Pin("top", tie="contact", at=(0.0, 19.0), radius=20.0, name="disc")
+    with pytest.raises(InputError, match="overlaps its edge"):
+        planar.solve(block, verbose=False)
 
 
 def test_hertz_half_width_and_peak_pressure_within_3_percent():
