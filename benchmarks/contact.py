@@ -46,7 +46,7 @@ def lug_model(mesh, tie: str, clearance: float = 0.02, load: float = 20e3):
     return model
 
 
-def run_contact(dofs: int = 200_000, element: str = "T6", solver: str = "auto", repeat: int = 2,
+def run_contact(dofs: int = 200_000, element: str = "T6", solver: str = "auto", repeat: int = 3,
                 warm_gib: float | None = None) -> dict:
     """Time and memory of the contact solve against the linear solve of the same lug mesh (same run)."""
     import planar
@@ -133,7 +133,7 @@ def main(argv=None) -> int:
     p.add_argument("--dofs", type=int, default=200_000)
     p.add_argument("--element", default="T6", choices=["T3", "T6", "Q4", "Q8", "Q9"])
     p.add_argument("--solver", default="auto")
-    p.add_argument("--repeat", type=int, default=2)
+    p.add_argument("--repeat", type=int, default=3)
     p.add_argument("--json", metavar="PATH")
     args = p.parse_args(argv)
     rec = run_contact(args.dofs, args.element, args.solver, args.repeat)
