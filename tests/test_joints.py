@@ -251,3 +251,27 @@ def test_named_points_and_a_case_in_one_layer():
     assert f.points(joint) == pytest.approx(np.array([[40.0, 0.0], [50.0, 0.0]]))
     r = planar.solve(joint, cases="pull")["pull"]
     assert r.fasteners.magnitude.sum() == pytest.approx(10.0 * W * 2.0, rel=1e-6)  # statics, both along x
+
+
+def test_patch_tie_converges_and_a_coarse_patch_is_warned():
+    # the spreading patch of diameter d: the fastener shares settle as the mesh is refined (a tie at one
+    # node would not: the displacement under a point force in a plate grows without bound, common practice)
+    global SIZE
+    shares, codes = [], []
+    old = SIZE
+    try:
+        for h in (2.5, 1.25, 0.625):
+            SIZE = h
+            r = planar.solve(lap(3, 2.0, 3.2, 3e-5))["pull"]
+            shares.append(r.fasteners.magnitude / 1000.0)
+            codes.append({w.code for w in r.warnings})
+        SIZE = 10.0  # elements twice the fastener's diameter: its patch holds one or two nodes
+        with pytest.warns(planar.DiscretisationWarning, match="fewer than 3 nodes"):
+            coarse = planar.solve(lap(3, 2.0, 3.2, 3e-5))["pull"]
+    finally:
+        SIZE = old
+    d1 = np.abs(shares[1] - shares[0]).max()
+    d2 = np.abs(shares[2] - shares[1]).max()
+    assert d2 < 0.1 * d1 and d2 < 1e-3  # measured: 4e-4, then 6e-6
+    assert all("fastener-patch" not in c for c in codes)  # no false alarm on a fine mesh
+    assert "fastener-patch" in {w.code for w in coarse.warnings}
