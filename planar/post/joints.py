@@ -3,9 +3,9 @@
 Examples
 --------
 >>> import planar
->>> m = planar.rectangle_mesh(40.0, 10.0, 8, 2)
+>>> m = planar.rectangle_mesh(40.0, 10.0, 40, 10)
 >>> a = planar.Model(m, planar.Isotropic(E=70e3, nu=0.3), thickness=2.0, units="N, mm, MPa")
->>> b = planar.Model(planar.rectangle_mesh(40.0, 10.0, 8, 2, origin=(20.0, 0.0)),
+>>> b = planar.Model(planar.rectangle_mesh(40.0, 10.0, 40, 10, origin=(20.0, 0.0)),
 ...                  planar.Isotropic(E=70e3, nu=0.3), thickness=2.0, units="N, mm, MPa")
 >>> _ = a.add_support(planar.Fixed("left"))
 >>> _ = b.add_load(planar.Traction("right", tx=50.0), case="pull")
