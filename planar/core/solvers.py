@@ -363,9 +363,10 @@ class _AMG:
                      else "smoothed aggregation"}
 
     def _hierarchy(self, B):
-        from ._multigrid import hierarchy
+        from ._multigrid import hierarchy, one_blas_thread
 
-        return hierarchy(self._A, self._space, B)
+        with one_blas_thread():
+            return hierarchy(self._A, self._space, B)
 
     def _reset_info(self):
         self.info = {**self.info, "iterations": [], "residual": []}
@@ -431,6 +432,13 @@ class _AMG:
         return self._norm
 
     def _pcg(self, b: np.ndarray, x0: np.ndarray | None, done, maxiter: int):
+        """:meth:`_pcg_steps` with OpenBLAS on one thread (:class:`planar.core._multigrid.one_blas_thread`)."""
+        from ._multigrid import one_blas_thread
+
+        with one_blas_thread():
+            return self._pcg_steps(b, x0, done, maxiter)
+
+    def _pcg_steps(self, b: np.ndarray, x0: np.ndarray | None, done, maxiter: int):
         """Preconditioned CG from ``x0`` until ``done(r, x)`` (r the true residual), stagnation,
         breakdown or ``maxiter``.
 
