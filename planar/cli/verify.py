@@ -34,5 +34,12 @@ def run(args: argparse.Namespace) -> int:
     failed = [r for r in records if not r.passed]
     summary = (f"{len(records) - len(failed)} of {len(records)} checks passed"
                + (f"; failed: {', '.join(sorted({f'{r.case}[{r.element}]' for r in failed}))}" if failed else ""))
+    if args.case is None and args.element is None:
+        from ..verify import cases
+
+        held = sorted(n for n, c in cases().items() if not c.default)
+        if held:
+            summary += (f". Not in the full run, their published reference still in doubt: {', '.join(held)} "
+                        "(run by name with --case)")
     print("\n" + "\n".join(textwrap.wrap(summary, 120, subsequent_indent="  ")))
     return 0 if not failed else 1

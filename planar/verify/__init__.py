@@ -55,7 +55,7 @@ def run(*, element: str | None = None, case_names: Iterable[str] | None = None, 
         Called with a line of text as each case finishes.
     """
     allc = cases()
-    names = list(case_names) if case_names is not None else list(allc)
+    names = list(case_names) if case_names is not None else [n for n, c in allc.items() if c.default]
     for n in names:
         if n not in allc:
             raise unknown_name("benchmark case", n, allc)
