@@ -53,6 +53,9 @@ def test_load_balance_and_each_layer_in_equilibrium(lap3):
     assert lap3.balance_error() < 1e-9
     for r in lap3.layers.values():
         assert r.equilibrium_error() < 1e-9
+        # each layer's reactions (supports, and the fasteners as pins) balance its loads
+        assert np.abs(r.total_reaction() + r.total_applied()).max() < 1e-9 * 1000.0
+        assert sum(x.kind == "pin (fastener patch tie)" for x in r.support_reactions()) == 3
     total = lap3.fasteners.shear.sum(axis=0)
     assert total[0] == pytest.approx(-1000.0, rel=1e-9)  # the force on the bottom strip: the whole load
     assert abs(total[1]) < 1e-9 * 1000.0

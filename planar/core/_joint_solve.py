@@ -225,6 +225,39 @@ class _Layer:
         return S, tt, ee
 
 
+def _patch_states(joint, L, ends, U: np.ndarray, cases: list[str]) -> list[list]:
+    """Each fastener end tied to a patch (no hole) as a pin's figures per case, so the layer's reactions add up.
+
+    Force: the fastener's force on the layer (a reaction, no load); moment about the fastener's point
+    of that force spread by the patch weights, ``(x_mean - p) x f``; motion: the patch's mean translation.
+    """
+    from ._tying import PinState
+
+    out = [[] for _ in cases]
+    xy = L.mesh.nodes
+    for e in ends:
+        if e["layer"] != L.name or (e["group"], 0) in L.hole_pins:
+            continue
+        fz = joint.fasteners[e["group"]]
+        S = e["S"]
+        Sx = S[0::2][:, 0::2].tocsr()  # (k, n): the patch weights (the x rows weigh the x unknowns only)
+        cen = np.column_stack([Sx @ xy[:, 0], Sx @ xy[:, 1]])
+        q = (S @ U).reshape(-1, 2, len(cases))
+        F = e["force"]  # (k, 2, m)
+        arm = cen - e["points"]
+        nodes = np.split(Sx.indices, Sx.indptr[1:-1])
+        for j in range(len(cases)):
+            mom = arm[:, 0] * F[:, 1, j] - arm[:, 1] * F[:, 0, j]
+            for i in range(e["count"]):  # one row of figures per fastener end (the reactions table)
+                f = (float(F[i, 0, j]), float(F[i, 1, j]))
+                out[j].append(PinState(name=f"{fz.name}[{i}]@{L.name}", tie="fastener patch", edge=None,
+                                       point=(float(e["points"][i, 0]), float(e["points"][i, 1])), force=f,
+                                       moment=float(mom[i]), load=(0.0, 0.0, 0.0), reaction=(f[0], f[1], float(mom[i])),
+                                       motion=(float(q[i, 0, j]), float(q[i, 1, j]), 0.0),
+                                       held=(False, False, False), nodes=nodes[i]))
+    return out
+
+
 def _embed(M: sp.csr_matrix, offset: int, n: int) -> sp.csr_matrix:
     M = M.tocsr()
     return sp.csr_matrix((M.data, M.indices + offset, M.indptr), shape=(M.shape[0], n))
@@ -442,14 +475,17 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         rest = P.copy()
         rest[rest_off] = 0.0  # the forces other than the fasteners' own: the user's pins
         P = P + fs * outside[:, None]
-        states = L.tie.states(U, P, cases) if L.tie is not None else None
+        states = L.tie.states(U, P, cases) if L.tie is not None else [[] for _ in cases]
+        patch_states = _patch_states(joint, L, ends, U, cases)  # the ends with no modelled hole, as pins
+        for j in range(m):
+            states[j] = list(states[j]) + patch_states[j]
         layer_res = {}
         for j, cn in enumerate(cases):
             r = Result(L.asm, cn, U[:, j].reshape(-1, 2), R[:, j].reshape(-1, 2), L.F[:, j].reshape(-1, 2),
                        L.loads[j][1], solver=fac.name, timer=timer,
                        solver_info={**fac.info, "backward_error": float(eta[j])})
             r.pin_forces = P[:, j].reshape(-1, 2)
-            r.pin_states = states[j] if states is not None else []
+            r.pin_states = states[j]
             r.rest_forces = (L.F[:, j] + R[:, j] + rest[:, j]).reshape(-1, 2)
             if eta[j] > WARN:
                 warn(f"load case {cn!r}: the joint's solve has backward error {eta[j]:.1e}; the answer may be "
