@@ -455,7 +455,7 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
         start, batch = 0, 256
         while start < order.size:
             chunk = order[start:start + batch]
-            near_k, _ = near_idealised(mesh, model, chunk)
+            near_k, _ = near_idealised(mesh, model, chunk, distance="size")  # what where=Away() reads
             if not np.all(near_k):
                 top = float(v[chunk[np.argmin(near_k)]])
                 break
@@ -464,7 +464,7 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
             break
     sign = -1.0 if sign_of_values < 0 else 1.0
     other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
-             f"{sign * top:.6g}" if np.isfinite(top) else "")
+             f"{sign * top:.6g} (where=Away())" if np.isfinite(top) else "")
     return (f"next to {why[0]}: a peak there is made by the idealisation (how the part is held or loaded), "
             f"not by the part{other}; read the feature under check with where= (e.g. where=Away() or the "
             "feature's edge)")
