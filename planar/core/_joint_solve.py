@@ -106,7 +106,7 @@ class _Layer:
         asm = Assembly(lm, distortion_limit=distortion_limit)
         self.asm, mesh = asm, asm.mesh
         self.mesh = mesh
-        from .static import constrain
+        from .static import constrain, prescribed
 
         cons = constrain(mesh, lm.supports)
         self.cons = cons
@@ -114,16 +114,8 @@ class _Layer:
         note_snapped(mesh, lm.supports, pending_warnings(asm))
         zero_energy_check(asm, sink=pending_warnings(asm))
         ndof = 2 * mesh.n_nodes
-        unused = np.flatnonzero(~mesh.used_nodes())
-        pres = np.zeros(ndof, dtype=bool)
-        pres[cons.dofs] = True
-        pres[2 * unused] = True
-        pres[2 * unused + 1] = True
-        up = np.zeros(ndof)
-        up[cons.dofs] = cons.values
-        if self.tie is not None:
-            self.tie.mark(pres, up)
-        self.unused = unused
+        pres, up = prescribed(mesh, cons, self.tie)
+        self.unused = np.flatnonzero(~mesh.used_nodes())
         self.free = np.flatnonzero(~pres)
         self.pdofs = np.flatnonzero(pres)
         free_index = np.full(ndof, -1, dtype=np.int64)

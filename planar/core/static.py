@@ -152,6 +152,22 @@ def _case_names(model, cases) -> list[str]:
     return names
 
 
+def prescribed(mesh, cons, tie=None) -> tuple[np.ndarray, np.ndarray]:
+    """(mask, values) of the prescribed unknowns: the supports' rows, both unknowns of every node in no
+    cell, and the unknowns a pin's tie eliminates (assembled as prescribed, :mod:`planar.core._tying`)."""
+    ndof = 2 * mesh.n_nodes
+    unused = np.flatnonzero(~mesh.used_nodes())
+    pres = np.zeros(ndof, dtype=bool)
+    pres[cons.dofs] = True
+    pres[2 * unused] = True
+    pres[2 * unused + 1] = True
+    up = np.zeros(ndof)
+    up[cons.dofs] = cons.values
+    if tie is not None:
+        tie.mark(pres, up)
+    return pres, up
+
+
 def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool | None = None,
           distortion_limit: float = 1e-3, timer: Timer | None = None,
           keep_system: bool = False) -> Results:
@@ -219,15 +235,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     else:
         tie.check_motions(mesh, cons, sink=pending_warnings(asm))  # the held pins count
     ndof = 2 * mesh.n_nodes
-    unused = np.flatnonzero(~mesh.used_nodes())
-    pres = np.zeros(ndof, dtype=bool)
-    pres[cons.dofs] = True
-    pres[2 * unused] = True
-    pres[2 * unused + 1] = True
-    up = np.zeros(ndof)
-    up[cons.dofs] = cons.values
-    if tie is not None:
-        tie.mark(pres, up)  # the eliminated unknowns are assembled as prescribed
+    pres, up = prescribed(mesh, cons, tie)
     free = np.flatnonzero(~pres)
     pdofs = np.flatnonzero(pres)
     free_index = np.full(ndof, -1, dtype=np.int64)
@@ -320,6 +328,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
             if d["pin"].tie == "contact":
                 d["motion"] = np.column_stack([contact.pin_motion(d, j) for j in range(len(cases))])
     _check_finite(ul, Rl, cases)
+    unused = np.flatnonzero(~mesh.used_nodes())
     Rl[2 * unused] = 0.0
     Rl[2 * unused + 1] = 0.0
     if cons.rotation is not None:

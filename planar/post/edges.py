@@ -511,7 +511,7 @@ def plot_edge_stresses(es: EdgeStresses, fields: Sequence[str] | str = ("sigma_t
     -------
     matplotlib.figure.Figure
     """
-    from .plots import _fmt, save_figure
+    from .plots import _fmt, finish_line_plot
 
     if not isinstance(es, EdgeStresses):
         raise InputError(f"plot_edge_stresses needs the EdgeStresses of edge_stresses(), got {type(es).__name__}")
@@ -550,12 +550,5 @@ def plot_edge_stresses(es: EdgeStresses, fields: Sequence[str] | str = ("sigma_t
         ax.set_xlabel(f"arc length along edge {es.edge!r}" + (f" [{lu}]" if lu else ""))
     ax.set_ylabel("stress" + (f" [{su}]" if su else ""))
     ax.axhline(0.0, color="0.6", lw=0.6)
-    ax.grid(True, color="0.88", lw=0.6)
-    ax.legend(fontsize=8, frameon=False)
-    for side in ("top", "right"):
-        ax.spines[side].set_visible(False)
-    ax.set_title(title or f"stresses along edge {es.edge!r}, load case {es.case!r} ({es.recovery} recovery)",
-                 fontsize=10, loc="left")
-    if path is not None:
-        save_figure(fig, path)
-    return fig
+    return finish_line_plot(fig, ax, title or f"stresses along edge {es.edge!r}, load case {es.case!r} "
+                            f"({es.recovery} recovery)", path)

@@ -530,7 +530,7 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     >>> sorted(a.get_gid() for a in fig.axes[0].get_children() if str(a.get_gid()).startswith(("support", "load:")))
     ['load:traction:right', 'support:fixed:left']
     """
-    from .plots import _new_figure, save_figure
+    from .plots import figure_and_axes, save_figure
 
     layers = getattr(model, "layers", None)
     if isinstance(layers, dict) and layers and hasattr(model, "fasteners"):   # a fastened joint: its layers
@@ -543,11 +543,7 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     lo, hi = _bounds([m for _, m in models])
     aspect = float((hi[0] - lo[0]) / max(hi[1] - lo[1], 1e-12 * max(hi[0] - lo[0], 1.0)))
     own = ax is None
-    if own:
-        fig = _new_figure(aspect)
-        ax = fig.add_subplot()
-    else:
-        fig = ax.figure
+    fig, ax = figure_and_axes(ax, aspect)
     legend: dict[str, Any] = {}
     notes: list[str] = []
     for i, (layer, m) in enumerate(models):

@@ -27,6 +27,7 @@ from ..core.layouts import from_file_cells
 from ..core.result import as_result
 # units of fields, stress, length, force from the model's unit system or its name (re-exported)
 from ..core.units import field_unit, force_unit, length_unit, stress_unit  # noqa: F401
+from ._outline import _nice_down as _nice
 from ._subdivide import _cells_in_window, _outline_segments, subdivide  # noqa: F401 (re-exported)
 from .files import atomic_path
 
@@ -66,15 +67,6 @@ def field_label(field: str, unit: str = "") -> str:
 
 
 # ---------------------------------------------------------------------------------------- helpers
-def _nice(x: float) -> float:
-    """Round down to 1, 2 or 5 times a power of ten."""
-    if not (x > 0 and math.isfinite(x)):
-        return 0.0
-    e = math.floor(math.log10(x))
-    m = x / 10**e
-    return (5 if m >= 5 else 2 if m >= 2 else 1) * 10.0**e
-
-
 def deformation_scale(nodes: np.ndarray, u: np.ndarray, fraction: float = 0.06) -> float:
     """A round displacement magnification that makes the largest displacement about ``fraction``
     of the model size (the larger side of the bounding box).
@@ -123,6 +115,26 @@ def _new_figure(aspect: float, width: float = 8.0):
     h = float(np.clip(h, 3.2, 9.0))
     fig = Figure(figsize=(width, h), dpi=120, layout="constrained")
     FigureCanvasAgg(fig)
+    return fig
+
+
+def figure_and_axes(ax, aspect: float, width: float = 8.0):
+    """(figure, axes): a new figure of this width-over-height aspect with one axes, or ``ax`` and its figure."""
+    if ax is None:
+        fig = _new_figure(aspect, width)
+        return fig, fig.add_subplot()
+    return ax.figure, ax
+
+
+def finish_line_plot(fig, ax, title: str, path=None):
+    """The common finish of a line plot: light grid, legend, no top and right spines, title, PNG file."""
+    ax.grid(True, color="0.88", lw=0.6)
+    ax.legend(fontsize=8, frameon=False)
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    ax.set_title(title, fontsize=10, loc="left")
+    if path is not None:
+        save_figure(fig, path)
     return fig
 
 
@@ -306,12 +318,7 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
         x0, y0 = pts.min(axis=0)
         x1, y1 = pts.max(axis=0)
     aspect = (x1 - x0) / max(y1 - y0, 1e-12 * max(x1 - x0, 1.0))
-    own = ax is None
-    if own:
-        fig = _new_figure(aspect)
-        ax = fig.add_subplot()
-    else:
-        fig = ax.figure
+    fig, ax = figure_and_axes(ax, aspect)
     tri = Triangulation(pts[:, 0], pts[:, 1], tris)
     if pv is not None and levels:
         bounds = np.linspace(norm.vmin, norm.vmax, int(levels) + 1)
@@ -629,12 +636,4 @@ def plot_along(result, start, end, field: str = "von_mises", *, recovery: str = 
     ax.set_xlabel(f"distance along the path from ({_fmt(start[0])}, {_fmt(start[1])}) "
                   f"to ({_fmt(end[0])}, {_fmt(end[1])})" + (f" [{length}]" if length else ""))
     ax.set_ylabel(field_label(field, unit))
-    ax.grid(True, color="0.88", lw=0.6)
-    ax.legend(fontsize=8, frameon=False)
-    for s in ("top", "right"):
-        ax.spines[s].set_visible(False)
-    ax.set_title(title or f"{field_label(field)} along a path, load case '{result.case}'",
-                 fontsize=10, loc="left")
-    if path is not None:
-        save_figure(fig, path)
-    return fig
+    return finish_line_plot(fig, ax, title or f"{field_label(field)} along a path, load case '{result.case}'", path)
