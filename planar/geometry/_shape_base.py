@@ -55,7 +55,20 @@ class Shape:
 
     def bounding_box(self) -> tuple[float, float, float, float]:
         """(xmin, ymin, xmax, ymax) of the shape."""
-        pts = _polyline_of(self._pieces(), self._spacing())
+        pieces = self._pieces()
+        extra = []  # the exact extremes of curved pieces (a sampled circle's box is short by its chord sag)
+        for p in pieces:
+            if isinstance(p, _Arc):
+                ang = p.a0 + np.linspace(0.0, p.sweep, 2)
+                quad = 0.5 * math.pi * np.arange(math.floor(min(ang) / (0.5 * math.pi)),
+                                                 math.ceil(max(ang) / (0.5 * math.pi)) + 1)
+                quad = quad[(quad >= min(ang)) & (quad <= max(ang))]
+                extra.append(np.asarray(p.centre) + p.radius * np.column_stack([np.cos(quad), np.sin(quad)]))
+            elif isinstance(p, _EllipseCurve):
+                c, s = math.cos(p.angle), math.sin(p.angle)
+                hx, hy = math.hypot(p.a * c, p.b * s), math.hypot(p.a * s, p.b * c)
+                extra.append(np.asarray(p.centre) + np.array([[-hx, -hy], [hx, hy]]))
+        pts = np.vstack([_polyline_of(pieces, self._spacing())] + extra)
         lo, hi = pts.min(axis=0), pts.max(axis=0)
         return float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])
 
