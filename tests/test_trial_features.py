@@ -23,3 +23,38 @@ def test_round_bounding_box_is_exact_so_a_ring_can_be_quartered():
     assert Ellipse((0.0, 0.0), 10.0, 5.0, angle=45.0).bounding_box() == pytest.approx((-hx, -hy, hx, hy), rel=1e-9)
     ring = Plate(Circle((0.0, 0.0), 40.0, name="outer")).cut(Circle((0.0, 0.0), 20.0, name="bore")).quarter()
     assert sorted(ring.names()["edges"]) == ["bore", "outer", "symmetry_x", "symmetry_y"]
+
+
+def _bracket(size=6.0):
+    """An L bracket (mm) bolted by two clamped 8 mm holes in its upright, bent by a 1 kN tip load."""
+    from planar.geometry import Polygon, Refine, mesh
+
+    poly = Polygon([(0, 0), (120, 0), (120, 20), (20, 20), (20, 100), (0, 100)],
+                   names=["bottom", "tip", "arm_top", "inner", "top", "back"])
+    plate = Plate(poly).fillet((20, 20), radius=6.0, name="fillet").cut(
+        Circle((10, 50), 4.0, name="bolt_low"), Circle((10, 85), 4.0, name="bolt_high"))
+    m = mesh(plate, size=size, refine=[Refine("fillet", size=1.0), Refine("bolt_low", size=1.5),
+                                        Refine("bolt_high", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=5.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("bolt_low"))
+    model.add_support(planar.Fixed("bolt_high"))
+    model.add_load(planar.Traction("tip", ty=-1000.0 / (20 * 5.0)), case="tip")
+    return planar.solve(model)["tip"]
+
+
+def test_hot_spot_on_a_clamped_hole_is_flagged_when_the_part_peaks_elsewhere():
+    # the clamped bolt hole's spots are made by the clamp (a rigid hole edge; common practice: read
+    # stresses away from idealised supports, St Venant's principle). They were not flagged when a
+    # fillet elsewhere was higher, because the hole had no value of its own away from the clamp and was
+    # set against the whole part
+    from planar.post import hot_spots
+
+    r = _bracket()
+    hs = hot_spots(r)
+    assert hs.governing is not None and hs.governing.feature == "fillet"
+    on_hole = [s for s in hs.spots if s.feature.startswith("bolt_")]
+    assert on_hole and all(s.flagged and "Fixed('bolt_" in s.next_to for s in on_hole)
+    assert not any(s.flagged for s in hs.spots if s.feature == "fillet")
+    # beam theory (Euler-Bernoulli; Timoshenko, Strength of Materials, 1955): M / Z at the fillet's
+    # tangent x = 26 is 1000 x 94 / (5 x 20^2 / 6) = 282 MPa; the fillet of the re-entrant corner raises it
+    assert 1.3 * 282.0 < hs.governing.value < 2.5 * 282.0

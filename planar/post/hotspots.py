@@ -468,6 +468,12 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         if near[r]:
             mask = _feature_mask(mesh, str(feats[k]), str(kinds[k]), i)
             reason = idealised_reason(result, i, v, mask)
+            if not reason and np.all(near_idealised(mesh, result.model, np.flatnonzero(mask))[0]):
+                # the feature is itself held or loaded (a clamped bolt hole, a tied pin hole): it has no
+                # value of its own away from the idealisation to set against, so its peak is the
+                # idealisation's, whatever the rest of the part does
+                reason = (f"next to {why[r]}: the whole {kinds[k]} {feats[k]!r} is held or loaded there, so its "
+                          "peak is made by the idealisation (how the part is held or loaded), not by the part")
             next_to = why[r] if reason else ""
         also = tuple(_at(mesh, j) for j in twins.get(k, []))
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
