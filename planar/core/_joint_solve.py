@@ -102,6 +102,10 @@ class _Layer:
                 check_new_pin(lm, pin)
                 lm.pins.append(pin)
                 self.hole_pins[(g, i)] = pin.name
+        # read by the report's inputs: the layer is loaded through these fasteners, its hole pins carry them
+        lm.joint_layer = name
+        lm.joint_fasteners = [fz for fz in joint.fasteners if name in fz.layers]
+        lm.joint_pins = {pn: (joint.fasteners[g].name, i + 1) for (g, i), pn in self.hole_pins.items()}
         self.model = lm
         asm = Assembly(lm, distortion_limit=distortion_limit)
         self.asm, mesh = asm, asm.mesh

@@ -71,6 +71,12 @@ def _refuse(obj: Any, where: str) -> None:
         first = repr(cases[0]) if cases else "'case name'"
         raise InputError(f"{where} takes one load case's Result, got the Model itself; solve it first and "
                          f"{fix}: planar.solve(model)[{first}]")
+    if hasattr(obj, "layers") and hasattr(obj, "fasteners") and isinstance(getattr(obj, "layers"), Mapping):
+        names = list(obj.layers)
+        first = repr(names[0]) if names else "'layer'"
+        raise InputError(f"{where} takes one load case's Result, got a joint's result, which holds one Result per "
+                         f"layer ({', '.join(map(repr, names))}); pass a layer, e.g. result.layers[{first}]"
+                         + (" (with joints=result for the fastener tables)" if where == "stress_check_report" else ""))
     raise InputError(f"{where} takes one load case's Result (from planar.solve(model)['case name']), got "
                      f"{type(obj).__name__}")
 

@@ -572,9 +572,17 @@ class ContactSet:
                     d["pin"].name, case, int(self.iterations[j]), True, a0, a1,
                     float(pres_out.max(initial=0.0)), tuple(map(float, mesh.nodes[nodes[i]])) if bearing.any() else None,
                     pen, max(0.0, -float(pres.min(initial=0.0))) + 0.0, (float(f[0]), float(f[1])),
-                    float(d["pin"].clearance), float(d["radius"]), nodes, ang, gap, pres_out, lab, neglected, motion)
+                    _clearance(d, mesh), float(d["radius"]), nodes, ang, gap, pres_out, lab, neglected, motion)
             out.append(row)
         return out
+
+
+def _clearance(d, mesh) -> float:
+    """The radial clearance: as given, or with the pin's radius= given, the edge's nearest distance from the disc."""
+    if d["pin"].radius is None:
+        return float(d["pin"].clearance)
+    dist = np.hypot(*(mesh.nodes[d["nodes"]] - np.asarray(d["point"], float)).T)
+    return max(0.0, float(dist.min()) - float(d["radius"]))
 
 
 def advise(result) -> None:

@@ -132,6 +132,17 @@ class Fasteners:
         self.tie = _word(tie, TIES, "tie")
         self.name = str(name)
         self.holes = self._holes(holes)
+        if isinstance(self.flexibility, str):  # a wrong formula name or shear mode is refused here, not at the solve
+            if self.shear == "double" and len(self.layers) != 3:
+                raise InputError(f"fasteners {self.name!r}: shear='double' joins three layers, the middle plate "
+                                 f"listed second (outer, middle, outer); got {len(self.layers)} layers "
+                                 f"{self.layers}; give shear='single' or the three layers")
+            try:
+                from .fastener_flexibility import fastener_compliance
+            except ImportError:  # pragma: no cover - the formulas are part of planar
+                return
+            fastener_compliance(self.flexibility, diameter=1.0, t1=1.0, t2=1.0, E1=1.0, E2=1.0, Ef=1.0,
+                                kind=self.kind, shear=self.shear)
 
     def _holes(self, holes) -> dict[str, list[str]]:
         if holes is None:
@@ -243,8 +254,10 @@ class Joint:
         self.fasteners: list[Fasteners] = []
         stated = {m.unit_system.label for m in self.layers.values() if m.unit_system.stated}
         if len(stated) > 1:
-            raise InputError(f"the layers state different units ({', '.join(sorted(stated))}); give every layer the "
-                             "same units=")
+            which = "; ".join(f"layer {k!r} in {m.unit_system.label!r}" for k, m in self.layers.items()
+                              if m.unit_system.stated)
+            raise InputError(f"the layers state different units ({which}); give every layer the same units= and "
+                             "its numbers in them")
 
     @property
     def unit_system(self):

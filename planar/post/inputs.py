@@ -259,8 +259,15 @@ def input_rows(model, case: str | None = None) -> list[tuple[str, str]]:
         rows.append((f"support {k}", describe_support(s, units)))
     if not model.supports:
         rows.append(("supports", "none"))
+    joined = getattr(model, "joint_pins", None) or {}
     for k, p in enumerate(getattr(model, "pins", []) or [], 1):
-        rows.append((f"pin {k}", describe_pin(p, units, model.mesh)))
+        text = describe_pin(p, units, model.mesh)
+        if p.name in joined:
+            text += f"; carries fastener {joined[p.name][1]} of group '{joined[p.name][0]}' (its springs to the " \
+                    "other layers)"
+        rows.append((f"pin {k}", text))
+    for fz in getattr(model, "joint_fasteners", None) or []:
+        rows.append((f"fasteners '{fz.name}'", _describe_fasteners(fz, model, units)))
     names = list(model.cases)
     if case in names:
         names.remove(case)
@@ -270,10 +277,41 @@ def input_rows(model, case: str | None = None) -> list[tuple[str, str]]:
     for c in names:
         loads = model.cases[c]
         if not loads:
-            rows.append((f"loads, case '{c}'", "none (driven by the supports' prescribed motions)"))
+            rows.append((f"loads, case '{c}'", "none applied to this layer: it is loaded through its fasteners"
+                         if getattr(model, "joint_fasteners", None) else
+                         "none (driven by the supports' prescribed motions)" if _moved(model) else "none"))
         for k, load in enumerate(loads, 1):
             rows.append((f"load {k}, case '{c}'", describe_load(load, units)))
     return rows
+
+
+def _moved(model) -> bool:
+    """Whether a support or a pin of the model prescribes a motion other than zero."""
+    for s in model.supports:
+        for a in ("ux", "uy"):
+            v = getattr(s, a, None)
+            if callable(v) or (v is not None and v != 0):
+                return True
+    return any(any(abs(v) > 0 for v in getattr(p, "move", (0.0, 0.0, 0.0)) or ())
+               for p in getattr(model, "pins", []) or [])
+
+
+def _describe_fasteners(fz, model, units: UnitSystem) -> str:
+    """A group of fasteners of a joint in plain words, seen from one of its layers."""
+    length = _u(units, "length")
+    try:
+        k = len(fz.points())
+    except Exception:  # noqa: BLE001 - named points need the joint; the count is extra information
+        k = len(fz.names or [])
+    flex = (f"flexibility by {fz.flexibility!r} (fastener E = {_num(fz.modulus)}{_u(units, 'stress')})"
+            if isinstance(fz.flexibility, str) else
+            f"compliance {_num(fz.flexibility)}{length}/{units.force}" if units.stated else
+            f"compliance {_num(fz.flexibility)} (length/force)")
+    name = getattr(model, "joint_layer", None)
+    tie = (f"{fz.tie} ties at holes {', '.join(repr(e) for e in fz.holes[name])}" if name in fz.holes else
+           "spread over the nodes within d/2 of each point (no hole modelled)")
+    return (f"{k} {fz.kind}(s), d = {_num(fz.diameter)}{length}, {fz.shear} shear, joining layers "
+            f"{', '.join(repr(x) for x in fz.layers)}; {flex}; in this layer: {tie}")
 
 
 def plain(thing: Any, units: UnitSystem | str | None = None, mesh=None) -> str:

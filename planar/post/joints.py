@@ -140,7 +140,8 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
     ax.set_title(title or f"Fastener bearing loads, load case {result.case!r} ({us.label})\narrow of "
                           f"{vmax:.4g}{F_u} drawn {vmax * scale:.3g}{' ' + us.length if us.stated else ''} long",
                  fontsize="medium")
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, fontsize="small", frameon=False)
+    # below the axes and the x label, in the figure (a legend anchored to a short axes overlapped the label)
+    fig.legend(*ax.get_legend_handles_labels(), loc="outside lower center", ncols=2, fontsize="small", frameon=False)
     if path is not None:
         save_figure(fig, path)
     return fig

@@ -1,0 +1,109 @@
+"""Fastened joints, the report and the pictures tried on parts of our own: the defects found and fixed.
+
+Sources:
+- statics (common practice): a lap joint's fasteners carry the whole load from one plate to the other,
+  so a layer with no load of its own is loaded through its fasteners, not by prescribed motions.
+- the radial clearance of a pin in a hole is the hole's radius minus the pin's (common practice;
+  ESDU and handbook lug charts quote it so, from memory).
+- H. Huth, ASTM STP 927, 1986: the double-shear formula is for a middle plate between two outer
+  plates (three plates); T. Swift, 1971, and M. B. Tate and S. J. Rosenfeld, NACA TN 1051, 1946, are
+  single-shear formulas (as recalled in planar.core.fastener_flexibility, from memory).
+- a figure that tells the truth (issue 18's requirement; common practice for drawings): a line drawn
+  dashed in the legend is dashed on the part, and no legend covers an axis label.
+"""
+import numpy as np
+import pytest
+
+import planar
+from planar.core.errors import InputError, NameNotFoundError
+
+
+def _lap(n=2, size=2.0, units="N, mm, MPa"):
+    """Two 20 mm strips of 2 mm lapped over 40 mm, the top clamped, the bottom pulled by 1 kN."""
+    strips = {}
+    for name, x0 in (("top", 0.0), ("bottom", 60.0)):
+        m = planar.rectangle_mesh(100.0, 20.0, int(100 / size), int(20 / size), origin=(x0, -10.0))
+        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units=units)
+    strips["top"].add_support(planar.Fixed("left"))
+    strips["bottom"].add_load(planar.Traction("right", tx=1000.0 / (20.0 * 2.0)), case="pull")
+    joint = planar.Joint(strips)
+    xs = np.linspace(70.0, 90.0, n)
+    joint.add_fasteners(planar.Fasteners(np.column_stack([xs, np.zeros(n)]), layers=("top", "bottom"),
+                                         diameter=5.0, flexibility=3e-5, name="row"))
+    return joint
+
+
+@pytest.fixture(scope="module")
+def lap():
+    return planar.solve(_lap())["pull"]
+
+
+def test_formula_name_and_shear_refused_when_the_fasteners_are_made():
+    # Swift and Tate-Rosenfeld are single-shear formulas; Huth's double shear joins three plates (sources)
+    kw = dict(diameter=5.0, modulus=71e3)
+    with pytest.raises(NameNotFoundError, match="huth"):
+        planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), flexibility="hut", **kw)
+    with pytest.raises(InputError, match="single-shear"):
+        planar.Fasteners([(0.0, 0.0)], layers=("a", "b", "c"), flexibility="swift", shear="double", **kw)
+    with pytest.raises(InputError, match="three layers"):
+        planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), flexibility="huth", shear="double", **kw)
+    planar.Fasteners([(0.0, 0.0)], layers=("a", "b", "c"), flexibility="huth", shear="double", **kw)
+
+
+def test_layers_in_different_units_named_each():
+    m = planar.rectangle_mesh(10.0, 2.0, 4, 2)
+    a = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    b = planar.Model(m, planar.Isotropic(E=10.3e6, nu=0.33), thickness=0.08, units="lbf, in, psi")
+    with pytest.raises(InputError, match=r"layer 'a' in 'N, mm, MPa'; layer 'b' in 'lbf, in, psi'"):
+        planar.Joint({"a": a, "b": b})
+
+
+def test_a_joint_result_given_to_the_report_names_the_fix(lap):
+    from planar.post import stress_check_report
+
+    with pytest.raises(InputError, match=r"result.layers\['top'\].*joints=result"):
+        stress_check_report(lap)
+
+
+def test_a_joint_layer_inputs_say_it_is_loaded_through_its_fasteners(lap):
+    # statics: the top strip has no load of its own; the fasteners carry the whole 1 kN into it
+    from planar.post.inputs import input_rows
+
+    rows = dict(input_rows(lap.layers["top"].model, "pull"))
+    assert "through its fasteners" in rows["loads, case 'pull'"]
+    assert "prescribed" not in rows["loads, case 'pull'"]
+    text = rows["fasteners 'row'"]
+    assert "2 bolt(s), d = 5 mm" in text and "'top', 'bottom'" in text and "3e-05 mm/N" in text
+    # a plain model with no load in a case and no prescribed motion is not said to be driven by one
+    m = planar.Model(planar.rectangle_mesh(10.0, 2.0, 4, 2), planar.Isotropic(E=71e3, nu=0.33), thickness=1.0,
+                     units="N, mm, MPa")
+    m.add_support(planar.Fixed("left"))
+    m.add_load(planar.Traction("right", tx=1.0), case="a")
+    m.cases["empty"] = []
+    assert dict(input_rows(m, "a"))["loads, case 'empty'"] == "none"
+
+
+def test_contact_state_clearance_with_the_pins_radius_given():
+    # the radial clearance of a 9.9 mm pin in a 10 mm hole is 0.1 mm (common practice)
+    from planar.geometry import Circle, Plate, Refine, mesh
+
+    p = Plate.rectangle(40.0, 60.0, corner=(-20.0, -40.0)).cut(Circle((0.0, 0.0), 10.0, name="hole"))
+    m = mesh(p, size=6.0, element="T6", refine=[Refine("hole", size=2.0)])
+    model = planar.Model(m, planar.Isotropic(E=205e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_pin(planar.Pin("hole", tie="contact", radius=9.9, hold="both"))
+    model.add_support(planar.Roller((0.0, -40.0), fixed="x"))
+    model.add_load(planar.Traction("bottom", ty=-10.0), case="pull")
+    state = planar.solve(model)["pull"].contact_states["hole"]
+    assert state.clearance == pytest.approx(0.1, rel=1e-6)
+
+
+def test_plot_joint_legend_clear_of_the_x_label(lap):
+    # a figure that tells the truth: the legend does not cover the axis label (source above)
+    fig = planar.post.plot_joint(lap)
+    fig.canvas.draw()
+    r = fig.canvas.get_renderer()
+    ax = fig.axes[0]
+    label = ax.xaxis.label.get_window_extent(r)
+    assert fig.legends, "the legend belongs to the figure, below the axes"
+    leg = fig.legends[0].get_window_extent(r)
+    assert leg.y1 <= label.y0 + 0.5
