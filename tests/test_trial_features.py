@@ -58,3 +58,26 @@ def test_hot_spot_on_a_clamped_hole_is_flagged_when_the_part_peaks_elsewhere():
     # beam theory (Euler-Bernoulli; Timoshenko, Strength of Materials, 1955): M / Z at the fillet's
     # tangent x = 26 is 1000 x 94 / (5 x 20^2 / 6) = 282 MPa; the fillet of the re-entrant corner raises it
     assert 1.3 * 282.0 < hs.governing.value < 2.5 * 282.0
+
+
+def test_peak_in_a_region_reads_that_regions_own_side_of_an_interface():
+    # a 10 x 4 in strap, 0.25 in thick, with a 0.5 in thick doubler over its first 3 in, pulled by
+    # 10 kip: far from the step the stress is F / (W t) (statics), 5 ksi in the doubler and 10 ksi in
+    # the strap. The doubler's peak read the strap's side of the shared interface nodes (10.8 ksi)
+    from planar.geometry import Rectangle, mesh
+
+    plate = Plate.rectangle(10.0, 4.0).with_region(Rectangle(3.0, 4.0, corner=(0.0, 0.0)), name="doubler")
+    m = mesh(plate, size=0.4)
+    model = planar.Model(m, planar.Isotropic(10.3e3, 0.33), thickness=0.25, units="kip-in-ksi")
+    model.assign("doubler", thickness=0.5)
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller((0.0, 0.0), fixed="y"))
+    model.add_load(planar.Traction("right", tx=10.0 / (4.0 * 0.25)), case="pull")
+    r = planar.solve(model)["pull"]
+    doubler = r.max("sigma_xx", where="doubler")
+    strap = r.max("sigma_xx", where="plate")
+    # the step's corner raises the doubler's own stress locally, but nowhere near the strap's 10 ksi
+    assert 5.0 <= doubler.value < 7.5, doubler
+    assert strap.value >= 10.0
+    assert r.max("sigma_xx").value == pytest.approx(strap.value)  # everywhere: the critical side, as before
+    assert r.min("sigma_xx", where="doubler").value > 2.0

@@ -278,6 +278,7 @@ class Result(CaseResult):
 
         v = self.field(field, recovery=recovery, centre=centre)
         mask, said = self.zone_mask(where)
+        v = self._own_side(v, field, recovery, centre, where)
         a = np.abs(v) if absolute else v
         i = int(np.argmax(np.where(mask, a, -np.inf))) if largest else int(np.argmin(np.where(mask, a, np.inf)))
         note = ""
@@ -289,6 +290,34 @@ class Result(CaseResult):
         if has_linear(self):  # linear elements under-read a peak at a hole or fillet: say so
             linear_peak(self, i, field, v, stacklevel=4)
         return self._extreme(v, i, said, note)
+
+    def _own_side(self, v: np.ndarray, field: str, recovery: str, centre, where) -> np.ndarray:
+        """``v`` with a region's own recovered stresses on its nodes when ``where`` is that region.
+
+        The nodal field gives an interface node the value of the side with the larger von Mises stress;
+        a peak read in one region (a doubler, a boss of another material) is that region's own.
+        """
+        from .zones import InRegion, as_zone
+
+        zone = as_zone(where, self.mesh)
+        if not isinstance(zone, InRegion) or (field not in STRESS_FIELDS and field not in POLAR_FIELDS):
+            return v
+        blocks = getattr(getattr(self, "assembly", None), "blocks", None) or ()
+        regions = {getattr(b, "region", None) for b in blocks}
+        if len(regions) < 2 or zone.name not in regions:
+            return v
+        key = f"stress:{recovery}:per-region"
+        if key not in self._nodal_cache:
+            self._nodal_cache[key] = recover(self, recovery=recovery, per_region=True)
+        own = self._nodal_cache[key][zone.name]
+        inside = np.all(np.isfinite(own), axis=1)
+        if field in POLAR_FIELDS:
+            mine = polar_stress(own[inside, :3], self.mesh.nodes[inside], as_centre(centre))[field]
+        else:
+            mine = stress_measures(own[inside, :3], own[inside, 3])[field]
+        out = np.array(v, dtype=float, copy=True)
+        out[inside] = mine
+        return out
 
     @renamed_keywords(name="field", method="recovery")
     def max(self, field: str = "von_mises", *, recovery: str = "spr", absolute: bool = False,
