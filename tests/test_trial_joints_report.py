@@ -107,3 +107,28 @@ def test_plot_joint_legend_clear_of_the_x_label(lap):
     assert fig.legends, "the legend belongs to the figure, below the axes"
     leg = fig.legends[0].get_window_extent(r)
     assert leg.y1 <= label.y0 + 0.5
+
+
+def test_dashed_outline_runs_on_along_a_refined_hole():
+    # a dashed outline drawn as one short segment per element side starts the pattern afresh on each side,
+    # so at a refined hole (sides shorter than a dash) it looked solid; the pattern now runs on (source above)
+    from planar.geometry import Circle, Plate, Refine, mesh
+    from planar.post._outline import Outline
+    from planar.post.plots import plot_field
+
+    p = Plate.rectangle(60.0, 30.0, corner=(0.0, 0.0)).cut(Circle((30.0, 15.0), 5.0, name="hole"))
+    m = mesh(p, size=5.0, element="T6", refine=[Refine("hole", size=0.4)])
+    o = Outline(m.nodes, m.cells)
+    order, rev, loop = o.chain()
+    assert np.unique(loop).size == 2                       # the outline and the hole
+    ends = np.where(rev[:, None], o.ends[:, ::-1], o.ends)[order]
+    same = loop[1:] == loop[:-1]
+    assert np.array_equal(ends[:-1, 1][same], ends[1:, 0][same])   # each side starts where the last ended
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=100.0), case="pull")
+    fig = plot_field(planar.solve(model)["pull"], "sigma_xx")
+    fig.canvas.draw()
+    dfm = next(c for c in fig.axes[0].collections if c.get_gid() == "deformed-outline")
+    offsets = np.array([ls[0] for ls in dfm.get_linestyle()])
+    assert len(dfm.get_segments()) == len(o) and np.unique(np.round(offsets, 6)).size > len(o) // 2

@@ -48,17 +48,23 @@ def draw_outlines(ax, nodes, cells, displacement, scale: float, on: str, etypes=
     outline = Outline(nodes, cells, etypes)
     if not len(outline):
         return
+    from ._outline import dashed_sides
+
     base = outline.polylines(nodes)
     moved = scale > 0 and displacement is not None
-    und = LineCollection(base, colors="0.1" if on == "undeformed" else "0.55", linewidths=0.9 if on == "undeformed"
-                         else 1.0, linestyles="solid" if on == "undeformed" else (0, (4, 2)),
-                         zorder=4 if on == "undeformed" else 0.5)
+    if on == "undeformed":
+        und = LineCollection(base, colors="0.1", linewidths=0.9, linestyles="solid", zorder=4)
+    else:  # dashed: the pattern runs on along the outline (short sides would each start it afresh and look solid)
+        und = dashed_sides(outline, nodes, (4, 2), linewidth=1.0, colors="0.55", zorder=0.5)
     und.set_gid("undeformed-outline")
     ax.add_collection(und)
     if moved:
-        top = base + scale * outline.polylines(displacement)
-        dfm = LineCollection(top, colors="0.05", linewidths=1.0 if on == "undeformed" else 0.8,
-                             linestyles=(0, (5, 2.5)) if on == "undeformed" else "solid", zorder=4.5)
+        at = np.asarray(nodes, float)[:, :2] + scale * np.asarray(displacement, float)[:, :2]
+        if on == "undeformed":
+            dfm = dashed_sides(outline, at, (5, 2.5), linewidth=1.0, colors="0.05", zorder=4.5)
+        else:
+            dfm = LineCollection(base + scale * outline.polylines(displacement), colors="0.05", linewidths=0.8,
+                                 linestyles="solid", zorder=4.5)
         dfm.set_gid("deformed-outline")
         ax.add_collection(dfm)
 

@@ -17,7 +17,7 @@ import numpy as np
 
 from ._subdivide import _etype_of
 
-__all__ = ["Outline", "true_scale", "side_pairs", "DISTORTION"]
+__all__ = ["Outline", "true_scale", "side_pairs", "dashed_sides", "DISTORTION"]
 
 #: the largest relative change of length of any element side drawn at an automatic magnification
 DISTORTION = 0.03
@@ -98,6 +98,14 @@ class Outline:
         flip = np.einsum("ij,ij->i", n, self.middle - centre) < 0
         n[flip] *= -1.0
         self.normal = n
+        ends = np.zeros((len(self), 2), np.int64)  # the node at each polyline's start and end (its sample order)
+        for b, (layout, conn) in enumerate(self.cells.items()):
+            sel = np.flatnonzero(self.block == b)
+            if sel.size:
+                ed = np.asarray(_etype_of(layout, etypes).edges)
+                ends[sel] = conn[self.cell[sel][:, None], ed[self.edge[sel]][:, :2]]
+        self.ends = ends
+        self._nodes = nodes
 
     def __len__(self) -> int:
         return int(self.corners.shape[0])
@@ -123,6 +131,79 @@ class Outline:
             N = np.asarray(et.shape(xi)).reshape(ed.shape[0], self.samples, -1)   # (edges, m, k)
             out[sel] = np.einsum("smk,skd->smd", N[self.edge[sel]], x[conn[self.cell[sel]]])
         return out
+
+
+    def chain(self):
+        """The sides as closed loops, for a dash pattern that runs on along the outline.
+
+        Returns ``(order, reverse, loop)``: the sides in drawing order, whether each side's polyline runs
+        against its loop (the part on its left), and each ordered side's loop label; None when the
+        boundary is not a set of simple loops (a node on more than two boundary sides). The loops are
+        found by pointer jumping (the label of each side is the least side index on its loop, the rank
+        its distance from that side), so no Python loop runs over the sides.
+        """
+        s = len(self)
+        if s == 0:
+            return None
+        a, c = self.ends[:, 0], self.ends[:, 1]
+        t = self._nodes[c] - self._nodes[a]
+        rev = t[:, 1] * self.normal[:, 0] - t[:, 0] * self.normal[:, 1] < 0  # outward normal on the right: keep
+        start, end = np.where(rev, c, a), np.where(rev, a, c)
+        by_start = np.argsort(start, kind="stable")
+        ss = start[by_start]
+        if np.any(ss[1:] == ss[:-1]):
+            return None
+        pos = np.minimum(np.searchsorted(ss, end), s - 1)
+        if np.any(ss[pos] != end):
+            return None
+        nxt = by_start[pos]
+        steps = int(math.ceil(math.log2(max(s, 2)))) + 1
+        lab, p = np.arange(s), nxt.copy()
+        for _ in range(steps):  # pointer jumping: log2(s) rounds
+            lab, p = np.minimum(lab, lab[p]), p[p]
+        prev = np.empty(s, np.int64)
+        prev[nxt] = np.arange(s)
+        root = lab == np.arange(s)
+        rank, q = np.where(root, 0, 1), np.where(root, np.arange(s), prev)
+        for _ in range(steps):  # list ranking back to each loop's root
+            rank, q = rank + rank[q], q[q]
+        order = np.lexsort((rank, lab))
+        return order, rev, lab[order]
+
+
+def dashed_sides(outline: "Outline", positions, dashes, *, linewidth: float, **kwargs):
+    """A LineCollection of the outline's sides at ``positions`` whose dash pattern runs on from side to side.
+
+    Each side stays its own segment (one per boundary side, as :meth:`Outline.polylines`); at each draw
+    every side's dash offset is set to the drawn length of its loop before it, so short sides (a
+    refined hole) show the dashes instead of each starting the pattern afresh and looking solid.
+    """
+    from matplotlib import rcParams
+    from matplotlib.collections import LineCollection
+
+    segs = outline.polylines(positions)
+    chain = outline.chain()
+    if chain is not None:
+        segs = np.where(chain[1][:, None, None], segs[:, ::-1], segs)
+    dashes = tuple(float(d) for d in dashes)
+
+    class _RunningDashes(LineCollection):
+        def draw(self, renderer):
+            if chain is not None and self.axes is not None and len(segs):
+                order, _, loop = chain
+                px = self.axes.transData.transform(segs.reshape(-1, 2)).reshape(segs.shape)
+                seg_len = np.hypot(*np.diff(px, axis=1).transpose(2, 0, 1)).sum(axis=1)[order]
+                before = np.cumsum(seg_len) - seg_len
+                first = np.r_[True, loop[1:] != loop[:-1]]
+                base = np.maximum.accumulate(np.where(first, np.arange(order.size), 0))
+                off = np.empty(order.size)
+                off[order] = (before - before[base]) / renderer.points_to_pixels(1.0)
+                lw = linewidth if rcParams["lines.scale_dashes"] and linewidth > 0 else 1.0
+                self.set_linestyle([(float(o) / lw, dashes) for o in off])
+                self.stale = False
+            super().draw(renderer)
+
+    return _RunningDashes(list(segs), linewidths=linewidth, linestyles=[(0, dashes)], **kwargs)
 
 
 def side_pairs(cells: Mapping[str, np.ndarray], etypes=None) -> np.ndarray:

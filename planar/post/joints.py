@@ -18,6 +18,7 @@ Examples
 """
 from __future__ import annotations
 
+import math
 import os
 
 import numpy as np
@@ -27,6 +28,9 @@ from ..core.joints import JointResult
 from .plots import save_figure
 
 __all__ = ["plot_joint"]
+
+#: dash patterns of the layers after the first (in line widths: dashed, dash-dot, dotted)
+_DASHES = {1: (3.7, 1.6), 2: (6.4, 1.6, 1.0, 1.6), 3: (1.0, 1.65)}
 
 _COLOURS = ("#1f77b4", "#ff7f0e", "#2ca02c", "#9467bd", "#8c564b", "#e377c2", "#7f7f7f", "#17becf")
 
@@ -48,11 +52,12 @@ def _boundary(mesh) -> np.ndarray:
     return mesh.nodes[once]
 
 
-def _figure(aspect: float, width: float):
+def _figure(aspect: float, width: float, entries: int = 2):
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    h = float(np.clip(0.8 * width / max(aspect, 0.2) + 2.4, 3.5, 10.0))  # room for the title and the legend
+    # room for the title and the legend below (two columns, about 0.2 in a row)
+    h = float(np.clip(0.8 * width / max(aspect, 0.2) + 2.0 + 0.2 * math.ceil(entries / 2), 3.5, 12.0))
     fig = Figure(figsize=(width, h), dpi=120, layout="constrained")
     FigureCanvasAgg(fig)
     return fig
@@ -94,12 +99,19 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
     allxy = np.vstack([s.reshape(-1, 2) for s in segs.values()])
     lo, hi = allxy.min(axis=0), allxy.max(axis=0)
     span = max(float((hi - lo).max()), 1e-300)
-    fig = _figure(float((hi - lo)[0]) / max(float((hi - lo)[1]), 1e-3 * span), width)
+    entries = len(segs) + len({h["layer"] for h in result.fasteners.holes})  # at most: one arrow entry per layer
+    fig = _figure(float((hi - lo)[0]) / max(float((hi - lo)[1]), 1e-3 * span), width, entries)
     ax = fig.add_subplot(1, 1, 1)
+    from ._outline import Outline, dashed_sides
+
     for i, (name, s) in enumerate(segs.items()):
-        ax.add_collection(LineCollection(s, colors=_COLOURS[i % len(_COLOURS)], linewidths=1.2,
-                                         linestyles=("solid", "dashed", "dashdot", "dotted")[i % 4], alpha=0.9,
-                                         label=f"layer {name}"))
+        style = dict(colors=_COLOURS[i % len(_COLOURS)], alpha=0.9, label=f"layer {name}")
+        if i % 4 == 0:
+            ax.add_collection(LineCollection(s, linewidths=1.2, linestyles="solid", **style))
+        else:  # the dashes run on along the outline (a side of a refined hole is shorter than a dash)
+            m = result.layers[name].mesh
+            ax.add_collection(dashed_sides(Outline(m.nodes, m.cells), m.nodes, _DASHES[i % 4], linewidth=1.2,
+                                           **style))
     tab = result.fasteners
     colour = {name: _COLOURS[i % len(_COLOURS)] for i, name in enumerate(segs)}
     best: dict = {}
