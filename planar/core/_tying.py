@@ -113,6 +113,82 @@ def _contact_pin(d: dict, asm, model, pin, r: np.ndarray, p_off: int) -> None:
     d["w"] = _weights(asm, pin.edge, d["nodes"])
 
 
+def _symmetry_line(model, mesh, pin, nodes: np.ndarray) -> list:
+    """Refuse a pin whose edge a symmetry line cuts (a half or quarter model) unless it is held as symmetry holds it.
+
+    By symmetry the pin moves only along the line and does not turn: held across the line (``hold=``
+    that direction, or both) and, for a rigid or spreading tie, ``rotation="held"``. Left free, a
+    spreading tie puts the whole pin's moment balance on the half edge (wrong stresses, silently) and
+    a contact pin carries no force across the line.
+    """
+    from .supports import Roller, Symmetry
+
+    lines = []
+    for s in getattr(model, "supports", ()):
+        if not isinstance(s, Roller) or not (isinstance(s, Symmetry) or not s.is_idealised(mesh)):
+            continue
+        try:
+            ids, dirs, _ = s.rows(mesh)
+        except Exception:  # noqa: BLE001 - a support that cannot name its rows is checked elsewhere
+            continue
+        if ids.size == 0 or not np.isin(ids, nodes).any():
+            continue
+        n = np.asarray(dirs[0], dtype=float)
+        lines.append((mesh.nodes[ids[0]].astype(float), n, s))
+        across = bool(pin.held[0] and pin.held[1]) or bool(pin.held[0] and abs(abs(float(pin.basis[:, 0] @ n)) - 1.0) < 1e-9)
+        turn = pin.tie == "contact" or bool(pin.held[2])
+        if across and turn:
+            continue
+        word = "x" if abs(abs(n[0]) - 1.0) < 1e-9 else "y" if abs(abs(n[1]) - 1.0) < 1e-9 else f"({n[0]:.4g}, {n[1]:.4g})"
+        fix = f"hold={word!r} (or 'both')" + ("" if pin.tie == "contact" else ", rotation='held'")
+        raise SupportError(f"{pin.describe()}: its edge is cut by the symmetry line {s!r}, so by symmetry the pin moves "
+                           "only along that line" + ("" if pin.tie == "contact" else " and does not turn")
+                           + f"; hold the pin so: {fix} (the pin then carries the force across the line that the other "
+                           "half would)")
+    return lines
+
+
+def _mirrored_fit(pin, lines, point: np.ndarray, xy: np.ndarray, w: np.ndarray, rho: float) -> np.ndarray:
+    """The spreading tie's fit ``C`` (3, 2 ns) over the whole hole that symmetry lines through the pin cut down.
+
+    The edge is mirrored across each line (two lines at right angles give four copies), the weighted
+    rigid fit is taken over the whole edge, and each copy's displacements are the mirror images of the
+    modelled ones (``u' = R u``, ``R = I - 2 n n^T``): ``C = sum_k C_k R_k``. A spreading pin in a half
+    or quarter model then moves and spreads its load as the whole pin would; its components across the
+    lines and its rotation vanish by symmetry (their rows of ``C`` are zero).
+    """
+    if len(lines) > 2 or (len(lines) == 2 and abs(float(lines[0][1] @ lines[1][1])) > 1e-9):
+        raise SupportError(f"{pin.describe()}: its edge is cut by more than two symmetry lines, or by two that are not "
+                           "at right angles; model at least a quarter of the hole")
+    for x0, n, s in lines:
+        if abs(float((point - x0) @ n)) > 1e-6 * max(rho, 1e-300):
+            raise SupportError(f"{pin.describe()}: its point {fmt_point(point)} is off the symmetry line {s!r} that cuts "
+                               "its edge; a hole cut by a symmetry line is centred on it (give at= on the line)")
+    copies = [(np.eye(2), np.zeros(2))]
+    for x0, n, _ in lines:
+        R = np.eye(2) - 2 * np.outer(n, n)
+        copies += [(R @ Rk, R @ (tk - x0) + x0) for Rk, tk in copies]  # x' = R (Rk x + tk - x0) + x0
+    r_all, blocks = [], []
+    for Rk, tk in copies:
+        r_all.append((xy @ Rk.T + tk) - point)
+        blocks.append(Rk)
+    r = np.vstack(r_all)
+    G = np.zeros((2 * r.shape[0], 3))
+    G[0::2, 0] = 1.0
+    G[1::2, 1] = 1.0
+    G[0::2, 2] = -r[:, 1] / rho
+    G[1::2, 2] = r[:, 0] / rho
+    ww = np.repeat(np.tile(w, len(copies)), 2)
+    Cf = np.linalg.solve(G.T @ (ww[:, None] * G), (G * ww[:, None]).T)
+    ns = xy.shape[0]
+    C = np.zeros((3, 2 * ns))
+    for k, Rk in enumerate(blocks):
+        Ck = Cf[:, 2 * ns * k: 2 * ns * (k + 1)].reshape(3, ns, 2)
+        C += np.einsum("aib,bc->aic", Ck, Rk).reshape(3, 2 * ns)  # u'_i = Rk u_i
+    C[np.abs(C) < 1e-12 * np.abs(Cf).max()] = 0.0  # what symmetry cancels, to round-off
+    return C
+
+
 class Tying:
     """The pins of a model tied to the mesh: which unknowns are eliminated, and how.
 
@@ -165,6 +241,10 @@ class Tying:
             C = np.linalg.solve(G.T @ (w[:, None] * G), (G * w[:, None]).T)  # (3, 2 ns): the weighted rigid fit
             d = dict(pin=pin, nodes=nodes, point=xp, rho=rho, G=G, Q=Q, C=C, dofs=dofs, values=values)
             held = pin.held
+            lines = _symmetry_line(model, mesh, pin, nodes)
+            if lines and pin.tie == "spreading":  # the fit over the whole hole, from the modelled part by symmetry
+                C = _mirrored_fit(pin, lines, xp, mesh.nodes[nodes], w[0::2], rho)
+                d["C"] = C
             on = np.isin(dofs, cons.dofs)  # edge unknowns a support prescribes too
             pval = np.zeros(dofs.size)
             if on.any():
@@ -191,6 +271,13 @@ class Tying:
                                        "its pin: hold the pin instead (hold=, rotation=), or remove that support")
             else:
                 H = (Q.T @ C)[held]  # (k, 2 ns) held rows
+                hv = values[held]
+                keep = np.abs(H).max(axis=1, initial=0.0) > 0  # rows a symmetry line makes zero hold by themselves
+                if np.any(np.abs(hv[~keep]) > 0):
+                    raise SupportError(f"{pin.describe()}: move= prescribes a motion across a symmetry line that cuts "
+                                       "its edge (or a rotation), which symmetry forbids; prescribe only the motion "
+                                       "along the line")
+                H, hv = H[keep], hv[keep]
                 if H.shape[0]:
                     # the dependent unknowns are chosen among the edge unknowns no support prescribes
                     cand = np.flatnonzero(~on)
@@ -203,7 +290,7 @@ class Tying:
                                            "to hold the pin; remove them or use tie='rigid'")
                     d["E"], d["R"] = dofs[D], dofs[R]
                     d["AR"] = -np.linalg.solve(MD, H[:, R])  # u_D = AR u_R + g
-                    d["g"] = np.linalg.solve(MD, values[held] - H[:, on] @ pval[on])
+                    d["g"] = np.linalg.solve(MD, hv - H[:, on] @ pval[on])
                 else:
                     R = dofs[~on]
                     d["E"], d["R"], d["AR"], d["g"] = np.zeros(0, np.int64), R, np.zeros((0, R.size)), np.zeros(0)
