@@ -81,3 +81,17 @@ def test_peak_in_a_region_reads_that_regions_own_side_of_an_interface():
     assert strap.value >= 10.0
     assert r.max("sigma_xx").value == pytest.approx(strap.value)  # everywhere: the critical side, as before
     assert r.min("sigma_xx", where="doubler").value > 2.0
+
+
+def test_sweep_text_table_states_the_units_of_its_peaks():
+    # units are stated in every output: the printed sweep table had "hole" with no unit while its plot
+    # and JSON had MPa
+    from planar.studies import example_strap, sweep
+    from planar.studies.outputs import Peak
+
+    t = sweep(example_strap, grid={"width": [20.0, 40.0]}, outputs={"peak": Peak("sigma_xx", where="right")},
+              workers=0)
+    head, *rows = t.format().splitlines()
+    assert "peak [MPa]" in head.split("  ") or "peak [MPa]" in head
+    # 2000 N over 2 mm x width, uniform (common practice)
+    assert t.column("peak") == pytest.approx([50.0, 25.0], rel=1e-9)

@@ -120,8 +120,13 @@ class SweepTable:
             if row["status"] != "done":
                 cells[-1] += f" ({row['error']})"
             body.append(cells)
-        widths = [max(len(c), *(len(b[i]) for b in body)) if body else len(c) for i, c in enumerate(cols)]
-        lines = ["  ".join(c.rjust(w) for c, w in zip(cols, widths))]
+        units: dict[str, str] = {}
+        for r in self.records:  # the units the points recorded (a peak's from its model's unit system)
+            for k, u in (r.get("units") or {}).items():
+                units.setdefault(k, u)
+        head = [f"{c} [{units[c]}]" if units.get(c) else c for c in cols]
+        widths = [max(len(c), *(len(b[i]) for b in body)) if body else len(c) for i, c in enumerate(head)]
+        lines = ["  ".join(c.rjust(w) for c, w in zip(head, widths))]
         lines += ["  ".join(v.rjust(w) for v, w in zip(b, widths)) for b in body]
         for o in self.outputs:  # a peak next to an idealised support or load, as its record notes it
             noted = [r["notes"][o] for r in self.records if o in (r.get("notes") or {})]
