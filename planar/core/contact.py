@@ -110,7 +110,8 @@ class ContactState:
         The units of the figures (length, stress, force).
     neglected : float
         The largest term the linearised gap leaves out, ``u_t^2 / (2 r)`` over the edge nodes (``u_t``
-        the relative motion across the pin's normal), length unit; a warning ``contact-large-motion``
+        the relative motion across the pin's normal, less the edge's rotation about the pin's point, which
+        changes no gap), length unit; a warning ``contact-large-motion``
         follows when it passes 1 % of the largest normal motion (or of the clearance).
     motion : float
         The largest normal motion of the edge relative to the pin, ``|e_i . (u_i - u_p)|`` (length).
@@ -566,6 +567,7 @@ class ContactSet:
                     e = p["e"][order]
                     urel = U[:, j].reshape(-1, 2)[nodes] - self.pin_motion(d, j)[:2]
                     ut = urel[:, 1] * e[:, 0] - urel[:, 0] * e[:, 1]
+                    ut = ut - _turn(ut, e, np.hypot(*(mesh.nodes[nodes] - d["point"]).T), p["w"][order])
                     neglected = float((ut ** 2).max(initial=0.0)) / (2 * d["radius"])
                     motion = float(np.abs((urel * e).sum(axis=1)).max(initial=0.0))
                 row[d["pin"].name] = ContactState(
@@ -583,6 +585,23 @@ def _clearance(d, mesh) -> float:
         return float(d["pin"].clearance)
     dist = np.hypot(*(mesh.nodes[d["nodes"]] - np.asarray(d["point"], float)).T)
     return max(0.0, float(dist.min()) - float(d["radius"]))
+
+
+def _turn(ut: np.ndarray, e: np.ndarray, dist: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """The part of the tangential motions ``ut`` that is a rotation of the edge about the pin's point.
+
+    A rotation about the pin's point changes no node's distance from it, so no gap: its tangential
+    motion (``theta |x_i - x_p|``, a lug swinging about its pin) slides nothing past the pin and is taken
+    out before the term the linearised gap leaves out is read. Fitted by weighted least squares together
+    with a translation across the normals (``ut ~ a . t_i + theta |x_i - x_p|``, ``t_i`` the unit tangent),
+    which does slide the edge past the pin and stays in.
+    """
+    if ut.size < 3:
+        return np.zeros_like(ut)
+    A = np.column_stack([-e[:, 1], e[:, 0], dist])
+    sw = np.sqrt(np.maximum(w, 0.0))
+    coef, *_ = np.linalg.lstsq(A * sw[:, None], ut * sw, rcond=None)
+    return coef[2] * dist
 
 
 def advise(result) -> None:
