@@ -132,3 +132,30 @@ def test_dashed_outline_runs_on_along_a_refined_hole():
     dfm = next(c for c in fig.axes[0].collections if c.get_gid() == "deformed-outline")
     offsets = np.array([ls[0] for ls in dfm.get_linestyle()])
     assert len(dfm.get_segments()) == len(o) and np.unique(np.round(offsets, 6)).size > len(o) // 2
+
+
+def test_model_picture_shows_regions_and_keeps_two_cases_labels_apart():
+    # the picture of the model states every input it draws (issue 18): a region of its own thickness is
+    # drawn and named with its thickness and material; two loads on one edge keep their values legible
+    from planar.geometry import Circle, Plate, mesh
+    from planar.post.picture import plot_model
+
+    p = Plate.rectangle(200.0, 60.0, corner=(0.0, 0.0)).with_region(Circle((100.0, 30.0), 20.0), name="doubler")
+    m = mesh(p, size=8.0, element="T3")
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    model.assign("doubler", material=planar.Isotropic(E=110e3, nu=0.31), thickness=4.0)
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=50.0), case="tension")
+    model.add_load(planar.Traction("right", ty=0.5), case="shear")
+    fig = plot_model(model)
+    fig.canvas.draw()
+    arts = {a.get_gid(): a for ax in fig.axes for a in ax.get_children() if a.get_gid()}
+    assert "region:doubler" in arts and "region-outline:doubler" in arts
+    legend = " ".join(t.get_text() for leg in fig.legends for t in leg.get_texts())
+    assert "region 'doubler': thickness 4 mm" in legend and "E = 110000 MPa" in legend
+    labels = [a for ax in fig.axes for a in ax.get_children() if str(a.get_gid()).startswith("load-value:")]
+    assert len(labels) == 2
+    r = fig.canvas.get_renderer()
+    boxes = [t.get_window_extent(r) for t in labels]
+    assert not boxes[0].overlaps(boxes[1])
+    assert any("along +y" in t.get_text() for t in labels)    # the shear arrows are too short to see

@@ -39,6 +39,9 @@ from ._outline import Outline
 __all__ = ["plot_model", "SYMBOLS"]
 
 #: the symbol kinds and their legend text
+#: tints of named regions in the model picture
+_REGION_COLOURS = ("#d9a441", "#6aa7c9", "#8fbf6a", "#c98fbf", "#c9a27a")
+
 SYMBOLS = {
     "fixed": "fixed (both displacements held)",
     "roller": "roller (held normal, slides along the line)",
@@ -158,6 +161,37 @@ def _draw_outline(sc: _Scene) -> None:
                            linestyles="solid" if not sc.layer else ((0, (6, 2)) if sc.layer_index % 2 else "solid"))
     lines.set_gid("outline" + suffix)
     sc.ax.add_collection(lines)
+
+
+def _draw_regions(sc: _Scene) -> None:
+    """Each named region tinted and outlined, with its material and thickness in the legend."""
+    from matplotlib.collections import LineCollection, PolyCollection
+    from matplotlib.colors import to_rgb
+    from matplotlib.patches import Patch
+
+    from ._outline import Outline
+    from ._subdivide import subdivide
+    from .inputs import describe_material
+
+    for i, (name, blocks) in enumerate(sorted(getattr(sc.mesh, "regions", {}).items())):
+        cells = {k: np.asarray(sc.mesh.cells[k])[np.asarray(v, np.int64)] for k, v in blocks.items()
+                 if np.asarray(v).size}
+        if not cells:
+            continue
+        colour = _REGION_COLOURS[i % len(_REGION_COLOURS)]
+        pts, tris, _, _ = subdivide(sc.mesh.nodes, cells, subdivisions=2)
+        tint = 0.35 * np.asarray(to_rgb(colour)) + 0.65 * np.asarray(to_rgb("#eceff2"))  # opaque: no seams
+        fill = PolyCollection(pts[tris], facecolors=[tint], edgecolors="none", zorder=0.5, antialiaseds=False)
+        fill.set_gid(f"region:{name}")
+        sc.ax.add_collection(fill)
+        rim = LineCollection(Outline(sc.mesh.nodes, cells).polylines(sc.mesh.nodes), colors=colour, linewidths=0.9,
+                             zorder=1.5)
+        rim.set_gid(f"region-outline:{name}")
+        sc.ax.add_collection(rim)
+        sec = sc.model.section(name)
+        sc.add_legend(f"region:{name}", Patch(facecolor=tint, edgecolor=colour),
+                      f"region '{name}': thickness {_with(float(sec.thickness), sc.unit('length'))}; "
+                      f"{describe_material(sec.material, sc.units)}")
 
 
 def _draw_edge_names(sc: _Scene) -> None:
@@ -387,6 +421,7 @@ def _draw_loads(sc: _Scene, cases: Sequence[str]) -> None:
                 distributed.append((ci, case, load, pts, nrm, vec))
     big = max((float(np.max(np.hypot(v[:, 0], v[:, 1]))) for *_, v in distributed if v.size), default=0.0)
     corner = 0
+    labels_on: dict = {}  # labels already on an edge: a later one moves along the edge, clear of them
     for ci, case, load, pts, nrm, vec in distributed:
         colour = _CASE_COLOURS[ci % len(_CASE_COLOURS)]
         mag = np.hypot(vec[:, 0], vec[:, 1])
@@ -406,7 +441,16 @@ def _draw_loads(sc: _Scene, cases: Sequence[str]) -> None:
             text = f"p = {value}{_with(float(load.p) if not callable(load.p) else float(mag[k]), stress)}"
         else:
             text = f"{value}{_with(float(mag[k]), stress)}"
+        if float(np.hypot(*d[k])) < 0.02 * L:  # drawn in proportion too short to see: say its direction
+            u = vec[k] / mag[k]
+            text += " along " + ("+x" if u[0] > 0.9999 else "-x" if u[0] < -0.9999 else "+y" if u[1] > 0.9999 else
+                                 "-y" if u[1] < -0.9999 else f"({u[0]:.3g}, {u[1]:.3g})") + " (too short to draw)"
         far = tail[k] + d[k] * (0.0 if inward[k] else 1.0) + nrm[k] * 0.05 * L
+        n_before = labels_on.get(load.where, 0)
+        labels_on[load.where] = n_before + 1
+        if n_before:  # between two arrows, half a spacing on for each label before it
+            gap = float(np.hypot(*(pts[min(k + 1, len(pts) - 1)] - pts[max(k - 1, 0)]))) / 2 if len(pts) > 1 else 0.0
+            far = far + np.array([-nrm[k][1], nrm[k][0]]) * (gap or 0.06 * L) * (n_before - 0.5)
         t = ax.text(far[0], far[1], (f"{case}: " if several else "") + text, fontsize=7.5, color=colour,
                     ha="center", va="center", zorder=7,
                     bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8))
@@ -550,6 +594,8 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
         sc = _Scene(m, ax, bounds=(lo, hi), legend=legend, notes=notes, layer=layer)
         sc.layer_index = i
         _draw_outline(sc)
+        if layer is None:
+            _draw_regions(sc)
         if names and layer is None:
             _draw_edge_names(sc)
         elif names:  # the layers overlap: each is named at the top left of its own extent
