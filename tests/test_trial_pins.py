@@ -115,3 +115,22 @@ def test_a_lug_swinging_about_its_contact_pin_is_not_warned_of_large_sliding():
     assert -45.0 < st.arc_start_deg < 0.0 < st.arc_end_deg < 45.0
     total = np.sum([x.force for x in r.support_reactions()], axis=0)
     assert np.abs(total).max() < 1e-9 * 20e3
+
+
+# trial: several load cases sharing one factorization with contact
+def test_a_case_that_leaves_a_free_contact_pin_unloaded_says_so():
+    # a shackle pin (free, contact) loads the bracket in one case; in the other only a traction acts, so
+    # nothing places the pin in its hole: the refusal names the case and the pin (it blamed the loads'
+    # direction and called the idle pin loaded)
+    from planar.core.errors import SolverError
+
+    p = Plate.rectangle(160.0, 60.0, centre=(0.0, 0.0)).cut(Circle((50.0, 0.0), 8.0, name="hole"))
+    m = mesh(p, size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E, NU), thickness=4.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.05, hold=None, name="shackle"))
+    model.add_load(PinLoad("shackle", fx=5000.0), case="sling")
+    model.add_load(planar.Traction("top", ty=-0.5), case="wind")
+    with pytest.raises(SolverError, match="'wind' puts no load on the contact pin.*'shackle'"):
+        planar.solve(model)
+    assert planar.solve(model, cases=["sling"])["sling"].contact_states["shackle"].in_contact

@@ -498,6 +498,17 @@ class ContactSet:
                           f"{self.g0[row] + self.d0[row]:.3g}); move the pin (at=) or the supports")
 
     def _refuse_free(self, case: str, active: np.ndarray):
+        from .pins import pin_loads
+
+        loads = pin_loads(self.tie.model, case)
+        idle = [p["d"]["pin"].name for p in self.parts if p["d"]["free_comp"].size and not np.any(
+                (p["d"]["Q"].T @ loads.get(p["d"]["pin"].name, np.zeros(3)))[p["d"]["free_comp"]])]
+        if idle:
+            raise SolverError(
+                f"load case {case!r} puts no load on the contact pin(s) {', '.join(map(repr, idle))} where nothing "
+                "holds them (hold=None, or across their held direction), so nothing places them in their holes and the case has no unique "
+                "answer. A free contact pin needs a load in every load case: solve the cases that do not load it with "
+                "a model without the pin, or hold the pin (hold=)")
         names = ", ".join(repr(p["d"]["pin"].name) for p in self.parts)
         loaded = [p["d"]["pin"].name for p in self.parts if not p["d"]["pin"].held[:2].all()]
         what = "the part" + (f" or the loaded pin(s) {', '.join(map(repr, loaded))}" if loaded else "")
