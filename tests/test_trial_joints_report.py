@@ -159,3 +159,38 @@ def test_model_picture_shows_regions_and_keeps_two_cases_labels_apart():
     boxes = [t.get_window_extent(r) for t in labels]
     assert not boxes[0].overlaps(boxes[1])
     assert any("along +y" in t.get_text() for t in labels)    # the shear arrows are too short to see
+
+
+def test_model_picture_labels_of_close_pins_and_stacked_layers_do_not_overprint():
+    # legible labels (issue 18: the picture a checker signs): two pins 12 mm apart, two straps of one extent
+    from planar.geometry import Circle, Plate, Refine, mesh
+    from planar.post.picture import plot_model
+
+    p = Plate.rectangle(60.0, 30.0, corner=(0.0, 0.0))
+    for name, x in (("a", 24.0), ("b", 36.0)):
+        p = p.cut(Circle((x, 15.0), 3.0, name=name))
+    m = mesh(p, size=4.0, element="T3", refine=[Refine(["a", "b"], size=1.0)])
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    for name in ("a", "b"):
+        model.add_pin(planar.Pin(name, tie="rigid", hold="both"))
+    model.add_load(planar.Traction("right", tx=10.0), case="pull")
+    fig = plot_model(model)
+    fig.canvas.draw()
+    r = fig.canvas.get_renderer()
+    pins = [a for a in fig.axes[0].texts if str(a.get_gid()).startswith("pin-label:")]
+    assert len(pins) == 2 and not pins[0].get_window_extent(r).overlaps(pins[1].get_window_extent(r))
+    legend = " ".join(t.get_text() for leg in fig.legends for t in leg.get_texts())
+    assert "rigid tie, held, rotation free" in legend
+    # a double-shear stack: the two straps share one extent; their names stand one above the other
+    strap = planar.rectangle_mesh(40.0, 20.0, 8, 4)
+    layers = {k: planar.Model(strap, planar.Isotropic(E=71e3, nu=0.33), thickness=1.0, units="N, mm, MPa")
+              for k in ("front", "back")}
+    layers["mid"] = planar.Model(planar.rectangle_mesh(60.0, 20.0, 12, 4, origin=(-10.0, 0.0)),
+                                 planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    joint = planar.Joint(layers)
+    fig = plot_model(joint)
+    fig.canvas.draw()
+    r = fig.canvas.get_renderer()
+    names = {a.get_gid(): a.get_window_extent(r) for a in fig.axes[0].texts
+             if str(a.get_gid()).startswith("layer-name:")}
+    assert len(names) == 3 and not names["layer-name:front"].overlaps(names["layer-name:back"])

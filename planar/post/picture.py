@@ -157,8 +157,13 @@ def _draw_outline(sc: _Scene) -> None:
                           zorder=0, alpha=1.0 if not sc.layer else 0.45, antialiaseds=False)
     fill.set_gid("part" + suffix)
     sc.ax.add_collection(fill)
-    lines = LineCollection(sc.outline.polylines(sc.mesh.nodes), colors=_INK, linewidths=1.1, zorder=2,
-                           linestyles="solid" if not sc.layer else ((0, (6, 2)) if sc.layer_index % 2 else "solid"))
+    if sc.layer and sc.layer_index % 2:  # dashed, the pattern running on along the outline (and round its holes)
+        from ._outline import dashed_sides
+
+        lines = dashed_sides(sc.outline, sc.mesh.nodes, (6, 2), linewidth=1.1, colors=_INK, zorder=2)
+    else:
+        lines = LineCollection(sc.outline.polylines(sc.mesh.nodes), colors=_INK, linewidths=1.1, zorder=2,
+                               linestyles="solid")
     lines.set_gid("outline" + suffix)
     sc.ax.add_collection(lines)
 
@@ -326,7 +331,16 @@ def _draw_pins(sc: _Scene) -> None:
     from matplotlib.lines import Line2D
 
     ax = sc.ax
-    for pin in getattr(sc.model, "pins", []):
+    pins = list(getattr(sc.model, "pins", []))
+
+    def what(pin) -> str:
+        held = {None: "free", "both": "held", "x": "held in x", "y": "held in y"}.get(
+            pin.hold if isinstance(pin.hold, (str, type(None))) else "", "held along a direction")
+        return f"{pin.tie} tie, {held}, rotation {pin.rotation}"
+
+    kinds = sorted({what(p) for p in pins})
+    short = len(pins) > 1 and len(kinds) <= 3  # several pins close together: names beside them, kinds in the legend
+    for pin in pins:
         c = np.asarray(pin.point(sc.mesh), float)
         ids = np.unique(sc.mesh.edge(pin.edge)[:, :2])
         ends = sc.mesh.nodes[ids]
@@ -340,15 +354,14 @@ def _draw_pins(sc: _Scene) -> None:
         ring.set_gid(f"pin:{pin.name}")
         cross, = ax.plot([c[0]], [c[1]], ls="none", marker="x", ms=8, mec=_PIN, mew=1.6, zorder=6)
         cross.set_gid(f"pin-cross:{pin.name}")
-        held = {None: "free", "both": "held", "x": "held in x", "y": "held in y"}.get(
-            pin.hold if isinstance(pin.hold, (str, type(None))) else "", "held along a direction")
         reach = float(np.max(np.hypot(*(ends - c).T))) if ends.size else 0.0
         spot = np.clip(c + np.array([reach + 0.015 * sc.size, -reach]), sc.lo, sc.hi - [0.2 * sc.size, 0.0])
-        t = ax.text(spot[0], spot[1], f"pin {pin.name}\n{pin.tie} tie, {held}, "
-                    f"rotation {pin.rotation}", fontsize=7, color=_PIN, zorder=7, ha="left", va="top",
+        t = ax.text(spot[0], spot[1], f"pin {pin.name}" + ("" if short else f"\n{what(pin)}"), fontsize=7,
+                    color=_PIN, zorder=7, ha="left", va="top",
                     bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.8))
         t.set_gid(f"pin-label:{pin.name}")
-        sc.add_legend("pin", Line2D([], [], ls="none", marker="$\\bigotimes$", ms=11, color=_PIN))
+        sc.add_legend("pin", Line2D([], [], ls="none", marker="$\\bigotimes$", ms=11, color=_PIN),
+                      SYMBOLS["pin"] + (f"; pins: {'; '.join(kinds)}" if short else ""))
 
 
 def _fastener_points(model, given) -> np.ndarray:
@@ -590,6 +603,7 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
     fig, ax = figure_and_axes(ax, aspect)
     legend: dict[str, Any] = {}
     notes: list[str] = []
+    named_at: dict = {}
     for i, (layer, m) in enumerate(models):
         sc = _Scene(m, ax, bounds=(lo, hi), legend=legend, notes=notes, layer=layer)
         sc.layer_index = i
@@ -600,8 +614,11 @@ def plot_model(model, path: str | os.PathLike | None = None, *, case: str | Sequ
             _draw_edge_names(sc)
         elif names:  # the layers overlap: each is named at the top left of its own extent
             a, b = _bounds([m])
-            t = ax.text(a[0], b[1], f" layer {layer}", fontsize=8, color=_INK, ha="left", va="bottom", zorder=7,
-                        style="italic")
+            key = (round(float(a[0]), 9), round(float(b[1]), 9))
+            above = named_at.get(key, 0)  # layers of one extent (the straps of a double shear) one above the other
+            named_at[key] = above + 1
+            t = ax.annotate(f" layer {layer}", xy=(a[0], b[1]), xytext=(0, 10 * above), textcoords="offset points",
+                            fontsize=8, color=_INK, ha="left", va="bottom", zorder=7, style="italic")
             t.set_gid(f"layer-name:{layer}")
         _draw_supports(sc)
         _draw_pins(sc)
