@@ -480,10 +480,27 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
             first = float(np.mod(th[0], 360.0))
             first = 0.0 if first > 360.0 - 1e-9 else first
             theta[sel] = th - th[0] + first
-    return EdgeStresses(str(edge), result.case, recovery, str(getattr(result, "units", "") or ""), s, pts, piece,
-                        np.concatenate(parts["node"]), t, n, sig_t, sig_n, tau, vm,
-                        tuple(cl for _, _, cl in chains),
-                        None if c is None else (float(c[0]), float(c[1])), radius, theta, residual)
+    es = EdgeStresses(str(edge), result.case, recovery, str(getattr(result, "units", "") or ""), s, pts, piece,
+                      np.concatenate(parts["node"]), t, n, sig_t, sig_n, tau, vm,
+                      tuple(cl for _, _, cl in chains),
+                      None if c is None else (float(c[0]), float(c[1])), radius, theta, residual)
+    if given is not None and len(chains) > 1:
+        # a centre given for one hole of a row of holes that share a name: the other holes' angles are
+        # about a point that is not theirs
+        on = []
+        for k in range(len(chains)):
+            d = np.hypot(*(pts[piece == k] - given).T)
+            on.append(bool(d.mean() > 0 and np.abs(d - d.mean()).max() <= CIRCLE_TOLERANCE * d.mean()))
+        if any(on) and not all(on):
+            from ..core.errors import PlanarWarning, warn
+
+            off = [k for k, ok in enumerate(on) if not ok]
+            where = ", ".join(f"piece {k} from {fmt_point(pts[np.flatnonzero(piece == k)[0]])}" for k in off)
+            warn(f"edge-centre: edge {str(edge)!r} has {len(chains)} pieces and the centre {fmt_point(given)} is the "
+                 f"centre of {sum(on)} of them; the angles of the others ({where}) are about that centre, not "
+                 "round their own arcs. Name each hole's edge on its own, or read theta only where es.piece is a "
+                 "piece about the centre", "edge-centre", category=PlanarWarning, sink=es.warnings)
+    return es
 
 
 # ---------------------------------------------------------------------------- figure
@@ -537,10 +554,17 @@ def plot_edge_stresses(es: EdgeStresses, fields: Sequence[str] | str = ("sigma_t
         fig = ax.figure
     colours = {"sigma_t": "#1f5f8b", "sigma_n": "#b5651d", "tau_nt": "#5a7d2a", "von_mises": "#7b4f9d"}
     xs = es.theta if against == "angle" else es.s
+    styles = ("-", "--", ":", "-.")  # an edge of several pieces (a row of holes of one name): one style each
     for f in names:
         for k in range(es.n_pieces):
             sel = es.piece == k
-            ax.plot(xs[sel], es[f][sel], color=colours[f], lw=1.6, label=EDGE_FIELDS[f] if k == 0 else None)
+            ax.plot(xs[sel], es[f][sel], color=colours[f], lw=1.6, ls=styles[k % len(styles)],
+                    label=EDGE_FIELDS[f] if k == 0 else None)
+    if es.n_pieces > 1:
+        for k in range(es.n_pieces):
+            first = es.points[np.flatnonzero(es.piece == k)[0]]
+            ax.plot([], [], color="0.3", lw=1.2, ls=styles[k % len(styles)],
+                    label=f"piece {k}, from {fmt_point(first)}" + (f" {lu}" if lu else ""))
     for j, (lab, level) in enumerate((lines or {}).items()):
         ax.axhline(float(level), color="0.35", lw=1.0, ls=("--", ":", "-.")[j % 3],
                    label=f"{lab} ({_fmt(float(level))}{' ' + su if su else ''})")
