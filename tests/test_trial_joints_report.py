@@ -194,3 +194,14 @@ def test_model_picture_labels_of_close_pins_and_stacked_layers_do_not_overprint(
     names = {a.get_gid(): a.get_window_extent(r) for a in fig.axes[0].texts
              if str(a.get_gid()).startswith("layer-name:")}
     assert len(names) == 3 and not names["layer-name:front"].overlaps(names["layer-name:back"])
+
+
+def test_report_of_a_layer_says_its_fasteners_have_no_modelled_hole(lap):
+    # with no hole modelled, the stress near a fastener leaves out the hole's concentration (an open hole's
+    # Kt is about 3: Kirsch, 1898, via Timoshenko and Goodier, sec. 35); the summary must not pass it off
+    from planar.post import stress_check_report
+
+    rep = stress_check_report(lap.layers["top"], joints=lap, picture=False, results=[], hot_spots=False)
+    summary = next(s for s in rep.sections if s.title == "Summary")
+    text = " ".join(" ".join(b.items) for b in summary.blocks if type(b).__name__ == "Notice")
+    assert "'row' are tied to this layer with no hole modelled" in text

@@ -566,6 +566,13 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
                                                               factor_of_safety))]
     top.append(Notice([SCOPE_NOTE], kind="note"))
+    layer = getattr(model, "joint_layer", None)  # a joint's layer: fasteners tied where no hole is modelled
+    unholed = [fz.name for fz in getattr(model, "joint_fasteners", None) or [] if layer not in fz.holes]
+    if unholed:
+        top.append(Notice([f"The fasteners {', '.join(repr(n) for n in unholed)} are tied to this layer with no hole "
+                           "modelled: the stresses near them leave out each hole's concentration, so the peaks "
+                           "above are not the holes' peaks. Check the holes by their bearing and bypass loads "
+                           "(section Joints and fasteners), or model the holes (holes=)."], kind="caution"))
     sections = [Section("Summary", top)]
     if getattr(result, "warnings", None):
         sections.append(warnings_section(result.warnings))
