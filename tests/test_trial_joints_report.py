@@ -205,3 +205,12 @@ def test_report_of_a_layer_says_its_fasteners_have_no_modelled_hole(lap):
     summary = next(s for s in rep.sections if s.title == "Summary")
     text = " ".join(" ".join(b.items) for b in summary.blocks if type(b).__name__ == "Notice")
     assert "'row' are tied to this layer with no hole modelled" in text
+
+
+def test_bypass_sign_convention_stated_and_tension_positive(lap):
+    # statics (free body, common practice): the clamped top strip carries past the first fastener (x = 70)
+    # the load of the second, in tension; the table says how bypass is signed
+    holes = {(h["layer"], h["index"]): h for h in lap.fasteners.holes}
+    second = float(np.hypot(*holes[("top", 1)]["load"]))
+    assert holes[("top", 0)]["bypass"] == pytest.approx(second, rel=1e-6) and second > 0
+    assert "tension positive" in lap.table()

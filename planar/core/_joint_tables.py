@@ -40,8 +40,9 @@ class FastenerTable:
     holes : list of dict
         One per fastener end (hole) in a layer: ``group``, ``index``, ``layer``, ``point``, ``load``
         (the force the fastener exerts on the layer), ``bearing`` (its magnitude), ``thickness``,
-        ``bearing_stress`` = P / (d t), ``bypass`` (per fastener on the cut), ``section_bypass`` (the
-        whole cut), ``on_cut`` (fasteners on the cut).
+        ``bearing_stress`` = P / (d t), ``bypass`` (the load the layer carries past the hole across a cut
+        through it square to the fastener load, tension positive, per fastener on the cut),
+        ``section_bypass`` (the whole cut), ``on_cut`` (fasteners on the cut).
     rows : list of dict
         Load transfer row by row: ``group``, ``row`` (1, 2, ... along the load direction), ``layers``,
         ``centre``, ``count``, ``load`` (magnitude of the row's summed shear), ``share`` of the load
@@ -150,6 +151,8 @@ class FastenerTable:
         for h in self.holes:
             lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:14]:<14} {h['bearing']:>16.5g} "
                          f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {z(h['bypass']):>14.5g} {h['on_cut']:>7}")
+        lines.append("(bypass: the load the layer carries past the hole across a cut through it square to the "
+                     "fastener load, tension positive, per fastener on the cut)")
         lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<28} {'x' + L:>12} {'y' + L:>12} "
                                               f"{'n':>4} {'load' + F:>14} {'share':>7}"]
         for r in self.rows:

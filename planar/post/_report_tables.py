@@ -28,6 +28,14 @@ def _pt(p) -> str:
     return "-" if p is None else f"({_f(p[0], '.4g')}, {_f(p[1], '.4g')})"
 
 
+def _force(f) -> str:
+    """A force (fx, fy): six figures, a component below 1e-9 of the force's size (round-off) printed as 0."""
+    if f is None:
+        return "-"
+    tiny = 1e-9 * max(abs(float(f[0])), abs(float(f[1])), 1e-300)
+    return "(" + ", ".join(_f(0.0 if abs(float(v)) < tiny else float(v) + 0.0, ".6g") for v in f[:2]) + ")"
+
+
 def _unit(units, q: str) -> str:
     try:
         u = units.unit_of(q)
@@ -49,7 +57,7 @@ def contact_section(states, units=None) -> Section | None:
             arc = "no contact"
         else:
             arc = f"{s.arc_start_deg:.1f} to {s.arc_end_deg:.1f} ({s.arc_deg:.1f})"
-        rows.append([str(s.pin), arc, _f(s.peak_pressure), _pt(s.peak_at), _pt(s.force), _f(s.clearance, ".4g"),
+        rows.append([str(s.pin), arc, _f(s.peak_pressure), _pt(s.peak_at), _force(s.force), _f(s.clearance, ".4g"),
                      str(s.iterations)])
     head = ["pin", "contact arc, deg (extent)", "peak pressure" + _unit(units, "stress"),
             "at" + _unit(units, "length"), "force on the part" + _unit(units, "force"),
@@ -79,7 +87,9 @@ def joint_section(joint_result) -> Section:
                             [[f"{h['group']} {h['index'] + 1}", str(h["layer"]), _f(h["bearing"]),
                               _f(h["bearing_stress"]), _f(h["bypass"]), _f(h["diameter"], ".4g"),
                               _f(h["thickness"], ".4g")] for h in tab.holes],
-                            caption="Bearing and bypass load at each hole of each layer.", numeric=[2, 3, 4, 5, 6]))
+                            caption="Bearing and bypass load at each hole of each layer. Bypass: the load the layer "
+                                    "carries past the hole across a cut through it square to the fastener load "
+                                    "(tension positive), per fastener on that cut.", numeric=[2, 3, 4, 5, 6]))
     if tab.rows:
         blocks.append(Table(["fastener group", "row", "layers", "fasteners", "load" + f, "share"],
                             [[str(r["group"]), str(r["row"]), f"{r['layers'][0]} to {r['layers'][1]}", str(r["count"]),
