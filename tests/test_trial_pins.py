@@ -134,3 +134,27 @@ def test_a_case_that_leaves_a_free_contact_pin_unloaded_says_so():
     with pytest.raises(SolverError, match="'wind' puts no load on the contact pin.*'shackle'"):
         planar.solve(model)
     assert planar.solve(model, cases=["sling"])["sling"].contact_states["shackle"].in_contact
+
+
+# trial: the lug's report and contact line, as an engineer reads them
+def test_round_off_of_a_pin_force_prints_as_zero_in_the_contact_line_and_the_report_tables():
+    # a lug pulled along its axis: the pin's force across the axis and the moments about the hole's centre
+    # are round-off (statics, common practice); they printed as 9.6e-12 N and -2.3e-08 N mm, and the pin's
+    # 20 kN as '2e+04'
+    from planar.geometry import lug
+    from planar.post._report_tables import contact_section
+    from planar.post.report import reactions_table
+
+    m = mesh(lug(50.0, 20.0, 50.0), size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=10.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=20e3), case="pull")
+    r = planar.solve(model)["pull"]
+    st = r.contact_states["pin"]
+    assert "force (0, 20000) N" in st.summary()
+    row = contact_section(r.contact_states, r.unit_system).blocks[0].rows[0]
+    assert "(0, 20000)" in row
+    rows = {x[0]: x for x in reactions_table(r, about=(0.0, 0.0)).rows}
+    assert rows["pin"][2:] == ["0", "20000", "0"]
+    assert [x for x in rows.values() if x[1] == "fixed"][0][2:] == ["0", "-20000", "0"]

@@ -160,7 +160,7 @@ class ContactState:
                     f"smallest gap {float(self.gap.min()):.4g}{self._u('length')}")
         return (f"{head}: contact arc {self.arc_start_deg:.1f} to {self.arc_end_deg:.1f} deg ({self.arc_deg:.1f} deg), "
                 f"peak pressure {self.peak_pressure:.4g}{self._u('stress')} at {fmt_point(self.peak_at)}, "
-                f"force ({self.force[0]:.4g}, {self.force[1]:.4g}){self._u('force')}; "
+                f"force ({_tidy(self.force[0], self.force)}, {_tidy(self.force[1], self.force)}){self._u('force')}; "
                 f"{self.iterations} active-set iteration(s), largest penetration {self.max_penetration:.2e}"
                 f"{self._u('length')}, largest tension {self.max_tension:.2e}{self._u('stress')}")
 
@@ -186,6 +186,11 @@ class ContactState:
         for n, a, g, p in zip(self.nodes[keep], self.angles_deg[keep], self.gap[keep], self.pressure[keep]):
             rows.append(f"{int(n):>8}  {a:>11.2f}  {g:>14.4g}  {p:>16.4g}")
         return "\n".join([self.summary(), *rows])
+
+
+def _tidy(v: float, of) -> str:
+    """A force component to six figures, round-off (below 1e-9 of the force's largest component) as 0."""
+    return format(0.0 if abs(v) < 1e-9 * max(abs(of[0]), abs(of[1]), 1e-300) else v + 0.0, ".6g")
 
 
 def _arc(angles: np.ndarray, on: np.ndarray) -> tuple[float | None, float | None]:

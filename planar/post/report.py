@@ -109,7 +109,14 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
     force = force_unit(getattr(result, "units", ""))
     moment = f"{force} {length_unit(getattr(result, 'units', ''))}".strip() if force else ""
     recs = result.support_reactions(about=about)
-    rows = [[r.name, r.kind, f"{r.force[0]:.6g}", f"{r.force[1]:.6g}", f"{r.moment:.6g}"] for r in recs]
+    # round-off (below 1e-9 of the largest force, or of it times the part's size for a moment) prints as 0
+    import numpy as np
+
+    big = max([abs(float(v)) for r in recs for v in r.force] + [1e-300])
+    nodes = result.mesh.nodes
+    span = max(float(np.ptp(nodes, axis=0).max()), float(np.abs(nodes).max())) if nodes.size else 1.0
+    z = lambda v, scale: format(0.0 if abs(v) < 1e-9 * scale else float(v) + 0.0, ".6g")  # noqa: E731
+    rows = [[r.name, r.kind, z(r.force[0], big), z(r.force[1], big), z(r.moment, big * span)] for r in recs]
     where = f"({recs[0].about[0]:.6g}, {recs[0].about[1]:.6g})" if recs and about != "own" else "each one's own point"
     return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
                   "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
