@@ -131,3 +131,27 @@ def test_edge_of_several_holes_with_one_centre_warns_and_plots_each_piece(tmp_pa
     assert sum(lab.startswith("piece ") for lab in labels) == 3
     styles = {ln.get_linestyle() for ln in fig.axes[0].get_lines() if len(ln.get_xdata()) > 2}
     assert len(styles) == 3  # one line style per piece
+
+
+def test_hot_spot_beside_a_point_force_never_governs():
+    # a cantilever 100 x 20 in, clamped at its left end, pulled (2 x 5 psi on the end) and bent by a
+    # point force at its top free corner: the combined case's only spot away from the clamp sat on the
+    # point force itself (14.9 psi at (100, 20)) and was reported as governing, because the edge reads
+    # more (about 15.8 psi, beam theory, near the clamp) elsewhere
+    from planar.post import combine, hot_spots
+
+    m = planar.rectangle_mesh(100.0, 20.0, 20, 4, "Q9")
+    model = planar.Model(m, planar.Isotropic(70e3, 0.33), thickness=2.0, units="lbf-in-psi")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.PointForce("corner_11", fy=-10.0), case="tip")
+    model.add_load(planar.Traction("right", tx=5.0), case="pull")
+    res = planar.solve(model)
+    combo = combine(res, {"tip": 1.0, "pull": 2.0}, name="c")
+    hs = hot_spots(combo)
+    at_force = [s for s in hs.spots if math.hypot(s.location[0] - 100.0, s.location[1] - 20.0) < 10.0]
+    assert at_force and all(s.flagged and "PointForce('corner_11'" in s.next_to for s in at_force)
+    assert hs.governing is None or math.hypot(hs.governing.location[0] - 100.0, hs.governing.location[1] - 20.0) > 10.0
+    # the peak away from both reads beam theory (Euler-Bernoulli): 2 x 5 + M c / I at x = 22.5:
+    # 10 + 10 x 77.5 x 10 / (2 x 20^3 / 12) = 15.8 psi
+    away = combo.max("von_mises", where=planar.Away())
+    assert away.value == pytest.approx(10.0 + 10.0 * 77.5 * 10.0 / (2.0 * 20.0**3 / 12.0), rel=0.02)

@@ -33,11 +33,12 @@ listed with both locations.
 
 Flagged spots
 -------------
-A spot next to an idealised support or concentrated load is flagged (with the reason) when it
-exceeds the largest value of its feature away from every idealisation by more than
-:data:`planar.core.zones.DOMINANCE` (the rule of :meth:`planar.Result.max`, applied per feature):
-its peak is made by how the part is held or loaded. :attr:`HotSpots.governing` is the highest spot
-that is not flagged.
+A spot next to an idealised support or concentrated load (within
+:data:`planar.core.zones.NEAR_ELEMENTS` local element sizes of its nodes) is flagged, with the
+reason: a local peak there is made or shaped by how the part is held or loaded. The reason quotes,
+as :meth:`planar.Result.max` does, the largest value of its feature away from every idealisation
+when the spot exceeds it by more than :data:`planar.core.zones.DOMINANCE`.
+:attr:`HotSpots.governing` is the highest spot that is not flagged.
 
 Examples
 --------
@@ -474,6 +475,13 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
                 # idealisation's, whatever the rest of the part does
                 reason = (f"next to {why[r]}: the whole {kinds[k]} {feats[k]!r} is held or loaded there, so its "
                           "peak is made by the idealisation (how the part is held or loaded), not by the part")
+            elif not reason:
+                # a local peak beside a point force or a clamp that its feature exceeds elsewhere is still
+                # the idealisation's bump (the field rises to it because of the load or support), not a
+                # stress raiser of the part; unflagged it could become the governing spot
+                reason = (f"next to {why[r]}: a local peak there is shaped by the idealisation (how the part is "
+                          "held or loaded), not by the part; read the feature under check with where= (e.g. "
+                          "where=Away() or the feature's edge)")
             next_to = why[r] if reason else ""
         also = tuple(_at(mesh, j) for j in twins.get(k, []))
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
