@@ -11,6 +11,8 @@ Sources:
 - a figure that tells the truth (issue 18's requirement; common practice for drawings): a line drawn
   dashed in the legend is dashed on the part, and no legend covers an axis label.
 """
+import re
+
 import numpy as np
 import pytest
 
@@ -214,3 +216,41 @@ def test_bypass_sign_convention_stated_and_tension_positive(lap):
     second = float(np.hypot(*holes[("top", 1)]["load"]))
     assert holes[("top", 0)]["bypass"] == pytest.approx(second, rel=1e-6) and second > 0
     assert "tension positive" in lap.table()
+
+
+def test_report_of_a_double_shear_layer_prints_whole_with_its_fastener_tables(tmp_path):
+    # a double-shear splice of our own (two 3 mm straps on a 5 mm steel plate, two bolts, Huth's flexibility):
+    # its middle layer's report printed by Chromium keeps rows and figures whole and numbers every page
+    # (the print checks of tests/test_report_print.py); statics: the two bolts carry the whole 8 kN
+    from planar.geometry import Circle, Plate, Refine, mesh
+    from planar.post import stress_check_report, write_report
+    from test_report_print import check_printed, check_words, print_pdf, read_pdf
+
+    def plate(x0, x1, xs):
+        p = Plate.rectangle(x1 - x0, 30.0, corner=(x0, 0.0))
+        for i, x in enumerate(xs):
+            p = p.cut(Circle((x, 15.0), 3.0, name=f"h{i}"))
+        return mesh(p, size=6.0, element="T6", refine=[Refine([f"h{i}" for i in range(len(xs))], size=1.5)])
+
+    steel, al = planar.Isotropic(E=205e3, nu=0.3), planar.Isotropic(E=71e3, nu=0.33)
+    mid = planar.Model(plate(0.0, 80.0, (50.0, 65.0)), steel, thickness=5.0, units="N, mm, MPa")
+    ms = plate(40.0, 120.0, (50.0, 65.0))
+    straps = {k: planar.Model(ms, al, thickness=3.0, units="N, mm, MPa") for k in ("front", "back")}
+    mid.add_support(planar.Fixed("left"))
+    for s in straps.values():
+        s.add_load(planar.Traction("right", tx=4000.0 / (30.0 * 3.0)), case="ultimate")
+    joint = planar.Joint({"front": straps["front"], "plate": mid, "back": straps["back"]})
+    joint.add_fasteners(planar.Fasteners([(50.0, 15.0), (65.0, 15.0)], layers=("front", "plate", "back"),
+                                         diameter=6.0, flexibility="huth", modulus=205e3, shear="double",
+                                         tie="rigid", holes=[["h0", "h1"]] * 3, name="bolts"))
+    jr = planar.solve(joint)["ultimate"]
+    bearing = sum(h["bearing"] for h in jr.fasteners.holes if h["layer"] == "plate")
+    assert bearing == pytest.approx(8000.0, rel=0.05)      # nearly collinear: the bearing loads add up to 8 kN
+    layer = jr.layers["plate"]
+    report = stress_check_report(layer, joints=jr, title="Splice SP-3, plate", revision="B", prepared_by="A. Trial")
+    pages = read_pdf(print_pdf(write_report(tmp_path / "splice.html", report), tmp_path))
+    check_printed(report, pages)
+    whole = check_words(report, pages, layer.model)
+    assert "loaded through its fasteners" in whole and "fasteners 'bolts'" in whole
+    assert "tension positive" in whole and "bearing stress P/(d t)" in whole
+    assert not re.search(r"\bnan\b|\binf\b", whole, re.IGNORECASE)
