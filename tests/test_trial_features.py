@@ -155,3 +155,25 @@ def test_hot_spot_beside_a_point_force_never_governs():
     # 10 + 10 x 77.5 x 10 / (2 x 20^3 / 12) = 15.8 psi
     away = combo.max("von_mises", where=planar.Away())
     assert away.value == pytest.approx(10.0 + 10.0 * 77.5 * 10.0 / (2.0 * 20.0**3 / 12.0), rel=0.02)
+
+
+def test_peak_read_on_a_clamped_hole_carries_its_note():
+    # Result.max(where="bolt_low") on the clamped hole gave 405 MPa with no note, because the zone lies
+    # wholly next to its clamp and was set against the whole part, whose fillet reads more. Against the
+    # part round the hole (within the hole's size) the clamp's peak stands out and is noted
+    r = _bracket()
+    for hole in ("bolt_low", "bolt_high"):
+        assert r.max("von_mises", where=hole).note.startswith(f"next to the support Fixed('{hole}')")
+    assert r.max("von_mises", where="fillet").note == ""
+
+
+def test_clamped_edge_of_a_uniform_strap_is_not_noted():
+    # nu = 0: a strap clamped at one end and pulled at the other carries sigma_xx = F / A everywhere,
+    # clamp included (closed form, common practice): its clamped edge's peak is the field's own level
+    m = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(70e3, 0.0), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=50.0), case="pull")
+    r = planar.solve(model)["pull"]
+    peak = r.max("sigma_xx", where="left")
+    assert peak.value == pytest.approx(50.0, rel=1e-9) and peak.note == ""

@@ -424,9 +424,10 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     """Why a peak at ``node`` is not the part's own, or ``""``.
 
     The peak is flagged when ``node`` lies next to an idealised support or concentrated load and its
-    value exceeds the largest value of ``values`` (within ``mask``, or in the whole part when the zone
-    lies wholly next to idealisations) away from every idealisation by more than ``DOMINANCE``: the
-    peak is then made by the idealisation (a clamped hole, a point force).
+    value exceeds the largest value of ``values`` (within ``mask``; when the zone lies wholly next to
+    idealisations, in the part within the zone's own size of it, or else in the whole part) away from
+    every idealisation by more than ``DOMINANCE``: the peak is then made by the idealisation (a
+    clamped hole, a point force).
     ``values`` are read largest-first; for a smallest value pass the negated field and
     ``sign_of_values=-1`` (the message then quotes values with their own sign).
     """
@@ -441,9 +442,22 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     used = np.isfinite(v) & mesh.used_nodes()
     zone = used if mask is None else np.isfinite(v) & mask
     top = float("nan")
-    # within the zone; when the zone lies wholly next to idealisations (e.g. the supported edge itself),
-    # against the rest of the part, or a uniform field would be flagged on its own support
-    for ok in (zone, used) if not np.array_equal(zone, used) else (zone,):
+    # within the zone; when the zone lies wholly next to idealisations (e.g. the supported edge itself,
+    # a clamped hole), against the part around it (within the zone's own size), so a uniform field is not
+    # flagged on its own support while a clamped hole's peak, higher than the field round it, is, even
+    # when the part peaks higher elsewhere; failing that, against the rest of the part
+    steps = [zone]
+    if not np.array_equal(zone, used):
+        ids = np.flatnonzero(zone)
+        if ids.size:
+            from scipy.spatial import cKDTree
+
+            pz = mesh.nodes[ids]
+            reach = max(float(np.ptp(pz[:, 0])), float(np.ptp(pz[:, 1])), float(node_sizes(mesh)[ids].max()))
+            d, _ = cKDTree(pz).query(mesh.nodes, distance_upper_bound=reach * (1 + 1e-9))
+            steps.append(used & np.isfinite(v) & np.isfinite(d))
+        steps.append(used)
+    for k_step, ok in enumerate(steps):
         # the candidates that could beat the peak less DOMINANCE: only they need the distance test
         cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
         near_c, _ = near_idealised(mesh, model, cand)
@@ -462,6 +476,8 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
             start, batch = start + batch, batch * 4
         if np.isfinite(top):
             break
+        if k_step == 1 and len(steps) == 3 and not np.all(near_idealised(mesh, model, np.flatnonzero(ok))[0]):
+            break  # the part round a wholly held zone reads less than its peak: the idealisation's peak
     sign = -1.0 if sign_of_values < 0 else 1.0
     other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
              f"{sign * top:.6g} (where=Away())" if np.isfinite(top) else "")
