@@ -254,3 +254,16 @@ def test_report_of_a_double_shear_layer_prints_whole_with_its_fastener_tables(tm
     assert "loaded through its fasteners" in whole and "fasteners 'bolts'" in whole
     assert "tension positive" in whole and "bearing stress P/(d t)" in whole
     assert not re.search(r"\bnan\b|\binf\b", whole, re.IGNORECASE)
+
+
+def test_results_figure_caption_says_what_the_picture_draws(lap):
+    # the contour is drawn on the part as made with the deformed outline dashed over it (the picture's own
+    # note); the caption said "on the deformed shape" (a picture and its caption must agree, issue 18)
+    from planar.post import stress_check_report
+    from planar.post.report import Figure
+
+    rep = stress_check_report(lap.layers["bottom"], picture=False, hot_spots=False)
+    res = next(s for s in rep.sections if s.title == "Results")
+    caption = next(b.caption for b in res.blocks if isinstance(b, Figure))
+    assert "on the part as made" in caption and "deformed outline dashed" in caption
+    assert "on the deformed shape" not in caption

@@ -275,7 +275,8 @@ def _model_picture(result, picture, fasteners=None):
         from .plots import plot_field
 
         fig = plot_field(result, "von_mises", mesh_lines=False)
-        return Figure(_png(fig), "von Mises stress on the deformed shape (no picture of the supports and loads "
+        return Figure(_png(fig), "von Mises stress on the part as made, its deformed outline dashed over it (no "
+                                 "picture of the supports and loads "
                                  "is available in this installation).")
     case = result.case if result.case in model.cases else None
     fig = plot_model(model, case=case, fasteners=fasteners)
@@ -334,8 +335,8 @@ def _auto_results(result, field, recovery) -> list:
                   caption=f"Extremes of the stresses over the whole part, load case '{result.case}' ({recovery} "
                           "recovery); a remark says when a value is made by how the part is held or loaded.",
                   numeric=[1]),
-            Figure(_png(fig), f"{_FIELD_WORDS.get(field, field)} on the deformed shape, load case "
-                              f"'{result.case}'; the magnification is stated on the picture.")]
+            Figure(_png(fig), f"{_FIELD_WORDS.get(field, field)} on the part as made, its deformed outline dashed "
+                              f"over it, load case '{result.case}'; the magnification is stated on the picture.")]
 
 
 def _convergence_blocks(convergence) -> list:
