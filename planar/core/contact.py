@@ -411,6 +411,9 @@ class ContactSet:
                     self._refuse_fixed(fixed[np.argmax(bad)], case)
         self._done, self._blocks = np.zeros(0, np.int64), []
         pen = np.any(gf < 0, axis=1) & self.live
+        if not pen.any():  # the springs' answer closes no gap (a clearance): start where the edge closes most
+            close = np.minimum((gf - self.g0[:, None]).min(axis=1), 0.0)
+            pen = self.live & (close < 0.5 * close[self.live].min(initial=0.0))
         cand = (self._dilate(pen, 10) if pen.any() else self.live.copy()) | self.anchor
         tol = 1e-8 * self._radius_of(np.arange(self.m))
         for _ in range(4 * self.m + 4):
