@@ -177,3 +177,25 @@ def test_clamped_edge_of_a_uniform_strap_is_not_noted():
     r = planar.solve(model)["pull"]
     peak = r.max("sigma_xx", where="left")
     assert peak.value == pytest.approx(50.0, rel=1e-9) and peak.note == ""
+
+
+def test_outputs_without_units_say_so():
+    # README: without units= outputs say "units not stated"; the hot-spot table, the edge table, Kt and the
+    # margin printed bare numbers with no word on units (the envelope and plots already said so)
+    from planar.post import edge_stresses, hot_spots, kt, margin_of_safety
+
+    m = planar.rectangle_mesh(10.0, 2.0, 8, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(1e4, 0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=1.0), case="a")
+    r = planar.solve(model)["a"]
+    for text in (hot_spots(r).table(), edge_stresses(r, "top").table(), str(kt(r, 1.0, where="top")),
+                 str(margin_of_safety(r, allowable=10.0, where=planar.Away()))):
+        assert "units not stated" in text.lower(), text
+    # with units stated, the words are not there and the units are
+    model2 = planar.Model(m, planar.Isotropic(1e4, 0.3), units="N, mm, MPa")
+    model2.add_support(planar.Fixed("left"))
+    model2.add_load(planar.Traction("right", ty=1.0), case="a")
+    r2 = planar.solve(model2)["a"]
+    for text in (hot_spots(r2).table(), edge_stresses(r2, "top").table(), str(kt(r2, 1.0, where="top"))):
+        assert "units not stated" not in text.lower() and "MPa" in text

@@ -205,8 +205,9 @@ class StressConcentration(_OldMethodName):
         zone = "" if self.where == "everywhere" else f" {self.where}"
         note = f" CAUTION: the peak sits {self.note}." if self.note else ""
         u, L = _unit_suffixes(self.units)
+        said = "" if L else " Units not stated (consistent)."
         return (f"Kt = {self.Kt:.4g} ({self.field} peak{zone} {self.peak:.6g}{u} at {_at(x, y, L)} over nominal "
-                f"{self.nominal:.6g}{u}, {self.recovery} recovery).{note} {self.caution}")
+                f"{self.nominal:.6g}{u}, {self.recovery} recovery).{note}{said} {self.caution}")
 
     __str__ = summary
 
@@ -308,7 +309,7 @@ class Margin(_OldMethodName):
         u, L = _unit_suffixes(self.units)
         return (f"margin of safety {self.margin:+.4g} ({verdict}): allowable {self.allowable:.6g}{u} / "
                 f"({self.factor_of_safety:g} x {self.field} peak{zone} {self.peak:.6g}{u} at {_at(x, y, L)}) - 1, "
-                f"{self.recovery} recovery.{note} {self.caution}")
+                f"{self.recovery} recovery.{note}{'' if L else ' Units not stated (consistent).'} {self.caution}")
 
     __str__ = summary
 

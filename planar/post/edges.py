@@ -209,6 +209,8 @@ class EdgeStresses:
             lines.append(f"centre {fmt_point(self.centre)}" + (f", radius {self.radius:.6g}" if self.radius else ""))
         lines.append("  ".join(h.rjust(k) for h, k in zip(head, w)))
         lines += ["  ".join(c.rjust(k) for c, k in zip(r, w)) for r in text]
+        if not lu:  # the model gave no units= (a stated system always has a length unit)
+            lines.append("units not stated (consistent)")
         return "\n".join(lines)
 
     __str__ = table

@@ -210,7 +210,7 @@ class HotSpots:
         title = f"hot spots of {self.field} ({self.recovery} recovery), load case {self.case!r}" + \
                 ("" if self.where == "everywhere" else f", {self.where}")
         if not rows:
-            return f"{title}: none ({self.rule})"
+            return f"{title}: none ({self.rule})" + ("" if self.length else "; units not stated (consistent)")
         w = [max(len(head[k]), *(len(r[k]) for r in rows)) for k in range(len(head))]
         right = {0, 2, 3, 4} | ({5, 6} & set(range(len(head) - 1)))
 
@@ -224,6 +224,8 @@ class HotSpots:
         if self.allowable is not None:
             notes.append(f"margin = allowable {self.allowable:.6g}{u} / ({self.factor_of_safety:g} x value) - 1")
         notes.append(self.rule)
+        if not self.length:  # the model gave no units= (a stated system always has a length unit)
+            notes.append("units not stated (consistent)")
         if any(s.flagged for s in self.spots):
             notes.append("a flagged spot is made by how the part is held or loaded; check the feature's own spot"
                          if self.governing is not None else
