@@ -196,3 +196,22 @@ def test_clearance_fit_solves_the_flexibility_of_the_closing_side_only(monkeypat
     assert (a.arc_start_deg, a.arc_end_deg) == (b.arc_start_deg, b.arc_end_deg)
     assert abs(a.peak_pressure - b.peak_pressure) < 1e-8 * b.peak_pressure
     assert np.abs(few.u - every.u).max() < 1e-9 * np.abs(every.u).max()
+
+
+# trial: the lug check in inch-pound units
+def test_lug_table_and_contact_line_in_psi_print_plain_numbers():
+    # a 2 in wide aluminium lug, 0.75 in hole, 3000 lbf: bearing P / (D t) = 3000 / (0.75 x 0.25) = 16000 psi
+    # (common practice); it printed as '1.6e+04 psi', the peak hoop stress and contact pressure likewise
+    from planar.geometry import lug
+    from planar.post import lug_check
+
+    m = mesh(lug(2.0, 0.75, 1.5), size=0.3, element="T6", refine=[Refine("hole", size=0.06)])
+    model = planar.Model(m, planar.Isotropic(E=10.3e6, nu=0.33), thickness=0.25, units="lbf, in, psi")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.001, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=3000.0), case="pull")
+    r = planar.solve(model)["pull"]
+    text = lug_check(r, 3000.0, 2.0, 0.75, 0.25, edge_distance=1.5).table()
+    assert "16000 psi" in text and "e+0" not in text
+    line = r.contact_states["pin"].summary()
+    assert "peak pressure 2" in line and "e+04 psi" not in line and "force (0, 3000) lbf" in line

@@ -159,7 +159,7 @@ class ContactState:
             return (f"{head}: no contact, the pin carries nothing; {self.iterations} active-set iteration(s); "
                     f"smallest gap {float(self.gap.min()):.4g}{self._u('length')}")
         return (f"{head}: contact arc {self.arc_start_deg:.1f} to {self.arc_end_deg:.1f} deg ({self.arc_deg:.1f} deg), "
-                f"peak pressure {self.peak_pressure:.4g}{self._u('stress')} at {fmt_point(self.peak_at)}, "
+                f"peak pressure {_plain(self.peak_pressure)}{self._u('stress')} at {fmt_point(self.peak_at)}, "
                 f"force ({_tidy(self.force[0], self.force)}, {_tidy(self.force[1], self.force)}){self._u('force')}; "
                 f"{self.iterations} active-set iteration(s), largest penetration {self.max_penetration:.2e}"
                 f"{self._u('length')}, largest tension {self.max_tension:.2e}{self._u('stress')}")
@@ -186,6 +186,12 @@ class ContactState:
         for n, a, g, p in zip(self.nodes[keep], self.angles_deg[keep], self.gap[keep], self.pressure[keep]):
             rows.append(f"{int(n):>8}  {a:>11.2f}  {g:>14.4g}  {p:>16.4g}")
         return "\n".join([self.summary(), *rows])
+
+
+def _plain(v: float) -> str:
+    """Four figures without an exponent for the sizes a stress shows (20340 psi, not 2.034e+04)."""
+    out = format(v, ".4g")
+    return format(v, ".0f") if "e" in out and 1e4 <= abs(v) < 1e9 else out
 
 
 def _tidy(v: float, of) -> str:

@@ -169,6 +169,14 @@ def kt_pin_loaded_lug(d_over_w):
     return float(k) if np.ndim(d_over_w) == 0 else k
 
 
+def _plain(v: float) -> str:
+    """Four figures without an exponent for the sizes a stress table shows (16000 psi, not 1.6e+04)."""
+    out = format(v, ".4g")
+    if "e" in out and 1e-3 <= abs(v) < 1e9:
+        out = format(v, ".0f") if abs(v) >= 1e4 else format(v, ".6f").rstrip("0").rstrip(".")
+    return out
+
+
 def _ms(allowable: float | None, stress: float, fs: float) -> float | None:
     if allowable is None:
         return None
@@ -263,7 +271,7 @@ class LugCheck:
         for name, formula, value, unit in rows:
             ms = self.margins.get(keys.get(name, ""))
             tail = "" if ms is None else f"  MS = {ms:+.3f}" + ("" if ms >= 0 else "  (DOES NOT hold)")
-            lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {value:10.4g} {unit}{tail}")
+            lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {_plain(value):>10} {unit}{tail}")
         if self.margins:
             lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
         if self.concentration.note:
