@@ -267,3 +267,12 @@ def test_results_figure_caption_says_what_the_picture_draws(lap):
     caption = next(b.caption for b in res.blocks if isinstance(b, Figure))
     assert "on the part as made" in caption and "deformed outline dashed" in caption
     assert "on the deformed shape" not in caption
+
+
+def test_plot_joint_refuses_a_scale_that_would_turn_the_arrows_round(lap):
+    # a negative arrow scale drew every fastener load the wrong way round, with no complaint
+    for bad in (-1.0, 0.0, float("nan")):
+        with pytest.raises(InputError, match="scale"):
+            planar.post.plot_joint(lap, scale=bad)
+    with pytest.raises(InputError, match="width"):
+        planar.post.plot_joint(lap, width=0.0)

@@ -92,6 +92,11 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
                          f"{type(result).__name__}")
     from matplotlib.collections import LineCollection
 
+    from ..core.values import number
+
+    width = number(width, "plot_joint's width (inches)", positive=True)
+    if scale is not None:  # a negative scale would turn every arrow round: the loads drawn the wrong way
+        scale = number(scale, "plot_joint's scale (arrow length per unit load)", positive=True)
     us = result.unit_system
     L_u = f" [{us.length}]" if us.stated else ""
     F_u = f" {us.force}" if us.stated else ""
