@@ -81,6 +81,11 @@ def test_peak_in_a_region_reads_that_regions_own_side_of_an_interface():
     assert strap.value >= 10.0
     assert r.max("sigma_xx").value == pytest.approx(strap.value)  # everywhere: the critical side, as before
     assert r.min("sigma_xx", where="doubler").value > 2.0
+    # an envelope read in the doubler reads the doubler's side too
+    from planar.post import envelope
+
+    env = envelope({"pull": r}, "sigma_xx", where="doubler")
+    assert env.peak().value == pytest.approx(doubler.value, rel=1e-12)
 
 
 def test_sweep_text_table_states_the_units_of_its_peaks():

@@ -544,7 +544,9 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
                 f"envelope: {names[0]!r} and {n!r} are on different meshes; an envelope compares cases "
                 "node by node, so solve them on one mesh (one model with several load cases)")
     _check_compatible(list(zip(names, items)), "envelope")
-    V = np.stack([r.field(field, recovery=recovery) for r in items])  # (m, n)
+    # read in one region, its own side of an interface (as Result.max reads it)
+    V = np.stack([r._own_side(r.field(field, recovery=recovery), field, recovery, None, where)
+                  for r in items])  # (m, n)
     used = first.mesh.used_nodes()
     gmax = np.where(used, np.argmax(V, axis=0), -1)
     gmin = np.where(used, np.argmin(V, axis=0), -1)
