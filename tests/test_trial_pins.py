@@ -215,3 +215,28 @@ def test_lug_table_and_contact_line_in_psi_print_plain_numbers():
     assert "16000 psi" in text and "e+0" not in text
     line = r.contact_states["pin"].summary()
     assert "peak pressure 2" in line and "e+04 psi" not in line and "force (0, 3000) lbf" in line
+
+
+# trial: a lug in contact loaded at 0 and 180 degrees from its axis
+def test_a_lug_pushed_towards_its_base_gets_no_tension_or_shear_out_margin():
+    # a pin pushing the lug towards its base loads the net section in compression and shears nothing out
+    # towards the end (common practice, E. F. Bruhn, Analysis and Design of Flight Vehicle Structures, 1973,
+    # sec. D1: the lug modes are for a pin pulling towards the end); the check gave 'MS = +3.500' on net-section
+    # tension, unremarked
+    from planar.geometry import lug
+    from planar.post import lug_check
+
+    m = mesh(lug(50.0, 20.0, 50.0), size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
+    checks = {}
+    for fy in (20e3, -20e3):
+        model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=10.0, units="N, mm, MPa")
+        model.add_support(planar.Fixed("base"))
+        model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+        model.add_load(PinLoad("pin", fy=fy), case="c")
+        r = planar.solve(model)["c"]
+        checks[fy] = lug_check(r, fy, 50.0, 20.0, 10.0, edge_distance=50.0, tension_allowable=300.0,
+                               shear_allowable=200.0, bearing_allowable=400.0)
+    pull, push = checks[20e3], checks[-20e3]
+    assert set(pull.margins) == {"net_section", "bearing", "shear_out"} and not pull.direction_note
+    assert set(push.margins) == {"bearing"} and "towards its base" in push.table()
+    assert push.as_dict()["direction_note"]

@@ -235,6 +235,8 @@ class LugCheck:
     factor_of_safety: float = 1.0
     margins: dict = field(default_factory=dict)
     caution: str = CAUTION
+    #: set when the pin pushes the lug towards its base (see :func:`lug_check`)
+    direction_note: str = ""
 
     @property
     def stress_unit(self) -> str:
@@ -274,6 +276,8 @@ class LugCheck:
             lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {_plain(value):>10} {unit}{tail}")
         if self.margins:
             lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
+        if self.direction_note:
+            lines.append(f"  CAUTION: {self.direction_note}.")
         if self.concentration.note:
             lines.append(f"  CAUTION: the peak sits {self.concentration.note}.")
         return "\n".join(lines)
@@ -294,6 +298,7 @@ class LugCheck:
             "peak_hoop": self.peak_hoop, "peak_angle": self.peak_angle, "peak_point": list(self.peak_point),
             "kt_net": self.kt_net, "kt_bearing": self.kt_bearing, "margins": dict(self.margins),
             "factor_of_safety": self.factor_of_safety, "note": self.concentration.note,
+            "direction_note": self.direction_note,
         })
 
 
@@ -347,10 +352,36 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     es = edge_stresses(result, edge, recovery=recovery)
     pk = es.peak("sigma_t", absolute=False)
     conc = kt(result, net, field="sigma_1", recovery=recovery, where=edge)
+    toward_base = _pushes_toward_base(result, edge)
+    if toward_base:  # no net-section tension, no shear-out: their margins would mislead
+        tension_allowable = shear_allowable = None
     margins = {k: v for k, v in (("net_section", _ms(tension_allowable, net, fs)),
                                  ("bearing", _ms(bearing_allowable, brg, fs)),
                                  ("shear_out", None if so is None else _ms(shear_allowable, so, fs)),
                                  ("peak", _ms(peak_allowable, pk.value, fs))) if v is not None}
     return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
-                    units=result.units, case=result.case, factor_of_safety=fs, margins=margins)
+                    units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
+                    direction_note=("the pin pushes the lug towards its base (a compression lug): the net-section "
+                                    "tension and shear-out figures do not apply and get no margin; check bearing "
+                                    "and the net section in compression" if toward_base else ""))
+
+
+def _pushes_toward_base(result, edge: str) -> bool:
+    """Whether the load on the hole pushes the lug away from its end (the edge ``"end"`` of
+    :func:`planar.geometry.lugs.lug`), from the pin's force on the part or the loads on the hole's nodes."""
+    mesh = result.mesh
+    if "end" not in mesh.edge_sets or edge not in mesh.edge_sets:
+        return False
+    hole = np.unique(mesh.edge(edge))
+    force = None
+    for st in getattr(result, "pin_states", None) or []:
+        if st.get("edge") == edge:
+            force = np.asarray(st["force"], dtype=float)
+    if force is None:  # a prescribed bearing load: the loads on the hole's nodes
+        force = np.asarray(result.applied, dtype=float)[hole].sum(axis=0)
+    size = float(np.hypot(*force))
+    if not size > 0:
+        return False
+    towards_end = mesh.nodes[np.unique(mesh.edge("end"))].mean(axis=0) - mesh.nodes[hole].mean(axis=0)
+    return float(force @ towards_end) < -0.5 * size * float(np.hypot(*towards_end))
