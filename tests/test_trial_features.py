@@ -204,3 +204,18 @@ def test_outputs_without_units_say_so():
     r2 = planar.solve(model2)["a"]
     for text in (hot_spots(r2).table(), edge_stresses(r2, "top").table(), str(kt(r2, 1.0, where="top"))):
         assert "units not stated" not in text.lower() and "MPa" in text
+
+
+def test_edge_peak_prints_no_nan():
+    # never a NaN in output text: the peak along a straight edge printed "theta=nan"
+    from planar.post import edge_stresses
+
+    m = planar.rectangle_mesh(10.0, 2.0, 8, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(1e4, 0.3), units="N, mm, MPa")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.Traction("right", tx=50.0), case="a")
+    pk = edge_stresses(planar.solve(model)["a"], "top").peak()
+    assert "nan" not in repr(pk).lower() and "no centre" in repr(pk)
+    assert pk.value == pytest.approx(50.0, rel=1e-9)  # uniform tension, F / A (common practice)
+    assert math.isnan(pk.theta)  # the number itself stays a float, as documented

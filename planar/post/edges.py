@@ -76,6 +76,11 @@ class EdgePeak(NamedTuple):
     piece: int
     node: int
 
+    def __repr__(self) -> str:  # no NaN in printed text: an edge without a centre has no angle
+        th = "no centre" if math.isnan(self.theta) else repr(self.theta)
+        return (f"EdgePeak(value={self.value!r}, s={self.s!r}, point={self.point!r}, theta={th}, "
+                f"piece={self.piece!r}, node={self.node!r})")
+
 
 @dataclass
 class EdgeStresses:
