@@ -18,7 +18,9 @@ of the mesh and the pin unknowns ``P``), and a constant::
   A free pin needs no unknown at all. Each held component is one linear constraint ``h_k C u_S = v_k``
   on the edge unknowns: one dependent unknown per constraint is eliminated (chosen by a QR with column
   pivoting of the constraint rows, for the best-conditioned k x k block), written through the other
-  edge unknowns.
+  edge unknowns. An edge cut by symmetry lines (a half or quarter model) is mirrored for the fit, so
+  ``C`` is the whole hole's fit (:func:`_mirrored_fit`); a pin there must be held across the lines
+  and in rotation (:func:`_symmetry_line`).
 
 The mesh is assembled as usual with ``E`` among the prescribed unknowns, so the lower triangle of
 ``K_OO`` and the rows ``K_E`` come out of :meth:`planar.core.assembly.Assembly.system` untouched. The
