@@ -219,3 +219,11 @@ def test_edge_peak_prints_no_nan():
     assert "nan" not in repr(pk).lower() and "no centre" in repr(pk)
     assert pk.value == pytest.approx(50.0, rel=1e-9)  # uniform tension, F / A (common practice)
     assert math.isnan(pk.theta)  # the number itself stays a float, as documented
+
+
+def test_printing_a_mesh_gives_a_summary():
+    # print(mesh) of a gmsh part printed every coordinate and connectivity row (thousands of lines)
+    m = planar.rectangle_mesh(200.0, 40.0, 100, 20, "Q8")
+    text = repr(m)
+    assert text.startswith(f"Mesh({m.n_nodes} nodes; cells 2000 Q8;") and len(text) < 300
+    assert "'left'" in text and "'corner_00'" in text and "'plate'" in text

@@ -115,6 +115,13 @@ class Mesh:
     regions: dict[str, dict[str, np.ndarray]] = field(default_factory=dict)
     slits: bool | tuple[str, ...] = ()
 
+    def __repr__(self) -> str:
+        # a summary, not the arrays: print(mesh) of a real part printed thousands of coordinates
+        blocks = ", ".join(f"{np.asarray(c).shape[0]} {k}" for k, c in self.cells.items())
+        names = self.names()
+        return (f"Mesh({self.n_nodes} nodes; cells {blocks or 'none'}; edges {names['edges']}; "
+                f"points {names['points']}; regions {names['regions']})")
+
     def __post_init__(self) -> None:
         try:
             nodes = np.asarray(self.nodes, dtype=float)
