@@ -240,3 +240,24 @@ def test_a_lug_pushed_towards_its_base_gets_no_tension_or_shear_out_margin():
     assert set(pull.margins) == {"net_section", "bearing", "shear_out"} and not pull.direction_note
     assert set(push.margins) == {"bearing"} and "towards its base" in push.table()
     assert push.as_dict()["direction_note"]
+
+
+# trial: a pin on a hole only to read its motion (a free spreading pin that no case loads)
+def test_a_free_unloaded_spreading_pin_leaves_the_kirsch_peak_unflagged():
+    # the spreading tie adds no stiffness and, free and unloaded, no force: the hole is traction-free and its
+    # peak is the part's own, sigma_xx = 3 S at the hole's top in a wide plate (G. Kirsch, 1898; W. D. Pilkey
+    # and D. F. Pilkey, Peterson's Stress Concentration Factors, 3rd ed., 2008, eq. 4.18). It was noted as
+    # made by the idealisation of the pin.
+    p = Plate.rectangle(400.0, 400.0, centre=(0.0, 0.0)).cut(Circle((0.0, 0.0), 10.0, name="hole"))
+    m = mesh(p, size=25.0, element="T6", refine=[Refine("hole", size=0.8, growth=1.25)])
+    model = planar.Model(m, planar.Isotropic(E, NU), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller((-200.0, -200.0), fixed="y"))
+    model.add_load(planar.Traction("right", tx=100.0), case="t")
+    model.add_pin(Pin("hole", tie="spreading", hold=None, name="gauge"))
+    r = planar.solve(model)["t"]
+    peak = r.max("sigma_xx", where="hole")
+    assert peak.value == pytest.approx(300.0, rel=0.03)  # a 400 mm plate: within 1 % of the infinite plate's
+    assert peak.note == ""
+    gauge = next(x for x in r.support_reactions() if x.name == "gauge")
+    assert np.abs(gauge.force).max() < 1e-9 * 100.0 * 400.0
