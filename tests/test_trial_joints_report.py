@@ -276,3 +276,31 @@ def test_plot_joint_refuses_a_scale_that_would_turn_the_arrows_round(lap):
             planar.post.plot_joint(lap, scale=bad)
     with pytest.raises(InputError, match="width"):
         planar.post.plot_joint(lap, width=0.0)
+
+
+def test_a_translucent_layer_is_filled_once_holes_left_open():
+    # a layer drawn as many translucent cells showed its mesh through the fill; one path covers it once,
+    # with a loop for the outline and one for each hole (the part's area: the plate less the hole)
+    from matplotlib.patches import PathPatch
+
+    from planar.geometry import Circle, Plate, mesh
+    from planar.post.picture import plot_model
+
+    p = Plate.rectangle(40.0, 20.0).cut(Circle((20.0, 10.0), 4.0, name="hole"))
+    a = planar.Model(mesh(p, size=2.0, element="T3"), planar.Isotropic(E=71e3, nu=0.33), thickness=1.0,
+                     units="N, mm, MPa")
+    b = planar.Model(planar.rectangle_mesh(40.0, 20.0, 8, 4, origin=(30.0, 0.0)), planar.Isotropic(E=71e3, nu=0.33),
+                     thickness=1.0, units="N, mm, MPa")
+    fig = plot_model(planar.Joint({"a": a, "b": b}))
+    fill = next(x for x in fig.axes[0].patches if x.get_gid() == "part:a")
+    assert isinstance(fill, PathPatch)
+    path = fill.get_path()
+    assert sum(c == path.CLOSEPOLY for c in path.codes) == 2
+    # drawn, the hole stays open: its centre keeps the background, a point of the plate is tinted
+    fig.canvas.draw()
+    rgba = np.asarray(fig.canvas.buffer_rgba())
+    h = rgba.shape[0]
+    px = lambda x, y: rgba[h - 1 - int(round(y)), int(round(x)), :3].astype(int)  # noqa: E731
+    inside_hole = fig.axes[0].transData.transform((20.0, 10.0))
+    on_plate = fig.axes[0].transData.transform((20.0, 3.0))
+    assert tuple(px(*inside_hole)) == (255, 255, 255) and tuple(px(*on_plate)) != (255, 255, 255)

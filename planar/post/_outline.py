@@ -17,7 +17,7 @@ import numpy as np
 
 from ._subdivide import _etype_of
 
-__all__ = ["Outline", "true_scale", "side_pairs", "dashed_sides", "DISTORTION"]
+__all__ = ["Outline", "true_scale", "side_pairs", "dashed_sides", "outline_path", "DISTORTION"]
 
 #: the largest relative change of length of any element side drawn at an automatic magnification
 DISTORTION = 0.03
@@ -169,6 +169,27 @@ class Outline:
             rank, q = rank + rank[q], q[q]
         order = np.lexsort((rank, lab))
         return order, rev, lab[order]
+
+
+def outline_path(outline: "Outline", positions):
+    """The outline at ``positions`` as one closed matplotlib Path (a loop per boundary, holes included), or None.
+
+    Filled, it covers the part once (a translucent fill of many cells shows their seams).
+    """
+    from matplotlib.path import Path
+
+    chain = outline.chain()
+    if chain is None:
+        return None
+    order, rev, loop = chain
+    P = outline.polylines(positions)
+    P = np.where(rev[:, None, None], P[:, ::-1], P)[order]
+    verts, codes = [], []
+    for grp in np.split(np.arange(order.size), np.flatnonzero(loop[1:] != loop[:-1]) + 1):
+        pts = P[grp, :-1].reshape(-1, 2)
+        verts += [pts, pts[:1]]
+        codes += [np.r_[Path.MOVETO, np.full(len(pts) - 1, Path.LINETO)], [Path.CLOSEPOLY]]
+    return Path(np.vstack(verts), np.concatenate(codes).astype(np.uint8))
 
 
 def dashed_sides(outline: "Outline", positions, dashes, *, linewidth: float, **kwargs):

@@ -150,13 +150,24 @@ def _draw_outline(sc: _Scene) -> None:
 
     from ._subdivide import subdivide
 
-    pts, tris, _, _ = subdivide(sc.mesh.nodes, {k: v for k, v in sc.mesh.cells.items() if np.asarray(v).size},
-                                subdivisions=2)
+    from ._outline import outline_path
+
     suffix = f":{sc.layer}" if sc.layer else ""
-    fill = PolyCollection(pts[tris], facecolors="#eceff2" if not sc.layer else "#c9d3dd", edgecolors="none",
-                          zorder=0, alpha=1.0 if not sc.layer else 0.45, antialiaseds=False)
+    path = outline_path(sc.outline, sc.mesh.nodes) if sc.layer else None
+    if path is not None:  # a translucent layer: one filled path (its cells' seams would show through)
+        from matplotlib.patches import PathPatch
+
+        fill = PathPatch(path, facecolor="#c9d3dd", edgecolor="none", alpha=0.45, zorder=0)
+    else:
+        pts, tris, _, _ = subdivide(sc.mesh.nodes, {k: v for k, v in sc.mesh.cells.items() if np.asarray(v).size},
+                                    subdivisions=2)
+        fill = PolyCollection(pts[tris], facecolors="#eceff2" if not sc.layer else "#c9d3dd", edgecolors="none",
+                              zorder=0, alpha=1.0 if not sc.layer else 0.45, antialiaseds=False)
     fill.set_gid("part" + suffix)
-    sc.ax.add_collection(fill)
+    if path is not None:
+        sc.ax.add_patch(fill)
+    else:
+        sc.ax.add_collection(fill)
     if sc.layer and sc.layer_index % 2:  # dashed, the pattern running on along the outline (and round its holes)
         from ._outline import dashed_sides
 
