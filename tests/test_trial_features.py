@@ -227,3 +227,13 @@ def test_printing_a_mesh_gives_a_summary():
     text = repr(m)
     assert text.startswith(f"Mesh({m.n_nodes} nodes; cells 2000 Q8;") and len(text) < 300
     assert "'left'" in text and "'corner_00'" in text and "'plate'" in text
+
+
+def test_margin_of_a_given_number_refuses_where():
+    # where= was silently ignored for a peak given as a number: the user believed the margin was the
+    # feature's. A margin from a number is still allowable / (FS x peak) - 1 (common practice)
+    from planar.post import margin_of_safety
+
+    assert margin_of_safety(100.0, allowable=200.0).margin == pytest.approx(1.0)
+    with pytest.raises(planar.InputError, match="where="):
+        margin_of_safety(100.0, allowable=200.0, where="top")

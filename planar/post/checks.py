@@ -354,6 +354,9 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         peak = abs(float(result_or_peak))
         if not math.isfinite(peak):
             raise InputError(f"the peak stress must be finite, got {result_or_peak!r}")
+        if where is not None:
+            raise InputError(f"where={where!r} limits the peak read from a result; a peak given as a number "
+                             f"({result_or_peak!r}) has no place to read it: pass the Result, or leave where= out")
         loc, fname, meth = (float("nan"), float("nan")), "given", "given"
         said, note, units = "given", "", ""
     else:
