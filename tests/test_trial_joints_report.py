@@ -304,3 +304,22 @@ def test_a_translucent_layer_is_filled_once_holes_left_open():
     inside_hole = fig.axes[0].transData.transform((20.0, 10.0))
     on_plate = fig.axes[0].transData.transform((20.0, 3.0))
     assert tuple(px(*inside_hole)) == (255, 255, 255) and tuple(px(*on_plate)) != (255, 255, 255)
+
+
+def test_holes_listed_out_of_order_are_refused():
+    # a fastener must sit in its own hole (common practice); holes given in the wrong order tied each
+    # fastener to its neighbour's hole with no complaint
+    from planar.geometry import Circle, Plate, Refine, mesh
+
+    p = Plate.rectangle(50.0, 40.0).cut(Circle((15.0, 12.0), 2.5, name="b1"), Circle((15.0, 28.0), 2.5, name="b2"))
+    lug = planar.Model(mesh(p, size=4.0, element="T3", refine=[Refine(["b1", "b2"], size=1.0)]),
+                       planar.Isotropic(E=72e3, nu=0.33), thickness=4.0, units="N, mm, MPa")
+    plate = planar.Model(planar.rectangle_mesh(40.0, 60.0, 10, 15, origin=(-15.0, -10.0)),
+                         planar.Isotropic(E=72e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    joint = planar.Joint({"lug": lug, "plate": plate})
+    pts = [(15.0, 12.0), (15.0, 28.0)]
+    with pytest.raises(InputError, match="fastener 1 at \\(15, 12\\) is not inside its hole 'b2'"):
+        joint.add_fasteners(planar.Fasteners(pts, layers=("lug", "plate"), diameter=5.0, flexibility=2e-5,
+                                             holes={"lug": ["b2", "b1"]}, name="bolts"))
+    joint.add_fasteners(planar.Fasteners(pts, layers=("lug", "plate"), diameter=5.0, flexibility=2e-5,
+                                         holes={"lug": ["b1", "b2"]}, name="bolts"))

@@ -292,6 +292,16 @@ class Joint:
         for layer, edges in fasteners.holes.items():
             if len(edges) != pts.shape[0]:
                 raise InputError(f"holes for layer {layer!r}: {len(edges)} edge names for {pts.shape[0]} fasteners")
+            mesh = self.layers[layer].mesh
+            for i, e in enumerate(edges):  # each fastener inside its own hole (holes listed out of order are refused)
+                ring = mesh.nodes[np.unique(np.asarray(mesh.edge(e))[:, :2])][:, :2]
+                lo, hi = ring.min(axis=0), ring.max(axis=0)
+                tol = 1e-6 * max(float((hi - lo).max()), fasteners.diameter)
+                if np.any(pts[i] < lo - tol) or np.any(pts[i] > hi + tol):
+                    c = 0.5 * (lo + hi)
+                    raise InputError(f"fasteners {fasteners.name!r}: fastener {i + 1} at ({pts[i, 0]:g}, {pts[i, 1]:g}) "
+                                     f"is not inside its hole {e!r} of layer {layer!r} (centred near ({c[0]:.4g}, "
+                                     f"{c[1]:.4g})); list the holes in the order of the points")
         self.fasteners.append(fasteners)
         return fasteners
 
