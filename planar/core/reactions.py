@@ -32,7 +32,7 @@ class Reaction:
         The support's description or the pin's name.
     kind : str
         ``"fixed"``, ``"roller"``, ``"prescribed"``, ``"symmetry"`` (the support's class, in lower case) or
-        ``"pin (rigid tie)"``, ``"pin (spreading tie)"``.
+        ``"pin (rigid tie)"``, ``"pin (spreading tie)"``, ``"pin (contact tie)"``.
     force : (float, float)
         (Rx, Ry) on the part, in the model's force unit.
     moment : float
