@@ -237,3 +237,27 @@ def test_margin_of_a_given_number_refuses_where():
     assert margin_of_safety(100.0, allowable=200.0).margin == pytest.approx(1.0)
     with pytest.raises(planar.InputError, match="where="):
         margin_of_safety(100.0, allowable=200.0, where="top")
+
+
+def test_edge_with_a_corner_keeps_each_sides_frame():
+    # an edge set of the top and the right end of a strip in uniform tension sigma_xx = 50 MPa (F / A,
+    # common practice): at the corner the top reads sigma_t = 50, sigma_n = 0 and the loaded end
+    # sigma_t = 0, sigma_n = 50. The corner node was read in the bisector's frame (25, 25, shear 25),
+    # which is neither side's stress, and a closed outline's peak moved off its corner
+    from planar.post import edge_stresses
+
+    base = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")
+    sets = dict(base.edge_sets)
+    sets["top_and_end"] = np.vstack([np.asarray(base.edge_sets["top"]), np.asarray(base.edge_sets["right"])])
+    m = planar.Mesh(base.nodes, base.cells, edge_sets=sets, node_sets=dict(base.node_sets))
+    model = planar.Model(m, planar.Isotropic(70e3, 0.3), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.Traction("right", tx=50.0), case="pull")
+    es = edge_stresses(planar.solve(model)["pull"], "top_and_end")
+    at = np.flatnonzero(np.hypot(es.points[:, 0] - 100.0, es.points[:, 1] - 20.0) < 1e-9)
+    assert at.size == 2  # once for each side
+    got = sorted((round(float(es.sigma_t[i]), 6), round(float(es.sigma_n[i]), 6)) for i in at)
+    assert got == [(0.0, 50.0), (50.0, 0.0)]
+    assert np.allclose(es.tau_nt, 0.0, atol=1e-9)
+    assert es.s[at[0]] == pytest.approx(es.s[at[1]])  # the same place along the edge

@@ -51,6 +51,9 @@ EDGE_FIELDS = {"sigma_t": r"tangential $\sigma_t$", "sigma_n": r"normal $\sigma_
                "tau_nt": r"shear $\tau_{nt}$", "von_mises": "von Mises"}
 #: a circle fitted to an edge is accepted when no point is farther from it than this fraction of the radius
 CIRCLE_TOLERANCE = 1e-4
+#: an edge turning by more than this many degrees at a node is at a corner there: the node is listed once
+#: for each side, in that side's frame (a hole of 12 straight element sides turns 30 degrees at a node)
+CORNER_TURN = 40.0
 
 
 class EdgePeak(NamedTuple):
@@ -356,14 +359,27 @@ def _orient(chains, seg, x, centre):
     return out
 
 
-def _frame_average(v: np.ndarray, closed: bool) -> np.ndarray:
-    """Unit vectors (m, k, 2) along a chain, averaged where two segments meet."""
+def _corners(t: np.ndarray, closed: bool) -> tuple[np.ndarray, bool]:
+    """Which junctions of a chain (segment j to j + 1; and the last to the first when closed) are corners:
+    the walking tangent (m, k, 2) turns there by more than :data:`CORNER_TURN` degrees."""
+    u = _unit(t)
+    c = math.cos(math.radians(CORNER_TURN))
+    inner = np.einsum("ij,ij->i", u[1:, 0], u[:-1, -1]) < c
+    wrap = bool(closed and float(np.dot(u[0, 0], u[-1, -1])) < c)
+    return inner, wrap
+
+
+def _frame_average(v: np.ndarray, closed: bool, corners: tuple[np.ndarray, bool] | None = None) -> np.ndarray:
+    """Unit vectors (m, k, 2) along a chain, averaged where two segments meet (not at a corner, where
+    each side keeps its own frame: a bisector frame would mix the two sides' stresses)."""
     v = _unit(v)
+    inner, wrap = corners if corners is not None else (np.zeros(max(v.shape[0] - 1, 0), bool), False)
     if v.shape[0] > 1:
         mean = _unit(v[1:, 0] + v[:-1, -1])
-        v[1:, 0] = mean
-        v[:-1, -1] = mean
-    if closed:
+        smooth = ~inner
+        v[1:, 0][smooth] = mean[smooth]
+        v[:-1, -1][smooth] = mean[smooth]
+    if closed and not wrap:
         mean = _unit(v[0, 0] + v[-1, -1])
         v[0, 0] = v[-1, -1] = mean
     return v
@@ -457,12 +473,14 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
         full = _sample(coords, np.ones((segs.size, 1)), vals[seg[segs]])[3][:, 0]
         arc = np.where(fwd[:, None], arc, full[:, None] - arc)
         s = np.concatenate([[0.0], np.cumsum(full)[:-1]])[:, None] + arc
-        t = _frame_average(np.where(fwd[:, None, None], tang, -tang), closed)
-        n = _frame_average(np.stack([tang[..., 1], -tang[..., 0]], axis=-1), closed)
+        walk = np.where(fwd[:, None, None], tang, -tang)
+        corners = _corners(walk, closed)
+        t = _frame_average(walk, closed, corners)
+        n = _frame_average(np.stack([tang[..., 1], -tang[..., 0]], axis=-1), closed, corners)
         cidx = np.where(fwd[:, None], col[None, :], col[::-1][None, :])  # xi0 is symmetric about 0
         node = np.where(cidx >= 0, np.take_along_axis(seg[segs], np.maximum(cidx, 0), axis=1), -1)
         keep = np.ones(xi.shape, bool)
-        keep[:-1, -1] = False  # a node shared by two segments once
+        keep[:-1, -1] = corners[0]  # a node shared by two segments once; at a corner once per side
         for key, arr in (("s", s), ("x", pts), ("t", t), ("n", n), ("v", v), ("node", node)):
             parts[key].append(arr[keep])
         parts["piece"].append(np.full(int(keep.sum()), k))
