@@ -323,3 +323,24 @@ def test_holes_listed_out_of_order_are_refused():
                                              holes={"lug": ["b2", "b1"]}, name="bolts"))
     joint.add_fasteners(planar.Fasteners(pts, layers=("lug", "plate"), diameter=5.0, flexibility=2e-5,
                                          holes={"lug": ["b1", "b2"]}, name="bolts"))
+
+
+def test_prescribed_motion_drawn_outside_the_part_its_label_clear_of_the_arrow():
+    # an edge moved outwards by ux = 0.05 mm: the arrow drawn into the part hid under its own label
+    from planar.post.picture import plot_model
+
+    model = planar.Model(planar.rectangle_mesh(100.0, 50.0, 10, 5), planar.Isotropic(E=70e3, nu=0.3),
+                         thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Symmetry("left"))
+    model.add_support(planar.Symmetry("bottom"))
+    model.add_support(planar.Prescribed("right", ux=0.05))
+    fig = plot_model(model)
+    fig.canvas.draw()
+    kids = fig.axes[0].get_children()
+    arrow = next(a for a in kids if a.get_gid() == "support:prescribed:right")
+    label = next(a for a in kids if a.get_gid() == "support:prescribed-value:right")
+    (x0, _), (x1, _) = arrow.xyann, arrow.xy
+    assert min(x0, x1) >= 100.0 - 1e-9 and x1 > x0          # outside the part, pointing along +x
+    r = fig.canvas.get_renderer()
+    head = fig.axes[0].transData.transform(arrow.xy)
+    assert label.get_text() == "ux = 0.05 mm" and label.get_window_extent(r).x0 >= head[0] - 0.5

@@ -318,16 +318,25 @@ def _draw_supports(sc: _Scene) -> None:
                 sign = 1.0 if callable(v) or float(v) >= 0 else -1.0
                 vals.append((comp, v, np.array(e) * sign))
             for comp, v, e in vals:
-                p0 = pts[len(pts) // 2]
-                tail = p0 - e * 0.09 * L
-                ann = ax.annotate("", xy=(p0[0], p0[1]), xytext=(tail[0], tail[1]), zorder=6,
+                p0, n0 = pts[len(pts) // 2], nrm[len(pts) // 2]
+                en = float(e @ n0)
+                # outside the part, the label beyond the arrow: an arrow drawn into the part hid under its label
+                if en > 0.5:     # moved outwards: from the edge out
+                    tail, head = p0, p0 + e * 0.09 * L
+                elif en < -0.5:  # moved inwards: from outside onto the edge
+                    tail, head = p0 - e * 0.09 * L, p0
+                else:            # along the edge: beside it, outside
+                    tail, head = p0 + n0 * 0.04 * L - e * 0.045 * L, p0 + n0 * 0.04 * L + e * 0.045 * L
+                ann = ax.annotate("", xy=(head[0], head[1]), xytext=(tail[0], tail[1]), zorder=6,
                                   arrowprops=dict(arrowstyle="]->,widthA=0.6,lengthA=0", color="#8a5a00", lw=1.6))
                 ann.set_gid(f"support:prescribed:{tag}")
                 txt = f"{comp} = {'f(x, y)' if callable(v) else _with(float(v), sc.unit('length'))}"
-                up = nrm[len(pts) // 2] * 0.03 * L
-                tt = ax.text(tail[0] + up[0], tail[1] + up[1], txt, fontsize=7.5, color="#8a5a00", ha="center",
-                             va="center", zorder=7, bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none",
-                                                              alpha=0.8))
+                far = head if float(head @ n0) >= float(tail @ n0) else tail
+                up = n0 * 0.015 * L  # the text starts beyond the arrow, on the side the edge faces
+                tt = ax.text(far[0] + up[0], far[1] + up[1], txt, fontsize=7.5, color="#8a5a00",
+                             ha="left" if n0[0] > 0.5 else "right" if n0[0] < -0.5 else "center",
+                             va="bottom" if n0[1] > 0.5 else "top" if n0[1] < -0.5 else "center", zorder=7,
+                             bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none", alpha=0.8))
                 tt.set_gid(f"support:prescribed-value:{tag}")
             sc.add_legend("prescribed", Line2D([], [], color="#8a5a00", lw=1.6, marker="|", ms=9))
         else:  # a support of a kind this picture does not know: its place, named
