@@ -261,3 +261,30 @@ def test_edge_with_a_corner_keeps_each_sides_frame():
     assert got == [(0.0, 50.0), (50.0, 0.0)]
     assert np.allclose(es.tau_nt, 0.0, atol=1e-9)
     assert es.s[at[0]] == pytest.approx(es.s[at[1]])  # the same place along the edge
+
+
+def _two_case_strap(width: float = 20.0):
+    """A strap with two load cases: 'pull' (2000 N) and 'half' (1000 N) on its right end."""
+    m = planar.rectangle_mesh(100.0, width, 4, 2, "Q8")
+    model = planar.Model(m, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.Traction("right", tx=2000.0 / (width * 2.0)), case="pull")
+    model.add_load(planar.Traction("right", tx=1000.0 / (width * 2.0)), case="half")
+    return planar.solve(model)
+
+
+def test_sweep_text_output_names_its_load_case():
+    # a sweep over a model with several load cases could not be read from the command line: the text
+    # form had no way to name a case, and the refusal said "case=..." which the command line cannot take
+    from planar.studies import sweep
+    from planar.studies.outputs import Peak, parse_output
+
+    assert parse_output("max:von_mises on right in pull") == Peak("von_mises", case="pull", where="right")
+    t = sweep(_two_case_strap, grid={"width": [20.0, 40.0]},
+              outputs={"pull": "max:sigma_xx on right in pull", "half": "max:sigma_xx in half"}, workers=0)
+    # F / (w t), uniform (common practice)
+    assert t.column("pull") == pytest.approx([50.0, 25.0], rel=1e-9)
+    assert t.column("half") == pytest.approx([25.0, 12.5], rel=1e-9)
+    bad = sweep(_two_case_strap, grid={"width": [20.0]}, outputs={"x": "max:sigma_xx"}, workers=0)
+    assert "in CASE" in bad.records[0]["error"]["message"]

@@ -142,7 +142,8 @@ def _pick(results: dict, case, name: str):
         if len(results) == 1:
             return next(iter(results.values()))
         raise InputError(f"output {name!r}: the result has several load cases ({', '.join(map(repr, results))}); "
-                         "name one with case=...")
+                         "name one with case=... (in a text form, end it in 'in CASE', e.g. 'max:von_mises in "
+                         f"{next(iter(results))}')")
     if case not in results:
         raise unknown_name("load case", case, results)
     return results[case]

@@ -236,6 +236,7 @@ class SafetyMargin(_ZonedRepr, Output):
 _OUTPUT_FORMS = ("max:FIELD", "min:FIELD", "absmax:FIELD", "at:X,Y:FIELD", "kt:FIELD:NOMINAL",
                  "margin:FIELD:ALLOWABLE[:FS]")
 _ZONE_WORDS = re.compile(r"\s+on\s+([^\s@]+)")
+_CASE_WORDS = re.compile(r"\s+in\s+([^\s@]+)")
 
 
 def parse_output(text: str) -> Output:
@@ -245,7 +246,8 @@ def parse_output(text: str) -> Output:
     ``margin:FIELD:ALLOWABLE[:FS]``, each optionally ending in ``@average`` or ``@spr`` (the stress
     recovery, default spr). NOMINAL, ALLOWABLE and FS are numbers or names of parameters or of values
     the function returns. A peak, Kt or margin read on one feature adds ``on NAME``, the name of an
-    edge or region (``max:von_mises on fillet``, ``kt:sigma_xx:nominal on bolt_hole@average``).
+    edge or region (``max:von_mises on fillet``, ``kt:sigma_xx:nominal on bolt_hole@average``); a
+    result with several load cases is read in one named by ``in CASE`` (``max:von_mises on hole in pull``).
 
     Examples
     --------
@@ -255,6 +257,8 @@ def parse_output(text: str) -> Output:
     Peak(field='von_mises', method='spr', kind='max', case=None, where='fillet')
     >>> parse_output("at:10,2.5:uy")
     ValueAt(point=(10.0, 2.5), field='uy', method='spr', case=None)
+    >>> parse_output("max:von_mises on hole in pull")
+    Peak(field='von_mises', method='spr', kind='max', case='pull', where='hole')
     """
     s = str(text).strip()
     zones = _ZONE_WORDS.findall(s)
@@ -262,6 +266,11 @@ def parse_output(text: str) -> Output:
     if len(zones) > 1:
         raise InputError(f"output {text!r} names {len(zones)} zones ({', '.join(zones)}); give one: ... on NAME")
     s = _ZONE_WORDS.sub("", s).strip()
+    cases = _CASE_WORDS.findall(s)  # "... in CASE": the load case of a result with several
+    if len(cases) > 1:
+        raise InputError(f"output {text!r} names {len(cases)} load cases ({', '.join(cases)}); give one: ... in CASE")
+    case = cases[0] if cases else None
+    s = _CASE_WORDS.sub("", s).strip()
     method = "spr"
     if "@" in s:
         s, method = s.rsplit("@", 1)
@@ -276,17 +285,17 @@ def parse_output(text: str) -> Output:
 
     try:
         if kind in ("max", "min", "absmax") and len(parts) == 2:
-            return Peak(parts[1], method=method, kind=kind, where=where)
+            return Peak(parts[1], method=method, kind=kind, case=case, where=where)
         if kind == "at" and len(parts) == 3:
             if where is not None:
                 raise InputError(f"output {text!r}: a value at a point takes no zone; drop 'on {where}'")
             xy = [float(c) for c in parts[1].split(",")]
-            return ValueAt(tuple(xy), parts[2], method=method)
+            return ValueAt(tuple(xy), parts[2], method=method, case=case)
         if kind == "kt" and len(parts) == 3:
-            return ConcentrationFactor(num_or_name(parts[2]), parts[1], method=method, where=where)
+            return ConcentrationFactor(num_or_name(parts[2]), parts[1], method=method, case=case, where=where)
         if kind == "margin" and len(parts) in (3, 4):
             fs = num_or_name(parts[3]) if len(parts) == 4 else 1.0
-            return SafetyMargin(num_or_name(parts[2]), fs, parts[1], method=method, where=where)
+            return SafetyMargin(num_or_name(parts[2]), fs, parts[1], method=method, case=case, where=where)
     except InputError:
         raise
     except ValueError:  # coordinates that are not numbers
