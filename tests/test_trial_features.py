@@ -288,3 +288,25 @@ def test_sweep_text_output_names_its_load_case():
     assert t.column("half") == pytest.approx([25.0, 12.5], rel=1e-9)
     bad = sweep(_two_case_strap, grid={"width": [20.0]}, outputs={"x": "max:sigma_xx"}, workers=0)
     assert "in CASE" in bad.records[0]["error"]["message"]
+
+
+def test_hot_spots_of_the_hoop_stress_about_a_centre(tmp_path):
+    # polar stresses are fields like any other, but hot_spots could not take them (no centre). A thick
+    # ring a = 20, b = 40 under internal pressure p = 100 MPa: Lame's hoop stress peaks at the bore,
+    # p a^2 / (b^2 - a^2) (1 + b^2 / a^2) = 166.7 MPa (G. Lame 1852; Timoshenko and Goodier, Theory of
+    # Elasticity, 1970, art. 28)
+    from planar.geometry import mesh
+    from planar.post import hot_spots, plot_hot_spots
+
+    ring = Plate(Circle((0.0, 0.0), 40.0, name="outer")).cut(Circle((0.0, 0.0), 20.0, name="bore")).quarter()
+    model = planar.Model(mesh(ring, size=2.5), planar.Isotropic(200e3, 0.3), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Symmetry("symmetry_x"))
+    model.add_support(planar.Symmetry("symmetry_y"))
+    model.add_load(planar.Pressure("bore", 100.0), case="p")
+    r = planar.solve(model)["p"]
+    hs = hot_spots(r, "sigma_theta", centre=(0.0, 0.0), allowable=300.0)
+    assert hs.governing is not None and hs.governing.feature == "bore"
+    assert hs.governing.value == pytest.approx(100.0 * 400.0 / 1200.0 * (1.0 + 1600.0 / 400.0), rel=0.01)
+    assert "about (0, 0)" in hs.table() and hs.as_dict()["centre"] == [0.0, 0.0]
+    plot_hot_spots(hs, tmp_path / "hoop.png")
+    assert (tmp_path / "hoop.png").read_bytes()[:4] == b"\x89PNG"

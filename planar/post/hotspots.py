@@ -63,7 +63,7 @@ from typing import Any, Sequence
 import numpy as np
 
 from ..core.errors import InputError, fmt_point, unknown_name
-from ..core.result import STRESS_FIELDS, as_result
+from ..core.result import POLAR_FIELDS, STRESS_FIELDS, as_result
 from ..core.values import number
 from ._peaks import cell_graph, chain_maxima, edge_chains, mesh_graph, neighbour_max
 
@@ -167,6 +167,8 @@ class HotSpots:
     threshold: float = 0.0
     rule: str = ""
     result: Any = _field(default=None, repr=False, compare=False)
+    #: the centre of a polar field's axes (None for other fields)
+    centre: tuple[float, float] | None = None
 
     def __len__(self) -> int:
         return len(self.spots)
@@ -208,6 +210,7 @@ class HotSpots:
             row.append(remark)
             rows.append(row)
         title = f"hot spots of {self.field} ({self.recovery} recovery), load case {self.case!r}" + \
+                ("" if self.centre is None else f", about {fmt_point(self.centre)}") + \
                 ("" if self.where == "everywhere" else f", {self.where}")
         if not rows:
             return f"{title}: none ({self.rule})" + ("" if self.length else "; units not stated (consistent)")
@@ -245,6 +248,7 @@ class HotSpots:
                           "length_unit": self.length, "where": self.where, "nominal": self.nominal,
                           "allowable": self.allowable, "factor_of_safety": self.factor_of_safety,
                           "threshold": self.threshold, "rule": self.rule,
+                          **({} if self.centre is None else {"centre": list(self.centre)}),
                           "governing": None if gov is None else gov.rank,
                           "spots": [s.as_dict() for s in self.spots]})
 
@@ -292,7 +296,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
               allowable: float | None = None, factor_of_safety: float = 1.0, where=None,
               edges: Sequence[str] | str | None = None, regions: Sequence[str] | str | None = None,
               top: int | None = None, absolute: bool = False, prominence: float = PROMINENCE,
-              merge: float = MERGE_ELEMENTS) -> HotSpots:
+              merge: float = MERGE_ELEMENTS, centre=None) -> HotSpots:
     """The local peaks of a field along each named edge and inside each region, ranked.
 
     Parameters
@@ -322,6 +326,8 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         Fraction of the field's range a peak must rise above the saddle to a higher one.
     merge : float, default :data:`MERGE_ELEMENTS`
         Maxima closer than this many local element sizes are one peak.
+    centre : (float, float), optional
+        The centre of the polar fields (``sigma_r``, ``sigma_theta``, ``tau_r_theta``), e.g. a hole's.
 
     Returns
     -------
@@ -346,7 +352,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     nom = None if nominal is None else number(nominal, "the nominal stress", positive=True)
     allow = None if allowable is None else number(allowable, "the allowable", positive=True)
     fs = number(factor_of_safety, "the factor of safety", positive=True)
-    if allow is not None and field not in STRESS_FIELDS:
+    if allow is not None and field not in STRESS_FIELDS and field not in POLAR_FIELDS:
         raise InputError(f"a margin of safety compares a stress with the allowable; {field!r} is not a stress "
                          f"field (pick one of {', '.join(STRESS_FIELDS)}) or leave allowable out")
     if top is not None and (isinstance(top, bool) or not isinstance(top, (int, np.integer)) or top < 1):
@@ -358,7 +364,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     region_names = _names(regions, mesh.region_names(), "region")
     keep_mask, said = result.zone_mask(where) if where is not None else (None, "everywhere")
 
-    raw = np.asarray(result.field(field, recovery=recovery), dtype=float)
+    raw = np.asarray(result.field(field, recovery=recovery, centre=centre), dtype=float)
     used = mesh.used_nodes() & np.isfinite(raw)
     v = np.where(used, np.abs(raw) if absolute else raw, -np.inf)
     units = getattr(result, "units", None)
@@ -489,7 +495,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
                              reason, next_to, also))
     return HotSpots(spots, field, recovery, result.case, unit, length, nom, allow, fs, said, float(delta), rule,
-                    result)
+                    result, None if centre is None else tuple(float(c) for c in centre))
 
 
 def _at(mesh, i: int) -> tuple[float, float]:
@@ -557,7 +563,7 @@ def plot_hot_spots(result_or_spots, path: str | os.PathLike | None = None, *, wi
     if title is None:
         title = f"hot spots of {field_label(hs.field)}, load case '{hs.case}'"
     fig = plot_field(result, hs.field, recovery=hs.recovery, scale=None, mark_peak=False, mesh_lines=mesh_lines,
-                     levels=levels, title=title, window=window, ax=ax)
+                     levels=levels, title=title, window=window, ax=ax, centre=hs.centre)
     axes = ax if ax is not None else fig.axes[0]
     gov = hs.governing
     handles = []
