@@ -344,3 +344,13 @@ def test_prescribed_motion_drawn_outside_the_part_its_label_clear_of_the_arrow()
     r = fig.canvas.get_renderer()
     head = fig.axes[0].transData.transform(arrow.xy)
     assert label.get_text() == "ux = 0.05 mm" and label.get_window_extent(r).x0 >= head[0] - 0.5
+
+
+def test_report_of_a_layer_alone_has_its_joint_tables(lap):
+    # issue 18: stress_check_report(result) with nothing else gives the joint tables when the model has them
+    from planar.post import stress_check_report
+
+    rep = stress_check_report(lap.layers["top"], picture=False, results=[], hot_spots=False)
+    assert "Joints and fasteners" in [s.title for s in rep.sections]
+    rep = stress_check_report(lap.layers["top"], picture=False, results=[], hot_spots=False, omit=["joints"])
+    assert "Joints and fasteners" not in [s.title for s in rep.sections]

@@ -233,6 +233,8 @@ class JointResult:
         self._ends = ends
         self.timer = timer
         self._table = None
+        for r in layers.values():  # a layer's report finds its joint (its fastener tables) from the layer alone
+            r.joint_result = self
 
     def __repr__(self):
         return f"JointResult(case={self.case!r}, layers={list(self.layers)}, {sum(s['points'].shape[0] for s in self._springs)} springs)"

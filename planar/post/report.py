@@ -542,7 +542,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         The load combinations of the job, listed with the inputs (a combined result lists its own).
     contact, joints : optional
         Contact states (default ``result.contact_states`` when present) and a joint result (its
-        ``section()``, or its fastener table): each gets a section when given.
+        ``section()``, or its fastener table; default the joint of a joint's layer): each gets a
+        section when given.
     prepared_by, checked_by, approved_by, revision, signed_date : str
         The sign-off block; the revision is also printed on every page.
     script : path, optional
@@ -585,6 +586,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     if getattr(result, "warnings", None):
         sections.append(warnings_section(result.warnings))
     analysed: list = [KeyValues(list(part), caption="The part")] if part else []
+    if joints is None:  # a joint's layer: its joint's tables, as the contact states below
+        joints = getattr(result, "joint_result", None)
     if fasteners is None and joints is not None and hasattr(joints, "fasteners"):  # a joint's fasteners in this layer
         layer = next((k for k, r in getattr(joints, "layers", {}).items() if r is result), None)
         fasteners = [h["point"] for h in joints.fasteners.holes if h["layer"] == layer] or None
