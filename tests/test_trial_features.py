@@ -310,3 +310,19 @@ def test_hot_spots_of_the_hoop_stress_about_a_centre(tmp_path):
     assert "about (0, 0)" in hs.table() and hs.as_dict()["centre"] == [0.0, 0.0]
     plot_hot_spots(hs, tmp_path / "hoop.png")
     assert (tmp_path / "hoop.png").read_bytes()[:4] == b"\x89PNG"
+    # Kt and margins read the hoop stress too
+    from planar.post import kt, margin_of_safety
+
+    assert kt(r, 100.0, field="sigma_theta", centre=(0.0, 0.0), where="bore").Kt == pytest.approx(
+        hs.governing.value / 100.0, rel=1e-9)
+    ms = margin_of_safety(r, allowable=300.0, field="sigma_theta", centre=(0.0, 0.0), where="bore")
+    assert ms.margin == pytest.approx(300.0 / hs.governing.value - 1.0, rel=1e-9)
+    # and a radial cut through the wall reads Lame's hoop and radial stresses
+    from planar.post import path_stresses
+
+    cut = path_stresses(r, (20.0, 0.0), (40.0, 0.0), fields=("sigma_theta", "sigma_r"), centre=(0.0, 0.0),
+                        n_points=5)
+    rad = np.linspace(20.0, 40.0, 5)
+    k = 100.0 * 400.0 / 1200.0
+    assert cut.values["sigma_theta"] == pytest.approx(k * (1 + 1600.0 / rad**2), rel=0.01)
+    assert cut.values["sigma_r"] == pytest.approx(k * (1 - 1600.0 / rad**2), abs=1.0)

@@ -60,8 +60,12 @@ class _OldMethodName:
 
 
 def _check_field(name: str) -> str:
-    if name not in STRESS_FIELDS:
-        raise InputError(f"unknown stress field {name!r}; pick one of {', '.join(STRESS_FIELDS)}")
+    from ..core.fields import names as _field_names
+
+    polar = _field_names(kind="polar")
+    if name not in STRESS_FIELDS and name not in polar:
+        raise InputError(f"unknown stress field {name!r}; pick one of {', '.join(STRESS_FIELDS)} or, about a "
+                         f"centre=(x, y), {', '.join(polar)}")
     return name
 
 
@@ -214,7 +218,7 @@ class StressConcentration(_OldMethodName):
 
 @renamed_keywords(method="recovery")
 def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr",
-       absolute: bool = False, where=None) -> StressConcentration:
+       absolute: bool = False, where=None, centre=None) -> StressConcentration:
     """Stress concentration factor of a result.
 
     Parameters
@@ -233,6 +237,8 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
         Read the peak of the feature under check only: an edge or region name, or a zone
         (:mod:`planar.core.zones`: ``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``,
         ``Away``). Default everywhere; a peak next to an idealised support or load is noted.
+    centre : (float, float), optional
+        The centre of the polar fields (``sigma_theta``: the hoop stress about a hole's centre).
 
     Returns
     -------
@@ -252,7 +258,7 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
         raise InputError(f"nominal must be a stress value, got {nominal!r}") from None
     if not math.isfinite(nom) or nom == 0:
         raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
-    ext = result.max(field, recovery=recovery, absolute=absolute, where=where)
+    ext = result.max(field, recovery=recovery, absolute=absolute, where=where, centre=centre)
     peak, loc, node = ext
     if nom < 0:
         warn(f"negative nominal stress {nom:.6g} in Kt (load case {result.case!r}, {field} peak {peak:.6g} at "
@@ -316,7 +322,7 @@ class Margin(_OldMethodName):
 
 @renamed_keywords(method="recovery")
 def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float = 1.0, *,
-                     field: str = "von_mises", recovery: str = "spr", where=None) -> Margin:
+                     field: str = "von_mises", recovery: str = "spr", where=None, centre=None) -> Margin:
     """Margin of safety of the peak stress against an allowable.
 
     Parameters
@@ -331,7 +337,9 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         Stress field of the peak (ignored for a given peak value).
     recovery : {"spr", "average"}
     where : str or Zone, optional
-        Read the peak of the feature under check only (as in :func:`kt`); ignored for a given peak.
+        Read the peak of the feature under check only (as in :func:`kt`); refused for a given peak.
+    centre : (float, float), optional
+        The centre of the polar fields (as in :func:`kt`).
 
     Returns
     -------
@@ -363,7 +371,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
         _check_field(field)
         _check_recovery(recovery)
-        ext = result_or_peak.max(field, recovery=recovery, absolute=True, where=where)
+        ext = result_or_peak.max(field, recovery=recovery, absolute=True, where=where, centre=centre)
         peak, loc, _ = ext
         peak = abs(peak)
         said, note, units = ext.where, ext.note, result_or_peak.units
@@ -488,7 +496,7 @@ def _path_notes(result, pts: np.ndarray, values: dict[str, np.ndarray], recovery
 
 @renamed_keywords(method="recovery")
 def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", "von_mises"), *,
-                  n_points: int = 101, recovery: str = "spr") -> PathStresses:
+                  n_points: int = 101, recovery: str = "spr", centre=None) -> PathStresses:
     """Recovered stresses along the straight path from ``start`` to ``end``.
 
     Parameters
@@ -498,6 +506,9 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     fields : str or sequence of str
     n_points : int
     recovery : {"spr", "average"}
+    centre : (float, float), optional
+        The centre of the polar fields (``sigma_r``, ``sigma_theta``: radial and hoop stresses along a
+        radial cut from a hole).
 
     Returns
     -------
@@ -522,7 +533,7 @@ def path_stresses(result, start, end, fields=("sigma_xx", "sigma_yy", "tau_xy", 
     values = {}
     dist = pts = None
     for f in names:
-        dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), recovery=recovery)
+        dist, pts, values[f] = result.along(a, b, f, n_points=int(n_points), recovery=recovery, centre=centre)
     return PathStresses(tuple(a.tolist()), tuple(b.tolist()), dist, pts, values, recovery,
                         _path_notes(result, pts, values, recovery), units=result.units)
 
