@@ -326,3 +326,21 @@ def test_hot_spots_of_the_hoop_stress_about_a_centre(tmp_path):
     k = 100.0 * 400.0 / 1200.0
     assert cut.values["sigma_theta"] == pytest.approx(k * (1 + 1600.0 / rad**2), rel=0.01)
     assert cut.values["sigma_r"] == pytest.approx(k * (1 - 1600.0 / rad**2), abs=1.0)
+
+
+def test_show_notes_a_units_override_that_differs_from_the_file(tmp_path, capsys):
+    # a file written in kip-in-ksi drawn with --units "N, mm, MPa" was relabelled silently (the numbers
+    # stay kip and inch ones)
+    from planar.cli import main
+
+    m = planar.rectangle_mesh(10.0, 2.0, 4, 2, "Q8")
+    model = planar.Model(m, planar.Isotropic(10.3e3, 0.33), thickness=0.25, units="kip-in-ksi")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="pull")
+    path = tmp_path / "kip.vtu"
+    planar.write_vtu(path, planar.solve(model)["pull"])
+    assert main(["show", str(path), "--units", "N, mm, MPa", "--png", str(tmp_path / "a.png")]) == 0
+    err = capsys.readouterr().err
+    assert "the file states kip, in, ksi" in err and "N, mm, MPa" in err
+    assert main(["show", str(path), "--units", "kip-in-ksi", "--png", str(tmp_path / "b.png")]) == 0
+    assert "the file states" not in capsys.readouterr().err

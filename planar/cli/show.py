@@ -72,6 +72,21 @@ def run(args: argparse.Namespace) -> int:
                     warnings.showwarning(w.message, w.category, w.filename, w.lineno)
 
 
+def _say_override(args, changed: str) -> None:
+    """A note on standard error when --units names a system other than the one the file states."""
+    from ..core.units import unit_system
+    from ..post.files import file_units, read_result_file
+
+    try:
+        asked = unit_system(args.units)
+    except InputError:  # one unit (e.g. "MPa"), not a system: nothing to compare
+        return
+    stated = file_units(read_result_file(args.result, changed=changed), args.result)
+    if stated is not None and stated.stated and asked.stated and stated.name != asked.name:
+        print(f"planar show: note: the file states {stated.label}; the picture is labelled {asked.label} as "
+              "--units asks (the numbers are not converted)", file=sys.stderr)
+
+
 def _show_file(args) -> int:
     from ..core.units import figure_units
     from ..post.plots import MAX_LEVELS, plot_vtu, vtu_fields
@@ -97,6 +112,7 @@ def _show_file(args) -> int:
         raise InputError(f"--png needs a file name ending in .png, got {str(png)!r}")
     if args.units:
         figure_units(args.field, args.units)  # checked before the file is read: a system or one known unit
+        _say_override(args, changed)
     if args.scale is not None and args.scale < 0:
         raise InputError(f"--scale must not be negative, got {args.scale:g}")
     plot_vtu(args.result, args.field, png=png, units=args.units or None, deformed=not args.undeformed,
