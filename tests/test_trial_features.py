@@ -344,3 +344,22 @@ def test_show_notes_a_units_override_that_differs_from_the_file(tmp_path, capsys
     assert "the file states kip, in, ksi" in err and "N, mm, MPa" in err
     assert main(["show", str(path), "--units", "kip-in-ksi", "--png", str(tmp_path / "b.png")]) == 0
     assert "the file states" not in capsys.readouterr().err
+
+
+def test_smallest_von_mises_next_to_a_clamp_is_not_called_a_peak():
+    # the least stressed point of a clamped cantilever (von Mises on the neutral axis at the clamp) was
+    # noted "a peak there is made by the idealisation", in Result.min and in every envelope summary: a
+    # false alarm, as a measure that is never negative has no compressive peak
+    from planar.post import envelope
+
+    m = planar.rectangle_mesh(10.0, 2.0, 8, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(1e4, 0.3), units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=1.0), case="a")
+    res = planar.solve(model)
+    r = res["a"]
+    assert r.min("von_mises").note == ""
+    text = str(envelope(res, "von_mises"))
+    assert "the min sits" not in text and "the max sits next to the support" in text
+    # a signed field's most compressive value at the clamp is still noted (the clamp's corner)
+    assert r.min("sigma_xx").note.startswith("next to the support Fixed('left')")

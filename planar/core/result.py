@@ -282,8 +282,10 @@ class Result(CaseResult):
         a = np.abs(v) if absolute else v
         i = int(np.argmax(np.where(mask, a, -np.inf))) if largest else int(np.argmin(np.where(mask, a, np.inf)))
         note = ""
-        if largest or not absolute:
-            # a smallest (most compressive) value is flagged on its magnitude, the same way
+        info = FIELD_TABLE.get(field)
+        if largest or (not absolute and (info is None or info.signed)):
+            # a smallest (most compressive) value is flagged on its magnitude, the same way; the smallest
+            # of a measure that is never negative (von Mises, displacement) is no peak and is not flagged
             note = idealised_reason(self, i, a if largest else -a, mask, sign_of_values=1.0 if largest else -1.0)
         from ._advice_linear import has_linear, linear_peak
 

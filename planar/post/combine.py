@@ -558,8 +558,12 @@ def envelope(results: Mapping[str, Result], field: str = "von_mises", *, recover
 
     i = int(np.nanargmax(np.where(zone, vmax, np.nan)))
     j = int(np.nanargmin(np.where(zone, vmin, np.nan)))
+    from ..core.fields import FIELD_TABLE
+
+    info = FIELD_TABLE.get(field)
+    # the smallest of a measure that is never negative (von Mises, displacement) is no peak: no note
     notes = (idealised_reason(first, i, vmax, zone),
-             idealised_reason(first, j, -vmin, zone, sign_of_values=-1.0))
+             idealised_reason(first, j, -vmin, zone, sign_of_values=-1.0) if info is None or info.signed else "")
     return Envelope(field, recovery, names, vmax, vmin, gmax.astype(np.int64), gmin.astype(np.int64),
                     first.mesh.nodes, dict(first.mesh.cells), first.units, etypes,
                     said, None if where is None else zone, notes)
