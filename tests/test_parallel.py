@@ -134,11 +134,11 @@ def test_numeric_phase_waits_for_the_background_build(monkeypatch):
     seen = []
     real = static.factorize
 
-    def factorize(lower, method, *, rigid_modes=None, after_ordering=None):
+    def factorize(lower, method, *, rigid_modes=None, after_ordering=None, **kw):
         assert after_ordering is not None
         after_ordering()  # where PARDISO calls it: between ordering and numeric factorization
         seen.append([f.done() for f in pending(lower)])
-        return real(lower, method, rigid_modes=rigid_modes)
+        return real(lower, method, rigid_modes=rigid_modes, **kw)
 
     model = _model("T6", 40, 10)
     holder = {}
