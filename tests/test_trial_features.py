@@ -363,3 +363,25 @@ def test_smallest_von_mises_next_to_a_clamp_is_not_called_a_peak():
     assert "the min sits" not in text and "the max sits next to the support" in text
     # a signed field's most compressive value at the clamp is still noted (the clamp's corner)
     assert r.min("sigma_xx").note.startswith("next to the support Fixed('left')")
+
+
+def test_half_model_hole_reads_theta_from_minus_90_to_90():
+    # the hole of a half model kept on x >= 0 read theta from 270 to 450 degrees; an engineer plots it
+    # from -90 to 90. Kirsch (1898; Timoshenko and Goodier 1970, art. 35) under tension S along y:
+    # sigma_t / S = 1 + 2 cos 2 theta, 3 S at theta = 0
+    from planar.geometry import Refine, mesh
+    from planar.post import edge_stresses
+
+    p = Plate.rectangle(200.0, 200.0, centre=(0.0, 0.0)).cut(Circle((0.0, 0.0), 5.0, name="hole")).half("x")
+    m = mesh(p, size=10.0, refine=[Refine("hole", size=0.6)])
+    model = planar.Model(m, planar.Isotropic(200e3, 0.3), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Symmetry("symmetry_x"))
+    model.add_support(planar.Roller((0.0, -100.0), fixed="y"))
+    model.add_load(planar.Traction("top", ty=100.0), case="t")
+    model.add_load(planar.Traction("bottom", ty=-100.0), case="t")
+    es = edge_stresses(planar.solve(model)["t"], "hole")
+    assert es.theta[0] == pytest.approx(-90.0, abs=1e-6) and es.theta[-1] == pytest.approx(90.0, abs=1e-6)
+    assert np.all(np.diff(es.theta) > 0)
+    exact = 100.0 * (1.0 + 2.0 * np.cos(2.0 * np.radians(es.theta)))
+    assert np.abs(es.sigma_t - exact).max() < 0.02 * 300.0  # finite width d/W = 0.05 and the mesh
+    assert es.peak().theta == pytest.approx(0.0, abs=7.0)  # within one element side (0.6 / 5 rad)

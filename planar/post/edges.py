@@ -112,7 +112,8 @@ class EdgeStresses:
         Of the fitted circle (None when the edge is not a circular arc).
     theta : ndarray, shape (p,), or None
         Angle about the centre in degrees, counter-clockwise from +x, continuous along each piece
-        (a piece that starts below the x axis may run past 360).
+        (a closed loop from 0 to 360; an open arc across the +x direction from a negative angle, e.g. a
+        half model's hole from -90 to 90).
     circle_residual : float or None
         Largest distance of a point from the fitted circle divided by its radius.
     """
@@ -505,6 +506,8 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
             first = float(np.mod(th[0], 360.0))
             first = 0.0 if first > 360.0 - 1e-9 else first
             theta[sel] = th - th[0] + first
+            if theta[sel].max() > 360.0 + 1e-9:  # an open arc across +x (a half model's hole): -90 to 90
+                theta[sel] -= 360.0
     es = EdgeStresses(str(edge), result.case, recovery, str(getattr(result, "units", "") or ""), s, pts, piece,
                       np.concatenate(parts["node"]), t, n, sig_t, sig_n, tau, vm,
                       tuple(cl for _, _, cl in chains),
