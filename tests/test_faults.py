@@ -107,6 +107,7 @@ def _kill_writers(tmp_path: Path, kills: int, seed: int) -> dict:
     return {"generations": seen_generations, "left_behind": left_behind}
 
 
+@pytest.mark.slow
 def test_killed_writer_leaves_old_or_complete_file(tmp_path):
     """SIGKILL at random moments while a process rewrites a big .vtu over a good one (3 times)."""
     _kill_writers(tmp_path, kills=3, seed=1)
@@ -296,6 +297,7 @@ def _many_runs(n: int, tmp_path: Path) -> dict[int, float]:
     return marks
 
 
+@pytest.mark.slow
 def test_repeated_runs_do_not_leak(tmp_path):
     """200 solves (40 meshed by gmsh, 20 failing inside gmsh): the resident memory levels off
     (less than 4 MiB more between run 100 and run 200, after garbage collection)."""

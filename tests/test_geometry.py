@@ -737,6 +737,7 @@ def _random_plate(rng):
     return p, size, refine
 
 
+@pytest.mark.slow
 def test_random_plates_give_valid_meshes_that_cover_the_plate():
     # quads=True gives quadrilaterals only; no cells overlap or turn inside out (the core's check)
     # and the cells add up to the plate's exact area (OpenCASCADE), so none covers a hole
@@ -802,6 +803,7 @@ def test_named_point_that_gmsh_leaves_out_is_meshed_again_smaller_there(quads, m
     assert mesh_area(m) == pytest.approx(p.area(), rel=1e-4)
 
 
+@pytest.mark.slow
 def test_tangled_mesh_is_made_again_or_refused_also_in_pieces(monkeypatch):
     from planar.core.assembly import prepare
     from planar.geometry import meshing

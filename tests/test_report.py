@@ -149,6 +149,7 @@ def test_report_renders_in_a_real_browser(tmp_path):
     assert saturated > 50_000, f"only {saturated} coloured pixels: the figure did not render"
 
 
+@pytest.mark.slow
 def test_browser_check_detects_a_broken_figure(tmp_path):
     """The check above is not vacuous: a figure that does not decode and an outside image fail it."""
     r = _result()

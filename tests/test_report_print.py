@@ -496,6 +496,7 @@ def test_plugin_loads_say_themselves_and_combinations_are_named():
         assert text.startswith("pin bearing on edge 'hole': 40000 N at 90 deg from x")
 
 
+@pytest.mark.slow
 def test_a_long_table_repeats_its_header_and_keeps_its_rows_whole(tmp_path):
     """A table longer than a page runs on with its header repeated; rows with wrapped cells are not split."""
     import struct

@@ -286,6 +286,7 @@ def test_local_processes_match_serial(tmp_path):
     assert all(w.startswith(f"{os.uname()[1]}:") and w.split(":")[1].isdigit() for w in workers)
 
 
+@pytest.mark.slow
 def test_local_worker_killed_loses_no_point(tmp_path):
     markers = tmp_path / "m"
     markers.mkdir()
@@ -296,6 +297,7 @@ def test_local_worker_killed_loses_no_point(tmp_path):
     np.testing.assert_array_equal(t.column("y"), np.arange(6.0) ** 2)
 
 
+@pytest.mark.slow
 def test_point_that_always_kills_its_worker_is_recorded(tmp_path):
     t = sweep(always_dies, grid={"x": [0, 1, 2, 3]}, workers=2, retries=1, timeout=120)
     assert [r["status"] for r in t.records] == ["done", "done", "failed", "done"]

@@ -218,6 +218,7 @@ def test_bypass_sign_convention_stated_and_tension_positive(lap):
     assert "tension positive" in lap.table()
 
 
+@pytest.mark.slow
 def test_report_of_a_double_shear_layer_prints_whole_with_its_fastener_tables(tmp_path):
     # a double-shear splice of our own (two 3 mm straps on a 5 mm steel plate, two bolts, Huth's flexibility):
     # its middle layer's report printed by Chromium keeps rows and figures whole and numbers every page
