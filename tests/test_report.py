@@ -139,6 +139,7 @@ def test_write_report_is_atomic(tmp_path):
 
 
 # ---------------------------------------------------------------------------------------- browser
+@pytest.mark.slow
 def test_report_renders_in_a_real_browser(tmp_path):
     r = _result()
     out = write_report(tmp_path / "report.html", _report(r))

@@ -26,7 +26,11 @@ def _run(name, tmp_path):
     return proc.stdout
 
 
-@pytest.mark.parametrize("name", list(CASES))
+#: samples whose content other tests cover fast (the splice joint: tests/test_joints.py, test_lap_joint.py)
+SLOW = {"splice_joint"}
+
+
+@pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.slow) if n in SLOW else n for n in CASES])
 def test_sample_runs(name, tmp_path):
     out = _run(name, tmp_path)
     assert re.search(rf"{CASES[name]}: peak von Mises [\d.]+ MPa at \(-?[\d.]+, -?[\d.]+\) mm", out), out

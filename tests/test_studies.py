@@ -339,6 +339,7 @@ def test_dask_worker_killed_mid_sweep_loses_no_point(dask_client, tmp_path):
     assert len(list((tmp_path / "s").glob("*.json"))) == 6
 
 
+@pytest.mark.slow
 def test_dask_interrupted_sweep_resumes(dask_client, tmp_path):
     store, markers = tmp_path / "store", tmp_path / "m"
     markers.mkdir()
