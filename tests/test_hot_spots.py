@@ -133,17 +133,17 @@ def test_two_holes_give_two_ranked_spots_with_handbook_kt():
 def test_a_peak_at_a_clamp_is_flagged_and_the_hole_governs():
     r = _clamped_strip()
     top = r.max("von_mises")
-    assert top.location[0] == pytest.approx(-100.0) and "Fixed('left')" in top.note
+    assert top.location[0] == pytest.approx(-100.0) and "clamp on edge 'left'" in top.note
     hs = hot_spots(r)
-    assert hs.spots[0].flagged and "Fixed('left')" in hs.spots[0].reason
-    assert hs.spots[0].next_to == "the support Fixed('left')"
+    assert hs.spots[0].flagged and "clamp on edge 'left'" in hs.spots[0].reason
+    assert hs.spots[0].next_to == "the clamp on edge 'left'"
     gov = hs.governing
     assert gov.feature == "hole" and not gov.flagged and gov.rank > 1
     # the same value as the hole's peak read with where= (Peterson chart 4.1 within 2 %)
     assert gov.value == pytest.approx(r.max("von_mises", where="hole").value, rel=1e-12)
     assert gov.value / (100.0 * 50.0 / 40.0) == pytest.approx(kt_hole_in_strip(0.2), rel=0.02)
     text = hs.table()
-    assert "FLAGGED: next to the support Fixed('left')" in text and "governing" in text
+    assert "FLAGGED: next to the clamp on edge 'left'" in text and "governing" in text
 
 
 def test_a_point_force_inside_makes_a_flagged_region_spot():
@@ -158,7 +158,7 @@ def test_a_point_force_inside_makes_a_flagged_region_spot():
     # a point force's field is singular (Flamant/Kelvin, Timoshenko and Goodier art. 36): its peak is
     # the idealisation's, inside the region, and nothing else is left to govern
     s = hs.spots[0]
-    assert s.kind == "region" and s.feature == "plate" and s.flagged and "PointForce('pin'" in s.next_to
+    assert s.kind == "region" and s.feature == "plate" and s.flagged and "point force at point 'pin'" in s.next_to
     assert s.location == pytest.approx((10.0, 0.0), abs=1.5)
     assert hs.governing is None and "every spot is made by how the part is held" in hs.table()
 

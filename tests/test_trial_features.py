@@ -53,7 +53,7 @@ def test_hot_spot_on_a_clamped_hole_is_flagged_when_the_part_peaks_elsewhere():
     hs = hot_spots(r)
     assert hs.governing is not None and hs.governing.feature == "fillet"
     on_hole = [s for s in hs.spots if s.feature.startswith("bolt_")]
-    assert on_hole and all(s.flagged and "Fixed('bolt_" in s.next_to for s in on_hole)
+    assert on_hole and all(s.flagged and "clamp on edge 'bolt_" in s.next_to for s in on_hole)
     assert not any(s.flagged for s in hs.spots if s.feature == "fillet")
     # beam theory (Euler-Bernoulli; Timoshenko, Strength of Materials, 1955): M / Z at the fillet's
     # tangent x = 26 is 1000 x 94 / (5 x 20^2 / 6) = 282 MPa; the fillet of the re-entrant corner raises it
@@ -154,7 +154,7 @@ def test_hot_spot_beside_a_point_force_never_governs():
     combo = combine(res, {"tip": 1.0, "pull": 2.0}, name="c")
     hs = hot_spots(combo)
     at_force = [s for s in hs.spots if math.hypot(s.location[0] - 100.0, s.location[1] - 20.0) < 10.0]
-    assert at_force and all(s.flagged and "PointForce('corner_11'" in s.next_to for s in at_force)
+    assert at_force and all(s.flagged and "point force at point 'corner_11'" in s.next_to for s in at_force)
     assert hs.governing is None or math.hypot(hs.governing.location[0] - 100.0, hs.governing.location[1] - 20.0) > 10.0
     # the peak away from both reads beam theory (Euler-Bernoulli): 2 x 5 + M c / I at x = 22.5:
     # 10 + 10 x 77.5 x 10 / (2 x 20^3 / 12) = 15.8 psi
@@ -168,7 +168,7 @@ def test_peak_read_on_a_clamped_hole_carries_its_note():
     # part round the hole (within the hole's size) the clamp's peak stands out and is noted
     r = _bracket()
     for hole in ("bolt_low", "bolt_high"):
-        assert r.max("von_mises", where=hole).note.startswith(f"next to the support Fixed('{hole}')")
+        assert r.max("von_mises", where=hole).note.startswith(f"next to the clamp on edge '{hole}'")
     assert r.max("von_mises", where="fillet").note == ""
 
 
@@ -360,9 +360,9 @@ def test_smallest_von_mises_next_to_a_clamp_is_not_called_a_peak():
     r = res["a"]
     assert r.min("von_mises").note == ""
     text = str(envelope(res, "von_mises"))
-    assert "the min sits" not in text and "the max sits next to the support" in text
+    assert "the min sits" not in text and "the max sits next to the clamp" in text
     # a signed field's most compressive value at the clamp is still noted (the clamp's corner)
-    assert r.min("sigma_xx").note.startswith("next to the support Fixed('left')")
+    assert r.min("sigma_xx").note.startswith("next to the clamp on edge 'left'")
 
 
 def test_half_model_hole_reads_theta_from_minus_90_to_90():

@@ -73,7 +73,7 @@ def down(cases):
     return cases["down"]
 
 
-CLAMP = "next to the support Fixed('left')"
+CLAMP = "next to the clamp on edge 'left'"
 
 
 # ---------------------------------------------------------------------------- Result.max / min
@@ -126,7 +126,7 @@ def test_envelope_peak_at_the_clamp_is_noted(cases):
     assert again == hi and again.note == hi.note and again.where == hi.where
     assert value == hi.value and case == "down"
     text = env.summary()
-    assert "CAUTION: the max sits next to the support Fixed('left')" in text
+    assert "CAUTION: the max sits next to the clamp on edge 'left'" in text
 
 
 def test_envelope_with_where_reads_the_beam(cases):
@@ -175,7 +175,7 @@ def test_kt_and_margin_summaries_print_the_zone_and_the_note(down):
     nominal = bending(0.0)  # the beam's fibre stress at the clamp, 30 MPa
     plain = kt(down, nominal, field="sigma_xx")
     assert plain.note.startswith(CLAMP)
-    assert "CAUTION: the peak sits next to the support Fixed('left')" in plain.summary()
+    assert "CAUTION: the peak sits next to the clamp on edge 'left'" in plain.summary()
     limited = kt(down, bending(50.0), field="sigma_xx", where="outer")
     assert limited.Kt == pytest.approx(1.0, rel=2e-3)  # the beam at x = 50 is its own nominal
     assert limited.where == "in region 'outer'" and limited.note == ""
@@ -221,7 +221,7 @@ def test_sweep_outputs_take_where_and_record_the_note():
     assert rec["notes"]["all"].startswith(CLAMP) and rec["notes"]["top"].startswith(CLAMP)
     assert "beam" not in rec["notes"] and "kt" not in rec["notes"]
     assert table.column("kt") == pytest.approx([1.0, 2.0], rel=2e-3)  # the outer half's peak is the beam's at x = 50
-    assert "note: all at 2 of 2 points: the peak sits next to the support" in table.format()
+    assert "note: all at 2 of 2 points: the peak sits next to the clamp" in table.format()
 
 
 def test_sweep_output_objects_and_text_forms(down):
@@ -366,9 +366,9 @@ def test_a_point_forces_neighbourhood_is_flagged():
     r = planar.solve(model)["press"]
     peak = r.max("von_mises")
     assert peak.location == pytest.approx((20.0, 20.0))
-    assert peak.note.startswith("next to the concentrated load PointForce(")
+    assert peak.note.startswith("next to the point force at (")
     names = [d for d, _ in idealisations(mesh, model)]
-    assert any(d.startswith("the concentrated load") for d in names)
+    assert any(d.startswith("the point force") for d in names)
     away = r.max("von_mises", where=Away(loads=True, supports=False))
     assert np.hypot(away.location[0] - 20.0, away.location[1] - 20.0) > 1.0 and away.note == ""
     # the bed far from the force carries the mean pressure F / (width t) (statics, common practice)

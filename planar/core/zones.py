@@ -33,7 +33,7 @@ Fixed('left')
 Traction('right', tx=None, ty=-1)
 >>> r = planar.solve(model)["tip"]
 >>> peak = r.max("von_mises")
->>> peak.note.startswith("next to the support Fixed('left')")
+>>> peak.note.startswith("next to the clamp on edge 'left'")
 True
 >>> away = r.max("von_mises", where=Away(20.0))
 >>> away.location[0] >= 20.0, away.note
@@ -48,7 +48,7 @@ import numpy as np
 from .errors import InputError, NameNotFoundError, choices, fmt_point, unknown_name
 
 __all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away", "as_zone", "idealisations",
-           "idealised_reason", "near_idealised", "node_sizes", "NEAR_ELEMENTS", "DOMINANCE"]
+           "idealised_reason", "near_idealised", "node_sizes", "plain_name", "NEAR_ELEMENTS", "DOMINANCE"]
 
 #: a node within this many local element sizes of an idealised support's or concentrated load's nodes
 #: is "next to" it: a singular or idealisation-made peak sits at those nodes or in the ring of
@@ -316,6 +316,25 @@ def as_zone(where, mesh=None) -> Zone | None:
 
 
 # ---------------------------------------------------------------------------- idealisations
+#: plain words for the supports and loads a note names (a class not listed: its name in lower case)
+_WORDS = {"Fixed": "clamp", "Roller": "roller", "Symmetry": "symmetry line", "Prescribed": "prescribed motion",
+          "PointForce": "point force"}
+
+
+def plain_name(thing, mesh=None) -> str:
+    """A support, pin or load in a few plain words for notes and tables (``"clamp on edge 'left'"``), no code."""
+    if type(thing).__name__ == "Pin":
+        return f"pin '{thing.name}' ({thing.tie} tie)"
+    word = _WORDS.get(type(thing).__name__) or (getattr(thing, "name", "") or type(thing).__name__).lower()
+    where = getattr(thing, "where", None)
+    if isinstance(where, str):
+        kind = "edge" if mesh is not None and where in mesh.edge_sets else "point"
+        return f"{word} {'on' if kind == 'edge' else 'at'} {kind} '{where}'"
+    if where is not None:
+        return f"{word} at {fmt_point(where)}"
+    return word
+
+
 def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> list[tuple[str, np.ndarray]]:
     """The idealised supports and concentrated loads of a model: (description, node ids) pairs.
 
@@ -332,7 +351,7 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
             except Exception:  # noqa: BLE001 - a support that cannot name its nodes is not flagged
                 continue
             if nodes.size:
-                out.append((f"the support {s!r}", nodes))
+                out.append((f"the {plain_name(s, mesh)}", nodes))
         for p in getattr(model, "pins", ()):  # a pin's tie is an idealisation of the fit of the pin in its hole
             if getattr(p, "tie", None) == "contact":  # bearing contact: the hole bears only where it touches
                 continue
@@ -340,7 +359,7 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
                     getattr(load, "pin", None) == p.name and np.any(load.vector())
                     for items in getattr(model, "cases", {}).values() for load in items if hasattr(load, "vector")):
                 continue  # a free spreading pin that no case loads exerts nothing: it only reads the hole's motion
-            out.append((f"the pin {p.describe()}", np.asarray(mesh.nodes_of(p.edge), dtype=np.int64).ravel()))
+            out.append((f"the {plain_name(p, mesh)}", np.asarray(mesh.nodes_of(p.edge), dtype=np.int64).ravel()))
     if loads:
         seen = set()
         for case, items in getattr(model, "cases", {}).items():
@@ -350,7 +369,7 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
                 key = repr(load)
                 if nodes.size and key not in seen:
                     seen.add(key)
-                    out.append((f"the concentrated load {load!r}", nodes))
+                    out.append((f"the {plain_name(load, mesh)}", nodes))
     return out
 
 

@@ -106,7 +106,7 @@ class HotSpot:
     reason : str
         Why it is flagged (``""`` otherwise).
     next_to : str
-        The idealisation it is flagged for, short (``"the support Fixed('left')"``).
+        The idealisation it is flagged for, short (``"the clamp on edge 'left'"``).
     also : tuple of (float, float)
         Other locations of the same peak on the same feature (within :data:`TWIN`).
     """

@@ -78,7 +78,7 @@ def hot_spot_feature(element: str):
     said = f"extrapolated {reference:.6g} MPa, observed order {g.order:.3g}, {g.verdict}"
 
     peak = r.max("von_mises")
-    at_clamp = peak.location[0] == -LENGTH / 2 and "Fixed('left')" in peak.note
+    at_clamp = peak.location[0] == -LENGTH / 2 and "clamp on edge 'left'" in peak.note
     hs = hot_spots(r, nominal=net)
     hole = [s for s in hs if s.feature == "hole"]
     clamp_spots = [s for s in hs if math.isclose(s.location[0], -LENGTH / 2, abs_tol=1e-9)]
