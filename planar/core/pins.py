@@ -36,7 +36,7 @@ import numpy as np
 
 from .errors import InputError, SupportError, fmt_point, unknown_name
 from .loads import LoadKind
-from .values import number
+from .values import finite_vector, number
 
 __all__ = ["Pin", "PinLoad", "TIES", "reference_point"]
 
@@ -58,11 +58,8 @@ def _hold(hold) -> tuple[str | tuple[float, float] | None, np.ndarray, tuple[boo
         if key == "y":
             return "y", np.array([[0.0, -1.0], [1.0, 0.0]]), (True, False)
         raise InputError(f"a pin's hold must be 'both', 'x', 'y', None or a direction (dx, dy), got {hold!r}")
-    try:
-        d = np.asarray(hold, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        d = np.zeros(0)
-    if d.shape != (2,) or not np.all(np.isfinite(d)) or np.hypot(*d) == 0:
+    d = finite_vector(hold)
+    if d is None or np.hypot(*d) == 0:
         raise InputError(f"a pin's hold must be 'both', 'x', 'y', None or a non-zero direction (dx, dy), got {hold!r}")
     d = d / np.hypot(*d)
     return (float(d[0]), float(d[1])), np.array([[d[0], -d[1]], [d[1], d[0]]]), (True, False)
@@ -135,11 +132,8 @@ class Pin:
         self.held = np.array([held[0], held[1], self.rotation == "held"])
         mv = np.zeros(3)
         if move is not None:
-            try:
-                mv = np.asarray(move, dtype=float).reshape(-1)
-            except (TypeError, ValueError):
-                mv = np.zeros(0)
-            if mv.shape != (3,) or not np.all(np.isfinite(mv)):
+            mv = finite_vector(move, 3)
+            if mv is None:
                 raise InputError(f"a pin's move= must be (ux, uy, theta) of finite numbers, got {move!r}")
         self.move = tuple(float(v) for v in mv)
         local = np.r_[self.basis.T @ mv[:2], mv[2]]  # the motion in the pin's basis (along, across, theta)

@@ -18,6 +18,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from .errors import InputError
+from .values import finite_vector
 
 __all__ = ["Reaction", "support_reactions"]
 
@@ -65,11 +66,8 @@ def _about(about) -> tuple[float, float] | str:
             raise InputError(f"about must be a point (x, y) or 'own' (each support's centre, each pin's point), "
                              f"got {about!r}")
         return "own"
-    try:
-        p = np.asarray(about, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        p = np.zeros(0)
-    if p.shape != (2,) or not np.all(np.isfinite(p)):
+    p = finite_vector(about)
+    if p is None:
         raise InputError(f"about must be a point (x, y) of finite numbers or 'own', got {about!r}")
     return (float(p[0]), float(p[1]))
 

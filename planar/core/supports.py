@@ -14,7 +14,7 @@ from typing import Callable, Union
 
 import numpy as np
 
-from .values import number_or_function
+from .values import finite_vector, number_or_function
 from .errors import DiscretisationWarning, InputError, SupportError, fmt_point
 
 __all__ = ["Support", "Fixed", "Roller", "Prescribed", "Symmetry", "Constraints"]
@@ -30,11 +30,8 @@ def _direction(d) -> np.ndarray:
         if key in ("y", "uy"):
             return np.array([0.0, 1.0])
         raise InputError(f"unknown direction {d!r}; pick 'x', 'y', 'normal' or give a vector (dx, dy)")
-    try:
-        v = np.asarray(d, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        v = np.zeros(0)
-    if v.shape != (2,) or not np.all(np.isfinite(v)) or np.hypot(*v) == 0:
+    v = finite_vector(d)
+    if v is None or np.hypot(*v) == 0:
         raise InputError(f"a direction must be a non-zero vector (dx, dy), got {d!r}")
     return v / np.hypot(*v)
 

@@ -8,9 +8,11 @@ from __future__ import annotations
 import math
 from typing import Any, Callable
 
+import numpy as np
+
 from .errors import InputError
 
-__all__ = ["number", "number_or_function"]
+__all__ = ["number", "number_or_function", "finite_vector"]
 
 
 def number(value: Any, what: str, *, positive: bool = False, nonnegative: bool = False,
@@ -47,6 +49,23 @@ def number(value: Any, what: str, *, positive: bool = False, nonnegative: bool =
     if nonnegative and v < 0:
         raise error(f"{what} must not be negative, got {value!r}")
     return v
+
+
+def finite_vector(value: Any, size: int = 2) -> np.ndarray | None:
+    """``value`` as a float array of ``size`` finite numbers, or None when it is not one (the caller says why).
+
+    Examples
+    --------
+    >>> finite_vector((1, 2.5)), finite_vector("x"), finite_vector((1.0, float("nan"))), finite_vector((0, 0, 1), 3)
+    (array([1. , 2.5]), None, None, array([0., 0., 1.]))
+    """
+    if isinstance(value, (str, bytes)):
+        return None
+    try:
+        a = np.asarray(value, dtype=float).reshape(-1)
+    except (TypeError, ValueError):
+        return None
+    return a if a.shape == (size,) and bool(np.all(np.isfinite(a))) else None
 
 
 def number_or_function(value: Any, what: str) -> float | Callable | None:

@@ -46,6 +46,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, NameNotFoundError, choices, fmt_point, unknown_name
+from .values import finite_vector
 
 __all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away", "as_zone", "idealisations",
            "idealised_reason", "near_idealised", "node_sizes", "plain_name", "NEAR_ELEMENTS", "DOMINANCE"]
@@ -62,11 +63,8 @@ DOMINANCE = 0.01
 
 
 def _xy(p, what: str) -> np.ndarray:
-    try:
-        a = np.asarray(p, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        a = np.zeros(0)
-    if a.shape != (2,) or not np.all(np.isfinite(a)):
+    a = finite_vector(p)
+    if a is None:
         raise InputError(f"{what} must be a point (x, y) of finite numbers, got {p!r}")
     return a
 
