@@ -27,6 +27,8 @@ from __future__ import annotations
 import math
 
 from ..core.errors import InputError
+from ..core.values import number
+from ._curves import _as_point
 from ._round import Circle
 from ._outline import Outline
 from .plate import Plate
@@ -40,13 +42,7 @@ LUG_EDGES = ("hole", "end", "sides", "base")
 
 
 def _length(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"a lug's {what} must be a length (a number), got {value!r}") from None
-    if not math.isfinite(v) or v <= 0:
-        raise InputError(f"a lug's {what} must be positive and finite, got {value!r}")
-    return v
+    return number(value, f"a lug's {what}", positive=True, kind="length")
 
 
 def lug(width: float, hole_diameter: float, edge_distance: float, *, length: float | None = None,
@@ -94,12 +90,7 @@ def lug(width: float, hole_diameter: float, edge_distance: float, *, length: flo
     if not isinstance(end, str) or end.strip().lower() not in LUG_ENDS:
         raise InputError(f"a lug's end must be one of {LUG_ENDS}, got {end!r}")
     end = end.strip().lower()
-    try:
-        cx, cy = (float(v) for v in centre)
-    except (TypeError, ValueError):
-        raise InputError(f"a lug's centre must be a point (x, y), got {centre!r}") from None
-    if not (math.isfinite(cx) and math.isfinite(cy)):
-        raise InputError(f"a lug's centre must be finite, got {centre!r}")
+    cx, cy = (float(v) for v in _as_point(centre, "a lug's centre"))
     h = W / 2
     out = Outline((cx - h, cy - L), name="base").line_to((cx + h, cy - L), name="base")
     if end == "square":
