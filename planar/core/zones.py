@@ -409,26 +409,40 @@ def near_idealised(mesh, model, nodes, *, distance: float | str | None = None, s
     reasons : list of str
         For each node, the description of the nearest idealisation it is next to (``""`` if none).
     """
+    return _near(mesh, _idealised_trees(mesh, model, supports=supports, loads=loads), nodes, distance)
+
+
+def _idealised_trees(mesh, model, *, supports: bool = True, loads: bool = True) -> list[tuple[str, Any, float]]:
+    """(description, search tree of its nodes, its own size) of each idealisation, for :func:`_near`.
+
+    Built once by a caller that asks about many batches of nodes (:func:`idealised_reason`).
+    """
     from scipy.spatial import cKDTree
 
+    out = []
+    for why, ids in idealisations(mesh, model, supports=supports, loads=loads):
+        own = mesh.nodes[np.unique(ids)]
+        x, y = own[:, 0], own[:, 1]
+        out.append((why, cKDTree(own), max(float(x.max() - x.min()), float(y.max() - y.min()))))
+    return out
+
+
+def _near(mesh, trees, nodes, distance) -> tuple[np.ndarray, list[str]]:
+    """:func:`near_idealised` on idealisations prepared by :func:`_idealised_trees`."""
     nodes = np.asarray(nodes, dtype=np.int64).ravel()
     near = np.zeros(nodes.size, dtype=bool)
     reasons = [""] * nodes.size
-    items = idealisations(mesh, model, supports=supports, loads=loads)
-    if not items or nodes.size == 0:
+    if not trees or nodes.size == 0:
         return near, reasons
     pts = mesh.nodes[nodes]
     local = NEAR_ELEMENTS * node_sizes(mesh)[nodes]
     best = np.full(nodes.size, np.inf)  # distance over its limit, to the idealisation that comes nearest
     which = np.full(nodes.size, -1)
-    for k, (_, ids) in enumerate(items):
-        own = mesh.nodes[np.unique(ids)]
-        d, _ = cKDTree(own).query(pts)
+    for k, (_, tree, size) in enumerate(trees):
+        d, _ = tree.query(pts)
         if distance is None:
             limit = local
         elif isinstance(distance, str):
-            x, y = own[:, 0], own[:, 1]
-            size = max(float(x.max() - x.min()), float(y.max() - y.min()))
             limit = np.maximum(size, local)
         else:
             limit = np.full(nodes.size, float(distance))
@@ -436,7 +450,7 @@ def near_idealised(mesh, model, nodes, *, distance: float | str | None = None, s
         better = ratio < best
         best[better], which[better] = ratio[better], k
     near = best <= 1 + 1e-9
-    reasons = [items[w][0] if ok else "" for w, ok in zip(which, near)]
+    reasons = [trees[w][0] if ok else "" for w, ok in zip(which, near)]
     return near, reasons
 
 
@@ -455,7 +469,8 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     mesh, model = getattr(result, "mesh", None), getattr(result, "model", None)
     if mesh is None or model is None:
         return ""
-    near, why = near_idealised(mesh, model, [node])
+    trees = _idealised_trees(mesh, model)  # built once for the many batches asked about below
+    near, why = _near(mesh, trees, [node], None)
     if not near[0]:
         return ""
     v = np.abs(values) if absolute else np.asarray(values, dtype=float)
@@ -481,7 +496,7 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     for k_step, ok in enumerate(steps):
         # the candidates that could beat the peak less DOMINANCE: only they need the distance test
         cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
-        near_c, _ = near_idealised(mesh, model, cand)
+        near_c, _ = _near(mesh, trees, cand, None)
         if np.any(~near_c):
             return ""  # as large a value away from every idealisation: the field's own level
         # the largest value away from every idealisation: the values in falling order, a growing batch at a time
@@ -490,14 +505,14 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
         start, batch = 0, 256
         while start < order.size:
             chunk = order[start:start + batch]
-            near_k, _ = near_idealised(mesh, model, chunk, distance="size")  # what where=Away() reads
+            near_k, _ = _near(mesh, trees, chunk, "size")  # what where=Away() reads
             if not np.all(near_k):
                 top = float(v[chunk[np.argmin(near_k)]])
                 break
             start, batch = start + batch, batch * 4
         if np.isfinite(top):
             break
-        if k_step == 1 and len(steps) == 3 and not np.all(near_idealised(mesh, model, np.flatnonzero(ok))[0]):
+        if k_step == 1 and len(steps) == 3 and not np.all(_near(mesh, trees, np.flatnonzero(ok), None)[0]):
             break  # the part round a wholly held zone reads less than its peak: the idealisation's peak
     sign = -1.0 if sign_of_values < 0 else 1.0
     other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
