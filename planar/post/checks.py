@@ -252,11 +252,8 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
     result = as_result(result, "kt")
     _check_field(field)
     _check_recovery(recovery)
-    try:
-        nom = float(nominal)
-    except (TypeError, ValueError):
-        raise InputError(f"nominal must be a stress value, got {nominal!r}") from None
-    if not math.isfinite(nom) or nom == 0:
+    nom = number(nominal, "the nominal stress", kind="stress")
+    if nom == 0:
         raise InputError(f"the nominal stress must be non-zero and finite, got {nominal!r}")
     ext = result.max(field, recovery=recovery, absolute=absolute, where=where, centre=centre)
     peak, loc, node = ext

@@ -37,7 +37,8 @@ import numpy as np
 from ..core.errors import InputError
 from ..core.result import as_result
 from ..core.units import force_unit, length_unit, stress_unit
-from .checks import StressConcentration, kt, nominal_net
+from ..core.values import number
+from .checks import StressConcentration, _positive, kt, nominal_net
 from .edges import EdgeStresses, edge_stresses
 from .scope import CAUTION
 
@@ -61,22 +62,9 @@ LUG_CHART_CONDITIONS = ("square-ended lug, close-fitting pin (no stated clearanc
                         "centre to end over width), Kt_n = peak hoop stress on the hole / (P / ((W - d) t))")
 
 
-def _positive(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not math.isfinite(v) or v <= 0:
-        raise InputError(f"{what} must be positive and finite, got {value!r}")
-    return v
-
-
 def _load(value) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"the lug load must be a force (a number), got {value!r}") from None
-    if not math.isfinite(v) or v == 0:
+    v = number(value, "the lug load", kind="force")
+    if v == 0:
         raise InputError(f"the lug load must be non-zero and finite, got {value!r}")
     return abs(v)
 
