@@ -9,20 +9,16 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..core.materials import Isotropic
-from ..core.model import Model
 from ..core.pins import Pin
 from ..core.static import solve
-from ..core.supports import Roller
 from ._register import case, check
-from .recovery_cases import ExactTraction, kirsch_mesh
+from .recovery_cases import BUILTIN, kirsch_mesh, kirsch_model
 
 __all__ = ["RigidInclusion", "rigid_inclusion"]
 
 GOODIER = ("J. N. Goodier, Concentration of stress around spherical and cylindrical inclusions and flaws, "
            "J. Appl. Mech. 1 (1933) 39-44; N. I. Muskhelishvili, Some Basic Problems of the Mathematical Theory "
            "of Elasticity, 1953, sec. 56 (potentials re-derived here; from memory)")
-BUILTIN = ("T3", "T6", "Q4", "Q8", "Q9")
 
 
 class RigidInclusion:
@@ -86,13 +82,9 @@ def inclusion_model(element: str, n: int, analysis: str, nu: float = 0.3):
     kappa = 3 - 4 * nu if analysis == "plane strain" else (3 - nu) / (1 + nu)
     plate = RigidInclusion(kappa=kappa)
     mesh = kirsch_mesh(element, n)
-    lay = next(iter(mesh.cells))
-    elements = {lay: element} if element != lay else None
-    model = Model(mesh, Isotropic(210e3, nu), thickness=1.0, analysis=analysis, elements=elements)
-    model.add_support(Roller("symmetry_x", fixed="x"))  # on the hole edge too: the held pin implies them
-    model.add_support(Roller("symmetry_y", fixed="y"))
+    model = kirsch_model(mesh, plate=plate, element=element, nu=nu, analysis=analysis)
+    # the rollers reach the hole edge too: the held pin implies them
     model.add_pin(Pin("hole", tie="rigid", hold="both", rotation="held", name="disc"))
-    model.add_load(ExactTraction("outer", plate.stress), case="remote tension")
     return model, plate
 
 

@@ -169,15 +169,16 @@ def kirsch_mesh(element: str, n: int, *, a: float = 1.0, width: float = 5.0, gra
 
 
 def kirsch_model(mesh: Mesh, *, plate: KirschPlate | None = None, element: str | None = None,
-                 E: float = 210e3, nu: float = 0.3) -> Model:
+                 E: float = 210e3, nu: float = 0.3, analysis: str = "plane stress") -> Model:
     """Quarter Kirsch model on a mesh with edges ``outer``, ``symmetry_x``, ``symmetry_y`` (and ``hole``).
 
-    Exact tractions act on ``outer``; rollers hold ux on x = 0 and uy on y = 0; the hole is free.
+    Exact tractions of ``plate.stress`` (any exact field with that method) act on ``outer``; rollers
+    hold ux on x = 0 and uy on y = 0; the hole is free.
     """
     plate = plate or KirschPlate()
     lay = next(iter(mesh.cells))
     elements = {lay: element} if element is not None and element != lay else None
-    model = Model(mesh, Isotropic(E, nu), thickness=1.0, elements=elements)
+    model = Model(mesh, Isotropic(E, nu), thickness=1.0, analysis=analysis, elements=elements)
     model.add_support(Roller("symmetry_x", fixed="x"))
     model.add_support(Roller("symmetry_y", fixed="y"))
     model.add_load(ExactTraction("outer", plate.stress), case="remote tension")
