@@ -110,7 +110,7 @@ class _Layer:
         asm = Assembly(lm, distortion_limit=distortion_limit)
         self.asm, mesh = asm, asm.mesh
         self.mesh = mesh
-        from .static import constrain, prescribed
+        from .static import constrain, matrix_entries, reduced_loads, split_unknowns
 
         cons = constrain(mesh, lm.supports)
         self.cons = cons
@@ -118,23 +118,11 @@ class _Layer:
         note_snapped(mesh, lm.supports, pending_warnings(asm))
         zero_energy_check(asm, sink=pending_warnings(asm))
         ndof = 2 * mesh.n_nodes
-        pres, up = prescribed(mesh, cons, self.tie)
         self.unused = np.flatnonzero(~mesh.used_nodes())
-        self.free = np.flatnonzero(~pres)
-        self.pdofs = np.flatnonzero(pres)
-        free_index = np.full(ndof, -1, dtype=np.int64)
-        free_index[self.free] = np.arange(self.free.size)
-        pres_index = np.full(ndof, -1, dtype=np.int64)
-        pres_index[self.pdofs] = np.arange(self.pdofs.size)
-        self.entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
+        up, self.free, self.pdofs, free_index, pres_index = split_unknowns(mesh, cons, self.tie)
+        self.entries = matrix_entries(asm)
         system = asm.system(free_index, pres_index, cons.rotation, timer)
-        self.loads = [asm.load_vector(c) for c in cases]
-        F = np.column_stack([f for f, _ in self.loads])
-        Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-        coupling = system.prescribed_rows.T @ up[self.pdofs]
-        rhs = Fl[self.free] - coupling[self.free][:, None]
-        if self.tie is not None:
-            system, rhs, Fl = self.tie.reduce(system, self.free, self.pdofs, up, Fl, rhs, cases)
+        self.loads, F, Fl, rhs, system = reduced_loads(asm, system, cons, self.tie, cases, self.free, self.pdofs, up)
         self.system, self.rhs, self.F, self.Fl, self.up = system, rhs, F, Fl, up
         self.n = system.lower.shape[0]
         nO = self.free.size
@@ -336,7 +324,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         A singular joint matrix.
     """
     from ._joint_tables import JointResult
-    from .static import Results, _check_finite, _rigid_modes
+    from .static import Results, _check_finite, _rigid_modes, full_unknowns
 
     timer = timer or Timer(verbose)
     cases = _case_names(joint, cases)
@@ -437,12 +425,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
     per_layer = {}
     for i, L in enumerate(layers):
         ndof = 2 * L.mesh.n_nodes
-        v = sol[offs[i]:offs[i + 1]]
-        ul = np.zeros((ndof, m))
-        ul[L.pdofs] = L.up[L.pdofs][:, None]
-        ul[L.free] = v[:L.free.size]
-        if L.tie is not None:
-            L.tie.expand(ul, v)
+        ul = full_unknowns(ndof, L.free, L.pdofs, L.up, L.tie, sol[offs[i]:offs[i + 1]], m)
         fs = np.zeros((ndof, m))
         rest_off = np.zeros(ndof, bool)  # nodes whose pin forces are a fastener's own (rigid hole edges)
         for e in ends:

@@ -168,6 +168,50 @@ def prescribed(mesh, cons, tie=None) -> tuple[np.ndarray, np.ndarray]:
     return pres, up
 
 
+def split_unknowns(mesh, cons, tie=None) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(up, free, pdofs, free_index, pres_index): the prescribed values over all unknowns, the free and
+    prescribed unknowns, and each unknown's place among them (-1 where it is not one)."""
+    ndof = 2 * mesh.n_nodes
+    pres, up = prescribed(mesh, cons, tie)
+    free = np.flatnonzero(~pres)
+    pdofs = np.flatnonzero(pres)
+    free_index = np.full(ndof, -1, dtype=np.int64)
+    free_index[free] = np.arange(free.size)
+    pres_index = np.full(ndof, -1, dtype=np.int64)
+    pres_index[pdofs] = np.arange(pdofs.size)
+    return up, free, pdofs, free_index, pres_index
+
+
+def matrix_entries(asm) -> int:
+    """The entries of the assembled lower triangle, from the element blocks (for the memory estimate)."""
+    return sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
+
+
+def reduced_loads(asm, system, cons, tie, cases, free, pdofs, up):
+    """(loads, F, Fl, rhs, system): each case's load vector and its entities, the loads over all unknowns
+    (global, and in the supports' local bases), the right-hand sides over the free unknowns with the
+    prescribed values moved over, and the system as the pins' ties reduce it (unchanged without pins)."""
+    ndof = 2 * asm.mesh.n_nodes
+    loads = [asm.load_vector(c) for c in cases]
+    F = np.column_stack([f for f, _ in loads])
+    Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+    coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
+    rhs = Fl[free] - coupling[free][:, None]
+    if tie is not None:
+        system, rhs, Fl = tie.reduce(system, free, pdofs, up, Fl, rhs, cases)
+    return loads, F, Fl, rhs, system
+
+
+def full_unknowns(ndof, free, pdofs, up, tie, sol, m) -> np.ndarray:
+    """(ndof, m): the prescribed values, the free unknowns from ``sol`` and the ties' eliminated ones."""
+    ul = np.zeros((ndof, m))
+    ul[pdofs] = up[pdofs][:, None]
+    ul[free] = sol[: free.size, :m]
+    if tie is not None:
+        tie.expand(ul, sol[:, :m])
+    return ul
+
+
 def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbose: bool | None = None,
           distortion_limit: float = 1e-3, timer: Timer | None = None,
           keep_system: bool = False) -> Results:
@@ -235,14 +279,8 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
     else:
         tie.check_motions(mesh, cons, sink=pending_warnings(asm))  # the held pins count
     ndof = 2 * mesh.n_nodes
-    pres, up = prescribed(mesh, cons, tie)
-    free = np.flatnonzero(~pres)
-    pdofs = np.flatnonzero(pres)
-    free_index = np.full(ndof, -1, dtype=np.int64)
-    free_index[free] = np.arange(free.size)
-    pres_index = np.full(ndof, -1, dtype=np.int64)
-    pres_index[pdofs] = np.arange(pdofs.size)
-    entries = sum(b.n * (2 * b.etype.n_nodes) * (2 * b.etype.n_nodes + 1) // 2 for b in asm.blocks)
+    up, free, pdofs, free_index, pres_index = split_unknowns(mesh, cons, tie)
+    entries = matrix_entries(asm)
     solver = choose(free.size, solver, matrix_entries=entries,  # refuse up front what cannot fit
                     coarse_unknowns=coarse_size((b.etype, b.n) for b in asm.blocks))
     timer.lap("checks")
@@ -252,13 +290,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         system = asm.system(free_index, pres_index, cons.rotation, timer)
     except MemoryError:
         raise _out_of_memory("assembling the stiffness matrix", free.size, entries) from None
-    loads = [asm.load_vector(c) for c in cases]
-    F = np.column_stack([f for f, _ in loads])
-    Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-    coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
-    rhs = Fl[free] - coupling[free][:, None]
-    if tie is not None:
-        system, rhs, Fl = tie.reduce(system, free, pdofs, up, Fl, rhs, cases)
+    loads, F, Fl, rhs, system = reduced_loads(asm, system, cons, tie, cases, free, pdofs, up)
     contact = None
     if tie is not None and any(p.tie == "contact" for p in tie.pins):  # bearing contact (core/contact.py)
         from .contact import ContactSet
@@ -299,14 +331,10 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
             rhs = contact.solve(fac, rhs, cases)  # the contact forces added: the same factor, no other
             timer.lap("contact")
         timer.start("solving")
-        ul = np.zeros((ndof, len(cases)))
-        ul[pdofs] = up[pdofs][:, None]
         # one more column: a step of inverse iteration for the condition estimate
         sol, probe = diagnose.solve_with_probe(fac, rhs)
         sol = diagnose.meet_accuracy(fac, system, rhs, sol, figures)  # iterative: go on as far as needed
-        ul[free] = sol[: free.size, : len(cases)]
-        if tie is not None:
-            tie.expand(ul, sol[:, : len(cases)])
+        ul = full_unknowns(ndof, free, pdofs, up, tie, sol, len(cases))
     except MemoryError:
         raise _out_of_memory(f"factorizing with the {solver!r} solver", free.size, entries) from None
     except SolverError as exc:
