@@ -79,7 +79,7 @@ from .parallel import background
 from .stress import has_initial_strain, nodal_average, stress_at, stress_measures, stress_rule
 
 __all__ = ["recover", "sampling_rule", "Samples", "stress_samples", "patch_recovery", "recovery_operator",
-           "RecoveryOperator", "METHODS", "prepare_recovery"]
+           "RecoveryOperator", "METHODS", "prepare_recovery", "combine_regions"]
 
 #: recovery methods a user can ask for
 METHODS = ("spr", "average")
@@ -136,8 +136,9 @@ def _average_region(result, blocks: list[int]) -> np.ndarray:
     return nodal_average(result.mesh.n_nodes, fields)
 
 
-def _combine(per_region: dict[str, np.ndarray], n: int) -> np.ndarray:
-    """One nodal field: at interface nodes, the region value with the largest von Mises stress."""
+def combine_regions(per_region: dict[str, np.ndarray], n: int) -> np.ndarray:
+    """One nodal field from ``recover(..., per_region=True)``: at interface nodes, the region value with
+    the largest von Mises stress; zero at nodes of no region."""
     arrays = list(per_region.values())
     if len(arrays) == 1:
         out = arrays[0].copy()
@@ -278,4 +279,4 @@ def recover(result, recovery: str = "spr", per_region: bool = False, *, boundary
             out[name] = _average_region(result, ids)
     if per_region:
         return out
-    return _combine(out, result.mesh.n_nodes)
+    return combine_regions(out, result.mesh.n_nodes)

@@ -16,7 +16,7 @@ from .caseresult import CaseResult, as_result, as_results
 from .compat import renamed_keywords
 from .errors import InputError
 from .fields import FIELD_TABLE, as_centre, names, polar_stress
-from .recovery import METHODS, recover
+from .recovery import METHODS, combine_regions, recover
 from .stress import extrapolation_matrix, nodal_average, stress_at, stress_measures, stress_rule
 
 __all__ = ["Result", "GaussField", "Extreme", "stress_measures", "FIELDS", "FIELD_TABLE", "extrapolation_matrix",
@@ -198,10 +198,17 @@ class Result(CaseResult):
         if key not in self._nodal_cache:
             if recovery not in METHODS:
                 raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
-            vals = recover(self, recovery=recovery)
-            self._nodal_cache[key] = vals
+            # from the per-region values, kept for a peak read in one region (:meth:`_own_side`)
+            self._nodal_cache[key] = combine_regions(self._per_region(recovery), self.mesh.n_nodes)
         v = self._nodal_cache[key]
         return v[:, :3], v[:, 3]
+
+    def _per_region(self, recovery: str) -> dict[str, np.ndarray]:
+        """Nodal stresses recovered region by region (NaN outside each), recovered once per method."""
+        key = f"stress:{recovery}:per-region"
+        if key not in self._nodal_cache:
+            self._nodal_cache[key] = recover(self, recovery=recovery, per_region=True)
+        return self._nodal_cache[key]
 
     def _average(self, getter: Callable) -> np.ndarray:
         """Gauss values (getter(g): (e, q, c)) averaged at the nodes; zero where no element is."""
@@ -308,10 +315,7 @@ class Result(CaseResult):
         regions = {getattr(b, "region", None) for b in blocks}
         if len(regions) < 2 or zone.name not in regions:
             return v
-        key = f"stress:{recovery}:per-region"
-        if key not in self._nodal_cache:
-            self._nodal_cache[key] = recover(self, recovery=recovery, per_region=True)
-        own = self._nodal_cache[key][zone.name]
+        own = self._per_region(recovery)[zone.name]
         inside = np.all(np.isfinite(own), axis=1)
         if field in POLAR_FIELDS:
             mine = polar_stress(own[inside, :3], self.mesh.nodes[inside], as_centre(centre))[field]
