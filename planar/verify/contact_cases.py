@@ -151,15 +151,10 @@ def ring_mesh(element: str, n_around: int, n_radial: int, *, a: float = 1.0, hal
         return a * c + w * (f * c - a * c), a * sn + w * (f * sn - a * sn)
 
     m = mapped_mesh(mapping, n_radial, n_around, element, side_names=("seam0", "outer", "seam1", "hole"))
-    xy = m.nodes
-    key = np.round(xy / (1e-9 * L)).astype(np.int64)  # the seam's two copies of each node merged
-    _, first, inv = np.unique(key, axis=0, return_index=True, return_inverse=True)
-    old_to_new = inv.reshape(-1)
-    nodes = xy[first]
-    cells = {k: old_to_new[v] for k, v in m.cells.items()}
-    outer = old_to_new[m.edge("outer")]
+    m = m.merge_duplicate_nodes(1e-9 * L)  # the seam's two copies of each node
+    nodes, outer = m.nodes, m.edge("outer")
     left = outer[np.all(np.abs(nodes[outer][:, :, 0] + L) < 1e-9 * L, axis=1)]
-    return Mesh(nodes, cells, edge_sets={"hole": old_to_new[m.edge("hole")], "outer": outer, "left": left})
+    return Mesh(nodes, m.cells, edge_sets={"hole": m.edge("hole"), "outer": outer, "left": left})
 
 
 def loaded_hole_model(clearance: float, *, element: str = "Q4", n_around: int = 96, n_radial: int = 24,
