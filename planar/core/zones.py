@@ -124,13 +124,24 @@ class _Both(Zone):
         return f"{self.a!r} & {self.b!r}"
 
 
-class OnEdge(Zone):
-    """The nodes of a named edge (a hole, a fillet, a notch root)."""
+class _Named(Zone):
+    """A zone given by the name of an edge or region of the mesh."""
+
+    _what = "a name"
 
     def __init__(self, name: str):
         if not isinstance(name, str) or not name:
-            raise InputError(f"OnEdge needs the name of an edge, got {name!r}")
+            raise InputError(f"{type(self).__name__} needs the name of {self._what}, got {name!r}")
         self.name = name
+
+    def __repr__(self) -> str:
+        return f"{type(self).__name__}({self.name!r})"
+
+
+class OnEdge(_Named):
+    """The nodes of a named edge (a hole, a fillet, a notch root)."""
+
+    _what = "an edge"
 
     def mask(self, result) -> np.ndarray:
         mesh, _ = _parts(result)
@@ -141,17 +152,11 @@ class OnEdge(Zone):
     def describe(self) -> str:
         return f"on edge {self.name!r}"
 
-    def __repr__(self) -> str:
-        return f"OnEdge({self.name!r})"
 
-
-class InRegion(Zone):
+class InRegion(_Named):
     """The nodes of the cells of a named region (``"plate"``: the cells in no named region)."""
 
-    def __init__(self, name: str):
-        if not isinstance(name, str) or not name:
-            raise InputError(f"InRegion needs the name of a region, got {name!r}")
-        self.name = name
+    _what = "a region"
 
     def mask(self, result) -> np.ndarray:
         mesh, _ = _parts(result)
@@ -162,9 +167,6 @@ class InRegion(Zone):
 
     def describe(self) -> str:
         return f"in region {self.name!r}"
-
-    def __repr__(self) -> str:
-        return f"InRegion({self.name!r})"
 
 
 class InCircle(Zone):
