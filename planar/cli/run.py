@@ -48,12 +48,7 @@ def _script_frames(tb, script: Path):
     first = None
     last = None
     while tb is not None:
-        fn = tb.tb_frame.f_code.co_filename
-        try:
-            same = Path(fn).resolve() == script
-        except OSError:
-            same = False
-        if same:
+        if _same_file(tb.tb_frame.f_code.co_filename, script):
             first = first or tb
             last = tb
         tb = tb.tb_next
