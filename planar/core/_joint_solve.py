@@ -34,7 +34,7 @@ from .pins import Pin, check_new_pin
 from .result import Result
 from .supports import note_snapped
 from .timing import Timer
-from ._tying import Tying
+from ._tying import Tying, held_rows
 from . import diagnose, solvers
 from ._conditioning import matrix_figures, matvec
 
@@ -268,13 +268,7 @@ def _motion_check(joint, layers, springs) -> None:
     for b, L in enumerate(layers):
         rows = L.cons.rows
         parts = [_support_matrix(L.mesh.nodes[rows.node], rows.direction, xc, Lc)]
-        for d in (L.tie.data if L.tie is not None else []):
-            held = d["pin"].held
-            dirs = d["Q"][:2, :2].T[held[:2]]
-            if dirs.shape[0]:
-                parts.append(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, Lc))
-            if held[2]:
-                parts.append(np.array([[0.0, 0.0, 1.0]]))
+        parts += [held_rows(d, xc, Lc) for d in (L.tie.data if L.tie is not None else [])]
         r = np.vstack(parts)
         if r.shape[0] > 3:
             r = np.linalg.qr(r, mode="r")

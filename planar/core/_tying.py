@@ -191,6 +191,19 @@ def _mirrored_fit(pin, lines, point: np.ndarray, xy: np.ndarray, w: np.ndarray, 
     return C
 
 
+def held_rows(d: dict, xc: np.ndarray, L: float) -> np.ndarray:
+    """A tied pin's held components as rows on a rigid body's three motions (k, 3), k = 0 to 3: a held
+    translation along ``d`` at the pin's point, a held rotation (as ``_linkage._support_matrix`` scales them)."""
+    from ._linkage import _support_matrix
+
+    held = d["pin"].held
+    dirs = d["Q"][:2, :2].T[held[:2]]
+    rows = [_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, L)] if dirs.shape[0] else []
+    if held[2]:
+        rows.append(np.array([[0.0, 0.0, 1.0]]))
+    return np.vstack(rows) if rows else np.zeros((0, 3))
+
+
 class Tying:
     """The pins of a model tied to the mesh: which unknowns are eliminated, and how.
 
@@ -481,13 +494,7 @@ class Tying:
             L = max(float(np.ptp(xy, axis=0).max()), 1e-300)
             on = used[rows.node]
             parts = [_support_matrix(mesh.nodes[rows.node[on]], rows.direction[on], xc, L)]
-            for d in self.data:
-                held = d["pin"].held
-                dirs = d["Q"][:2, :2].T[held[:2]]
-                if dirs.shape[0]:
-                    parts.append(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, L))
-                if held[2]:
-                    parts.append(np.array([[0.0, 0.0, 1.0]]))
+            parts += [held_rows(d, xc, L) for d in self.data]
             free = _null(np.vstack(parts), 3)
             if free.shape[0]:
                 raise SupportError("the model can still move as a rigid body, so it has no unique answer: "
@@ -580,12 +587,7 @@ class Tying:
                 nodes = nn_s[inc & (body_s == b)]
                 r = _support_matrix(np.repeat(mesh.nodes[nodes], 2, axis=0), np.tile(ex, (nodes.size, 1)), xc, L)
                 add(np.hstack([r, -r]), [int(b), pb])
-            held = d["pin"].held
-            dirs = d["Q"][:2, :2].T[held[:2]]
-            if dirs.shape[0]:
-                add(_support_matrix(np.tile(d["point"], (dirs.shape[0], 1)), dirs, xc, L), [pb])
-            if held[2]:
-                add(np.array([[0.0, 0.0, 1.0]]), [pb])
+            add(held_rows(d, xc, L), [pb])
         A = []
         for r, blocks in groups:
             full = np.zeros((r.shape[0], ncol))
