@@ -24,10 +24,10 @@ from ..core.materials import Isotropic
 from ..core.model import Model
 from ..core.static import solve
 from ..core.supports import Fixed, Roller
-from ..post.handbook import HOLE_IN_STRIP_FORMULA, HOLE_IN_STRIP_SOURCE, kt_hole_in_strip
+from ..post.handbook import kt_hole_in_strip
 from ._register import case, check
+from .geometry_cases import PETERSON
 
-PETERSON = f"{HOLE_IN_STRIP_SOURCE}: {HOLE_IN_STRIP_FORMULA}"
 ROACHE = ("P. J. Roache, Verification and Validation in Computational Science and Engineering, 1998: "
           "Richardson extrapolation of a refinement series at the hole")
 ST_VENANT = ("A. J. C. B. de Saint-Venant 1855 (St Venant's principle; S. P. Timoshenko and J. N. Goodier, "
