@@ -57,11 +57,8 @@ def _where(where) -> str | tuple[float, float]:
     """A support's place: a name, or coordinates (x, y) as for a point force."""
     if isinstance(where, str):
         return where
-    try:
-        xy = np.asarray(where, dtype=float).reshape(-1)
-    except (TypeError, ValueError):
-        xy = np.zeros(0)
-    if xy.shape != (2,) or not np.all(np.isfinite(xy)):
+    xy = finite_vector(where)
+    if xy is None:
         raise InputError(f"a support acts on a named edge or point or at coordinates (x, y) of finite numbers, "
                          f"got {where!r}")
     return (float(xy[0]), float(xy[1]))
