@@ -116,7 +116,12 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
     nodes = result.mesh.nodes
     span = max(float(np.ptp(nodes, axis=0).max()), float(np.abs(nodes).max())) if nodes.size else 1.0
     z = lambda v, scale: format(0.0 if abs(v) < 1e-9 * scale else float(v) + 0.0, ".6g")  # noqa: E731
-    rows = [[r.name, r.kind, z(r.force[0], big), z(r.force[1], big), z(r.moment, big * span)] for r in recs]
+    from .inputs import _snapped, short_name
+
+    units = result.unit_system  # the supports come first, in the model's order: named in plain words
+    names = [short_name(s, units) + _snapped(s, units) for s in getattr(result.model, "supports", [])]
+    names += [r.name for r in recs[len(names):]]
+    rows = [[n, r.kind, z(r.force[0], big), z(r.force[1], big), z(r.moment, big * span)] for n, r in zip(names, recs)]
     where = f"({recs[0].about[0]:.6g}, {recs[0].about[1]:.6g})" if recs and about != "own" else "each one's own point"
     return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
                   "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
@@ -417,7 +422,11 @@ def _check_blocks(checks) -> list:
 
 
 def _plain_text(sections: list, names: dict[str, str]) -> None:
-    """Replace the Python spellings of supports, pins and loads in the text of every block by plain words."""
+    """Replace the Python spellings of supports, pins and loads in the text of every block by plain words.
+
+    The report's own tables say them plainly; this catches what it quotes from elsewhere (warnings and
+    notes raised while solving, a caller's extra sections).
+    """
     if not names:
         return
     import re
