@@ -45,17 +45,15 @@ WARN = 1e-5
 
 
 def _case_names(joint, cases) -> list[str]:
+    from .static import case_list
+
     known = joint.cases
     if not known:
         raise unknown_name("load case", "(none)", [], "add a load to a layer first with model.add_load(...)")
-    if cases is None:
-        return known
-    names = [str(cases)] if isinstance(cases, (str, int)) else [str(c) for c in cases]
+    names = case_list(cases, list(known))
     for c in names:
         if c not in known:
             raise unknown_name("load case", c, known)
-    if not names:
-        raise InputError(f"cases is empty; give at least one of {known}, or leave it out to solve every case")
     return names
 
 

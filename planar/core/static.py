@@ -134,21 +134,28 @@ def _case_names(model, cases) -> list[str]:
                          "planar.Model(mesh, material, thickness=...)")
     if not model.cases:
         raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)")
+    return case_list(cases, list(model.cases))
+
+
+def case_list(cases, known: list[str]) -> list[str]:
+    """``cases`` as a list of names: all of ``known`` (None), one name (a str), or a list of names;
+    a value of another kind, or an empty list, refused naming ``known`` (not checked against them)."""
+    from .errors import InputError
+
     if cases is None:
-        return list(model.cases)
+        return list(known)
     if isinstance(cases, (str, int)) and not isinstance(cases, bool):  # one name, not a sequence of letters
         return [str(cases)]
     if isinstance(cases, (bytes, dict)) or not hasattr(cases, "__iter__"):
         raise InputError(f"cases must be a load case name or a list of names, got {cases!r}; e.g. "
-                         f"cases={next(iter(model.cases))!r} or cases=[...] from {list(model.cases)}")
+                         f"cases={known[0]!r} or cases=[...] from {known}")
     names = list(cases)
     bad = [c for c in names if not isinstance(c, (str, int)) or isinstance(c, bool)]
     if bad:
-        raise InputError(f"cases must be load case names, got {bad[0]!r}; pick from {list(model.cases)}")
+        raise InputError(f"cases must be load case names, got {bad[0]!r}; pick from {known}")
     names = [str(c) for c in names]
     if not names:
-        raise InputError(f"cases is empty; give at least one of {list(model.cases)}, or leave it out to "
-                         "solve every case")
+        raise InputError(f"cases is empty; give at least one of {known}, or leave it out to solve every case")
     return names
 
 
