@@ -205,10 +205,7 @@ def _grow(mask: np.ndarray, conns) -> np.ndarray:
     """Nodes of every cell that touches a node in ``mask``."""
     out = mask.copy()
     for c in conns:
-        hit = mask[c[:, 0]]
-        for j in range(1, c.shape[1]):
-            hit |= mask[c[:, j]]
-        out[c[hit].ravel()] = True
+        out[c[_touches(mask, c)].ravel()] = True
     return out
 
 
