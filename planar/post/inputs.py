@@ -27,6 +27,7 @@ from typing import Any
 import numpy as np
 
 from ..core.units import UnitSystem, unit_system
+from ..core.zones import _WORDS
 
 __all__ = ["describe_support", "describe_pin", "describe_load", "describe_material", "input_rows", "plain",
            "short_name", "plain_names"]
@@ -339,11 +340,9 @@ def short_name(thing, units: UnitSystem | str | None = None) -> str:
     where = getattr(thing, "where", None)
     at = _where(where, units) if where is not None and not (name == "PointForce" and isinstance(where, str)) \
         else (f"point '{where}'" if where is not None else "")
-    words = {"Fixed": "clamp on {at}", "Roller": "roller on {at}", "Symmetry": "symmetry line on {at}",
-             "Prescribed": "prescribed motion on {at}", "Traction": "traction on {at}", "Pressure": "pressure on {at}",
-             "PointForce": "point force at {at}"}
-    if name in words:
-        return words[name].format(at=at)
+    word = {**_WORDS, "Traction": "traction", "Pressure": "pressure"}.get(name)  # the words of zones.plain_name
+    if word:
+        return f"{word} {'at' if name == 'PointForce' else 'on'} {at}"
     if name == "Pin":
         return f"pin '{thing.name}'"
     if name == "PinLoad":
