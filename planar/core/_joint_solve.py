@@ -116,7 +116,6 @@ class _Layer:
         note_snapped(mesh, lm.supports, pending_warnings(asm))
         zero_energy_check(asm, sink=pending_warnings(asm))
         ndof = 2 * mesh.n_nodes
-        self.unused = np.flatnonzero(~mesh.used_nodes())
         up, self.free, self.pdofs, free_index, pres_index = split_unknowns(mesh, cons, self.tie)
         self.entries = matrix_entries(asm)
         system = asm.system(free_index, pres_index, cons.rotation, timer)
@@ -316,7 +315,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         A singular joint matrix.
     """
     from ._joint_tables import JointResult
-    from .static import Results, _check_finite, _rigid_modes, full_unknowns
+    from .static import Results, _rigid_modes, finish_answer, full_unknowns
 
     timer = timer or Timer(verbose)
     cases = _case_names(joint, cases)
@@ -433,16 +432,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         outside[L.eliminated] = False
         Rl[L.pdofs] = L.system.prescribed_rows @ ul - L.Fl[L.pdofs] - (fs[L.pdofs] * outside[L.pdofs, None])
         P = L.tie.forces(Rl, L.free) if L.tie is not None else np.zeros((ndof, m))
-        _check_finite(ul, Rl, cases)
-        Rl[2 * L.unused] = 0.0
-        Rl[2 * L.unused + 1] = 0.0
-        rot = L.cons.rotation
-        if rot is not None:
-            U = rot.to_global(ul.reshape(-1, 2, m)).reshape(ndof, -1)
-            R = rot.to_global(Rl.reshape(-1, 2, m)).reshape(ndof, -1)
-            P = rot.to_global(P.reshape(-1, 2, m)).reshape(ndof, -1)
-        else:
-            U, R = ul, Rl
+        U, R, P = finish_answer(L.mesh, L.cons.rotation, ul, Rl, cases, P)
         rest = P.copy()
         rest[rest_off] = 0.0  # the forces other than the fasteners' own: the user's pins
         P = P + fs * outside[:, None]

@@ -362,15 +362,7 @@ def solve(model, cases: list[str] | None = None, *, solver: str = "auto", verbos
         for d in tie.data:
             if d["pin"].tie == "contact":
                 d["motion"] = np.column_stack([contact.pin_motion(d, j) for j in range(len(cases))])
-    _check_finite(ul, Rl, cases)
-    unused = np.flatnonzero(~mesh.used_nodes())
-    Rl[2 * unused] = 0.0
-    Rl[2 * unused + 1] = 0.0
-    if cons.rotation is not None:
-        U = cons.rotation.to_global(ul.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-        R = cons.rotation.to_global(Rl.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-    else:
-        U, R = ul, Rl
+    U, R = finish_answer(mesh, cons.rotation, ul, Rl, cases)
     pin_rows = tie.states(U, P, cases) if tie is not None else None
     contact_rows = contact.states(cases, model.unit_system, U) if contact is not None else None
     trust = diagnose.check_solution(asm, system, fac, rhs, sol, probe, cases, R + P, F, U,
@@ -407,6 +399,18 @@ def _out_of_memory(what: str, n: int, entries: int) -> ResourceError:
         f"{available_memory() / 2**30:.2f} GiB is free now); close other programs, use solver='amg', "
         "coarsen the mesh away from the stress raisers, or use a symmetry model"
     )
+
+
+def finish_answer(mesh, rotation, ul: np.ndarray, Rl: np.ndarray, cases: list[str], *more: np.ndarray) -> tuple:
+    """(U, R, *more) in global components from the answer in the supports' bases: a NaN or infinite
+    answer refused, and the reactions of the nodes in no cell (held by :func:`prescribed`) set to zero."""
+    _check_finite(ul, Rl, cases)
+    unused = np.flatnonzero(~mesh.used_nodes())
+    Rl[2 * unused] = 0.0
+    Rl[2 * unused + 1] = 0.0
+    if rotation is None:
+        return (ul, Rl, *more)
+    return tuple(rotation.to_global(v.reshape(-1, 2, v.shape[1])).reshape(v.shape) for v in (ul, Rl, *more))
 
 
 def _check_finite(u: np.ndarray, reactions: np.ndarray, cases: list[str]) -> None:
