@@ -396,7 +396,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         raise
     diag_, nrm = figures.result() if figures is not None else matrix_figures(lower)
     KV = matvec(lower, sol, diag_)
-    eta = np.abs(KV - rhs).max(axis=0) / np.maximum(nrm * np.abs(sol).max(axis=0) + np.abs(rhs).max(axis=0), 1e-300)
+    eta = diagnose._eta(rhs, KV, sol, nrm)  # the normwise backward error, as the solve's check reads it
     timer.lap("solve")
     # the springs' forces: k s, the force each fastener passes from layer a into layer b
     s = B @ sol + c[:, None]
