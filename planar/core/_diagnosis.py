@@ -7,9 +7,9 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import connected_components
 
 from ._conditioning import EPS, _rayleigh, matvec, norm_inf, probe_vector
+from ._conformity import _pieces
 from .errors import SolverError, fmt_point
 
 __all__ = ["diagnose", "explain_failure", "mode_strain", "ZERO_STRAIN", "CONTRAST", "SLENDER", "RANGE"]
@@ -75,17 +75,10 @@ def _contrast(asm, masks, supported: np.ndarray):
         # the mesh without the soft regions: a piece of it that holds no support hangs on soft material
         n = mesh.n_nodes
         keep = [b for b in asm.blocks if _block_stiffness(b) * CONTRAST >= kmax]
-        rr, cc = [], []
-        for b in keep:
-            c = b.conn
-            rr.append(np.repeat(c[:, :1], c.shape[1], axis=1).ravel())
-            cc.append(c.ravel())
-        r = np.concatenate(rr)
-        c = np.concatenate(cc)
-        G = sp.coo_matrix((np.ones(r.size, dtype=np.int8), (r, c)), shape=(n, n))
-        _, label = connected_components(G, directed=False)
+        label = _pieces(n, {i: b.conn for i, b in enumerate(keep)})
         used = np.zeros(n, dtype=bool)
-        used[c] = True
+        for b in keep:
+            used[b.conn.ravel()] = True
         soft_mask = np.zeros(n, dtype=bool)
         for b in soft:
             soft_mask[b.conn.ravel()] = True
