@@ -5,6 +5,7 @@ import numpy as np
 
 from ._advice_locking import free_of_locking
 from ._advice_units import _strain_scale
+from ._conformity import _pieces
 from .assembly import CHUNK, element_strains
 from .errors import fmt_point
 
@@ -213,18 +214,7 @@ def _zones(nodes, conns, area, thin, tree):
     """Connected zones of thin cells with their shape; [(labels per block, shape, member per block)]."""
     if not any(t.any() for t in thin):
         return []
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
-    n = nodes.shape[0]
-    rows, cols = [], []
-    for c, t in zip(conns, thin):
-        ct = c[t]
-        rows.append(np.repeat(ct[:, :1], ct.shape[1], axis=1).ravel())
-        cols.append(ct.ravel())
-    r = np.concatenate(rows); cc = np.concatenate(cols)
-    G = coo_matrix((np.ones(r.size, np.int8), (r, cc)), shape=(n, n))
-    _, lab = connected_components(G, directed=False)
+    lab = _pieces(nodes.shape[0], {k: c[t] for k, (c, t) in enumerate(zip(conns, thin))})
     labels = [np.where(t, lab[c[:, 0]], -1) for c, t in zip(conns, thin)]
     present = np.unique(np.concatenate([l[l >= 0] for l in labels]))
     remap = np.full(lab.max() + 1, -1, np.int64)
