@@ -49,8 +49,9 @@ import math
 
 import numpy as np
 
-from .errors import fmt_point, warn
+from .errors import InputError, fmt_point, warn
 from .fields import FIELD_TABLE
+from .units import stress_unit
 
 __all__ = ["CONCENTRATION", "STEEP_FALL", "LINEAR_UNDER_READ", "is_linear", "has_linear", "linear_peak",
            "raiser_at"]
@@ -189,12 +190,10 @@ def raiser_at(result, node: int, values: np.ndarray) -> dict | None:
 def _stress_unit(result) -> str:
     """The stress unit of the model's units (e.g. "MPa"), or words saying where it comes from."""
     try:
-        from ._advice_units import _stress_unit as unit_of
-
-        u = unit_of(str(getattr(result, "units", "") or ""))
-    except Exception:  # the units module's helper changed: the words below still state the units
-        u = None
-    return u if u else "(model stress units)"
+        u = stress_unit(str(getattr(result, "units", "") or ""))
+    except InputError:  # units text of no known system: the words below still state the units
+        u = ""
+    return u or "(model stress units)"
 
 
 def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
