@@ -208,15 +208,17 @@ def nodal_average(n_nodes: int, fields: Iterable[tuple], *, empty: float = np.na
     Each element's values go to its nodes by the least-squares fit of :func:`extrapolation_matrix`;
     a node takes the mean over the elements that share it (common practice).
     """
-    acc = None
-    cnt = np.zeros(n_nodes)
+    ids, parts = [], []
     for etype, rule, conn, vals in fields:
         E = extrapolation_matrix(etype, rule)  # (k, q)
-        nv = np.einsum("kq,eqc->ekc", E, vals)
-        if acc is None:
-            acc = np.zeros((n_nodes, vals.shape[-1]))
-        np.add.at(acc, conn.ravel(), nv.reshape(-1, vals.shape[-1]))
-        np.add.at(cnt, conn.ravel(), 1.0)
+        ids.append(np.asarray(conn).ravel())
+        parts.append(np.einsum("kq,eqc->ekc", E, vals).reshape(-1, vals.shape[-1]))
+    acc = None
+    cnt = np.zeros(n_nodes)
+    if ids:  # one bincount per component over all blocks: the sums of np.add.at, in the same order
+        idx, nv = np.concatenate(ids), np.concatenate(parts)
+        acc = np.column_stack([np.bincount(idx, nv[:, j], minlength=n_nodes) for j in range(nv.shape[1])])
+        cnt = np.bincount(idx, minlength=n_nodes).astype(float)
     with np.errstate(invalid="ignore", divide="ignore"):
         out = acc / cnt[:, None]
     out[cnt == 0] = empty
