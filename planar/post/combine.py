@@ -65,6 +65,11 @@ def _factor(name: str, value) -> float:
     return number(value, f"the factor of {name!r}")
 
 
+def combination_text(name, factors: Mapping[str, float]) -> str:
+    """``"name = 1.35 x dead + 1.5 x wind"``; a negative factor reads ``- 1 x wind``."""
+    return f"{name} = " + " + ".join(f"{float(f):g} x {c}" for c, f in factors.items()).replace("+ -", "- ")
+
+
 def _same_analysis(a: Result, b: Result) -> bool:
     """True when two results come from one model on one mesh, so that superposition holds."""
     if a.assembly is b.assembly:
@@ -189,8 +194,7 @@ class CombinedResult(Result):
 
     def describe(self) -> str:
         """The combination as text, e.g. ``"ultimate = 1.0 x pull + 1.5 x shear"``."""
-        terms = [f"{f:g} x {c}" for c, f in self.factors.items()]
-        return f"{self.case} = " + " + ".join(terms).replace("+ -", "- ")
+        return combination_text(self.case, self.factors)
 
     def __repr__(self) -> str:
         return f"CombinedResult({self.describe()!r})"
@@ -285,8 +289,7 @@ class Combination:
         return combine(results, self.factors, name=self.name)
 
     def describe(self) -> str:
-        terms = [f"{_factor(c, f):g} x {c}" for c, f in self.factors.items()]
-        return f"{self.name} = " + " + ".join(terms).replace("+ -", "- ")
+        return combination_text(self.name, {c: _factor(c, f) for c, f in self.factors.items()})
 
 
 def combinations(results: Mapping[str, Result],

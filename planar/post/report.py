@@ -606,17 +606,17 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     analysed.append(KeyValues(describe_model_rows(model, result.case),
                               caption="Inputs: analysis, units, materials and thicknesses, supports, pins, load "
                                       "cases and loads"))
+    from .combine import combination_text
+
     combos = []
     factors = getattr(result, "factors", None)
     if factors:
-        terms = " + ".join(f"{f:g} x {c}" for c, f in factors.items()).replace("+ -", "- ")
-        combos.append(("combination checked", f"{result.case} = {terms}"))
+        combos.append(("combination checked", combination_text(result.case, factors)))
     items = combinations.items() if hasattr(combinations, "items") else \
         [(getattr(c, "name", ""), getattr(c, "factors", c)) for c in combinations]
     for name, fac in items:
-        terms = " + ".join(f"{float(f):g} x {c}" for c, f in dict(fac).items()).replace("+ -", "- ")
         if not factors or str(name) != str(result.case):
-            combos.append(("combination", f"{name} = {terms}"))
+            combos.append(("combination", combination_text(name, dict(fac))))
     if combos:
         analysed.append(KeyValues(combos, caption="Load combinations (linear superposition of the solved cases)"))
     sections.append(Section("What was analysed", analysed))
