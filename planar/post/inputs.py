@@ -77,7 +77,7 @@ def _direction(d) -> str:
 
 def describe_support(support, units: UnitSystem | str | None = None) -> str:
     """One support in plain words, with units (see the module notes)."""
-    units = unit_system(units) if not isinstance(units, UnitSystem) else units
+    units = unit_system(units)
     own = getattr(support, "describe_plain", None)
     if callable(own):
         return str(own(units))
@@ -107,7 +107,7 @@ def describe_support(support, units: UnitSystem | str | None = None) -> str:
 
 def describe_pin(pin, units: UnitSystem | str | None = None, mesh=None) -> str:
     """One pin in plain words: its edge, tie, point, what it holds, its prescribed motion."""
-    units = unit_system(units) if not isinstance(units, UnitSystem) else units
+    units = unit_system(units)
     own = getattr(pin, "describe_plain", None)
     if callable(own):
         return str(own(units))
@@ -153,7 +153,7 @@ def describe_pin(pin, units: UnitSystem | str | None = None, mesh=None) -> str:
 
 def describe_load(load, units: UnitSystem | str | None = None) -> str:
     """One load in plain words, with units (a plugin's load: its ``describe_plain`` or ``describe()``)."""
-    units = unit_system(units) if not isinstance(units, UnitSystem) else units
+    units = unit_system(units)
     own = getattr(load, "describe_plain", None)
     if callable(own):
         return str(own(units))
@@ -210,7 +210,7 @@ def describe_load(load, units: UnitSystem | str | None = None) -> str:
 
 def describe_material(material, units: UnitSystem | str | None = None) -> str:
     """A material's constants with units (moduli in the stress unit, density in the density unit)."""
-    units = unit_system(units) if not isinstance(units, UnitSystem) else units
+    units = unit_system(units)
     own = getattr(material, "describe_plain", None)
     if callable(own):
         return str(own(units))
@@ -332,7 +332,7 @@ def plain(thing: Any, units: UnitSystem | str | None = None, mesh=None) -> str:
 
 def short_name(thing, units: UnitSystem | str | None = None) -> str:
     """A few plain words naming a support, pin or load (``"clamp on edge 'left'"``), for running text."""
-    units = unit_system(units) if not isinstance(units, UnitSystem) else units
+    units = unit_system(units)
     own = getattr(thing, "short_name", None)
     if callable(own):
         return str(own())
