@@ -40,9 +40,9 @@ from ..core.elements import line_shape
 from ..core.errors import InputError, MeshError, fmt_point
 from ..core.fields import as_centre
 from ..core.quadrature import gauss_line
-from ..core.recovery import METHODS
 from ..core.result import as_result, stress_measures
 from ..core.units import length_unit, stress_unit
+from .checks import _check_recovery
 
 __all__ = ["EdgeStresses", "EdgePeak", "edge_stresses", "plot_edge_stresses", "EDGE_FIELDS", "fit_circle"]
 
@@ -429,8 +429,7 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
     so on a free edge both vanish and sigma_t is the only stress (common practice).
     """
     result = as_result(result, "edge_stresses")
-    if recovery not in METHODS:
-        raise InputError(f"unknown stress recovery {recovery!r}; pick one of {', '.join(METHODS)}")
+    _check_recovery(recovery)
     if points_per_segment is not None and (isinstance(points_per_segment, bool) or not isinstance(
             points_per_segment, (int, np.integer)) or points_per_segment < 2):
         raise InputError(f"points_per_segment must be a whole number of at least 2 (or None for the nodes), "
