@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..core.compat import deprecated, renamed_keywords
-from ..core.values import number
+from ..core.values import finite_vector, number
 from ..core.errors import InputError, PlanarWarning, warn
 from ..core.quadrature import gauss_line
 from ..core.recovery import METHODS
@@ -102,8 +102,8 @@ def _positive(value, what: str) -> float:
 
 
 def _point(p, what: str) -> np.ndarray:
-    a = np.asarray(p, dtype=float).reshape(-1)
-    if a.shape != (2,) or not np.all(np.isfinite(a)):
+    a = finite_vector(p)
+    if a is None:
         raise InputError(f"{what} must be a point (x, y), got {p!r}")
     return a
 
