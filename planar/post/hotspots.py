@@ -345,7 +345,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
 
     from ..core.zones import idealised_reason, near_idealised, node_sizes
     from .checks import _check_recovery, margin_of_safety
-    from .plots import field_unit, length_unit
+    from ..core.units import field_unit, length_unit
 
     result = as_result(result, "hot_spots")
     _check_recovery(recovery)

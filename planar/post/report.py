@@ -77,7 +77,7 @@ def equilibrium_table(result) -> Table:
 
     R = np.asarray(result.total_reaction(), float)
     F = np.asarray(result.total_applied(), float)
-    from .plots import force_unit
+    from ..core.units import force_unit
 
     force = force_unit(getattr(result, "units", ""))
     rows = []
@@ -85,7 +85,7 @@ def equilibrium_table(result) -> Table:
         rows.append([f"force in {comp}" + (f" [{force}]" if force else ""), f"{F[k]:.6g}", f"{R[k]:.6g}",
                      f"{F[k] + R[k]:.3g}"])
     if hasattr(result, "total_moment"):  # moments about the origin, the pins' loads and reactions included
-        from .plots import length_unit
+        from ..core.units import length_unit
 
         ma, mr = result.total_moment((0.0, 0.0))
         unit = f"{force} {length_unit(getattr(result, 'units', ''))}".strip() if force else ""
@@ -104,7 +104,7 @@ def equilibrium_table(result) -> Table:
 def reactions_table(result, about=(0.0, 0.0)) -> Table:
     """The force and moment of each support and each pin on the part (:meth:`planar.Result.support_reactions`)."""
     result = as_result(result, "reactions_table")
-    from .plots import force_unit, length_unit
+    from ..core.units import force_unit, length_unit
 
     force = force_unit(getattr(result, "units", ""))
     moment = f"{force} {length_unit(getattr(result, 'units', ''))}".strip() if force else ""
