@@ -34,6 +34,7 @@ import numpy as np
 
 from ..core.errors import InputError, unknown_name
 from ..core.units import unit_system
+from ..core.values import finite_vector
 from ._outline import Outline
 
 __all__ = ["plot_model", "SYMBOLS"]
@@ -398,8 +399,8 @@ def _fastener_points(model, given) -> np.ndarray:
                 if hasattr(f, attr):
                     p = getattr(f, attr)
                     break
-            xy = np.asarray(p, dtype=float).reshape(-1)
-            if xy.shape != (2,) or not np.all(np.isfinite(xy)):
+            xy = finite_vector(p)
+            if xy is None:
                 raise InputError(f"a fastener is drawn at a point (x, y) of finite numbers, got {f!r}")
             pts.append(xy)
     return np.array(pts).reshape(-1, 2)
