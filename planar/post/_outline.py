@@ -15,6 +15,7 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from ..core.validity import side_table
 from ._subdivide import _etype_of
 
 __all__ = ["Outline", "true_scale", "side_pairs", "dashed_sides", "outline_path", "DISTORTION"]
@@ -23,26 +24,27 @@ __all__ = ["Outline", "true_scale", "side_pairs", "dashed_sides", "outline_path"
 DISTORTION = 0.03
 
 
-def _sides(cells: Mapping[str, np.ndarray], etypes=None):
-    """For every cell side: (block index, cell, local edge, corner node pair sorted) over all blocks."""
-    blocks, cell_ids, edge_ids, keys, layouts = [], [], [], [], []
-    for b, (layout, conn) in enumerate(cells.items()):
-        conn = np.asarray(conn)
-        if conn.size == 0:
-            continue
-        et = _etype_of(layout, etypes)
-        ed = np.asarray(et.edges)
-        e, ne = conn.shape[0], ed.shape[0]
-        k = np.sort(np.stack([conn[:, ed[:, 0]], conn[:, ed[:, 1]]], axis=-1), axis=-1).reshape(-1, 2)
-        keys.append(k)
-        blocks.append(np.full(e * ne, b))
-        cell_ids.append(np.repeat(np.arange(e), ne))
-        edge_ids.append(np.tile(np.arange(ne), e))
-        layouts.append(layout)
-    if not keys:
+def _boundary_sides(n_nodes: int, cells: Mapping[str, np.ndarray], etypes=None):
+    """The sides used by one cell only: (block index, cell, local edge, corner node pair sorted), in cell order.
+
+    From the mesh's side table (:func:`planar.core.validity.side_table`), as the element checks read it.
+    """
+    if not cells:
         z = np.zeros(0, np.int64)
         return z, z, z, np.zeros((0, 2), np.int64)
-    return (np.concatenate(blocks), np.concatenate(cell_ids), np.concatenate(edge_ids), np.vstack(keys))
+    table = side_table(n_nodes, {k: np.asarray(v, np.int64) for k, v in cells.items()},
+                       lambda layout: np.asarray(_etype_of(layout, etypes).edges)[:, :2])
+    pair = table.key >> 1  # sorted; the orientation bit dropped
+    alone = np.ones(pair.size, bool)
+    alone[1:] &= pair[1:] != pair[:-1]
+    alone[:-1] &= pair[:-1] != pair[1:]
+    side = np.sort(table.order[alone])
+    firsts = np.array([first for _, first, _ in table.blocks], np.int64)
+    per = np.array([n for _, _, n in table.blocks], np.int64)
+    block = np.searchsorted(firsts, side, side="right") - 1
+    local = side - firsts[block]
+    corners = np.sort(np.stack([table.a[side], table.b[side]], axis=1), axis=1)
+    return block, local // per[block], local % per[block], corners
 
 
 class Outline:
@@ -74,14 +76,7 @@ class Outline:
         self.etypes = etypes
         self.samples = int(samples)
         nodes = np.asarray(nodes, float)[:, :2]
-        block, cell, edge, keys = _sides(self.cells, etypes)
-        if keys.shape[0]:
-            code = keys[:, 0].astype(np.int64) * (int(keys.max()) + 1) + keys[:, 1]   # one int per side
-            _, inv, count = np.unique(code, return_inverse=True, return_counts=True)
-            once = count[inv.reshape(-1)] == 1
-        else:
-            once = np.zeros(0, bool)
-        self.block, self.cell, self.edge, self.corners = block[once], cell[once], edge[once], keys[once]
+        self.block, self.cell, self.edge, self.corners = _boundary_sides(nodes.shape[0], self.cells, etypes)
         layouts = list(self.cells)
         centre = np.zeros((self.corners.shape[0], 2))
         for b, layout in enumerate(layouts):
