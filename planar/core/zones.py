@@ -46,6 +46,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, NameNotFoundError, choices, fmt_point, unknown_name
+from .kinematics import _corner_count
 from .values import finite_vector
 
 __all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away", "as_zone", "idealisations",
@@ -384,7 +385,7 @@ def node_sizes(mesh) -> np.ndarray:
     h = np.zeros(mesh.n_nodes)
     for layout, conn in mesh.cells.items():
         conn = np.asarray(conn)
-        k = 4 if layout.startswith("Q") and conn.shape[1] >= 4 else 3
+        k = _corner_count(layout, conn.shape[1])  # from the element type, so a plugin's layout counts too
         p = mesh.nodes[conn[:, :k]]
         x, y = p[..., 0], p[..., 1]
         area = 0.5 * np.abs(np.sum(x * np.roll(y, -1, axis=1) - np.roll(x, -1, axis=1) * y, axis=1))
