@@ -100,6 +100,12 @@ def as_results(obj: Any, where: str) -> "dict[str, CaseResult]":
 
     if isinstance(obj, Mapping):
         for k, v in obj.items():
+            layers = getattr(v, "layers", None)
+            if not isinstance(v, CaseResult) and hasattr(v, "fasteners") and isinstance(layers, Mapping):
+                first = repr(next(iter(layers), "layer"))
+                raise InputError(f"{where}: results[{k!r}] is a joint's result, which holds one Result per layer "
+                                 f"({', '.join(map(repr, layers))}); give {where} one layer's results at a time, e.g. "
+                                 f"{{case: r.layers[{first}] for case, r in results.items()}}")
             if not isinstance(v, CaseResult):
                 raise InputError(f"{where}: results[{k!r}] is a {type(v).__name__}, not a planar Result; "
                                  "pass the dict planar.solve(model) returns (name -> Result)")

@@ -1,0 +1,54 @@
+"""Fastened joints tried on joints of our own (second round): the defects found and fixed.
+
+Sources:
+- superposition (common practice): a linear static answer is linear in its loads, so a combination
+  of load cases is the same combination of the cases' results, each layer's and each fastener's.
+"""
+import numpy as np
+import pytest
+
+import planar
+from planar.core.errors import InputError
+
+
+def _lap_two_cases():
+    """Two 40 mm wide, 3 mm strips lapped and joined by a 2 x 2 bolt group; pulled along and across."""
+    def strip(x0, x1):
+        m = planar.rectangle_mesh(x1 - x0, 40.0, int((x1 - x0) / 2.0), 20, element="Q8", origin=(x0, -20.0))
+        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=3.0, units="N, mm, MPa")
+    top, bottom = strip(0.0, 140.0), strip(100.0, 240.0)
+    top.add_support(planar.Fixed("left"))
+    bottom.add_load(planar.Traction("right", tx=30.0), case="tension")
+    bottom.add_load(planar.Traction("right", ty=8.0), case="shear")
+    joint = planar.Joint({"top": top, "bottom": bottom})
+    joint.add_fasteners(planar.Fasteners([(110.0, -10.0), (110.0, 10.0), (130.0, -10.0), (130.0, 10.0)],
+                                         layers=("top", "bottom"), diameter=6.0, flexibility=3e-5, name="group"))
+    return joint
+
+
+@pytest.fixture(scope="module")
+def two_cases():
+    return planar.solve(_lap_two_cases())
+
+
+@pytest.mark.parametrize("what", ["combine", "envelope"])
+def test_joint_results_given_to_combine_name_the_layer_fix(two_cases, what):
+    # the message pointed to planar.solve(model); a joint's result holds one Result per layer
+    from planar.post import combine, envelope
+
+    call = {"combine": lambda r: combine(r, {"tension": 1.5, "shear": 1.5}), "envelope": lambda r: envelope(r)}[what]
+    with pytest.raises(InputError, match=r"joint's result.*\('top', 'bottom'\).*r\.layers\['top'\]"):
+        call(two_cases)
+
+
+def test_the_layer_fix_combines_as_a_direct_solve(two_cases):
+    # superposition (common practice): 1.5 tension + 1.5 shear combined equals the solve of those loads
+    from planar.post import combine
+
+    layer = combine({c: r.layers["bottom"] for c, r in two_cases.items()}, {"tension": 1.5, "shear": 1.5})
+    joint = _lap_two_cases()
+    joint.layers["bottom"].add_load(planar.Traction("right", tx=45.0, ty=12.0), case="ultimate")
+    direct = planar.solve(joint, cases="ultimate")["ultimate"]
+    assert np.allclose(layer.u, direct.layers["bottom"].u, rtol=1e-9, atol=1e-12 * np.abs(layer.u).max())
+    V = 1.5 * two_cases["tension"].fasteners.shear + 1.5 * two_cases["shear"].fasteners.shear
+    assert np.allclose(direct.fasteners.shear, V, rtol=0, atol=1e-9 * np.abs(V).max())
