@@ -78,6 +78,29 @@ def read_meshio(path: str | os.PathLike, what: str = "mesh file", *, changed: st
         ) from None
 
 
+def _legacy_gmsh_sets(m, kinds: list) -> dict[str, list]:
+    """Named sets of a gmsh version 2 file, which meshio gives as field data and cell data.
+
+    A version 4 file gives its physical groups as ``cell_sets``; a version 2 file gives their names
+    in ``field_data`` (name -> [tag, dimension]) and each cell's group tag in the cell data
+    ``gmsh:physical``. Each named group becomes the ids, per cell block, of the cells of its
+    dimension that carry its tag.
+    """
+    tags = (m.cell_data or {}).get("gmsh:physical")
+    if not tags or not m.field_data:
+        return {}
+    dims = {"cell": 2, "edge": 1, "points": 1, "vertex": 0}
+    out = {}
+    for name, data in m.field_data.items():
+        data = np.asarray(data).ravel()
+        if data.size < 2:
+            continue
+        tag, dim = int(data[0]), int(data[1])
+        out[name] = [np.flatnonzero(np.asarray(t) == tag) if dims.get(k) == dim else None
+                     for k, t in zip(kinds, tags)]
+    return out
+
+
 @dataclass
 class Mesh:
     """A 2D finite-element mesh with named sets.
@@ -512,7 +535,7 @@ class Mesh:
         edge_sets: dict[str, list[np.ndarray]] = {}
         node_sets: dict[str, list[np.ndarray]] = {}
         regions: dict[str, dict[str, list[np.ndarray]]] = {}
-        for name, per_block in (m.cell_sets or {}).items():
+        for name, per_block in (m.cell_sets or _legacy_gmsh_sets(m, kinds)).items():
             if name.startswith("gmsh:"):
                 continue
             for bi, ids in enumerate(per_block):

@@ -1,0 +1,53 @@
+"""Defects found by using planar on parts of one's own (brackets, notched straps, webs, meshes from
+files, broken inputs), each with the check that would have caught it."""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import planar
+
+# a 10 x 2 strip of two linear triangles in gmsh's version 2.2 ASCII format, with named physical
+# groups: the left and right ends (lines) and the plate (surface)
+MSH22 = """$MeshFormat
+2.2 0 8
+$EndMeshFormat
+$PhysicalNames
+3
+1 1 "left"
+1 2 "right"
+2 3 "strip"
+$EndPhysicalNames
+$Nodes
+4
+1 0 0 0
+2 10 0 0
+3 10 2 0
+4 0 2 0
+$EndNodes
+$Elements
+4
+1 1 2 1 1 4 1
+2 1 2 2 2 2 3
+3 2 2 3 1 1 2 3
+4 2 2 3 1 1 3 4
+$EndElements
+"""
+
+
+def test_gmsh_version_2_file_keeps_its_physical_names(tmp_path):
+    # a version 2 .msh names its physical groups in $PhysicalNames; they were dropped (meshio gives
+    # them as field data, not cell sets), so every edge name was "not found" with "(none defined)"
+    path = tmp_path / "strip22.msh"
+    path.write_text(MSH22)
+    m = planar.Mesh.read(path)
+    assert sorted(m.edge_sets) == ["left", "right"]
+    assert sorted(m.region_names()) == ["strip"]
+    model = planar.Model(m, planar.Isotropic(E=1000.0, nu=0.0), thickness=1.0)
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller((0.0, 0.0), fixed="y"))
+    model.add_load(planar.Traction("right", tx=5.0), case="pull")
+    r = planar.solve(model)["pull"]
+    # a bar in tension, nu = 0: end displacement sigma L / E = 5 x 10 / 1000 (elementary
+    # strength of materials, Hooke's law)
+    assert r.u[:, 0].max() == pytest.approx(0.05, rel=1e-9)
