@@ -4,6 +4,7 @@ from __future__ import annotations
 import numpy as np
 
 from .errors import fmt_point
+from .kinematics import _corner_count
 from .units import systems, unit_system
 
 __all__ = ["DISPLACEMENT_FRACTION", "STRAIN_LIMIT", "STRAIN_SAMPLE", "STRAIN_QUANTILE", "TINY_STRAIN", "MODULUS_LIMIT",
@@ -29,8 +30,9 @@ MODULUS_LIMIT = {**{s.stress: MODULUS_LIMIT_MPA / s.to_mpa for s in systems()},
                  "N/mm2": MODULUS_LIMIT_MPA, "N/mm^2": MODULUS_LIMIT_MPA}
 #: cells sampled per solve for the strain level (a strided sample, spread over the whole mesh)
 STRAIN_SAMPLE = 20000
-#: the strain level is this quantile of the sampled cells' strains: a unit mix-up scales the whole
-#: field, while a point force or a re-entrant corner makes a few cells' strains as large as one likes
+#: the strain level is this quantile of the sampled cells' strains weighted by their areas: a unit
+#: mix-up scales the whole field, while a point force, a re-entrant corner or a thin ligament makes a
+#: small area's strains as large as one likes, however many cells a graded mesh puts there
 STRAIN_QUANTILE = 0.99
 
 
@@ -55,7 +57,7 @@ def _strain_level(r) -> tuple[float, float, np.ndarray]:
     total = sum(b.n for b in blocks)
     stride = max(1, total // STRAIN_SAMPLE)
     e0s = getattr(r, "_e0", None) or [None] * len(blocks)
-    mags, cents = [], []
+    mags, cents, areas = [], [], []
     for b, e0 in zip(blocks, e0s):
         sel = np.arange(0, b.n, stride)
         c = b.conn[sel]
@@ -79,12 +81,26 @@ def _strain_level(r) -> tuple[float, float, np.ndarray]:
         mag[~np.isfinite(mag)] = 0.0
         mags.append(mag)
         cents.append((p0 + p1 + p2) / 3.0)
+        # the cell's area: its corner triangle's, times the corner triangles a polygon of its corners makes
+        corners = _corner_count(b.layout, b.conn.shape[1])
+        areas.append(np.abs(np.where(np.isfinite(det), det, 0.0)) * 0.5 * max(corners - 2, 1))
     mag = np.concatenate(mags) if mags else np.zeros(0)
     if mag.size == 0:
         return 0.0, 0.0, np.zeros(2)
     i = int(np.argmax(mag))
-    q = float(np.quantile(mag, STRAIN_QUANTILE))
+    q = _weighted_quantile(mag, np.concatenate(areas), STRAIN_QUANTILE)
     return q, float(mag[i]), np.concatenate(cents)[i]
+
+
+def _weighted_quantile(values: np.ndarray, weights: np.ndarray, q: float) -> float:
+    """The value below which the fraction ``q`` of the total weight lies (the plain quantile if no weight)."""
+    total = float(weights.sum())
+    if not total > 0.0:
+        return float(np.quantile(values, q))
+    order = np.argsort(values, kind="stable")
+    cum = np.cumsum(weights[order])
+    k = min(int(np.searchsorted(cum, q * cum[-1], side="left")), values.size - 1)
+    return float(values[order][k])
 
 
 def _stress_unit(units) -> str | None:
@@ -150,7 +166,7 @@ def _units(asm, res) -> list[tuple[str, str, list]]:
         r, q, e, p = max(big_e, key=lambda t: t[1])
         names = ", ".join(repr(x[0].case) for x in big_e)
         out.append(("units",
-                    f"strains far beyond elastic: in load case {r.case!r} one cell in a hundred strains more than "
+                    f"strains far beyond elastic: in load case {r.case!r} one per cent of the part's area strains more than "
                     f"{q:.3g} (up to {e:.3g} near {fmt_point(p)}; limit {STRAIN_LIMIT:g}, twice what any structural "
                     f"metal reaches elastically; load case(s) {names}); "
                     "the usual cause is mixed units (e.g. E in GPa with stresses in MPa, or E in MPa with "
