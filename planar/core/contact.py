@@ -32,7 +32,11 @@ condensed onto the contact nodes with one factorization:
   with ``h = B K_a^-1 F`` and the flexibility ``W = B K_a^-1 B^T``.
 * The condensed problem is written over the candidate nodes only: those that penetrate in the
   springs' answer, widened along the edge, and the anchors. ``W`` over them (m_c x m_c) comes from
-  one multi-right-hand-side solve with the factor (its forward half ``Z = L^-1 P B^T``, ``W = Z^T Z``,
+  the Schur complement ``S`` of ``K_a`` on the unknowns that ``B`` touches (the edge nodes' and the pins'
+  free translations, a few hundred), which the factorization returns where the back end offers it
+  (PARDISO): ``[K_a^-1]`` over those unknowns is ``S^-1``, so ``W = B_s S^-1 B_s^T`` for every contact
+  row at once by a dense Cholesky of ``S``, and ``h`` needs only the forward half of one solve; else
+  from one multi-right-hand-side solve with the factor (its forward half ``Z = L^-1 P B^T``, ``W = Z^T Z``,
   where the back end offers it). Where the contact arc reaches the edge of the candidates, or the
   answer makes a node left out penetrate, the set grows (only the new nodes' columns are solved) and
   the iteration runs again; the nodes left out carry nothing and are open.
@@ -73,6 +77,9 @@ SINGULAR_RCOND = 1e-11
 ANCHORS = 8
 #: bytes of right-hand sides per block of the flexibility solve
 BLOCK_BYTES = 64 * 2**20
+#: the most unknowns (edge nodes' and pins' free translations) whose dense Schur complement the
+#: factorization is asked for (32 MB at this size); beyond, the flexibility comes from solves
+SCHUR_MAX = 2000
 
 
 @dataclass
@@ -325,11 +332,15 @@ class ContactSet:
         low = (system.lower + sp.tril(BtDB).tocsc()).tocsc()
         low.sum_duplicates()
         low.sort_indices()
+        touched = np.unique(B.indices).astype(np.int64)
+        if 0 < touched.size <= SCHUR_MAX:  # the factorization may return their Schur complement (solvers.factorize)
+            low.schur_unknowns = touched
         from .assembly import ReducedSystem
 
         self.system = ReducedSystem(low, system.prescribed_rows)
         self.iterations: list[int] = []
         self.mu = None
+        self._W = None
 
     # ------------------------------------------------------------------ the condensed problem
     def flexibility(self, fac, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -338,8 +349,11 @@ class ContactSet:
         Multi-RHS solves with the factor in column blocks, only for rows not met before (the set
         only grows). Where the back end offers the forward half ``Z = L^-1 P B_c^T`` alone, ``W = Z^T Z``
         over the rows where ``Z`` is not zero (the elimination tree's paths from the edge), kept
-        compressed; else ``B`` times the full solves.
+        compressed; else ``B`` times the full solves. With the factor's Schur complement (:meth:`_schur_rows`),
+        ``W`` over every row is at hand already and this only picks ``rows`` out of it.
         """
+        if self._W is not None:
+            return rows, self._W[np.ix_(rows, rows)]
         new = np.setdiff1d(rows, self._done)
         step = max(8, int(BLOCK_BYTES // (8 * max(self.n_new, 1))))
         forward = hasattr(fac, "forward") and hasattr(fac, "gram_of")
@@ -365,6 +379,18 @@ class ContactSet:
             return order, fac.gram_of(Zc)
         W = np.hstack(self._blocks)[order] if self._blocks else np.zeros((0, 0))
         return order, (W + W.T) / 2
+
+    def _schur_rows(self, fac) -> np.ndarray | None:
+        """``B`` over the factor's Schur unknowns (dense, m x ns), or None where the factor returned no Schur
+        complement, or one that leaves out an unknown that ``B`` touches."""
+        u = getattr(fac, "schur_unknowns", None)
+        if u is None or not hasattr(fac, "schur_gram") or not hasattr(fac, "schur_part"):
+            return None
+        B = self.B
+        pos = np.searchsorted(u, B.indices)
+        if pos.size and (pos.max() >= u.size or np.any(u[pos] != B.indices)):
+            return None
+        return sp.csr_matrix((B.data, pos, B.indptr), shape=(self.m, u.size)).toarray()
 
     def _sorted_rows(self):
         """Each pin's rows in angle order, and whether its edge closes on itself."""
@@ -407,7 +433,13 @@ class ContactSet:
         """
         rhs = np.asarray(rhs).reshape(self.n_new, -1)
         nc = rhs.shape[1]
-        h = self.B @ fac.solve(rhs).reshape(self.n_new, -1)  # the relative motions with mu = 0
+        Bs = self._schur_rows(fac)
+        if Bs is not None:  # the Schur complement on B's unknowns: W over every row, no solve for it
+            h = Bs @ fac.schur_part(rhs)  # the relative motions with mu = 0, by the forward half of a solve
+            self._W = fac.schur_gram(Bs)
+        else:
+            self._W = None
+            h = self.B @ fac.solve(rhs).reshape(self.n_new, -1)  # the relative motions with mu = 0
         gf = (self.g0 + self.d0)[:, None] + h
         fixed = np.flatnonzero(~self.live)
         for j, case in enumerate(cases):
@@ -442,7 +474,10 @@ class ContactSet:
                 cand = cand | self._dilate(grow)
                 continue
             out = rhs + self.B.T @ mu
-            g = (self.g0 + self.d0)[:, None] + self.B @ fac.solve(out).reshape(self.n_new, -1)
+            if self._W is not None:  # B K_a^-1 (rhs + B^T mu) = h + W mu over every row
+                g = gf + self._W @ mu
+            else:
+                g = (self.g0 + self.d0)[:, None] + self.B @ fac.solve(out).reshape(self.n_new, -1)
             viol = self.live & ~cand & np.any(g < -tol[:, None], axis=1)
             if not viol.any():
                 break

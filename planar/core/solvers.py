@@ -239,7 +239,8 @@ class _Pardiso:
 
     name = "pardiso"
 
-    def __init__(self, lower, *, after_ordering: Callable[[], None] | None = None, **_):
+    def __init__(self, lower, *, after_ordering: Callable[[], None] | None = None,
+                 schur: np.ndarray | None = None, **_):
         import ctypes
 
         self._fn = _mkl_library()
@@ -259,23 +260,40 @@ class _Pardiso:
         ip[17] = -1  # report the non-zeros of the factor
         ip[34] = 1   # zero-based indices
         self._c = ctypes
+        self._perm = None
+        self.schur_unknowns: np.ndarray | None = None
+        self.schur: np.ndarray | None = None
+        self._schur_chol = None
+        marked = np.zeros(0, np.int64) if schur is None else np.unique(np.asarray(schur, dtype=np.int64))
+        if 0 < marked.size <= n // 2 and marked[0] >= 0 and marked[-1] < n:
+            self._perm = np.zeros(n, dtype=np.int32)
+            self._perm[marked] = 1  # these unknowns are eliminated last; their Schur complement is returned
+            ip[35] = 2  # Schur complement into x at the numeric phase, the whole factor kept for ordinary solves
         self._call(11, np.zeros((n, 1)))  # ordering and symbolic factorization
         if after_ordering is not None:
             after_ordering()
-        self._call(22, np.zeros((n, 1)))  # numeric factorization
+        x = self._call(22, np.zeros((n, 1)), rows=max(n, marked.size ** 2))  # numeric factorization
+        if self._perm is not None:
+            ns = marked.size
+            S = np.array(x[:ns * ns, 0].reshape(ns, ns))
+            if not np.all(np.isfinite(S)):
+                raise _numerical(_SINGULAR)
+            self.schur_unknowns, self.schur = marked, (S + S.T) / 2
+        del x
         self.info = {"factor_nonzeros": int(ip[17])}
 
-    def _call(self, phase: int, b: np.ndarray) -> np.ndarray:
+    def _call(self, phase: int, b: np.ndarray, rows: int | None = None) -> np.ndarray:
         c = self._c
         i32 = c.POINTER(c.c_int32)
         b = np.asfortranarray(b, dtype=np.float64)
-        x = np.zeros_like(b, order="F")
+        x = np.zeros_like(b, order="F") if rows is None else np.zeros((rows, b.shape[1]), order="F")
+        perm = None if self._perm is None else self._perm.ctypes.data_as(i32)
         err = c.c_int32(0)
         one = c.c_int32(1)
         self._fn(self._pt.ctypes.data_as(c.POINTER(c.c_int64)), c.byref(one), c.byref(one),
                  c.byref(c.c_int32(2)), c.byref(c.c_int32(phase)), c.byref(c.c_int32(self.n)),
                  self._a.ctypes.data, self._ia.ctypes.data_as(i32), self._ja.ctypes.data_as(i32),
-                 None, c.byref(c.c_int32(b.shape[1])), self._iparm.ctypes.data_as(i32),
+                 perm, c.byref(c.c_int32(b.shape[1])), self._iparm.ctypes.data_as(i32),
                  c.byref(c.c_int32(0)), b.ctypes.data, x.ctypes.data, c.byref(err))
         if err.value != 0:
             if err.value in (-4, -7):
@@ -314,6 +332,48 @@ class _Pardiso:
         """``b^T K^-1 b`` by the forward substitution only, over the non-zero rows of ``Z``."""
         Z = self.forward(b)
         return self.gram_of(Z[np.flatnonzero(np.any(Z != 0.0, axis=1))])
+
+    def _schur_factor(self):
+        """The Cholesky factor (upper) of the Schur complement, computed once."""
+        if self._schur_chol is None:
+            from scipy.linalg import cho_factor
+
+            from ._multigrid import one_blas_thread
+
+            try:
+                with one_blas_thread():  # a few hundred unknowns: OpenBLAS's threads cost more than they save
+                    self._schur_chol = cho_factor(self.schur, lower=False, check_finite=False)
+            except np.linalg.LinAlgError:
+                raise _numerical(_SINGULAR) from None
+        return self._schur_chol
+
+    def schur_gram(self, Bs: np.ndarray) -> np.ndarray:
+        """``Bs S^-1 Bs^T`` for rows ``Bs`` (dense, k x ns) over the Schur unknowns, in the order of
+        :attr:`schur_unknowns`: ``B K^-1 B^T`` for a ``B`` that touches no other unknown, without any
+        solve with the sparse factor (``[K^-1]_ss = S^-1``)."""
+        from scipy.linalg import solve_triangular
+
+        from ._multigrid import one_blas_thread
+
+        R = self._schur_factor()[0]
+        with one_blas_thread():
+            Y = solve_triangular(R, np.asarray(Bs, dtype=float).T, trans="T", lower=False, check_finite=False)
+            W = Y.T @ Y
+        return (W + W.T) / 2
+
+    def schur_part(self, b: np.ndarray) -> np.ndarray:
+        """The Schur unknowns' values of ``K^-1 b`` (ns x k): the forward half of the solve (phase 331), which
+        stops at the Schur block and leaves there the condensed right-hand side, then the dense Schur solve."""
+        from scipy.linalg import cho_solve
+
+        from ._multigrid import one_blas_thread
+
+        y = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))[self.schur_unknowns]
+        with one_blas_thread():
+            x = cho_solve(self._schur_factor(), y, check_finite=False)
+        if not np.all(np.isfinite(x)):
+            raise _numerical(_SINGULAR)
+        return x
 
     def solve(self, b):
         b = np.asarray(b, dtype=float)
@@ -610,7 +670,7 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
 
 def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarray | None = None,
               rtol: float = 1e-10, after_ordering: Callable[[], None] | None = None,
-              space=None) -> Factorization:
+              space=None, schur: np.ndarray | None = None) -> Factorization:
     """Factorize a symmetric positive-definite stiffness matrix given by its lower triangle.
 
     Parameters
@@ -630,6 +690,12 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
         The nodal space of the unknowns (corner nodes, two unknowns each) for the multigrid
         hierarchy of ``"amg"``: a p-multigrid step on quadratic elements, 2 x 2 node blocks on
         every support layout. Without it, AMG works on the matrix as given.
+    schur : ndarray of int, optional
+        Unknowns (a few hundred at most) whose Schur complement ``S`` the factorization should also
+        return: ``"pardiso"`` then eliminates them last and offers ``schur_unknowns``, ``schur``,
+        ``schur_gram(Bs)`` (``Bs S^-1 Bs^T``) and ``schur_part(b)`` (those unknowns of ``K^-1 b``), and
+        solves as usual; other back ends ignore it. Without it, a ``schur_unknowns`` attribute of
+        ``lower`` is taken (the bearing-contact set marks its matrix so, :mod:`planar.core.contact`).
 
     Raises
     ------
@@ -642,7 +708,10 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
     if n == 0:
         raise SolverError("there are no free unknowns left: every displacement is prescribed")
     name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
-    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering, space=space)
+    if schur is None:
+        schur = getattr(lower, "schur_unknowns", None)
+    return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering, space=space,
+                           schur=schur)
 
 
 class _IterationLine:
