@@ -78,7 +78,7 @@ def joint_section(joint_result) -> Section:
     if tab.pairs:
         blocks.append(Table(["fastener", "layers", "at" + lu, "shear Vx, Vy" + f, "shear" + f],
                             [[f"{p['group']} {p['index'] + 1}", f"{p['layers'][0]} to {p['layers'][1]}",
-                              _pt(p["point"]), _pt(p["shear"]), _f(p["magnitude"])] for p in tab.pairs],
+                              _pt(p["point"]), _force(p["shear"]), _f(p["magnitude"])] for p in tab.pairs],
                             caption=f"Shear each fastener passes from one layer into the next, load case "
                                     f"'{tab.case}'.", numeric=[4]))
     if tab.holes:
