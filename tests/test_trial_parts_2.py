@@ -74,3 +74,31 @@ def test_thin_ligament_finely_meshed_is_not_called_a_unit_mix_up():
     model.assign("plate", planar.Isotropic(E=71.0, nu=0.33), 3.0)
     with pytest.warns(planar.DiscretisationWarning, match="beyond elastic"):
         planar.solve(model)
+
+
+@pytest.mark.parametrize("units,g_bad", [("N, mm, MPa", 9.81), ("N, m, Pa", 9806.65), ("lbf, in, psi", 32.174)])
+def test_gravity_given_in_another_length_unit_is_refused(units, g_bad):
+    # Gravity(gy=-9.81) in an N, mm, MPa model is g in m/s^2 where mm/s^2 is meant: the weight came
+    # out 1000 times too small with no word. Standard g is 9.80665 m/s^2 = 9806.65 mm/s^2 =
+    # 386.09 in/s^2 = 32.174 ft/s^2 (the standard gravity, exact by definition)
+    mesh = planar.rectangle_mesh(50.0, 1000.0, 2, 20, "Q8")
+    model = planar.Model(mesh, planar.Isotropic(E=210e3, nu=0.3, density=7.85e-9), thickness=10.0, units=units)
+    model.add_support(planar.Fixed("top"))
+    model.add_load(planar.Gravity(gy=-g_bad), case="g")
+    with pytest.raises(planar.InputError, match="standard g in"):
+        planar.solve(model)
+
+
+def test_gravity_in_the_models_own_units_hangs_the_weight_on_the_support():
+    # a steel bar 1000 x 50 x 10 mm hanging from its top: the support carries its weight rho g L W t
+    # (statics), and 3 g given as a vector is not refused
+    mesh = planar.rectangle_mesh(50.0, 1000.0, 2, 20, "Q8")
+    model = planar.Model(mesh, planar.Isotropic(E=210e3, nu=0.3, density=7.85e-9), thickness=10.0,
+                         units="N, mm, MPa")
+    model.add_support(planar.Fixed("top"))
+    model.add_load(planar.Gravity(gy=-9806.65), case="1g")
+    model.add_load(planar.Gravity(gy=-3 * 9806.65), case="3g")
+    res = planar.solve(model)
+    weight = 7.85e-9 * 9806.65 * 1000.0 * 50.0 * 10.0
+    assert res["1g"].support_reactions()[0].force[1] == pytest.approx(weight, rel=1e-9)
+    assert res["3g"].support_reactions()[0].force[1] == pytest.approx(3 * weight, rel=1e-9)
