@@ -102,3 +102,14 @@ def test_gravity_in_the_models_own_units_hangs_the_weight_on_the_support():
     weight = 7.85e-9 * 9806.65 * 1000.0 * 50.0 * 10.0
     assert res["1g"].support_reactions()[0].force[1] == pytest.approx(weight, rel=1e-9)
     assert res["3g"].support_reactions()[0].force[1] == pytest.approx(3 * weight, rel=1e-9)
+
+
+def test_materials_or_thicknesses_per_region_as_a_dict_point_to_assign():
+    # Model(mesh, {"steel": ..., "alu": ...}) said only "must be Isotropic or Orthotropic" and printed
+    # the dict; the fix (model.assign per region) is now named
+    mesh = planar.rectangle_mesh(10.0, 2.0, 2, 1, "Q4")
+    steel = planar.Isotropic(E=210e3, nu=0.3)
+    with pytest.raises(planar.InputError, match=r"model\.assign"):
+        planar.Model(mesh, {"steel": steel})
+    with pytest.raises(planar.InputError, match=r"model\.assign"):
+        planar.Model(mesh, steel, thickness={"plate": 2.0})

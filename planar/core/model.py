@@ -31,11 +31,19 @@ class Section:
     thickness: float
 
 
+_PER_REGION = ("one value per region is given with model.assign(region, material=..., thickness=...) "
+               "after Model(mesh, material, thickness) sets the default")
+
+
 def _check_thickness(t) -> float:
+    if isinstance(t, dict):
+        raise InputError(f"thickness must be one positive number, got a dict {t!r}; {_PER_REGION}")
     return number(t, "thickness", positive=True)
 
 
 def _check_material(m, analysis: str):
+    if isinstance(m, dict):
+        raise InputError(f"a material must be Isotropic or Orthotropic, got a dict of {len(m)}; {_PER_REGION}")
     if not isinstance(m, (Isotropic, Orthotropic)) and not hasattr(m, "D"):
         raise InputError(f"a material must be Isotropic or Orthotropic (or provide D()), got {m!r}")
     check_material(m, analysis)  # shape, finite, symmetric, positive definite: MaterialError naming it
