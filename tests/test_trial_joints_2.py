@@ -82,3 +82,58 @@ def test_report_prints_a_round_off_shear_component_as_zero():
     assert vy == [0.0, 0.0]
     assert vx == pytest.approx(res.fasteners.shear[:, 0], rel=1e-5)
     assert abs(sum(vx)) == pytest.approx(1000.0, rel=1e-5)  # statics: the fasteners carry the whole load
+
+
+def _arrows(fig):
+    """The fastener arrows of a plot_joint figure: start points (k, 2) and drawn vectors (k, 2)."""
+    from matplotlib.quiver import Quiver
+
+    qs = [c for c in fig.axes[0].collections if isinstance(c, Quiver)]
+    P = np.vstack([q.get_offsets() for q in qs])
+    V = np.vstack([np.column_stack([q.U, q.V]) for q in qs])
+    return P, V
+
+
+def test_plot_joint_arrows_do_not_run_over_each_other():
+    # a drawing that hides one load under another cannot be read (common practice for drawings): in a
+    # stack of three strips the end fasteners' arrows point towards each other, and with the largest
+    # arrow 0.8 of the pitch one ran over its neighbour's
+    from planar.post.joints import _seg_distance
+
+    def strip(x0, x1, t):
+        m = planar.rectangle_mesh(x1 - x0, 10.0, int((x1 - x0) / 1.25), 8, element="Q8", origin=(x0, -5.0))
+        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=t, units="N, mm, MPa")
+
+    a, b, c = strip(0.0, 150.0, 2.0), strip(90.0, 150.0, 1.0), strip(90.0, 240.0, 1.6)
+    a.add_support(planar.Fixed("left"))
+    c.add_load(planar.Traction("right", tx=150.0), case="pull")
+    joint = planar.Joint({"A": a, "B": b, "C": c})
+    joint.add_fasteners(planar.Fasteners([(100.0, 0.0), (120.0, 0.0), (140.0, 0.0)], layers=("A", "B", "C"),
+                                         diameter=4.8, flexibility=3.8e-5, name="stack"))
+    res = planar.solve(joint)["pull"]
+    fig = planar.post.plot_joint(res)
+    P, V = _arrows(fig)
+    i, j = np.triu_indices(P.shape[0], 1)
+    gap = np.hypot(*(P[i] - P[j]).T)
+    assert np.all(_seg_distance(P[i], P[i] + V[i], P[j], P[j] + V[j]) >= 0.2 * gap * (1 - 1e-9))
+    # two arrows point towards each other here (the case the old rule drew overlapping)
+    toward = np.einsum("ij,ij->i", V[i], P[j] - P[i]) > 0
+    assert np.any(toward & (np.einsum("ij,ij->i", V[j], P[i] - P[j]) > 0))
+    # the arrows stay proportional to the loads (one scale), the largest load the longest
+    mags = np.hypot(*V.T)
+    best = {}
+    for h in res.fasteners.holes:
+        best[h["point"]] = max(best.get(h["point"], 0.0), h["bearing"])
+    loads = np.array([best[tuple(p)] for p in P])
+    assert np.allclose(mags / loads, mags[0] / loads[0], rtol=1e-9)
+
+
+def test_plot_joint_seg_distance_by_hand():
+    # plane geometry (common practice): parallel segments 1 apart, crossing segments, end to end
+    from planar.post.joints import _seg_distance
+
+    a0 = np.array([[0.0, 0.0], [0.0, 0.0], [0.0, 0.0]])
+    a1 = np.array([[2.0, 0.0], [2.0, 2.0], [1.0, 0.0]])
+    b0 = np.array([[0.5, 1.0], [0.0, 2.0], [4.0, 0.0]])
+    b1 = np.array([[1.5, 1.0], [2.0, 0.0], [3.0, 0.0]])
+    assert np.allclose(_seg_distance(a0, a1, b0, b1), [1.0, 0.0, 2.0])

@@ -52,6 +52,49 @@ def _boundary(mesh) -> np.ndarray:
     return mesh.nodes[once]
 
 
+def _seg_distance(a0, a1, b0, b1) -> np.ndarray:
+    """The distance between the segments a0-a1 and b0-b1 (each (p, 2)), zero where they cross."""
+    def to_seg(p, q0, q1):
+        d = q1 - q0
+        t = np.clip(np.einsum("ij,ij->i", p - q0, d) / np.maximum(np.einsum("ij,ij->i", d, d), 1e-300), 0.0, 1.0)
+        return np.hypot(*(q0 + t[:, None] * d - p).T)
+
+    def side(p, q, r):
+        return np.sign((q[:, 0] - p[:, 0]) * (r[:, 1] - p[:, 1]) - (q[:, 1] - p[:, 1]) * (r[:, 0] - p[:, 0]))
+
+    cross = (side(a0, a1, b0) * side(a0, a1, b1) < 0) & (side(b0, b1, a0) * side(b0, b1, a1) < 0)
+    dist = np.minimum.reduce([to_seg(a0, b0, b1), to_seg(a1, b0, b1), to_seg(b0, a0, a1), to_seg(b1, a0, a1)])
+    return np.where(cross, 0.0, dist)
+
+
+def _apart(P: np.ndarray, V: np.ndarray, s_max: float, span: float) -> float:
+    """The largest arrow scale up to ``s_max`` at which no two arrows (from P along s V) come closer than
+    a fifth of their fasteners' distance (an arrow drawn over its neighbour hides which load is whose)."""
+    from scipy.spatial import cKDTree
+
+    if P.shape[0] < 2:
+        return s_max
+    reach = s_max * float(np.hypot(*V.T).max())
+    pairs = cKDTree(P).query_pairs(2.0 * reach + 1e-9 * span, output_type="ndarray")
+    if not pairs.size:
+        return s_max
+    i, j = pairs[:, 0], pairs[:, 1]
+    gap = np.hypot(*(P[i] - P[j]).T)
+    keep = gap > 1e-9 * span  # two fasteners at one point: nothing to keep apart
+    i, j, gap = i[keep], j[keep], gap[keep]
+
+    def clear(s):
+        return bool(np.all(_seg_distance(P[i], P[i] + s * V[i], P[j], P[j] + s * V[j]) >= 0.2 * gap))
+
+    if clear(s_max):
+        return s_max
+    lo, hi = 0.0, s_max  # the arrows only grow with the scale, so their distance only shrinks: bisect
+    for _ in range(40):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if clear(mid) else (lo, mid)
+    return lo
+
+
 def _figure(aspect: float, width: float, entries: int = 2):
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
@@ -75,7 +118,8 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
         Also write the figure to this PNG file.
     scale : float, optional
         Length of the arrow of unit load (length per force); default: the largest load drawn a tenth
-        of the joint's extent long, or 0.8 of the closest two fasteners' distance if that is shorter.
+        of the joint's extent long, or shorter so that no two arrows come closer than a fifth of their
+        fasteners' distance (in a row loaded along it, the largest arrow 0.8 of the pitch).
     title : str, optional
     width : float
         Figure width in inches.
@@ -129,16 +173,8 @@ def plot_joint(result: JointResult, *, path: str | os.PathLike | None = None, sc
     V = np.array([h["load"] for h in chosen]).reshape(-1, 2)
     mags = np.hypot(*V.T) if V.size else np.zeros(0)
     vmax = float(mags.max(initial=0.0))
-    if scale is None:  # the largest arrow a tenth of the joint, and shorter than the closest fasteners' gap
-        reach = 0.1 * span
-        if P.shape[0] > 1:
-            from scipy.spatial import cKDTree
-
-            gap = cKDTree(P).query(P, k=2)[0][:, 1]
-            gap = gap[gap > 1e-9 * span]
-            if gap.size:
-                reach = min(reach, 0.8 * float(gap.min()))
-        scale = reach / vmax if vmax > 0 else 1.0
+    if scale is None:  # the largest arrow a tenth of the joint, and no two arrows touching
+        scale = _apart(P, V, 0.1 * span / vmax, span) if vmax > 0 else 1.0
     layers_drawn = np.array([h["layer"] for h in chosen])
     for name in segs:
         sel = layers_drawn == name
