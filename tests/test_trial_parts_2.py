@@ -113,3 +113,20 @@ def test_materials_or_thicknesses_per_region_as_a_dict_point_to_assign():
         planar.Model(mesh, {"steel": steel})
     with pytest.raises(planar.InputError, match=r"model\.assign"):
         planar.Model(mesh, steel, thickness={"plate": 2.0})
+
+
+def test_a_cut_leaving_the_plate_names_its_points_plainly():
+    # the message printed numpy reprs, "(np.float64(100.0), np.float64(-1.0))", for a path given with
+    # floats; a cut across a 10 x 2 strip from below it must say "(5, -1)"
+    from planar.post import cut_resultant
+
+    m = planar.rectangle_mesh(10.0, 2.0, 4, 2, "Q4")
+    model = planar.Model(m, planar.Isotropic(E=1e3, nu=0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="pull")
+    r = planar.solve(model)["pull"]
+    with pytest.raises(planar.InputError) as info:
+        cut_resultant(r, (5.0, -1.0), (5.0, 3.0))
+    assert "np." not in str(info.value) and "(5, -1)" in str(info.value)
+    # the cut inside the strip carries the end load: 1 x 2 x thickness 1 (statics)
+    assert cut_resultant(r, (5.0, 0.0), (5.0, 2.0)).force[0] == pytest.approx(2.0, rel=1e-6)

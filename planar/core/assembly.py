@@ -17,7 +17,7 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from .errors import MeshError
+from .errors import MeshError, fmt_point
 from .loads import EdgeGeometry, LoadContext
 from .materials import check_material
 from .quadrature import Rule, rule_for
@@ -301,7 +301,7 @@ class Assembly:
             bad = np.flatnonzero(~found)
             raise MeshError(
                 f"edge set {name!r}: {bad.size} segment(s) are not edges of any cell (first at "
-                f"{tuple(self.mesh.nodes[seg[bad[0], 0]])}); the edge set does not belong to this mesh"
+                f"{fmt_point(self.mesh.nodes[seg[bad[0], 0]])}); the edge set does not belong to this mesh"
             )
         idx = order[pos]
         nodes = owner[idx][:, : seg.shape[1]]

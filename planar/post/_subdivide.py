@@ -161,7 +161,7 @@ def _cells_in_window(nodes, cells, cell_values, window):
             if cv is not None:
                 cv[layout] = np.asarray(cell_values[layout])[keep]
     if not out:
-        raise InputError(f"no part of the plate lies in the window {tuple(window)}")
+        raise InputError(f"no part of the plate lies in the window (x0, y0, x1, y1) = ({x0:g}, {y0:g}, {x1:g}, {y1:g})")
     return out, cv
 
 

@@ -29,7 +29,7 @@ import numpy as np
 
 from ..core.compat import deprecated, renamed_keywords
 from ..core.values import finite_vector, number
-from ..core.errors import InputError, PlanarWarning, warn
+from ..core.errors import InputError, PlanarWarning, fmt_point, warn
 from ..core.quadrature import gauss_line
 from ..core.recovery import METHODS
 from ..core.result import STRESS_FIELDS, as_result
@@ -388,7 +388,7 @@ def _check_path(result, a: np.ndarray, b: np.ndarray, n_check: int = 64) -> None
     from ..core.locate import locate
 
     if np.allclose(a, b):
-        raise InputError(f"the path starts and ends at the same point {tuple(a)}; give two different points")
+        raise InputError(f"the path starts and ends at the same point {fmt_point(a)}; give two different points")
     t = np.linspace(0.0, 1.0, n_check)
     pts = a + t[:, None] * (b - a)
     try:
@@ -399,8 +399,8 @@ def _check_path(result, a: np.ndarray, b: np.ndarray, n_check: int = 64) -> None
                 locate(result.mesh, p[None, :])
             except InputError:
                 raise InputError(
-                    f"the path from {tuple(np.round(a, 6))} to {tuple(np.round(b, 6))} leaves the mesh near "
-                    f"{tuple(np.round(p, 6))}; a cut must run inside the plate (a cut through a hole needs "
+                    f"the path from {fmt_point(a)} to {fmt_point(b)} leaves the mesh near "
+                    f"{fmt_point(p)}; a cut must run inside the plate (a cut through a hole needs "
                     "two paths, one on each side)"
                 ) from None
         raise
