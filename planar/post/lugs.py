@@ -223,7 +223,7 @@ class LugCheck:
     factor_of_safety: float = 1.0
     margins: dict = field(default_factory=dict)
     caution: str = CAUTION
-    #: set when the pin pushes the lug towards its base (see :func:`lug_check`)
+    #: set when the pin pushes the lug towards its base, or pulls it off its axis (see :func:`lug_check`)
     direction_note: str = ""
 
     @property
@@ -325,6 +325,15 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
         A dimension or load that is not a positive number, a hole as wide as the lug.
     NameNotFoundError
         An edge name the mesh does not have.
+
+    Notes
+    -----
+    The nominal stresses are those of a lug loaded along its axis. When the pin pushes the lug
+    towards its base, the net-section tension and shear-out get no margin; when its load is more
+    than :data:`OFF_AXIS_DEG` off the axis (a transverse or oblique load), the table says so with
+    the load's axial and transverse components (``direction_note``). The direction is the pin's
+    load (its force on the part when it is held and not loaded), taken along the symmetry line
+    of a half model whose line runs through the hole.
     """
     result = as_result(result, "lug_check")
     if shear_allowable is not None and edge_distance is None:
@@ -343,6 +352,17 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     toward_base = _pushes_toward_base(result, edge)
     if toward_base:  # no net-section tension, no shear-out: their margins would mislead
         tension_allowable = shear_allowable = None
+    notes = ["the pin pushes the lug towards its base (a compression lug): the net-section tension and shear-out "
+             "figures do not apply and get no margin; check bearing and the net section in compression"] \
+        if toward_base else []
+    off = None if toward_base else _off_axis(result, edge)
+    if off is not None and off[0] > OFF_AXIS_DEG:
+        fu = force_unit(result.units)
+        notes.append(f"the pin's load is {off[0]:.1f} deg off the lug's axis (axial {_plain(off[1])}, transverse "
+                     f"{_plain(abs(off[2]))}{' ' + fu if fu else ''}): the net-section and shear-out figures take the "
+                     "whole load as axial, and a transverse or oblique load has lug strengths of its own; check "
+                     "the transverse component and the oblique interaction separately (common practice: M. A. Melcon and "
+                     "F. M. Hoblit, 1953, as in Bruhn sec. D1; from memory)")
     margins = {k: v for k, v in (("net_section", _ms(tension_allowable, net, fs)),
                                  ("bearing", _ms(bearing_allowable, brg, fs)),
                                  ("shear_out", None if so is None else _ms(shear_allowable, so, fs)),
@@ -350,26 +370,65 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
-                    direction_note=("the pin pushes the lug towards its base (a compression lug): the net-section "
-                                    "tension and shear-out figures do not apply and get no margin; check bearing "
-                                    "and the net section in compression" if toward_base else ""))
+                    direction_note="; ".join(notes))
+
+
+def _load_and_axis(result, edge: str) -> tuple[np.ndarray, np.ndarray] | None:
+    """The load the pin puts on the hole and the lug's axis (hole centre to the edge ``"end"`` of
+    :func:`planar.geometry.lugs.lug`), or None when the mesh has no ``"end"`` or no load reaches the hole.
+
+    The load is the pin's own load when it is loaded (a held pin's reaction across a symmetry line is not
+    the direction it pulls), else its force on the part, else the loads on the hole's nodes (a prescribed
+    bearing load). Where the hole meets a symmetry line (a half model), both are taken along that line: the
+    mirror half carries the opposite of the component across it (mirror symmetry, common practice).
+    """
+    mesh = result.mesh
+    if "end" not in mesh.edge_sets or edge not in mesh.edge_sets:
+        return None
+    hole = np.unique(mesh.edge(edge))
+    force = centre = None
+    for st in getattr(result, "pin_states", None) or []:
+        if st.get("edge") == edge:
+            load = np.asarray(st.get("load", (0.0, 0.0)), dtype=float)[:2]
+            force = load if np.hypot(*load) > 0 else np.asarray(st["force"], dtype=float)
+            centre = np.asarray(st["point"], dtype=float)
+    if force is None:  # a prescribed bearing load: the loads on the hole's nodes
+        force = np.asarray(result.applied, dtype=float)[hole].sum(axis=0)
+    if centre is None:
+        centre = mesh.nodes[hole].mean(axis=0)
+    axis = mesh.nodes[np.unique(mesh.edge("end"))].mean(axis=0) - centre
+    model = getattr(getattr(result, "assembly", None), "model", None)
+    for sup in getattr(model, "supports", None) or []:
+        if type(sup).__name__ == "Symmetry" and isinstance(sup.where, str) and sup.where in mesh.edge_sets \
+                and np.intersect1d(np.unique(mesh.edge(sup.where)), hole).size:
+            n = np.asarray(sup.rows(mesh)[1][0], dtype=float)  # the line's unit normal
+            force, axis = force - (force @ n) * n, axis - (axis @ n) * n
+    if not np.hypot(*force) > 0 or not np.hypot(*axis) > 0:
+        return None
+    return force, axis / np.hypot(*axis)
 
 
 def _pushes_toward_base(result, edge: str) -> bool:
-    """Whether the load on the hole pushes the lug away from its end (the edge ``"end"`` of
-    :func:`planar.geometry.lugs.lug`), from the pin's force on the part or the loads on the hole's nodes."""
-    mesh = result.mesh
-    if "end" not in mesh.edge_sets or edge not in mesh.edge_sets:
+    """Whether the load on the hole pushes the lug away from its end (see :func:`_load_and_axis`)."""
+    got = _load_and_axis(result, edge)
+    if got is None:
         return False
-    hole = np.unique(mesh.edge(edge))
-    force = None
-    for st in getattr(result, "pin_states", None) or []:
-        if st.get("edge") == edge:
-            force = np.asarray(st["force"], dtype=float)
-    if force is None:  # a prescribed bearing load: the loads on the hole's nodes
-        force = np.asarray(result.applied, dtype=float)[hole].sum(axis=0)
-    size = float(np.hypot(*force))
-    if not size > 0:
-        return False
-    towards_end = mesh.nodes[np.unique(mesh.edge("end"))].mean(axis=0) - mesh.nodes[hole].mean(axis=0)
-    return float(force @ towards_end) < -0.5 * size * float(np.hypot(*towards_end))
+    force, axis = got
+    return float(force @ axis) < -0.5 * float(np.hypot(*force))
+
+
+#: a pin load further than this from the lug's axis (degrees) gets the oblique-load caution
+OFF_AXIS_DEG = 1.0
+
+
+def _off_axis(result, edge: str) -> tuple[float, float, float] | None:
+    """(angle from the axis in degrees, axial component, transverse component) of the pin's load, or None."""
+    got = _load_and_axis(result, edge)
+    if got is None:
+        return None
+    force, axis = got
+    along = float(force @ axis)
+    across = float(axis[0] * force[1] - axis[1] * force[0])
+    tiny = 1e-9 * float(np.hypot(*force))  # round-off of a component prints as 0
+    along, across = (0.0 if abs(v) < tiny else v for v in (along, across))
+    return math.degrees(math.atan2(abs(across), along)), along, across

@@ -1,0 +1,68 @@
+"""Pins, bearing contact, reactions and the lug check tried again on parts of a stress engineer's own.
+
+Each test names the trial it came from and the source of its check. Sources: statics and mirror symmetry
+(common practice); the lug formulas of E. F. Bruhn, Analysis and Design of Flight Vehicle Structures, 1973,
+sec. D1 (common practice; from memory).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import planar
+from planar.core.pins import Pin, PinLoad
+from planar.geometry import Refine, lug, mesh
+
+
+# trial: a clevis lug with a clearance pin pulled at 0, 45 and 90 degrees from its axis
+@pytest.fixture(scope="module")
+def round_lug():
+    return mesh(lug(40.0, 16.0, 40.0, end="round"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
+
+
+def _lug_check(m, fx, fy, half=False, hold=None):
+    from planar.post import lug_check
+
+    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    if half:
+        model.add_support(planar.Symmetry("symmetry_x"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=hold, name="pin"))
+    if fx or fy:
+        model.add_load(PinLoad("pin", fx=fx, fy=fy), case="c")
+    else:  # a held pin, the lug pulled down at its base instead of fixed there
+        model.supports.clear()
+        model.add_support(planar.Symmetry("symmetry_x"))
+        model.add_load(planar.Traction("base", ty=-10.0), case="c")
+    r = planar.solve(model)["c"]
+    return lug_check(r, np.hypot(fx, fy) or 1600.0, 40.0 / (1 + half), 16.0, 8.0, edge_distance=40.0,
+                     tension_allowable=300.0, shear_allowable=200.0, bearing_allowable=400.0)
+
+
+@pytest.mark.parametrize("angle", [45.0, 90.0])
+def test_a_lug_pulled_off_its_axis_says_the_axial_figures_take_the_whole_load(round_lug, angle):
+    # the lug formulas P / ((W - D) t) and P / (2 (e - D/2) t) are for a load along the lug; a transverse or
+    # oblique load has strengths of its own, checked by components (common practice, Bruhn sec. D1). A side
+    # pull of 15 kN gave 'MS = +2.840' on net-section tension with no word that the load was across the lug.
+    a = np.radians(angle)
+    c = _lug_check(round_lug, 15e3 * np.sin(a), 15e3 * np.cos(a))
+    assert f"{angle:.1f} deg off the lug's axis" in c.direction_note
+    axial = "0" if angle == 90.0 else f"{15e3 * np.cos(a):.5g}"
+    assert f"(axial {axial}, transverse {15e3 * np.sin(a):.5g} N)" in c.direction_note
+    assert "CAUTION: the pin's load is" in c.table() and c.as_dict()["direction_note"] == c.direction_note
+
+
+def test_a_lug_pulled_along_its_axis_gets_no_off_axis_caution(round_lug):
+    c = _lug_check(round_lug, 0.0, 15e3)
+    assert c.direction_note == "" and "CAUTION: the pin" not in c.table()
+    assert set(c.margins) == {"net_section", "bearing", "shear_out"}
+
+
+# trial: the same lug as a half model on its axis (mirror symmetry, common practice)
+@pytest.mark.parametrize("loaded", [True, False])
+def test_a_half_lug_on_its_axis_is_not_taken_for_an_oblique_pull(loaded):
+    # the half hole's pressure pushes across the symmetry line (the pin's force on the half is some 20 deg off
+    # the axis, the other half carries the mirror of it), so the half is still pulled along its axis
+    half = mesh(lug(40.0, 16.0, 40.0).half("x"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
+    c = _lug_check(half, 0.0, 7500.0 if loaded else 0.0, half=True, hold="x" if loaded else "both")
+    assert c.direction_note == ""
