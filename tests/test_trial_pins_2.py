@@ -66,3 +66,23 @@ def test_a_half_lug_on_its_axis_is_not_taken_for_an_oblique_pull(loaded):
     half = mesh(lug(40.0, 16.0, 40.0).half("x"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
     c = _lug_check(half, 0.0, 7500.0 if loaded else 0.0, half=True, hold="x" if loaded else "both")
     assert c.direction_note == ""
+
+
+# trial: the report of a contact model, its picture given by hand
+def test_the_report_takes_a_drawn_picture_and_names_a_wrong_one(round_lug, tmp_path):
+    # picture=model (or a missing file) passed the report's build and failed at writing with a TypeError
+    # (or FileNotFoundError) traceback; the figure plot_model returns was refused the same way
+    from planar.core.errors import InputError
+    from planar.post import plot_model, render_html, stress_check_report
+
+    model = planar.Model(round_lug, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=15e3), case="c")
+    r = planar.solve(model)["c"]
+    keep = dict(omit=("hot spots", "results", "checks", "mesh"))
+    html = render_html(stress_check_report(r, picture=plot_model(model, case="c"), **keep))
+    assert "The model: supports, pins and loads." in html
+    for bad, words in ((model, "got Model"), (tmp_path / "none.png", "no such file")):
+        with pytest.raises(InputError, match=words):
+            stress_check_report(r, picture=bad, **keep)

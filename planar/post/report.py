@@ -269,10 +269,22 @@ def _model_picture(result, picture, fasteners=None):
     """The picture of the model with its supports, pins and loads as symbols (a Figure), or None."""
     if picture is False:
         return None
+    if picture is True:
+        picture = None
     if isinstance(picture, Figure):
         return picture
-    if picture is not None:
+    if picture is not None and callable(getattr(picture, "savefig", None)):  # a matplotlib figure (plot_model's)
+        return Figure(_png(picture), "The model: supports, pins and loads.")
+    if isinstance(picture, (bytes, bytearray)):
+        return Figure(bytes(picture), "The model: supports, pins and loads.")
+    if isinstance(picture, (str, os.PathLike)):
+        if not os.path.isfile(picture):
+            raise InputError(f"picture={os.fspath(picture)!r}: no such file; give the path of a PNG file, PNG bytes, "
+                             "a figure (e.g. planar.post.plot_model(model)), or picture=False for none")
         return Figure(picture, "The model: supports, pins and loads.")
+    if picture is not None:
+        raise InputError(f"picture= takes a figure (e.g. planar.post.plot_model(model)), PNG bytes, the path of a PNG "
+                         f"file or False, got {type(picture).__name__}")
     model = result.model
     try:
         from .picture import plot_model
@@ -543,8 +555,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         Nominal stress for Kt (value / nominal) in the model's stress unit.
     allowable, factor_of_safety : float, optional
         For the margins of safety, allowable / (factor_of_safety x value) - 1.
-    picture : Figure, PNG bytes or path, or False, optional
-        The model picture (default drawn by :func:`planar.post.picture.plot_model`).
+    picture : Figure, matplotlib figure, PNG bytes or path, or False, optional
+        The model picture (default drawn by :func:`planar.post.picture.plot_model`); False for none.
     fasteners : iterable of (x, y), optional
         Fastener positions drawn on the model picture.
     combinations : sequence of Combination, or mapping of name to {case: factor}, optional
