@@ -86,3 +86,20 @@ def test_the_report_takes_a_drawn_picture_and_names_a_wrong_one(round_lug, tmp_p
     for bad, words in ((model, "got Model"), (tmp_path / "none.png", "no such file")):
         with pytest.raises(InputError, match=words):
             stress_check_report(r, picture=bad, **keep)
+
+
+# trial: plot_model of a lug with its pin loads
+def test_the_model_picture_labels_a_pin_load_in_plain_figures(round_lug):
+    # a 15 kN pin load was labelled '1.5e+04 N' and an oblique 11.18 kN one '1.118e+04 N' (the tables print
+    # plain figures); four figures are kept
+    from planar.post import plot_model
+
+    model = planar.Model(round_lug, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=15e3), case="pull")
+    model.add_load(PinLoad("pin", fx=5e3, fy=10e3), case="oblique")
+    for case, text in (("pull", "15000 N"), ("oblique", "11180 N")):
+        fig = plot_model(model, case=case)
+        labels = [t.get_text() for ax in fig.axes for t in ax.texts if t.get_gid() == "load-value:pin-load:pin"]
+        assert labels == [text]

@@ -66,9 +66,13 @@ _PIN = "#6a3d9a"
 
 
 def _num(v: float) -> str:
+    """Four figures, without an exponent for the sizes a drawing labels (15000 N, not 1.5e+04 N)."""
     if v == 0 or not math.isfinite(v):
         return f"{v:g}"
-    return f"{v:.4g}"
+    out = f"{v:.4g}"
+    if "e" in out and 1e-3 <= abs(v) < 1e9:
+        out = format(v, ".0f") if abs(v) >= 1e4 else format(v, ".6f").rstrip("0").rstrip(".")
+    return out
 
 
 def _with(v: float, unit: str) -> str:
