@@ -174,10 +174,10 @@ def test_contact_pin_input_is_checked():
                          planar.Isotropic(70e3, 0.3), thickness=1.0)
     block.add_support(planar.Fixed("bottom"))
     block.add_load(PinLoad("disc", fy=-1.0), case="press")
-    block.add_pin(Pin("top", tie="contact", at=(0.0, 20.0), name="disc"))
+    block.add_pin(Pin("top", tie="contact", at=(0.0, 20.0), hold="x", name="disc"))
     with pytest.raises(InputError, match="not a circle about the pin's point.*radius="):
         planar.solve(block, verbose=False)
-    block.pins[0] = Pin("top", tie="contact", at=(0.0, 19.0), radius=20.0, name="disc")
+    block.pins[0] = Pin("top", tie="contact", at=(0.0, 19.0), radius=20.0, hold="x", name="disc")
     with pytest.raises(InputError, match="overlaps its edge"):
         planar.solve(block, verbose=False)
 

@@ -103,3 +103,33 @@ def test_the_model_picture_labels_a_pin_load_in_plain_figures(round_lug):
         fig = plot_model(model, case=case)
         labels = [t.get_text() for ax in fig.axes for t in ax.texts if t.get_gid() == "load-value:pin-load:pin"]
         assert labels == [text]
+
+
+# trial: a strap pulled through its pin, the pin left at its default hold
+@pytest.mark.parametrize("tie, hold, load, words", [
+    ("rigid", "both", dict(fx=6000.0), "a force along x"),           # the default hold: the part got nothing
+    ("contact", "x", dict(fx=300.0, fy=200.0), "a force along x"),   # the x part vanished, the y part was applied
+    ("spreading", (1.0, 1.0), dict(fx=100.0, fy=100.0), "a force along (0.7071, 0.7071)"),
+    ("rigid", None, dict(fx=100.0, moment=50.0), None),              # free: loads the part
+])
+def test_a_load_on_what_a_pin_holds_is_refused(tie, hold, load, words):
+    # statics (common practice): a force on a held component is taken by the pin's support and never reaches
+    # the part; a pin at its default hold='both' loaded by PinLoad solved with every reaction zero and the part
+    # unloaded and unstressed, silently
+    from planar.core.errors import InputError
+    from planar.geometry import Circle, Plate
+
+    p = Plate.rectangle(200.0, 40.0, centre=(0.0, 0.0)).cut(Circle((60.0, 0.0), 5.0, name="hole"))
+    m = mesh(p, size=8.0, element="Q8", refine=[Refine("hole", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.33), thickness=4.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_pin(Pin("hole", tie=tie, hold=hold, name="pin", **({"clearance": 0.01} if tie == "contact" else {})))
+    model.add_load(PinLoad("pin", **load), case="pull")
+    if words is None:
+        r = planar.solve(model)["pull"]
+        clamp = next(x for x in r.support_reactions() if x.kind == "fixed")
+        assert clamp.force[0] == pytest.approx(-100.0, rel=1e-9)
+        return
+    with pytest.raises(InputError, match="load case 'pull' puts " + words.replace("(", r"\(").replace(")", r"\)")
+                       + " on pin 'pin', which holds it"):
+        planar.solve(model)

@@ -199,6 +199,11 @@ class PinLoad(LoadKind):
     moment : float
         Moment on the pin about its reference point, counter-clockwise positive (force times length).
 
+    Notes
+    -----
+    Only the pin's free components carry a load to the part: a load on a held one (a pin of the
+    default ``hold="both"``, say) would go straight into its support, so the solve refuses it.
+
     Examples
     --------
     >>> PinLoad("hole", fy=-1000.0)
@@ -231,14 +236,34 @@ class PinLoad(LoadKind):
 
 def pin_loads(model, case: str) -> dict[str, np.ndarray]:
     """The (fx, fy, moment) on each pin in a load case, summed; refuses a load on a pin that does not exist."""
-    names = [p.name for p in getattr(model, "pins", [])]
+    pins = {p.name: p for p in getattr(model, "pins", [])}
     out: dict[str, np.ndarray] = {}
     for load in model.cases.get(case, []):
         if isinstance(load, PinLoad):
-            if load.pin not in names:
-                raise unknown_name("pin", load.pin, names, "add the pin with model.add_pin(Pin(edge, ...)) first")
+            if load.pin not in pins:
+                raise unknown_name("pin", load.pin, list(pins), "add the pin with model.add_pin(Pin(edge, ...)) first")
             out[load.pin] = out.get(load.pin, np.zeros(3)) + load.vector()
+    for name, f in out.items():
+        _refuse_held_load(pins[name], case, f)
     return out
+
+
+def _refuse_held_load(pin: Pin, case: str, f: np.ndarray) -> None:
+    """Refuse a load on a component the pin holds: it goes into the pin's support and never reaches the part."""
+    local = np.r_[pin.basis.T @ f[:2], f[2]]  # along the held direction, across it, moment
+    scale = max(float(np.hypot(*f[:2])), 1e-300)
+    on_held = pin.held & (np.abs(local) > np.r_[1e-12 * scale, 1e-12 * scale, 0.0])
+    if not on_held.any():
+        return
+    if isinstance(pin.hold, tuple):
+        along, across = f"along ({pin.hold[0]:.4g}, {pin.hold[1]:.4g})", "across its held direction"
+    else:
+        along, across = ("along y", "") if pin.hold == "y" else ("along x", "along y")
+    words = [w for w, on in zip((f"a force {along}", f"a force {across}", "a moment"), on_held) if on]
+    raise InputError(f"load case {case!r} puts {' and '.join(words)} on pin {pin.name!r}, which holds it "
+                     f"(hold={pin.hold!r}, rotation={pin.rotation!r}): a load on a held pin goes straight into its "
+                     "support and never reaches the part. To load the part through the pin, free what it carries "
+                     "(hold=None, or hold one direction only; rotation='free'); to hold the part, drop the load")
 
 
 def check_new_pin(model, pin: Any) -> None:
