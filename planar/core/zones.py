@@ -353,13 +353,15 @@ def idealisations(mesh, model, *, supports: bool = True, loads: bool = True) -> 
                 continue
             if nodes.size:
                 out.append((f"the {plain_name(s, mesh)}", nodes))
+        fastened = getattr(model, "joint_pins", None) or {}  # a joint layer's hole pins: its fasteners load them
         for p in getattr(model, "pins", ()):  # a pin's tie is an idealisation of the fit of the pin in its hole
             if getattr(p, "tie", None) == "contact":  # bearing contact: the hole bears only where it touches
                 continue
-            if getattr(p, "tie", None) == "spreading" and not np.any(getattr(p, "held", True)) and not any(
+            free = getattr(p, "tie", None) == "spreading" and not np.any(getattr(p, "held", True))
+            if free and p.name not in fastened and not any(
                     getattr(load, "pin", None) == p.name and np.any(load.vector())
                     for items in getattr(model, "cases", {}).values() for load in items if hasattr(load, "vector")):
-                continue  # a free spreading pin that no case loads exerts nothing: it only reads the hole's motion
+                continue  # a free spreading pin that no case or fastener loads exerts nothing: it reads the hole's motion
             out.append((f"the {plain_name(p, mesh)}", np.asarray(mesh.nodes_of(p.edge), dtype=np.int64).ravel()))
     if loads:
         seen = set()
