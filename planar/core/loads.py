@@ -20,7 +20,7 @@ from .values import number_or_function
 from .errors import InputError, MeshError, PlanarError, PluginError, fmt_point
 from .elements import line_shape
 from .quadrature import gauss_line
-from .units import standard_gravity, unit_direction, unit_system
+from .units import gravity_vector, unit_direction
 
 __all__ = [
     "LoadKind",
@@ -536,33 +536,6 @@ class BodyForce(LoadKind):
         return repr(self)
 
 
-#: length units (in metres) whose standard g a vector given in another system's length unit may be
-_G_LENGTHS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "ft": 0.3048}
-
-
-def _check_gravity_units(gx: float, gy: float, units) -> None:
-    """Refuse a gravity vector that is the standard g of another length unit than the model's.
-
-    ``Gravity(gy=-9.81)`` in an N, mm, MPa model is g in m/s^2 where mm/s^2 is meant: the weight comes
-    out a thousand times too small, and nothing else would show it. Only a model that states its units
-    is checked, and only a vector within 1 % of one standard g (9.80665 m/s^2) in m, mm, cm, in or ft
-    per s^2 that is not the model's own.
-    """
-    system = unit_system(units)
-    if not system.stated or not system.g:
-        return
-    g = float(np.hypot(gx, gy))
-    if abs(g / system.g - 1.0) <= 0.01:
-        return
-    for length, metres in _G_LENGTHS.items():
-        if abs(g / (9.80665 / metres) - 1.0) <= 0.01:
-            raise InputError(
-                f"gravity: |g| = {g:.6g} is the standard g in {length}/s^2, but the model's units are "
-                f"{system.label}, where it is {system.g:.7g} {system.length}/s^2; give Gravity(direction=(0, -1)) "
-                f"for the standard g in the model's units, or the vector in {system.length}/s^2"
-            )
-
-
 class Gravity(LoadKind):
     """The weight of the part: rho g over every region, rho from the region's material ``density``.
 
@@ -587,9 +560,8 @@ class Gravity(LoadKind):
     Raises
     ------
     InputError
-        A region carrying its weight without a (non-zero) density, naming it; ``direction=`` in a
-        model that states no units; a vector (gx, gy) that is one standard g in another length unit
-        than the model's stated one (e.g. 9.81 in N, mm, MPa).
+        A region carrying its weight without a (non-zero) density, naming it; ``direction=`` in a model
+        that states no units; (gx, gy) one standard g in another length unit (9.81 in N, mm, MPa).
 
     Examples
     --------
@@ -652,9 +624,7 @@ class Gravity(LoadKind):
 
     def nodal_forces(self, ctx):
         out = np.zeros((ctx.n_nodes, 2))
-        gx, gy = (self.gx, self.gy) if self.direction is None else standard_gravity(self.direction, ctx.units)
-        if self.direction is None:
-            _check_gravity_units(gx, gy, ctx.units)
+        gx, gy = gravity_vector(self.gx, self.gy, self.direction, ctx.units)
         for r, rho in self.densities(ctx).items():
             out += BodyForce(rho * gx, rho * gy, region=r).nodal_forces(ctx)
         return out

@@ -43,6 +43,7 @@ Examples
 """
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass, field as _field
 from typing import Union
@@ -52,7 +53,7 @@ from .errors import InputError
 
 __all__ = ["UnitSystem", "unit_system", "systems", "NOT_STATED", "QUANTITIES", "stress_unit", "length_unit",
            "force_unit", "field_unit", "bare_unit", "figure_units", "KNOWN_UNITS", "unit_direction",
-           "standard_gravity"]
+           "standard_gravity", "gravity_vector"]
 
 #: the quantities whose unit a system names (:meth:`UnitSystem.unit_of`)
 QUANTITIES = ("force", "length", "stress", "mass", "time", "density", "moment", "force per length",
@@ -436,3 +437,33 @@ def standard_gravity(direction, units) -> tuple[float, float]:
             "lists the systems), or give the vector yourself, e.g. Gravity(gy=-9806.65) in N, mm, MPa")
     dx, dy = unit_direction(direction)
     return system.g * dx + 0.0, system.g * dy + 0.0
+
+
+#: length units (in metres) whose standard g a vector given in another system's length unit may be
+_G_LENGTHS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "ft": 0.3048}
+
+
+def gravity_vector(gx: float, gy: float, direction, units) -> tuple[float, float]:
+    """The acceleration of gravity (gx, gy), or the standard g along ``direction`` when one is given.
+
+    A vector that is the standard g of another length unit than the model's is refused.
+
+    ``Gravity(gy=-9.81)`` in an N, mm, MPa model is g in m/s^2 where mm/s^2 is meant: the weight comes
+    out a thousand times too small, and nothing else would show it. Only a model that states its units
+    is checked, and only a vector within 1 % of one standard g (9.80665 m/s^2) in m, mm, cm, in or ft
+    per s^2 that is not the model's own.
+    """
+    if direction is not None:
+        return standard_gravity(direction, units)
+    system = unit_system(units)
+    g = math.hypot(float(gx), float(gy))
+    if not system.stated or not system.g or abs(g / system.g - 1.0) <= 0.01:
+        return float(gx), float(gy)
+    for length, metres in _G_LENGTHS.items():
+        if abs(g / (9.80665 / metres) - 1.0) <= 0.01:
+            raise InputError(
+                f"gravity: |g| = {g:.6g} is the standard g in {length}/s^2, but the model's units are "
+                f"{system.label}, where it is {system.g:.7g} {system.length}/s^2; give Gravity(direction=(0, -1)) "
+                f"for the standard g in the model's units, or the vector in {system.length}/s^2"
+            )
+    return float(gx), float(gy)
