@@ -243,3 +243,25 @@ def test_a_fastener_larger_than_its_modelled_hole_is_refused():
     with pytest.raises(InputError, match="hole"):
         joint.add_fasteners(planar.Fasteners([(40.0, 0.0)], layers=("a", "b"), diameter=8.0, flexibility=3e-5,
                                              holes={"a": ["hole"]}, tie="rigid"))
+
+
+def test_report_states_each_springs_compliance_with_its_unit():
+    # a checker redoing the shares by the spring-and-bar model (Tate and Rosenfeld, NACA TN 1051, 1946)
+    # needs the compliance used; Huth's single-shear bolt value (H. Huth, ASTM STP 927, 1986, formula
+    # from memory): C = ((t1 + t2)/(2 d))^(2/3) * 3 * (1/(t1 E1) + 1/(t2 E2) + 1/(2 t1 Ef) + 1/(2 t2 Ef))
+    from planar.post._report_tables import joint_section
+
+    strips = {}
+    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
+        m = planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(x0, -5.0))
+        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    strips["top"].add_support(planar.Fixed("left"))
+    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
+    joint = planar.Joint(strips)
+    joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=5.0,
+                                         flexibility="huth", modulus=110e3, name="row"))
+    table = joint_section(planar.solve(joint)["pull"]).blocks[0]
+    assert table.headers[-1] == "compliance [mm/N]"
+    d, t, E, Ef = 5.0, 2.0, 71e3, 110e3
+    C = ((t + t) / (2 * d)) ** (2 / 3) * 3.0 * (2 / (t * E) + 2 / (2 * t * Ef))
+    assert [float(r[-1]) for r in table.rows] == pytest.approx([C, C], rel=1e-3)

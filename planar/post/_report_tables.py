@@ -76,11 +76,14 @@ def joint_section(joint_result) -> Section:
     f, s, lu = _unit(units, "force"), _unit(units, "stress"), _unit(units, "length")
     blocks: list = []
     if tab.pairs:
-        blocks.append(Table(["fastener", "layers", "at" + lu, "shear Vx, Vy" + f, "shear" + f],
+        cu = f" [{lu[2:-1]}/{f[2:-1]}]" if lu and f else ""  # compliance: length per force
+        blocks.append(Table(["fastener", "layers", "at" + lu, "shear Vx, Vy" + f, "shear" + f, "compliance" + cu],
                             [[f"{p['group']} {p['index'] + 1}", f"{p['layers'][0]} to {p['layers'][1]}",
-                              _pt(p["point"]), _force(p["shear"]), _f(p["magnitude"])] for p in tab.pairs],
+                              _pt(p["point"]), _force(p["shear"]), _f(p["magnitude"]), _f(p["compliance"], ".4g")]
+                             for p in tab.pairs],
                             caption=f"Shear each fastener passes from one layer into the next, load case "
-                                    f"'{tab.case}'.", numeric=[4]))
+                                    f"'{tab.case}', and the compliance of the spring between the two layers "
+                                    "(one shear plane in double shear).", numeric=[4, 5]))
     if tab.holes:
         blocks.append(Table(["hole", "layer", "bearing load" + f, "bearing stress P/(d t)" + s, "bypass load" + f,
                              "diameter" + lu, "thickness" + lu],
