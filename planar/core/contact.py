@@ -429,7 +429,7 @@ class ContactSet:
         The candidate nodes start as those that penetrate in the springs' answer, widened along the
         edge; while the contact arc reaches the edge of the candidates, or the final answer makes a
         node left out penetrate, the set grows (the flexibility of the new nodes only: one more
-        multi-RHS solve) and the iteration runs again.
+        multi-RHS solve, or nothing with the factor's Schur complement) and the iteration runs again.
         """
         rhs = np.asarray(rhs).reshape(self.n_new, -1)
         nc = rhs.shape[1]

@@ -281,6 +281,8 @@ class _Pardiso:
             self.schur_unknowns, self.schur = marked, (S + S.T) / 2
         del x
         self.info = {"factor_nonzeros": int(ip[17])}
+        if self.schur is not None:
+            self.info["schur_unknowns"] = int(marked.size)
 
     def _call(self, phase: int, b: np.ndarray, rows: int | None = None) -> np.ndarray:
         c = self._c
