@@ -20,7 +20,7 @@ def round_lug():
     return mesh(lug(40.0, 16.0, 40.0, end="round"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
 
 
-def _lug_check(m, fx, fy, half=False, hold=None):
+def _lug_check(m, fx, fy, half=False, hold=None, P=None):
     from planar.post import lug_check
 
     model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
@@ -35,7 +35,8 @@ def _lug_check(m, fx, fy, half=False, hold=None):
         model.add_support(planar.Symmetry("symmetry_x"))
         model.add_load(planar.Traction("base", ty=-10.0), case="c")
     r = planar.solve(model)["c"]
-    return lug_check(r, np.hypot(fx, fy) or 1600.0, 40.0 / (1 + half), 16.0, 8.0, edge_distance=40.0,
+    whole = (np.hypot(fx, fy) or 10.0 * 20.0 * 8.0) * (1 + half)  # the whole lug's load
+    return lug_check(r, whole if P is None else P, 40.0, 16.0, 8.0, edge_distance=40.0,
                      tension_allowable=300.0, shear_allowable=200.0, bearing_allowable=400.0)
 
 
@@ -65,7 +66,33 @@ def test_a_half_lug_on_its_axis_is_not_taken_for_an_oblique_pull(loaded):
     # the axis, the other half carries the mirror of it), so the half is still pulled along its axis
     half = mesh(lug(40.0, 16.0, 40.0).half("x"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
     c = _lug_check(half, 0.0, 7500.0 if loaded else 0.0, half=True, hold="x" if loaded else "both")
-    assert c.direction_note == ""
+    assert c.direction_note == "" and c.load_note == ""
+
+
+# trial: lug checks given a load the result does not put on the hole
+def test_a_lug_check_given_another_load_than_the_hole_carries_says_so(round_lug):
+    # Kt = peak / (P / ((W - D) t)) mixes the result's peak with the P given (Bruhn sec. D1 nominal): a held pin
+    # that the lug's own pull leaves clear of its hole carries nothing, yet the check printed a bearing stress of
+    # 125 MPa with 'MS = +2.200' and a Kt of 2.2 on it, unremarked
+    c = _lug_check(round_lug, 0.0, 15e3, P=16e3)  # 6.7 % over the 15 kN the pin passes
+    assert "P = 16000 N, is not the load on the hole in this result (15000 N)" in c.load_note
+    assert "CAUTION: the load given" in c.table() and c.as_dict()["load_note"] == c.load_note
+    assert _lug_check(round_lug, 0.0, 15e3, P=15.1e3).load_note == ""  # within 1 %
+    # the half model's pin carries 7500 N: the whole lug 15000 N (mirror symmetry, common practice)
+    half = mesh(lug(40.0, 16.0, 40.0).half("x"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
+    c = _lug_check(half, 0.0, 7500.0, half=True, hold="x", P=7500.0)
+    assert "(15000 N, 2 times the 7500 N on this half model)" in c.load_note and "whole lug's W and D" in c.load_note
+    # the held pin the square lug pulls away from (it stretches less than the clearance): nothing on the hole
+    square = mesh(lug(40.0, 16.0, 40.0), size=5.0, element="T6", refine=[Refine("hole", size=0.8)])
+    model = planar.Model(square, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold="both", name="pin"))
+    model.add_load(planar.Traction("end", ty=50.0), case="c")
+    r = planar.solve(model)["c"]
+    assert not r.contact_states["pin"].in_contact
+    from planar.post import lug_check
+
+    assert "is not the load on the hole in this result (0 N)" in lug_check(r, 16e3, 40.0, 16.0, 8.0).load_note
 
 
 # trial: the report of a contact model, its picture given by hand

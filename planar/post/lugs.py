@@ -225,6 +225,8 @@ class LugCheck:
     caution: str = CAUTION
     #: set when the pin pushes the lug towards its base, or pulls it off its axis (see :func:`lug_check`)
     direction_note: str = ""
+    #: set when the load given is not the load the result passes to the hole (see :func:`lug_check`)
+    load_note: str = ""
 
     @property
     def stress_unit(self) -> str:
@@ -264,6 +266,8 @@ class LugCheck:
             lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {_plain(value):>10} {unit}{tail}")
         if self.margins:
             lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
+        if self.load_note:
+            lines.append(f"  CAUTION: {self.load_note}.")
         if self.direction_note:
             lines.append(f"  CAUTION: {self.direction_note}.")
         if self.concentration.note:
@@ -286,7 +290,7 @@ class LugCheck:
             "peak_hoop": self.peak_hoop, "peak_angle": self.peak_angle, "peak_point": list(self.peak_point),
             "kt_net": self.kt_net, "kt_bearing": self.kt_bearing, "margins": dict(self.margins),
             "factor_of_safety": self.factor_of_safety, "note": self.concentration.note,
-            "direction_note": self.direction_note,
+            "direction_note": self.direction_note, "load_note": self.load_note,
         })
 
 
@@ -302,9 +306,10 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     result : Result
         The solved lug (one load case).
     load : float
-        The pin load P along the lug (its magnitude is used).
+        The pin load P along the lug (its magnitude is used): the whole lug's, on a model cut by a
+        symmetry line through the hole.
     width, hole_diameter, thickness : float
-        W, D and t, in the model's length unit.
+        W, D and t, in the model's length unit (the whole lug's).
     edge_distance : float, optional
         e, hole centre to the lug's end; gives the shear-out stress.
     edge : str, default "hole"
@@ -333,7 +338,10 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     than :data:`OFF_AXIS_DEG` off the axis (a transverse or oblique load), the table says so with
     the load's axial and transverse components (``direction_note``). The direction is the pin's
     load (its force on the part when it is held and not loaded), taken along the symmetry line
-    of a half model whose line runs through the hole.
+    of a half model whose line runs through the hole. When the load on the hole in the result
+    (the pin's force, or the loads on the hole's nodes; twice that on a half model) differs from
+    P by more than :data:`LOAD_TOLERANCE`, the table says so (``load_note``): the nominal stresses
+    are of P while the peak and Kt are of the result.
     """
     result = as_result(result, "lug_check")
     if shear_allowable is not None and edge_distance is None:
@@ -370,42 +378,93 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
-                    direction_note="; ".join(notes))
+                    direction_note="; ".join(notes), load_note=_load_mismatch(result, edge, P))
 
 
-def _load_and_axis(result, edge: str) -> tuple[np.ndarray, np.ndarray] | None:
-    """The load the pin puts on the hole and the lug's axis (hole centre to the edge ``"end"`` of
-    :func:`planar.geometry.lugs.lug`), or None when the mesh has no ``"end"`` or no load reaches the hole.
+def _hole_load(result, edge: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+    """(force on the hole, the direction it pulls, the hole's centre), or None when nothing ties or loads the hole.
 
-    The load is the pin's own load when it is loaded (a held pin's reaction across a symmetry line is not
-    the direction it pulls), else its force on the part, else the loads on the hole's nodes (a prescribed
-    bearing load). Where the hole meets a symmetry line (a half model), both are taken along that line: the
-    mirror half carries the opposite of the component across it (mirror symmetry, common practice).
+    The force is the force of the pin tied to the edge on the part, else the loads on the hole's nodes (a
+    prescribed bearing load). The direction is the pin's own load when it is loaded (a held pin's reaction
+    across a symmetry line is not the direction it pulls), else the force. Where the hole meets a symmetry
+    line (a half model), both are taken along that line: the mirror half carries the opposite of the
+    component across it (mirror symmetry, common practice).
     """
     mesh = result.mesh
-    if "end" not in mesh.edge_sets or edge not in mesh.edge_sets:
+    if edge not in mesh.edge_sets:
         return None
     hole = np.unique(mesh.edge(edge))
-    force = centre = None
+    force = pull = centre = None
     for st in getattr(result, "pin_states", None) or []:
         if st.get("edge") == edge:
             load = np.asarray(st.get("load", (0.0, 0.0)), dtype=float)[:2]
-            force = load if np.hypot(*load) > 0 else np.asarray(st["force"], dtype=float)
+            force = np.asarray(st["force"], dtype=float)
+            pull = load if np.hypot(*load) > 0 else force
             centre = np.asarray(st["point"], dtype=float)
     if force is None:  # a prescribed bearing load: the loads on the hole's nodes
-        force = np.asarray(result.applied, dtype=float)[hole].sum(axis=0)
-    if centre is None:
+        force = pull = np.asarray(result.applied, dtype=float)[hole].sum(axis=0)
+        if not np.hypot(*force) > 0:
+            return None
         centre = mesh.nodes[hole].mean(axis=0)
-    axis = mesh.nodes[np.unique(mesh.edge("end"))].mean(axis=0) - centre
+    for n in _symmetry_normals(result, hole):
+        force, pull = force - (force @ n) * n, pull - (pull @ n) * n
+    return force, pull, centre
+
+
+def _symmetry_normals(result, hole: np.ndarray) -> list[np.ndarray]:
+    """The unit normals of the symmetry lines (:class:`planar.Symmetry` supports) that meet the hole's nodes."""
+    mesh = result.mesh
     model = getattr(getattr(result, "assembly", None), "model", None)
-    for sup in getattr(model, "supports", None) or []:
-        if type(sup).__name__ == "Symmetry" and isinstance(sup.where, str) and sup.where in mesh.edge_sets \
-                and np.intersect1d(np.unique(mesh.edge(sup.where)), hole).size:
-            n = np.asarray(sup.rows(mesh)[1][0], dtype=float)  # the line's unit normal
-            force, axis = force - (force @ n) * n, axis - (axis @ n) * n
-    if not np.hypot(*force) > 0 or not np.hypot(*axis) > 0:
+    return [np.asarray(sup.rows(mesh)[1][0], dtype=float) for sup in getattr(model, "supports", None) or []
+            if type(sup).__name__ == "Symmetry" and isinstance(sup.where, str) and sup.where in mesh.edge_sets
+            and np.intersect1d(np.unique(mesh.edge(sup.where)), hole).size]
+
+
+#: the share by which the load given may differ from the load on the hole before the check says so
+LOAD_TOLERANCE = 0.01
+
+
+def _load_mismatch(result, edge: str, P: float) -> str:
+    """A caution when the load on the hole in the result is not the load P the check is given, else "".
+
+    On a model cut by symmetry lines through the hole, the whole lug carries 2 (or 4) times the load on
+    the model's part of the hole (its component along the lines; mirror symmetry, common practice), and
+    P, W and D are the whole lug's.
+    """
+    got = _hole_load(result, edge)
+    if got is None:  # nothing ties or loads the hole: no figure to compare with
+        return ""
+    cuts = len(_symmetry_normals(result, np.unique(result.mesh.edge(edge))))
+    on_model = float(np.hypot(*got[0]))
+    whole = on_model * 2 ** cuts
+    if abs(whole - P) <= LOAD_TOLERANCE * P:
+        return ""
+    fu = force_unit(result.units)
+    unit = f" {fu}" if fu else ""
+
+    def fig(v):
+        return _plain(v) if v > 1e-9 * P else "0"
+
+    part = ("" if not cuts else
+            f", {2 ** cuts} times the {fig(on_model)}{unit} on this {'half' if cuts == 1 else 'quarter'} model")
+    return (f"the load given, P = {_plain(P)}{unit}, is not the load on the hole in this result ({fig(whole)}{unit}"
+            f"{part}): the nominal stresses are of P, but the peak and Kt are of the result; give the load the pin "
+            "passes to the hole" + (", with the whole lug's W and D" if cuts else ""))
+
+
+def _load_and_axis(result, edge: str) -> tuple[np.ndarray, np.ndarray] | None:
+    """The direction the load on the hole pulls (:func:`_hole_load`) and the lug's axis (unit vector from the
+    hole's centre to the edge ``"end"`` of :func:`planar.geometry.lugs.lug`), or None without either."""
+    got = _hole_load(result, edge)
+    if got is None or "end" not in result.mesh.edge_sets:
         return None
-    return force, axis / np.hypot(*axis)
+    _, pull, centre = got
+    axis = result.mesh.nodes[np.unique(result.mesh.edge("end"))].mean(axis=0) - centre
+    for n in _symmetry_normals(result, np.unique(result.mesh.edge(edge))):  # along the line, as the load
+        axis = axis - (axis @ n) * n
+    if not np.hypot(*pull) > 0 or not np.hypot(*axis) > 0:
+        return None
+    return pull, axis / np.hypot(*axis)
 
 
 def _pushes_toward_base(result, edge: str) -> bool:
