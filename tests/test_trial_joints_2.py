@@ -274,3 +274,31 @@ def test_a_contact_tie_for_a_fastener_is_refused_when_made():
     # the choices (the project's rule for errors), not met later as a mechanism
     with pytest.raises(InputError, match="rigid"):
         planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=3e-5, tie="contact")
+
+
+def test_plot_joint_arrow_scale_by_hand_and_quick():
+    # plane geometry (common practice): a row along its load, pitch 20, the arrows along the row: each
+    # arrow stops a fifth of the pitch short of the next fastener, so the largest is 0.8 x 20 = 16 long;
+    # two arrows pointing at each other across a gap of 20, loads 3:1, meet the 0.2 clearance at
+    # s (3 + 1) = 16; and a 45 x 45 pattern is scaled quickly (the pairs are prefiltered)
+    import time
+
+    from planar.post.joints import _apart
+
+    P = np.array([[0.0, 0.0], [20.0, 0.0], [40.0, 0.0]])
+    V = np.array([[1.0, 0.0], [2.0, 0.0], [1.0, 0.0]])
+    assert _apart(P, V, 100.0, 40.0) * 2.0 == pytest.approx(16.0, rel=2e-3)
+    P2, V2 = np.array([[0.0, 0.0], [20.0, 0.0]]), np.array([[3.0, 0.0], [-1.0, 0.0]])
+    assert _apart(P2, V2, 100.0, 20.0) * 4.0 == pytest.approx(16.0, rel=2e-3)
+    assert _apart(P2, V2, 1.0, 20.0) == 1.0  # short enough already: kept
+    g = np.stack(np.meshgrid(np.arange(45), np.arange(45)), -1).reshape(-1, 2) * 20.0
+    Vg = np.random.default_rng(0).normal(size=g.shape)
+    t0 = time.perf_counter()
+    s = _apart(g, Vg, 88.0 / np.hypot(*Vg.T).max(), 880.0)
+    assert time.perf_counter() - t0 < 3.0
+    i, j = np.triu_indices(g.shape[0], 1)
+    from planar.post.joints import _seg_distance
+
+    near = np.hypot(*(g[i] - g[j]).T) < 100.0
+    i, j = i[near], j[near]
+    assert np.all(_seg_distance(g[i], g[i] + s * Vg[i], g[j], g[j] + s * Vg[j]) >= 0.2 * np.hypot(*(g[i] - g[j]).T) - 1e-9)

@@ -74,23 +74,29 @@ def _apart(P: np.ndarray, V: np.ndarray, s_max: float, span: float) -> float:
 
     if P.shape[0] < 2:
         return s_max
-    reach = s_max * float(np.hypot(*V.T).max())
-    pairs = cKDTree(P).query_pairs(2.0 * reach + 1e-9 * span, output_type="ndarray")
+    mag = np.hypot(*V.T)
+    # two arrows within discs of radius s |V| about their points keep 0.2 of their distance while
+    # s (|Vi| + |Vj|) <= 0.8 gap: pairs further apart than 2.5 of the longest arrow never come close
+    pairs = cKDTree(P).query_pairs(2.5 * s_max * float(mag.max()) + 1e-9 * span, output_type="ndarray")
     if not pairs.size:
         return s_max
     i, j = pairs[:, 0], pairs[:, 1]
     gap = np.hypot(*(P[i] - P[j]).T)
-    keep = gap > 1e-9 * span  # two fasteners at one point: nothing to keep apart
+    both = mag[i] + mag[j]
+    keep = (gap > 1e-9 * span) & (both > 0)  # two fasteners at one point: nothing to keep apart
     i, j, gap = i[keep], j[keep], gap[keep]
+    safe = 0.8 * gap / both[keep]  # below this scale the pair is clear by the discs alone
 
     def clear(s):
-        return bool(np.all(_seg_distance(P[i], P[i] + s * V[i], P[j], P[j] + s * V[j]) >= 0.2 * gap))
+        k = safe < s
+        a, b = i[k], j[k]
+        return bool(np.all(_seg_distance(P[a], P[a] + s * V[a], P[b], P[b] + s * V[b]) >= 0.2 * gap[k]))
 
-    if clear(s_max):
+    if not safe.size or clear(s_max):
         return s_max
-    lo, hi = 0.0, s_max  # the arrows only grow with the scale, so their distance only shrinks: bisect
-    for _ in range(40):
-        mid = 0.5 * (lo + hi)
+    lo, hi = min(float(safe.min()), s_max), s_max  # the arrows only grow with the scale: bisect (to 0.1 %)
+    while hi > 1.001 * lo:
+        mid = math.sqrt(lo * hi)
         lo, hi = (mid, hi) if clear(mid) else (lo, mid)
     return lo
 
