@@ -50,6 +50,9 @@ def test_schur_complement_and_its_uses_match_the_definition():
     Bfull[:, s] = Bs
     W = Bfull @ np.linalg.solve(Kd, Bfull.T)
     assert np.abs(f.schur_gram(Bs) - W).max() <= 1e-11 * np.abs(W).max()
+    # the forward half of the solve still gives b^T K^-1 b = Z^T Z (K = P^T L L^T P), its Schur block finished
+    # by the dense factor of S
+    assert np.abs(f.gram(Bfull.T) - W).max() <= 1e-11 * np.abs(W).max()
 
 
 def test_without_marks_or_with_too_many_the_factor_has_no_schur_complement():

@@ -308,6 +308,14 @@ class _Pardiso:
     def forward(self, b):
         """The forward half of the solve, ``Z = L^-1 P b`` (phase 331), so that ``b^T K^-1 b = Z^T Z``."""
         Z = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))
+        if self.schur is not None:  # the forward half stops at the Schur block: finish it with S = R^T R
+            from scipy.linalg import solve_triangular
+
+            from ._multigrid import one_blas_thread
+
+            with one_blas_thread():
+                Z[self.schur_unknowns] = solve_triangular(self._schur_factor()[0], Z[self.schur_unknowns], trans="T",
+                                                          lower=False, check_finite=False)
         if not np.all(np.isfinite(Z)):
             raise _numerical(_SINGULAR)
         return Z
