@@ -160,3 +160,28 @@ def test_a_load_on_what_a_pin_holds_is_refused(tie, hold, load, words):
     with pytest.raises(InputError, match="load case 'pull' puts " + words.replace("(", r"\(").replace(")", r"\)")
                        + " on pin 'pin', which holds it"):
         planar.solve(model)
+
+
+# trial: a bracket whose hole was clamped before the pin was added, and two holes under one name
+@pytest.mark.parametrize("case", ["clamped hole", "two holes"])
+def test_a_contact_pin_on_a_clamped_or_doubled_hole_is_refused_by_name(case):
+    # a held node cannot move against the pin: the contact problem has no unique answer, and it was reported as
+    # a part that 'would move freely' (blaming the loads and the clearance); an edge of two holes was 'not a
+    # circle about the pin's point' with the advice to give radius=, which would make one disc bear on both
+    from planar.core.errors import InputError, SupportError
+    from planar.geometry import Circle, Plate
+
+    p = Plate.rectangle(160.0, 50.0, centre=(0.0, 0.0)).cut(Circle((50.0, 10.0), 6.0, name="hole"))
+    if case == "two holes":
+        p = p.cut(Circle((-50.0, 0.0), 6.0, name="hole"))
+    m = mesh(p, size=6.0, element="Q8", refine=[Refine("hole", size=1.0)])
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.33), thickness=3.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    if case == "clamped hole":
+        model.add_support(planar.Fixed("hole"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.0, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=100.0), case="c")
+    err, words = ((SupportError, "of its edge is held by a support.*remove the support from the pin's edge")
+                  if case == "clamped hole" else (InputError, "is 2 separate pieces.*name each hole apart"))
+    with pytest.raises(err, match=words):
+        planar.solve(model)

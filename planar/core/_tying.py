@@ -76,6 +76,36 @@ def _weights(asm, edge: str, nodes: np.ndarray) -> np.ndarray:
     return w[nodes]
 
 
+def _refuse_held_bearing(pin, mesh, nodes: np.ndarray, r: np.ndarray, on: np.ndarray) -> None:
+    """Refuse a contact pin in a hole that a support holds across the pin's surface (a clamped hole).
+
+    A held node cannot move against the pin, so where the pin bears on it the contact problem has no
+    unique answer (it was reported as a part that would move freely). A symmetry line through the
+    hole holds its end nodes along the pin's surface only, and is allowed.
+    """
+    dist = np.hypot(*r.T)
+    e = np.divide(r, dist[:, None], out=np.zeros_like(r), where=dist[:, None] > 0)  # the pin's normal at each node
+    bad = (on.reshape(-1, 2) & (np.abs(e) > 1e-6)).any(axis=1)
+    if bad.any():
+        k = int(nodes[np.argmax(bad)])
+        raise SupportError(f"{pin.describe()}: node {k} at {fmt_point(mesh.nodes[k])} of its edge is held by a support "
+                           f"({int(bad.sum())} such node(s)); a contact pin bears on the edge where it is free to "
+                           "move against it: remove the support from the pin's edge (the pin holds the part where it "
+                           "bears), or use tie='rigid' for an edge that moves with the pin")
+
+
+def _pieces(mesh, edge: str) -> int:
+    """The number of separate pieces (loops or open chains) of a named edge."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    seg = np.asarray(mesh.edge(edge))[:, :2]
+    used, inv = np.unique(seg, return_inverse=True)
+    inv = inv.reshape(seg.shape)
+    graph = coo_matrix((np.ones(len(inv)), (inv[:, 0], inv[:, 1])), shape=(used.size, used.size))
+    return int(connected_components(graph, directed=False)[0])
+
+
 def _contact_pin(d: dict, asm, model, pin, r: np.ndarray, p_off: int) -> None:
     """A contact pin's data: no eliminated unknown, its free translations, the disc's radius, the nodes' weights."""
     held = pin.held
@@ -91,6 +121,10 @@ def _contact_pin(d: dict, asm, model, pin, r: np.ndarray, p_off: int) -> None:
         rp = pin.radius
     else:
         R = float(dist.mean())
+        if np.ptp(dist) > 1e-3 * R and _pieces(asm.mesh, pin.edge) > 1:
+            raise InputError(f"{pin.describe()}: its edge {pin.edge!r} is {_pieces(asm.mesh, pin.edge)} separate pieces "
+                             "(several holes under one name?); a contact pin bears on one hole: name each hole apart "
+                             "(e.g. Circle(..., name='hole_1')) and give each its pin")
         if np.ptp(dist) > 1e-3 * R:
             raise InputError(f"{pin.describe()}: its edge is not a circle about the pin's point {fmt_point(d['point'])} "
                              f"(distances {dist.min():.4g} to {dist.max():.4g}); give the pin's radius= (and at=) for a "
@@ -265,6 +299,8 @@ class Tying:
             if on.any():
                 pval[on] = cons.values[np.searchsorted(cons.dofs, dofs[on])]
             if pin.tie == "contact":  # no eliminated unknown: the pin's free translations, and the gaps
+                if pin.radius is None:  # a hole round the pin: any of its nodes may bear
+                    _refuse_held_bearing(pin, mesh, nodes, r, on)
                 _contact_pin(d, asm, model, pin, r, p_off)
                 p_off += d["free_comp"].size
             elif pin.tie == "rigid":
