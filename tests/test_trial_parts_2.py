@@ -130,3 +130,59 @@ def test_a_cut_leaving_the_plate_names_its_points_plainly():
     assert "np." not in str(info.value) and "(5, -1)" in str(info.value)
     # the cut inside the strip carries the end load: 1 x 2 x thickness 1 (statics)
     assert cut_resultant(r, (5.0, 0.0), (5.0, 2.0)).force[0] == pytest.approx(2.0, rel=1e-6)
+
+
+def _l_bracket(element, size, fillet=None):
+    """An L bracket (mm), legs 20 wide, clamped at the top of its upright, its arm bent by 100 N."""
+    from planar.geometry import Plate, Polygon, Refine, mesh
+
+    poly = Polygon([(0, 0), (120, 0), (120, 20), (20, 20), (20, 100), (0, 100)],
+                   names=["bottom", "tip", "arm_top", "inner", "top", "back"])
+    plate = Plate(poly)
+    if fillet:
+        plate = plate.fillet((20, 20), radius=fillet, name="fillet")
+        m = mesh(plate, size=size, element=element)
+    else:
+        m = mesh(plate.add_point("corner", (20, 20)), size=size, element=element, refine=[Refine("corner", size=1.0)])
+    model = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=5.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("top"))
+    model.add_load(planar.Traction("tip", ty=-100.0 / (20 * 5.0)), case="tip")
+    return model
+
+
+@pytest.mark.parametrize("element", ["T3", "T6", "Q4", "Q8"])
+def test_peak_at_a_sharp_re_entrant_corner_warns_that_it_is_set_by_the_mesh(element):
+    # the stress at a sharp 270-degree corner is singular, r^(lambda - 1) with lambda = 0.544
+    # (M. L. Williams, J. Appl. Mech. 19, 1952), so its peak grows without bound as the mesh is refined;
+    # it was read and ranked like any converged peak, with no word
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = planar.solve(_l_bracket(element, 5.0))["tip"]
+        peak = r.max("von_mises")
+    assert np.hypot(peak.location[0] - 20.0, peak.location[1] - 20.0) < 5.0  # the peak is at the corner
+    assert "sharp-corner" in [w.code for w in r.warnings]   # (linear elements also draw "linear-peak")
+    # the hot spots say so too
+    from planar.post import hot_spots
+
+    r.warnings.clear()
+    with pytest.warns(planar.DiscretisationWarning, match="sharp re-entrant corner at \\(20, 20\\)"):
+        hot_spots(r, top=2)
+
+
+@pytest.mark.parametrize("element,size", [("T3", 8.0), ("T6", 8.0), ("Q8", 8.0), ("T6", 2.0)])
+def test_peak_at_a_fillet_is_not_called_a_sharp_corner(element, size):
+    # the same bracket with a 6 mm fillet: the stress there is finite (no false alarm), even when
+    # the fillet is spanned by one or two element sides
+    import warnings
+
+    from planar.post import hot_spots
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = planar.solve(_l_bracket(element, size, fillet=6.0))["tip"]
+        r.max("von_mises")
+        r.min("sigma_xx")
+        hot_spots(r, top=3)
+    assert "sharp-corner" not in [w.code for w in r.warnings]

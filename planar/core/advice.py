@@ -30,6 +30,10 @@ Codes
     concave boundary (hole, fillet, notch, re-entrant corner), 1.5 times the median of the field or
     more, and falling by a fifth or more across the cells around it. Raised by the peak queries
     through :func:`planar.core._advice_linear.linear_peak`, not by :func:`advise`.
+``"sharp-corner"``
+    A stress peak at, or one node off, a sharp re-entrant corner of the boundary (more than 195 degrees
+    of material between the tangents of its sides, no radius): singular, so set by the mesh. Raised by
+    the peak queries and the hot spots through :func:`planar.core._advice_corner.sharp_corner_peak`.
 
 :mod:`planar.post.checks` adds ``"factor-of-safety"`` (a factor below 1 in a margin of safety) and
 ``"negative-nominal"`` (a compressive nominal stress in a Kt) to the result it checks.

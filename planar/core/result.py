@@ -298,6 +298,10 @@ class Result(CaseResult):
 
         if has_linear(self):  # linear elements under-read a peak at a hole or fillet: say so
             linear_peak(self, i, field, v, stacklevel=4)
+        if largest or (not absolute and (info is None or info.signed)):
+            from ._advice_corner import sharp_corner_peak
+
+            sharp_corner_peak(self, i, field, v, stacklevel=4)  # a singular peak has no converged value
         return self._extreme(v, i, said, note)
 
     def _own_side(self, v: np.ndarray, field: str, recovery: str, centre, where) -> np.ndarray:

@@ -343,6 +343,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     """
     from scipy.sparse.csgraph import connected_components
 
+    from ..core._advice_corner import sharp_corner_peak
     from ..core.zones import idealised_reason, near_idealised, node_sizes
     from .checks import _check_recovery, margin_of_safety
     from ..core.units import field_unit, length_unit
@@ -473,6 +474,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
                 if r > 0:  # the factor-of-safety warning once, not once per spot
                     warnings.simplefilter("ignore")
                 ms = margin_of_safety(value, allow, fs).margin
+        sharp_corner_peak(result, i, field, raw, stacklevel=3)  # a singular spot: its value is the mesh's
         reason = next_to = ""
         if near[r]:
             mask = _feature_mask(mesh, str(feats[k]), str(kinds[k]), i)
