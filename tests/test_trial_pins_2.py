@@ -185,3 +185,24 @@ def test_a_contact_pin_on_a_clamped_or_doubled_hole_is_refused_by_name(case):
                   if case == "clamped hole" else (InputError, "is 2 separate pieces.*name each hole apart"))
     with pytest.raises(err, match=words):
         planar.solve(model)
+
+
+# trial: reactions of a clamped arm loaded through a rigid pin, about each one's own point
+def test_reactions_about_their_own_points_do_not_claim_the_moments_add_up():
+    # statics (common practice): the clamp at the left edge's centre (-80, 0) carries -(20000 + 130 x (-1000)
+    # - 10 x 300) = 113000 N mm, the pin its own 20000 N mm about its point; 113000 + 20000 is no balance, so
+    # the caption's 'With the applied loads they add up to zero' was wrong for about='own'
+    from planar.geometry import Circle, Plate
+    from planar.post.report import reactions_table
+
+    p = Plate.rectangle(160.0, 50.0, centre=(0.0, 0.0)).cut(Circle((50.0, 10.0), 6.0, name="hole"))
+    m = mesh(p, size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.33), thickness=3.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_pin(Pin("hole", tie="rigid", hold=None, name="arm"))
+    model.add_load(PinLoad("arm", fx=300.0, fy=-1000.0, moment=20000.0), case="c")
+    r = planar.solve(model)["c"]
+    own = reactions_table(r, about="own")
+    assert [row[4] for row in own.rows] == ["113000", "20000"]
+    assert "the forces add up to zero" in own.caption and "they add up to zero" not in own.caption
+    assert "they add up to zero" in reactions_table(r, about=(0.0, 0.0)).caption

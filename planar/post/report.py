@@ -126,7 +126,9 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
     return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
                   "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
                  rows, caption=f"Reactions of each support and pin on the part, load case '{result.case}'; moments "
-                               f"about {where}, counter-clockwise positive. With the applied loads they add up to zero.",
+                               f"about {where}, counter-clockwise positive. With the applied loads "
+                               + ("they add up to zero." if about != "own" else "the forces add up to zero (the "
+                                  "moments, each about its own point, add up only when taken about one point)."),
                  numeric=[2, 3, 4])
 
 
