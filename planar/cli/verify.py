@@ -17,6 +17,7 @@ def arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--case", metavar="NAME", action="append",
                    help="run only this benchmark case (repeatable)")
     p.add_argument("--quiet", action="store_true", help="print only the summary line")
+    p.add_argument("--list", action="store_true", help="list the benchmark cases with what each checks, and run none")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -25,6 +26,8 @@ def run(args: argparse.Namespace) -> int:
     from ..post.files import atomic_write_text
     from ..verify import format_table, records_to_json, run as run_cases
 
+    if args.list:
+        return _list_cases()
     progress = Progress(False if args.quiet else None, clock=False)   # on a terminal only
     records = run_cases(element=args.element, case_names=args.case, progress=progress)
     if not args.quiet:
@@ -43,3 +46,16 @@ def run(args: argparse.Namespace) -> int:
                         "(run by name with --case)")
     print("\n" + "\n".join(textwrap.wrap(summary, 120, subsequent_indent="  ")))
     return 0 if not failed else 1
+
+
+def _list_cases() -> int:
+    """Print each case's name, elements and first docstring line (cases out of the full run marked)."""
+    from ..verify import cases
+
+    width = max(len(n) for n in cases())
+    for name, c in cases().items():
+        doc = (c.func.__doc__ or "").strip().splitlines()
+        what = doc[0] if doc else ""
+        held = "" if c.default else " [not in the full run: run by name with --case]"
+        print(f"{name:<{width}}  {', '.join(c.elements) or '-'}: {what}{held}")
+    return 0
