@@ -78,6 +78,12 @@ def test_a_lug_check_given_another_load_than_the_hole_carries_says_so(round_lug)
     assert "P = 16000 N, is not the load on the hole in this result (15000 N)" in c.load_note
     assert "CAUTION: the load given" in c.table() and c.as_dict()["load_note"] == c.load_note
     assert _lug_check(round_lug, 0.0, 15e3, P=15.1e3).load_note == ""  # within 1 %
+    # an oblique 15 kN: the whole load or its component along the lug's axis ('P along the lug') will do
+    a = np.radians(30.0)
+    for P in (15e3, 15e3 * np.cos(a)):
+        assert _lug_check(round_lug, 15e3 * np.sin(a), 15e3 * np.cos(a), P=P).load_note == ""
+    assert "(15000 N; 12990 N along the lug's axis)" in _lug_check(round_lug, 7.5e3, 15e3 * np.cos(a),
+                                                                     P=10e3).load_note
     # the half model's pin carries 7500 N: the whole lug 15000 N (mirror symmetry, common practice)
     half = mesh(lug(40.0, 16.0, 40.0).half("x"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
     c = _lug_check(half, 0.0, 7500.0, half=True, hold="x", P=7500.0)

@@ -340,8 +340,9 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     load (its force on the part when it is held and not loaded), taken along the symmetry line
     of a half model whose line runs through the hole. When the load on the hole in the result
     (the pin's force, or the loads on the hole's nodes; twice that on a half model) differs from
-    P by more than :data:`LOAD_TOLERANCE`, the table says so (``load_note``): the nominal stresses
-    are of P while the peak and Kt are of the result.
+    P, and from its component along the lug's axis, by more than :data:`LOAD_TOLERANCE`, the
+    table says so (``load_note``): the nominal stresses are of P while the peak and Kt are of
+    the result.
     """
     result = as_result(result, "lug_check")
     if shear_allowable is not None and edge_distance is None:
@@ -437,7 +438,9 @@ def _load_mismatch(result, edge: str, P: float) -> str:
     cuts = len(_symmetry_normals(result, np.unique(result.mesh.edge(edge))))
     on_model = float(np.hypot(*got[0]))
     whole = on_model * 2 ** cuts
-    if abs(whole - P) <= LOAD_TOLERANCE * P:
+    axis = _load_and_axis(result, edge)
+    along = None if axis is None else abs(float(got[0] @ axis[1])) * 2 ** cuts  # P "along the lug" is fine too
+    if abs(whole - P) <= LOAD_TOLERANCE * P or (along is not None and abs(along - P) <= LOAD_TOLERANCE * P):
         return ""
     fu = force_unit(result.units)
     unit = f" {fu}" if fu else ""
@@ -447,6 +450,8 @@ def _load_mismatch(result, edge: str, P: float) -> str:
 
     part = ("" if not cuts else
             f", {2 ** cuts} times the {fig(on_model)}{unit} on this {'half' if cuts == 1 else 'quarter'} model")
+    if along is not None and abs(along - whole) > LOAD_TOLERANCE * whole:
+        part += f"; {fig(along)}{unit} along the lug's axis"
     return (f"the load given, P = {_plain(P)}{unit}, is not the load on the hole in this result ({fig(whole)}{unit}"
             f"{part}): the nominal stresses are of P, but the peak and Kt are of the result; give the load the pin "
             "passes to the hole" + (", with the whole lug's W and D" if cuts else ""))
