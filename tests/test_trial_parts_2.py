@@ -199,3 +199,14 @@ def test_verify_lists_its_cases_without_running_them(capsys):
     for name in cases():
         assert name in out
     assert "checks passed" not in out      # nothing was run
+
+
+def test_figure_label_of_a_peak_on_the_axis_prints_0_not_minus_0():
+    # the peak of a strap with a central hole sits at x = 0 to round-off; the figure labelled it
+    # "at (-0.0, 8.0) mm"
+    from planar.post.plots import _fmt_point
+
+    nodes = np.array([[-60.0, -25.0], [60.0, 25.0]])
+    assert _fmt_point((-3e-12, 8.0), nodes) == "(0.0, 8.0)"
+    assert _fmt_point((-0.04, -8.0), nodes) == "(0.0, -8.0)"
+    assert _fmt_point((-0.06, 8.0), nodes) == "(-0.1, 8.0)"

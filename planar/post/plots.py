@@ -102,7 +102,8 @@ def _fmt_point(p, nodes) -> str:
     """(x, y) rounded to about 1/1000 of the model size."""
     size = float(np.max(np.ptp(np.asarray(nodes)[:, :2], axis=0))) or 1.0
     dec = int(max(0, 3 - math.floor(math.log10(size))))
-    return f"({p[0]:.{dec}f}, {p[1]:.{dec}f})"
+    x, y = (round(float(v), dec) + 0.0 for v in p[:2])  # + 0.0: a round-off below the last digit prints 0, not -0
+    return f"({x:.{dec}f}, {y:.{dec}f})"
 
 
 def _new_figure(aspect: float, width: float = 8.0):
