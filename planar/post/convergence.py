@@ -52,7 +52,7 @@ from ..core.errors import InputError, warn
 from .files import atomic_path
 
 __all__ = ["GridConvergence", "grid_convergence", "convergence_study", "FS_THREE_GRIDS", "ORDER_FLOOR",
-           "RATIO_BAND", "DEFAULT_DEGREE"]
+           "RATIO_BAND", "DEFAULT_DEGREE", "MIN_RATIO"]
 
 #: Roache's factor of safety for a study of three or more grids with an observed order
 FS_THREE_GRIDS = 1.25
@@ -62,6 +62,9 @@ ORDER_FLOOR = 0.5
 RATIO_BAND = (0.9, 1.1)
 #: element degree assumed when a study is given numbers only (quadratic, the meshing default)
 DEFAULT_DEGREE = 2
+#: least refinement ratio between meshes for a GCI (Celik et al., J. Fluids Eng. 130, 2008: "desirable
+#: that r be greater than 1.3"; from memory)
+MIN_RATIO = 1.3
 
 
 @dataclass
@@ -372,6 +375,14 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
                          "range (or the quantity is singular, e.g. a peak at a sharp re-entrant corner).")
     if v.size > 3:
         notes.append(f"{v.size} meshes: order, extrapolation and GCI use the three finest")
+    local = ""
+    if nd is not None and min(r21, r32) < MIN_RATIO:
+        # unknowns of the whole mesh: a mesh refined only at the feature looks barely refined by them
+        local = (f"; the refinement ratios from the unknowns ({r21:.3g}, {r32:.3g}) are under {MIN_RATIO:g}: if "
+                 "the meshes are refined only at the feature, give the element size there with sizes=")
+        notes.append(f"refinement ratios {r21:.3g} and {r32:.3g} from the unknowns of the whole meshes, under "
+                     f"{MIN_RATIO:g} (Roache's least for a GCI); meshes refined only at the feature under check "
+                     "need their local element sizes (sizes=)")
     band = _order_band(degree, order_band)
     reasons = _not_asymptotic(v, kind, float(p), float(ar), band)
     if reasons and kind == "monotonic":
@@ -383,7 +394,7 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
     if reasons:
         warn(f"convergence study of {name}: {verdict}; no GCI is claimed (Roache 1998: the GCI holds only in "
              "the asymptotic range). Refine further, or check that the quantity is bounded (not a peak at a "
-             "sharp corner or a point load)", "not-asymptotic", stacklevel=stacklevel)
+             f"sharp corner or a point load){local}", "not-asymptotic", stacklevel=stacklevel)
     return g
 
 
@@ -422,7 +433,8 @@ def _not_asymptotic(v: np.ndarray, kind: str, p: float, ar: float, band: tuple[f
 @renamed_keywords(method="recovery")
 def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callable = "von_mises", *,
                       case: str | None = None, recovery: str = "spr", unit: str = "", name: str | None = None,
-                      order_band: tuple[float, float] | None = None, where=None) -> GridConvergence:
+                      order_band: tuple[float, float] | None = None, where=None,
+                      sizes: Sequence[float] | None = None) -> GridConvergence:
     """Solve the same model on three or more meshes and study the convergence of a quantity.
 
     Parameters
@@ -450,6 +462,10 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         name of an edge or region, or a zone (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``,
         ``Near``, ``Away``). A peak next to an idealised support or concentrated load on the finest
         mesh is noted in the study (such a peak is singular and does not converge).
+    sizes : sequence of float, optional
+        The element size at the feature under check in each mesh, in the order of ``meshes``. By
+        default the sizes come from the unknowns of the whole mesh (h = N^(-1/2)), which is right for
+        meshes refined everywhere; meshes refined only at the feature need their local sizes here.
 
     Returns
     -------
@@ -485,8 +501,10 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
     if name is None:
         name = (f"peak {quantity}" + ("" if said == "everywhere" else f" {said}") if isinstance(quantity, str)
                 else getattr(quantity, "__name__", "quantity"))
-    g = grid_convergence(values, dofs=dofs, name=name, unit=unit, degree=degree, order_band=order_band,
-                         stacklevel=3)
+    if sizes is not None and len(list(sizes)) != len(meshes):
+        raise InputError(f"sizes= needs one element size per mesh ({len(meshes)}), got {sizes!r}")
+    g = grid_convergence(values, dofs=None if sizes is not None else dofs, sizes=sizes, name=name, unit=unit,
+                         degree=degree, order_band=order_band, stacklevel=4)  # 4: past the keyword wrapper
     if note:
         g.notes.append(f"the peak on the finest mesh sits {note}")
     return g
