@@ -244,3 +244,33 @@ def test_convergence_study_of_meshes_refined_at_the_feature_takes_local_sizes():
     assert list(study.sizes) == [0.625, 1.25, 2.5]
     with pytest.raises(planar.InputError, match="one element size per mesh"):
         convergence_study(build, meshes, lambda r: 1.0, sizes=[1.0, 0.5])
+
+
+def test_a_hole_named_like_a_side_of_the_plate_is_refused():
+    # Circle(..., name="top") in a rectangle joined the hole's edge to the plate's top side: a
+    # Traction("top", ty=10) on a 50 x 20 x 1 plate then pulled with 626 N instead of 10 x 50 = 500 N
+    # (statics). Edges of one kind may still share a name
+    from planar.geometry import Circle, Plate
+
+    with pytest.raises(planar.GeometryError, match="give the hole a name of its own"):
+        Plate.rectangle(50.0, 20.0).cut(Circle((10.0, 10.0), 2.0, name="top"))
+    with pytest.raises(planar.GeometryError, match="give the notch a name of its own"):
+        Plate.rectangle(50.0, 20.0).notch("top", at=25.0, depth=5.0, radius=2.0, name="top")
+    with pytest.raises(planar.GeometryError, match="give the fillet a name of its own"):
+        Plate.rectangle(50.0, 20.0).fillet(("top", "right"), radius=3.0, name="left")
+    p = (Plate.rectangle(50.0, 20.0).cut(Circle((10.0, 10.0), 2.0, name="rivet"), Circle((40.0, 10.0), 2.0, name="rivet"))
+         .fillet("all", radius=1.0, name="round"))
+    assert sorted(p.names()["edges"]) == ["bottom", "left", "right", "rivet", "round", "top"]
+
+
+def test_a_hole_tangent_to_the_edge_is_refused_and_a_thin_ligament_is_not():
+    # a 10 mm hole centred 5 mm below the top of a 50 x 20 plate touches the edge at one point
+    # (geometry); the sampled check missed it between samples and meshed a part pinched to a point
+    from planar.geometry import Circle, Plate
+
+    with pytest.raises(planar.GeometryError, match="touches the plate's edge"):
+        Plate.rectangle(50.0, 20.0).cut(Circle((25.0, 15.0), 5.0, name="h"))
+    with pytest.raises(planar.GeometryError, match="touches hole"):
+        Plate.rectangle(100.0, 40.0).cut(Circle((30.0, 20.0), 5.0, name="a"), Circle((40.0, 20.0), 5.0, name="b"))
+    # a ligament of 0.05 mm (well above the geometric tolerance) is a part, not an error
+    Plate.rectangle(50.0, 20.0).cut(Circle((25.0, 14.95), 5.0, name="h"))

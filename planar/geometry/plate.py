@@ -222,15 +222,39 @@ class Plate:
             plate = plate._cut_one(shape)
         return plate
 
+    def _check_own_name(self, name: str, kind: str, label: str, base_pieces=None) -> None:
+        """Refuse a name already given to an edge of another kind (a side of the outline, a hole, a notch, a
+        fillet): edges of one name form one edge set, supported and loaded together. Edges of one kind
+        may share a name (a hole pattern, both fillets of a part, opposite notches)."""
+        taken = {p.name for op in self._ops if op.kind != kind for p in op.pieces}
+        base = self._base_pieces if base_pieces is None else base_pieces
+        taken |= {p.name for p in base if kind != "fillet" or isinstance(p, _Line)}
+        if name in taken:
+            raise GeometryError(
+                f"{label}: the name {name!r} is already an edge of the plate (of its outline, or a cut-out of "
+                f"another kind), and edges of one name are supported and loaded together; give the {kind} a "
+                "name of its own"
+            )
+
     def _cut_one(self, shape: Shape) -> "Plate":
         if not isinstance(shape, Shape):
             raise InputError(f"a hole must be a shape (Circle, Ellipse, Slot, ...), got {type(shape).__name__}")
         k = self._count("hole") + 1
         name = shape.name or f"hole_{k}"
         label = f"hole {name!r}" + (f" (hole {k})" if shape.name else "")
+        self._check_own_name(name, "hole", label)
         tol = self._tol()
         pts = shape._samples()
         outer = self._sdf(pts, holes=False, symmetry=False)
+        near = [op.shape for op in self._ops if op.kind == "hole"]
+        gap = min([-float(outer.max())] + [float(o._sdf(pts).min()) for o in near])
+        if 0.0 < gap < 0.1 * shape._min_feature():
+            # a hole close to the edge or to another hole: sample it finely enough (the sag between
+            # samples below the tolerance) to tell a thin ligament from a hole that touches at a point
+            feat = shape._min_feature()
+            pts = np.vstack([p.sample(int(min(max(math.ceil(p.length / math.sqrt(8.0 * tol * feat)), 64),
+                                                  200_000)) + 1)[:-1] for p in shape._pieces(name)])
+            outer = self._sdf(pts, holes=False, symmetry=False)
         inside = outer < -tol
         if not inside.all():
             if not inside.any() and not np.any(shape._sdf(_samples_of(self._base_pieces)) < 0):
@@ -366,6 +390,7 @@ class Plate:
         if kind not in ("U", "V"):
             raise InputError(f"unknown notch kind {kind!r}; pick one of 'U', 'V'")
         nm = _check_name(name) or f"notch_{self._count('notch') + 1}"
+        self._check_own_name(nm, "notch", f"notch {nm!r}")
         line, o, t, s = self._straight_edge(edge, at)
         n_in = np.array([-t[1], t[0]])  # the outline runs counter-clockwise: the plate is on the left
         if kind == "U":
@@ -458,6 +483,7 @@ class Plate:
         for c in targets:
             count += 1
             nm = _check_name(name) or f"fillet_{count}"
+            self._check_own_name(nm, "fillet", f"fillet {nm!r}", pieces)
             pieces = _fillet_corner(pieces, c, r, nm, tol)
         base = Outline._from_pieces(pieces)
         return self._copy(_base=base, _base_pieces=tuple(pieces), _fillets=count)
