@@ -191,8 +191,6 @@ def _pull_and_push():
     return planar.solve(joint)
 
 
-@pytest.mark.xfail(strict=True, reason="_joint_tables._bypass takes the free body on the side the fastener load "
-                                       "points to, so a reversed load reads the other side (bypass plus bearing)")
 def test_bypass_is_linear_in_the_load():
     # superposition (common practice): pushing with -1/2 of the pull gives -1/2 of every load, bypass too
     res = _pull_and_push()
@@ -202,8 +200,6 @@ def test_bypass_is_linear_in_the_load():
     assert np.allclose(push, -0.5 * pull, rtol=1e-6, atol=1e-6 * abs(pull).max())
 
 
-@pytest.mark.xfail(strict=True, reason="the layers' rest_forces hold the thermal load's equivalent nodal forces, "
-                                       "which are no external load, and the bypass free body sums them")
 def test_bypass_under_a_temperature_change_is_nil_beyond_the_end_fasteners():
     # statics of the free body (common practice): an aluminium and a steel strip joined by two fasteners
     # and heated, held statically determinately, carry their mismatch load between the fasteners only;

@@ -1,14 +1,33 @@
 """A fastened joint's results: per-layer Results, fastener loads, bearing, bypass and load transfer by row.
 
-The bypass load at a hole comes from a cut through the hole's centre across its layer, square to the
-load the hole's group of fasteners takes out of that layer (so a row's holes share one cut): the free body on the side the load leaves by carries the layer's applied loads,
-support and pin reactions and the other fasteners' forces on that side, so the force crossing the
-cut is their sum (statics of the free body, common practice; the same force a stress integral along
-the net section gives, as :func:`planar.post.cut_resultant` does on a cut within the plate, without
-its quadrature error). The fasteners whose centres lie within ``d / 2`` of the cut (the hole itself
-and the others of its row) are taken out, their bearing loads going in at the cut; what crosses the
-cut beyond them is the bypass, shared equally among them (the bypass per fastener pitch). At every
-hole the load arriving equals the bypass plus the bearing load taken out there.
+The bypass load at a hole comes from a cut through the hole's centre across its layer. The cut is
+square to the principal direction of the loads the hole's group of fasteners passes into that layer
+in the load case (the axis of the largest eigenvalue of ``sum F F^T`` over the group's ends: a line,
+not an arrow, so reversing or scaling the load keeps the cut; a row's holes share one cut; where the
+loads have no principal direction, the x axis). The free body read is the layer on one side of the
+cut, and the side is chosen from the layer's geometry and load path, the same in every load case
+(never from the sign of a load), as the side where the layer carries the lesser load past a row:
+
+* where the layer's own load enters (supports, applied loads, its own pins) on one side of the cut
+  only, the other side (downstream: a lap plate's load leaves through the fasteners beyond);
+* where it enters on neither side (a doubler or strap loaded through its fasteners only), the side
+  with fewer fasteners (outwards: a doubler picks its load up from its ends);
+* where it enters on both sides (a skin running past a doubler), the side with more fasteners
+  (inwards: the fasteners divert part of the skin's load);
+
+ties go to the side of lower coordinate along the cut's normal. The free body carries the layer's
+applied loads, support and pin reactions and the other fasteners' forces on that side, so the force
+crossing the cut is their sum (statics of the free body, common practice; the same force a stress
+integral along the net section gives, as :func:`planar.post.cut_resultant` does on a cut within the
+plate, without its quadrature error). The equivalent nodal forces of a temperature change or other
+initial strain are no external load and are not summed (``Result.rest_forces`` of a joint layer
+leaves them out), so the cut force is the stress resultant through the cut. The fasteners whose
+centres lie within ``d / 2`` of the cut (the hole itself and the others of its row) are taken out,
+their bearing loads going in at the cut; what crosses the cut beyond them is the bypass, shared
+equally among them (the bypass per fastener pitch). The bypass is linear in the loads of a case, and
+at every hole the load arriving through the other side of the cut equals the bypass plus the bearing
+loads taken out there (along the cut's normal).
+
 """
 from __future__ import annotations
 
@@ -81,9 +100,12 @@ class FastenerTable:
             F = np.vstack([e["force"] for e in ends])
             d = np.concatenate([np.full(e["count"], joint.fasteners[e["group"]].diameter) for e in ends])
             t = np.concatenate([e["t"] for e in ends])
-            # each hole's cut is square to its group's load in this layer, so a row's holes share one cut
-            gdir = np.vstack([np.tile(-e["force"].sum(axis=0), (e["count"], 1)) for e in ends])
-            bypass, section, count = _bypass(res.mesh.nodes, res.rest_forces, P, F, d, gdir)
+            # each hole's cut is square to the principal direction of its group's loads in this layer
+            axes = np.vstack([np.tile(_axis(e["force"]), (e["count"], 1)) for e in ends])
+            entry = getattr(res, "joint_entries", None)
+            if entry is None:
+                entry = np.zeros(res.mesh.n_nodes, bool)
+            bypass, section, count = _bypass(res.mesh.nodes, res.rest_forces, entry, P, F, d, axes)
             h = 0
             for e in ends:
                 fz = joint.fasteners[e["group"]]
@@ -167,30 +189,40 @@ class FastenerTable:
         return f"FastenerTable(case={self.case!r}, {len(self.pairs)} fastener pairs, {len(self.holes)} holes)"
 
 
-def _bypass(nodes, rest, P, F, d, gdir):
+def _axis(F: np.ndarray) -> np.ndarray:
+    """The principal direction of forces F (k, 2), a unit vector of fixed sense (a line, not an arrow).
+
+    The eigenvector of the largest eigenvalue of ``F^T F`` (unchanged when F is scaled by any non-zero
+    factor, a reversal too); its sense has x increasing (y increasing where it runs along y). Forces
+    with no principal direction (nil, or as strong along every direction to 1e-6) give the x axis.
+    """
+    F = np.asarray(F, dtype=float).reshape(-1, 2)
+    w, v = np.linalg.eigh(F.T @ F)
+    if not w[1] > 0 or w[1] - w[0] <= 1e-6 * w[1]:
+        return np.array([1.0, 0.0])
+    n = v[:, 1]
+    if abs(n[0]) <= 1e-9:
+        return np.array([0.0, 1.0])
+    return n if n[0] > 0 else -n
+
+
+def _bypass(nodes, rest, entry, P, F, d, axes):
     """(bypass per fastener on the cut, whole-cut bypass, fasteners on the cut) for each end of one layer.
 
-    ``gdir`` (H, 2): the direction of each end's cut normal, the load its group takes out of the layer
-    reversed (a hole's own bearing where that is nil, the layer's mean where all are).
+    ``rest`` (n, 2): the layer's forces other than the fasteners' (no initial-strain equivalents);
+    ``entry`` (n,) bool: the nodes where the layer's own load enters in any case (:func:`entry_nodes`); ``P``, ``F`` (H, 2): the ends' points and the fasteners' forces on the layer; ``d`` (H,):
+    diameters; ``axes`` (H, 2): each end's cut normal (:func:`_axis`). The side read is chosen as the
+    module notes say, from the geometry only.
     """
     H = P.shape[0]
-    mean = -F.sum(axis=0)
-    if not np.hypot(*mean) > 0:
-        mean = np.array([1.0, 0.0])
-    mean = mean / np.hypot(*mean)
-    scale = max(np.hypot(*F.T).max(initial=0.0), 1e-300)
-    n = np.tile(mean, (H, 1))
-    for v in (-F, gdir):  # the hole's own bearing, then its group's (preferred where it is not nil)
-        mag = np.hypot(*v.T)
-        big = mag > 1e-12 * scale
-        n = np.where(big[:, None], v / np.where(big, mag, 1.0)[:, None], n)
-    key = np.round(np.arctan2(n[:, 1], n[:, 0]), 9)
+    key = np.round(np.arctan2(axes[:, 1], axes[:, 0]), 9)
     out = np.zeros(H)
     count = np.zeros(H, np.int64)
     span = max(float(np.ptp(nodes, axis=0).max()), 1e-300)
-    for k in np.unique(key):  # one sort per load direction (usually one)
+    eps = 1e-9 * span
+    for k in np.unique(key):  # one sort per cut direction (usually one)
         sel = np.flatnonzero(key == k)
-        nv = n[sel[0]]
+        nv = axes[sel[0]]
         pn = nodes @ nv
         o = np.argsort(pn, kind="stable")
         ps = pn[o]
@@ -201,16 +233,55 @@ def _bypass(nodes, rest, P, F, d, gdir):
         cume = np.r_[0.0, np.cumsum((F @ nv)[oe])]
         c = pe[sel]
         tol = d[sel] / 2
-        eps = 1e-9 * span
         lo = np.searchsorted(ps, c - eps, side="left")
         hi = np.searchsorted(ps, c + eps, side="right")
-        side_nodes = cum[lo] + 0.5 * (cum[hi] - cum[lo])  # nodes on the cut line: half to each side
+        below = cum[lo] + 0.5 * (cum[hi] - cum[lo])  # nodes on the cut line: half to each side
         lo_e = np.searchsorted(pes, c - tol, side="left")
         hi_e = np.searchsorted(pes, c + tol, side="right")
-        out[sel] = -(side_nodes + cume[lo_e])
+        t_lo = -(below + cume[lo_e])  # tension through the cut, read on the low side
+        t_hi = (cum[-1] - below) + (cume[-1] - cume[hi_e])  # the same, read on the high side
+        pen = np.sort(pn[entry])
+        e_lo = np.searchsorted(pen, c - eps, side="left") > 0
+        e_hi = np.searchsorted(pen, c + eps, side="right") < pen.size
+        n_lo, n_hi = lo_e, H - hi_e  # the layer's fasteners off the cut on each side
+        read_lo = np.where(e_lo & ~e_hi, False,
+                           np.where(e_hi & ~e_lo, True,
+                                    np.where(~e_lo & ~e_hi, n_lo <= n_hi, n_lo >= n_hi)))
+        out[sel] = np.where(read_lo, t_lo, t_hi)
         count[sel] = hi_e - lo_e
     count = np.maximum(count, 1)
     return out / count, out, count
+
+
+def external_loads(asm, cases: list[str]) -> np.ndarray:
+    """(2n, m): each case's nodal forces of the loads themselves, without the equivalent forces of
+    initial strains (a temperature change), which are no external load on a free body."""
+    from .registry import check_plugin_array, plugin_call
+
+    n = asm.mesh.n_nodes
+    out = np.zeros((2 * n, len(cases)))
+    for j, c in enumerate(cases):
+        f = np.zeros((n, 2))
+        for load in asm.model.cases.get(c, []):
+            with plugin_call("load", load, "nodal_forces"):
+                fl = load.nodal_forces(asm.context)
+            f += check_plugin_array("load", load, "nodal_forces", fl, f.shape)
+        out[:, j] = f.reshape(-1)
+    return out
+
+
+def entry_nodes(forces: np.ndarray, fasteners: np.ndarray, n: int) -> np.ndarray:
+    """(n,) bool: the nodes where a joint layer's own load enters in any of the solve's cases.
+
+    ``forces`` (2n, m): the layer's forces other than the fasteners' (loads without initial-strain
+    equivalents, support reactions, its own pins' forces); ``fasteners`` (2n, m): the fasteners'
+    forces on it. A node enters the load path where its force is above 1e-8 of the largest force on
+    the layer in a case (a support that carries nothing in every case, as one of a statically
+    determinate set under a self-balanced temperature change, is not a way in).
+    """
+    F = np.abs(forces).reshape(n, 2, -1).max(axis=1)
+    scale = np.maximum(F.max(axis=0, initial=0.0), np.abs(fasteners).max(axis=0, initial=0.0))
+    return np.any(F > 1e-8 * np.maximum(scale, 1e-300), axis=1)
 
 
 class JointResult:

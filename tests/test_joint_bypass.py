@@ -1,0 +1,120 @@
+"""Bypass at fastener holes and rows of fasteners: linear in the loads, read from the geometry.
+
+Sources:
+- statics of the free body (common practice): the load a plate carries across a cut is the sum of the
+  external forces on either side; between the fasteners of a row the plate's load falls by each
+  fastener's load in turn (the discrete spring-and-bar picture of M. B. Tate and S. J. Rosenfeld,
+  NACA TN 1051, 1946), so the load arriving at a hole is the bypass plus the bearing load there;
+- superposition (common practice): a linear answer scales with its load, a reversed load too;
+- a temperature change is no external load (common practice): a statically determinate body heated
+  freely has no reactions, and the equivalent nodal forces of the thermal strain are not forces on it;
+- a row of fasteners lies across the load and rows are numbered by position (common practice).
+"""
+import numpy as np
+import pytest
+
+import planar
+
+AL = planar.Isotropic(E=71e3, nu=0.33)
+
+
+def _strip(x0, x1, w, t, size, mat=AL):
+    m = planar.rectangle_mesh(x1 - x0, w, int(round((x1 - x0) / size)), int(round(w / size)), element="Q8",
+                              origin=(x0, -w / 2))
+    return planar.Model(m, mat, thickness=t, units="N, mm, MPa")
+
+
+def _holes(tab, layer):
+    return [h for h in tab.holes if h["layer"] == layer]
+
+
+@pytest.fixture(scope="module")
+def lap():
+    """A single lap of two 10 mm strips, 4 fasteners at 20 mm pitch; pulled by 2 kN and pushed by 1 kN."""
+    xs = 100.0 + 20.0 * np.arange(4)
+    top, bottom = _strip(0.0, 170.0, 10.0, 1.6, 1.25), _strip(90.0, 260.0, 10.0, 1.6, 1.25)
+    top.add_support(planar.Fixed("left"))
+    bottom.add_load(planar.Traction("right", tx=2000.0 / 16.0), case="pull")
+    bottom.add_load(planar.Traction("right", tx=-1000.0 / 16.0), case="push")
+    joint = planar.Joint({"top": top, "bottom": bottom})
+    joint.add_fasteners(planar.Fasteners(np.column_stack([xs, 0 * xs]), layers=("top", "bottom"), diameter=4.8,
+                                         flexibility=3e-5, name="row"))
+    return planar.solve(joint)
+
+
+@pytest.mark.parametrize("case, P", [("pull", 2000.0), ("push", -1000.0)])
+def test_bypass_plus_bearing_is_the_load_arriving(lap, case, P):
+    # statics of the free body (Tate and Rosenfeld's chain): walking from where a strip's load enters,
+    # the load arriving at each hole is the bypass there plus the fastener's load along the strip; the
+    # last hole passes nothing on; the same reading for a pull and for a push
+    tab = lap[case].fasteners
+    for layer, order in (("top", slice(None)), ("bottom", slice(None, None, -1))):  # top held left, bottom loaded right
+        hs = _holes(tab, layer)[order]
+        bypass = np.array([h["bypass"] for h in hs])
+        along = np.array([abs(h["load"][0]) for h in hs]) * np.sign(P)
+        arriving = np.r_[P, bypass[:-1]]
+        assert np.allclose(arriving, bypass + along, rtol=0, atol=1e-6 * abs(P)), layer
+        assert abs(bypass[-1]) < 1e-9 * abs(P)
+
+
+def test_bypass_scales_with_a_reversed_load(lap):
+    # superposition: pushing with -1/2 of the pull gives -1/2 of every bypass, hole by hole
+    pull = np.array([h["bypass"] for h in lap["pull"].fasteners.holes])
+    push = np.array([h["bypass"] for h in lap["push"].fasteners.holes])
+    assert np.abs(pull).max() > 500.0
+    assert np.allclose(push, -0.5 * pull, rtol=0, atol=1e-6 * np.abs(pull).max())
+    sec_pull = np.array([h["section_bypass"] for h in lap["pull"].fasteners.holes])
+    sec_push = np.array([h["section_bypass"] for h in lap["push"].fasteners.holes])
+    assert np.allclose(sec_push, -0.5 * sec_pull, rtol=0, atol=1e-6 * np.abs(pull).max())
+
+
+def test_heated_strip_has_no_rest_forces_and_its_cut_is_the_stress_resultant():
+    # a temperature change is no external load: the aluminium strip, held statically determinately and
+    # joined to a steel strip at two points, has no load, reaction or pin force of its own, so the force
+    # across a cut between the fasteners is the fastener load on one side (statics of the free body),
+    # and the integral of the stresses along the cut says the same
+    from planar.post import cut_resultant
+
+    al = _strip(0.0, 120.0, 10.0, 2.0, 1.25, planar.Isotropic(E=71e3, nu=0.3, alpha=23e-6))
+    st = _strip(0.0, 120.0, 10.0, 1.0, 1.25, planar.Isotropic(E=205e3, nu=0.3, alpha=12e-6))
+    al.add_support(planar.Fixed((0.0, -5.0)))
+    al.add_support(planar.Roller((0.0, 5.0), fixed="x"))
+    for m in (al, st):
+        m.add_load(planar.TemperatureChange(80.0), case="hot")
+    joint = planar.Joint({"al": al, "steel": st})
+    joint.add_fasteners(planar.Fasteners([(10.0, 0.0), (110.0, 0.0)], layers=("al", "steel"), diameter=5.0,
+                                         flexibility=3e-5, name="pair"))
+    res = planar.solve(joint)["hot"]
+    F = res.fasteners.magnitude.max()
+    assert F > 100.0
+    layer = res.layers["al"]
+    assert np.abs(layer.rest_forces).max() < 1e-8 * F
+    left = [h for h in _holes(res.fasteners, "al") if h["point"][0] < 60.0]
+    through = -sum(h["load"][0] for h in left)  # tension through x = 60 from the free body left of it
+    cut = cut_resultant(layer, (60.0, -5.0), (60.0, 5.0))
+    assert through < -100.0  # the aluminium, held back by the steel, is squeezed between the fasteners
+    assert cut.normal_force == pytest.approx(through, rel=1e-2)  # normal +x: tension positive
+    assert np.allclose([h["bypass"] for h in res.fasteners.holes], 0.0, atol=1e-6 * F)
+
+
+def test_symmetric_doubler_reads_symmetric_bypass():
+    # symmetry and statics: a doubler on a skin, 8 fasteners in a row symmetric about the doubler's
+    # middle; the doubler takes its load in through its fasteners only, so nothing passes its end holes
+    # on the outer side, and the skin's end hole passes the skin's load less that hole's bearing
+    P = 3000.0
+    skin, dbl = _strip(0.0, 200.0, 10.0, 2.0, 1.25), _strip(50.0, 150.0, 10.0, 1.0, 1.25)
+    skin.add_support(planar.Fixed("left"))
+    skin.add_load(planar.Traction("right", tx=P / 20.0), case="pull")
+    xs = np.linspace(55.0, 145.0, 8)
+    joint = planar.Joint({"skin": skin, "doubler": dbl})
+    joint.add_fasteners(planar.Fasteners(np.column_stack([xs, 0 * xs]), layers=("skin", "doubler"), diameter=4.0,
+                                         flexibility=2e-5, name="row"))
+    tab = planar.solve(joint)["pull"].fasteners
+    d = np.array([h["bypass"] for h in _holes(tab, "doubler")])
+    s = _holes(tab, "skin")
+    b = np.array([h["bypass"] for h in s])
+    assert abs(d[0]) < 1e-9 * P and abs(d[-1]) < 1e-9 * P
+    assert np.allclose(d, d[::-1], rtol=0, atol=1e-6 * P)
+    assert np.allclose(b, b[::-1], rtol=0, atol=1e-6 * P)
+    assert b[0] == pytest.approx(P - abs(s[0]["load"][0]), rel=1e-6)
+    assert d[1] == pytest.approx(abs(_holes(tab, "doubler")[0]["load"][0]), rel=1e-6)
