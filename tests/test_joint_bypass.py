@@ -118,3 +118,49 @@ def test_symmetric_doubler_reads_symmetric_bypass():
     assert np.allclose(b, b[::-1], rtol=0, atol=1e-6 * P)
     assert b[0] == pytest.approx(P - abs(s[0]["load"][0]), rel=1e-6)
     assert d[1] == pytest.approx(abs(_holes(tab, "doubler")[0]["load"][0]), rel=1e-6)
+
+
+def test_rows_of_a_fastener_ring_lie_across_the_load():
+    # a ring of 8 fasteners on a doubler, the skin pulled along x: the ring's net load is nil (the
+    # doubler takes load in at one side and gives it back at the other), and its rows still lie across
+    # x: five rows at x = -r, -r/sqrt 2, 0, r/sqrt 2, r, numbered by x (plane geometry)
+    r = 20.0
+    skin = planar.Model(planar.rectangle_mesh(160.0, 80.0, 64, 32, element="Q8", origin=(-80.0, -40.0)), AL,
+                        thickness=2.0, units="N, mm, MPa")
+    dbl = planar.Model(planar.rectangle_mesh(60.0, 60.0, 24, 24, element="Q8", origin=(-30.0, -30.0)), AL,
+                       thickness=2.0, units="N, mm, MPa")
+    skin.add_support(planar.Roller("left"))
+    skin.add_support(planar.Roller((-80.0, -40.0), fixed="y"))
+    skin.add_load(planar.Traction("right", tx=100.0), case="pull")
+    th = np.arange(8) * np.pi / 4
+    joint = planar.Joint({"skin": skin, "doubler": dbl})
+    joint.add_fasteners(planar.Fasteners(r * np.column_stack([np.cos(th), np.sin(th)]), layers=("skin", "doubler"),
+                                         diameter=4.0, flexibility=3e-5, name="ring"))
+    tab = planar.solve(joint)["pull"].fasteners
+    rows = tab.rows
+    assert [x["row"] for x in rows] == [1, 2, 3, 4, 5]
+    assert [x["count"] for x in rows] == [1, 2, 2, 2, 1]
+    c = r / np.sqrt(2)
+    assert np.allclose([x["centre"][0] for x in rows], [-r, -c, 0.0, c, r], atol=1e-9)
+    assert np.allclose([x["centre"][1] for x in rows], 0.0, atol=1e-9)
+
+
+def test_rows_are_numbered_alike_in_both_shear_planes_and_for_a_push():
+    # a double-shear butt splice: the two shear planes of a group pass their loads in opposite senses,
+    # and a push reverses every load; the rows stay where they are, numbered by x
+    d, w = 6.0, 12.0
+    cl, cr = _strip(0.0, 150.0, w, 6.0, 1.5), _strip(150.0, 300.0, w, 6.0, 1.5)
+    front, back = _strip(98.0, 202.0, w, 4.0, 1.5), _strip(98.0, 202.0, w, 4.0, 1.5)
+    cl.add_support(planar.Fixed("left"))
+    cr.add_load(planar.Traction("right", tx=100.0), case="pull")
+    cr.add_load(planar.Traction("right", tx=-50.0), case="push")
+    joint = planar.Joint({"front": front, "chord L": cl, "chord R": cr, "back": back})
+    for nm, ch, xs in (("L", "chord L", [110.0, 134.0]), ("R", "chord R", [166.0, 190.0])):
+        joint.add_fasteners(planar.Fasteners(np.column_stack([xs, [0.0, 0.0]]), layers=("front", ch, "back"),
+                                             diameter=d, flexibility=4e-5, shear="double", name=nm))
+    res = planar.solve(joint)
+    seen = {}
+    for case in ("pull", "push"):
+        for row in res[case].fasteners.rows:
+            seen.setdefault((row["group"], row["row"]), set()).add(row["centre"][0])
+    assert seen == {("L", 1): {110.0}, ("L", 2): {134.0}, ("R", 1): {166.0}, ("R", 2): {190.0}}

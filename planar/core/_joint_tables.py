@@ -28,6 +28,10 @@ equally among them (the bypass per fastener pitch). The bypass is linear in the 
 at every hole the load arriving through the other side of the cut equals the bypass plus the bearing
 loads taken out there (along the cut's normal).
 
+Rows are numbered from the geometry: along the principal direction of the group's loads over all its
+shear planes in the case (as above, a line), its sense fixed by the coordinates (x increasing, or y
+increasing where the line runs along y), row 1 at the lowest coordinate; so the numbering is the same
+for a pull and a push and in each shear plane of a double-shear group.
 """
 from __future__ import annotations
 
@@ -122,13 +126,14 @@ class FastenerTable:
         joint = jr.joint
         rows = []
         totals: dict[tuple[str, str], float] = {}
+        axes: dict = {}  # one row direction per group over all its shear planes (the same numbering in each)
+        for sd in jr._springs:
+            axes.setdefault(sd["group"], []).append(sd["V"])
+        axes = {g: _axis(np.vstack(v)) for g, v in axes.items()}
         for sd in jr._springs:
             fz = joint.fasteners[sd["group"]]
             pts, V = sd["points"], sd["V"]
-            u = V.sum(axis=0)
-            if not np.hypot(*u) > 0:
-                u = np.array([1.0, 0.0])
-            u = u / np.hypot(*u)
+            u = axes[sd["group"]]
             proj = pts @ u
             order = np.argsort(proj, kind="stable")
             label = np.zeros(proj.size, np.int64)
