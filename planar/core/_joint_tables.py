@@ -152,38 +152,55 @@ class FastenerTable:
             r["share"] = _f(r["load"] / tot) if tot > 0 else 0.0
         return rows
 
+    def compliance_unit(self) -> str:
+        """The unit of a spring's compliance, length per force (``""`` when the units are not stated)."""
+        us = self.units
+        return f"{us.unit_of('length')}/{us.unit_of('force')}" if us.stated else ""
+
     def as_dict(self) -> dict[str, Any]:
-        """The table as plain data (JSON-ready): units, fastener pairs, holes, rows."""
-        return {"case": self.case, "units": self.units.as_dict(),
+        """The table as plain data (JSON-ready): units, fastener pairs, holes, rows.
+
+        ``compliance_unit`` states the unit of each pair's ``compliance`` (length per force; one shear
+        plane's spring in double shear).
+        """
+        return {"case": self.case, "units": self.units.as_dict(), "compliance_unit": self.compliance_unit(),
                 "fasteners": [dict(p, layers=list(p["layers"]), point=list(p["point"]), shear=list(p["shear"]))
                               for p in self.pairs],
                 "holes": [dict(h, point=list(h["point"]), load=list(h["load"])) for h in self.holes],
                 "rows": [dict(r, layers=list(r["layers"]), centre=list(r["centre"])) for r in self.rows]}
 
     def text(self) -> str:
-        """The table as text, units stated."""
+        """The table as text, units stated; the name columns are as wide as the longest name."""
         us = self.units
         F, L, S = _unit(us, "force"), _unit(us, "length"), _unit(us, "stress")
+        C = f" [{self.compliance_unit()}]" if us.stated else ""
         tiny = 1e-9 * max(float(self.magnitude.max(initial=0.0)), 1e-300)
         z = lambda v: 0.0 if abs(v) < tiny else v  # noqa: E731  (round-off of a load printed as 0)
+        groups = [p["group"] for p in self.pairs] + [h["group"] for h in self.holes] + [r["group"] for r in self.rows]
+        gw = max([len("group")] + [len(g) for g in groups])
+        lw = max([len("layer")] + [len(h["layer"]) for h in self.holes])
+        pw = max([len("layers")] + [len("-".join(p["layers"])) for p in self.pairs]
+                 + [len("-".join(r["layers"])) for r in self.rows])
         lines = [f"Fastener loads, load case {self.case!r} ({us.label})", "",
-                 f"{'group':<12} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<28} {'Vx' + F:>12} {'Vy' + F:>12} "
-                 f"{'|V|' + F:>12}"]
+                 f"{'group':<{gw}} {'#':>3} {'x' + L:>12} {'y' + L:>12} {'layers':<{pw}} {'Vx' + F:>12} "
+                 f"{'Vy' + F:>12} {'|V|' + F:>12} {'compliance' + C:>18}"]
         for p in self.pairs:
-            lines.append(f"{p['group'][:12]:<12} {p['index'] + 1:>3} {p['point'][0]:>12.4g} {p['point'][1]:>12.4g} "
-                         f"{'-'.join(p['layers'])[:28]:<28} {z(p['shear'][0]):>12.5g} {z(p['shear'][1]):>12.5g} "
-                         f"{p['magnitude']:>12.5g}")
-        lines += ["", f"{'group':<12} {'#':>3} {'layer':<14} {'bearing P' + F:>16} {'t' + L:>10} "
+            lines.append(f"{p['group']:<{gw}} {p['index'] + 1:>3} {p['point'][0]:>12.4g} {p['point'][1]:>12.4g} "
+                         f"{'-'.join(p['layers']):<{pw}} {z(p['shear'][0]):>12.5g} {z(p['shear'][1]):>12.5g} "
+                         f"{p['magnitude']:>12.5g} {p['compliance']:>18.4g}")
+        lines.append("(compliance: the spring's slip per unit force between the two layers; in double shear one "
+                     "shear plane's spring)")
+        lines += ["", f"{'group':<{gw}} {'#':>3} {'layer':<{lw}} {'bearing P' + F:>16} {'t' + L:>10} "
                       f"{'P/(d t)' + S:>16} {'bypass' + F:>14} {'on cut':>7}"]
         for h in self.holes:
-            lines.append(f"{h['group'][:12]:<12} {h['index'] + 1:>3} {h['layer'][:14]:<14} {h['bearing']:>16.5g} "
+            lines.append(f"{h['group']:<{gw}} {h['index'] + 1:>3} {h['layer']:<{lw}} {h['bearing']:>16.5g} "
                          f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {z(h['bypass']):>14.5g} {h['on_cut']:>7}")
         lines.append("(bypass: the load the layer carries past the hole across a cut through it square to the "
-                     "fastener load, tension positive, per fastener on the cut)")
-        lines += ["", "Load transfer by row", f"{'group':<12} {'row':>4} {'layers':<28} {'x' + L:>12} {'y' + L:>12} "
-                                              f"{'n':>4} {'load' + F:>14} {'share':>7}"]
+                     "fastener loads, tension positive, per fastener on the cut)")
+        lines += ["", "Load transfer by row", f"{'group':<{gw}} {'row':>4} {'layers':<{pw}} {'x' + L:>12} "
+                                              f"{'y' + L:>12} {'n':>4} {'load' + F:>14} {'share':>7}"]
         for r in self.rows:
-            lines.append(f"{r['group'][:12]:<12} {r['row']:>4} {'-'.join(r['layers'])[:28]:<28} {r['centre'][0]:>12.4g} "
+            lines.append(f"{r['group']:<{gw}} {r['row']:>4} {'-'.join(r['layers']):<{pw}} {r['centre'][0]:>12.4g} "
                          f"{r['centre'][1]:>12.4g} {r['count']:>4} {r['load']:>14.5g} {100 * r['share']:>6.1f}%")
         return "\n".join(lines)
 
@@ -349,10 +366,11 @@ class JointResult:
         return self.fasteners.text()
 
     def as_dict(self) -> dict[str, Any]:
-        """Summary (JSON-ready): units, each layer's summary, the fastener table, the load balance."""
+        """Summary (JSON-ready): units, each layer's summary, the fastener table (with the unit of the springs'
+        compliance, ``compliance_unit``), the load balance."""
         out = {"case": self.case, "units": self.unit_system.as_dict(),
                "layers": {k: r.summary() for k, r in self.layers.items()},
                "load_balance_error": self.balance_error()}
         tab = self.fasteners.as_dict()
-        out.update({k: tab[k] for k in ("fasteners", "holes", "rows")})
+        out.update({k: tab[k] for k in ("compliance_unit", "fasteners", "holes", "rows")})
         return out
