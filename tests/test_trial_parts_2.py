@@ -274,3 +274,21 @@ def test_a_hole_tangent_to_the_edge_is_refused_and_a_thin_ligament_is_not():
         Plate.rectangle(100.0, 40.0).cut(Circle((30.0, 20.0), 5.0, name="a"), Circle((40.0, 20.0), 5.0, name="b"))
     # a ligament of 0.05 mm (well above the geometric tolerance) is a part, not an error
     Plate.rectangle(50.0, 20.0).cut(Circle((25.0, 14.95), 5.0, name="h"))
+
+
+def test_temperature_change_on_a_material_without_expansion_is_refused():
+    # alpha defaults to 0: TemperatureChange(50) then made no strain and the case solved to zero with no
+    # word. With alpha a free bar heated by dT grows by alpha dT L (elementary thermoelasticity)
+    mesh = planar.rectangle_mesh(100.0, 10.0, 10, 2, "Q8")
+    for alpha in (0.0, 23e-6):
+        model = planar.Model(mesh, planar.Isotropic(E=70e3, nu=0.3, alpha=alpha), thickness=1.0, units="N, mm, MPa")
+        model.add_support(planar.Roller("left", fixed="x"))
+        model.add_support(planar.Roller("corner_00", fixed="y"))
+        model.add_load(planar.TemperatureChange(50.0), case="hot")
+        if alpha == 0.0:
+            with pytest.raises(planar.InputError, match="no thermal expansion"):
+                planar.solve(model)
+        else:
+            r = planar.solve(model)["hot"]
+            assert r.u[:, 0].max() == pytest.approx(23e-6 * 50.0 * 100.0, rel=1e-9)
+            assert r.max("von_mises").value < 1e-6 * 70e3 * 23e-6 * 50.0   # free expansion: no stress

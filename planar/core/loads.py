@@ -16,7 +16,7 @@ from typing import Any, Callable, ClassVar, Union
 
 import numpy as np
 
-from .values import number_or_function
+from .values import number_or_function, thermal_expansion
 from .errors import InputError, MeshError, PlanarError, PluginError, fmt_point
 from .elements import line_shape
 from .quadrature import gauss_line
@@ -694,7 +694,7 @@ class TemperatureChange(LoadKind):
         if self.region is not None and blk.region != self.region:
             return None
         dT = self.temperature(ctx, blk)
-        return dT[..., None] * blk.material.thermal_strain()
+        return dT[..., None] * thermal_expansion(blk.material, blk.region)  # alpha 0: refused, not a silent no-op
 
     def describe(self):
         return repr(self)

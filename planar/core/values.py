@@ -12,7 +12,7 @@ import numpy as np
 
 from .errors import InputError
 
-__all__ = ["number", "number_or_function", "finite_vector"]
+__all__ = ["number", "number_or_function", "finite_vector", "thermal_expansion"]
 
 
 def number(value: Any, what: str, *, positive: bool = False, nonnegative: bool = False,
@@ -79,3 +79,25 @@ def number_or_function(value: Any, what: str) -> float | Callable | None:
     if not math.isfinite(f):
         raise InputError(f"{what} = {value!r} is not a finite number")
     return f
+
+
+def thermal_expansion(material: Any, region: str) -> np.ndarray:
+    """The thermal strain per degree of a heated region's material; refused when it is zero.
+
+    A temperature change on a material with no thermal expansion (alpha 0, the default) makes no strain,
+    and its load case would solve to nothing, with no word.
+
+    Examples
+    --------
+    >>> from planar.core.materials import Isotropic
+    >>> thermal_expansion(Isotropic(E=70e3, nu=0.3, alpha=23e-6), "plate")
+    array([2.3e-05, 2.3e-05, 2.3e-05, 0.0e+00])
+    """
+    e = np.asarray(material.thermal_strain(), dtype=float)
+    if not np.any(e):
+        raise InputError(
+            f"temperature change on region {region!r}, whose material has no thermal expansion (alpha 0), so it "
+            "makes no strain: give the material alpha (per degree, e.g. Isotropic(..., alpha=23e-6) for aluminium, "
+            "12e-6 for steel), or heat only the regions that expand (TemperatureChange(dT, region=...))"
+        )
+    return e
