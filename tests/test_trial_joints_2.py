@@ -263,8 +263,6 @@ def test_report_states_each_springs_compliance_with_its_unit():
     assert [float(r[-1]) for r in table.rows] == pytest.approx([C, C], rel=1e-3)
 
 
-@pytest.mark.xfail(strict=True, reason="Fasteners takes tie= from pins.TIES, which holds 'contact'; the joint's solve "
-                                       "then reports a singular matrix and a layer free to move")
 def test_a_contact_tie_for_a_fastener_is_refused_when_made():
     # Fasteners documents tie in {"spreading", "rigid"}; bad input is refused where it is given, naming
     # the choices (the project's rule for errors), not met later as a mechanism

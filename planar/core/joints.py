@@ -46,6 +46,8 @@ __all__ = ["Fasteners", "Joint", "JointResult", "FastenerTable", "KINDS", "SHEAR
 #: fastener kinds and shear modes passed to the flexibility formulas
 KINDS = ("bolt", "rivet")
 SHEARS = ("single", "double")
+#: the ties a fastener's end takes at a modelled hole (a bearing-contact pin is a Pin of one model)
+FASTENER_TIES = ("spreading", "rigid")
 
 
 def _word(value, allowed, what) -> str:
@@ -78,7 +80,8 @@ class Fasteners:
         Passed to the flexibility formula.
     tie : {"spreading", "rigid"}
         How an end at a modelled hole is tied to the hole's edge (:class:`planar.core.pins.Pin`); an end
-        with no hole is always a spreading tie over a patch of diameter ``d``.
+        with no hole is always a spreading tie over a patch of diameter ``d``. A bearing-contact tie
+        (``"contact"``) is refused: the fastener's spring needs a tie that carries load both ways.
     holes : dict or sequence, optional
         Modelled holes: for each joined layer (a dict by layer name, or a sequence in the order of
         ``layers``) a list of ``k`` edge names, or None for a layer whose holes are not modelled.
@@ -129,7 +132,12 @@ class Fasteners:
         self.modulus = None if modulus is None else number(modulus, "a fastener's modulus", positive=True)
         self.kind = _word(kind, KINDS, "kind")
         self.shear = _word(shear, SHEARS, "shear")
-        self.tie = _word(tie, TIES, "tie")
+        if isinstance(tie, str) and tie.strip().lower() in TIES and tie.strip().lower() not in FASTENER_TIES:
+            raise InputError(f"fasteners {name!r}: tie={tie!r} is not a fastener's tie; a fastener's end at a modelled "
+                             "hole takes tie='spreading' or tie='rigid' (its shear spring pulls and pushes through "
+                             "the tie, which a bearing contact cannot); for bearing contact of a pin in a hole use "
+                             "planar.Pin(..., tie='contact') in one model")
+        self.tie = _word(tie, FASTENER_TIES, "tie")
         self.name = str(name)
         self.holes = self._holes(holes)
         if isinstance(self.flexibility, str):  # a wrong formula name or shear mode is refused here, not at the solve
