@@ -292,3 +292,25 @@ def test_temperature_change_on_a_material_without_expansion_is_refused():
             r = planar.solve(model)["hot"]
             assert r.u[:, 0].max() == pytest.approx(23e-6 * 50.0 * 100.0, rel=1e-9)
             assert r.max("von_mises").value < 1e-6 * 70e3 * 23e-6 * 50.0   # free expansion: no stress
+
+
+def test_an_angle_is_not_set_against_an_allowable_or_a_nominal_stress():
+    # principal_angle is derived from the stresses but measured in degrees; margin_of_safety, kt and
+    # hot_spots took it as a stress ("principal_angle peak 89.9995 MPa", margin +1.78, Kt 9)
+    from planar.post import hot_spots, kt, margin_of_safety
+
+    m = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.3), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", ty=-1.0), case="bend")
+    r = planar.solve(model)["bend"]
+    with pytest.raises(planar.InputError, match="deg"):
+        margin_of_safety(r, allowable=250.0, field="principal_angle")
+    with pytest.raises(planar.InputError, match="deg"):
+        kt(r, 10.0, field="principal_angle")
+    with pytest.raises(planar.InputError, match="not a stress"):
+        hot_spots(r, field="principal_angle", allowable=250.0)
+    hot_spots(r, field="principal_angle")          # its spots alone are fine
+    # a cantilever 100 x 20 x 2 with 40 N at its tip: root bending stress M c / I = 40 x 100 x 10 /
+    # (2 x 20^3 / 12) = 30 (beam theory), so the margin against 250 is well positive
+    assert margin_of_safety(r, allowable=250.0, field="sigma_xx", where=planar.Away()).margin > 5.0

@@ -59,13 +59,19 @@ class _OldMethodName:
         return self.recovery
 
 
-def _check_field(name: str) -> str:
-    from ..core.fields import names as _field_names
+def _check_field(name: str, what: str = "") -> str:
+    """``name`` if it is a stress field; with ``what`` (e.g. "a margin of safety"), one measured in the
+    stress unit too, so an angle (``principal_angle``) is not set against an allowable or a nominal stress."""
+    from ..core.fields import FIELD_TABLE, names as _field_names
 
     polar = _field_names(kind="polar")
     if name not in STRESS_FIELDS and name not in polar:
         raise InputError(f"unknown stress field {name!r}; pick one of {', '.join(STRESS_FIELDS)} or, about a "
                          f"centre=(x, y), {', '.join(polar)}")
+    if what and FIELD_TABLE[name].unit != "stress":
+        stresses = [n for n in STRESS_FIELDS + tuple(polar) if FIELD_TABLE[n].unit == "stress"]
+        raise InputError(f"{what} needs a stress; {name!r} is measured in {FIELD_TABLE[name].unit}: pick one of "
+                         f"{', '.join(stresses)}")
     return name
 
 
@@ -250,7 +256,7 @@ def kt(result, nominal: float, *, field: str = "von_mises", recovery: str = "spr
         Unknown field or recovery, or a zero or non-finite nominal stress.
     """
     result = as_result(result, "kt")
-    _check_field(field)
+    _check_field(field, "a stress concentration factor")
     _check_recovery(recovery)
     nom = number(nominal, "the nominal stress", kind="stress")
     if nom == 0:
@@ -366,7 +372,7 @@ def margin_of_safety(result_or_peak, allowable: float, factor_of_safety: float =
         said, note, units = "given", "", ""
     else:
         result_or_peak = as_result(result_or_peak, "margin_of_safety", also="give the peak stress as a number")
-        _check_field(field)
+        _check_field(field, "a margin of safety")
         _check_recovery(recovery)
         ext = result_or_peak.max(field, recovery=recovery, absolute=True, where=where, centre=centre)
         peak, loc, _ = ext

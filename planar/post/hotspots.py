@@ -63,6 +63,7 @@ from typing import Any, Sequence
 import numpy as np
 
 from ..core.errors import InputError, fmt_point, unknown_name
+from ..core.fields import FIELD_TABLE
 from ..core.result import POLAR_FIELDS, STRESS_FIELDS, as_result
 from ..core.values import number
 from ._peaks import cell_graph, chain_maxima, edge_chains, mesh_graph, neighbour_max
@@ -337,7 +338,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     ------
     InputError
         Unknown field or recovery, a nominal, allowable or factor of safety not positive, an
-        allowable for a field that is not a stress, ``top`` not a positive whole number.
+        allowable or nominal for a field that is not a stress, ``top`` not a positive whole number.
     NameNotFoundError
         An edge or region name the mesh does not have (the message lists them).
     """
@@ -353,9 +354,12 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     nom = None if nominal is None else number(nominal, "the nominal stress", positive=True)
     allow = None if allowable is None else number(allowable, "the allowable", positive=True)
     fs = number(factor_of_safety, "the factor of safety", positive=True)
-    if allow is not None and field not in STRESS_FIELDS and field not in POLAR_FIELDS:
-        raise InputError(f"a margin of safety compares a stress with the allowable; {field!r} is not a stress "
-                         f"field (pick one of {', '.join(STRESS_FIELDS)}) or leave allowable out")
+    if (allow is not None or nom is not None) and (field not in STRESS_FIELDS + POLAR_FIELDS
+                                                     or FIELD_TABLE[field].unit != "stress"):
+        measures = [n for n in STRESS_FIELDS + POLAR_FIELDS if FIELD_TABLE[n].unit == "stress"]
+        raise InputError(f"a margin of safety or a Kt compares a stress with the allowable or the nominal stress; "
+                         f"{field!r} is not a stress (pick one of {', '.join(measures)}) or leave allowable and "
+                         "nominal out")
     if top is not None and (isinstance(top, bool) or not isinstance(top, (int, np.integer)) or top < 1):
         raise InputError(f"top must be a positive whole number of spots, got {top!r}")
     frac = number(prominence, "prominence", nonnegative=True)
