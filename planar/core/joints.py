@@ -48,6 +48,21 @@ KINDS = ("bolt", "rivet")
 SHEARS = ("single", "double")
 #: the ties a fastener's end takes at a modelled hole (a bearing-contact pin is a Pin of one model)
 FASTENER_TIES = ("spreading", "rigid")
+#: a fastener may exceed its modelled hole's diameter by this fraction (an interference fit), no more
+INTERFERENCE = 0.02
+
+
+def _hole_size(ring: np.ndarray) -> float:
+    """A modelled hole's diameter from its edge's nodes (k, 2): the circle through them by least squares
+    (exact for nodes on a circle or an arc of one), or the edge's widest extent where that is larger
+    (a slot), so a hole is never read smaller than it is."""
+    extent = float(np.ptp(ring, axis=0).max())
+    if ring.shape[0] < 3:
+        return extent
+    A = np.column_stack([ring, np.ones(ring.shape[0])])
+    sol, *_ = np.linalg.lstsq(A, (ring ** 2).sum(axis=1), rcond=None)
+    r2 = sol[2] + 0.25 * (sol[0] ** 2 + sol[1] ** 2)
+    return max(extent, 2.0 * float(np.sqrt(r2))) if r2 > 0 else extent
 
 
 def _word(value, allowed, what) -> str:
@@ -310,6 +325,14 @@ class Joint:
                     raise InputError(f"fasteners {fasteners.name!r}: fastener {i + 1} at ({pts[i, 0]:g}, {pts[i, 1]:g}) "
                                      f"is not inside its hole {e!r} of layer {layer!r} (centred near ({c[0]:.4g}, "
                                      f"{c[1]:.4g})); list the holes in the order of the points")
+                size = _hole_size(ring)
+                if fasteners.diameter > (1 + INTERFERENCE) * size:
+                    raise InputError(f"fasteners {fasteners.name!r}: fastener {i + 1} has diameter "
+                                     f"{fasteners.diameter:g}, larger than its hole {e!r} of layer {layer!r} "
+                                     f"(diameter {size:.4g}); a fastener fits its hole (a clearance hole is larger "
+                                     f"than its fastener, an interference-fit hole at most {100 * INTERFERENCE:g} % "
+                                     "smaller): give diameter= the fastener's shank, or model the hole at its drilled "
+                                     "size")
         self.fasteners.append(fasteners)
         return fasteners
 
