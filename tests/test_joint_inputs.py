@@ -47,3 +47,35 @@ def test_a_contact_tie_is_refused_naming_the_fastener_ties():
         planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=3e-5, tie="contact")
     with pytest.raises(InputError, match="spreading"):
         planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=3e-5, tie="glued")
+
+
+def test_composite_bolt_takes_huths_graphite_epoxy_constants():
+    # Huth (ASTM STP 927, 1986; from memory): bolted graphite/epoxy a = 2/3, b = 4.2; single shear n = 1
+    d, t1, t2, E1, E2, Ef = 6.35, 3.0, 4.0, 60e3, 50e3, 110e3
+    by_hand = ((t1 + t2) / (2 * d)) ** (2 / 3) * 4.2 * (1 / (t1 * E1) + 1 / (t2 * E2) + 1 / (2 * t1 * Ef)
+                                                         + 1 / (2 * t2 * Ef))
+    f = planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), diameter=d, flexibility="huth", kind="composite-bolt",
+                         modulus=Ef)
+    assert f.kind == "composite-bolt"
+    assert f.compliance(t1=t1, t2=t2, E1=E1, E2=E2) == pytest.approx(by_hand, rel=1e-12)
+    metal = planar.Fasteners([(0.0, 0.0)], layers=("a", "b"), diameter=d, flexibility="huth", kind="bolt", modulus=Ef)
+    assert f.compliance(t1=t1, t2=t2, E1=E1, E2=E2) / metal.compliance(t1=t1, t2=t2, E1=E1, E2=E2) == \
+        pytest.approx(4.2 / 3.0, rel=1e-12)
+
+
+def test_composite_bolt_in_a_solved_joint():
+    # the same constants reach the springs of a solved joint of two isotropic strips (E for E1, E2)
+    d, t, E, Ef = 5.0, 2.0, 60e3, 110e3
+    strips = {}
+    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
+        m = planar.rectangle_mesh(100.0, 10.0, 40, 4, element="Q8", origin=(x0, -5.0))
+        strips[name] = planar.Model(m, planar.Isotropic(E=E, nu=0.3), thickness=t, units="N, mm, MPa")
+    strips["top"].add_support(planar.Fixed("left"))
+    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
+    joint = planar.Joint(strips)
+    joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=d,
+                                         flexibility="huth", kind="composite-bolt", modulus=Ef, name="row"))
+    tab = planar.solve(joint)["pull"].fasteners
+    by_hand = ((t + t) / (2 * d)) ** (2 / 3) * 4.2 * (2 / (t * E) + 2 / (2 * t * Ef))
+    assert [p["compliance"] for p in tab.pairs] == pytest.approx([by_hand, by_hand], rel=1e-12)
+    assert abs(np.sum(tab.shear[:, 0])) == pytest.approx(1000.0, rel=1e-9)  # statics: the fasteners carry the load

@@ -43,8 +43,9 @@ from .values import number
 
 __all__ = ["Fasteners", "Joint", "JointResult", "FastenerTable", "KINDS", "SHEARS"]
 
-#: fastener kinds and shear modes passed to the flexibility formulas
-KINDS = ("bolt", "rivet")
+#: fastener kinds and shear modes passed to the flexibility formulas ("composite-bolt": bolted
+#: graphite/epoxy, Huth's constants)
+KINDS = ("bolt", "rivet", "composite-bolt")
 SHEARS = ("single", "double")
 #: the ties a fastener's end takes at a modelled hole (a bearing-contact pin is a Pin of one model)
 FASTENER_TIES = ("spreading", "rigid")
@@ -90,9 +91,10 @@ class Fasteners:
         ``"huth"``), evaluated for each fastener from the joined layers' thicknesses and moduli. In
         double shear (three layers, the middle one between two outer ones) each of the two springs
         is one shear plane: the formula's fastener compliance times two.
-    kind : {"bolt", "rivet"}
+    kind : {"bolt", "rivet", "composite-bolt"}
     shear : {"single", "double"}
-        Passed to the flexibility formula.
+        Passed to the flexibility formula (``"composite-bolt"``: a bolt in graphite/epoxy plates, Huth's
+        constants for it; the other formulas do not change with ``kind``).
     tie : {"spreading", "rigid"}
         How an end at a modelled hole is tied to the hole's edge (:class:`planar.core.pins.Pin`); an end
         with no hole is always a spreading tie over a patch of diameter ``d``. A bearing-contact tie
