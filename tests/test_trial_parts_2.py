@@ -314,3 +314,31 @@ def test_an_angle_is_not_set_against_an_allowable_or_a_nominal_stress():
     # a cantilever 100 x 20 x 2 with 40 N at its tip: root bending stress M c / I = 40 x 100 x 10 /
     # (2 x 20^3 / 12) = 30 (beam theory), so the margin against 250 is well positive
     assert margin_of_safety(r, allowable=250.0, field="sigma_xx", where=planar.Away()).margin > 5.0
+
+
+def _plane_strain_strip(nu):
+    m = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=nu), thickness=1.0, units="N, mm, MPa",
+                         analysis="plane strain")
+    model.add_support(planar.Roller("left", fixed="x"))
+    model.add_support(planar.Roller("corner_00", fixed="y"))
+    model.add_load(planar.Traction("right", tx=100.0), case="pull")
+    return model
+
+
+def test_nearly_incompressible_plane_strain_is_named_when_the_answer_is_doubted_or_refused():
+    # nu within 1e-11 of 0.5 in plane strain: the refusal said "ill-conditioning of unclear origin:
+    # check the units, the moduli and the supports"; the cause is the material (bulk over shear
+    # stiffness 1 / (1 - 2 nu) = 5e10; plane-strain elasticity, Timoshenko and Goodier 1970)
+    import warnings
+
+    with pytest.raises(planar.SolverError, match="nearly incompressible material in plane strain"):
+        planar.solve(_plane_strain_strip(0.49999999999))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = planar.solve(_plane_strain_strip(0.49999999))["pull"]
+    assert any("nearly incompressible" in w.message for w in r.warnings if w.code == "ill-conditioned")
+    # the strip in uniaxial stress, free across: end displacement sigma L (1 - nu^2) / E (plane strain)
+    assert r.u[:, 0].max() == pytest.approx(100.0 * 100.0 * (1 - 0.49999999**2) / 70e3, rel=1e-4)
+    r = planar.solve(_plane_strain_strip(0.3))["pull"]           # an ordinary metal: nothing said
+    assert not r.warnings

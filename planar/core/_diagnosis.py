@@ -8,6 +8,7 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
+from ._advice_locking import bulk_shear_ratio
 from ._conditioning import EPS, _rayleigh, matvec, norm_inf, probe_vector
 from ._conformity import _pieces
 from .errors import SolverError, fmt_point
@@ -22,6 +23,9 @@ ZERO_STRAIN = 1e-8
 CONTRAST = 1e6
 #: length over depth reported as slender
 SLENDER = 200.0
+#: bulk over shear stiffness, 1 / (1 - 2 nu) in plane strain, reported as nearly incompressible: nu
+#: above 0.4999995, where the volume change of a mode falls below the round-off of its shear
+INCOMPRESSIBLE = 1e6
 
 
 def _block_stiffness(b) -> float:
@@ -259,6 +263,13 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
         causes.append(
             "a mechanism from zero-energy (hourglass) modes of an under-integrated rule ("
             + ", ".join(reduced) + "): use the full integration rule")
+    bulk = {b.region: bulk_shear_ratio(b.D) for b in asm.blocks}
+    if not causes and asm.analysis == "plane strain" and max(bulk.values(), default=0.0) >= INCOMPRESSIBLE:
+        regs = [r for r, k in bulk.items() if k >= INCOMPRESSIBLE]
+        causes.append(
+            f"a nearly incompressible material in plane strain: region(s) {', '.join(map(repr, regs))} resist a "
+            f"change of volume {max(bulk.values()):.1e} times more than a change of shape (1 / (1 - 2 nu)), "
+            "beyond what double precision separates; use Poisson's ratio 0.499 or less (or plane stress)")
     s, through, length, depth, what = _most_slender(asm)
     if not causes and s >= SLENDER:
         causes.append(
