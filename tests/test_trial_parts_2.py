@@ -342,3 +342,24 @@ def test_nearly_incompressible_plane_strain_is_named_when_the_answer_is_doubted_
     assert r.u[:, 0].max() == pytest.approx(100.0 * 100.0 * (1 - 0.49999999**2) / 70e3, rel=1e-4)
     r = planar.solve(_plane_strain_strip(0.3))["pull"]           # an ordinary metal: nothing said
     assert not r.warnings
+
+
+def test_a_node_in_no_cell_does_not_hide_a_displacement_beyond_small_displacement_theory():
+    # a cantilever 100 x 5 bent 10 mm at its tip (delta = P L^3 / (3 E I), beam theory; strains
+    # 3 delta c / L^2 = 0.0075, within elastic): the tip moves 10 % of the part. A stray node at
+    # (1e5, 1e5), in no cell, set the "part's size" to 1.4e5 and the warning was lost
+    import warnings
+
+    m = planar.rectangle_mesh(100.0, 5.0, 20, 2, "Q8")
+    nodes = np.vstack([m.nodes, [[1e5, 1e5]]])
+    stray = planar.Mesh(nodes, m.cells, edge_sets=m.edge_sets, node_sets=m.node_sets)
+    model = planar.Model(stray, planar.Isotropic(E=70e3, nu=0.3), thickness=1.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    P = 3 * 70e3 * (5.0**3 / 12) * 10.0 / 100.0**3
+    model.add_load(planar.Traction("right", ty=-P / 5.0), case="tip")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = planar.solve(model)["tip"]
+    assert r.u[:, 1].min() == pytest.approx(-10.0, rel=0.03)
+    msgs = [w.message for w in r.warnings if w.code == "units"]
+    assert len(msgs) == 1 and "part's size 100" in msgs[0]

@@ -110,7 +110,8 @@ def _stress_unit(units) -> str | None:
 
 def _units(asm, res) -> list[tuple[str, str, list]]:
     out = []
-    x, y = asm.mesh.nodes[:, 0], asm.mesh.nodes[:, 1]  # column reductions: far faster than axis=0
+    used = asm.mesh.used_nodes()  # the part's size: a node in no cell (a stray point) is no part of it
+    x, y = asm.mesh.nodes[used, 0], asm.mesh.nodes[used, 1]  # column reductions: far faster than axis=0
     size = float(max(x.max() - x.min(), y.max() - y.min(), 1e-300))
     system = unit_system(getattr(asm.model, "unit_system", None) or getattr(asm.model, "units", None))
     unit = system.stress or None
