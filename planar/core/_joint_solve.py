@@ -18,6 +18,13 @@ so the springs add couplings (for a rigid tie, a 4 x 4 block between the two pin
 solver of their own: one factorization serves every load case. The spring's force ``k s`` is the
 fastener's shear load; its ends' forces are spread on the layers by ``S^T`` and kept with the pins'
 forces (``Result.pin_forces``), so each layer's Result balances on its own.
+
+A flexibility formula reads each joined layer's thickness and Young's modulus at the fastener. An
+orthotropic layer's modulus is taken along the layer's load direction (:func:`_load_axes`: the
+principal direction of its own loads, else of the joint's), with its fibre angle
+(:func:`_modulus_along`); the fastener's own load direction would be better but is known only after
+the solve the springs are part of. The fastener table states the modulus, its direction and basis
+(``FastenerTable.formula_moduli``).
 """
 from __future__ import annotations
 
@@ -57,8 +64,63 @@ def _case_names(joint, cases) -> list[str]:
     return names
 
 
-def _node_weights(asm, nodes: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Each node's share of the area times thickness, its thickness and Young's modulus (largest of its cells).
+def _modulus_along(mat, direction) -> float:
+    """A material's Young's modulus along ``direction`` (a unit vector, or None) in plane stress.
+
+    ``1 / (b^T S b)`` with ``S`` the compliance in global axes (the inverse of ``mat.D``, the fibre angle
+    in it) and ``b = (nx^2, ny^2, nx ny)``: the stiffness of a strip cut along the direction and pulled
+    along it (common practice). An isotropic material's ``E`` whatever the direction; with no direction
+    the mean of ``E1`` and ``E2``.
+    """
+    e = getattr(mat, "E", None)
+    if e is not None:
+        return float(e)
+    if direction is not None and hasattr(mat, "D"):
+        nx, ny = float(direction[0]), float(direction[1])
+        b = np.array([nx * nx, ny * ny, nx * ny])
+        return float(1.0 / (b @ np.linalg.solve(np.asarray(mat.D("plane stress"), dtype=float), b)))
+    return 0.5 * (float(getattr(mat, "E1", 0.0)) + float(getattr(mat, "E2", 0.0)))
+
+
+def _load_axes(layers, cases) -> None:
+    """Each layer's load direction, for a flexibility formula's plate modulus (an orthotropic layer's).
+
+    Sets ``L.load_axis`` (a unit vector, or None) and, on a layer with an orthotropic material,
+    ``L.formula_modulus`` (what the output states: the moduli used, the direction and its basis). The
+    fastener's own load direction is known only after the solve, which needs the springs, so the
+    layer's load direction is read: the principal direction of the layer's own loads over the cases
+    (the axis of the largest eigenvalue of ``sum f f^T`` over its loaded nodes); a layer with no loads
+    of its own (a strap, a doubler) takes that of all the layers' loads; with none (a temperature
+    change only), or loads as strong along every direction, there is no direction and an orthotropic
+    modulus is the mean of ``E1`` and ``E2``.
+    """
+    from ._joint_tables import _axis, external_loads
+
+    def axis(f):
+        if not np.any(f):
+            return None
+        w = np.linalg.eigvalsh(f.T @ f)
+        return None if w[1] - w[0] <= 1e-6 * w[1] else _axis(f)
+
+    own = {L.name: external_loads(L.asm, cases).reshape(-1, 2, len(cases)).transpose(0, 2, 1).reshape(-1, 2)
+           for L in layers}
+    every = axis(np.vstack(list(own.values())))
+    for L in layers:
+        a = axis(own[L.name])
+        L.load_axis = a if a is not None else every
+        basis = ("the direction of the layer's own loads" if a is not None else
+                 "the direction of the joint's loads (the layer has none of its own)" if every is not None else
+                 "no load direction: the mean of E1 and E2")
+        ortho = [b.material for b in L.asm.blocks if getattr(b.material, "E", None) is None]
+        if ortho:
+            L.formula_modulus = dict(moduli=sorted({_modulus_along(m, L.load_axis) for m in ortho}), basis=basis,
+                                     direction=None if L.load_axis is None else [float(x) for x in L.load_axis])
+
+
+def _node_weights(asm, nodes: np.ndarray | None = None, direction: np.ndarray | None = None
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Each node's share of the area times thickness, its thickness and Young's modulus (largest of its cells;
+    an orthotropic material's along ``direction``, :func:`_modulus_along`).
 
     With ``nodes``, only the cells that touch them are visited (the figures at those nodes are the same,
     summed over the same cells in the same order; elsewhere they are zero): a fastener's patch reads a few
@@ -86,9 +148,7 @@ def _node_weights(asm, nodes: np.ndarray | None = None) -> tuple[np.ndarray, np.
         on[conn.ravel()] = True
         t[on] = np.maximum(t[on], b.thickness)  # one thickness and material per block
         mat = b.material
-        e = getattr(mat, "E", None)
-        if e is None:  # orthotropic: the mean of the principal moduli (only a flexibility formula reads it)
-            e = 0.5 * (float(getattr(mat, "E1", 0.0)) + float(getattr(mat, "E2", 0.0)))
+        e = _modulus_along(mat, direction)  # orthotropic: along the layer's load (only a flexibility formula reads it)
         E[on] = np.maximum(E[on], float(e))
     return w, t, E
 
@@ -175,7 +235,7 @@ class _Layer:
 
     def weights(self, nodes: np.ndarray | None = None):
         """:func:`_node_weights` of the layer, at ``nodes`` (all nodes by default)."""
-        return _node_weights(self.asm, nodes)
+        return _node_weights(self.asm, nodes, getattr(self, "load_axis", None))
 
     def end_operator(self, g: int, fz, pts: np.ndarray) -> tuple[sp.csr_matrix, np.ndarray, np.ndarray]:
         """(S (2k, 2n): each end's mean translation from the full unknowns, thickness (k,), modulus (k,))."""
@@ -366,6 +426,8 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
     timer.size(total_dofs)
     timer.start("assembling")
     layers = [_Layer(nm, mdl, joint, cases, distortion_limit, timer) for nm, mdl in joint.layers.items()]
+    if any(isinstance(fz.flexibility, str) for fz in groups):  # a formula reads an orthotropic layer's modulus
+        _load_axes(layers, cases)
     index = {L.name: i for i, L in enumerate(layers)}
     offs = np.r_[0, np.cumsum([L.n for L in layers])]
     N = int(offs[-1])
@@ -490,6 +552,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
             r.pin_states = states[j]
             r.rest_forces = (ext[:, j] + R[:, j] + rest[:, j]).reshape(-1, 2)
             r.joint_entries = entry
+            r.formula_modulus = getattr(L, "formula_modulus", None)
             if eta[j] > WARN:
                 warn(f"load case {cn!r}: the joint's solve has backward error {eta[j]:.1e}; the answer may be "
                      "inaccurate (check the fasteners' flexibility against the plates' stiffness)", "joint-accuracy",

@@ -92,6 +92,9 @@ class FastenerTable:
         self.magnitude = np.array([p["magnitude"] for p in pairs])
         self.holes = self._holes(jr)
         self.rows = self._rows(jr)
+        # an orthotropic layer's modulus in a flexibility formula: along its load direction (stated)
+        self.formula_moduli = {k: r.formula_modulus for k, r in jr.layers.items()
+                               if getattr(r, "formula_modulus", None)}
 
     def _holes(self, jr) -> list[dict]:
         joint = jr.joint
@@ -161,9 +164,12 @@ class FastenerTable:
         """The table as plain data (JSON-ready): units, fastener pairs, holes, rows.
 
         ``compliance_unit`` states the unit of each pair's ``compliance`` (length per force; one shear
-        plane's spring in double shear).
+        plane's spring in double shear); ``formula_moduli``, for each orthotropic layer a flexibility
+        formula read, the moduli used, the direction they are taken along and why
+        (:func:`planar.core._joint_solve._load_axes`).
         """
         return {"case": self.case, "units": self.units.as_dict(), "compliance_unit": self.compliance_unit(),
+                "formula_moduli": {k: dict(v) for k, v in self.formula_moduli.items()},
                 "fasteners": [dict(p, layers=list(p["layers"]), point=list(p["point"]), shear=list(p["shear"]))
                               for p in self.pairs],
                 "holes": [dict(h, point=list(h["point"]), load=list(h["load"])) for h in self.holes],
@@ -190,6 +196,12 @@ class FastenerTable:
                          f"{p['magnitude']:>12.5g} {p['compliance']:>18.4g}")
         lines.append("(compliance: the spring's slip per unit force between the two layers; in double shear one "
                      "shear plane's spring)")
+        for k, v in self.formula_moduli.items():
+            mods = ", ".join(f"{m:.5g}" for m in v["moduli"])
+            along = "" if v["direction"] is None else f" along ({v['direction'][0]:.4g}, {v['direction'][1]:.4g}),"
+            su = f" {us.unit_of('stress')}" if us.stated else ""
+            lines.append(f"(flexibility formula: orthotropic layer {k!r} read with modulus {mods}{su}"
+                         f"{along} {v['basis']})")
         lines += ["", f"{'group':<{gw}} {'#':>3} {'layer':<{lw}} {'bearing P' + F:>16} {'t' + L:>10} "
                       f"{'P/(d t)' + S:>16} {'bypass' + F:>14} {'on cut':>7}"]
         for h in self.holes:
@@ -372,5 +384,5 @@ class JointResult:
                "layers": {k: r.summary() for k, r in self.layers.items()},
                "load_balance_error": self.balance_error()}
         tab = self.fasteners.as_dict()
-        out.update({k: tab[k] for k in ("compliance_unit", "fasteners", "holes", "rows")})
+        out.update({k: tab[k] for k in ("compliance_unit", "formula_moduli", "fasteners", "holes", "rows")})
         return out

@@ -90,7 +90,9 @@ class Fasteners:
         published formula (:func:`planar.core.fastener_flexibility.fastener_compliance`, e.g.
         ``"huth"``), evaluated for each fastener from the joined layers' thicknesses and moduli. In
         double shear (three layers, the middle one between two outer ones) each of the two springs
-        is one shear plane: the formula's fastener compliance times two.
+        is one shear plane: the formula's fastener compliance times two. An orthotropic layer's
+        modulus in a formula is the one along the layer's load direction (its own loads', else the
+        joint's), with its fibre angle; the fastener table states it.
     kind : {"bolt", "rivet", "composite-bolt"}
     shear : {"single", "double"}
         Passed to the flexibility formula (``"composite-bolt"``: a bolt in graphite/epoxy plates, Huth's
