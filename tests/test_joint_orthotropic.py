@@ -1,4 +1,5 @@
-"""An orthotropic layer in a fastener flexibility formula: its modulus along the layer's load.
+"""An orthotropic layer in a fastener flexibility formula: its modulus along the layer's load; a
+fastener in a hole of the mesh that holes= does not list.
 
 Sources:
 - the modulus of an orthotropic lamina along a direction at theta from its fibres:
@@ -11,6 +12,7 @@ import numpy as np
 import pytest
 
 import planar
+from planar.core.errors import InputError
 
 E1, E2, G12, NU12 = 140e3, 10e3, 5e3, 0.3
 
@@ -80,3 +82,22 @@ def test_a_layer_without_loads_reads_the_joints_load_direction():
     assert fm["moduli"] == pytest.approx([E2], rel=1e-9) and "joint's loads" in fm["basis"]
     assert res.fasteners.pairs[0]["compliance"] == pytest.approx(_huth(2.0, 2.0, 71e3, E2), rel=1e-9)
 
+
+def test_a_fastener_in_a_hole_not_listed_in_holes_is_named():
+    # a 4.8 mm fastener in a 5 mm hole of the mesh, the hole left out of holes=: the message said the
+    # point 'lies outside the mesh'; it names the hole and holes=
+    pytest.importorskip("gmsh")
+    from planar.geometry import Circle, Plate, Refine, mesh
+
+    g = Plate.rectangle(100.0, 20.0, corner=(0.0, -10.0)).cut(Circle((60.0, 0.0), 2.5, name="h0"))
+    skin = planar.Model(mesh(g, size=2.0, element="T6", refine=[Refine(["h0"], size=0.6)]),
+                        planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    strap = planar.Model(planar.rectangle_mesh(100.0, 20.0, 100, 20, element="Q8", origin=(50.0, -10.0)),
+                         planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    skin.add_support(planar.Fixed("left"))
+    strap.add_load(planar.Traction("right", tx=50.0), case="pull")
+    joint = planar.Joint({"skin": skin, "strap": strap})
+    joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("skin", "strap"), diameter=4.8,
+                                         flexibility=3e-5, name="row"))
+    with pytest.raises(InputError, match=r"sits in hole 'h0' of layer 'skin'.*diameter 5\).*holes="):
+        planar.solve(joint)

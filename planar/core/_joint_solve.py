@@ -181,6 +181,34 @@ def _side_by_side(mats) -> sp.csc_matrix:
     return out
 
 
+def _hole_at(mesh, pts: np.ndarray):
+    """(index of the point, edge name, diameter) of the first point inside a round hole of the mesh that
+    a named edge bounds all round (the circle through the edge's nodes by least squares, the nodes on it
+    to 1e-3 of its radius, no gap over a quarter turn), or None."""
+    from .joints import _hole_size
+
+    for name in mesh.edge_sets:
+        ring = mesh.nodes[np.unique(np.asarray(mesh.edge(name))[:, :2])][:, :2]
+        if ring.shape[0] < 3:
+            continue
+        A = np.column_stack([ring, np.ones(ring.shape[0])])
+        sol, *_ = np.linalg.lstsq(A, (ring ** 2).sum(axis=1), rcond=None)
+        c = 0.5 * sol[:2]
+        r2 = sol[2] + c @ c
+        if not r2 > 0:
+            continue
+        r = float(np.sqrt(r2))
+        if np.abs(np.hypot(*(ring - c).T) - r).max() > 1e-3 * r:
+            continue  # not a round hole
+        ang = np.sort(np.arctan2(*(ring - c).T[::-1]))
+        if np.diff(np.r_[ang, ang[0] + 2 * np.pi]).max() > 0.5 * np.pi:
+            continue  # an arc (a fillet, a notch), not a hole all round
+        inside = np.flatnonzero(np.hypot(*(pts - c).T) < r)
+        if inside.size:
+            return int(inside[0]), name, _hole_size(ring)
+    return None
+
+
 class _Layer:
     """One layer prepared for the joint's system: its assembly, reduced system and end operators."""
 
@@ -280,8 +308,17 @@ class _Layer:
             try:
                 locate(mesh, pts[few])
             except InputError as exc:
-                raise InputError(f"fasteners {fz.name!r} join layer {self.name!r}, but {exc}; move the fastener into "
-                                 "the layer, or leave the layer out of its layers=") from None
+                hole = _hole_at(mesh, pts[few])
+                if hole is not None:
+                    i, e, size = hole
+                    raise InputError(f"fasteners {fz.name!r}: fastener at ({pts[few][i, 0]:g}, {pts[few][i, 1]:g}) sits in "
+                                     f"hole {e!r} of layer {self.name!r} (a hole cut in its mesh, diameter {size:.4g}), "
+                                     f"which holes= does not list; give holes={{{self.name!r}: [...]}} with one hole "
+                                     "edge per fastener, in the order of the points, so each fastener is tied to its "
+                                     "hole's edge") from None
+                raise InputError(f"fasteners {fz.name!r} join layer {self.name!r}, but {exc}; if the fastener sits in a "
+                                 "hole cut in the layer's mesh, name the hole's edge in holes=; else move the fastener "
+                                 "into the layer, or leave the layer out of its layers=") from None
         rot = self.cons.rotation
         if rot is not None and np.isin(nj, rot.nodes).any():
             raise InputError(f"fasteners {fz.name!r}: a fastener's patch in layer {self.name!r} takes a node held along "
