@@ -185,8 +185,6 @@ def _hole_at(mesh, pts: np.ndarray):
     """(index of the point, edge name, diameter) of the first point inside a round hole of the mesh that
     a named edge bounds all round (the circle through the edge's nodes by least squares, the nodes on it
     to 1e-3 of its radius, no gap over a quarter turn), or None."""
-    from .joints import _hole_size
-
     for name in mesh.edge_sets:
         ring = mesh.nodes[np.unique(np.asarray(mesh.edge(name))[:, :2])][:, :2]
         if ring.shape[0] < 3:
@@ -205,7 +203,7 @@ def _hole_at(mesh, pts: np.ndarray):
             continue  # an arc (a fillet, a notch), not a hole all round
         inside = np.flatnonzero(np.hypot(*(pts - c).T) < r)
         if inside.size:
-            return int(inside[0]), name, _hole_size(ring)
+            return int(inside[0]), name, 2.0 * r
     return None
 
 
