@@ -55,6 +55,39 @@ def test_schur_complement_and_its_uses_match_the_definition():
     assert np.abs(f.gram(Bfull.T) - W).max() <= 1e-11 * np.abs(W).max()
 
 
+def test_turned_pairs_give_the_same_flexibility_and_solves():
+    """With pairs of unknowns turned to given directions (an edge node's normal and tangent), the Schur
+    complement on the normal components alone still gives ``B K^-1 B^T`` for rows ``B`` of normal motions
+    (checked against dense solves: ``T`` orthogonal, so ``B K^-1 B^T = (B T) (T^T K T)^-1 (B T)^T``), and the
+    solves and the forward half take and return the unknowns as given."""
+    n = 200
+    K = _spd(n, 5)
+    Kd = K.toarray()
+    rng = np.random.default_rng(1)
+    pick = rng.choice(n, 42, replace=False)
+    pairs, extra = pick[:40].reshape(20, 2), pick[40:]
+    th = rng.uniform(0.0, 2 * np.pi, 20)
+    dirs = np.column_stack([np.cos(th), np.sin(th)])
+    f = solvers_module.factorize(sp.tril(K).tocsc(), "pardiso", schur=np.r_[pairs[:, 0], extra],
+                                 schur_basis=(pairs, 3.0 * dirs))  # directions need not be unit
+    assert f.schur.shape == (22, 22)
+    rows = np.r_[np.repeat(np.arange(20), 2), 0, 7]
+    cols = np.r_[pairs.ravel(), extra]
+    B = sp.csr_matrix((np.r_[dirs.ravel(), -0.7, 0.4], (rows, cols)), shape=(20, n))
+    W = B @ np.linalg.solve(Kd, B.T.toarray())
+    Bs = f.schur_rows(B)
+    assert Bs is not None and Bs.shape == (20, 22)
+    assert np.abs(f.schur_gram(Bs) - W).max() <= 1e-11 * np.abs(W).max()
+    b = rng.standard_normal((n, 3))
+    x = np.linalg.solve(Kd, b)
+    assert np.abs(f.solve(b) - x).max() <= 1e-11 * np.abs(x).max()
+    assert np.abs(Bs @ f.schur_part(b) - B @ x).max() <= 1e-11 * np.abs(B @ x).max()
+    assert np.abs(f.gram(B.T.toarray()) - W).max() <= 1e-11 * np.abs(W).max()
+    # a row across a turned pair (the tangent) touches an unknown left out of the Schur complement
+    across = sp.csr_matrix((np.r_[-dirs[0, 1], dirs[0, 0]], ([0, 0], pairs[0])), shape=(1, n))
+    assert f.schur_rows(across) is None
+
+
 def test_without_marks_or_with_too_many_the_factor_has_no_schur_complement():
     """Marks are honoured for at most half the unknowns; a factor without them solves as before."""
     n = 60

@@ -32,8 +32,9 @@ condensed onto the contact nodes with one factorization:
   with ``h = B K_a^-1 F`` and the flexibility ``W = B K_a^-1 B^T``.
 * The condensed problem is written over the candidate nodes only: those that penetrate in the
   springs' answer, widened along the edge, and the anchors. ``W`` over them (m_c x m_c) comes from
-  the Schur complement ``S`` of ``K_a`` on the unknowns that ``B`` touches (the edge nodes' and the pins'
-  free translations, a few hundred), which the factorization returns where the back end offers it
+  the Schur complement ``S`` of ``K_a`` on the unknowns that ``B`` touches (each edge node's motion along
+  the pin's normal, its two unknowns turned to the normal and the tangent there, and the pins' free
+  translations: a few hundred), which the factorization returns where the back end offers it
   (PARDISO): ``[K_a^-1]`` over those unknowns is ``S^-1``, so ``W = B_s S^-1 B_s^T`` for every contact
   row at once by a dense Cholesky of ``S``, and ``h`` needs only the forward half of one solve; else
   from one multi-right-hand-side solve with the factor (its forward half ``Z = L^-1 P B^T``, ``W = Z^T Z``,
@@ -332,15 +333,34 @@ class ContactSet:
         low = (system.lower + sp.tril(BtDB).tocsc()).tocsc()
         low.sum_duplicates()
         low.sort_indices()
-        touched = np.unique(B.indices).astype(np.int64)
-        if 0 < touched.size <= SCHUR_MAX:  # the factorization may return their Schur complement (solvers.factorize)
-            low.schur_unknowns = touched
+        self._mark_schur(low, B, nO)
         from .assembly import ReducedSystem
 
         self.system = ReducedSystem(low, system.prescribed_rows)
         self.iterations: list[int] = []
         self.mu = None
         self._W = None
+
+    @staticmethod
+    def _mark_schur(low, B: sp.csr_matrix, nO: int) -> None:
+        """Mark on the matrix the unknowns whose Schur complement the factorization may return
+        (:func:`planar.core.solvers.factorize`): each edge node's two unknowns turned to the pin's normal and
+        tangent there (``schur_basis``), so that only the normal one and the pins' unknowns are marked."""
+        B.sort_indices()
+        touched = np.unique(B.indices).astype(np.int64)
+        if not 0 < touched.size <= SCHUR_MAX:
+            return
+        nnz = np.diff(B.indptr)
+        two = np.flatnonzero(nnz >= 2)
+        first, second = B.indptr[two], B.indptr[two] + 1
+        ok = (B.indices[first] < nO) & (B.indices[second] < nO)  # the node's own two unknowns (sorted first)
+        rows = two[ok]
+        pairs = np.column_stack([B.indices[B.indptr[rows]], B.indices[B.indptr[rows] + 1]]).astype(np.int64)
+        if pairs.size and np.unique(pairs).size == pairs.size:
+            dirs = np.column_stack([B.data[B.indptr[rows]], B.data[B.indptr[rows] + 1]])
+            low.schur_basis = (pairs, dirs)
+            touched = np.setdiff1d(touched, pairs[:, 1])
+        low.schur_unknowns = touched
 
     # ------------------------------------------------------------------ the condensed problem
     def flexibility(self, fac, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -381,16 +401,11 @@ class ContactSet:
         return order, (W + W.T) / 2
 
     def _schur_rows(self, fac) -> np.ndarray | None:
-        """``B`` over the factor's Schur unknowns (dense, m x ns), or None where the factor returned no Schur
-        complement, or one that leaves out an unknown that ``B`` touches."""
-        u = getattr(fac, "schur_unknowns", None)
-        if u is None or not hasattr(fac, "schur_gram") or not hasattr(fac, "schur_part"):
+        """``B`` over the factor's Schur unknowns (dense, m x ns; in its turned basis), or None where the factor
+        returned no Schur complement, or one that leaves out an unknown that ``B`` touches."""
+        if not all(hasattr(fac, f) for f in ("schur_rows", "schur_gram", "schur_part")):
             return None
-        B = self.B
-        pos = np.searchsorted(u, B.indices)
-        if pos.size and (pos.max() >= u.size or np.any(u[pos] != B.indices)):
-            return None
-        return sp.csr_matrix((B.data, pos, B.indptr), shape=(self.m, u.size)).toarray()
+        return fac.schur_rows(self.B)
 
     def _sorted_rows(self):
         """Each pin's rows in angle order, and whether its edge closes on itself."""

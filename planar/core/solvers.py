@@ -240,12 +240,17 @@ class _Pardiso:
     name = "pardiso"
 
     def __init__(self, lower, *, after_ordering: Callable[[], None] | None = None,
-                 schur: np.ndarray | None = None, **_):
+                 schur: np.ndarray | None = None, schur_basis: tuple | None = None, **_):
         import ctypes
 
         self._fn = _mkl_library()
         L = sp.csc_matrix(lower)
         n = L.shape[0]
+        marked = np.zeros(0, np.int64) if schur is None else np.unique(np.asarray(schur, dtype=np.int64))
+        use_schur = 0 < marked.size <= n // 2 and marked[0] >= 0 and marked[-1] < n
+        self._basis = _pair_basis(schur_basis, n) if use_schur and schur_basis is not None else None
+        if self._basis is not None:  # factorize T^T K T: the pairs' unknowns turned to their directions
+            L = _turned_lower(L, *self._basis)
         # the CSC arrays of the lower triangle are the CSR arrays of the upper triangle
         self._ia = np.ascontiguousarray(L.indptr, dtype=np.int32)
         self._ja = np.ascontiguousarray(L.indices, dtype=np.int32)
@@ -264,8 +269,7 @@ class _Pardiso:
         self.schur_unknowns: np.ndarray | None = None
         self.schur: np.ndarray | None = None
         self._schur_chol = None
-        marked = np.zeros(0, np.int64) if schur is None else np.unique(np.asarray(schur, dtype=np.int64))
-        if 0 < marked.size <= n // 2 and marked[0] >= 0 and marked[-1] < n:
+        if use_schur:
             self._perm = np.zeros(n, dtype=np.int32)
             self._perm[marked] = 1  # these unknowns are eliminated last; their Schur complement is returned
             ip[35] = 2  # Schur complement into x at the numeric phase, the whole factor kept for ordinary solves
@@ -307,7 +311,7 @@ class _Pardiso:
 
     def forward(self, b):
         """The forward half of the solve, ``Z = L^-1 P b`` (phase 331), so that ``b^T K^-1 b = Z^T Z``."""
-        Z = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))
+        Z = self._call(331, self._turn(np.asarray(b, dtype=float).reshape(self.n, -1), True))
         if self.schur is not None:  # the forward half stops at the Schur block: finish it with S = R^T R
             from scipy.linalg import solve_triangular
 
@@ -378,15 +382,52 @@ class _Pardiso:
 
         from ._multigrid import one_blas_thread
 
-        y = self._call(331, np.asarray(b, dtype=float).reshape(self.n, -1))[self.schur_unknowns]
+        y = self._call(331, self._turn(np.asarray(b, dtype=float).reshape(self.n, -1), True))[self.schur_unknowns]
         with one_blas_thread():
             x = cho_solve(self._schur_factor(), y, check_finite=False)
         if not np.all(np.isfinite(x)):
             raise _numerical(_SINGULAR)
         return x
 
+    def _turn(self, v: np.ndarray, transpose: bool) -> np.ndarray:
+        """``T^T v`` (``transpose``) or ``T v``, T the rotation of the pairs of unknowns (identity without them)."""
+        if self._basis is None:
+            return v
+        a, b, c, s = self._basis
+        out = np.array(v, dtype=float, order="F")
+        va, vb = v[a], v[b]
+        sg = s[:, None] if transpose else -s[:, None]
+        out[a] = c[:, None] * va + sg * vb
+        out[b] = -sg * va + c[:, None] * vb
+        return out
+
+    def schur_rows(self, B: sp.spmatrix) -> np.ndarray | None:
+        """Rows ``B`` (sparse, k x n) in the Schur unknowns (dense, k x ns, ``B T`` over them), or None where
+        they touch an unknown outside them (entries of ``B T`` at round-off of ``B``'s largest taken as zero)."""
+        if self.schur is None:
+            return None
+        Bt = sp.csr_matrix(B, dtype=float)
+        if self._basis is not None:
+            a, b, c, s = self._basis
+            T = sp.csr_matrix((np.r_[c - 1.0, -s, s, c - 1.0], (np.r_[a, a, b, b], np.r_[a, b, a, b])),
+                              shape=(self.n, self.n)) + sp.identity(self.n, format="csr")
+            Bt = sp.csr_matrix(Bt @ T)
+        tol = 8 * _EPS * float(np.abs(Bt.data).max(initial=0.0))
+        Bt.data[np.abs(Bt.data) <= tol] = 0.0
+        Bt.eliminate_zeros()
+        u = self.schur_unknowns
+        pos = np.searchsorted(u, Bt.indices)
+        if pos.size and (pos.max() >= u.size or np.any(u[np.minimum(pos, u.size - 1)] != Bt.indices)):
+            return None
+        return sp.csr_matrix((Bt.data, pos, Bt.indptr), shape=(Bt.shape[0], u.size)).toarray()
+
     def solve(self, b):
         b = np.asarray(b, dtype=float)
+        if self._basis is not None:
+            x = self._turn(self._call(33, self._turn(b.reshape(self.n, -1), True)), False)
+            if not np.all(np.isfinite(x)):
+                raise _numerical(_SINGULAR)
+            return np.ascontiguousarray(x).reshape(b.shape)
         x = self._call(33, b.reshape(self.n, -1))
         if not np.all(np.isfinite(x)):
             raise _numerical(_SINGULAR)
@@ -398,6 +439,53 @@ class _Pardiso:
                 self._call(-1, np.zeros((self.n, 1)))
         except Exception:
             pass
+
+
+def _pair_basis(basis, n: int):
+    """``(a, b, c, s)`` from ``(pairs, directions)``: unknown pairs ``(a_i, b_i)`` turned so that ``a_i`` carries
+    the component along the unit direction ``(c_i, s_i)``, ``b_i`` the one across; None when not usable."""
+    pairs, dirs = basis
+    pairs = np.asarray(pairs, dtype=np.int64).reshape(-1, 2)
+    dirs = np.asarray(dirs, dtype=float).reshape(-1, 2)
+    if pairs.shape[0] == 0 or dirs.shape != pairs.shape:
+        return None
+    flat = pairs.ravel()
+    norm = np.hypot(dirs[:, 0], dirs[:, 1])
+    if flat.min() < 0 or flat.max() >= n or np.unique(flat).size != flat.size or not np.all(norm > 0) \
+            or not np.all(np.isfinite(norm)):
+        return None
+    return pairs[:, 0], pairs[:, 1], dirs[:, 0] / norm, dirs[:, 1] / norm
+
+
+def _turned_lower(L: sp.csc_matrix, a, b, c, s) -> sp.csc_matrix:
+    """The lower triangle of ``T^T K T`` from that of K, T turning each pair ``(a_i, b_i)`` by ``(c_i, s_i)``
+    (``u_a = c u'_a - s u'_b``, ``u_b = s u'_a + c u'_b``): only the entries in the pairs' rows and columns
+    change, so only those are taken out, turned and put back (into a copy of the values where the pattern
+    holds them, as it does when each pair's two unknowns couple alike; else by a sparse sum)."""
+    n = L.shape[0]
+    inR = np.zeros(n, dtype=bool)
+    inR[a] = inR[b] = True
+    cols = np.flatnonzero(inR)
+    starts, ends = L.indptr[cols], L.indptr[cols + 1]
+    in_cols = np.repeat(ends - np.cumsum(ends - starts), ends - starts) + np.arange(int((ends - starts).sum()))
+    idx = np.union1d(np.flatnonzero(inR[L.indices]), in_cols)  # the entries in a pair's row or column
+    r = L.indices[idx].astype(np.int64)
+    col = np.searchsorted(L.indptr, idx, side="right") - 1
+    Lt = sp.csc_matrix((L.data[idx], (r, col)), shape=(n, n))
+    Kt = Lt + Lt.T - sp.diags(Lt.diagonal())
+    T = sp.csr_matrix((np.r_[c - 1.0, -s, s, c - 1.0], (np.r_[a, a, b, b], np.r_[a, b, a, b])),
+                      shape=(n, n)) + sp.identity(n, format="csr")
+    D = sp.tril(T.T @ Kt @ T - Kt).tocoo()
+    key = r * n + col  # sorted, since idx is
+    dkey = D.row.astype(np.int64) * n + D.col
+    pos = np.searchsorted(key, dkey)
+    if pos.size and (pos.max() >= key.size or np.any(key[np.minimum(pos, key.size - 1)] != dkey)):
+        out = (L + D.tocsc()).tocsc()
+        out.sort_indices()
+        return out
+    data = np.array(L.data, dtype=float)
+    np.add.at(data, idx[pos], D.data)
+    return sp.csc_matrix((data, L.indices, L.indptr), shape=(n, n))
 
 
 class _SuperLU:
@@ -680,7 +768,7 @@ def choose(n: int, method: str = "auto", *, memory: int | None = None, matrix_en
 
 def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarray | None = None,
               rtol: float = 1e-10, after_ordering: Callable[[], None] | None = None,
-              space=None, schur: np.ndarray | None = None) -> Factorization:
+              space=None, schur: np.ndarray | None = None, schur_basis: tuple | None = None) -> Factorization:
     """Factorize a symmetric positive-definite stiffness matrix given by its lower triangle.
 
     Parameters
@@ -706,6 +794,13 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
         ``schur_gram(Bs)`` (``Bs S^-1 Bs^T``) and ``schur_part(b)`` (those unknowns of ``K^-1 b``), and
         solves as usual; other back ends ignore it. Without it, a ``schur_unknowns`` attribute of
         ``lower`` is taken (the bearing-contact set marks its matrix so, :mod:`planar.core.contact`).
+    schur_basis : (pairs, directions), optional
+        With ``schur``: pairs of unknowns ``(a_i, b_i)`` (k x 2) and directions ``(c_i, s_i)`` (k x 2). PARDISO
+        then factorizes ``T^T K T``, each pair turned so that ``a_i`` carries the component along the
+        direction and ``b_i`` the one across (an edge node's normal and tangential motion): ``schur``
+        need name only the ``a_i`` (half the Schur unknowns, a cheaper ordering); ``schur_rows(B)`` gives
+        ``B T`` over the Schur unknowns, and solves take and return the unknowns as given. Without it, a
+        ``schur_basis`` attribute of ``lower`` is taken.
 
     Raises
     ------
@@ -720,8 +815,9 @@ def factorize(lower: sp.spmatrix, method: str = "auto", *, rigid_modes: np.ndarr
     name = method if method in _BACKENDS and _importable(_MODULES[method]) else choose(n, method)
     if schur is None:
         schur = getattr(lower, "schur_unknowns", None)
+        schur_basis = getattr(lower, "schur_basis", None) if schur_basis is None else schur_basis
     return _BACKENDS[name](lower, rigid_modes=rigid_modes, rtol=rtol, after_ordering=after_ordering, space=space,
-                           schur=schur)
+                           schur=schur, schur_basis=schur_basis)
 
 
 class _IterationLine:
