@@ -363,3 +363,22 @@ def test_a_node_in_no_cell_does_not_hide_a_displacement_beyond_small_displacemen
     assert r.u[:, 1].min() == pytest.approx(-10.0, rel=0.03)
     msgs = [w.message for w in r.warnings if w.code == "units"]
     assert len(msgs) == 1 and "part's size 100" in msgs[0]
+
+
+def test_units_warning_of_an_enormous_load_prints_numbers_not_inf():
+    # a traction of 1e300 (a unit mix-up gone wild) gives displacements of 1.4e297, finite, but the
+    # warning squared them and printed "inf at (5, 0) ... is inf % of the part's size"
+    import warnings
+
+    m = planar.rectangle_mesh(100.0, 20.0, 10, 4, "Q8")
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.3), thickness=2.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1e300), case="wild")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = planar.solve(model)["wild"]
+    msgs = [w.message for w in r.warnings if w.code == "units"]
+    assert any("displacements comparable" in s for s in msgs)
+    assert not any("inf" in s.replace("info", "") for s in msgs)
+    # linear: the end moves sigma L / E = 1e300 x 100 / 70e3 in x (within the clamp's Poisson effect)
+    assert r.u[:, 0].max() == pytest.approx(1e300 * 100.0 / 70e3, rel=0.01)

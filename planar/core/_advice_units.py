@@ -135,7 +135,7 @@ def _units(asm, res) -> list[tuple[str, str, list]]:
         disp2 = np.einsum("ij,ij->i", r.u, r.u)
         k = int(np.argmax(disp2)) if disp2.size else 0
         if disp2.size and disp2[k] > (DISPLACEMENT_FRACTION * size) ** 2:
-            big_u.append((r, float(np.sqrt(disp2[k])), asm.mesh.nodes[k]))
+            big_u.append((r, float(np.hypot(*r.u[k])), asm.mesh.nodes[k]))  # hypot: no overflow of the square
         q, e, where = _strain_level(r)
         r._advice_strain = e
         if q > STRAIN_LIMIT:
