@@ -97,7 +97,8 @@ class ContactState:
     arc_start_deg, arc_end_deg : float or None
         The contact arc, as angles about the pin's point counter-clockwise from +x (degrees, start
         to end counter-clockwise; the start in (-180, 180], the end may pass 180). Each end lies half-way between the last node
-        in contact and the first open one (so read to half a node spacing). None without contact.
+        in contact and the first open one (so read to half a node spacing), or at the end node of an edge that does not
+        close (a half or quarter hole: a half lug on x >= 0 bears within -90 to 90). None without contact.
     peak_pressure : float
         Largest contact pressure (force per length per thickness), stress unit; 0 without contact.
     peak_at : (float, float) or None
@@ -109,7 +110,8 @@ class ContactState:
     force : (float, float)
         The resultant the pin exerts on the part through contact (force unit).
     nodes : ndarray
-        The edge nodes (sorted by angle).
+        The edge nodes in order along the edge, counter-clockwise: sorted by angle in [0, 360) on a whole hole; from
+        the end after the largest angular gap on an edge that does not close (its angles continuous from there).
     angles_deg, gap, pressure : ndarray
         Per edge node: angle about the pin's point, gap (length) and contact pressure (stress).
     clearance, radius : float
@@ -207,27 +209,49 @@ def _tidy(v: float, of) -> str:
     return format(0.0 if abs(v) < 1e-9 * max(abs(of[0]), abs(of[1]), 1e-300) else v + 0.0, ".6g")
 
 
-def _arc(angles: np.ndarray, on: np.ndarray) -> tuple[float | None, float | None]:
-    """The contact arc (start, end) in degrees from the nodes' angles (sorted) and which bear.
+def _edge_angles(r: np.ndarray, closed: bool) -> np.ndarray:
+    """The edge nodes' angles about the pin's point (degrees, counter-clockwise from +x), continuous along the edge.
 
-    The arc runs counter-clockwise over the bearing nodes, across the largest run of open nodes left
-    out; each end is half-way to the neighbouring open node (or at the last node of an open edge).
+    An angle within 1e-9 degree of a whole degree is taken as that degree (a node on an axis through the
+    pin's point whose coordinate is round-off off the axis reads 0, not 360 less round-off). A closed edge's
+    angles lie in [0, 360); an open edge (a half or quarter hole, a straight edge) runs from the node after
+    its largest angular gap (where it is open) counter-clockwise, its first angle in (-180, 180] and the
+    others increasing from there (a half hole on x >= 0 reads -90 to 90).
+    """
+    a = np.degrees(np.arctan2(r[:, 1], r[:, 0]))
+    whole = np.round(a)
+    a = np.where(np.abs(a - whole) < 1e-9, whole, a) % 360.0 + 0.0
+    if closed or a.size < 2:
+        return a
+    order = np.argsort(a, kind="stable")
+    s = a[order]
+    gap = np.r_[s[1:], s[0] + 360.0] - s
+    first = (int(np.argmax(gap)) + 1) % s.size  # the edge starts after its largest gap
+    start = s[first] - 360.0 if s[first] > 180.0 else s[first]
+    return (a - s[first]) % 360.0 + start
+
+
+def _arc(angles: np.ndarray, on: np.ndarray, closed: bool = True) -> tuple[float | None, float | None]:
+    """The contact arc (start, end) in degrees from the nodes' angles (in order along the edge) and which bear.
+
+    The arc runs counter-clockwise over the bearing nodes: the longest run of them (on a closed edge, across
+    the largest run of open nodes left out); each end is half-way to the neighbouring open node, or at the
+    last node of an open edge (a half or quarter hole, a straight edge: ``angles`` from :func:`_edge_angles`).
     """
     n = angles.size
     if not on.any():
         return None, None
-    if on.all():
+    if closed and on.all():
         return 0.0, 360.0
-    # angular spacing to the next node (circular); an edge that is not a full circle has one large step
-    nxt = np.r_[angles[1:], angles[0] + 360.0] - angles
-    full = nxt.max() < 90.0  # a closed hole
     idx = np.flatnonzero(on)
-    # start: a bearing node whose predecessor is open; end: a bearing node whose successor is open
-    prev_open = ~on[(idx - 1) % n]
-    next_open = ~on[(idx + 1) % n]
-    if not full:
-        prev_open |= idx == 0
-        next_open |= idx == n - 1
+    if closed:
+        nxt = np.r_[angles[1:], angles[0] + 360.0] - angles
+        prev_open = ~on[(idx - 1) % n]
+        next_open = ~on[(idx + 1) % n]
+    else:
+        nxt = np.r_[np.diff(angles), 0.0]
+        prev_open = (idx == 0) | ~on[np.maximum(idx - 1, 0)]
+        next_open = (idx == n - 1) | ~on[np.minimum(idx + 1, n - 1)]
     starts, ends = idx[prev_open], idx[next_open]
     # the longest run counter-clockwise from a start to the next end is the arc
     best = None
@@ -237,14 +261,21 @@ def _arc(angles: np.ndarray, on: np.ndarray) -> tuple[float | None, float | None
         if best is None or length > best[2]:
             best = (s, e, length)
     s, e, _ = best
-    a0 = angles[s] - (nxt[(s - 1) % n] / 2 if (full or s > 0) else 0.0)
-    a1 = angles[e] + (nxt[e] / 2 if (full or e < n - 1) else 0.0)
+    a0 = angles[s] - (nxt[(s - 1) % n] / 2 if (closed or s > 0) else 0.0)
+    a1 = angles[e] + (nxt[e] / 2 if (closed or e < n - 1) else 0.0)
     while a1 < a0:
         a1 += 360.0
     a0, a1 = a0 % 360.0, a0 % 360.0 + (a1 - a0)
     if a0 > 180.0:  # the start in (-180, 180]: an arc across +x reads -30 to 30
         a0, a1 = a0 - 360.0, a1 - 360.0
     return float(a0), float(a1)
+
+
+def _closes(mesh, edge: str) -> bool:
+    """Whether the named edge closes on itself (each segment end shared by two segments: a whole hole)."""
+    seg = np.asarray(mesh.edge(edge))[:, :2]
+    counts = np.bincount(seg.ravel())
+    return bool(seg.size) and not np.any(counts == 1)
 
 
 class _Free(Exception):
@@ -308,7 +339,8 @@ class ContactSet:
                     col = nO + d["p_off"] + int(np.flatnonzero(d["free_comp"] == comp)[0])
                     rows.append(ri); cols.append(np.full(ns, col)); vals.append(-a)
             w = d["w"]
-            self.parts.append(dict(d=d, rows=ri, e=e, angles=np.degrees(np.arctan2(r[:, 1], r[:, 0])) % 360.0, w=w))
+            closed = _closes(mesh, pin.edge)
+            self.parts.append(dict(d=d, rows=ri, e=e, angles=_edge_angles(r, closed), closed=closed, w=w))
             g0.append(gi); d0.append(di); k.append(ki)
             row0 += ns
         m = row0
@@ -410,7 +442,7 @@ class ContactSet:
     def _sorted_rows(self):
         """Each pin's rows in angle order, and whether its edge closes on itself."""
         for p in self.parts:
-            yield p["rows"][np.argsort(p["angles"], kind="stable")], np.ptp(p["angles"]) > 270.0
+            yield p["rows"][np.argsort(p["angles"], kind="stable")], p["closed"]
 
     def _dilate(self, mark: np.ndarray, frac: int = 20) -> np.ndarray:
         """Rows marked, widened along each pin's edge by 1/``frac`` of its nodes on each side (in angle order)."""
@@ -633,7 +665,7 @@ class ContactSet:
                                       f"after the contact iteration (more than 1e-6 of its radius {d['radius']:.4g}); "
                                       "the stiffness matrix is too ill-conditioned for the contact solve: check the "
                                       "units and the supports")
-                a0, a1 = _arc(ang, bearing)
+                a0, a1 = _arc(ang, bearing, p["closed"])
                 i = int(np.argmax(pres))
                 f = (p["e"][order] * lam[:, None]).sum(axis=0)
                 pres_out = np.where(bearing, pres, 0.0)

@@ -1,0 +1,91 @@
+"""Contact arcs on edges that do not close, and the scale of the large-motion warning.
+
+Each test names the trial it came from and the source of its check. Sources: the geometry of the cut
+(a half hole on x >= 0 spans -90 to 90 degrees about its centre, a quarter hole in the first quadrant
+0 to 90; common practice); mirror symmetry (a half model with the line held along its normal gives the
+whole part's answer: common practice).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import planar
+from planar.core.contact import _arc, _edge_angles
+from planar.core.pins import Pin, PinLoad
+from planar.geometry import Circle, Plate, Refine, lug, mesh
+
+
+def _ring(deg):
+    return np.column_stack([np.cos(np.radians(deg)), np.sin(np.radians(deg))]) * 8.0
+
+
+def test_an_open_edge_runs_from_its_largest_gap_and_reads_round_off_off_an_axis_as_the_axis():
+    # trial t03 (half strap): the fitted centre lies 2.2e-15 off the axis, so the node at 0 deg read
+    # -2.5e-14 deg, sorted to 360 and the arc ran from the wrong end. Geometry of the cut (common practice).
+    deg = np.r_[0.0, np.linspace(10.0, 180.0, 18)]
+    r = _ring(deg)
+    r[0, 1] = -2.2e-15 * 8.0  # round-off below the axis
+    a = _edge_angles(r, closed=False)
+    assert a[0] == 0.0 and np.all(np.diff(a) > 0)
+    on = deg <= 60.0
+    assert _arc(a, on, closed=False) == pytest.approx((0.0, 65.0), abs=1e-9)
+
+
+@pytest.mark.parametrize("span", [(-90.0, 90.0), (0.0, 90.0), (90.0, 270.0), (180.0, 360.0)])
+def test_an_arc_on_a_half_or_quarter_hole_ends_at_the_edge_it_reaches(span):
+    # trials t15 (half lug on x >= 0: read 44.1 to 180, true 44 to 90) and t16 (quarter plate: read 71.6 to
+    # 225, true 71.6 to 90). Geometry of the cut (common practice): the arc cannot pass the end of the edge.
+    deg = np.linspace(span[0], span[1], 37)
+    rng = np.random.default_rng(3)
+    perm = rng.permutation(deg.size)  # the edge's nodes come in any order
+    a = np.sort(_edge_angles(_ring(deg[perm]), closed=False))
+    assert a == pytest.approx(deg - 360.0 * (deg[0] > 180.0), abs=1e-9)
+    on = a >= a[-1] - 40.0  # bearing from 40 deg before the end of the edge to its end
+    a0, a1 = _arc(a, on, closed=False)
+    step = (span[1] - span[0]) / 36
+    assert a1 - a0 == pytest.approx(40.0 + step / 2, abs=1e-9)  # the start in (-180, 180], so compare mod 360
+    assert (a1 - a[-1]) % 360.0 == pytest.approx(0.0, abs=1e-9) and -180.0 < a0 <= 180.0
+    assert _arc(a, np.ones(a.size, bool), closed=False) == pytest.approx((a[0], a[-1]), abs=1e-9)
+
+
+def test_a_whole_hole_keeps_its_arc_across_zero():
+    # the closed edge's arc as before: across +x it reads -30 to 30 (half-way to the open nodes)
+    deg = np.arange(0.0, 360.0, 10.0)
+    a = _edge_angles(_ring(deg), closed=True)
+    on = (deg <= 20.0) | (deg >= 340.0)
+    assert _arc(a, on, closed=True) == pytest.approx((-25.0, 25.0))
+    assert _arc(a, np.ones(a.size, bool), closed=True) == (0.0, 360.0)
+
+
+def _lug_pull(half: bool):
+    plate = lug(40.0, 16.0, 40.0)
+    if half:
+        plate = plate.half("x")
+    m = mesh(plate, size=4.0, element="T6", refine=[Refine("hole", size=0.5)])
+    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    if half:
+        model.add_support(planar.Symmetry([k for k in m.edge_sets if k.startswith("symmetry")][0]))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold="x" if half else None, name="pin"))
+    model.add_load(PinLoad("pin", fy=15e3 / (2 if half else 1)), case="pull")
+    return planar.solve(model)["pull"]
+
+
+def test_a_half_lug_bears_over_the_half_of_the_whole_lugs_arc():
+    # trial t15: the half lug on its axis (x >= 0) read 44.1 to 180.0 deg. Mirror symmetry (common practice):
+    # the whole lug bears symmetrically about 90 deg, so the half bears from the whole's start to 90 deg.
+    whole = _lug_pull(False).contact_states["pin"]
+    res = _lug_pull(True)
+    half = res.contact_states["pin"]
+    assert whole.arc_start_deg + whole.arc_end_deg == pytest.approx(180.0, abs=1.0)
+    assert half.arc_end_deg == pytest.approx(90.0, abs=1e-9)
+    spacing = 360.0 * 0.5 / (np.pi * 16.0)  # the hole's element size as an angle
+    assert half.arc_start_deg == pytest.approx(whole.arc_start_deg, abs=spacing)
+    ang = half.angles_deg
+    assert ang.min() == pytest.approx(-90.0, abs=1e-9) and ang.max() == pytest.approx(90.0, abs=1e-9)
+    assert np.all(np.diff(ang) > 0)
+    from planar.post._report_tables import contact_section  # the report's table repeats the arc
+
+    row = contact_section(res.contact_states).blocks[0].rows[0]
+    assert row[1] == f"{half.arc_start_deg:.1f} to 90.0 ({90.0 - half.arc_start_deg:.1f})"
