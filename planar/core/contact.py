@@ -122,9 +122,13 @@ class ContactState:
         The largest term the linearised gap leaves out, ``u_t^2 / (2 r)`` over the edge nodes (``u_t``
         the relative motion across the pin's normal, less the edge's rotation about the pin's point, which
         changes no gap), length unit; a warning ``contact-large-motion``
-        follows when it passes 1 % of the largest normal motion (or of the clearance).
+        follows when it passes 1 % of the largest of ``motion``, ``closure`` and the clearance.
     motion : float
         The largest normal motion of the edge relative to the pin, ``|e_i . (u_i - u_p)|`` (length).
+    closure : float
+        The largest normal motion the contact forces make (the closure of the gaps they hold back: the gap
+        less the gap the loads alone would leave), length. A fit without clearance that the pin holds
+        closed (a shrink fit) has no normal motion to read, but a closure of the size of its interference.
     """
 
     pin: str
@@ -147,6 +151,7 @@ class ContactState:
     units: dict = field(default_factory=dict, repr=False)
     neglected: float = 0.0
     motion: float = 0.0
+    closure: float = 0.0
 
     @property
     def in_contact(self) -> bool:
@@ -183,7 +188,7 @@ class ContactState:
                 "peak_pressure": self.peak_pressure, "peak_at": self.peak_at,
                 "max_penetration": self.max_penetration, "max_tension": self.max_tension,
                 "force": list(self.force), "clearance": self.clearance, "radius": self.radius,
-                "neglected": self.neglected, "motion": self.motion, "units": dict(self.units), "nodes": self.nodes.tolist(), "angles_deg": self.angles_deg.tolist(),
+                "neglected": self.neglected, "motion": self.motion, "closure": self.closure, "units": dict(self.units), "nodes": self.nodes.tolist(), "angles_deg": self.angles_deg.tolist(),
                 "gap": self.gap.tolist(), "pressure": self.pressure.tolist()}
 
     def table(self, *, contact_only: bool = True) -> str:
@@ -488,6 +493,7 @@ class ContactSet:
             self._W = None
             h = self.B @ fac.solve(rhs).reshape(self.n_new, -1)  # the relative motions with mu = 0
         gf = (self.g0 + self.d0)[:, None] + h
+        self.gf = gf  # the gaps the loads alone leave (the contact forces' closure is measured from them)
         fixed = np.flatnonzero(~self.live)
         for j, case in enumerate(cases):
             if fixed.size:
@@ -670,6 +676,8 @@ class ContactSet:
                 f = (p["e"][order] * lam[:, None]).sum(axis=0)
                 pres_out = np.where(bearing, pres, 0.0)
                 neglected = motion = 0.0
+                gf = getattr(self, "gf", None)
+                closure = float(np.abs(gap - gf[rr, j]).max(initial=0.0)) if bearing.any() and gf is not None else 0.0
                 if U is not None:
                     e = p["e"][order]
                     urel = U[:, j].reshape(-1, 2)[nodes] - self.pin_motion(d, j)[:2]
@@ -681,7 +689,7 @@ class ContactSet:
                     d["pin"].name, case, int(self.iterations[j]), True, a0, a1,
                     float(pres_out.max(initial=0.0)), tuple(map(float, mesh.nodes[nodes[i]])) if bearing.any() else None,
                     pen, max(0.0, -float(pres.min(initial=0.0))) + 0.0, (float(f[0]), float(f[1])),
-                    _clearance(d, mesh), float(d["radius"]), nodes, ang, gap, pres_out, lab, neglected, motion)
+                    _clearance(d, mesh), float(d["radius"]), nodes, ang, gap, pres_out, lab, neglected, motion, closure)
             out.append(row)
         return out
 
@@ -716,7 +724,10 @@ def advise(result) -> None:
     from .errors import warn
 
     for name, st in (getattr(result, "contact_states", None) or {}).items():
-        scale = max(st.motion, st.clearance)
+        # the scale of the normal motions the gap decides: the motion read, the clearance, and the closure the
+        # contact forces hold back (a shrink fit held closed reads no normal motion, ~1e-15, but closes by its
+        # interference): the round-off of a motion that is not there never warns
+        scale = max(st.motion, st.clearance, getattr(st, "closure", 0.0))
         if scale > 0 and st.neglected > 0.01 * scale:
             lu = st.units.get("length", "")
             warn(f"contact-large-motion: pin {name!r} (case {st.case!r}): the edge slides across the pin by up to "
