@@ -449,12 +449,19 @@ class ContactSet:
         for p in self.parts:
             yield p["rows"][np.argsort(p["angles"], kind="stable")], p["closed"]
 
-    def _dilate(self, mark: np.ndarray, frac: int = 20) -> np.ndarray:
-        """Rows marked, widened along each pin's edge by 1/``frac`` of its nodes on each side (in angle order)."""
+    def _dilate(self, mark: np.ndarray, frac: int = 20, like: np.ndarray | None = None) -> np.ndarray:
+        """Rows marked, widened along each pin's edge on each side (in edge order) by 1/``frac`` of its nodes, but
+        by no more than half the rows of ``like`` on that edge (``mark`` itself by default), at least 2.
+
+        On a hole the fraction rules; on a long edge a pin touches over a few of its nodes (a disc on a straight
+        edge: a dozen of thousands), and the widening follows the rows at hand (the set doubles as it grows),
+        so the flexibility is solved for a few more columns than the arc has nodes, not a tenth of the edge.
+        """
         out = mark.copy()
+        like = mark if like is None else like
         for rows, closed in self._sorted_rows():
             mk = mark[rows].astype(float)
-            k = max(2, rows.size // frac)
+            k = max(2, min(rows.size // frac, int(like[rows].sum()) // 2))
             kern = np.ones(2 * k + 1)
             if closed:
                 wide = np.convolve(np.r_[mk[-k:], mk, mk[:k]], kern, mode="valid") > 0
@@ -524,7 +531,7 @@ class ContactSet:
                 continue
             grow = self._touching(np.any(self.active, axis=1), cand)
             if grow.any():
-                cand = cand | self._dilate(grow)
+                cand = cand | self._dilate(grow, like=cand & ~self.anchor)
                 continue
             out = rhs + self.B.T @ mu
             if self._W is not None:  # B K_a^-1 (rhs + B^T mu) = h + W mu over every row
@@ -534,7 +541,7 @@ class ContactSet:
             viol = self.live & ~cand & np.any(g < -tol[:, None], axis=1)
             if not viol.any():
                 break
-            cand = cand | self._dilate(viol)
+            cand = cand | self._dilate(viol, like=cand & ~self.anchor)
         else:  # pragma: no cover - every round adds a node, so the loop ends well before
             raise SolverError("the contact candidate set kept growing; report this model")
         self.mu = mu
