@@ -34,6 +34,12 @@ Codes
     A stress peak at, or one node off, a sharp re-entrant corner of the boundary (more than 195 degrees
     of material between the tangents of its sides, no radius): singular, so set by the mesh. Raised by
     the peak queries and the hot spots through :func:`planar.core._advice_corner.sharp_corner_peak`.
+``"interface-edge"``
+    A stress peak within two element sizes of a point where an interface between regions of different
+    stiffness (plane moduli or thickness) meets a free edge, whose singularity (Bogy's exponent lambda from
+    the wedge angles and the Dundurs parameters) is not weak: 1 - lambda >= log10(1.05), so the peak there
+    rises by 5 % or more per tenfold refinement. Raised by the peak queries and the hot spots through
+    :func:`planar.core._advice_interface.interface_edge_peak`.
 
 :mod:`planar.post.checks` adds ``"factor-of-safety"`` (a factor below 1 in a margin of safety) and
 ``"negative-nominal"`` (a compressive nominal stress in a Kt) to the result it checks.

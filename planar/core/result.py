@@ -300,8 +300,10 @@ class Result(CaseResult):
             linear_peak(self, i, field, v, stacklevel=4)
         if largest or (not absolute and (info is None or info.signed)):
             from ._advice_corner import sharp_corner_peak
+            from ._advice_interface import interface_edge_peak
 
             sharp_corner_peak(self, i, field, v, stacklevel=4)  # a singular peak has no converged value
+            interface_edge_peak(self, i, field, v, stacklevel=4)  # nor one where an interface meets the edge
         return self._extreme(v, i, said, note)
 
     def _own_side(self, v: np.ndarray, field: str, recovery: str, centre, where) -> np.ndarray:

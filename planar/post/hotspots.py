@@ -345,6 +345,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     from scipy.sparse.csgraph import connected_components
 
     from ..core._advice_corner import sharp_corner_peak
+    from ..core._advice_interface import interface_edge_peak
     from ..core.zones import idealised_reason, near_idealised, node_sizes
     from .checks import _check_recovery, margin_of_safety
     from ..core.units import field_unit, length_unit
@@ -479,6 +480,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
                     warnings.simplefilter("ignore")
                 ms = margin_of_safety(value, allow, fs).margin
         sharp_corner_peak(result, i, field, raw, stacklevel=3)  # a singular spot: its value is the mesh's
+        interface_edge_peak(result, i, field, raw, stacklevel=3)  # and where an interface meets the edge
         reason = next_to = ""
         if near[r]:
             mask = _feature_mask(mesh, str(feats[k]), str(kinds[k]), i)
