@@ -40,6 +40,14 @@ Codes
     the wedge angles and the Dundurs parameters) is not weak: 1 - lambda >= log10(1.05), so the peak there
     rises by 5 % or more per tenfold refinement. Raised by the peak queries and the hot spots through
     :func:`planar.core._advice_interface.interface_edge_peak`.
+``"coarse-peak"``
+    A stress peak read by quadratic (or higher) elements that the mesh does not resolve where it sits:
+    the cells round the peak node disagree with the recovered field by 12 % of the peak or more (a
+    local recovery error indicator; on a pin-loaded hole with a dozen element sides, or one element
+    across a thin ligament, the peak reads 25-40 % low). Not judged at a sharp corner, an interface
+    edge, next to an idealised support or load, nor for linear cells (``"linear-peak"``). Raised by
+    the peak queries, the hot spots and the lug check through
+    :func:`planar.core._advice_peak.coarse_peak`; the hot-spot and lug tables show it.
 
 :mod:`planar.post.checks` adds ``"factor-of-safety"`` (a factor below 1 in a margin of safety) and
 ``"negative-nominal"`` (a compressive nominal stress in a Kt) to the result it checks.

@@ -304,6 +304,10 @@ class Result(CaseResult):
 
             sharp_corner_peak(self, i, field, v, stacklevel=4)  # a singular peak has no converged value
             interface_edge_peak(self, i, field, v, stacklevel=4)  # nor one where an interface meets the edge
+            if not note:  # a peak made by an idealisation is not refined away: not judged for resolution
+                from ._advice_peak import coarse_peak
+
+                coarse_peak(self, i, field, v, centre=centre, stacklevel=4)  # is the mesh fine enough there?
         return self._extreme(v, i, said, note)
 
     def _own_side(self, v: np.ndarray, field: str, recovery: str, centre, where) -> np.ndarray:

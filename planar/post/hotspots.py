@@ -124,12 +124,15 @@ class HotSpot:
     reason: str = ""
     next_to: str = ""
     also: tuple = ()
+    #: set when the mesh does not resolve this peak (the ``"coarse-peak"`` warning, short)
+    mesh_note: str = ""
 
     def as_dict(self) -> dict[str, Any]:
         return {"rank": self.rank, "feature": self.feature, "kind": self.kind,
                 "x": self.location[0], "y": self.location[1], "node": self.node, "value": self.value,
                 "kt": self.Kt, "margin_of_safety": self.margin, "flagged": self.flagged,
-                "next_to": self.next_to, "reason": self.reason, "also": [list(p) for p in self.also]}
+                "next_to": self.next_to, "reason": self.reason, "also": [list(p) for p in self.also],
+                "mesh_note": self.mesh_note}
 
 
 def _g(v: float | None, spec: str = ".4g") -> str:
@@ -208,6 +211,8 @@ class HotSpots:
                 remark = "; ".join(filter(None, [remark, "also at " + ", ".join(fmt_point(p) for p in s.also)]))
             if not s.flagged and s is self.governing:
                 remark = "; ".join(filter(None, ["governing", remark]))
+            if s.mesh_note:
+                remark = "; ".join(filter(None, [remark, "COARSE MESH: refine (coarse-peak)"]))
             row.append(remark)
             rows.append(row)
         title = f"hot spots of {self.field} ({self.recovery} recovery), load case {self.case!r}" + \
@@ -345,6 +350,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     from scipy.sparse.csgraph import connected_components
 
     from ..core._advice_corner import sharp_corner_peak
+    from ..core._advice_peak import coarse_peak
     from ..core._advice_interface import interface_edge_peak
     from ..core.zones import idealised_reason, near_idealised, node_sizes
     from .checks import _check_recovery, margin_of_safety
@@ -500,8 +506,10 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
                           "where=Away() or the feature's edge)")
             next_to = why[r] if reason else ""
         also = tuple(_at(mesh, j) for j in twins.get(k, []))
+        # a spot made by an idealisation is not refined away; the others: is the mesh fine enough there?
+        mesh_note = "" if reason else coarse_peak(result, i, field, raw, centre=centre, stacklevel=3)
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
-                             reason, next_to, also))
+                             reason, next_to, also, mesh_note))
     return HotSpots(spots, field, recovery, result.case, unit, length, nom, allow, fs, said, float(delta), rule,
                     result, None if centre is None else tuple(float(c) for c in centre))
 
@@ -640,6 +648,9 @@ def hot_spot_section(hs: HotSpots, *, figure: bytes | str | os.PathLike | None =
     flagged = [s for s in hs.spots if s.flagged]
     if flagged:
         blocks.append(Notice([f"Spot {s.rank} ({s.feature}) sits {s.reason}." for s in flagged], kind="caution"))
+    coarse = [s for s in hs.spots if s.mesh_note]
+    if coarse:
+        blocks.append(Notice([f"Spot {s.rank} ({s.feature}): {s.mesh_note}." for s in coarse], kind="caution"))
     if figure is not None:
         blocks.append(Figure(figure, "Hot spots: numbered markers; grey squares are flagged spots."))
     return Section("Hot spots", blocks)

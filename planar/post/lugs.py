@@ -227,6 +227,9 @@ class LugCheck:
     direction_note: str = ""
     #: set when the load given is not the load the result passes to the hole (see :func:`lug_check`)
     load_note: str = ""
+    #: set when the mesh does not resolve the peak hoop stress (the ``"coarse-peak"`` or ``"linear-peak"``
+    #: warning, short)
+    mesh_note: str = ""
 
     @property
     def stress_unit(self) -> str:
@@ -272,6 +275,8 @@ class LugCheck:
             lines.append(f"  CAUTION: {self.direction_note}.")
         if self.concentration.note:
             lines.append(f"  CAUTION: the peak sits {self.concentration.note}.")
+        if self.mesh_note:
+            lines.append(f"  CAUTION: {self.mesh_note}.")
         return "\n".join(lines)
 
     __str__ = table
@@ -290,7 +295,7 @@ class LugCheck:
             "peak_hoop": self.peak_hoop, "peak_angle": self.peak_angle, "peak_point": list(self.peak_point),
             "kt_net": self.kt_net, "kt_bearing": self.kt_bearing, "margins": dict(self.margins),
             "factor_of_safety": self.factor_of_safety, "note": self.concentration.note,
-            "direction_note": self.direction_note, "load_note": self.load_note,
+            "direction_note": self.direction_note, "load_note": self.load_note, "mesh_note": self.mesh_note,
         })
 
 
@@ -358,6 +363,7 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     es = edge_stresses(result, edge, recovery=recovery)
     pk = es.peak("sigma_t", absolute=False)
     conc = kt(result, net, field="sigma_1", recovery=recovery, where=edge)
+    mesh_note = _resolution(result, pk, es, recovery) if not conc.note else ""
     toward_base = _pushes_toward_base(result, edge)
     if toward_base:  # no net-section tension, no shear-out: their margins would mislead
         tension_allowable = shear_allowable = None
@@ -379,7 +385,34 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     return LugCheck(P, W, D, t, None if edge_distance is None else float(edge_distance), net, brg, so,
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
-                    direction_note="; ".join(notes), load_note=_load_mismatch(result, edge, P))
+                    direction_note="; ".join(notes), load_note=_load_mismatch(result, edge, P),
+                    mesh_note=mesh_note)
+
+
+def _resolution(result, pk, es: EdgeStresses, recovery: str) -> str:
+    """The short note of the ``"coarse-peak"`` check on the peak hoop stress (``""`` when resolved).
+
+    On a round hole the hoop stress about its centre is the edge's tangential stress; on another
+    edge, at a free edge's peak, the tangential stress is the principal stress of its sign.
+    """
+    from ..core._advice_linear import has_linear, linear_peak, raiser_at
+    from ..core._advice_peak import coarse_peak
+
+    if es.centre is not None:
+        name, centre = "sigma_theta", es.centre
+    else:
+        name, centre = ("sigma_1" if pk.value >= 0.0 else "sigma_2"), None
+    values = result.field(name, recovery=recovery, centre=centre)
+    note = coarse_peak(result, pk.node, name, values, centre=centre, stacklevel=3)
+    if not note and has_linear(result):  # linear cells have their own check: its note in the table too
+        why = raiser_at(result, pk.node, values)
+        if why is not None:
+            linear_peak(result, pk.node, name, values, stacklevel=3)
+            kinds = " and ".join(why["elements"])
+            note = (f"linear-peak: linear elements ({kinds}) read the peak at the hole, where the field falls by "
+                    f"{100.0 * why['fall']:.0f} % across one element: typically 5-30 % low; mesh with quadratic "
+                    "elements (T6 or Q8) or much finer there")
+    return note
 
 
 def _hole_load(result, edge: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
