@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import math
 import time
+import warnings
 from dataclasses import dataclass, field
 from typing import Callable
 
@@ -345,7 +346,9 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
         c = case if case is not None else next(iter(model.cases), None)
         r = solve(model, [c] if c is not None else None)[c]
         est = estimate_error(r, recovery=recovery)
-        peak, loc, _ = r.max(field, recovery=recovery)
+        with warnings.catch_warnings(record=True) as heard:  # a coarse cycle's peak is meant to be coarse:
+            warnings.simplefilter("always")  # only the last cycle's doubts about its peak are told
+            peak, loc, _ = r.max(field, recovery=recovery)
         cyc = Cycle(k, r.n_dofs, est.n_elements, est.relative, peak, loc, time.perf_counter() - t0, m, r, est)
         if cycles and not keep_results:
             cycles[-1].result = cycles[-1].estimate = None
@@ -359,6 +362,8 @@ def adapt(build: Callable, remesh: Callable, *, target: float = 0.01, max_dofs: 
             break
         sf = size_field(r, est, target, refine_limit=refine_limit, coarsen_limit=coarsen_limit, grading=grading)
         m = remesh(sf)
+    for w in heard if cycles else []:
+        warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
     run = AdaptiveRun(cycles, converged, reason, float(target), int(max_dofs), field, recovery)
     if say:
         say(f"stopped: {reason}")
