@@ -208,3 +208,34 @@ def test_a_small_extreme_is_judged_against_half_the_largest():
     assert got["basis"] == "half the field's largest magnitude"
     top = peak_resolution(r, int(np.argmax(v)), "sigma_xx", v)
     assert top["basis"] == "the peak"
+
+
+def test_the_edge_stress_peak_carries_the_same_judgement():
+    # the hoop stress read along the hole's edge (planar.post.edge_stresses) on Kirsch's quarter plate: its
+    # peak is 3 S (Kirsch 1898; Timoshenko and Goodier 1970, art. 35); a coarse T6 mesh reads it some 6 % low
+    # and says so in the peak's note and as one coarse-peak warning, whichever of the two peaks is read first
+    from planar.post import edge_stresses
+
+    coarse, fine = _kirsch(0.6), _kirsch(0.1)
+    with warnings.catch_warnings(record=True) as told:
+        warnings.simplefilter("always")
+        pc = edge_stresses(coarse, "hole").peak("sigma_t", absolute=False)
+    assert [w.message.code for w in told] == ["coarse-peak"] and told[0].filename == __file__  # the user's line
+    assert pc.value < 0.96 * KIRSCH_PEAK and "coarse-peak" in pc.note and _codes(coarse) == ["coarse-peak"]
+    other = _kirsch(0.6)
+    with warnings.catch_warnings(record=True) as told:
+        warnings.simplefilter("always")
+        first = other.max("sigma_theta", where="hole", centre=(0.0, 0.0))
+        pc2 = edge_stresses(other, "hole").peak("sigma_t", absolute=False)
+    assert pc2.node == first.node and pc2.note == pc.note
+    assert [w.message.code for w in told] == ["coarse-peak"]   # Result.max told it: the edge peak does not repeat it
+    es = edge_stresses(fine, "hole")
+    pf = _quiet(es.peak, "sigma_t", absolute=False)
+    assert abs(pf.value - KIRSCH_PEAK) < 0.01 * KIRSCH_PEAK and pf.note == "" and _codes(fine) == []
+    lin = _kirsch(0.6, "T3")                              # 26 % low with T3 (Kirsch 1898; _advice_linear's table)
+    es = edge_stresses(lin, "hole")
+    pl = _quiet(es.peak, "sigma_t", absolute=False)
+    assert pl.value < 0.85 * KIRSCH_PEAK and "linear-peak" in pl.note
+    assert _codes(lin, "linear-peak") == ["linear-peak"] and [w.code for w in es.warnings] == ["linear-peak"]
+    value, s, point, theta, piece, node = pl               # still unpacks as six numbers
+    assert node == pl.node

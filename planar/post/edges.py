@@ -56,8 +56,17 @@ CIRCLE_TOLERANCE = 1e-4
 CORNER_TURN = 40.0
 
 
-class EdgePeak(NamedTuple):
-    """The largest value of a component along an edge.
+class _EdgePeakTuple(NamedTuple):
+    value: float
+    s: float
+    point: tuple[float, float]
+    theta: float
+    piece: int
+    node: int
+
+
+class EdgePeak(_EdgePeakTuple):
+    """The largest value of a component along an edge (unpacks as its six numbers, as before).
 
     Attributes
     ----------
@@ -70,19 +79,25 @@ class EdgePeak(NamedTuple):
     piece : int
     node : int
         Mesh node there (-1 between nodes).
+    note : str
+        Why the mesh does not resolve the peak, in short (the ``"coarse-peak"`` or ``"linear-peak"``
+        judgement, the same as :meth:`planar.Result.max` makes); ``""`` when it does or was not judged.
     """
 
-    value: float
-    s: float
-    point: tuple[float, float]
-    theta: float
-    piece: int
-    node: int
+    def __new__(cls, value: float, s: float, point: tuple[float, float], theta: float, piece: int, node: int,
+                note: str = ""):
+        self = super().__new__(cls, value, s, point, theta, piece, node)
+        self.note = note
+        return self
+
+    def __getnewargs__(self):
+        return (*tuple(self), self.note)
 
     def __repr__(self) -> str:  # no NaN in printed text: an edge without a centre has no angle
         th = "no centre" if math.isnan(self.theta) else repr(self.theta)
+        note = f", note={self.note!r}" if self.note else ""
         return (f"EdgePeak(value={self.value!r}, s={self.s!r}, point={self.point!r}, theta={th}, "
-                f"piece={self.piece!r}, node={self.node!r})")
+                f"piece={self.piece!r}, node={self.node!r}{note})")
 
 
 @dataclass
@@ -116,6 +131,10 @@ class EdgeStresses:
         half model's hole from -90 to 90).
     circle_residual : float or None
         Largest distance of a point from the fitted circle divided by its radius.
+    warnings : list of PlanarWarning
+        What was found doubtful about these stresses (e.g. a peak the mesh does not resolve).
+    result : Result or None
+        The load case read; :meth:`peak` judges its peak on it as :meth:`planar.Result.max` does.
     """
 
     edge: str
@@ -138,6 +157,8 @@ class EdgeStresses:
     theta: np.ndarray | None = None
     circle_residual: float | None = None
     warnings: list = field(default_factory=list)
+    #: the load case read (to judge a peak the way :meth:`planar.Result.max` does); None: not judged
+    result: Any = field(default=None, repr=False, compare=False)
 
     # ------------------------------------------------------------------ units
     @property
@@ -161,12 +182,96 @@ class EdgeStresses:
 
     # ------------------------------------------------------------------ queries
     def peak(self, component: str = "sigma_t", *, absolute: bool = True) -> EdgePeak:
-        """The largest value of a component along the edge (by magnitude unless ``absolute=False``)."""
+        """The largest value of a component along the edge (by magnitude unless ``absolute=False``).
+
+        Parameters
+        ----------
+        component : {"sigma_t", "sigma_n", "tau_nt", "von_mises"}
+        absolute : bool, default True
+            The largest magnitude (the value keeps its sign) instead of the largest signed value.
+
+        Returns
+        -------
+        EdgePeak
+            Its ``note`` says, in short, when the mesh does not resolve the peak.
+
+        Warns
+        -----
+        DiscretisationWarning
+            ``"coarse-peak"`` or ``"linear-peak"``, as :meth:`planar.Result.max` would on the same
+            node (kept in ``result.warnings`` and this object's ``warnings``; not told again when the
+            load case already holds that warning for that node).
+
+        Notes
+        -----
+        The peak is judged in the nodal field that is the component at the edge: on a circular edge
+        the polar stress about its centre (``sigma_theta`` for ``sigma_t``, ``sigma_r`` for
+        ``sigma_n``, ``tau_r_theta`` for ``tau_nt``); on another edge the tangential stress by the
+        principal stress of its sign (on a free edge it is one, common practice), and von Mises as is.
+        A normal or shear stress on an edge that is not an arc is not judged.
+        """
+        pk = self._find(component, absolute)
+        return EdgePeak(*pk, note=self._judge(component, pk, stacklevel=2))
+
+    def _find(self, component: str, absolute: bool) -> EdgePeak:
         v = self[component]
         i = int(np.argmax(np.abs(v) if absolute else v))
         th = float(self.theta[i]) if self.theta is not None else math.nan
         return EdgePeak(float(v[i]), float(self.s[i]), (float(self.points[i, 0]), float(self.points[i, 1])), th,
                         int(self.piece[i]), int(self.node[i]))
+
+    def _judge(self, component: str, pk: EdgePeak, *, stacklevel: int = 2) -> str:
+        """The short note of the peak-resolution checks of :meth:`planar.Result.max` on ``pk`` (warning once).
+
+        ``stacklevel`` is counted from the caller of this method, as for :func:`warnings.warn`.
+        """
+        import warnings
+
+        from ..core._advice_linear import has_linear, linear_peak, raiser_at
+        from ..core._advice_peak import coarse_peak
+
+        result = self.result
+        if result is None or not math.isfinite(pk.value) or pk.value == 0.0:
+            return ""
+        if self.centre is not None:
+            name = {"sigma_t": "sigma_theta", "sigma_n": "sigma_r", "tau_nt": "tau_r_theta",
+                    "von_mises": "von_mises"}[component]
+        elif component in ("sigma_t", "von_mises"):
+            name = component if component == "von_mises" else ("sigma_1" if pk.value >= 0.0 else "sigma_2")
+        else:
+            return ""
+        centre = self.centre if name in ("sigma_theta", "sigma_r", "tau_r_theta") else None
+        node = pk.node
+        if node < 0:  # a point between nodes: judged at the nearest node of the edge
+            on = np.flatnonzero(self.node >= 0)
+            node = int(self.node[on[np.argmin(np.hypot(*(self.points[on] - pk.point).T))]])
+        values = result.field(name, recovery=self.recovery, centre=centre)
+        before = list(result.warnings)
+        with warnings.catch_warnings(record=True) as caught:  # told below, once
+            warnings.simplefilter("always")
+            note = coarse_peak(result, node, name, values, centre=centre)
+            if not note and has_linear(result):  # linear cells have their own check (coarse-peak leaves them)
+                why = raiser_at(result, node, values)
+                if why is not None:
+                    linear_peak(result, node, name, values)
+                    kinds = " and ".join(why["elements"])
+                    note = (f"linear-peak: linear elements ({kinds}) read the peak at {fmt_point(result.mesh.nodes[node])}, "
+                            f"where the field falls by {100.0 * why['fall']:.0f} % across one element: typically "
+                            "5-30 % low; mesh with quadratic elements (T6 or Q8) or much finer there")
+        for rec in caught:
+            w = rec.message
+            code = getattr(w, "code", None)
+            if code not in ("coarse-peak", "linear-peak"):
+                warnings.warn_explicit(w, rec.category, rec.filename, rec.lineno)
+                continue
+            if not any(o.message == w.message for o in self.warnings):
+                self.warnings.append(w)
+            # the load case already holds this judgement of this node (the user read Result.max there)
+            told = (f"(node {node})", f"(node {node},")
+            if any(o.code == code and any(t in o.message for t in told) for o in before):
+                continue
+            warnings.warn(w, stacklevel=stacklevel + 1)
+        return note
 
     def as_dict(self) -> dict[str, Any]:
         """The edge stresses as plain numbers and lists (for JSON), units stated."""
@@ -182,7 +287,7 @@ class EdgeStresses:
             for c in EDGE_FIELDS:
                 row[c] = self[c][sel].tolist()
             pieces.append(row)
-        pk = self.peak("sigma_t")
+        pk = self._find("sigma_t", True)
         return json_safe({
             "edge": self.edge, "case": self.case, "recovery": self.recovery,
             "units": {"length": self.length_unit, "stress": self.stress_unit, "angle": "deg", "model": self.units},
@@ -510,7 +615,7 @@ def edge_stresses(result, edge: str, *, centre=None, recovery: str = "spr",
     es = EdgeStresses(str(edge), result.case, recovery, str(getattr(result, "units", "") or ""), s, pts, piece,
                       np.concatenate(parts["node"]), t, n, sig_t, sig_n, tau, vm,
                       tuple(cl for _, _, cl in chains),
-                      None if c is None else (float(c[0]), float(c[1])), radius, theta, residual)
+                      None if c is None else (float(c[0]), float(c[1])), radius, theta, residual, result=result)
     if given is not None and len(chains) > 1:
         # a centre given for one hole of a row of holes that share a name: the other holes' angles are
         # about a point that is not theirs

@@ -361,7 +361,7 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     brg = bearing_stress(P, D, t)
     so = None if edge_distance is None else shear_out_stress(P, edge_distance, D, t)
     es = edge_stresses(result, edge, recovery=recovery)
-    pk = es.peak("sigma_t", absolute=False)
+    pk = es._find("sigma_t", absolute=False)  # judged below, unless the peak is an idealisation's
     conc = kt(result, net, field="sigma_1", recovery=recovery, where=edge)
     mesh_note = _resolution(result, pk, es, recovery) if not conc.note else ""
     toward_base = _pushes_toward_base(result, edge)
@@ -390,29 +390,9 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
 
 
 def _resolution(result, pk, es: EdgeStresses, recovery: str) -> str:
-    """The short note of the ``"coarse-peak"`` check on the peak hoop stress (``""`` when resolved).
-
-    On a round hole the hoop stress about its centre is the edge's tangential stress; on another
-    edge, at a free edge's peak, the tangential stress is the principal stress of its sign.
-    """
-    from ..core._advice_linear import has_linear, linear_peak, raiser_at
-    from ..core._advice_peak import coarse_peak
-
-    if es.centre is not None:
-        name, centre = "sigma_theta", es.centre
-    else:
-        name, centre = ("sigma_1" if pk.value >= 0.0 else "sigma_2"), None
-    values = result.field(name, recovery=recovery, centre=centre)
-    note = coarse_peak(result, pk.node, name, values, centre=centre, stacklevel=3)
-    if not note and has_linear(result):  # linear cells have their own check: its note in the table too
-        why = raiser_at(result, pk.node, values)
-        if why is not None:
-            linear_peak(result, pk.node, name, values, stacklevel=3)
-            kinds = " and ".join(why["elements"])
-            note = (f"linear-peak: linear elements ({kinds}) read the peak at the hole, where the field falls by "
-                    f"{100.0 * why['fall']:.0f} % across one element: typically 5-30 % low; mesh with quadratic "
-                    "elements (T6 or Q8) or much finer there")
-    return note
+    """The short note of the ``"coarse-peak"`` or ``"linear-peak"`` check on the peak hoop stress (``""`` when
+    resolved): the edge peak's own judgement (:meth:`EdgeStresses.peak`)."""
+    return es._judge("sigma_t", pk, stacklevel=3)
 
 
 def _hole_load(result, edge: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
