@@ -42,7 +42,7 @@ from .core.supports import Fixed, Prescribed, Roller, Symmetry
 from .core.pins import Pin, PinLoad
 from .core.joints import Fasteners, Joint, JointResult
 from .core.units import UnitSystem, unit_system
-from .core.zones import Away, InBox, InCircle, InRegion, Near, OnEdge, Zone
+from .core.zones import Away, InBox, InCircle, InRegion, Near, OnEdge, Outside, Zone
 from .geometry.structured import rectangle_mesh
 from .post.vtk import write_vtu
 from .paths import output_dir  # the output folder of a script run by ``planar run SCRIPT --out DIR``
@@ -52,7 +52,7 @@ __all__ = [
     "Isotropic", "Orthotropic", "UnitSystem", "unit_system",
     "Fixed", "Roller", "Prescribed", "Symmetry", "Pin", "PinLoad",
     "Joint", "Fasteners", "JointResult",
-    "Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away",
+    "Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Outside", "Away",
     "Traction", "Pressure", "PointForce", "BodyForce", "Gravity", "TemperatureChange", "LoadKind",
     "PlanarError", "InputError", "MeshError", "ElementError", "MaterialError", "NameNotFoundError",
     "SupportError", "SolverError", "PluginError", "GeometryError", "ResourceError", "OutputError",

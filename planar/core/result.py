@@ -349,7 +349,7 @@ class Result(CaseResult):
         where : str or Zone, optional
             Read the peak only here: the name of an edge or region, or a zone of
             :mod:`planar.core.zones` (``OnEdge``, ``InRegion``, ``InCircle``, ``InBox``, ``Near``,
-            ``Away``, combined with ``&``). Default: everywhere.
+            ``Outside``, ``Away``, combined with ``&``). Default: everywhere.
         centre : (float, float), optional
             The centre of the polar fields (``sigma_r``, ``sigma_theta``, ``tau_r_theta``).
 

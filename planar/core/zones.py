@@ -10,6 +10,8 @@ name:
 - ``InRegion("web")``: the nodes of a named region's cells;
 - ``InCircle((x, y), r)`` and ``InBox((x0, y0), (x1, y1))``: a window;
 - ``Near("bolt_centre", r)``: the neighbourhood of a named point (or coordinates);
+- ``Outside((x, y), r)``: everywhere except within ``r`` of a point (a named point or coordinates): the
+  peak read clear of a singular point, e.g. where an interface between regions meets a free edge;
 - ``Away(d)``: everywhere except within ``d`` of the idealised supports and concentrated loads
   (``Away()``: except within the size of each, after St Venant's principle);
 - ``a & b``: both.
@@ -49,7 +51,7 @@ from .errors import InputError, NameNotFoundError, choices, fmt_point, unknown_n
 from .kinematics import _corner_count
 from .values import finite_vector
 
-__all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Away", "as_zone", "idealisations",
+__all__ = ["Zone", "OnEdge", "InRegion", "InCircle", "InBox", "Near", "Outside", "Away", "as_zone", "idealisations",
            "idealised_reason", "near_idealised", "node_sizes", "plain_name", "NEAR_ELEMENTS", "DOMINANCE"]
 
 #: a node within this many local element sizes of an idealised support's or concentrated load's nodes
@@ -245,13 +247,64 @@ class Near(Zone):
         return f"Near({p}, {self.radius:g})"
 
 
+class Outside(Near):
+    """Everywhere except within ``radius`` of a point: the complement of :class:`Near`.
+
+    Reads a peak clear of one point that makes a peak of its own, not of the part: where an interface
+    between regions meets a free edge, a sharp re-entrant corner (their stress is singular, it grows
+    without limit as the mesh is refined), or any point a check must leave out. Combine with ``&`` to
+    leave out several points, or to read only one edge or region clear of the point.
+
+    Parameters
+    ----------
+    point : str or (float, float)
+        A named point of the mesh (its node, or the centroid of its nodes) or coordinates (x, y).
+    radius : float
+        Leave out the nodes within this distance of the point (common practice: a few element sizes,
+        St Venant's principle; the point's own field fades within a few of them).
+
+    Raises
+    ------
+    InputError
+        Coordinates that are not two finite numbers, a radius that is not a positive length.
+    NameNotFoundError
+        On use, a point name the mesh does not have.
+
+    Examples
+    --------
+    >>> import planar
+    >>> m = planar.rectangle_mesh(10.0, 2.0, 10, 2, "Q4")
+    >>> zone = Outside((0.0, 0.0), 1.5)
+    >>> zone
+    Outside((0, 0), 1.5)
+    >>> zone.describe()
+    'farther than 1.5 from (0, 0)'
+    >>> int(zone.mask(m).sum()), m.n_nodes
+    (29, 33)
+    """
+
+    def __init__(self, point: str | tuple[float, float], radius: float):
+        super().__init__(point, radius)
+
+    def mask(self, result) -> np.ndarray:
+        return ~super().mask(result)
+
+    def describe(self) -> str:
+        p = repr(self.point) if isinstance(self.point, str) else fmt_point(self.point)
+        return f"farther than {self.radius:g} from {p}"
+
+    def __repr__(self) -> str:
+        return "Outside" + super().__repr__()[len("Near"):]
+
+
 class Away(Zone):
     """Everywhere except near the idealised supports and concentrated loads.
 
     Parameters
     ----------
     distance : float, optional
-        Leave out the nodes within this distance of a support's or concentrated load's nodes. Default:
+        Leave out the nodes within this distance of a support's or concentrated load's nodes (to leave
+        out any other point, e.g. a singular one, use :class:`Outside`). Default:
         each idealisation's own size, the larger side of the bounding box of its nodes (a clamped edge
         disturbs the stress over about its own length, St Venant's principle; common practice), and
         for a single node (a point support or point force, whose singular field has no length of its
@@ -311,9 +364,9 @@ def as_zone(where, mesh=None) -> Zone | None:
         names = mesh.names()
         raise NameNotFoundError(f"no edge or region named {where!r}; edges: {choices(names['edges'])}; regions: "
                                 f"{choices(names['regions'])} (or give a zone: OnEdge, InRegion, InCircle, InBox, "
-                                "Near, Away)")
+                                "Near, Outside, Away)")
     raise InputError(f"where= takes the name of an edge or region, or a zone (OnEdge, InRegion, InCircle, InBox, "
-                     f"Near, Away), got {type(where).__name__}")
+                     f"Near, Outside, Away), got {type(where).__name__}")
 
 
 # ---------------------------------------------------------------------------- idealisations
