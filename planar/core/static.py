@@ -3,6 +3,7 @@ every load case.
 """
 from __future__ import annotations
 
+import inspect
 from concurrent import futures
 from dataclasses import dataclass
 
@@ -11,7 +12,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .assembly import Assembly, Rotation
-from .errors import ResourceError, SolverError, SupportError, fmt_point, unknown_name
+from .errors import InputError, ResourceError, SolverError, SupportError, fmt_point, unknown_name
 from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigid_body_check, zero_energy_check  # noqa: F401
 from .result import Result
 from . import diagnose, solvers
@@ -21,7 +22,15 @@ from .supports import gather, note_snapped
 from ._tying import Tying
 from .timing import Timer
 
-__all__ = ["solve", "Results", "Constrained", "constrain"]
+__all__ = ["solve", "Results", "CaseNotChosenError", "Constrained", "constrain"]
+
+
+class CaseNotChosenError(InputError, AttributeError):
+    """An attribute of one load case's result asked of the results of every case (``planar.solve(m).table()``).
+
+    An :class:`~planar.core.errors.InputError`, and an ``AttributeError`` too, so ``hasattr`` and
+    ``getattr(results, name, default)`` behave as on any object.
+    """
 
 
 class Results(dict):
@@ -29,10 +38,46 @@ class Results(dict):
     :class:`~planar.core.errors.NameNotFoundError` listing the load cases (not a bare ``KeyError``).
 
     It stays a ``dict`` (``isinstance``, iteration, ``json``); ``.get`` still returns its default.
+    Asking it for what one case's result has (``.table()``, ``.max(...)``, ``.fasteners``, for a
+    model or a joint alike) raises a :class:`CaseNotChosenError` that shows how to pick the case,
+    ``results['pull'].table()``.
+
+    Examples
+    --------
+    >>> import planar
+    >>> m = planar.rectangle_mesh(10.0, 2.0, 4, 1, "Q8")
+    >>> model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.3), thickness=1.0, units="N, mm, MPa")
+    >>> _ = model.add_support(planar.Fixed("left"))
+    >>> _ = model.add_load(planar.Traction("right", tx=1.0), case="pull")
+    >>> results = planar.solve(model)
+    >>> isinstance(results, dict), list(results)
+    (True, ['pull'])
+    >>> results.max("von_mises")
+    Traceback (most recent call last):
+    ...
+    planar.core.static.CaseNotChosenError: planar.solve returns a dict of results by load case ('pull'), not one result, so it has no .max; pick the case first: results['pull'].max(...)
     """
 
     def __missing__(self, key):
         raise unknown_name("load case", key, list(self))
+
+    def __getattr__(self, name: str):
+        if name.startswith("_"):  # Python's own protocols (copy, pickle, numpy, IPython) ask and expect a plain no
+            raise AttributeError(f"{type(self).__name__!r} object has no attribute {name!r}")
+        cases = list(self)
+        first = repr(cases[0]) if cases else "'case'"
+        said = ", ".join(repr(c) for c in cases[:6]) + (", ..." if len(cases) > 6 else "") if cases else "no case"
+        one = next(iter(self.values()), None)
+        kind = type(one) if one is not None else Result
+        missing = object()
+        found = inspect.getattr_static(one if one is not None else kind, name, missing)  # nothing computed
+        if found is not missing:
+            use = f"{name}(...)" if callable(found) or isinstance(found, (staticmethod, classmethod)) else name
+            raise CaseNotChosenError(f"planar.solve returns a dict of results by load case ({said}), not one result, "
+                                     f"so it has no .{name}; pick the case first: results[{first}].{use}")
+        raise CaseNotChosenError(f"{name!r} is not an attribute of the results of planar.solve (a dict by load case: "
+                                 f"{said}) nor of one case's result; pick a case, results[{first}], and see "
+                                 f"help({kind.__name__}) for what it has")
 
 
 @dataclass
