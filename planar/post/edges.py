@@ -221,57 +221,11 @@ class EdgeStresses:
                         int(self.piece[i]), int(self.node[i]))
 
     def _judge(self, component: str, pk: EdgePeak, *, stacklevel: int = 2) -> str:
-        """The short note of the peak-resolution checks of :meth:`planar.Result.max` on ``pk`` (warning once).
+        """The short note of the peak-resolution checks of :meth:`planar.Result.max` on ``pk`` (warning once);
+        ``stacklevel`` counted from the caller of this method (:func:`planar.post._edge_peak.judge`)."""
+        from ._edge_peak import judge
 
-        ``stacklevel`` is counted from the caller of this method, as for :func:`warnings.warn`.
-        """
-        import warnings
-
-        from ..core._advice_linear import has_linear, linear_peak, raiser_at
-        from ..core._advice_peak import coarse_peak
-
-        result = self.result
-        if result is None or not math.isfinite(pk.value) or pk.value == 0.0:
-            return ""
-        if self.centre is not None:
-            name = {"sigma_t": "sigma_theta", "sigma_n": "sigma_r", "tau_nt": "tau_r_theta",
-                    "von_mises": "von_mises"}[component]
-        elif component in ("sigma_t", "von_mises"):
-            name = component if component == "von_mises" else ("sigma_1" if pk.value >= 0.0 else "sigma_2")
-        else:
-            return ""
-        centre = self.centre if name in ("sigma_theta", "sigma_r", "tau_r_theta") else None
-        node = pk.node
-        if node < 0:  # a point between nodes: judged at the nearest node of the edge
-            on = np.flatnonzero(self.node >= 0)
-            node = int(self.node[on[np.argmin(np.hypot(*(self.points[on] - pk.point).T))]])
-        values = result.field(name, recovery=self.recovery, centre=centre)
-        before = list(result.warnings)
-        with warnings.catch_warnings(record=True) as caught:  # told below, once
-            warnings.simplefilter("always")
-            note = coarse_peak(result, node, name, values, centre=centre)
-            if not note and has_linear(result):  # linear cells have their own check (coarse-peak leaves them)
-                why = raiser_at(result, node, values)
-                if why is not None:
-                    linear_peak(result, node, name, values)
-                    kinds = " and ".join(why["elements"])
-                    note = (f"linear-peak: linear elements ({kinds}) read the peak at {fmt_point(result.mesh.nodes[node])}, "
-                            f"where the field falls by {100.0 * why['fall']:.0f} % across one element: typically "
-                            "5-30 % low; mesh with quadratic elements (T6 or Q8) or much finer there")
-        for rec in caught:
-            w = rec.message
-            code = getattr(w, "code", None)
-            if code not in ("coarse-peak", "linear-peak"):
-                warnings.warn_explicit(w, rec.category, rec.filename, rec.lineno)
-                continue
-            if not any(o.message == w.message for o in self.warnings):
-                self.warnings.append(w)
-            # the load case already holds this judgement of this node (the user read Result.max there)
-            told = (f"(node {node})", f"(node {node},")
-            if any(o.code == code and any(t in o.message for t in told) for o in before):
-                continue
-            warnings.warn(w, stacklevel=stacklevel + 1)
-        return note
+        return judge(self, component, pk, stacklevel=stacklevel + 1)
 
     def as_dict(self) -> dict[str, Any]:
         """The edge stresses as plain numbers and lists (for JSON), units stated."""
