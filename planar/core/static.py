@@ -52,10 +52,10 @@ class Results(dict):
     >>> results = planar.solve(model)
     >>> isinstance(results, dict), list(results)
     (True, ['pull'])
-    >>> results.max("von_mises")
+    >>> results.max("von_mises")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
-    planar.core.static.CaseNotChosenError: planar.solve returns a dict of results by load case ('pull'), not one result, so it has no .max; pick the case first: results['pull'].max(...)
+    planar.core.static.CaseNotChosenError: planar.solve returns a dict ..., not one result, ... results['pull'].max(...)
     """
 
     def __missing__(self, key):
