@@ -121,6 +121,16 @@ class Progress:
     def __bool__(self) -> bool:
         return self.enabled
 
+    def __getstate__(self) -> dict:
+        # a stream does not pickle: a copied or unpickled result (its timer) says nothing more
+        state = dict(self.__dict__)
+        state["stream"], state["tty"], state["enabled"] = None, False, False
+        return state
+
+    def __setstate__(self, state: dict) -> None:
+        self.__dict__.update(state)
+        self.stream = sys.stderr
+
     def _text(self, text: str) -> str:
         head = f"{self.prefix}: " if self.prefix else ""
         stamp = f"[{time.perf_counter() - self.t0:6.1f} s] " if self.clock else ""

@@ -52,6 +52,15 @@ class Timer:
         self._t = time.perf_counter()
         self._t0 = self._t
 
+    def __getstate__(self) -> dict:
+        state = dict(self.__dict__)
+        state["stream"] = None  # a stream does not pickle (the progress line keeps its own state)
+        return state
+
+    def __setstate__(self, state: dict) -> None:
+        self.__dict__.update(state)
+        self.stream = sys.stderr
+
     @property
     def large(self) -> bool:
         """True when the model's size makes its stages worth announcing before they start."""
