@@ -21,9 +21,8 @@ import math
 
 import numpy as np
 
-from .errors import InputError, fmt_point, warn
-from .fields import FIELD_TABLE
-from .units import stress_unit
+from ._advice_node import angles, cells_at, fan, is_stress, peak_doc, peak_words, warn_peak
+from .errors import fmt_point
 
 __all__ = ["SHARP_KINK", "sharp_corner_at", "sharp_corner_near", "sharp_corner_peak"]
 
@@ -35,43 +34,15 @@ SHARP_KINK = 15.0
 def _turn(asm, node: int) -> tuple[float, tuple[int, int]] | None:
     """The angle of material (degrees) between the tangents of the boundary sides at ``node`` and its two
     neighbours along the boundary, or None when the node is inside the mesh (or no corner of a cell)."""
-    nodes = asm.mesh.nodes
-    p = nodes[node]
-    prev, nxt = [], []
-    mids: dict[int, int] = {}
-    for b in asm.blocks:
-        k = b.etype.corner_count()
-        c = b.conn[:, :k]
-        hit = np.flatnonzero(c.ravel() == node)
-        if hit.size == 0:
-            continue
-        rows, j = hit // k, hit % k
-        pv, nx = c[rows, (j - 1) % k], c[rows, (j + 1) % k]
-        prev.append(pv)
-        nxt.append(nx)
-        edges = np.asarray(b.etype.edges)
-        if edges.shape[1] > 2:  # the mid-side node of each side from the node to a neighbour
-            for r, jj, a, z in zip(rows, j, pv, nx):
-                for row in edges:
-                    if {int(row[0]), int(row[1])} == {int(jj), int((jj + 1) % k)}:
-                        mids[int(z)] = int(b.conn[r, row[2]])
-                    elif {int(row[0]), int(row[1])} == {int(jj), int((jj - 1) % k)}:
-                        mids[int(a)] = int(b.conn[r, row[2]])
-    if not prev:
+    f = fan(asm, node)
+    if not f.size:
         return None
-    prev, nxt = np.concatenate(prev), np.concatenate(nxt)
-    first = np.setdiff1d(nxt, prev)   # the boundary side the fan of cells starts from (counter-clockwise)
-    last = np.setdiff1d(prev, nxt)    # and the one it ends at
+    first, last = f.ends()  # the boundary side the fan of cells starts from (counter-clockwise), and its end
     if first.size != 1 or last.size != 1:
         return None
-
-    def tangent(e: int) -> np.ndarray:
-        m = mids.get(e)
-        return nodes[e] - p if m is None else -3.0 * p + 4.0 * nodes[m] - nodes[e]
-
-    a, q = tangent(int(first[0])), tangent(int(last[0]))
-    ang = math.atan2(a[0] * q[1] - a[1] * q[0], float(a @ q)) % (2.0 * math.pi)
-    return math.degrees(ang), (int(first[0]), int(last[0]))
+    a = f.t_next[np.flatnonzero(f.nxt == first[0])[:1]]
+    q = f.t_prev[np.flatnonzero(f.prv == last[0])[:1]]
+    return math.degrees(float(angles(a, q)[0])), (int(first[0]), int(last[0]))
 
 
 def sharp_corner_at(result, node: int) -> float | None:
@@ -105,13 +76,10 @@ def sharp_corner_near(result, node: int) -> tuple[float, int] | None:
     if asm is None:
         return None
     node = int(node)
-    if _sharp(asm, node) is not None:
-        return _sharp(asm, node), node
-    near = []
-    for b in asm.blocks:
-        rows = np.flatnonzero((b.conn == node).any(axis=1))
-        if rows.size:
-            near.append(b.conn[rows, :b.etype.corner_count()].ravel())
+    angle = _sharp(asm, node)
+    if angle is not None:
+        return angle, node
+    near = [asm.blocks[i].conn[rows, :asm.blocks[i].etype.corner_count()].ravel() for i, rows in cells_at(asm, node)]
     for c in np.unique(np.concatenate(near)) if near else ():
         angle = _sharp(asm, int(c)) if int(c) != node else None
         if angle is not None:
@@ -134,39 +102,28 @@ def _sharp(asm, node: int) -> float | None:
     return angle
 
 
+@peak_doc
 def sharp_corner_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"sharp-corner"`` when a stress peak sits at a sharp re-entrant corner (see the module).
 
     Parameters
     ----------
-    result : Result
-    node : int
-        The peak node.
-    field : str
-        The field's name; fields that are not stresses never warn.
-    values : ndarray, shape (n,)
-        The nodal field the peak was taken from.
+    {peak parameters}
     stacklevel : int, default 2
         As for :func:`warnings.warn`, counted from the caller of this function.
     """
-    info = FIELD_TABLE.get(field)
-    if info is None or info.unit != "stress":
+    if not is_stress(field):
         return None
     got = sharp_corner_near(result, node)
     if got is None:
         return None
     angle, corner = got
     node = int(node)
-    value = float(np.asarray(values).reshape(-1)[node])
-    try:
-        unit = stress_unit(str(getattr(result, "units", "") or "")) or "(model stress units)"
-    except InputError:  # units text of no known system
-        unit = "(model stress units)"
-    warn(f"sharp-corner: the peak {field} of {value:.4g} {unit} at {fmt_point(result.mesh.nodes[node])} (node "
-         f"{node}) sits {'at' if corner == node else 'next to'} a sharp re-entrant corner at "
-         f"{fmt_point(result.mesh.nodes[corner])} ({angle:.0f} degrees of material, no radius): the elastic "
-         "stress there is singular (M. L. Williams, J. Appl. Mech., 1952) and grows without bound as the mesh "
-         "is refined, so this value is set by the mesh, not by the part. Model the corner's real radius "
-         "(Plate.fillet), or read the feature under check with where= away from the corner",
-         "sharp-corner", sink=result.warnings, stacklevel=stacklevel + 1)
+    warn_peak(result, "sharp-corner", f"{peak_words(result, node, field, values)} sits "
+              f"{'at' if corner == node else 'next to'} a sharp re-entrant corner at "
+              f"{fmt_point(result.mesh.nodes[corner])} ({angle:.0f} degrees of material, no radius): the elastic "
+              "stress there is singular (M. L. Williams, J. Appl. Mech., 1952) and grows without bound as the mesh "
+              "is refined, so this value is set by the mesh, not by the part. Model the corner's real radius "
+              "(Plate.fillet), or read the feature under check with where= away from the corner",
+              stacklevel + 1)
     return None

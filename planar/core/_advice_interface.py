@@ -47,9 +47,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .errors import InputError, fmt_point, warn
-from .fields import FIELD_TABLE
-from .units import stress_unit
+from ._advice_node import angles, fan, is_stress, peak_doc, peak_words, warn_peak
+from .errors import InputError, fmt_point
 
 __all__ = ["WEAK_STRENGTH", "NEAR_SIZES", "dundurs", "wedge_determinant", "singularity_exponent",
            "interface_edge_near", "interface_edge_peak"]
@@ -269,49 +268,28 @@ def _junctions(asm, ids) -> np.ndarray:
 def _wedges(asm, ids, node: int) -> list[tuple[float, int]] | None:
     """[(angle in radians, section)] of the wedges of material at a boundary node, counter-clockwise
     from one free side to the other; None when the node is not on the boundary of a single fan."""
-    nodes = asm.mesh.nodes
-    p = nodes[node]
-    cells = []  # (next corner, previous corner, tangent to next, tangent to previous, section)
-    for b, s in zip(asm.blocks, ids):
-        k = b.etype.corner_count()
-        c = b.conn[:, :k]
-        rows, j = np.nonzero(c == node)
-        if rows.size == 0:
-            continue
-        mid = {}
-        for e in np.asarray(b.etype.edges):
-            if e.size > 2:
-                mid[(int(e[0]), int(e[1]))] = mid[(int(e[1]), int(e[0]))] = int(e[2])
-        for r, jj in zip(rows, j):  # the few cells at one node
-            tang = []
-            for other in ((jj + 1) % k, (jj - 1) % k):
-                e = int(c[r, other])
-                m = mid.get((int(jj), int(other)))
-                tang.append(nodes[e] - p if m is None else -3.0 * p + 4.0 * nodes[int(b.conn[r, m])] - nodes[e])
-            cells.append((int(c[r, (jj + 1) % k]), int(c[r, (jj - 1) % k]), tang[0], tang[1], s))
-    if not cells:
+    f = fan(asm, node)
+    if not f.size:
         return None
-    nxt = {cl[0] for cl in cells}
-    prv = {cl[1] for cl in cells}
-    first, last = nxt - prv, prv - nxt
-    if len(first) != 1 or len(last) != 1:
+    first, last = f.ends()
+    if first.size != 1 or last.size != 1:
         return None  # inside the part, or a node where two fans touch
-    by_next = {cl[0]: cl for cl in cells}
-    e, out = first.pop(), []
-    for _ in range(len(cells)):
-        cl = by_next.get(e)
-        if cl is None:
+    ang = angles(f.t_next, f.t_prev)  # each cell's angle at the node
+    by_next = {int(e): c for c, e in enumerate(f.nxt)}
+    e, out = int(first[0]), []
+    for _ in range(f.size):  # the few cells at one node, in their order round it
+        c = by_next.get(e)
+        if c is None:
             return None
-        a, q = cl[2], cl[3]
-        ang = math.atan2(a[0] * q[1] - a[1] * q[0], float(a @ q)) % (2.0 * math.pi)
-        if out and out[-1][1] == cl[4]:
-            out[-1] = (out[-1][0] + ang, cl[4])
+        s = ids[int(f.block[c])]
+        if out and out[-1][1] == s:
+            out[-1] = (out[-1][0] + float(ang[c]), s)
         else:
-            out.append((ang, cl[4]))
-        e = cl[1]
-        if e in last:
+            out.append((float(ang[c]), s))
+        e = int(f.prv[c])
+        if e == last[0]:
             break
-    return out if e in last else None
+    return out if e == last[0] else None
 
 
 def _held(result) -> np.ndarray:
@@ -406,46 +384,35 @@ def interface_edge_near(result, node: int) -> dict | None:
     return best
 
 
+@peak_doc
 def interface_edge_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"interface-edge"`` when a stress peak sits where an interface meets a free edge (see the module).
 
     Parameters
     ----------
-    result : Result
-    node : int
-        The peak node.
-    field : str
-        The field's name; fields that are not stresses never warn.
-    values : ndarray, shape (n,)
-        The nodal field the peak was taken from.
+    {peak parameters}
     stacklevel : int, default 2
         As for :func:`warnings.warn`, counted from the caller of this function.
     """
-    info = FIELD_TABLE.get(field)
-    if info is None or info.unit != "stress":
+    if not is_stress(field):
         return None
     got = interface_edge_near(result, node)
     if got is None:
         return None
     node = int(node)
-    value = float(np.asarray(values).reshape(-1)[node])
-    try:
-        unit = stress_unit(str(getattr(result, "units", "") or "")) or "(model stress units)"
-    except InputError:  # units text of no known system
-        unit = "(model stress units)"
     lam, pt = got["lam"], got["point"]
     lam_txt = f"{lam.real:.3f}" if abs(lam.imag) < 1e-6 else f"{lam.real:.3f} +- {abs(lam.imag):.3f}i (oscillating)"
     rise = 10.0 ** (1.0 - lam.real) - 1.0
     wedges = ", ".join(f"{a:.0f} degrees of {r!r}" for a, r in zip(got["angles"], got["regions"]))
     analysis = str(getattr(result.model, "analysis", "") or "")
-    warn(f"interface-edge: the peak {field} of {value:.4g} {unit} at {fmt_point(result.mesh.nodes[node])} (node "
-         f"{node}) sits {'at' if pt == node else 'next to'} the point {fmt_point(result.mesh.nodes[pt])} where an "
-         f"interface between regions of different stiffness (modulus or thickness) meets the free edge "
-         f"({wedges}; Dundurs alpha {got['alpha']:.3g}, beta {got['beta']:.3g}{', ' + analysis if analysis else ''}"
-         f"): the elastic stress there is singular as r^(lambda - 1) with lambda = {lam_txt} (D. B. Bogy, "
-         f"J. Appl. Mech., 1971), so the peak there depends on the mesh and is not a converged stress; it rises "
-         f"by about {100.0 * rise:.0f} % for every tenfold refinement of the elements there, without limit. Read "
-         "the stress a few element sizes away from the point (where= a zone that leaves it out, e.g. InBox or a "
-         "region's edge away from it), or judge the point by a bonded-joint or fracture assessment that allows "
-         "for the singularity", "interface-edge", sink=result.warnings, stacklevel=stacklevel + 1)
+    warn_peak(result, "interface-edge", f"{peak_words(result, node, field, values)} sits "
+              f"{'at' if pt == node else 'next to'} the point {fmt_point(result.mesh.nodes[pt])} where an "
+              "interface between regions of different stiffness (modulus or thickness) meets the free edge "
+              f"({wedges}; Dundurs alpha {got['alpha']:.3g}, beta {got['beta']:.3g}"
+              f"{', ' + analysis if analysis else ''}): the elastic stress there is singular as r^(lambda - 1) "
+              f"with lambda = {lam_txt} (D. B. Bogy, J. Appl. Mech., 1971), so the peak there depends on the mesh "
+              f"and is not a converged stress; it rises by about {100.0 * rise:.0f} % for every tenfold refinement "
+              "of the elements there, without limit. Read the stress a few element sizes away from the point "
+              "(where= a zone that leaves it out, e.g. InBox or a region's edge away from it), or judge the point "
+              "by a bonded-joint or fracture assessment that allows for the singularity", stacklevel + 1)
     return None

@@ -49,9 +49,7 @@ import math
 
 import numpy as np
 
-from .errors import InputError, fmt_point, warn
-from .fields import FIELD_TABLE
-from .units import stress_unit
+from ._advice_node import fan, is_stress, peak_doc, peak_words, warn_peak
 
 __all__ = ["CONCENTRATION", "STEEP_FALL", "LINEAR_UNDER_READ", "is_linear", "has_linear", "linear_peak",
            "raiser_at"]
@@ -98,29 +96,18 @@ def has_linear(result) -> bool:
 def _fan(asm, node: int):
     """The cells around ``node`` (as a corner): their linear element names, the sum of their angles
     at the node, the node's neighbours along the boundary (none inside) and the nodes of those cells."""
+    f = fan(asm, node)
+    names = [str(getattr(asm.blocks[i].etype, "name", asm.blocks[i].layout)) for i in np.unique(f.block)
+             if is_linear(asm.blocks[i].etype)]
+    if not f.size:
+        return names, 0.0, np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
     nodes = asm.mesh.nodes
     p = nodes[node]
-    names, prev, nxt, around = [], [], [], []
-    for b in asm.blocks:
-        k = b.etype.corner_count()
-        c = b.conn[:, :k]
-        hit = np.flatnonzero(c.ravel() == node)
-        if hit.size == 0:
-            continue
-        rows, j = hit // k, hit % k
-        prev.append(c[rows, (j - 1) % k])
-        nxt.append(c[rows, (j + 1) % k])
-        around.append(b.conn[rows].ravel())
-        if is_linear(b.etype):
-            names.append(str(getattr(b.etype, "name", b.layout)))
-    if not prev:
-        return names, 0.0, np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64)
-    prev, nxt = np.concatenate(prev), np.concatenate(nxt)
-    a, q = nodes[nxt] - p, nodes[prev] - p  # cells counter-clockwise: from the next corner to the previous one
+    a, q = nodes[f.nxt] - p, nodes[f.prv] - p  # cells counter-clockwise: from the next corner to the previous one
     ang = np.arctan2(a[:, 0] * q[:, 1] - a[:, 1] * q[:, 0], (a * q).sum(axis=1))
     # round an inner node every neighbour is once a next and once a previous corner; the ones left
     # over are its neighbours along the boundary
-    return names, float(ang.sum()), np.setxor1d(prev, nxt), np.concatenate(around)
+    return names, float(ang.sum()), np.setxor1d(f.prv, f.nxt), f.around
 
 
 def _concave(asm, node: int, angle: float, ends: np.ndarray) -> float | None:
@@ -187,15 +174,7 @@ def raiser_at(result, node: int, values: np.ndarray) -> dict | None:
     return {"elements": sorted(set(names)), "angle": float(angle), "ratio": float(ratio), "fall": float(fall)}
 
 
-def _stress_unit(result) -> str:
-    """The stress unit of the model's units (e.g. "MPa"), or words saying where it comes from."""
-    try:
-        u = stress_unit(str(getattr(result, "units", "") or ""))
-    except InputError:  # units text of no known system: the words below still state the units
-        u = ""
-    return u or "(model stress units)"
-
-
+@peak_doc
 def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"linear-peak"`` when a stress peak read by linear elements sits at a stress raiser.
 
@@ -209,15 +188,7 @@ def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel
 
     Parameters
     ----------
-    result : Result
-        The load case the peak was taken from.
-    node : int
-        The peak node (as :meth:`Result.max` / :meth:`Result.min` return it).
-    field : str
-        The field's name; fields that are not stresses (displacements, strains, the principal
-        angle) never warn.
-    values : ndarray, shape (n,)
-        The nodal field the peak was taken from (signed; the peak may be negative, as a minimum).
+    {peak parameters}
     stacklevel : int, default 2
         As for :func:`warnings.warn`, counted from the caller of ``linear_peak``: 2 points the
         warning at the code that called the caller (e.g. the user's ``result.max(...)`` line); add
@@ -244,23 +215,19 @@ def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel
     >>> [w.code for w in r.warnings if w.code == "linear-peak"]
     []
     """
-    info = FIELD_TABLE.get(field)
-    if info is None or info.unit != "stress":
+    if not is_stress(field):
         return None
     why = raiser_at(result, node, values)
     if why is None:
         return None
-    node = int(node)
-    value = float(np.asarray(values).reshape(-1)[node])
-    xy = result.mesh.nodes[node]
     kinds = " and ".join(why["elements"])
-    warn(f"linear-peak: the peak {field} of {value:.4g} {_stress_unit(result)} at {fmt_point(xy)} (node {node}) "
-         f"is read by linear elements ({kinds}) at a stress raiser: a concave edge (a hole, fillet, notch root or "
-         f"re-entrant corner; {why['angle']:.0f} degrees of material round the node) where the field is "
-         f"{why['ratio']:.3g} times its median over the part and falls by {100.0 * why['fall']:.0f} % across one "
-         f"element. Linear elements under-read such peaks, typically by {LINEAR_UNDER_READ} (common practice; on "
-         "Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 element sides round the hole reads the peak 26 % "
-         "low, Q4 15 %, T6 6 %). Mesh with quadratic elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) "
-         "or much finer elements there, and confirm the peak with a convergence study "
-         "(planar.post.convergence_study)", "linear-peak", sink=result.warnings, stacklevel=stacklevel + 1)
+    warn_peak(result, "linear-peak", f"{peak_words(result, node, field, values)} "
+              f"is read by linear elements ({kinds}) at a stress raiser: a concave edge (a hole, fillet, notch root or "
+              f"re-entrant corner; {why['angle']:.0f} degrees of material round the node) where the field is "
+              f"{why['ratio']:.3g} times its median over the part and falls by {100.0 * why['fall']:.0f} % across one "
+              f"element. Linear elements under-read such peaks, typically by {LINEAR_UNDER_READ} (common practice; on "
+              "Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 element sides round the hole reads the peak 26 % "
+              "low, Q4 15 %, T6 6 %). Mesh with quadratic elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) "
+              "or much finer elements there, and confirm the peak with a convergence study "
+              "(planar.post.convergence_study)", stacklevel + 1)
     return None

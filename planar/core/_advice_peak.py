@@ -68,10 +68,9 @@ import math
 
 import numpy as np
 
-from .errors import InputError, fmt_point, warn
-from .fields import FIELD_TABLE, polar_stress
+from ._advice_node import cells_at, is_stress, peak_doc, peak_words, units_of, warn_peak
+from .fields import polar_stress
 from .stress import extrapolation_matrix, stress_measures
-from .units import length_unit, stress_unit
 
 __all__ = ["COARSE_ETA", "SMALL_PEAK", "peak_resolution", "coarse_peak"]
 
@@ -93,18 +92,13 @@ def _measure(field: str, centre):
     return lambda s, xy: stress_measures(s[:, :3], s[:, 3])[field]
 
 
+@peak_doc
 def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre=None) -> dict | None:
     """The local indicator of the peak of ``values`` at ``node`` (see the module's notes).
 
     Parameters
     ----------
-    result : Result
-    node : int
-        The peak node.
-    field : str
-        The stress field the peak is of (a name of :meth:`planar.Result.field`).
-    values : ndarray, shape (n,)
-        The recovered nodal field the peak was read from.
+    {peak parameters}
     centre : (float, float), optional
         The centre of a polar field.
 
@@ -128,10 +122,9 @@ def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre
     >>> peak_resolution(r, int(v.argmax()), "sigma_xx", v)["eta"] < 1e-6   # uniform tension: exact
     True
     """
-    info = FIELD_TABLE.get(field)
     asm = getattr(result, "assembly", None)
     gauss = getattr(result, "gauss", None)
-    if info is None or info.unit != "stress" or asm is None or gauss is None:
+    if not is_stress(field) or asm is None or gauss is None:
         return None
     f = _measure(field, centre)
     v = np.asarray(values, dtype=float).reshape(-1)
@@ -146,11 +139,8 @@ def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre
     xyz = asm.mesh.nodes
     by_region: dict = {}
     size, degree = 0.0, None
-    for i, b in enumerate(asm.blocks):
-        rows = np.flatnonzero((b.conn == node).any(axis=1))
-        if rows.size == 0:
-            continue
-        g = gauss[i]
+    for i, rows in cells_at(asm, node):
+        b, g = asm.blocks[i], gauss[i]
         E = extrapolation_matrix(b.etype, g.rule)  # (k, q)
         vals = np.concatenate([g.stress[rows], g.szz[rows][..., None]], axis=-1)
         ids = b.conn[rows].ravel()
@@ -198,6 +188,7 @@ def _edge_of(mesh, node: int) -> str | None:
     return None
 
 
+@peak_doc
 def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=None, stacklevel: int = 2) -> str:
     """Warn ``"coarse-peak"`` when the peak of ``values`` at ``node`` is not resolved by the mesh there.
 
@@ -207,13 +198,7 @@ def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=Non
 
     Parameters
     ----------
-    result : Result
-    node : int
-        The peak node.
-    field : str
-        The field's name; fields that are not stresses never warn.
-    values : ndarray, shape (n,)
-        The nodal field the peak was read from.
+    {peak parameters}
     centre : (float, float), optional
         The centre of a polar field.
     stacklevel : int, default 2
@@ -239,25 +224,19 @@ def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=Non
         return ""
     node = int(node)
     mesh = result.mesh
-    value = float(np.asarray(values).reshape(-1)[node])
-    units = str(getattr(result, "units", "") or "")
-    try:
-        su, lu = stress_unit(units) or "(model stress units)", length_unit(units)
-    except InputError:  # units text of no known system
-        su, lu = "(model stress units)", ""
+    lu = units_of(result)[1]
     lu = f" {lu}" if lu else ""
     eta, h = got["eta"], got["size"]
     new = float(f"{h * (0.5 * COARSE_ETA / eta) ** (2.0 / 3.0):.2g}")
     edge = _edge_of(mesh, node)
     at = f"{edge!r}" if edge is not None else f"({mesh.nodes[node, 0]:.4g}, {mesh.nodes[node, 1]:.4g})"
     where = f"on edge {edge!r}" if edge is not None else "inside the part"
-    warn(f"coarse-peak: the peak {field} of {value:.4g} {su} at {fmt_point(mesh.nodes[node])} (node {node}, {where}) "
-         f"is not resolved by the mesh there: the elements round it, up to {h:.3g}{lu} across, disagree with the "
-         f"recovered field by up to {100.0 * eta:.0f} % of {got['basis']} (local error indicator; above "
-         f"{100.0 * COARSE_ETA:.0f} % measured peaks were up to 40 % off, mostly low: a hole under a pin, a thin "
-         "ligament, a fillet). Refine there, e.g. mesh(..., refine=[Refine("
-         f"{at}, size={new:g})]) (about {h / new:.1f} times finer), with at least 3 elements across a ligament, and "
-         "confirm the peak with a convergence study (planar.post.convergence_study)",
-         "coarse-peak", sink=result.warnings, stacklevel=stacklevel + 1)
+    warn_peak(result, "coarse-peak", f"{peak_words(result, node, field, values, f', {where}')} is not resolved by "
+              f"the mesh there: the elements round it, up to {h:.3g}{lu} across, disagree with the recovered field "
+              f"by up to {100.0 * eta:.0f} % of {got['basis']} (local error indicator; above "
+              f"{100.0 * COARSE_ETA:.0f} % measured peaks were up to 40 % off, mostly low: a hole under a pin, a thin "
+              "ligament, a fillet). Refine there, e.g. mesh(..., refine=[Refine("
+              f"{at}, size={new:g})]) (about {h / new:.1f} times finer), with at least 3 elements across a ligament, "
+              "and confirm the peak with a convergence study (planar.post.convergence_study)", stacklevel + 1)
     return (f"coarse mesh at the peak (coarse-peak: local error indicator {100.0 * eta:.0f} %, elements {h:.3g}{lu}): "
             f"refine to about {new:g}{lu} there")
