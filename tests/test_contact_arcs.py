@@ -15,6 +15,8 @@ from planar.core.contact import _arc, _edge_angles
 from planar.core.pins import Pin, PinLoad
 from planar.geometry import Circle, Plate, Refine, lug, mesh
 
+from _test_setups import flexibility_columns
+
 
 def _ring(deg):
     return np.column_stack([np.cos(np.radians(deg)), np.sin(np.radians(deg))]) * 8.0
@@ -129,16 +131,7 @@ def test_a_disc_on_a_long_straight_edge_solves_the_flexibility_of_a_few_nodes_ab
              refine=[Refine("top", size=0.25)])
 
     def run(all_nodes: bool):
-        seen = []
-        orig = contact.ContactSet.flexibility
-
-        def flex(self, fac, rows):
-            if all_nodes:
-                rows = np.flatnonzero(self.live)
-            seen.append(rows.size)
-            return orig(self, fac, rows)
-
-        monkeypatch.setattr(contact.ContactSet, "flexibility", flex)
+        seen = flexibility_columns(monkeypatch, all_nodes)
         model = planar.Model(m, planar.Isotropic(E=E, nu=0.3), thickness=1.0, units="N, mm, MPa")
         model.add_support(planar.Fixed("bottom"))
         model.add_pin(Pin("top", tie="contact", radius=R, at=(0.0, R), hold="x", name="roller"))

@@ -15,6 +15,8 @@ from planar.core.errors import SupportError
 from planar.core.pins import Pin, PinLoad
 from planar.geometry import Circle, Plate, Refine, mesh
 
+from _test_setups import flexibility_columns
+
 E, NU = 70e3, 0.33
 
 
@@ -167,19 +169,8 @@ def test_clearance_fit_solves_the_flexibility_of_the_closing_side_only(monkeypat
     # where the pin bears over some 105 degrees. The candidates now start where the edge closes most; the
     # answer is unique (Signorini's conditions; A. Signorini, 1933, as in P. Wriggers, Computational
     # Contact Mechanics, 2006, sec. 2.2; from memory) so it must not change.
-    import planar.core.contact as contact
-
     def run(all_nodes: bool):
-        seen = []
-        orig = contact.ContactSet.flexibility
-
-        def flex(self, fac, rows):
-            if all_nodes:
-                rows = np.flatnonzero(self.live)
-            seen.append(rows.size)
-            return orig(self, fac, rows)
-
-        monkeypatch.setattr(contact.ContactSet, "flexibility", flex)
+        seen = flexibility_columns(monkeypatch, all_nodes)
         p = Plate.rectangle(300.0, 120.0, centre=(0.0, 0.0)).cut(Circle((60.0, 0.0), 10.0, name="hole"))
         m = mesh(p, size=12.0, element="T6", refine=[Refine("hole", size=1.0)])
         model = planar.Model(m, planar.Isotropic(E, NU), thickness=4.0, units="N, mm, MPa")
