@@ -15,6 +15,8 @@ import pytest
 
 import planar
 
+from _test_setups import heated_pair
+
 AL = planar.Isotropic(E=71e3, nu=0.33)
 
 
@@ -75,16 +77,7 @@ def test_heated_strip_has_no_rest_forces_and_its_cut_is_the_stress_resultant():
     # and the integral of the stresses along the cut says the same
     from planar.post import cut_resultant
 
-    al = _strip(0.0, 120.0, 10.0, 2.0, 1.25, planar.Isotropic(E=71e3, nu=0.3, alpha=23e-6))
-    st = _strip(0.0, 120.0, 10.0, 1.0, 1.25, planar.Isotropic(E=205e3, nu=0.3, alpha=12e-6))
-    al.add_support(planar.Fixed((0.0, -5.0)))
-    al.add_support(planar.Roller((0.0, 5.0), fixed="x"))
-    for m in (al, st):
-        m.add_load(planar.TemperatureChange(80.0), case="hot")
-    joint = planar.Joint({"al": al, "steel": st})
-    joint.add_fasteners(planar.Fasteners([(10.0, 0.0), (110.0, 0.0)], layers=("al", "steel"), diameter=5.0,
-                                         flexibility=3e-5, name="pair"))
-    res = planar.solve(joint)["hot"]
+    res = heated_pair()
     F = res.fasteners.magnitude.max()
     assert F > 100.0
     layer = res.layers["al"]

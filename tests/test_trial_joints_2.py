@@ -10,6 +10,8 @@ import pytest
 import planar
 from planar.core.errors import InputError
 
+from _test_setups import heated_pair
+
 
 def _lap_two_cases():
     """Two 40 mm wide, 3 mm strips lapped and joined by a 2 x 2 bolt group; pulled along and across."""
@@ -55,18 +57,20 @@ def test_the_layer_fix_combines_as_a_direct_solve(two_cases):
 
 
 
-def _centre_line_lap():
-    """Two 10 mm wide, 2 mm strips lapped, two fasteners on the centre line, pulled along it."""
+def _centre_line_lap(cases=(("pull", 50.0),), flexibility=3e-5, **fastener_kw):
+    """Two 10 mm wide, 2 mm strips lapped, a row of two 5 mm fasteners on the centre line (x = 60, 90);
+    the bottom strip pulled along it by a traction ``tx`` per case (N/mm). Returns the joint, unsolved."""
     strips = {}
     for name, x0 in (("top", 0.0), ("bottom", 50.0)):
         m = planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(x0, -5.0))
         strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
     strips["top"].add_support(planar.Fixed("left"))
-    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
+    for case, tx in cases:
+        strips["bottom"].add_load(planar.Traction("right", tx=tx), case=case)
     joint = planar.Joint(strips)
     joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=5.0,
-                                         flexibility=3e-5, name="row"))
-    return planar.solve(joint)["pull"]
+                                         flexibility=flexibility, name="row", **fastener_kw))
+    return joint
 
 
 def test_report_prints_a_round_off_shear_component_as_zero():
@@ -75,7 +79,7 @@ def test_report_prints_a_round_off_shear_component_as_zero():
     # (FastenerTable.text) already prints it as 0
     from planar.post._report_tables import joint_section
 
-    res = _centre_line_lap()
+    res = planar.solve(_centre_line_lap())["pull"]
     rows = joint_section(res).blocks[0].rows
     vx = [float(r[3].strip("()").split(",")[0]) for r in rows]
     vy = [float(r[3].strip("()").split(",")[1]) for r in rows]
@@ -176,24 +180,9 @@ def test_peak_at_a_fastener_hole_is_noted_for_either_tie(tie):
 # planar/core/_joint_solve.py, planar/core/joints.py): described by these tests, marked as expected to
 # fail until fixed there (strict: a fix makes them pass and the mark must then go).
 
-def _pull_and_push():
-    """The centre-line lap pulled by 1 kN and pushed by 0.5 kN (two cases of one joint)."""
-    strips = {}
-    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
-        m = planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(x0, -5.0))
-        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    strips["top"].add_support(planar.Fixed("left"))
-    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
-    strips["bottom"].add_load(planar.Traction("right", tx=-25.0), case="push")
-    joint = planar.Joint(strips)
-    joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=5.0,
-                                         flexibility=3e-5, name="row"))
-    return planar.solve(joint)
-
-
 def test_bypass_is_linear_in_the_load():
     # superposition (common practice): pushing with -1/2 of the pull gives -1/2 of every load, bypass too
-    res = _pull_and_push()
+    res = planar.solve(_centre_line_lap(cases=(("pull", 50.0), ("push", -25.0))))  # 1 kN pull, 0.5 kN push
     pull = np.array([h["bypass"] for h in res["pull"].fasteners.holes])
     push = np.array([h["bypass"] for h in res["push"].fasteners.holes])
     assert np.allclose(res["push"].fasteners.shear, -0.5 * res["pull"].fasteners.shear, rtol=1e-9, atol=1e-9)
@@ -204,19 +193,7 @@ def test_bypass_under_a_temperature_change_is_nil_beyond_the_end_fasteners():
     # statics of the free body (common practice): an aluminium and a steel strip joined by two fasteners
     # and heated, held statically determinately, carry their mismatch load between the fasteners only;
     # beyond the end fasteners each strip is free, so no load passes any hole: every bypass is nil
-    def strip(t, E, alpha):
-        m = planar.rectangle_mesh(120.0, 10.0, 96, 8, element="Q8", origin=(0.0, -5.0))
-        return planar.Model(m, planar.Isotropic(E=E, nu=0.3, alpha=alpha), thickness=t, units="N, mm, MPa")
-
-    al, st = strip(2.0, 71e3, 23e-6), strip(1.0, 205e3, 12e-6)
-    al.add_support(planar.Fixed((0.0, -5.0)))
-    al.add_support(planar.Roller((0.0, 5.0), fixed="x"))
-    for m in (al, st):
-        m.add_load(planar.TemperatureChange(80.0), case="hot")
-    joint = planar.Joint({"al": al, "steel": st})
-    joint.add_fasteners(planar.Fasteners([(10.0, 0.0), (110.0, 0.0)], layers=("al", "steel"), diameter=5.0,
-                                         flexibility=3e-5, name="pair"))
-    res = planar.solve(joint)["hot"]
+    res = heated_pair()
     F = res.fasteners.magnitude.max()
     assert F > 100.0  # the mismatch load is real
     assert np.allclose([h["bypass"] for h in res.fasteners.holes], 0.0, atol=1e-6 * F)
@@ -245,15 +222,7 @@ def test_report_states_each_springs_compliance_with_its_unit():
     # from memory): C = ((t1 + t2)/(2 d))^(2/3) * 3 * (1/(t1 E1) + 1/(t2 E2) + 1/(2 t1 Ef) + 1/(2 t2 Ef))
     from planar.post._report_tables import joint_section
 
-    strips = {}
-    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
-        m = planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(x0, -5.0))
-        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    strips["top"].add_support(planar.Fixed("left"))
-    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
-    joint = planar.Joint(strips)
-    joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=5.0,
-                                         flexibility="huth", modulus=110e3, name="row"))
+    joint = _centre_line_lap(flexibility="huth", modulus=110e3)
     table = joint_section(planar.solve(joint)["pull"]).blocks[0]
     assert table.headers[-1] == "compliance [mm/N]"
     d, t, E, Ef = 5.0, 2.0, 71e3, 110e3
