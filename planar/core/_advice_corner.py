@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-from ._advice_node import angles, cells_at, fan, is_stress, peak_doc, peak_words, warn_peak
+from ._advice_node import angles, cells_at, fan, peak_doc, warn_if_found
 from .errors import fmt_point
 
 __all__ = ["SHARP_KINK", "sharp_corner_at", "sharp_corner_near", "sharp_corner_peak"]
@@ -106,24 +106,14 @@ def _sharp(asm, node: int) -> float | None:
 def sharp_corner_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"sharp-corner"`` when a stress peak sits at a sharp re-entrant corner (see the module).
 
-    Parameters
-    ----------
-    {peak parameters}
-    stacklevel : int, default 2
-        As for :func:`warnings.warn`, counted from the caller of this function.
+    {peak check parameters}
     """
-    if not is_stress(field):
-        return None
-    got = sharp_corner_near(result, node)
-    if got is None:
-        return None
-    angle, corner = got
-    node = int(node)
-    warn_peak(result, "sharp-corner", f"{peak_words(result, node, field, values)} sits "
-              f"{'at' if corner == node else 'next to'} a sharp re-entrant corner at "
-              f"{fmt_point(result.mesh.nodes[corner])} ({angle:.0f} degrees of material, no radius): the elastic "
-              "stress there is singular (M. L. Williams, J. Appl. Mech., 1952) and grows without bound as the mesh "
-              "is refined, so this value is set by the mesh, not by the part. Model the corner's real radius "
-              "(Plate.fillet), or read the feature under check with where= away from the corner",
-              stacklevel + 1)
-    return None
+    def words(got, node: int) -> str:
+        angle, corner = got
+        return (f"sits {'at' if corner == node else 'next to'} a sharp re-entrant corner at "
+                f"{fmt_point(result.mesh.nodes[corner])} ({angle:.0f} degrees of material, no radius): the elastic "
+                "stress there is singular (M. L. Williams, J. Appl. Mech., 1952) and grows without bound as the mesh "
+                "is refined, so this value is set by the mesh, not by the part. Model the corner's real radius "
+                "(Plate.fillet), or read the feature under check with where= away from the corner")
+
+    return warn_if_found(result, node, field, values, "sharp-corner", sharp_corner_near, words, stacklevel + 1)

@@ -47,7 +47,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ._advice_node import angles, fan, is_stress, peak_doc, peak_words, warn_peak
+from ._advice_node import angles, fan, peak_doc, warn_if_found
 from .errors import InputError, fmt_point
 
 __all__ = ["WEAK_STRENGTH", "NEAR_SIZES", "dundurs", "wedge_determinant", "singularity_exponent",
@@ -388,31 +388,23 @@ def interface_edge_near(result, node: int) -> dict | None:
 def interface_edge_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"interface-edge"`` when a stress peak sits where an interface meets a free edge (see the module).
 
-    Parameters
-    ----------
-    {peak parameters}
-    stacklevel : int, default 2
-        As for :func:`warnings.warn`, counted from the caller of this function.
+    {peak check parameters}
     """
-    if not is_stress(field):
-        return None
-    got = interface_edge_near(result, node)
-    if got is None:
-        return None
-    node = int(node)
-    lam, pt = got["lam"], got["point"]
-    lam_txt = f"{lam.real:.3f}" if abs(lam.imag) < 1e-6 else f"{lam.real:.3f} +- {abs(lam.imag):.3f}i (oscillating)"
-    rise = 10.0 ** (1.0 - lam.real) - 1.0
-    wedges = ", ".join(f"{a:.0f} degrees of {r!r}" for a, r in zip(got["angles"], got["regions"]))
-    analysis = str(getattr(result.model, "analysis", "") or "")
-    warn_peak(result, "interface-edge", f"{peak_words(result, node, field, values)} sits "
-              f"{'at' if pt == node else 'next to'} the point {fmt_point(result.mesh.nodes[pt])} where an "
-              "interface between regions of different stiffness (modulus or thickness) meets the free edge "
-              f"({wedges}; Dundurs alpha {got['alpha']:.3g}, beta {got['beta']:.3g}"
-              f"{', ' + analysis if analysis else ''}): the elastic stress there is singular as r^(lambda - 1) "
-              f"with lambda = {lam_txt} (D. B. Bogy, J. Appl. Mech., 1971), so the peak there depends on the mesh "
-              f"and is not a converged stress; it rises by about {100.0 * rise:.0f} % for every tenfold refinement "
-              "of the elements there, without limit. Read the stress a few element sizes away from the point "
-              "(where= a zone that leaves it out, e.g. InBox or a region's edge away from it), or judge the point "
-              "by a bonded-joint or fracture assessment that allows for the singularity", stacklevel + 1)
-    return None
+    def words(got: dict, node: int) -> str:
+        lam, pt = got["lam"], got["point"]
+        lam_txt = (f"{lam.real:.3f}" if abs(lam.imag) < 1e-6
+                   else f"{lam.real:.3f} +- {abs(lam.imag):.3f}i (oscillating)")
+        rise = 10.0 ** (1.0 - lam.real) - 1.0
+        wedges = ", ".join(f"{a:.0f} degrees of {r!r}" for a, r in zip(got["angles"], got["regions"]))
+        analysis = str(getattr(result.model, "analysis", "") or "")
+        return (f"sits {'at' if pt == node else 'next to'} the point {fmt_point(result.mesh.nodes[pt])} where an "
+                "interface between regions of different stiffness (modulus or thickness) meets the free edge "
+                f"({wedges}; Dundurs alpha {got['alpha']:.3g}, beta {got['beta']:.3g}"
+                f"{', ' + analysis if analysis else ''}): the elastic stress there is singular as r^(lambda - 1) "
+                f"with lambda = {lam_txt} (D. B. Bogy, J. Appl. Mech., 1971), so the peak there depends on the mesh "
+                f"and is not a converged stress; it rises by about {100.0 * rise:.0f} % for every tenfold refinement "
+                "of the elements there, without limit. Read the stress a few element sizes away from the point "
+                "(where= a zone that leaves it out, e.g. InBox or a region's edge away from it), or judge the point "
+                "by a bonded-joint or fracture assessment that allows for the singularity")
+
+    return warn_if_found(result, node, field, values, "interface-edge", interface_edge_near, words, stacklevel + 1)

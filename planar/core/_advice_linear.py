@@ -49,7 +49,7 @@ import math
 
 import numpy as np
 
-from ._advice_node import fan, is_stress, peak_doc, peak_words, warn_peak
+from ._advice_node import fan, peak_doc, warn_if_found
 
 __all__ = ["CONCENTRATION", "STEEP_FALL", "LINEAR_UNDER_READ", "is_linear", "has_linear", "linear_peak",
            "raiser_at"]
@@ -215,19 +215,15 @@ def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel
     >>> [w.code for w in r.warnings if w.code == "linear-peak"]
     []
     """
-    if not is_stress(field):
-        return None
-    why = raiser_at(result, node, values)
-    if why is None:
-        return None
-    kinds = " and ".join(why["elements"])
-    warn_peak(result, "linear-peak", f"{peak_words(result, node, field, values)} "
-              f"is read by linear elements ({kinds}) at a stress raiser: a concave edge (a hole, fillet, notch root or "
-              f"re-entrant corner; {why['angle']:.0f} degrees of material round the node) where the field is "
-              f"{why['ratio']:.3g} times its median over the part and falls by {100.0 * why['fall']:.0f} % across one "
-              f"element. Linear elements under-read such peaks, typically by {LINEAR_UNDER_READ} (common practice; on "
-              "Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 element sides round the hole reads the peak 26 % "
-              "low, Q4 15 %, T6 6 %). Mesh with quadratic elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) "
-              "or much finer elements there, and confirm the peak with a convergence study "
-              "(planar.post.convergence_study)", stacklevel + 1)
-    return None
+    def words(why: dict, node: int) -> str:
+        return (f"is read by linear elements ({' and '.join(why['elements'])}) at a stress raiser: a concave edge (a "
+                f"hole, fillet, notch root or re-entrant corner; {why['angle']:.0f} degrees of material round the "
+                f"node) where the field is {why['ratio']:.3g} times its median over the part and falls by "
+                f"{100.0 * why['fall']:.0f} % across one element. Linear elements under-read such peaks, typically "
+                f"by {LINEAR_UNDER_READ} (common practice; on Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 "
+                "element sides round the hole reads the peak 26 % low, Q4 15 %, T6 6 %). Mesh with quadratic "
+                "elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) or much finer elements there, and "
+                "confirm the peak with a convergence study (planar.post.convergence_study)")
+
+    return warn_if_found(result, node, field, values, "linear-peak", lambda r, n: raiser_at(r, n, values), words,
+                         stacklevel + 1)

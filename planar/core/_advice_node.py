@@ -17,8 +17,8 @@ from .errors import InputError, fmt_point, warn
 from .fields import FIELD_TABLE
 from .units import length_unit, stress_unit
 
-__all__ = ["PEAK_PARAMETERS", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan", "angles",
-           "peak_words", "warn_peak"]
+__all__ = ["PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
+           "angles", "peak_words", "warn_peak", "warn_if_found"]
 
 #: the parameters every check of a peak takes, for its docstring (see :func:`peak_doc`)
 PEAK_PARAMETERS = """\
@@ -32,15 +32,26 @@ values : ndarray, shape (n,)
     The nodal field the peak was read from (signed; the peak may be negative, as a minimum)."""
 
 
+#: the stack level a check of a peak takes, for its docstring (see :func:`peak_doc`)
+PEAK_STACKLEVEL = """\
+stacklevel : int, default 2
+    As for :func:`warnings.warn`, counted from the caller of this function."""
+
+_DOC_PARTS = {"{peak parameters}": PEAK_PARAMETERS, "{peak stacklevel}": PEAK_STACKLEVEL,
+              "{peak check parameters}": f"Parameters\n----------\n{PEAK_PARAMETERS}\n{PEAK_STACKLEVEL}"}
+
+
 def peak_doc(func):
-    """Put :data:`PEAK_PARAMETERS` in ``func``'s docstring where a line reads ``{peak parameters}``."""
+    """Put :data:`PEAK_PARAMETERS` and :data:`PEAK_STACKLEVEL` in ``func``'s docstring where a line reads
+    ``{peak parameters}`` or ``{peak stacklevel}``; ``{peak check parameters}`` puts both under the heading
+    ``Parameters``, the whole section of a check that takes no other parameter."""
     doc = func.__doc__ or ""
     for line in doc.splitlines():
-        if line.strip() == "{peak parameters}":
+        part = _DOC_PARTS.get(line.strip())
+        if part is not None:
             pad = line[:len(line) - len(line.lstrip())]
-            text = "\n".join(pad + p for p in PEAK_PARAMETERS.splitlines())
-            func.__doc__ = doc.replace(line, text, 1)
-            break
+            doc = doc.replace(line, "\n".join(pad + p for p in part.splitlines()), 1)
+    func.__doc__ = doc
     return func
 
 
@@ -159,3 +170,17 @@ def warn_peak(result, code: str, text: str, stacklevel: int) -> None:
     """Warn ``"<code>: <text>"`` under ``code`` and keep it in ``result.warnings``; ``stacklevel`` counted
     from the caller of this function, as for :func:`warnings.warn`."""
     warn(f"{code}: {text}", code, sink=result.warnings, stacklevel=stacklevel + 1)
+
+
+def warn_if_found(result, node: int, field: str, values, code: str, find, words, stacklevel: int) -> None:
+    """The frame of a check of a peak: nothing for a field that is not a stress, nor where
+    ``find(result, node)`` finds no cause (None); else warn ``code`` naming the peak, followed by
+    ``words(found, node)``. ``stacklevel`` counted from the caller of this function."""
+    if not is_stress(field):
+        return None
+    got = find(result, node)
+    if got is None:
+        return None
+    node = int(node)
+    warn_peak(result, code, f"{peak_words(result, node, field, values)} {words(got, node)}", stacklevel + 1)
+    return None

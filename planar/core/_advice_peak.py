@@ -201,8 +201,7 @@ def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=Non
     {peak parameters}
     centre : (float, float), optional
         The centre of a polar field.
-    stacklevel : int, default 2
-        As for :func:`warnings.warn`, counted from the caller of this function.
+    {peak stacklevel}
 
     Returns
     -------
