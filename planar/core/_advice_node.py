@@ -8,6 +8,7 @@ and the rest is a handful of array operations on those few cells. The checks run
 """
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -180,7 +181,8 @@ def warn_peak(result, code: str, text: str, stacklevel: int) -> None:
     warn(f"{code}: {text}", code, sink=result.warnings, stacklevel=stacklevel + 1)
 
 
-def warn_if_found(result, node: int, field: str, values, code: str, find, words, stacklevel: int) -> None:
+def warn_if_found(result, node: int, field: str, values, code: str, find: Callable[..., object | None],
+                  words: Callable[..., str], stacklevel: int) -> None:
     """The frame of a check of a peak: nothing for a field that is not a stress, nor where
     ``find(result, node)`` finds no cause (None); else warn ``code`` naming the peak, followed by
     ``words(found, node)``. ``stacklevel`` counted from the caller of this function."""
