@@ -77,3 +77,20 @@ def test_outside_is_the_complement_of_near_and_refuses_bad_input():
         planar.Outside((0.0, float("nan")), 1.0)
     with pytest.raises(NameNotFoundError):
         planar.Outside("no_such_point", 1.0).mask(m)
+
+
+def test_the_warning_names_the_zone_that_leaves_its_point_out():
+    # the interface-edge advice is runnable: the Outside(...) it names, read with the band, no longer
+    # sits at that point (Bogy 1971 for the singular point; St Venant's principle, common practice)
+    import re
+
+    r, ends = _band(0.5)
+    with warnings.catch_warnings(record=True) as rec:
+        warnings.simplefilter("always")
+        first = r.max("sigma_xx", where="band")
+    text = str(_told(rec)[0])
+    zone_src = re.search(r"where=(planar\.Outside\(\([^)]*\), [0-9.e+-]+\))", text).group(1)
+    zone = eval(zone_src, {"planar": planar})  # noqa: S307 - the message's own advice, run as a user would
+    again = r.max("sigma_xx", where=planar.InRegion("band") & zone)
+    gap = np.hypot(*(np.asarray(again.location, float) - np.asarray(zone.point, float)))
+    assert gap >= zone.radius - 1e-9 and np.hypot(*np.subtract(again.location, first.location)) > 1.0

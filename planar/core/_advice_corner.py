@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-from ._advice_node import angles, cells_at, fan, peak_doc, warn_if_found
+from ._advice_node import angles, cells_at, clear_distance, fan, peak_doc, point_source, warn_if_found
 from .errors import fmt_point
 
 __all__ = ["SHARP_KINK", "sharp_corner_at", "sharp_corner_near", "sharp_corner_peak"]
@@ -114,6 +114,8 @@ def sharp_corner_peak(result, node: int, field: str, values: np.ndarray, *, stac
                 f"{fmt_point(result.mesh.nodes[corner])} ({angle:.0f} degrees of material, no radius): the elastic "
                 "stress there is singular (M. L. Williams, J. Appl. Mech., 1952) and grows without bound as the mesh "
                 "is refined, so this value is set by the mesh, not by the part. Model the corner's real radius "
-                "(Plate.fillet), or read the feature under check with where= away from the corner")
+                f"(Plate.fillet), or read the feature under check away from the corner: "
+                f"where=planar.Outside({point_source(result.mesh.nodes[corner])}, {clear_distance(result, corner):.3g})")
 
     return warn_if_found(result, node, field, values, "sharp-corner", sharp_corner_near, words, stacklevel + 1)
+

@@ -47,7 +47,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ._advice_node import angles, fan, peak_doc, warn_if_found
+from ._advice_node import angles, clear_distance, fan, peak_doc, point_source, warn_if_found
 from .errors import InputError, fmt_point
 
 __all__ = ["WEAK_STRENGTH", "NEAR_SIZES", "dundurs", "wedge_determinant", "singularity_exponent",
@@ -404,7 +404,8 @@ def interface_edge_peak(result, node: int, field: str, values: np.ndarray, *, st
                 f"with lambda = {lam_txt} (D. B. Bogy, J. Appl. Mech., 1971), so the peak there depends on the mesh "
                 f"and is not a converged stress; it rises by about {100.0 * rise:.0f} % for every tenfold refinement "
                 "of the elements there, without limit. Read the stress a few element sizes away from the point "
-                "(where= a zone that leaves it out, e.g. InBox or a region's edge away from it), or judge the point "
+                f"(where=planar.Outside({point_source(result.mesh.nodes[pt])}, {clear_distance(result, pt):.3g}), with & for other "
+                "such points and the zone under check), or judge the point "
                 "by a bonded-joint or fracture assessment that allows for the singularity")
 
     return warn_if_found(result, node, field, values, "interface-edge", interface_edge_near, words, stacklevel + 1)

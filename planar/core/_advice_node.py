@@ -18,7 +18,7 @@ from .errors import InputError, fmt_point, warn
 from .fields import FIELD_TABLE
 from .units import length_unit, stress_unit
 
-__all__ = ["PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
+__all__ = ["point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
            "angles", "peak_words", "warn_peak", "warn_if_found"]
 
 #: the parameters every check of a peak takes, for its docstring (see :func:`peak_doc`)
@@ -194,3 +194,15 @@ def warn_if_found(result, node: int, field: str, values, code: str, find: Callab
     node = int(node)
     warn_peak(result, code, f"{peak_words(result, node, field, values)} {words(got, node)}", stacklevel + 1)
     return None
+
+
+def point_source(p) -> str:
+    """A point as Python source, ``(x, y)`` to 6 figures."""
+    return "(" + ", ".join(format(float(v), ".6g") for v in p[:2]) + ")"
+
+
+def clear_distance(result, node: int) -> float:
+    """A distance that keeps a read clear of a singular point: 4 local element sizes (St Venant, common practice)."""
+    from .zones import node_sizes
+
+    return 4.0 * float(node_sizes(result.mesh)[node])
