@@ -122,3 +122,24 @@ def test_patch_weights_on_a_uniform_mesh_are_equal_and_local_weights_match_the_w
     local = js._node_weights(L.asm, nodes)
     for a, b in zip(full, local):
         np.testing.assert_array_equal(a[nodes], b[nodes])
+
+
+@pytest.mark.skipif("amg" not in solvers.available_solvers(), reason="pyamg not installed")
+def test_amg_joint_gives_the_direct_solves_fastener_loads_with_a_layer_held_only_by_its_fasteners():
+    # the strap has no support: CG with the layers' rigid modes as near-null space must still reach the
+    # direct solve's answer, each load case to the iterative tolerance (relative residual 1e-10)
+    row = _joint().fasteners[0]
+    joint = planar.Joint(dict(_joint().layers))  # a published flexibility: springs about as stiff as the plates
+    joint.add_fasteners(planar.Fasteners(row.points(joint), layers=row.layers, diameter=row.diameter,
+                                         flexibility="huth", modulus=110e3, name="row"))
+    direct = next(s for s in ("pardiso", "cholmod", "superlu") if s in solvers.available_solvers())
+    ref = planar.solve(joint, solver=direct)
+    got = planar.solve(joint, solver="amg")
+    for case in ("pull", "side"):
+        info = got[case].layers["strap"].solver_info
+        assert info["residual"][0] <= 1e-9 and info["iterations"][0] > 0
+        shear = ref[case].fasteners.shear
+        scale = np.abs(shear).max()
+        assert scale > 0
+        np.testing.assert_allclose(got[case].fasteners.shear, shear, rtol=0, atol=1e-8 * scale)
+        assert got[case].balance_error() < 1e-8
