@@ -63,18 +63,17 @@ so the three orderings it took (and the submatrices) cost more time than those o
 nested dissection callable on its own (METIS on the node graph) it would be the cheaper way.
 
 ``--solver amg`` (CG with smoothed aggregation, both solves) prints each run's set-up, CG iterations and
-true relative residual. The springs add about 1 % to the matrix's entries, but they change the
-aggregation: with the strength threshold at 0 every spring entry counts as a strong coupling, so the
-patches of both plates under a fastener (all coupled to each other through its mean motions) fall into
-aggregates of their own shape, and the first coarse level grows denser. Measured at n = 354 (two runs
-each, best of 2, load average 1.3 to 2.6): CG 17 iterations without, 22 with (splice) and 25 with
-(grid); the ratio with / without 0.88 to 1.26 wall (splice, noisy) and 1.47 to 1.54 wall (grid); each
-solve 12 to 20 s, where PARDISO's took 7 s without and 7 s (splice) or 10 s (grid) with, in the same
-hour: at this size the direct solve is the quicker, with fasteners or without. The near-null space is each
-plate's three rigid modes as six block-diagonal columns, so each aggregate of one plate carries three
-zero columns and the first coarse level has twice the unknowns it needs (six per aggregate). A
-threshold of 0.05 (the spring entries weak) gave 13 iterations with and without the grid's fasteners on
-the same matrices, but a coarse level twice as dense; not adopted without measuring single plates too.
+true relative residual. A fastener's spring couples every node of its patch in each plate to every
+other (through the patches' mean motions); aggregated by every entry (strength threshold 0), those
+entries shaped the aggregates round each fastener and CG took 17 iterations without the fasteners, 22
+with them (splice) and 25 (grid): 1.18 to 1.26 wall (splice) and 1.47 to 1.54 (grid). The joint's finest
+level is now aggregated by the plates' own couplings (``planar.core._multigrid.Couplings``): 17 without,
+20 (splice) and 19 (grid) with; 1.33 wall (splice) and 1.16 (grid), one run each at load average 0.6 to
+1 (the set-up still grows, its first coarse level denser with the springs). Not within 1.1x. Each amg
+solve took 11 to 16 s, PARDISO's 7 s without and 7 s (splice) or 10 s (grid) with, in the same hour: at
+this size the direct solve is the quicker, with fasteners or without. The near-null space is each
+plate's three rigid modes as six block-diagonal columns, so an aggregate of one plate carries three
+zero columns and the first coarse level has twice the unknowns it needs (six per aggregate).
 """
 from __future__ import annotations
 

@@ -143,3 +143,32 @@ def test_amg_joint_gives_the_direct_solves_fastener_loads_with_a_layer_held_only
         assert scale > 0
         np.testing.assert_allclose(got[case].fasteners.shear, shear, rtol=0, atol=1e-8 * scale)
         assert got[case].balance_error() < 1e-8
+
+
+@pytest.mark.skipif("amg" not in solvers.available_solvers(), reason="pyamg not installed")
+def test_amg_aggregates_a_joint_by_its_layers_own_couplings(monkeypatch):
+    # smoothed aggregation (Vanek, Mandel and Brezina, Computing 56, 1996) builds its aggregates from the
+    # strong couplings; a fastener's spring couples its whole patch in each layer, so the joint's finest
+    # aggregates must be those of the layers' own matrices, the springs staying in the smoothed matrix
+    from planar.core import _multigrid as mg
+
+    seen = []
+    real = solvers.factorize
+
+    def spy(lower, method="auto", **kw):
+        fac = real(lower, method, **kw)
+        seen.append((lower, kw.get("rigid_modes"), kw.get("space"), fac))
+        return fac
+
+    monkeypatch.setattr(solvers, "factorize", spy)
+    joint = _joint(held_strap=True)
+    res = planar.solve(joint, cases="pull", solver="amg")
+    lower, modes, space, fac = seen[-1]
+    assert isinstance(space, mg.Couplings) and space.graph.nnz < lower.nnz  # the springs add entries
+    plates = solvers._full(space.graph)
+    alone = mg.hierarchy(plates, None, modes)
+    springs = mg.hierarchy(solvers._full(lower), None, modes)  # aggregated by every entry, the springs' too
+    got = [lv.A.shape[0] for lv in fac._ml.levels]
+    assert got[1] == alone.levels[1].A.shape[0] != springs.levels[1].A.shape[0]
+    ref_loads = planar.solve(joint, cases="pull", solver="superlu")["pull"].fasteners.shear
+    np.testing.assert_allclose(res["pull"].fasteners.shear, ref_loads, rtol=0, atol=1e-8 * np.abs(ref_loads).max())

@@ -44,6 +44,7 @@ from .timing import Timer
 from ._tying import Tying, held_rows
 from . import diagnose, solvers
 from ._conditioning import matrix_figures, matvec
+from ._multigrid import Couplings
 
 __all__ = ["solve_joint"]
 
@@ -492,6 +493,7 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
     _motion_check(joint, layers, [(index[s["a"]], index[s["b"]], s["points"]) for s in springs])
     lower = _side_by_side([L.system.lower for L in layers])
     rhs = np.vstack([L.rhs.reshape(L.n, m) for L in layers])
+    plates = lower  # the layers' own couplings: the multigrid aggregates by these (_multigrid.Couplings)
     if Bs:
         B = sp.vstack(Bs).tocsr()
         kv = np.concatenate(ks)
@@ -518,7 +520,9 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
     try:
         figures = diagnose.start_figures(lower, solver)
         timer.start(f"factorizing ({solver})")
-        fac = solvers.factorize(lower, solver, rigid_modes=modes, after_ordering=diagnose.also_wait(None, figures))
+        space = None if modes is None or not Bs else Couplings(modes, plates)
+        fac = solvers.factorize(lower, solver, rigid_modes=modes, space=space,
+                                after_ordering=diagnose.also_wait(None, figures))
         timer.lap("factorization")
         timer.start("solving")
         sol, _probe = diagnose.solve_with_probe(fac, rhs)

@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-__all__ = ["NodalSpace", "nodal_space", "hierarchy", "Cycle", "coarse_size", "one_blas_thread"]
+__all__ = ["NodalSpace", "Couplings", "nodal_space", "hierarchy", "Cycle", "coarse_size", "one_blas_thread"]
 
 
 @dataclass
@@ -58,6 +58,31 @@ class NodalSpace:
     modes: np.ndarray
     fixed: np.ndarray
     injection: bool
+
+
+@dataclass
+class Couplings:
+    """Near-null modes and the couplings to aggregate by, for a matrix taken as given (a fastened joint).
+
+    A fastener's spring couples every node of its patch in each layer to every other (through the
+    patches' mean motions): counted as strong couplings, those entries shape the aggregates around
+    each fastener and slow CG (17 to 25 steps for a doubler with 1,000 fasteners at 10^6 unknowns).
+    The finest level is therefore aggregated by ``graph`` (the layers' own matrices, lower triangle),
+    the springs staying in the matrix that is smoothed and coarsened.
+
+    Attributes
+    ----------
+    modes : ndarray, shape (n, k)
+        Near-null modes of the system's unknowns.
+    graph : scipy.sparse matrix, shape (n, n)
+        Lower triangle of the matrix whose couplings decide the first aggregation.
+    injection : bool
+        Always True (no nodal level of its own), read by the solver's description.
+    """
+
+    modes: np.ndarray
+    graph: sp.spmatrix
+    injection: bool = True
 
 
 def _vertices(cell: str) -> np.ndarray:
@@ -214,7 +239,15 @@ def hierarchy(A: sp.csr_matrix, space: NodalSpace | None, B: np.ndarray | None):
     # the rigid-body modes are the exact near-null space: no relaxation sweeps to improve them (pyamg's
     # default, 24 sweeps of the finest level, 1.7 s of a 7.3 s set-up for Q4 at 10^6 unknowns)
     sa_kw = dict(strength="symmetric", smooth="jacobi", max_coarse=1000, coarse_solver="splu", improve_candidates=None)
-    if space is None:
+    if space is None or isinstance(space, Couplings):
+        if space is not None:  # the first aggregation by the given couplings, the coarser ones by their own
+            from pyamg.strength import symmetric_strength_of_connection
+
+            G = sp.csr_matrix(space.graph)
+            G = (G + sp.tril(G, -1).T).tocsr()
+            sa_kw["strength"] = [("predefined", {"C": symmetric_strength_of_connection(G, 0.0)}), "symmetric"]
+            del G
+            B = space.modes if B is None else B
         ml = pyamg.smoothed_aggregation_solver(A, B=None if B is None else np.array(B, dtype=float, order="C"),
                                                **sa_kw)
         change_smoothers(ml, ("gauss_seidel", {"sweep": "symmetric"}), ("gauss_seidel", {"sweep": "symmetric"}))
