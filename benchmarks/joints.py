@@ -68,8 +68,9 @@ other (through the patches' mean motions); aggregated by every entry (strength t
 entries shaped the aggregates round each fastener and CG took 17 iterations without the fasteners, 22
 with them (splice) and 25 (grid): 1.18 to 1.26 wall (splice) and 1.47 to 1.54 (grid). The joint's finest
 level is now aggregated by the plates' own couplings (``planar.core._multigrid.Couplings``): 17 without,
-20 (splice) and 19 (grid) with; 1.33 wall (splice) and 1.16 (grid), one run each at load average 0.6 to
-1 (the set-up still grows, its first coarse level denser with the springs). Not within 1.1x. Each amg
+20 (splice) and 19 (grid) with; 1.33 and 1.17 wall (splice), 1.16 and 1.36 (grid), two runs each at load
+average 0.6 to 1.1 (the set-up still grows, up to 1.4x, its first coarse level denser with the springs).
+Not within 1.1x. Each amg
 solve took 11 to 16 s, PARDISO's 7 s without and 7 s (splice) or 10 s (grid) with, in the same hour: at
 this size the direct solve is the quicker, with fasteners or without. The near-null space is each
 plate's three rigid modes as six block-diagonal columns, so an aggregate of one plate carries three
