@@ -94,6 +94,7 @@ def test_demo_physics(demo_run):
     assert 0 < s["gci"] < 0.01
 
 
+@pytest.mark.slow
 def test_demo_report_shows_cautions_and_renders(demo_run, tmp_path):
     _, _, out = demo_run
     html = (out / "report.html").read_text()
@@ -108,6 +109,7 @@ def test_demo_report_shows_cautions_and_renders(demo_run, tmp_path):
     assert distinct > 2000 and saturated > 100_000
 
 
+@pytest.mark.slow
 def test_demo_report_prints_to_pdf(demo_run, tmp_path):
     """The demo's report printed by headless Chromium: numbered pages with the title and revision, whole
     figures, inputs with units, no Python spellings, the sign-off block and the versions (tests/test_report_print.py
@@ -130,6 +132,7 @@ def test_demo_report_prints_to_pdf(demo_run, tmp_path):
 
 
 # ---------------------------------------------------------------------------------------- show
+@pytest.mark.slow
 def test_show_draws_a_written_result(demo_run, tmp_path, capsys):
     _, _, out = demo_run
     png = tmp_path / "vm.png"

@@ -89,6 +89,7 @@ def test_terminal_shows_the_stages():
         assert f"planar:   {stage}" in out, out
 
 
+@pytest.mark.slow
 def test_iterations_of_the_iterative_solver_show():
     pytest.importorskip("pyamg")
     out = _run_pty(_env(**LOW), "8", "amg")
@@ -96,12 +97,14 @@ def test_iterations_of_the_iterative_solver_show():
     assert "CG on" not in _run_pipe(_env(**LOW), "8", "amg").stderr
 
 
+@pytest.mark.slow
 def test_pipe_is_quiet():
     p = _run_pipe(_env(**LOW))
     assert "done" in p.stdout
     assert "planar:" not in p.stderr and "planar:" not in p.stdout
 
 
+@pytest.mark.slow
 def test_environment_forces_on_and_off():
     on = _run_pipe(_env(PLANAR_PROGRESS="1", **LOW))
     assert "planar: factorizing" in on.stderr and "planar:   solve" in on.stderr
@@ -109,6 +112,7 @@ def test_environment_forces_on_and_off():
     assert "done" in off and "planar:" not in off
 
 
+@pytest.mark.slow
 def test_small_quick_model_is_quiet_on_a_terminal():
     # default thresholds: a model of a few hundred unknowns solved in well under a second says nothing
     out = _run_pty(_env())

@@ -238,6 +238,7 @@ def test_report_section_tables_the_spots():
     assert len(table.rows) == len(hs) and "[MPa]" in " ".join(table.headers)
 
 
+@pytest.mark.slow
 def test_stress_check_report_takes_the_hot_spots():
     from planar.post.report import render_html, stress_check_report
 

@@ -176,6 +176,7 @@ def _gmsh_plate(path, size=0.05):
     assert gmsh is not None
 
 
+@pytest.mark.slow
 def test_t10_from_msh_to_solve_to_vtu_to_show(t10, tmp_path):
     import meshio
 

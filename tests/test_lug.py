@@ -199,6 +199,7 @@ def test_contact_with_clearance_narrows_the_arc_and_raises_the_peak_pressure(lug
 
 
 # ------------------------------------------------------------------ the sample
+@pytest.mark.slow
 def test_lug_sample_writes_its_table_and_plot(tmp_path):
     env = dict(os.environ, PLANAR_OUT=str(tmp_path), MPLBACKEND="Agg")
     proc = subprocess.run([sys.executable, str(SAMPLES / "lug_check.py")], cwd=SAMPLES, env=env,

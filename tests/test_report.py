@@ -126,6 +126,7 @@ def test_blocks_render_and_bad_blocks_are_refused(tmp_path):
         render_html(Report("t", sections=[Section("s", [Figure(b"GIF89a", "x")])]))
 
 
+@pytest.mark.slow
 def test_write_report_is_atomic(tmp_path):
     r = _result()
     out = tmp_path / "report.html"

@@ -197,6 +197,7 @@ def bracket():
 WIDTH, HOLE_D, EDGE, THICK, FORCE, CLEARANCE = 60.0, 25.0, 45.0, 12.0, 50e3, 0.03
 
 
+@pytest.mark.slow
 def test_lug_report_prints_with_page_numbers_whole_rows_and_figures(tmp_path):
     from planar.core.pins import TIES, Pin, PinLoad
     from planar.geometry import Refine, lug, mesh

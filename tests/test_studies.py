@@ -123,6 +123,7 @@ def test_function_must_be_importable():
         resolve_function("planar.studies:example_strip")
 
 
+@pytest.mark.slow
 def test_function_from_a_file_runs_on_workers(tmp_path):
     f = tmp_path / "my_study.py"
     f.write_text("import os\n\ndef cube(a):\n    return {'v': a ** 3, 'pid': os.getpid()}\n")
@@ -272,6 +273,7 @@ def test_missing_dask_is_a_clear_error(monkeypatch):
 
 
 # ---------------------------------------------------------------------------- local worker processes
+@pytest.mark.slow
 def test_local_processes_match_serial(tmp_path):
     pts = grid(x=[0, 1, 2, 3, 4])
     a = sweep(square, pts, workers=0)
@@ -316,6 +318,7 @@ def dask_client():
     cluster.close()
 
 
+@pytest.mark.slow
 def test_dask_table_equals_serial(dask_client, tmp_path):
     pts = grid(width=[10.0, 20.0, 30.0, 40.0])
     outputs = {"peak": Peak("von_mises"), "end_ux": ValueAt((100.0, 0.0), "ux")}

@@ -53,6 +53,7 @@ def test_gmsh_version_2_file_keeps_its_physical_names(tmp_path):
     assert r.u[:, 0].max() == pytest.approx(0.05, rel=1e-9)
 
 
+@pytest.mark.slow
 def test_thin_ligament_finely_meshed_is_not_called_a_unit_mix_up():
     # a 20 mm hole 0.1 mm from the edge of an aluminium strap at 60 MPa: the ligament truly strains
     # beyond 2e-2 (a linear-elastic answer of some 5000 MPa), but over a tiny area. The strain level

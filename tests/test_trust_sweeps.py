@@ -158,6 +158,7 @@ def square(x, markers, sleep=0.0):
 
 
 # ---------------------------------------------------------------------------- workers end with the sweep
+@pytest.mark.slow
 @posix_only
 def test_kill_9_of_the_sweep_ends_workers_forkserver_and_tracker(tmp_path):
     # common practice: a pool's workers must not outlive their parent; prctl(2) PR_SET_PDEATHSIG
@@ -456,6 +457,7 @@ def test_racing_claims_and_takeovers_give_each_point_to_one_run(tmp_path):
         r.close()
 
 
+@pytest.mark.slow
 def test_heartbeat_keeps_a_long_point_claimed(tmp_path):
     mine = studies._Claims(tmp_path, timeout=0.3)        # heartbeat every 0.05 s
     other = studies._Claims(tmp_path, timeout=0.3)

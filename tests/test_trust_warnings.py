@@ -378,6 +378,7 @@ def test_one_warning_per_solve_kept_by_every_case():
     assert len({id(r.warnings[0]) for r in results.values()}) == 1
 
 
+@pytest.mark.slow
 def test_warnings_reach_the_report_and_summary():
     model = _cantilever("Q4", 10, 4, 10.0, 4.0, nu=0.4999, analysis="plane strain", tip=-10.0)
     with pytest.warns(PlanarWarning):
