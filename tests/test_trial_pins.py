@@ -41,6 +41,15 @@ def pulled_through_pin(cut: str, tie: str, **kw):
     return planar.solve(model)["pull"]
 
 
+def lug_on_contact_pin(m, material, thickness: float, units: str, clearance: float, fy: float):
+    """The lug mesh ``m`` held at its base and pulled by ``fy`` through a free contact pin, 'pin', in its hole."""
+    model = planar.Model(m, material, thickness=thickness, units=units)
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=clearance, hold=None, name="pin"))
+    model.add_load(PinLoad("pin", fy=fy), case="c")
+    return planar.solve(model)["c"]
+
+
 # trial: a plate with a pin whose hole is cut by a symmetry line (half and quarter models)
 def test_half_model_spreading_pin_gives_the_whole_pin_answer():
     # mirror symmetry (common practice): the whole strap's spreading pin puts no force across the line on the
@@ -148,11 +157,7 @@ def test_round_off_of_a_pin_force_prints_as_zero_in_the_contact_line_and_the_rep
     from planar.post.report import reactions_table
 
     m = mesh(lug(50.0, 20.0, 50.0), size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
-    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=10.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("base"))
-    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
-    model.add_load(PinLoad("pin", fy=20e3), case="pull")
-    r = planar.solve(model)["pull"]
+    r = lug_on_contact_pin(m, planar.Isotropic(E=200e3, nu=0.3), 10.0, "N, mm, MPa", 0.02, 20e3)
     st = r.contact_states["pin"]
     assert "force (0, 20000) N" in st.summary()
     row = contact_section(r.contact_states, r.unit_system).blocks[0].rows[0]
@@ -197,11 +202,7 @@ def test_lug_table_and_contact_line_in_psi_print_plain_numbers():
     from planar.post import lug_check
 
     m = mesh(lug(2.0, 0.75, 1.5), size=0.3, element="T6", refine=[Refine("hole", size=0.06)])
-    model = planar.Model(m, planar.Isotropic(E=10.3e6, nu=0.33), thickness=0.25, units="lbf, in, psi")
-    model.add_support(planar.Fixed("base"))
-    model.add_pin(Pin("hole", tie="contact", clearance=0.001, hold=None, name="pin"))
-    model.add_load(PinLoad("pin", fy=3000.0), case="pull")
-    r = planar.solve(model)["pull"]
+    r = lug_on_contact_pin(m, planar.Isotropic(E=10.3e6, nu=0.33), 0.25, "lbf, in, psi", 0.001, 3000.0)
     text = lug_check(r, 3000.0, 2.0, 0.75, 0.25, edge_distance=1.5).table()
     assert "16000 psi" in text and "e+0" not in text
     line = r.contact_states["pin"].summary()
@@ -220,11 +221,7 @@ def test_a_lug_pushed_towards_its_base_gets_no_tension_or_shear_out_margin():
     m = mesh(lug(50.0, 20.0, 50.0), size=8.0, element="T6", refine=[Refine("hole", size=1.5)])
     checks = {}
     for fy in (20e3, -20e3):
-        model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=10.0, units="N, mm, MPa")
-        model.add_support(planar.Fixed("base"))
-        model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
-        model.add_load(PinLoad("pin", fy=fy), case="c")
-        r = planar.solve(model)["c"]
+        r = lug_on_contact_pin(m, planar.Isotropic(E=200e3, nu=0.3), 10.0, "N, mm, MPa", 0.02, fy)
         checks[fy] = lug_check(r, fy, 50.0, 20.0, 10.0, edge_distance=50.0, tension_allowable=300.0,
                                shear_allowable=200.0, bearing_allowable=400.0)
     pull, push = checks[20e3], checks[-20e3]
