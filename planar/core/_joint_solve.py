@@ -34,6 +34,7 @@ from types import SimpleNamespace
 import numpy as np
 import scipy.sparse as sp
 
+from ._circle import fit_circle
 from .assembly import Assembly
 from .errors import InputError, SolverError, SupportError, unknown_name, warn
 from .kinematics import pending_warnings, zero_energy_check
@@ -188,17 +189,9 @@ def _hole_at(mesh, pts: np.ndarray):
     to 1e-3 of its radius, no gap over a quarter turn), or None."""
     for name in mesh.edge_sets:
         ring = mesh.nodes[np.unique(np.asarray(mesh.edge(name))[:, :2])][:, :2]
-        if ring.shape[0] < 3:
-            continue
-        A = np.column_stack([ring, np.ones(ring.shape[0])])
-        sol, *_ = np.linalg.lstsq(A, (ring ** 2).sum(axis=1), rcond=None)
-        c = 0.5 * sol[:2]
-        r2 = sol[2] + c @ c
-        if not r2 > 0:
-            continue
-        r = float(np.sqrt(r2))
-        if np.abs(np.hypot(*(ring - c).T) - r).max() > 1e-3 * r:
-            continue  # not a round hole
+        c, r, res = fit_circle(ring)
+        if not res <= 1e-3:
+            continue  # not a round hole (or fewer than three nodes, or nodes on a line)
         ang = np.sort(np.arctan2(*(ring - c).T[::-1]))
         if np.diff(np.r_[ang, ang[0] + 2 * np.pi]).max() > 0.5 * np.pi:
             continue  # an arc (a fillet, a notch), not a hole all round

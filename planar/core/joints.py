@@ -33,10 +33,12 @@ Fasteners('row A', 2 points, layers=('skin', 'strap'), d=4.8, flexibility=2e-05,
 """
 from __future__ import annotations
 
+import math
 from typing import Any, Sequence
 
 import numpy as np
 
+from ._circle import fit_circle
 from .errors import InputError, unknown_name
 from .pins import TIES
 from .values import number
@@ -58,12 +60,8 @@ def _hole_size(ring: np.ndarray) -> float:
     (exact for nodes on a circle or an arc of one), or the edge's widest extent where that is larger
     (a slot), so a hole is never read smaller than it is."""
     extent = float(np.ptp(ring, axis=0).max())
-    if ring.shape[0] < 3:
-        return extent
-    A = np.column_stack([ring, np.ones(ring.shape[0])])
-    sol, *_ = np.linalg.lstsq(A, (ring ** 2).sum(axis=1), rcond=None)
-    r2 = sol[2] + 0.25 * (sol[0] ** 2 + sol[1] ** 2)
-    return max(extent, 2.0 * float(np.sqrt(r2))) if r2 > 0 else extent
+    r = fit_circle(ring)[1]  # inf for fewer than three nodes or nodes on a line: the extent alone
+    return max(extent, 2.0 * r) if math.isfinite(r) else extent
 
 
 def _word(value, allowed, what) -> str:
