@@ -439,8 +439,10 @@ def standard_gravity(direction, units) -> tuple[float, float]:
     return system.g * dx + 0.0, system.g * dy + 0.0
 
 
-#: length units (in metres) whose standard g a vector given in another system's length unit may be
-_G_LENGTHS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254, "ft": 0.3048}
+#: the standard g per s^2 in each length unit of the named systems (and in cm): a vector given in another
+#: system's length unit may be one of these
+_G_BY_LENGTH = {s.length: s.g for s in systems() if s.g}
+_G_BY_LENGTH["cm"] = 100.0 * _G_BY_LENGTH["m"]
 
 
 def gravity_vector(gx: float, gy: float, direction, units) -> tuple[float, float]:
@@ -459,8 +461,8 @@ def gravity_vector(gx: float, gy: float, direction, units) -> tuple[float, float
     g = math.hypot(float(gx), float(gy))
     if not system.stated or not system.g or abs(g / system.g - 1.0) <= 0.01:
         return float(gx), float(gy)
-    for length, metres in _G_LENGTHS.items():
-        if abs(g / (9.80665 / metres) - 1.0) <= 0.01:
+    for length, g_there in _G_BY_LENGTH.items():
+        if abs(g / g_there - 1.0) <= 0.01:
             raise InputError(
                 f"gravity: |g| = {g:.6g} is the standard g in {length}/s^2, but the model's units are "
                 f"{system.label}, where it is {system.g:.7g} {system.length}/s^2; give Gravity(direction=(0, -1)) "
