@@ -143,13 +143,14 @@ class FastenerTable:
             label[order] = np.cumsum(np.r_[0, np.diff(proj[order]) > fz.diameter / 2])
             nrow = int(label.max()) + 1
             key = (sd["a"], sd["b"])
+            n = np.bincount(label, minlength=nrow)  # each row's count, load and centre, summed in one pass
+            Vr = np.column_stack([np.bincount(label, V[:, j], nrow) for j in (0, 1)])
+            cr = np.column_stack([np.bincount(label, pts[:, j], nrow) for j in (0, 1)]) / n[:, None]
+            loads = np.hypot(*Vr.T)
+            totals[key] = totals.get(key, 0.0) + float(loads.sum())
             for r in range(nrow):
-                sel = label == r
-                load = float(np.hypot(*V[sel].sum(axis=0)))
-                totals[key] = totals.get(key, 0.0) + load
-                c = pts[sel].mean(axis=0)
-                rows.append(dict(group=fz.name, row=r + 1, layers=key, centre=(float(c[0]), float(c[1])),
-                                 count=int(sel.sum()), load=_f(load)))
+                rows.append(dict(group=fz.name, row=r + 1, layers=key, centre=(float(cr[r, 0]), float(cr[r, 1])),
+                                 count=int(n[r]), load=_f(loads[r])))
         for r in rows:
             tot = totals[r["layers"]]
             r["share"] = _f(r["load"] / tot) if tot > 0 else 0.0
