@@ -171,7 +171,6 @@ def _conflict(mesh, supports, p, labels):
 
 def _case_names(model, cases) -> list[str]:
     """The load cases to solve: all (None), one name (a str), or a list of names."""
-    from .errors import InputError
     from .model import Model
 
     if not isinstance(model, Model):
@@ -185,8 +184,6 @@ def _case_names(model, cases) -> list[str]:
 def case_list(cases, known: list[str]) -> list[str]:
     """``cases`` as a list of names: all of ``known`` (None), one name (a str), or a list of names;
     a value of another kind, or an empty list, refused naming ``known`` (not checked against them)."""
-    from .errors import InputError
-
     if cases is None:
         return list(known)
     if isinstance(cases, (str, int)) and not isinstance(cases, bool):  # one name, not a sequence of letters
