@@ -76,7 +76,7 @@ def joint_section(joint_result) -> Section:
     f, s, lu = _unit(units, "force"), _unit(units, "stress"), _unit(units, "length")
     blocks: list = []
     if tab.pairs:
-        cu = f" [{lu[2:-1]}/{f[2:-1]}]" if lu and f else ""  # compliance: length per force
+        cu = f" [{tab.compliance_unit()}]" if tab.compliance_unit() else ""  # compliance: length per force
         blocks.append(Table(["fastener", "layers", "at" + lu, "shear Vx, Vy" + f, "shear" + f, "compliance" + cu],
                             [[f"{p['group']} {p['index'] + 1}", f"{p['layers'][0]} to {p['layers'][1]}",
                               _pt(p["point"]), _force(p["shear"]), _f(p["magnitude"]), _f(p["compliance"], ".4g")]
