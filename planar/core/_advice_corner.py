@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 
-from ._advice_node import angles, cells_at, clear_distance, fan, peak_doc, point_source, warn_if_found
+from ._advice_node import angles, cells_at, clear_distance, fan, node_memo, peak_doc, point_source, warn_if_found
 from .errors import fmt_point
 
 __all__ = ["SHARP_KINK", "sharp_corner_at", "sharp_corner_near", "sharp_corner_peak"]
@@ -75,7 +75,10 @@ def sharp_corner_near(result, node: int) -> tuple[float, int] | None:
     asm = getattr(result, "assembly", None)
     if asm is None:
         return None
-    node = int(node)
+    return node_memo(asm, "_planar_sharp_corners", node, lambda: _sharp_near(asm, int(node)))
+
+
+def _sharp_near(asm, node: int) -> tuple[float, int] | None:
     angle = _sharp(asm, node)
     if angle is not None:
         return angle, node

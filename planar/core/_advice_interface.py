@@ -47,7 +47,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ._advice_node import angles, clear_distance, fan, peak_doc, point_source, warn_if_found
+from ._advice_node import angles, clear_distance, fan, node_memo, peak_doc, point_source, warn_if_found
 from .errors import InputError, fmt_point
 
 __all__ = ["WEAK_STRENGTH", "NEAR_SIZES", "dundurs", "wedge_determinant", "singularity_exponent",
@@ -348,9 +348,14 @@ def interface_edge_near(result, node: int) -> dict | None:
             object.__setattr__(asm, "_planar_interface_points", cached)
         except (AttributeError, TypeError):
             pass
-    ids, props, cand = cached
-    if cand.size == 0:
+    if cached[2].size == 0:
         return None
+    return node_memo(asm, "_planar_interface_edges", node, lambda: _near(result, asm, cached, int(node)))
+
+
+def _near(result, asm, cached: tuple, node: int) -> dict | None:
+    """:func:`interface_edge_near` at ``node``, from the assembly's sections and junctions ``cached``."""
+    ids, props, cand = cached
     from .zones import node_sizes
 
     nodes = result.mesh.nodes

@@ -18,7 +18,7 @@ from .errors import InputError, fmt_point, warn
 from .fields import FIELD_TABLE
 from .units import length_unit, stress_unit
 
-__all__ = ["point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
+__all__ = ["node_memo", "point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
            "angles", "peak_words", "warn_peak", "warn_if_found"]
 
 #: the parameters every check of a peak takes, for its docstring (see :func:`peak_doc`)
@@ -194,6 +194,26 @@ def warn_if_found(result, node: int, field: str, values, code: str, find: Callab
     node = int(node)
     warn_peak(result, code, f"{peak_words(result, node, field, values)} {words(got, node)}", stacklevel + 1)
     return None
+
+
+def node_memo(asm, name: str, node: int, find: Callable[[], object | None]) -> object | None:
+    """``find()`` for ``node``, worked out once per assembly and node and kept on ``asm`` under ``name``.
+
+    For the causes of a peak that depend on the mesh and the model only (a sharp corner, an interface
+    edge): a peak query warns of them and then asks again before judging the resolution, and the hot
+    spots and the other load cases of the assembly ask about the same nodes.
+    """
+    memo = getattr(asm, name, None)
+    if memo is None:
+        memo = {}
+        try:
+            object.__setattr__(asm, name, memo)
+        except (AttributeError, TypeError):  # an assembly that keeps no attribute: work it out each time
+            return find()
+    node = int(node)
+    if node not in memo:
+        memo[node] = find()
+    return memo[node]
 
 
 def point_source(p) -> str:
