@@ -28,6 +28,14 @@ SLENDER = 200.0
 INCOMPRESSIBLE = 1e6
 
 
+def incompressible_regions(asm) -> dict:
+    """Region -> bulk over shear stiffness of the blocks that reach :data:`INCOMPRESSIBLE` in plane strain
+    (empty in plane stress, where no Poisson's ratio locks the volume)."""
+    if asm.analysis != "plane strain":
+        return {}
+    return {b.region: k for b in asm.blocks if (k := bulk_shear_ratio(b.D)) >= INCOMPRESSIBLE}
+
+
 def _block_stiffness(b) -> float:
     """E times thickness, roughly: the largest entry of D times the thickness."""
     return float(np.abs(b.D).max()) * float(b.thickness)
@@ -263,11 +271,10 @@ def diagnose(asm, system=None, free: np.ndarray | None = None, *, mode: np.ndarr
         causes.append(
             "a mechanism from zero-energy (hourglass) modes of an under-integrated rule ("
             + ", ".join(reduced) + "): use the full integration rule")
-    bulk = {b.region: bulk_shear_ratio(b.D) for b in asm.blocks}
-    if not causes and asm.analysis == "plane strain" and max(bulk.values(), default=0.0) >= INCOMPRESSIBLE:
-        regs = [r for r, k in bulk.items() if k >= INCOMPRESSIBLE]
+    bulk = incompressible_regions(asm) if not causes else {}
+    if bulk:
         causes.append(
-            f"a nearly incompressible material in plane strain: region(s) {', '.join(map(repr, regs))} resist a "
+            f"a nearly incompressible material in plane strain: region(s) {', '.join(map(repr, bulk))} resist a "
             f"change of volume {max(bulk.values()):.1e} times more than a change of shape (1 / (1 - 2 nu)), "
             "beyond what double precision separates; use Poisson's ratio 0.499 or less (or plane stress)")
     s, through, length, depth, what = _most_slender(asm)

@@ -378,12 +378,10 @@ def warn_untrusted(result, trust: Trust, j: int) -> None:
 
     text = warning_text(trust, j)
     if text is not None:
-        from ._advice_locking import bulk_shear_ratio
-        from ._diagnosis import INCOMPRESSIBLE
+        from ._diagnosis import incompressible_regions
 
         asm = getattr(result, "assembly", None)
-        if asm is not None and asm.analysis == "plane strain" and any(
-                bulk_shear_ratio(b.D) >= INCOMPRESSIBLE for b in asm.blocks):  # the likely cause, named
+        if asm is not None and incompressible_regions(asm):  # the likely cause, named
             text += ("; here, above all, a nearly incompressible material in plane strain (Poisson's ratio "
                      "above 0.4999995): use 0.499 or less")
         warn(f"load case {result.case!r}: {text}", "ill-conditioned", sink=result.warnings, stacklevel=3)
