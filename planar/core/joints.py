@@ -162,10 +162,8 @@ class Fasteners:
                 raise InputError(f"fasteners {self.name!r}: shear='double' joins three layers, the middle plate "
                                  f"listed second (outer, middle, outer); got {len(self.layers)} layers "
                                  f"{self.layers}; give shear='single' or the three layers")
-            try:
-                from .fastener_flexibility import fastener_compliance
-            except ImportError:  # pragma: no cover - the formulas are part of planar
-                return
+            from .fastener_flexibility import fastener_compliance
+
             fastener_compliance(self.flexibility, diameter=1.0, t1=1.0, t2=1.0, E1=1.0, E2=1.0, Ef=1.0,
                                 kind=self.kind, shear=self.shear)
 
