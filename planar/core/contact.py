@@ -176,6 +176,7 @@ class ContactSet:
         self.iterations: list[int] = []
         self.mu = None
         self._W = None
+        self.gf = None  # the gaps the loads alone leave, set by solve
 
     @staticmethod
     def _mark_schur(low, B: sp.csr_matrix, nO: int) -> None:
@@ -482,7 +483,7 @@ class ContactSet:
                 f = (p["e"][order] * lam[:, None]).sum(axis=0)
                 pres_out = np.where(bearing, pres, 0.0)
                 neglected = motion = 0.0
-                gf = getattr(self, "gf", None)
+                gf = self.gf
                 closure = float(np.abs(gap - gf[rr, j]).max(initial=0.0)) if bearing.any() and gf is not None else 0.0
                 if U is not None:
                     e = p["e"][order]
@@ -533,7 +534,7 @@ def advise(result) -> None:
         # the scale of the normal motions the gap decides: the motion read, the clearance, and the closure the
         # contact forces hold back (a shrink fit held closed reads no normal motion, ~1e-15, but closes by its
         # interference): the round-off of a motion that is not there never warns
-        scale = max(st.motion, st.clearance, getattr(st, "closure", 0.0))
+        scale = max(st.motion, st.clearance, st.closure)
         if scale > 0 and st.neglected > 0.01 * scale:
             lu = st.units.get("length", "")
             warn(f"contact-large-motion: pin {name!r} (case {st.case!r}): the edge slides across the pin by up to "
