@@ -263,12 +263,7 @@ class _Pardiso:
 
     def solve(self, b):
         b = np.asarray(b, dtype=float)
-        if self._basis is not None:
-            x = self._turn(self._call(33, self._turn(b.reshape(self.n, -1), True)), False)
-            if not np.all(np.isfinite(x)):
-                raise _numerical(_SINGULAR)
-            return np.ascontiguousarray(x).reshape(b.shape)
-        x = self._call(33, b.reshape(self.n, -1))
+        x = self._turn(self._call(33, self._turn(b.reshape(self.n, -1), True)), False)  # T x' = K^-1 b
         if not np.all(np.isfinite(x)):
             raise _numerical(_SINGULAR)
         return np.ascontiguousarray(x).reshape(b.shape)
