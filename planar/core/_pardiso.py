@@ -248,10 +248,7 @@ class _Pardiso:
             return None
         Bt = sp.csr_matrix(B, dtype=float)
         if self._basis is not None:
-            a, b, c, s = self._basis
-            T = sp.csr_matrix((np.r_[c - 1.0, -s, s, c - 1.0], (np.r_[a, a, b, b], np.r_[a, b, a, b])),
-                              shape=(self.n, self.n)) + sp.identity(self.n, format="csr")
-            Bt = sp.csr_matrix(Bt @ T)
+            Bt = sp.csr_matrix(Bt @ _turn_matrix(self.n, *self._basis))
         tol = 8 * _EPS * float(np.abs(Bt.data).max(initial=0.0))
         Bt.data[np.abs(Bt.data) <= tol] = 0.0
         Bt.eliminate_zeros()
@@ -292,6 +289,13 @@ def _pair_basis(basis, n: int):
     return pairs[:, 0], pairs[:, 1], dirs[:, 0] / norm, dirs[:, 1] / norm
 
 
+def _turn_matrix(n: int, a, b, c, s) -> sp.csr_matrix:
+    """T (n x n): the identity but for each pair ``(a_i, b_i)``, turned by ``(c_i, s_i)``
+    (``u_a = c u'_a - s u'_b``, ``u_b = s u'_a + c u'_b``)."""
+    return sp.csr_matrix((np.r_[c - 1.0, -s, s, c - 1.0], (np.r_[a, a, b, b], np.r_[a, b, a, b])),
+                         shape=(n, n)) + sp.identity(n, format="csr")
+
+
 def _turned_lower(L: sp.csc_matrix, a, b, c, s) -> sp.csc_matrix:
     """The lower triangle of ``T^T K T`` from that of K, T turning each pair ``(a_i, b_i)`` by ``(c_i, s_i)``
     (``u_a = c u'_a - s u'_b``, ``u_b = s u'_a + c u'_b``): only the entries in the pairs' rows and columns
@@ -308,8 +312,7 @@ def _turned_lower(L: sp.csc_matrix, a, b, c, s) -> sp.csc_matrix:
     col = np.searchsorted(L.indptr, idx, side="right") - 1
     Lt = sp.csc_matrix((L.data[idx], (r, col)), shape=(n, n))
     Kt = Lt + Lt.T - sp.diags(Lt.diagonal())
-    T = sp.csr_matrix((np.r_[c - 1.0, -s, s, c - 1.0], (np.r_[a, a, b, b], np.r_[a, b, a, b])),
-                      shape=(n, n)) + sp.identity(n, format="csr")
+    T = _turn_matrix(n, a, b, c, s)
     D = sp.tril(T.T @ Kt @ T - Kt).tocoo()
     key = r * n + col  # sorted, since idx is
     dkey = D.row.astype(np.int64) * n + D.col
