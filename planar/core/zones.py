@@ -508,8 +508,8 @@ def _near(mesh, trees, nodes, distance) -> tuple[np.ndarray, list[str]]:
         better = ratio < best
         best[better], which[better] = ratio[better], k
     near = best <= 1 + 1e-9
-    reasons = [trees[w][0] if ok else "" for w, ok in zip(which, near)]
-    return near, reasons
+    words = np.array([why for why, _, _ in trees] + [""], dtype=object)  # index -1: none near
+    return near, words[np.where(near, which, -1)].tolist()
 
 
 def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | None = None, *,
