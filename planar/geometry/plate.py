@@ -246,8 +246,9 @@ class Plate:
         tol = self._tol()
         pts = shape._samples()
         outer = self._sdf(pts, holes=False, symmetry=False)
-        near = [op.shape for op in self._ops if op.kind == "hole"]
-        gap = min([-float(outer.max())] + [float(o._sdf(pts).min()) for o in near])
+        holes = [op for op in self._ops if op.kind == "hole"]
+        closest = [float(op.shape._sdf(pts).min()) for op in holes]  # each hole's least value on this one's edge
+        gap = min([-float(outer.max())] + closest)
         if 0.0 < gap < 0.1 * shape._min_feature():
             # a hole close to the edge or to another hole: sample it finely enough (the sag between
             # samples below the tolerance) to tell a thin ligament from a hole that touches at a point
@@ -255,6 +256,7 @@ class Plate:
             pts = np.vstack([p.sample(int(min(max(math.ceil(p.length / math.sqrt(8.0 * tol * feat)), 64),
                                                   200_000)) + 1)[:-1] for p in shape._pieces(name)])
             outer = self._sdf(pts, holes=False, symmetry=False)
+            closest = [float(op.shape._sdf(pts).min()) for op in holes]
         inside = outer < -tol
         if not inside.all():
             if not inside.any() and not np.any(shape._sdf(_samples_of(self._base_pieces)) < 0):
@@ -266,11 +268,8 @@ class Plate:
                 f"{label} {where}; a hole must lie wholly inside the plate. Move it or make it smaller, "
                 "use Plate.notch() for an edge notch, or Plate.difference() to cut the edge away"
             )
-        for op in self._ops:
-            if op.kind != "hole":
-                continue
-            other = op.shape
-            if np.any(other._sdf(pts) < tol) or np.any(shape._sdf(other._samples()) < tol):
+        for op, least in zip(holes, closest):
+            if least < tol or np.any(shape._sdf(op.shape._samples()) < tol):
                 raise GeometryError(
                     f"{label} overlaps or touches {op.label}; move them apart, or make one cut-out of the "
                     "combined shape (an Outline) instead"
