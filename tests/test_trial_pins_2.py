@@ -20,6 +20,14 @@ def round_lug():
     return mesh(lug(40.0, 16.0, 40.0, end="round"), size=6.0, element="T6", refine=[Refine("hole", size=1.2)])
 
 
+def _lug_on_pin(m, hold=None):
+    """The lug mesh ``m`` (steel, 8 mm thick) held at its base, a contact pin 'pin' (0.02 mm clearance) in its hole."""
+    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=hold, name="pin"))
+    return model
+
+
 def _lug_check(m, fx, fy, half=False, hold=None, P=None):
     from planar.post import lug_check
 
@@ -90,9 +98,7 @@ def test_a_lug_check_given_another_load_than_the_hole_carries_says_so(round_lug)
     assert "(15000 N, 2 times the 7500 N on this half model)" in c.load_note and "whole lug's W and D" in c.load_note
     # the held pin the square lug pulls away from (it stretches less than the clearance): nothing on the hole
     square = mesh(lug(40.0, 16.0, 40.0), size=5.0, element="T6", refine=[Refine("hole", size=0.8)])
-    model = planar.Model(square, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("base"))
-    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold="both", name="pin"))
+    model = _lug_on_pin(square, hold="both")
     model.add_load(planar.Traction("end", ty=50.0), case="c")
     r = planar.solve(model)["c"]
     assert not r.contact_states["pin"].in_contact
@@ -108,9 +114,7 @@ def test_the_report_takes_a_drawn_picture_and_names_a_wrong_one(round_lug, tmp_p
     from planar.core.errors import InputError
     from planar.post import plot_model, render_html, stress_check_report
 
-    model = planar.Model(round_lug, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("base"))
-    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    model = _lug_on_pin(round_lug)
     model.add_load(PinLoad("pin", fy=15e3), case="c")
     r = planar.solve(model)["c"]
     keep = dict(omit=("hot spots", "results", "checks", "mesh"))
@@ -127,9 +131,7 @@ def test_the_model_picture_labels_a_pin_load_in_plain_figures(round_lug):
     # plain figures); four figures are kept
     from planar.post import plot_model
 
-    model = planar.Model(round_lug, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
-    model.add_support(planar.Fixed("base"))
-    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    model = _lug_on_pin(round_lug)
     model.add_load(PinLoad("pin", fy=15e3), case="pull")
     model.add_load(PinLoad("pin", fx=5e3, fy=10e3), case="oblique")
     for case, text in (("pull", "15000 N"), ("oblique", "11180 N")):
