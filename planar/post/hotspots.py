@@ -352,7 +352,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     from ..core._advice_corner import sharp_corner_peak
     from ..core._advice_peak import coarse_peak
     from ..core._advice_interface import interface_edge_peak
-    from ..core.zones import idealised_reason, near_idealised, node_sizes
+    from ..core.zones import _idealised_trees, _near, idealised_reason, node_sizes
     from .checks import _check_recovery, margin_of_safety
     from ..core.units import field_unit, length_unit
 
@@ -473,7 +473,8 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         kept = [k for k in kept if keep_mask[nodes[k]]]
     if top is not None:
         kept = kept[:int(top)]
-    near, why = near_idealised(mesh, result.model, nodes[kept]) if kept else (np.zeros(0, bool), [])
+    trees = _idealised_trees(mesh, result.model) if kept else []  # once for all the spots
+    near, why = _near(mesh, trees, nodes[kept], None) if kept else (np.zeros(0, bool), [])
     spots: list[HotSpot] = []
     for r, k in enumerate(kept):  # one pass per spot
         i = int(nodes[k])
@@ -491,7 +492,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         if near[r]:
             mask = _feature_mask(mesh, str(feats[k]), str(kinds[k]), i)
             reason = idealised_reason(result, i, v, mask)
-            if not reason and np.all(near_idealised(mesh, result.model, np.flatnonzero(mask))[0]):
+            if not reason and np.all(_near(mesh, trees, np.flatnonzero(mask), None)[0]):
                 # the feature is itself held or loaded (a clamped bolt hole, a tied pin hole): it has no
                 # value of its own away from the idealisation to set against, so its peak is the
                 # idealisation's, whatever the rest of the part does
