@@ -480,6 +480,16 @@ def test_show_on_damaged_and_poisoned_files(files, poisoned, capsys, tmp_path):
     assert code == 2 and "'von_mises' holds 3" in err and "Traceback" not in err
 
 
+def test_show_with_units_warns_of_a_changed_file_once(files, capsys, tmp_path):
+    # --units reads the file's own units for its note, then the drawing reads the file: one warning, not two
+    bad = tmp_path / "bad.vtu"
+    data = bytearray(files["raw"].read_bytes())
+    data[len(data) // 2] ^= 0x02
+    bad.write_bytes(bytes(data))
+    code, _, err = _cli(capsys, "show", bad, "--png", tmp_path / "x.png", "--allow-changed", "--units", "N-m-Pa")
+    assert code == 0 and err.count("warning [changed-file]") == 1
+
+
 def test_show_of_a_good_file_says_nothing_more(files, capsys, tmp_path):
     png = tmp_path / "good.png"
     code, out, err = _cli(capsys, "show", files["raw"], "--png", png, "--bands", "6")

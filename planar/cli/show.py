@@ -74,6 +74,8 @@ def run(args: argparse.Namespace) -> int:
 
 def _say_override(args, changed: str) -> None:
     """A note on standard error when --units names a system other than the one the file states."""
+    import warnings
+
     from ..core.units import unit_system
     from ..post.files import file_units, read_result_file
 
@@ -81,7 +83,9 @@ def _say_override(args, changed: str) -> None:
         asked = unit_system(args.units)
     except InputError:  # one unit (e.g. "MPa"), not a system: nothing to compare
         return
-    stated = file_units(read_result_file(args.result, changed=changed), args.result)
+    with warnings.catch_warnings():  # the drawing reads the file again and gives its warnings, once
+        warnings.simplefilter("ignore")
+        stated = file_units(read_result_file(args.result, changed=changed), args.result)
     if stated is not None and stated.stated and asked.stated and stated.name != asked.name:
         print(f"planar show: note: the file states {stated.label}; the picture is labelled {asked.label} as "
               "--units asks (the numbers are not converted)", file=sys.stderr)
