@@ -290,15 +290,16 @@ class Result(CaseResult):
         i = int(np.argmax(np.where(mask, a, -np.inf))) if largest else int(np.argmin(np.where(mask, a, np.inf)))
         note = ""
         info = FIELD_TABLE.get(field)
-        if largest or (not absolute and (info is None or info.signed)):
-            # a smallest (most compressive) value is flagged on its magnitude, the same way; the smallest
-            # of a measure that is never negative (von Mises, displacement) is no peak and is not flagged
+        # a smallest (most compressive) value is flagged on its magnitude, the same way; the smallest
+        # of a measure that is never negative (von Mises, displacement) is no peak and is not flagged
+        judged = largest or (not absolute and (info is None or info.signed))
+        if judged:
             note = idealised_reason(self, i, a if largest else -a, mask, sign_of_values=1.0 if largest else -1.0)
         from ._advice_linear import has_linear, linear_peak
 
         if has_linear(self):  # linear elements under-read a peak at a hole or fillet: say so
             linear_peak(self, i, field, v, stacklevel=4)
-        if largest or (not absolute and (info is None or info.signed)):
+        if judged:
             from ._advice_corner import sharp_corner_peak
             from ._advice_interface import interface_edge_peak
 
