@@ -34,6 +34,7 @@ from typing import Any
 
 import numpy as np
 
+from ._circle import fit_circle
 from .errors import InputError, SupportError, fmt_point, unknown_name
 from .loads import LoadKind
 from .values import finite_vector, number
@@ -175,14 +176,9 @@ def reference_point(mesh, edge: str) -> np.ndarray:
     centroid = ((a + b) / 2 * length[:, None]).sum(axis=0) / max(length.sum(), 1e-300)
     if p.shape[0] < 3:
         return centroid
-    c0 = p.mean(axis=0)
-    q = p - c0
-    M = np.column_stack([q, np.ones(q.shape[0])])
-    sol, *_ = np.linalg.lstsq(M, (q ** 2).sum(axis=1), rcond=None)
-    centre = c0 + sol[:2] / 2
-    r = np.sqrt(max(sol[2] + (sol[:2] ** 2).sum() / 4, 0.0))
+    centre, r, residual = fit_circle(p)
     extent = float(np.ptp(p, axis=0).max())
-    if r > 0 and r <= 10 * extent and np.abs(np.hypot(*(p - centre).T) - r).max() <= 1e-3 * r:
+    if r <= 10 * extent and residual <= 1e-3:
         return centre
     return centroid
 

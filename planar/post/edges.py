@@ -42,6 +42,7 @@ from ..core.fields import as_centre
 from ..core.quadrature import gauss_line
 from ..core.result import as_result, stress_measures
 from ..core.units import length_unit, stress_unit
+from ..core._circle import fit_circle  # re-exported: planar.post.edges.fit_circle
 from .checks import _check_recovery
 
 __all__ = ["EdgeStresses", "EdgePeak", "edge_stresses", "plot_edge_stresses", "EDGE_FIELDS", "fit_circle"]
@@ -290,40 +291,6 @@ class EdgeStresses:
 
 
 # ---------------------------------------------------------------------------- geometry
-def fit_circle(points) -> tuple[np.ndarray, float, float]:
-    """Least-squares circle through points (I. Kasa, IEEE Trans. Instrum. Meas. 25, 1976).
-
-    Returns
-    -------
-    centre : ndarray, shape (2,)
-    radius : float
-        ``inf`` when the points lie on a line.
-    residual : float
-        Largest | distance from the centre - radius | / radius.
-
-    Examples
-    --------
-    >>> t = np.linspace(0.0, 1.0, 7)
-    >>> c, r, res = fit_circle(np.column_stack([2.0 + 3.0 * np.cos(t), -1.0 + 3.0 * np.sin(t)]))
-    >>> np.round(c, 9).tolist(), round(r, 9), res < 1e-12
-    ([2.0, -1.0], 3.0, True)
-    """
-    p = np.asarray(points, dtype=float)
-    mid = p.mean(axis=0)
-    scale = float(np.abs(p - mid).max()) or 1.0
-    q = (p - mid) / scale
-    A = np.column_stack([q, np.ones(len(q))])
-    b = -(q * q).sum(axis=1)
-    sol, _, rank, _ = np.linalg.lstsq(A, b, rcond=1e-10)
-    c = -0.5 * sol[:2]
-    r2 = float(c @ c - sol[2])
-    if len(p) < 3 or rank < 3 or not (np.all(np.isfinite(sol)) and r2 > 0):  # rank 2: the points are on a line
-        return mid, math.inf, math.inf
-    r = math.sqrt(r2)
-    res = float(np.abs(np.hypot(*(q - c).T) - r).max() / r)
-    return mid + scale * c, scale * r, res
-
-
 def _chains(seg: np.ndarray, edge: str) -> list[tuple[np.ndarray, np.ndarray, bool]]:
     """Order the segments of an edge set into chains.
 
