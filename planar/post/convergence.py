@@ -381,8 +381,8 @@ def grid_convergence(values: Sequence[float], *, dofs: Sequence[float] | None = 
         local = (f"; the refinement ratios from the unknowns ({r21:.3g}, {r32:.3g}) are under {MIN_RATIO:g}: if "
                  "the meshes are refined only at the feature, give the element size there with sizes=")
         notes.append(f"refinement ratios {r21:.3g} and {r32:.3g} from the unknowns of the whole meshes, under "
-                     f"{MIN_RATIO:g} (Roache's least for a GCI); meshes refined only at the feature under check "
-                     "need their local element sizes (sizes=)")
+                     f"{MIN_RATIO:g} (the least Celik et al. 2008 advise for a GCI); meshes refined only at the "
+                     "feature under check need their local element sizes (sizes=)")
     band = _order_band(degree, order_band)
     reasons = _not_asymptotic(v, kind, float(p), float(ar), band)
     if reasons and kind == "monotonic":
