@@ -174,6 +174,18 @@ def raiser_at(result, node: int, values: np.ndarray) -> dict | None:
     return {"elements": sorted(set(names)), "angle": float(angle), "ratio": float(ratio), "fall": float(fall)}
 
 
+def linear_words(why: dict, node: int) -> str:
+    """The ``"linear-peak"`` warning's words after the peak's name, from ``why`` (:func:`raiser_at`)."""
+    return (f"is read by linear elements ({' and '.join(why['elements'])}) at a stress raiser: a concave edge (a "
+            f"hole, fillet, notch root or re-entrant corner; {why['angle']:.0f} degrees of material round the "
+            f"node) where the field is {why['ratio']:.3g} times its median over the part and falls by "
+            f"{100.0 * why['fall']:.0f} % across one element. Linear elements under-read such peaks, typically "
+            f"by {LINEAR_UNDER_READ} (common practice; on Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 "
+            "element sides round the hole reads the peak 26 % low, Q4 15 %, T6 6 %). Mesh with quadratic "
+            "elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) or much finer elements there, and "
+            "confirm the peak with a convergence study (planar.post.convergence_study)")
+
+
 @peak_doc
 def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel: int = 2) -> None:
     """Warn ``"linear-peak"`` when a stress peak read by linear elements sits at a stress raiser.
@@ -215,15 +227,5 @@ def linear_peak(result, node: int, field: str, values: np.ndarray, *, stacklevel
     >>> [w.code for w in r.warnings if w.code == "linear-peak"]
     []
     """
-    def words(why: dict, node: int) -> str:
-        return (f"is read by linear elements ({' and '.join(why['elements'])}) at a stress raiser: a concave edge (a "
-                f"hole, fillet, notch root or re-entrant corner; {why['angle']:.0f} degrees of material round the "
-                f"node) where the field is {why['ratio']:.3g} times its median over the part and falls by "
-                f"{100.0 * why['fall']:.0f} % across one element. Linear elements under-read such peaks, typically "
-                f"by {LINEAR_UNDER_READ} (common practice; on Kirsch's hole in tension, G. Kirsch 1898, T3 with 12 "
-                "element sides round the hole reads the peak 26 % low, Q4 15 %, T6 6 %). Mesh with quadratic "
-                "elements (element=\"T6\" or \"Q8\" in planar.geometry.mesh) or much finer elements there, and "
-                "confirm the peak with a convergence study (planar.post.convergence_study)")
-
-    return warn_if_found(result, node, field, values, "linear-peak", lambda r, n: raiser_at(r, n, values), words,
-                         stacklevel + 1)
+    return warn_if_found(result, node, field, values, "linear-peak", lambda r, n: raiser_at(r, n, values),
+                         linear_words, stacklevel + 1)

@@ -61,7 +61,8 @@ def judge(es, component: str, pk, *, stacklevel: int = 2) -> str:
         A short note for tables (``""`` when the peak is resolved or not judged). The warnings go to
         ``es.result.warnings`` and ``es.warnings``.
     """
-    from ..core._advice_linear import has_linear, linear_peak, raiser_at
+    from ..core._advice_linear import has_linear, linear_words, raiser_at
+    from ..core._advice_node import warn_if_found
     from ..core._advice_peak import coarse_peak
 
     result = es.result
@@ -83,7 +84,8 @@ def judge(es, component: str, pk, *, stacklevel: int = 2) -> str:
         if not note and has_linear(result):  # linear cells have their own check (coarse-peak leaves them)
             why = raiser_at(result, node, values)
             if why is not None:
-                linear_peak(result, node, name, values)
+                # linear_peak's warning, from the raiser found once
+                warn_if_found(result, node, name, values, "linear-peak", lambda r, n: why, linear_words, 2)
                 note = (f"linear-peak: linear elements ({' and '.join(why['elements'])}) read the peak at "
                         f"{fmt_point(result.mesh.nodes[node])}, where the field falls by {100.0 * why['fall']:.0f} % "
                         "across one element: typically 5-30 % low; mesh with quadratic elements (T6 or Q8) or much "
