@@ -333,8 +333,53 @@ class Joint:
                                      f"than its fastener, an interference-fit hole at most {100 * INTERFERENCE:g} % "
                                      "smaller): give diameter= the fastener's shank, or model the hole at its drilled "
                                      "size")
+        self._refuse_overlaps(fasteners, pts)
         self.fasteners.append(fasteners)
         return fasteners
+
+    def _refuse_overlaps(self, fasteners: Fasteners, pts: np.ndarray) -> None:
+        """Refuse two fasteners between the same two adjacent layers whose holes overlap (centres closer than
+        the mean of their diameters), in the new group or between it and an earlier one: a point given twice
+        would put two springs in parallel there. One fastener given as two groups, one per shear plane (the
+        pairs differ), is allowed."""
+        from scipy.spatial import cKDTree
+
+        def planes(f):
+            return {frozenset(p) for p in zip(f.layers[:-1], f.layers[1:])}
+
+        mine = planes(fasteners)
+        d = fasteners.diameter
+        others = [(f, f.points(self)) for f in self.fasteners if planes(f) & mine]
+        found = None
+        close = cKDTree(pts).query_pairs(d, output_type="ndarray")
+        if close.size:
+            gap = np.hypot(*(pts[close[:, 0]] - pts[close[:, 1]]).T)
+            i, k = close[np.argmin(gap)]
+            i, k = min(i, k), max(i, k)
+            found = (fasteners, i, pts[i], fasteners, k, pts[k], mine, d)
+        for f, q in others:
+            if found is not None:
+                break
+            r = 0.5 * (d + f.diameter)
+            near = cKDTree(pts).sparse_distance_matrix(cKDTree(q), r, output_type="ndarray")
+            near = near[near["v"] < r]
+            if near.size:
+                m = near[np.argmin(near["v"])]
+                i, k = int(m["i"]), int(m["j"])
+                found = (fasteners, i, pts[i], f, k, q[k], planes(f) & mine, r)
+        if found is None:
+            return
+        fa, i, pa, fb, k, pb, shared, r = found
+        us = self.unit_system
+        lu = f" {us.unit_of('length')}" if us.stated else ""
+        gap = float(np.hypot(*(pa - pb)))
+        pair = sorted(next(iter(shared)), key=list(self.layers).index)
+        other = f"{k + 1}" if fb is fa else f"{fb.name!r} {k + 1}"
+        raise InputError(f"fasteners {fa.name!r} {i + 1} at ({pa[0]:g}, {pa[1]:g}) and {other} at "
+                         f"({pb[0]:g}, {pb[1]:g}) both join layers {pair[0]!r} and {pair[1]!r}, {gap:.4g}{lu} apart, "
+                         f"less than their diameter {r:.4g}{lu}: their holes overlap (a point given twice puts two "
+                         "springs in parallel there); remove the repeated point, or space the fasteners at least "
+                         "a diameter apart (about 4 d is common practice)")
 
     #: read by :func:`planar.core.static.solve`, which hands a joint to :meth:`solve`
     is_joint = True
