@@ -51,3 +51,16 @@ def test_one_fastener_given_as_two_groups_one_per_shear_plane_is_accepted():
     j.add_fasteners(planar.Fasteners(pts, layers=("a", "b"), diameter=5.0, flexibility=1e-5, name="upper"))
     j.add_fasteners(planar.Fasteners(pts, layers=("b", "c"), diameter=5.0, flexibility=2e-5, name="lower"))
     assert len(j.fasteners) == 2
+
+
+def test_a_results_method_asked_of_a_joints_result_names_the_layer():
+    # jr.max("von_mises") was a bare AttributeError; hasattr and getattr with a default keep working
+    j = _strips()
+    j.add_fasteners(planar.Fasteners([(70.0, 0.0), (90.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=1e-5))
+    jr = planar.solve(j)["pull"]
+    with pytest.raises(InputError, match=r"one Result per layer \('a', 'b'\); ask a layer, e\.g\. "
+                                         r"result\.layers\['a'\]\.max"):
+        jr.max("von_mises")
+    assert not hasattr(jr, "field") and getattr(jr, "section", None) is None
+    with pytest.raises(AttributeError, match="no attribute 'nonsense'"):
+        jr.nonsense

@@ -39,6 +39,8 @@ from typing import Any
 
 import numpy as np
 
+from .errors import InputError
+
 __all__ = ["JointResult", "FastenerTable"]
 
 
@@ -224,6 +226,10 @@ class FastenerTable:
         return f"FastenerTable(case={self.case!r}, {len(self.pairs)} fastener pairs, {len(self.holes)} holes)"
 
 
+class _LayerAttributeError(InputError, AttributeError):
+    """A Result's attribute asked of a joint's result (an InputError naming the layer to ask)."""
+
+
 def _axis(F: np.ndarray) -> np.ndarray:
     """The principal direction of forces F (k, 2), a unit vector of fixed sense (a line, not an arrow).
 
@@ -341,6 +347,19 @@ class JointResult:
         self._table = None
         for r in layers.values():  # a layer's report finds its joint (its fastener tables) from the layer alone
             r.joint_result = self
+
+    def __getattr__(self, name: str):
+        # called only for a name the joint's result lacks: one a layer's Result has (max, field, u, ...) is
+        # refused with the fix (an error that is also an AttributeError, so hasattr and getattr with a
+        # default still work)
+        from .result import Result
+
+        if name.startswith("_") or not hasattr(Result, name):
+            raise AttributeError(f"{type(self).__name__!r} object has no attribute {name!r}")
+        names = list(self.__dict__.get("layers") or {}) or ["layer"]
+        raise _LayerAttributeError(f"a joint's result has no {name!r}: it holds one Result per layer "
+                                   f"({', '.join(map(repr, names))}); ask a layer, e.g. "
+                                   f"result.layers[{names[0]!r}].{name}")
 
     def __repr__(self):
         return f"JointResult(case={self.case!r}, layers={list(self.layers)}, {sum(s['points'].shape[0] for s in self._springs)} springs)"
