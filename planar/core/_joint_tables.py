@@ -1,10 +1,14 @@
 """A fastened joint's results: per-layer Results, fastener loads, bearing, bypass and load transfer by row.
 
-The bypass load at a hole comes from a cut through the hole's centre across its layer. The cut is
-square to the principal direction of the loads the hole's group of fasteners passes into that layer
-in the load case (the axis of the largest eigenvalue of ``sum F F^T`` over the group's ends: a line,
-not an arrow, so reversing or scaling the load keeps the cut; a row's holes share one cut; where the
-loads have no principal direction, the x axis). The free body read is the layer on one side of the
+The bypass load at a hole comes from a cut through the hole's centre across its layer. The cut runs
+along the group's row of holes most nearly square to the principal direction of the loads the group
+passes into that layer in the load case (the axis of the largest eigenvalue of ``sum F F^T`` over the
+group's ends: a line, not an arrow, so reversing or scaling the load keeps the cut; where the loads
+have no principal direction, the x axis): the rows are the lines from each fastener to its nearest
+neighbours, and the one whose normal is within :data:`ROW_ANGLE` of that axis is taken, so a load a
+little off the rows keeps the cut on the line of holes (:func:`_row_normal`); with none (one fastener,
+or a single line of fasteners along the load), the cut is square to the axis. A row's holes share one
+cut. The free body read is the layer on one side of the
 cut, and the side is chosen from the layer's geometry and load path, the same in every load case
 (never from the sign of a load), as the side where the layer carries the lesser load past a row:
 
@@ -24,12 +28,12 @@ initial strain are no external load and are not summed (``Result.rest_forces`` o
 leaves them out), so the cut force is the stress resultant through the cut. The fasteners whose
 centres lie within ``d / 2`` of the cut (the hole itself and the others of its row) are taken out,
 their bearing loads going in at the cut; what crosses the cut beyond them is the bypass, shared
-equally among them (the bypass per fastener pitch). The bypass is linear in the loads of a case, and
+equally among them (the bypass per fastener pitch). The bypass scales with the loads of a case, and
 at every hole the load arriving through the other side of the cut equals the bypass plus the bearing
 loads taken out there (along the cut's normal).
 
-Rows are numbered from the geometry: along the principal direction of the group's loads over all its
-shear planes in the case (as above, a line), its sense fixed by the coordinates (x increasing, or y
+Rows are numbered from the geometry: along the normal of the group's rows taken as above from the
+principal direction of its loads over all its shear planes in the case, its sense fixed by the coordinates (x increasing, or y
 increasing where the line runs along y), row 1 at the lowest coordinate; so the numbering is the same
 for a pull and a push and in each shear plane of a double-shear group.
 """
@@ -66,7 +70,8 @@ class FastenerTable:
         One per fastener end (hole) in a layer: ``group``, ``index``, ``layer``, ``point``, ``load``
         (the force the fastener exerts on the layer), ``bearing`` (its magnitude), ``thickness``,
         ``bearing_stress`` = P / (d t), ``bypass`` (the load the layer carries past the hole across a cut
-        through it square to the fastener load, tension positive, per fastener on the cut),
+        through it along its row of holes, square to the fastener load, tension positive, per fastener on
+        the cut),
         ``section_bypass`` (the whole cut), ``on_cut`` (fasteners on the cut).
     rows : list of dict
         Load transfer row by row: ``group``, ``row`` (1, 2, ... along the load direction), ``layers``,
@@ -110,7 +115,8 @@ class FastenerTable:
             d = np.concatenate([np.full(e["count"], joint.fasteners[e["group"]].diameter) for e in ends])
             t = np.concatenate([e["t"] for e in ends])
             # each hole's cut is square to the principal direction of its group's loads in this layer
-            axes = np.vstack([np.tile(_axis(e["force"]), (e["count"], 1)) for e in ends])
+            axes = np.vstack([np.tile(_row_normal(e["points"], _axis(e["force"])), (e["count"], 1))
+                              for e in ends])
             entry = getattr(res, "joint_entries", None)
             if entry is None:
                 entry = np.zeros(res.mesh.n_nodes, bool)
@@ -133,8 +139,9 @@ class FastenerTable:
         totals: dict[tuple[str, str], float] = {}
         axes: dict = {}  # one row direction per group over all its shear planes (the same numbering in each)
         for sd in jr._springs:
-            axes.setdefault(sd["group"], []).append(sd["V"])
-        axes = {g: _axis(np.vstack(v)) for g, v in axes.items()}
+            axes.setdefault(sd["group"], []).append(sd)
+        axes = {g: _row_normal(v[0]["points"], _axis(np.vstack([sd["V"] for sd in v])))
+                for g, v in axes.items()}
         for sd in jr._springs:
             fz = joint.fasteners[sd["group"]]
             pts, V = sd["points"], sd["V"]
@@ -210,8 +217,8 @@ class FastenerTable:
         for h in self.holes:
             lines.append(f"{h['group']:<{gw}} {h['index'] + 1:>3} {h['layer']:<{lw}} {h['bearing']:>16.5g} "
                          f"{h['thickness']:>10.4g} {h['bearing_stress']:>16.5g} {z(h['bypass']):>14.5g} {h['on_cut']:>7}")
-        lines.append("(bypass: the load the layer carries past the hole across a cut through it square to the "
-                     "fastener loads, tension positive, per fastener on the cut)")
+        lines.append("(bypass: the load the layer carries past the hole across a cut through it along its row of "
+                     "holes, square to the fastener loads, tension positive, per fastener on the cut)")
         lines += ["", "Load transfer by row", f"{'group':<{gw}} {'row':>4} {'layers':<{pw}} {'x' + L:>12} "
                                               f"{'y' + L:>12} {'n':>4} {'load' + F:>14} {'share':>7}"]
         for r in self.rows:
@@ -245,6 +252,46 @@ def _axis(F: np.ndarray) -> np.ndarray:
     if abs(n[0]) <= 1e-9:
         return np.array([0.0, 1.0])
     return n if n[0] > 0 else -n
+
+
+#: the largest angle between the load's principal direction and a row's normal for the row to be taken as
+#: the line of holes across the load (beyond it, as for a single line of fasteners along the load, the
+#: load's direction is kept)
+ROW_ANGLE = 45.0
+
+
+def _row_normal(points: np.ndarray, axis: np.ndarray) -> np.ndarray:
+    """The normal of the group's row of holes most nearly square to the load's principal direction ``axis``.
+
+    The candidate rows are the lines from each fastener to its nearest neighbours (up to eight) in the
+    group; the one whose normal is closest to ``axis`` is taken, when within :data:`ROW_ANGLE`, so the
+    cuts and rows run along the lines of holes as laid out, not across them at the small angle a
+    transverse part of the load gives (a tilted cut misses the other holes of the row and splits it).
+    A group of one fastener, or with no line within the angle, keeps ``axis``. The sense is fixed as
+    :func:`_axis` fixes it (x increasing, or y increasing along y).
+    """
+    P = np.asarray(points, dtype=float).reshape(-1, 2)
+    k = P.shape[0]
+    if k < 2:
+        return axis
+    from scipy.spatial import cKDTree
+
+    _, idx = cKDTree(P).query(P, min(k, 9))
+    v = (P[idx[:, 1:]] - P[:, None, :]).reshape(-1, 2)
+    length = np.hypot(*v.T)
+    ok = length > 1e-9 * max(float(np.ptp(P, axis=0).max()), 1e-300)
+    if not ok.any():
+        return axis
+    v = v[ok] / length[ok, None]
+    n = np.column_stack([-v[:, 1], v[:, 0]])
+    fit = np.abs(n @ axis)
+    best = int(np.argmax(fit))
+    if fit[best] < np.cos(np.radians(ROW_ANGLE)):
+        return axis
+    nb = n[best]
+    if abs(nb[0]) <= 1e-9:
+        return np.array([0.0, 1.0])
+    return nb if nb[0] > 0 else -nb
 
 
 def _bypass(nodes, rest, entry, P, F, d, axes):
