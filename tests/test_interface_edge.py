@@ -227,3 +227,82 @@ def test_orthotropic_region_is_not_assessed():
     model.add_load(planar.Traction("right", tx=10.0), case="pull")
     r = planar.solve(model)["pull"]
     assert interface_edge_near(r, _at(r, (30.0, 0.0))) is None
+
+
+# ------------------------------------------------------------- an interface's corner inside the part
+@pytest.mark.parametrize("kappa", [1.8, 2.0, 2.6])
+def test_rigid_square_insert_corner_is_clamped_clamped_wedge(kappa):
+    # a rigid insert's 90 degree corner clamps both faces of the 270 degree wedge of matrix round it:
+    # Williams' clamped-clamped wedge of angle g, kappa sin(lambda g) = +- lambda sin g (1952; from memory:
+    # at g = 2 pi it gives the rigid line's 1/2, at g = pi no singularity)
+    g = 1.5 * math.pi
+    want = min(_real_roots(lambda x: kappa * math.sin(x * g) - x * math.sin(g))
+               + _real_roots(lambda x: kappa * math.sin(x * g) + x * math.sin(g)))
+    got = singularity_exponent([g, 2 * math.pi - g], [1.0, 1e9], [kappa, 1.8], closed=True)
+    assert got.imag == 0.0 and got.real == pytest.approx(want, abs=1e-6)
+
+
+def test_ring_of_one_material_or_a_straight_interface_is_not_singular():
+    # the whole plane of one material has only integer exponents; two half-planes bonded along a straight
+    # line have none in (0, 1) either (Williams 1959 for the uncracked interface; from memory)
+    assert singularity_exponent([math.pi / 2] * 4, [1.0] * 4, [2.0] * 4, closed=True) is None
+    assert singularity_exponent([1.0, 2 * math.pi - 1.0], [1.0, 1.0], [2.0, 2.0], closed=True) is None
+    assert singularity_exponent([math.pi, math.pi], [1.0, 3.0], [2.0, 1.8], closed=True) is None
+
+
+def _pad(shape, element, size=None, E=210e3):
+    """A 100 x 40 aluminium plate, 3 thick, with a steel insert inside it (a 20 x 10 rectangle with a corner at
+    (40, 15), or a circle of radius 6), clamped at x = 0 and pulled at x = 100."""
+    ins = Rectangle(20.0, 10.0, corner=(40.0, 15.0)) if shape == "square" else planar.geometry.Circle((50.0, 20.0), 6.0)
+    plate = Plate.rectangle(100.0, 40.0).with_region(ins, name="insert")
+    refine = [Refine((40.0, 15.0), size=size, growth=1.2)] if size else []
+    m = gmsh_mesh(plate, 4.0, element=element, refine=refine)
+    model = planar.Model(m, planar.Isotropic(70e3, 0.33), 3.0, units="N, mm, MPa")
+    model.assign("insert", material=planar.Isotropic(E, 0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=10.0), case="pull")
+    return planar.solve(model)["pull"]
+
+
+def test_insert_corner_inside_the_part_warns_and_grows():
+    # steel square in aluminium, plane stress: the ring's exponents are 0.866 and 0.948 (Bogy and Wang 1971's
+    # problem); the corner's peak read on meshes refined fourfold twice grows between the two rates, without limit
+    vals = []
+    for h in (0.5, 0.125, 0.03125):
+        r = _pad("square", "T6", size=h)
+        i = _at(r, (40.0, 15.0))
+        vals.append(r.field("von_mises")[i])
+        got = interface_edge_near(r, i)
+        assert got["inside"] and sorted(got["angles"]) == pytest.approx([90.0, 270.0], abs=1e-6)
+    lam = got["lam"].real
+    second = [x for x in _real_roots(lambda x: wedge_determinant([x], [1.5 * math.pi, 0.5 * math.pi],
+                                                                 [_stress(70e3, 0.33)[0], _stress(210e3, 0.3)[0]],
+                                                                 [_stress(70e3, 0.33)[1], _stress(210e3, 0.3)[1]],
+                                                                 closed=True)[0].real) if x > lam + 1e-6][0]
+    for a, b in zip(vals[:-1], vals[1:]):
+        assert 0.8 * (1.0 - second) < math.log(b / a) / math.log(4.0) < 1.05 * (1.0 - lam), vals
+    with pytest.warns(PlanarWarning) as rec:
+        r.max("von_mises")
+    ws = _interface_codes(rec)
+    assert len(ws) == 1 and "turns a corner inside the part" in ws[0].message and "planar.Outside" in ws[0].message
+
+
+def test_insert_corner_warns_on_a_plain_mesh():
+    r = _pad("square", "Q8")
+    with pytest.warns(PlanarWarning) as rec:
+        peak = r.max("von_mises")
+    ws = _interface_codes(rec)
+    assert ws and "turns a corner inside the part" in ws[0].message
+    assert min(np.hypot(*(np.array([[40, 15], [60, 15], [40, 25], [60, 25]]) - peak.location).T)) < 4.0
+
+
+@pytest.mark.parametrize("element", ["T3", "Q4", "T6", "Q8"])
+def test_round_insert_is_quiet(element):
+    # a circular insert is not singular (Goodier 1933's inclusion): its polygon of straight sides turns by
+    # the same small angle at every node, so no corner is taken from it (no false alarm)
+    r = _pad("circle", element)
+    with warnings.catch_warnings(record=True) as rec:
+        warnings.simplefilter("always")
+        r.max("von_mises")
+        r.max("sigma_xx", where="insert")
+    assert not _interface_codes(rec)

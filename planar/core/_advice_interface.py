@@ -17,11 +17,17 @@ plane stress); both are read from the wedge's own plane elasticity matrix D, kap
 (D12 + D33), so the analysis as solved is the one assessed.
 
 The exponent is the smallest root 0 < Re(lambda) < 1 of the determinant of the wedge eigenproblem
-(Bogy's characteristic equation, set up numerically here for any number of wedges): in each wedge
+(Bogy's characteristic equation, set up numerically here for any number of wedges; D. B. Bogy and
+K. C. Wang, "Stress singularities at interface corners in bonded dissimilar isotropic elastic materials",
+Int. J. Solids Struct. 7, 1971, treat the closed ring, from memory): in each wedge
 the Airy stress function r^(lambda + 1) [a cos((lambda + 1) theta) + b sin((lambda + 1) theta) +
 c cos((lambda - 1) theta) + d sin((lambda - 1) theta)] (M. L. Williams, J. Appl. Mech. 19, 1952, 526-528)
 with its displacements (J. R. Barber, Elasticity, the chapter on wedge problems); zero traction on the
-two free faces, continuous traction and displacement across each interface. A rigid rotation of the whole
+two free faces, continuous traction and displacement across each interface. Inside the part the wedges
+close round the point (their angles add up to 2 pi) and the last is bonded to the first instead of the
+two free faces: a corner of an insert or of a thicker pad, or a point where three regions meet. With
+a rigid neighbour this is M. L. Williams' wedge with both faces clamped, kappa sin(lambda g) = +-
+lambda sin g (1952; from memory), which the ring reproduces. A rigid rotation of the whole
 satisfies every condition at lambda = 1, so the determinant is divided by (lambda - 1). Real roots are
 bracketed on a fine scan and refined by Brent's method; complex ones (lambda = x +- i y, an
 oscillating singularity) are found from the local minima of |det| on a grid of the strip and refined by
@@ -30,10 +36,19 @@ Newton's method on the analytic determinant.
 The wedges are read from the mesh: the cells around the boundary node in counter-clockwise order from
 one boundary side to the other, each cell's angle between the tangents of its two sides at the node
 (through the mid-side node of a quadratic side, as :mod:`._advice_corner` reads corners), consecutive
-cells of one section (same D and thickness) joined into one wedge. Not assessed (no warning): a
-point where a region is anisotropic (Dundurs' parameters do not apply), a point held by a support
-(not a free edge; the idealised-support note speaks there), and a point where regions meet inside
-the part with no free edge.
+cells of one section (same D and thickness) joined into one wedge. Inside the part, a point where
+two regions meet counts only where their interface turns a true corner: by
+:data:`planar.core._advice_corner.SHARP_KINK` (15 degrees) or more, while it turns by less than a
+third of that at the next node along it on either hand, as the sharp-corner check reads the boundary
+(a circular insert meshed with straight sides turns by about as much at every node, and the circle it
+stands for is not singular; quadratic sides follow the curve and hardly turn). Where three or more
+regions meet, the point counts as it is. Not assessed (no warning): a point where a region is
+anisotropic (Dundurs' parameters do not apply), and a point held by a support (not a free edge; the
+idealised-support note speaks there).
+
+The strongest exponent is the one reported; a load may excite the next one more (a steel square in
+aluminium, plane stress: lambda = 0.866 and 0.948; its corner's peak measured 10-11 % higher per fourfold
+refinement, between the two), so the rise per refinement is stated as "up to".
 
 A singularity counts as weak, and draws no warning, when 1 - lambda < :data:`WEAK_STRENGTH`: a tenfold
 refinement of the elements at the point then raises the singular peak by less than 5 %, the usual
@@ -101,17 +116,22 @@ def _rows(lam: np.ndarray, theta: float, mu: float, kappa: float) -> np.ndarray:
     return np.stack([F, dF, ur, ut], axis=-2)
 
 
-def wedge_determinant(lam, angles, shear_moduli, kappas) -> np.ndarray:
-    """The characteristic determinant of bonded wedges with two traction-free outer faces.
+def wedge_determinant(lam, angles, shear_moduli, kappas, closed: bool = False) -> np.ndarray:
+    """The characteristic determinant of bonded wedges with two traction-free outer faces, or of a
+    closed ring of bonded wedges (a corner of an interface inside the part).
 
     Parameters
     ----------
     lam : complex or array_like
         Exponents (the displacement goes as r^lambda, the stress as r^(lambda - 1)).
     angles : sequence of float
-        The wedges' angles in radians, in counter-clockwise order from one free face to the other.
+        The wedges' angles in radians, in counter-clockwise order from one free face to the other
+        (``closed``: round the point, adding up to 2 pi).
     shear_moduli, kappas : sequence of float
         Each wedge's shear modulus (times thickness) and Kolosov constant.
+    closed : bool
+        The last wedge is bonded to the first (no free face): the four conditions of the two free
+        faces are replaced by the continuity of traction and displacement across that last interface.
 
     Returns
     -------
@@ -134,22 +154,28 @@ def wedge_determinant(lam, angles, shear_moduli, kappas) -> np.ndarray:
     mu = mu / mu.mean()  # only the ratios matter; keeps the displacement rows of order one
     edges = np.concatenate([[0.0], np.cumsum(np.asarray(angles, dtype=float))])
     M = np.zeros((lam.size, 4 * n, 4 * n), dtype=lam.dtype)
-    M[:, 0:2, 0:4] = _rows(lam, edges[0], mu[0], kappas[0])[:, :2, :]
-    r = 2
+    r = 0
+    if not closed:
+        M[:, 0:2, 0:4] = _rows(lam, edges[0], mu[0], kappas[0])[:, :2, :]
+        r = 2
     for k in range(1, n):  # one interface after another: traction and displacement continuous
         M[:, r:r + 4, 4 * (k - 1):4 * k] = _rows(lam, edges[k], mu[k - 1], kappas[k - 1])
         M[:, r:r + 4, 4 * k:4 * k + 4] = -_rows(lam, edges[k], mu[k], kappas[k])
         r += 4
-    M[:, r:r + 2, 4 * (n - 1):] = _rows(lam, edges[n], mu[n - 1], kappas[n - 1])[:, :2, :]
+    if closed:  # the last wedge at 2 pi bonded to the first at 0
+        M[:, r:r + 4, 4 * (n - 1):] = _rows(lam, edges[n], mu[n - 1], kappas[n - 1])
+        M[:, r:r + 4, 0:4] -= _rows(lam, edges[0], mu[0], kappas[0])
+    else:
+        M[:, r:r + 2, 4 * (n - 1):] = _rows(lam, edges[n], mu[n - 1], kappas[n - 1])[:, :2, :]
     return np.linalg.det(M) / (lam - 1.0)
 
 
-def singularity_exponent(angles, shear_moduli, kappas) -> complex | None:
+def singularity_exponent(angles, shear_moduli, kappas, closed: bool = False) -> complex | None:
     """The smallest root 0 < Re(lambda) < 1 of :func:`wedge_determinant` (None when there is none).
 
     Parameters
     ----------
-    angles, shear_moduli, kappas : sequence of float
+    angles, shear_moduli, kappas, closed
         As for :func:`wedge_determinant`.
 
     Returns
@@ -166,31 +192,31 @@ def singularity_exponent(angles, shear_moduli, kappas) -> complex | None:
     True
     """
     key = (tuple(float(a) for a in angles), tuple(float(m) for m in shear_moduli), tuple(float(k) for k in kappas))
-    return _exponent(*key)
+    return _exponent(*key, bool(closed))
 
 
 @lru_cache(maxsize=256)
-def _exponent(angles: tuple, mus: tuple, kappas: tuple) -> complex | None:
+def _exponent(angles: tuple, mus: tuple, kappas: tuple, closed: bool = False) -> complex | None:
     with np.errstate(all="ignore"):  # a Newton step far out in the strip overflows; its root is then refused
-        return _search(angles, mus, kappas)
+        return _search(angles, mus, kappas, closed)
 
 
-def _search(angles: tuple, mus: tuple, kappas: tuple) -> complex | None:
+def _search(angles: tuple, mus: tuple, kappas: tuple, closed: bool = False) -> complex | None:
     from scipy.optimize import brentq
 
     def f(z):
-        return wedge_determinant(np.array([z]), angles, mus, kappas)[0]
+        return wedge_determinant(np.array([z]), angles, mus, kappas, closed)[0]
 
     found: list[complex] = []
     x = np.concatenate([np.linspace(_LO, 0.95, 1900), np.linspace(0.95, _HI, 1000)[1:]])
-    d = wedge_determinant(x, angles, mus, kappas)
+    d = wedge_determinant(x, angles, mus, kappas, closed)
     for i in np.flatnonzero(np.sign(d[:-1]) * np.sign(d[1:]) < 0):
         found.append(complex(brentq(lambda t: float(f(t)), x[i], x[i + 1], xtol=1e-13), 0.0))
     # complex roots (and double real ones): local minima of |det| on a grid of the upper strip, then Newton
     re = np.linspace(0.01, 0.99, 99)
     im = np.linspace(0.0, 1.5, 76)
     Z = re[None, :] + 1j * im[:, None]
-    A = np.abs(wedge_determinant(Z.ravel(), angles, mus, kappas)).reshape(Z.shape)
+    A = np.abs(wedge_determinant(Z.ravel(), angles, mus, kappas, closed)).reshape(Z.shape)
     P = np.pad(A, 1, mode="constant", constant_values=np.inf)
     P[0, 1:-1] = P[2, 1:-1]  # mirror across the real axis (det(conj z) = conj det z)
     core = P[1:-1, 1:-1]
@@ -240,7 +266,7 @@ def _sections(asm) -> tuple[list[int], list[tuple[float, float] | None]]:
 
 
 def _junctions(asm, ids) -> np.ndarray:
-    """The corner nodes on the boundary whose cells belong to two or more sections (all at once)."""
+    """The corner nodes whose cells belong to two or more sections (all at once), on the boundary or inside."""
     n = asm.mesh.n_nodes
     lo = np.full(n, np.iinfo(np.int64).max)
     hi = np.full(n, -1)
@@ -252,44 +278,73 @@ def _junctions(asm, ids) -> np.ndarray:
         np.maximum.at(hi, c.ravel(), s)
         a_l.append(c.ravel())
         b_l.append(np.roll(c, -1, axis=1).ravel())
-    mixed = (hi >= 0) & (lo != hi)
-    if not mixed.any():
-        return np.zeros(0, dtype=np.int64)
-    a, z = np.concatenate(a_l), np.concatenate(b_l)
-    key = np.minimum(a, z) * np.int64(n) + np.maximum(a, z)
-    uniq, count = np.unique(key, return_counts=True)
-    single = uniq[count == 1]
-    on_boundary = np.zeros(n, dtype=bool)
-    on_boundary[single // n] = True
-    on_boundary[single % n] = True
-    return np.flatnonzero(mixed & on_boundary)
+    return np.flatnonzero((hi >= 0) & (lo != hi))
 
 
-def _wedges(asm, ids, node: int) -> list[tuple[float, int]] | None:
-    """[(angle in radians, section)] of the wedges of material at a boundary node, counter-clockwise
-    from one free side to the other; None when the node is not on the boundary of a single fan."""
+def _wedges(asm, ids, node: int) -> tuple[list[tuple[float, int]], list[int], bool] | None:
+    """The wedges of material at a node where sections meet: ([(angle in radians, section)], [the node
+    at the far end of each wedge's first side], closed), counter-clockwise from one free side to the
+    other on the boundary (``closed`` False), or round the node from a change of section inside the part
+    (``closed`` True); None when the node is no corner of a single fan of cells."""
     f = fan(asm, node)
     if not f.size:
         return None
     first, last = f.ends()
-    if first.size != 1 or last.size != 1:
-        return None  # inside the part, or a node where two fans touch
+    closed = first.size == 0 and last.size == 0
+    if not closed and (first.size != 1 or last.size != 1):
+        return None  # a node where two fans touch
     ang = angles(f.t_next, f.t_prev)  # each cell's angle at the node
     by_next = {int(e): c for c, e in enumerate(f.nxt)}
-    e, out = int(first[0]), []
+    order, e = [], int(first[0]) if not closed else int(f.nxt[0])
     for _ in range(f.size):  # the few cells at one node, in their order round it
         c = by_next.get(e)
         if c is None:
             return None
+        order.append(c)
+        e = int(f.prv[c])
+        if e == (int(f.nxt[0]) if closed else int(last[0])):
+            break
+    else:
+        return None
+    if closed:
+        if len(order) != f.size:
+            return None
+        sec = [ids[int(f.block[c])] for c in order]
+        start = next((i for i in range(len(order)) if sec[i] != sec[i - 1]), None)
+        if start is None:
+            return None  # one section all round: no interface at this node
+        order = order[start:] + order[:start]
+    out: list[tuple[float, int]] = []
+    sides: list[int] = []
+    for c in order:
         s = ids[int(f.block[c])]
         if out and out[-1][1] == s:
             out[-1] = (out[-1][0] + float(ang[c]), s)
         else:
             out.append((float(ang[c]), s))
-        e = int(f.prv[c])
-        if e == last[0]:
-            break
-    return out if e == last[0] else None
+            sides.append(int(f.nxt[c]))
+    return out, sides, closed
+
+
+def _kink(asm, ids, node: int) -> float:
+    """How far (degrees) a two-wedge interface turns at a node inside the part (0 for any other node)."""
+    w = _wedges(asm, ids, node)
+    if w is None or not w[2] or len(w[0]) != 2:
+        return 0.0
+    return abs(math.degrees(w[0][0][0]) - 180.0)
+
+
+def _interface_corner(asm, ids, node: int, wedges: list, sides: list[int]) -> bool:
+    """True for a node inside the part where the interface turns a true corner: three or more wedges
+    meet there, or two whose interface turns by :data:`planar.core._advice_corner.SHARP_KINK` or more while
+    it turns by less than a third of that at the next node along it on either hand (a curved interface
+    meshed with straight sides turns by about as much at every node, and is not singular)."""
+    from ._advice_corner import SHARP_KINK
+
+    if len(wedges) > 2:
+        return True
+    k = abs(math.degrees(wedges[0][0]) - 180.0)
+    return k >= SHARP_KINK and all(_kink(asm, ids, j) < k / 3.0 for j in sides)
 
 
 def _held(result) -> np.ndarray:
@@ -370,10 +425,16 @@ def _near(result, asm, cached: tuple, node: int) -> dict | None:
     for j in cand[np.argsort(np.hypot(*(nodes[cand] - nodes[node]).T))]:  # the few points near the peak
         if held[j]:
             continue
-        w = _wedges(asm, ids, int(j))
-        if w is None or len(w) < 2 or any(props[s] is None for _, s in w):
+        got = _wedges(asm, ids, int(j))
+        if got is None:
             continue
-        lam = singularity_exponent([a for a, _ in w], [props[s][0] for _, s in w], [props[s][1] for _, s in w])
+        w, sides, closed = got
+        if len(w) < 2 or any(props[s] is None for _, s in w):
+            continue
+        if closed and not _interface_corner(asm, ids, int(j), w, sides):
+            continue
+        lam = singularity_exponent([a for a, _ in w], [props[s][0] for _, s in w], [props[s][1] for _, s in w],
+                                   closed)
         if lam is None or 1.0 - lam.real < WEAK_STRENGTH:
             continue
         if best is None or lam.real < best["lam"].real:
@@ -385,7 +446,7 @@ def _near(result, asm, cached: tuple, node: int) -> dict | None:
             (m1, k1), (m2, k2) = props[w[0][1]], props[w[1][1]]
             al, be = dundurs(m1, k1, m2, k2)
             best = {"point": int(j), "lam": lam, "angles": [math.degrees(a) for a, _ in w],
-                    "regions": ["/".join(names[s]) for _, s in w], "alpha": al, "beta": be}
+                    "regions": ["/".join(names[s]) for _, s in w], "alpha": al, "beta": be, "inside": closed}
     return best
 
 
@@ -402,12 +463,13 @@ def interface_edge_peak(result, node: int, field: str, values: np.ndarray, *, st
         rise = 10.0 ** (1.0 - lam.real) - 1.0
         wedges = ", ".join(f"{a:.0f} degrees of {r!r}" for a, r in zip(got["angles"], got["regions"]))
         analysis = str(getattr(result.model, "analysis", "") or "")
+        where = ("turns a corner inside the part" if got.get("inside") else "meets the free edge")
         return (f"sits {'at' if pt == node else 'next to'} the point {fmt_point(result.mesh.nodes[pt])} where an "
-                "interface between regions of different stiffness (modulus or thickness) meets the free edge "
+                f"interface between regions of different stiffness (modulus or thickness) {where} "
                 f"({wedges}; Dundurs alpha {got['alpha']:.3g}, beta {got['beta']:.3g}"
                 f"{', ' + analysis if analysis else ''}): the elastic stress there is singular as r^(lambda - 1) "
                 f"with lambda = {lam_txt} (D. B. Bogy, J. Appl. Mech., 1971), so the peak there depends on the mesh "
-                f"and is not a converged stress; it rises by about {100.0 * rise:.0f} % for every tenfold refinement "
+                f"and is not a converged stress; it rises by up to about {100.0 * rise:.0f} % for every tenfold refinement "
                 "of the elements there, without limit. Read the stress a few element sizes away from the point "
                 f"(where=planar.Outside({point_source(result.mesh.nodes[pt])}, {clear_distance(result, pt):.3g}), with & for other "
                 "such points and the zone under check), or judge the point "
