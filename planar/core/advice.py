@@ -36,7 +36,9 @@ Codes
     the peak queries and the hot spots through :func:`planar.core._advice_corner.sharp_corner_peak`.
 ``"interface-edge"``
     A stress peak within two element sizes of a point where an interface between regions of different
-    stiffness (plane moduli or thickness) meets a free edge, whose singularity (Bogy's exponent lambda from
+    stiffness (plane moduli or thickness) meets a free edge, or turns a corner inside the part (an insert's
+    or a thicker pad's corner, three regions meeting; not a curved interface meshed with straight sides),
+    whose singularity (Bogy's exponent lambda from
     the wedge angles and the Dundurs parameters) is not weak: 1 - lambda >= log10(1.05), so the peak there
     rises by 5 % or more per tenfold refinement. Raised by the peak queries and the hot spots through
     :func:`planar.core._advice_interface.interface_edge_peak`.
