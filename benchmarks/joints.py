@@ -4,6 +4,7 @@ Usage::
 
     python benchmarks/joints.py [--n 354] [--fasteners 1000] [--repeat 3] [--layout grid|splice]
                                 [--solver auto|pardiso|amg|...] [--orderings]
+    python benchmarks/run.py --joints grid|splice [--dofs 1000000] [--fasteners 1000] [--json out.json]
 
 Two plates (a skin and a doubler), each ``2 n`` x ``n`` Q4 cells over 1000 x 500 mm (about 4 n^2
 unknowns each: 1,006,780 in all for n = 354), each held and loaded on its own, are solved as one joint
@@ -119,6 +120,8 @@ phases: dict[str, float] = {}
 def _watch_pardiso() -> None:
     """Time PARDISO's phases and read the factor's non-zeros and operation count (iparm[17], iparm[18])."""
     call = solvers._Pardiso._call
+    if getattr(call, "_watched", False):
+        return
 
     def timed(self, phase, b, *args, **kw):
         if phase == 11:
@@ -130,6 +133,7 @@ def _watch_pardiso() -> None:
             phases["nnz"], phases["mflop"] = int(self._iparm[17]), int(self._iparm[18])
         return out
 
+    timed._watched = True
     solvers._Pardiso._call = timed
 
 
@@ -140,6 +144,7 @@ def _timed(name, func):
         spent[name] = spent.get(name, 0.0) + time.perf_counter() - t
         return out
 
+    wrapper._timed = True
     return wrapper
 
 
@@ -268,6 +273,80 @@ def orderings(n: int, fasteners: int, layout: str) -> None:
               f"{mf / 1e3:7.1f} Gflop; unknowns differ by {np.abs(u - ref).max() / np.abs(ref).max():.1e}")
 
 
+def run_joints(n: int = 354, fasteners: int = 1000, layout: str = "grid", solver: str = "auto",
+               repeat: int = 3, echo=print) -> dict:
+    """Solve the joint with and without its fasteners ``repeat`` times each, alternated, and return the
+    figures (best of the repeats; each run's line is passed to ``echo`` as it ends)."""
+    _watch_pardiso()
+    if not getattr(_joint_solve._Layer.end_operator, "_timed", False):
+        _joint_solve._Layer.end_operator = _timed("end operators", _joint_solve._Layer.end_operator)
+        solvers.factorize = _timed("factorization", solvers.factorize)
+    fac = {0: [], 1: []}
+    wall = {0: [], 1: []}
+    cpu = {0: [], 1: []}
+    flops = {}
+    for _ in range(repeat):  # alternated, so that a busy spell of the machine falls on both
+        for k, f in ((0, 0), (1, fasteners)):
+            spent.clear()
+            phases.clear()
+            w, c, res = _run(n, f, layout, solver)
+            wall[k].append(w)
+            cpu[k].append(c)
+            fac[k].append(spent.get("factorization", 0.0))
+            load = open("/proc/loadavg").read().split()[0] if os.path.exists("/proc/loadavg") else "?"
+            if phases:
+                flops[k] = (phases["nnz"], phases["mflop"])
+                echo(f"  {'with' if k else 'without'} fasteners: {w:6.2f} s wall; phase 11 {phases['phase 11']:5.2f} s, "
+                     f"phase 22 {phases['phase 22']:5.2f} s, factor {phases['nnz'] / 1e6:.1f} M non-zeros, "
+                     f"{phases['mflop'] / 1e3:.1f} Gflop; load average {load}")
+            info = next(iter(res.layers.values())).solver_info
+            if "iterations" in info:  # an iterative back end: CG steps and the true relative residual
+                echo(f"  {'with' if k else 'without'} fasteners: {w:6.2f} s wall, {c:6.2f} s cpu; set-up "
+                     f"{spent.get('factorization', 0.0):5.2f} s ({info.get('method', '')}, {info.get('levels')} "
+                     f"levels); {info['iterations'][0]} iterations, relative residual {info['residual'][0]:.1e}, "
+                     f"backward error {info['backward_error']:.1e}; load average {load}")
+            if k == 0:
+                r0 = res
+            else:
+                r1, ops = res, spent.get("end operators", 0.0)
+    rec = {
+        "case": f"joint-{layout}",
+        "dofs": int(sum(r.n_dofs for r in r0.layers.values())),
+        "fasteners": len(r1.fasteners.pairs),
+        "solver": str(next(iter(r0.layers.values())).solver),
+        "repeat": repeat,
+        "without_s": round(min(wall[0]), 3), "with_s": round(min(wall[1]), 3),
+        "without_cpu_s": round(min(cpu[0]), 3), "with_cpu_s": round(min(cpu[1]), 3),
+        "ratio_wall": round(min(wall[1]) / min(wall[0]), 4), "ratio_cpu": round(min(cpu[1]) / min(cpu[0]), 4),
+        "factorization_without_s": round(min(fac[0]), 3), "factorization_with_s": round(min(fac[1]), 3),
+        "end_operators_s": round(ops, 4), "load_balance_error": float(f"{r1.balance_error():.2e}"),
+        "wall_s": {"without": [round(x, 3) for x in wall[0]], "with": [round(x, 3) for x in wall[1]]},
+    }
+    if len(flops) == 2:
+        rec["factor_nonzeros"] = {"without": flops[0][0], "with": flops[1][0]}
+        rec["factor_gflop"] = {"without": round(flops[0][1] / 1e3, 2), "with": round(flops[1][1] / 1e3, 2)}
+        rec["ratio_factor_gflop"] = round(flops[1][1] / flops[0][1], 4)
+    return rec
+
+
+def report(rec: dict) -> str:
+    """The lines printed for a :func:`run_joints` record."""
+    out = [f"{rec['dofs']:,} unknowns in two layers, solver {rec['solver']}; best of {rec['repeat']}",
+           f"without fasteners:     solve {rec['without_s']:7.2f} s wall, {rec['without_cpu_s']:7.2f} s cpu",
+           f"with {rec['fasteners']:,} fasteners:  solve {rec['with_s']:7.2f} s wall, {rec['with_cpu_s']:7.2f} s cpu; "
+           f"end operators {rec['end_operators_s']:.3f} s; load balance error {rec['load_balance_error']:.1e}",
+           f"ratio with / without: {rec['ratio_wall']:.3f} wall, {rec['ratio_cpu']:.3f} cpu"]
+    f0, f1 = rec["factorization_without_s"], rec["factorization_with_s"]
+    out.append(f"factorization: {f0:.2f} s without, {f1:.2f} s with (ratio {f1 / f0:.3f}); the rest of the solve: "
+               f"{rec['without_s'] - f0:.2f} s without, {rec['with_s'] - f1:.2f} s with")
+    if "ratio_factor_gflop" in rec:
+        g = rec["factor_gflop"]
+        out.append(f"factor operations: {g['without']:.1f} Gflop without, {g['with']:.1f} with "
+                   f"(ratio {rec['ratio_factor_gflop']:.3f}; these do not depend on the machine's load)")
+    out.append(f"all wall times: {rec['wall_s']['without']} {rec['wall_s']['with']}")
+    return "\n".join(out)
+
+
 def main() -> None:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--n", type=int, default=354)
@@ -281,45 +360,7 @@ def main() -> None:
     if a.orderings:
         orderings(a.n, a.fasteners, a.layout)
         return
-    _watch_pardiso()
-    _joint_solve._Layer.end_operator = _timed("end operators", _joint_solve._Layer.end_operator)
-    solvers.factorize = _timed("factorization", solvers.factorize)
-    fac = {0: [], 1: []}
-    wall = {0: [], 1: []}
-    cpu = {0: [], 1: []}
-    for _ in range(a.repeat):  # alternated, so that a busy spell of the machine falls on both
-        for k, f in ((0, 0), (1, a.fasteners)):
-            spent.clear()
-            phases.clear()
-            w, c, res = _run(a.n, f, a.layout, a.solver)
-            wall[k].append(w)
-            cpu[k].append(c)
-            fac[k].append(spent.get("factorization", 0.0))
-            load = open("/proc/loadavg").read().split()[0] if os.path.exists("/proc/loadavg") else "?"
-            if phases:
-                print(f"  {'with' if k else 'without'} fasteners: {w:6.2f} s wall; phase 11 {phases['phase 11']:5.2f} s, "
-                      f"phase 22 {phases['phase 22']:5.2f} s, factor {phases['nnz'] / 1e6:.1f} M non-zeros, "
-                      f"{phases['mflop'] / 1e3:.1f} Gflop; load average {load}", flush=True)
-            info = next(iter(res.layers.values())).solver_info
-            if "iterations" in info:  # an iterative back end: CG steps and the true relative residual
-                print(f"  {'with' if k else 'without'} fasteners: {w:6.2f} s wall, {c:6.2f} s cpu; set-up "
-                      f"{spent.get('factorization', 0.0):5.2f} s ({info.get('method', '')}, {info.get('levels')} "
-                      f"levels); {info['iterations'][0]} iterations, relative residual {info['residual'][0]:.1e}, "
-                      f"backward error {info['backward_error']:.1e}; load average {load}", flush=True)
-            if k == 0:
-                r0 = res
-            else:
-                r1, ops = res, spent.get("end operators", 0.0)
-    dofs = sum(r.n_dofs for r in r0.layers.values())
-    print(f"{dofs:,} unknowns in two layers, solver {next(iter(r0.layers.values())).solver}; best of {a.repeat}")
-    print(f"without fasteners:     solve {min(wall[0]):7.2f} s wall, {min(cpu[0]):7.2f} s cpu")
-    print(f"with {len(r1.fasteners.pairs):,} fasteners:  solve {min(wall[1]):7.2f} s wall, {min(cpu[1]):7.2f} s cpu; "
-          f"end operators {ops:.3f} s; load balance error {r1.balance_error():.1e}")
-    print(f"ratio with / without: {min(wall[1]) / min(wall[0]):.3f} wall, {min(cpu[1]) / min(cpu[0]):.3f} cpu")
-    f0, f1 = min(fac[0]), min(fac[1])
-    print(f"factorization: {f0:.2f} s without, {f1:.2f} s with (ratio {f1 / f0:.3f}); the rest of the solve: "
-          f"{min(wall[0]) - f0:.2f} s without, {min(wall[1]) - f1:.2f} s with")
-    print("all wall times:", [round(x, 2) for x in wall[0]], [round(x, 2) for x in wall[1]])
+    print(report(run_joints(a.n, a.fasteners, a.layout, a.solver, a.repeat, echo=lambda t: print(t, flush=True))))
 
 
 if __name__ == "__main__":

@@ -4,6 +4,8 @@ Usage::
 
     python benchmarks/run.py --dofs 1000000 [--element T6] [--solver auto] [--json out.json]
                              [--compare-iterative]
+    python benchmarks/run.py --contact-lug [--dofs 200000]
+    python benchmarks/run.py --joints splice|grid [--dofs 1000000] [--fasteners 1000] [--repeat 3]
 
 Prints and writes (JSON) the time of each stage, the peak resident memory and the unknowns, and the
 time of the bare factorization and solve of the same matrix by the fastest installed back end,
@@ -226,7 +228,24 @@ def main(argv=None) -> int:
     p.add_argument("--contact-lug", action="store_true",
                    help="the lug-with-contact case instead (benchmarks/contact.py): the contact solve against the "
                         "linear solve of the same lug mesh, time and peak memory, in this run")
+    p.add_argument("--joints", choices=("splice", "grid"), default=None,
+                   help="the fastened-joint case instead (benchmarks/joints.py): two plates of --dofs unknowns in all "
+                        "joined by --fasteners fasteners on a lap splice band or a grid over the whole overlap, "
+                        "against the same plates without them, time in this run and factor operations")
+    p.add_argument("--fasteners", type=int, default=1000, help="fasteners of the --joints case")
+    p.add_argument("--repeat", type=int, default=3, help="runs of each solve of the --joints case (best taken)")
     args = p.parse_args(argv)
+    if args.joints:
+        from joints import report as joint_report, run_joints
+
+        n = max(int(round((args.dofs / 8.0) ** 0.5)), 4)  # two plates of 2n x n Q4 cells: about 8 n^2 unknowns
+        rec = run_joints(n, args.fasteners, args.joints, args.solver, args.repeat, echo=lambda t: print(t, flush=True))
+        print(joint_report(rec))
+        if args.json:
+            from planar.post.files import atomic_write_text
+
+            atomic_write_text(args.json, json.dumps(rec, indent=1))
+        return 0
     if args.contact_lug:
         from contact import report, run_contact
 
