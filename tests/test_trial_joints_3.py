@@ -222,3 +222,32 @@ def test_a_joint_in_inches_gives_the_same_answer_as_in_millimetres_with_every_un
         ("lbf", "in", "psi", "in/lbf")
     text = inch.table()
     assert all(u in text for u in ("[lbf]", "[in]", "[psi]", "[in/lbf]"))
+
+
+def _double_shear_strips(C):
+    front, back, mid = _strip(-40.0, 60.0, 2.0, 71e3), _strip(-40.0, 60.0, 2.0, 71e3), _strip(-10.0, 100.0, 4.0, 71e3)
+    for strap in (front, back):
+        strap.add_support(planar.Fixed("left"))
+    mid.add_load(planar.Traction("right", tx=100.0), case="pull")
+    j = planar.Joint({"front": front, "mid": mid, "back": back})
+    j.add_fasteners(planar.Fasteners([(0.0, 0.0), (25.0, 0.0), (50.0, 0.0)], layers=("front", "mid", "back"),
+                                     diameter=6.0, flexibility=C, name="row"))
+    return j
+
+
+def test_a_joint_too_stiff_to_solve_names_the_fasteners_compliance():
+    # compliance 1e-14 mm/N (stiffness 1e14 N/mm against the strips' E t ~ 1e5): the iterative solve
+    # failed with 'a layer may be free to move: check its supports', which sent the user to the wrong place
+    from planar.core.errors import SolverError
+
+    with pytest.raises(SolverError, match=r"fasteners 'row' between layers 'front' and 'mid' have compliance 1e-14 "
+                                          r"mm/N, a spring .* times stiffer"):
+        planar.solve(_double_shear_strips(1e-14), solver="amg")
+
+
+def test_a_compliance_a_thousandth_of_huths_acts_as_rigid():
+    # the message's advice, checked: the shares with C = 3e-8 mm/N (1e-3 of a bolt's ~3e-5) are those of
+    # C = 3e-11 mm/N to 0.1 % of the load (the rigid limit of the discrete model, Tate and Rosenfeld 1946)
+    stiff = planar.solve(_double_shear_strips(3e-8))["pull"].fasteners.shear[:, 0]
+    rigid = planar.solve(_double_shear_strips(3e-11))["pull"].fasteners.shear[:, 0]
+    assert np.abs(stiff - rigid).max() < 1e-3 * 8000.0

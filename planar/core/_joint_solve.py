@@ -419,6 +419,34 @@ def _motion_check(joint, layers, springs) -> None:
                            "add supports, or fasteners at two or more points between the layers")
 
 
+#: a fastener spring stiffer than this many times the layers' typical diagonal stiffness is named as the
+#: likely cause of a singular joint matrix (the motion check has already refused free layers)
+STIFF_SPRING = 1e6
+
+
+def _stiff_springs(springs: list[dict], kv: np.ndarray, plates, joint) -> str:
+    """The likely cause of a joint matrix too ill-conditioned to solve, for the message: the stiffest spring
+    against the layers' median diagonal stiffness when over :data:`STIFF_SPRING` times it, else free layers."""
+    d = np.abs(plates.diagonal())
+    typical = float(np.median(d[d > 0])) if np.any(d > 0) else 0.0
+    if kv.size and typical > 0 and float(kv.max()) > STIFF_SPRING * typical:
+        i = int(np.argmax(kv)) // 2
+        for sd in springs:
+            k = sd["points"].shape[0]
+            if i < k:
+                break
+            i -= k
+        us = joint.unit_system
+        cu = f" {us.unit_of('length')}/{us.unit_of('force')}" if us.stated else ""
+        name = joint.fasteners[sd["group"]].name
+        return (f"the fasteners {name!r} between layers {sd['a']!r} and {sd['b']!r} have compliance "
+                f"{sd['compliance'][i]:.3g}{cu}, a spring {float(kv.max()) / typical:.2g} times stiffer than the "
+                "layers' elements, too stiff for the solve: give the fastener's real compliance (a number in "
+                "length per force, or flexibility='huth'); one a thousandth of Huth's already acts as rigid")
+    return ("a layer or a piece of one may be free to move: check its supports and that each layer is joined at "
+            "two or more points")
+
+
 def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None = None,
                 distortion_limit: float = 1e-3, timer: Timer | None = None):
     """Solve a :class:`planar.core.joints.Joint` for its load cases with one factorization.
@@ -523,9 +551,8 @@ def solve_joint(joint, cases=None, *, solver: str = "auto", verbose: bool | None
         sol = sol[:, :m]
     except SolverError as exc:
         if getattr(exc, "numerical", False):
-            raise SolverError(f"the joint's stiffness matrix is singular or nearly so ({exc}); a layer or a piece of "
-                              "one may be free to move: check its supports and that each layer is joined at two or "
-                              "more points") from None
+            raise SolverError(f"the joint's stiffness matrix is singular or nearly so ({exc}); "
+                              + _stiff_springs(springs, kv, plates, joint)) from None
         raise
     diag_, nrm = figures.result() if figures is not None else matrix_figures(lower)
     KV = matvec(lower, sol, diag_)
