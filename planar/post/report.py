@@ -123,12 +123,21 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
     names += [r.name for r in recs[len(names):]]
     rows = [[n, r.kind, z(r.force[0], big), z(r.force[1], big), z(r.moment, big * span)] for n, r in zip(names, recs)]
     where = f"({recs[0].about[0]:.6g}, {recs[0].about[1]:.6g})" if recs and about != "own" else "each one's own point"
+    loaded = [r.name for r in recs if r.load is not None and any(abs(float(v)) > 0.0 for v in r.load)]
+    if loaded:  # a loaded pin's row is the whole force it passes to the part, its load included
+        sums = ("the supports' forces and the pins' reactions (a pin's force minus its load) add up to zero; "
+                f"the rows of the loaded pins ({', '.join(repr(n) for n in loaded)}) are the whole force each "
+                "passes to the part, its load (counted with the applied loads) included.")
+        if about == "own":
+            sums = sums.replace("add up to zero", "add up to zero in force (the moments, each about its own point, "
+                                                  "add up only when taken about one point)")
+    else:
+        sums = ("they add up to zero." if about != "own" else "the forces add up to zero (the moments, each about "
+                "its own point, add up only when taken about one point).")
     return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
                   "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
                  rows, caption=f"Reactions of each support and pin on the part, load case '{result.case}'; moments "
-                               f"about {where}, counter-clockwise positive. With the applied loads "
-                               + ("they add up to zero." if about != "own" else "the forces add up to zero (the "
-                                  "moments, each about its own point, add up only when taken about one point)."),
+                               f"about {where}, counter-clockwise positive. With the applied loads " + sums,
                  numeric=[2, 3, 4])
 
 
@@ -390,6 +399,26 @@ def _convergence_blocks(convergence) -> list:
     return out
 
 
+def _convergence_tiles(convergence) -> list:
+    """One summary tile per convergence study: its GCI, or that none is claimed (a study not converged)."""
+    if convergence is None:
+        return []
+    items = [convergence] if hasattr(convergence, "verdict") else list(convergence)
+    tiles = []
+    for c in items:
+        if not hasattr(c, "verdict"):
+            continue
+        u = f" {c.unit}" if c.unit else ""
+        if c.asymptotic:
+            lo, hi = c.band()
+            tiles.append((f"convergence, {c.name}", f"GCI {_v(100 * c.gci_fine, '.3g')} %",
+                          f"band {_v(lo, '.6g')} to {_v(hi, '.6g')}{u} on the finest value", "pass"))
+        else:
+            tiles.append((f"convergence, {c.name}", "no GCI claimed",
+                          f"{c.verdict}: the discretisation error of the figures is not known", "fail"))
+    return tiles
+
+
 def _table_of(title: str, thing, units=None) -> Section | None:
     """A section for contact states or a joint: their own tables, or a table of their records."""
     from ._report_tables import contact_section, joint_section, records_section
@@ -547,7 +576,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     extra_sections : sequence of Section
         Placed before the cautions.
     cautions : iterable of str
-        Default :data:`CAUTIONS`; said once, in their own section.
+        Default :data:`CAUTIONS`; said once, in their own section, which cannot be left out or empty.
     hot_spots : HotSpots, Section or False, optional
         The hot spots of the result; default :func:`planar.post.hot_spots` of ``field`` with
         ``nominal``, ``allowable`` and ``factor_of_safety``; False leaves them out.
@@ -562,7 +591,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     fasteners : iterable of (x, y), optional
         Fastener positions drawn on the model picture.
     combinations : sequence of Combination, or mapping of name to {case: factor}, optional
-        The load combinations of the job, listed with the inputs (a combined result lists its own).
+        The load combinations of the job, listed with the inputs (a combined result lists its own);
+        also what :func:`planar.post.combinations` returns (name -> CombinedResult).
     contact, joints : optional
         Contact states (default ``result.contact_states`` when present) and a joint result (its
         ``section()``, or its fastener table; default the joint of a joint's layer): each gets a
@@ -572,7 +602,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     script : path, optional
         The script whose name and digest are reported (default the running script).
     omit : iterable of str
-        Sections to leave out, by key (:data:`SECTION_KEYS`) or title.
+        Sections to leave out, by key (:data:`SECTION_KEYS`) or title; not the cautions.
     page : str
         Printed page size ("A4", "Letter", ...).
 
@@ -590,13 +620,24 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         if o not in known and o not in {"checks against handbook values and allowables", "convergence evidence",
                                         "cautions and limits"}:
             raise unknown_name("report section", o, SECTION_KEYS)
+    if omit & {"cautions", "cautions and limits"}:
+        raise InputError("omit=: the cautions cannot be left out of a stress-check report (they say what its "
+                         "figures are not: linear elastic, no buckling, fatigue or plasticity check, review by a "
+                         "qualified engineer); give your own list with cautions=[...] instead")
     want = lambda key: key not in omit  # noqa: E731
-    cautions = list(cautions)
+    cautions = [str(c) for c in ([cautions] if isinstance(cautions, str) else cautions) if str(c).strip()]
+    if not cautions:
+        raise InputError("cautions= is empty: a stress-check report states its limits; leave cautions= out for "
+                         "planar's own (planar.post.CAUTIONS), or give your own list")
     if title is None:
         title = f"Stress check, load case '{result.case}'"
-    hs, no_spots = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
+    from ..core.progress import step  # each long part of the report on a terminal, as the stages of a solve
+
+    dofs = int(getattr(result, "n_dofs", 0) or 0)
+    with step("report: hot spots", dofs):
+        hs, no_spots = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
     top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
-                                                              factor_of_safety))]
+                                                              factor_of_safety) + _convergence_tiles(convergence))]
     top.append(Notice([SCOPE_NOTE], kind="note"))
     layer = getattr(model, "joint_layer", None)  # a joint's layer: fasteners tied where no hole is modelled
     unholed = [fz.name for fz in getattr(model, "joint_fasteners", None) or [] if layer not in fz.holes]
@@ -614,7 +655,8 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     if fasteners is None and joints is not None and hasattr(joints, "fasteners"):  # a joint's fasteners in this layer
         layer = next((k for k, r in getattr(joints, "layers", {}).items() if r is result), None)
         fasteners = [h["point"] for h in joints.fasteners.holes if h["layer"] == layer] or None
-    pic = _model_picture(result, picture, fasteners)
+    with step("report: model picture", dofs):
+        pic = _model_picture(result, picture, fasteners)
     if pic is not None:
         analysed.append(pic)
     analysed.append(KeyValues(describe_model_rows(model, result.case),
@@ -627,15 +669,21 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     if factors:
         combos.append(("combination checked", combination_text(result.case, factors)))
     items = combinations.items() if hasattr(combinations, "items") else \
-        [(getattr(c, "name", ""), getattr(c, "factors", c)) for c in combinations]
-    for name, fac in items:
+        [(getattr(c, "name", None) or getattr(c, "case", ""), c) for c in combinations]
+    for name, fac in items:  # {case: factor}, a Combination or a CombinedResult (what combinations() returns)
+        fac = getattr(fac, "factors", fac)
+        if not hasattr(fac, "items"):
+            raise InputError(f"combinations=: {name!r} is a {type(fac).__name__}; give a mapping of name to "
+                             "{case: factor}, Combination objects, or what planar.post.combinations() returns")
         if not factors or str(name) != str(result.case):
             combos.append(("combination", combination_text(name, dict(fac))))
     if combos:
         analysed.append(KeyValues(combos, caption="Load combinations (linear superposition of the solved cases)"))
     sections.append(Section("What was analysed", analysed))
-    sections.append(_mesh_section(result, mesh_rows))
-    res_blocks = list(results) if results is not None else _auto_results(result, field, recovery)
+    with step("report: mesh quality", dofs):
+        sections.append(_mesh_section(result, mesh_rows))
+    with step("report: extremes and contour", dofs):
+        res_blocks = list(results) if results is not None else _auto_results(result, field, recovery)
     if res_blocks:
         sections.append(Section("Results", res_blocks))
     if isinstance(hs, Section):

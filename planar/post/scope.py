@@ -34,4 +34,4 @@ CAUTIONS = (
 
 #: the one-line reminder at the top of a report, pointing to :data:`CAUTIONS`
 SCOPE_NOTE = ("Linear-elastic, small-displacement, static analysis; no buckling, fatigue, fracture or plasticity "
-              "check. Read the cautions in the last section.")
+              "check. Read the section Cautions and limits before using these figures.")
