@@ -187,6 +187,12 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     Returns
     -------
     DemoOutcome
+
+    Raises
+    ------
+    InputError
+        If ``out`` holds files of the demo's names that an earlier demo did not write (a user's
+        ``report.html``, say): they are never replaced without a word.
     """
     from .core.static import solve
     from .post.checks import cut_resultant, kt, margin_of_safety, nominal_net
@@ -197,6 +203,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     part = part or SpliceStrap()
     say = Progress(verbose, "planar demo")
     out = output_dir(out)
+    _check_not_users(out)
     t_start = time.perf_counter()
     r = part.hole_diameter / 2
 
@@ -264,6 +271,7 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     t_figures = time.perf_counter()
 
     summary = {
+        "written_by": _WRITTEN_BY,  # the folder's mark: a later demo writes over these files only
         "part": part.name,
         "units": part.units,
         "unit_system": fine.unit_system.as_dict(),  # the system's name and the unit of each quantity
@@ -318,6 +326,35 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
                                          json.dumps(json_safe(summary), indent=2, allow_nan=False) + "\n")
     say(f"done in {summary['seconds']:.1f} s")
     return DemoOutcome(summary, files, conv)
+
+
+#: the files the demo writes into its folder
+DEMO_FILES = ("splice_strap.vtu", "von_mises.png", "hole_close_up.png", "sigma_xx.png", "net_section.png",
+              "convergence.png", "hot_spots.png", "report.html", "summary.json")
+#: the mark in summary.json of a folder the demo wrote
+_WRITTEN_BY = "planar demo"
+
+
+def _check_not_users(out: Path) -> None:
+    """Refuse to replace files of the demo's names that an earlier demo did not write (e.g. a user's report).
+
+    A folder the demo wrote before has its summary.json, marked ``"written_by": "planar demo"`` (or,
+    written before the mark, naming a demo part): the demo writes over its own files only.
+    """
+    from .core.errors import InputError
+
+    there = [n for n in DEMO_FILES if (out / n).exists()]
+    if not there:
+        return
+    try:
+        mark = json.loads((out / "summary.json").read_text(encoding="utf-8"))
+        ours = mark.get("written_by") == _WRITTEN_BY or "(demo part)" in str(mark.get("part", ""))
+    except (OSError, ValueError, AttributeError):
+        ours = False
+    if not ours:
+        raise InputError(f"the folder {str(out)!r} already holds {', '.join(there)}, not written by planar demo; "
+                         "the demo would replace them: give it a folder of its own (planar demo --out DIR, or "
+                         "run_demo(out=DIR)), or move those files away")
 
 
 def _demo_figures(part: SpliceStrap, fine, conv, out: Path) -> dict[str, tuple[Path, str]]:
@@ -409,7 +446,7 @@ def _demo_report(part, fine, conv, conv_kt, conc, margin, margin_band, est, net_
                   f"here the hole is {part.length / 2 / part.width:g} widths from the clamped and the "
                   f"loaded ends, far enough for their effect on the peak to be small. The allowable and "
                   f"the factor of safety are demonstration values, not design data."),
-    ]  # the scope caution is the report's own last section: said once
+    ]  # the scope caution is said once, in the report's own section Cautions and limits
     conv_rows = []
     for i, mm in enumerate(summary["meshes"], 1):
         conv_rows.append([str(i), f"{mm['hole_edge_size']:g}", str(mm["elements"]), _fmt_int(mm["unknowns"]),

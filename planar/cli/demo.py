@@ -29,7 +29,8 @@ def arguments(p: argparse.ArgumentParser) -> None:
     p.epilog = "examples:\n  planar demo\n  planar demo --out /tmp/strap-check\n\n" + wrap(CAUTION)
     p.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
                    help=f"folder for the result files, figures and report, created if missing "
-                        f"(default: ./{DEFAULT_OUT})")
+                        f"(default: ./{DEFAULT_OUT}); files of the same names that an earlier demo did "
+                        "not write (your own report.html, say) are never replaced: the demo stops")
     p.add_argument("--verbose", action="store_true",
                    help="report each step on stderr even when it is not a terminal")
 
