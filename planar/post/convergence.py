@@ -505,6 +505,8 @@ def convergence_study(build: Callable, meshes: Sequence, quantity: str | Callabl
         raise InputError(f"sizes= needs one element size per mesh ({len(meshes)}), got {sizes!r}")
     g = grid_convergence(values, dofs=None if sizes is not None else dofs, sizes=sizes, name=name, unit=unit,
                          degree=degree, order_band=order_band, stacklevel=4)  # 4: past the keyword wrapper
+    if sizes is not None:  # the unknowns solved are known here: kept for the table, in the study's order (finest first)
+        g.dofs = np.asarray(dofs, dtype=float)[np.argsort(np.asarray(sizes, dtype=float), kind="stable")]
     if note:
         g.notes.append(f"the peak on the finest mesh sits {note}")
     return g
