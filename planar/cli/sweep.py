@@ -121,6 +121,7 @@ def run(args: argparse.Namespace) -> int:
         except InputError as exc:
             print(f"planar sweep: no plot: {exc}", file=sys.stderr)
     print(table.format())
-    print(f"\n{len(table)} points ({table.computed} computed, {table.reused} from the store), "
+    stale = (f"; {table.stale} stored by another version of the function, computed again" if table.stale else "")
+    print(f"\n{len(table)} points ({table.computed} computed, {table.reused} from the store{stale}), "
           f"{len(table.failed)} failed, {table.seconds:.1f} s; wrote {', '.join(map(str, written))}")
     return 0 if not table.failed else 1

@@ -96,6 +96,90 @@ def resolve_function(function) -> tuple[Callable, str]:
     return function, f"{mod}:{qual}"
 
 
+_PLAIN = (int, float, complex, str, bytes, bool, type(None))
+
+
+def _plain_repr(v, depth: int = 0) -> str | None:
+    """A repr of plain data that is the same in every process (None for anything else)."""
+    if isinstance(v, _PLAIN):
+        return repr(v)
+    if depth < 4 and isinstance(v, (tuple, list)):
+        parts = [_plain_repr(x, depth + 1) for x in v]
+        return None if None in parts else f"{type(v).__name__}({', '.join(parts)})"
+    if depth < 4 and isinstance(v, dict):
+        parts = [(_plain_repr(k, depth + 1), _plain_repr(x, depth + 1)) for k, x in v.items()]
+        return None if any(None in kv for kv in parts) else "{" + ", ".join(f"{k}: {x}" for k, x in parts) + "}"
+    return None
+
+
+def _code_names(code) -> set[str]:
+    names = set(code.co_names)
+    for c in code.co_consts:
+        if hasattr(c, "co_names"):
+            names |= _code_names(c)
+    return names
+
+
+def _feed_code(code, h) -> None:
+    """The parts of a code object that say what it computes (not its file, lines or refcount-dependent bytes)."""
+    h.update(code.co_code)
+    h.update(repr((code.co_argcount, code.co_kwonlyargcount, code.co_names, code.co_varnames, code.co_freevars,
+                   code.co_cellvars)).encode())
+    for c in code.co_consts:
+        if hasattr(c, "co_code"):
+            _feed_code(c, h)
+        else:
+            h.update(f"{type(c).__name__}:{_plain_repr(c) or type(c).__name__};".encode())
+
+
+def _feed_function(fn, h, seen: set) -> None:
+    import inspect
+
+    code = getattr(fn, "__code__", None)
+    if code is None:  # a callable object: its class's name stands for it
+        h.update(f"{type(fn).__module__}.{type(fn).__qualname__}".encode())
+        return
+    if id(code) in seen:
+        return
+    seen.add(id(code))
+    _feed_code(code, h)
+    h.update(repr((_plain_repr(getattr(fn, "__defaults__", None)),
+                   _plain_repr(getattr(fn, "__kwdefaults__", None)))).encode())
+    g = getattr(fn, "__globals__", {})
+    for name in sorted(_code_names(code)):
+        if name not in g:
+            continue
+        v = g[name]
+        text = _plain_repr(v)
+        if text is not None:  # a module constant the function reads (a thickness, a load)
+            h.update(f"{name}={text};".encode())
+        elif inspect.isfunction(v) and v.__module__ == getattr(fn, "__module__", None):
+            _feed_function(v, h, seen)  # a helper of the same module
+
+
+def function_digest(function) -> str:
+    """A fingerprint of what a sweep function computes, to tell a stored point of an earlier version.
+
+    SHA-256 over the function's compiled code (its instructions, names and constants; not its
+    file or line numbers), its default arguments, the plain module constants
+    it reads (numbers, text, and tuples, lists and dicts of them) and, the same way, the functions
+    of its own module it calls. Editing any of them changes the fingerprint; helpers in other
+    modules, and data read from files, are not followed.
+
+    Parameters
+    ----------
+    function : callable
+
+    Returns
+    -------
+    str
+        16 hexadecimal digits.
+    """
+    h = hashlib.sha256()
+    _feed_function(function, h, set())
+    return h.hexdigest()[:16]
+
+
 # ============================================================================ one point (runs on a worker)
 def _is_number(v) -> bool:
     return isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, (bool, np.bool_))
@@ -175,6 +259,7 @@ def _compute_point(function, params: dict, outputs: dict, key: str, function_id:
               "worker": f"{socket.gethostname()}:{os.getpid()}"}
     try:
         fn = resolve_function(function)[0] if isinstance(function, str) else function
+        record["source"] = function_digest(fn)  # which version of the function made this point
         ret = fn(**params)
         obj, extras = _split_return(ret)
         results = _results_of(obj)
@@ -204,8 +289,8 @@ def _compute_point(function, params: dict, outputs: dict, key: str, function_id:
     return record
 
 
-def _failed_record(key, params, function_id, outputs, kind, message) -> dict:
-    return {"key": key, "function": function_id, "params": params,
+def _failed_record(key, params, function_id, outputs, kind, message, source: str = "") -> dict:
+    return {"key": key, "function": function_id, "source": source, "params": params,
             "output_specs": {n: _describe_output(o) for n, o in outputs.items()},
             "status": "failed", "outputs": {}, "error": {"type": kind, "message": message},
             "seconds": float("nan"), "finished": time.time(), "worker": ""}

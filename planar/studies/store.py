@@ -41,8 +41,16 @@ class _Store:
         atomic_write_text(self.path(record["key"]), json.dumps(_jsonable(record), indent=1, sort_keys=True))
 
 
-def _reusable(rec: dict | None, function_id: str, specs: dict[str, str], retry_failed: bool) -> bool:
+def _reusable(rec: dict | None, function_id: str, specs: dict[str, str], retry_failed: bool,
+              source: str | None = None) -> bool:
+    """Whether a stored point serves this run: same function, made by the same version of it, same outputs.
+
+    ``source`` is the function's fingerprint (:func:`planar.studies.compute.function_digest`); a point
+    made by another version of the function (or stored before the fingerprint was kept) is computed again.
+    """
     if rec is None or rec.get("function") != function_id or rec.get("status") not in _STATUS:
+        return False
+    if source is not None and rec.get("source") != source:
         return False
     if rec["status"] == "failed":
         return not retry_failed

@@ -13,7 +13,7 @@ from ..core.values import number
 from ..core.errors import InputError, ResourceError
 from .parameters import _clean_point, _grid_points, point_key
 from .outputs import _DefaultPeak, _check_outputs, _describe_output
-from .compute import resolve_function
+from .compute import function_digest, resolve_function
 from .progress import SweepProgress, _Reporter
 from .runners import _local_workers, _run_dask, _run_processes, _run_serial
 from .store import CLAIM_TIMEOUT, _Claims, _Feed, _Store, _reusable
@@ -107,6 +107,7 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
     extra = _clean_point(fixed or {})
     pts = [{**_clean_point(p), **extra} for p in pts]
     fn, fid = resolve_function(function)
+    source = function_digest(fn)  # a stored point made by another version of the function is not reused
     specs = _check_outputs(outputs)
     payload_fn = fid if isinstance(function, str) else fn  # a name is imported again on the worker
     if workers is not None:
@@ -142,14 +143,16 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
                                  "function or one of Peak, ValueAt, ConcentrationFactor, SafetyMargin") from None
 
     records: dict[str, dict] = {}
-    reused = 0
+    reused = stale = 0
     t_wall = time.time()
     if st is not None:
         for k in keys:
             rec = st.load(k)
-            if _reusable(rec, fid, described, retry_failed):
+            if _reusable(rec, fid, described, retry_failed, source):
                 records[k] = rec
                 reused += 1
+            elif _reusable(rec, fid, described, retry_failed):  # the same point of another version of the function
+                stale += 1
     todo = [(k, p) for k, p in zip(keys, pts) if k not in records]
 
     prog = SweepProgress(total=len(pts), done=reused, reused=reused,
@@ -163,6 +166,7 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
         """A point is finished: computed by this run (stored, claim released) or by another run."""
         nonlocal computed
         if ours:
+            rec["source"] = rec.get("source") or source  # a failure recorded here (a worker that died)
             if st is not None:
                 st.save(rec)
             if claims is not None:
@@ -180,9 +184,10 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
 
     def accept(rec) -> bool:
         """A record found in the store while this run goes: reusable, or a failure of another run of now."""
-        if _reusable(rec, fid, described, retry_failed):
+        if _reusable(rec, fid, described, retry_failed, source):
             return True
-        return (rec is not None and rec.get("function") == fid and rec.get("status") == "failed"
+        return (rec is not None and rec.get("function") == fid and rec.get("source") == source
+                and rec.get("status") == "failed"
                 and isinstance(rec.get("finished"), (int, float)) and rec["finished"] >= t_wall)
 
     payload = (payload_fn, specs, fid)
@@ -224,4 +229,4 @@ def sweep(function: Callable | str, points: Sequence[Mapping[str, Any]] | None =
             if o not in out_names and (o not in asked or (default_peak and o in specs)):
                 out_names.append(o)
     return SweepTable(fid, parameters, out_names, ordered, computed=computed, reused=prog.reused,
-                      seconds=time.perf_counter() - t_start)
+                      seconds=time.perf_counter() - t_start, stale=stale)

@@ -38,6 +38,9 @@ class SweepTable:
         Points taken from the store.
     seconds : float
         Wall time of this run.
+    stale : int
+        Points the store held from another version of the function (its code, defaults or the
+        module constants it reads changed), computed again.
     """
 
     function: str
@@ -47,6 +50,7 @@ class SweepTable:
     computed: int = 0
     reused: int = 0
     seconds: float = 0.0
+    stale: int = 0
 
     def __len__(self) -> int:
         return len(self.records)
@@ -101,7 +105,7 @@ class SweepTable:
 
         return _jsonable({"function": self.function, "parameters": self.parameters, "outputs": self.outputs,
                           "points": len(self.records), "failed": len(self.failed), "computed": self.computed,
-                          "reused": self.reused, "seconds": self.seconds, "planar": __version__,
+                          "reused": self.reused, "stale": self.stale, "seconds": self.seconds, "planar": __version__,
                           "records": self.records})
 
     def to_json(self, path: str | os.PathLike) -> Path:
@@ -263,6 +267,7 @@ def load_table(path: str | os.PathLike) -> SweepTable:
         raise InputError(f"{str(path)!r} is not a sweep table (JSON error: {exc})") from None
     try:
         return SweepTable(d["function"], list(d["parameters"]), list(d["outputs"]), list(d["records"]),
-                          int(d.get("computed", 0)), int(d.get("reused", 0)), float(d.get("seconds") or 0.0))
+                          int(d.get("computed", 0)), int(d.get("reused", 0)), float(d.get("seconds") or 0.0),
+                          int(d.get("stale", 0)))
     except (KeyError, TypeError) as exc:
         raise InputError(f"{str(path)!r} is not a sweep table (missing {exc})") from None
