@@ -251,3 +251,38 @@ def test_a_compliance_a_thousandth_of_huths_acts_as_rigid():
     stiff = planar.solve(_double_shear_strips(3e-8))["pull"].fasteners.shear[:, 0]
     rigid = planar.solve(_double_shear_strips(3e-11))["pull"].fasteners.shear[:, 0]
     assert np.abs(stiff - rigid).max() < 1e-3 * 8000.0
+
+
+def _two_strips_at(y, half=False):
+    """Two 20 mm wide strips (1.25 mm Q8) joined by 5 mm fasteners at x = 70 and 90, height y; with ``half``,
+    the upper halves only (y from 0 to 10), held across the cut y = 0 as a symmetry line."""
+    def strip(x0):
+        h = 10.0 if half else 20.0
+        m = planar.rectangle_mesh(100.0, h, 80, int(h / 1.25), element="Q8", origin=(x0, 0.0 if half else -10.0))
+        mdl = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+        if half:
+            mdl.add_support(planar.Roller("bottom", fixed="y"))
+        return mdl
+    a, b = strip(0.0), strip(60.0)
+    a.add_support(planar.Fixed("left"))
+    b.add_load(planar.Traction("right", tx=10.0), case="pull")
+    j = planar.Joint({"a": a, "b": b})
+    j.add_fasteners(planar.Fasteners([(70.0, y), (90.0, y)], layers=("a", "b"), diameter=5.0, flexibility=3e-5,
+                                     name="row"))
+    return planar.solve(j)["pull"]
+
+
+def test_a_fastener_whose_hole_would_break_out_of_the_edge_is_warned():
+    # common practice: a hole lies in its plate; 1 mm from the edge with d = 5 the patch was cut by the edge
+    # and nothing was said
+    r = _two_strips_at(9.0)
+    w = [x for x in r.warnings if x.code == "fastener-edge"]
+    assert w and "2 of the 2 fasteners 'row'" in str(w[0]) and "1 mm from it" in str(w[0]) and "'a'" in str(w[0])
+
+
+@pytest.mark.parametrize("y, half", [(0.0, False), (7.5, False), (0.0, True)])
+def test_no_edge_warning_for_a_hole_inside_tangent_to_the_edge_or_on_a_symmetry_line(y, half):
+    # no false alarm: a centred fastener, a hole just touching the edge (e = d/2), a half model's fasteners
+    # on its symmetry line (an edge held across it)
+    r = _two_strips_at(y, half)
+    assert not [x for x in r.warnings if x.code == "fastener-edge"]

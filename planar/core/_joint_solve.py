@@ -323,6 +323,17 @@ class _Layer:
                  f"within d/2 (first at ({pts[i, 0]:g}, {pts[i, 1]:g})): the mesh is coarser than the fastener, so "
                  "its spring acts almost at a point and its load depends on the mesh; refine near the fasteners to "
                  "an element size of d/4 or less", "fastener-patch", sink=pending_warnings(self.asm))
+        near = _edge_distance(mesh, pts, pi, nj, self.cons.rows.node)
+        out = near < fz.diameter / 2 * (1 - 1e-9)
+        if out.any():
+            i = int(np.argmax(out))
+            us = self.model.unit_system
+            lu = f" {us.unit_of('length')}" if us.stated else ""
+            warn(f"{int(out.sum())} of the {k} fasteners {fz.name!r} sit closer than d/2 = {fz.diameter / 2:g}{lu} to a "
+                 f"free edge of layer {self.name!r} (first at ({pts[i, 0]:g}, {pts[i, 1]:g}), {near[i]:.3g}{lu} from "
+                 "it): the hole would break out through the edge and the spring's patch is cut by it; check the "
+                 "point and the layer's outline (an edge distance of about 2 d is common practice)", "fastener-edge",
+                 sink=pending_warnings(self.asm))
         total = np.bincount(pi, wn, minlength=k)
         share = wn / total[pi]
         S = sp.csr_matrix((np.r_[share, share], (np.r_[2 * pi, 2 * pi + 1], np.r_[2 * nj, 2 * nj + 1])),
@@ -332,6 +343,43 @@ class _Layer:
         np.maximum.at(tt, pi, t[nj])
         np.maximum.at(ee, pi, E[nj])
         return S, tt, ee
+
+
+def _edge_distance(mesh, pts: np.ndarray, pi: np.ndarray, nj: np.ndarray, held: np.ndarray) -> np.ndarray:
+    """Each fastener's distance (k,) to the nearest free edge of the layer that meets its patch (inf for none).
+
+    ``pi``, ``nj``: the patch pairs (fastener, node). The edges are the cells' sides (corner to corner,
+    straight) of one cell only; only the cells touching a patch node are visited, which holds every cell
+    of a side with a patch node, so its count is exact. A side whose two nodes are held by supports (a
+    symmetry line, a clamped edge) is no free edge.
+    """
+    from .registry import element_type
+
+    k = pts.shape[0]
+    near = np.full(k, np.inf)
+    on = np.zeros(mesh.n_nodes, bool)
+    on[nj] = True
+    sides = []
+    for layout, conn in mesh.cells.items():
+        c = np.asarray(conn)
+        c = c[on[c].any(axis=1)][:, :3 if element_type(layout).cell == "triangle" else 4]
+        sides.append(np.stack([c, np.roll(c, -1, axis=1)], axis=2).reshape(-1, 2))
+    s = np.sort(np.vstack(sides), axis=1)
+    s, cnt = np.unique(s, axis=0, return_counts=True)
+    fixed = np.zeros(mesh.n_nodes, bool)
+    fixed[np.asarray(held, dtype=np.int64)] = True
+    s = s[(cnt == 1) & on[s].any(axis=1) & ~fixed[s].all(axis=1)]
+    if not s.size:
+        return near
+    patch = sp.csc_matrix((np.ones(pi.size), (pi, nj)), shape=(k, mesh.n_nodes))
+    meet = (patch[:, s[:, 0]] + patch[:, s[:, 1]]).tocoo()  # (fastener, side) pairs whose side touches its patch
+    a, b = mesh.nodes[s[meet.col, 0], :2], mesh.nodes[s[meet.col, 1], :2]
+    p = pts[meet.row]
+    ab = b - a
+    t = np.clip(np.einsum("ij,ij->i", p - a, ab) / np.maximum(np.einsum("ij,ij->i", ab, ab), 1e-300), 0.0, 1.0)
+    dist = np.hypot(*(a + t[:, None] * ab - p).T)
+    np.minimum.at(near, meet.row, dist)
+    return near
 
 
 def _patch_states(joint, L, ends, U: np.ndarray, cases: list[str]) -> list[list]:
