@@ -470,32 +470,35 @@ def near_idealised(mesh, model, nodes, *, distance: float | str | None = None, s
     return _near(mesh, _idealised_trees(mesh, model, supports=supports, loads=loads), nodes, distance)
 
 
-def _idealised_trees(mesh, model, *, supports: bool = True, loads: bool = True) -> list[tuple[str, Any, float]]:
+def _idealised_trees(mesh, model, *, supports: bool = True, loads: bool = True,
+                     found: list[tuple[str, np.ndarray]] | None = None) -> list[tuple[str, Any, float]]:
     """(description, search tree of its nodes, its own size) of each idealisation, for :func:`_near`.
 
-    Built once by a caller that asks about many batches of nodes (:func:`idealised_reason`).
+    Built once by a caller that asks about many batches of nodes (:func:`idealised_reason` keeps them
+    on the result's assembly, :func:`_prepared`). ``found``: the idealisations, when already listed.
     """
     from scipy.spatial import cKDTree
 
     out = []
-    for why, ids in idealisations(mesh, model, supports=supports, loads=loads):
+    if found is None:
+        found = idealisations(mesh, model, supports=supports, loads=loads)
+    for why, ids in found:
         own = mesh.nodes[np.unique(ids)]
         x, y = own[:, 0], own[:, 1]
         out.append((why, cKDTree(own), max(float(x.max() - x.min()), float(y.max() - y.min()))))
     return out
 
 
-def _near(mesh, trees, nodes, distance) -> tuple[np.ndarray, list[str]]:
-    """:func:`near_idealised` on idealisations prepared by :func:`_idealised_trees`."""
+def _near_index(mesh, trees, nodes, distance) -> np.ndarray:
+    """For each of ``nodes``: the index in ``trees`` of the idealisation that comes nearest relative to
+    its limit, when the node lies within that limit; -1 when it lies next to none (see :func:`_near`)."""
     nodes = np.asarray(nodes, dtype=np.int64).ravel()
-    near = np.zeros(nodes.size, dtype=bool)
-    reasons = [""] * nodes.size
     if not trees or nodes.size == 0:
-        return near, reasons
+        return np.full(nodes.size, -1, dtype=np.int64)
     pts = mesh.nodes[nodes]
     local = NEAR_ELEMENTS * node_sizes(mesh)[nodes]
     best = np.full(nodes.size, np.inf)  # distance over its limit, to the idealisation that comes nearest
-    which = np.full(nodes.size, -1)
+    which = np.full(nodes.size, -1, dtype=np.int64)
     for k, (_, tree, size) in enumerate(trees):
         d, _ = tree.query(pts)
         if distance is None:
@@ -507,9 +510,132 @@ def _near(mesh, trees, nodes, distance) -> tuple[np.ndarray, list[str]]:
         ratio = d / np.maximum(limit, 1e-300)
         better = ratio < best
         best[better], which[better] = ratio[better], k
-    near = best <= 1 + 1e-9
+    return np.where(best <= 1 + 1e-9, which, -1)
+
+
+def _near(mesh, trees, nodes, distance) -> tuple[np.ndarray, list[str]]:
+    """:func:`near_idealised` on idealisations prepared by :func:`_idealised_trees`."""
+    which = _near_index(mesh, trees, nodes, distance)
     words = np.array([why for why, _, _ in trees] + [""], dtype=object)  # index -1: none near
-    return near, words[np.where(near, which, -1)].tolist()
+    return which >= 0, words[which].tolist()
+
+
+class _Idealised:
+    """The idealisations of a model on a mesh, prepared once for the many peak queries of a result.
+
+    Holds the search trees (:func:`_idealised_trees`) and, node by node as they are asked about, which
+    idealisation each node lies next to (within ``NEAR_ELEMENTS`` local element sizes, and within each
+    idealisation's own size): a node is measured once, however many fields and zones ask about it.
+    """
+
+    def __init__(self, mesh, trees: list[tuple[str, Any, float]]):
+        self.mesh, self.trees = mesh, trees
+        self.words = [why for why, _, _ in trees]
+        self._which: dict[Any, np.ndarray] = {}
+        self._used: np.ndarray | None = None
+        self._around: dict[bytes, np.ndarray] = {}
+
+    def used(self) -> np.ndarray:
+        """The nodes of cells (:meth:`Mesh.used_nodes`), found once."""
+        if self._used is None:
+            self._used = self.mesh.used_nodes()
+        return self._used
+
+    def around(self, ids: np.ndarray) -> np.ndarray:
+        """The nodes within a zone's own size of the zone's nodes ``ids`` (its extent, or its largest local
+        element size when larger), for :func:`idealised_reason`; kept for the last few zones asked about."""
+        key = np.asarray(ids, dtype=np.int64).tobytes()
+        got = self._around.get(key)
+        if got is None:
+            from scipy.spatial import cKDTree
+
+            pz = self.mesh.nodes[ids]
+            reach = max(float(np.ptp(pz[:, 0])), float(np.ptp(pz[:, 1])), float(node_sizes(self.mesh)[ids].max()))
+            d, _ = cKDTree(pz).query(self.mesh.nodes, distance_upper_bound=reach * (1 + 1e-9))
+            got = np.isfinite(d)
+            if len(self._around) >= _KEEP:
+                self._around.pop(next(iter(self._around)))
+            self._around[key] = got
+        return got
+
+    def which(self, nodes, distance: str | None) -> np.ndarray:
+        """:func:`_near_index` for ``distance`` None or ``"size"``, from what was measured before."""
+        nodes = np.asarray(nodes, dtype=np.int64).ravel()
+        known = self._which.get(distance)
+        if known is None:
+            known = self._which[distance] = np.full(self.mesh.n_nodes, -2, dtype=np.int64)  # -2: not measured
+        new = nodes[known[nodes] == -2]
+        if new.size:
+            known[new] = _near_index(self.mesh, self.trees, new, distance)
+        return known[nodes]
+
+    def near(self, nodes, distance: str | None) -> np.ndarray:
+        """Which of ``nodes`` lie next to an idealisation (see :func:`near_idealised`)."""
+        return self.which(nodes, distance) >= 0
+
+
+#: how many prepared sets of idealisations a result's assembly keeps (one per state of the model)
+_KEEP = 4
+
+
+def _model_key(mesh, model) -> tuple:
+    """What :func:`idealisations` reads of ``model``, in a form quick to compare: each support, pin and
+    load (kind, identity and repr), the pins a joint layer loads, and the mesh's node count."""
+    def each(items):
+        return tuple((type(o).__name__, id(o), repr(o)) for o in items)
+
+    cases = getattr(model, "cases", {}) or {}
+    return (mesh.n_nodes, each(getattr(model, "supports", ())), each(getattr(model, "pins", ())),
+            tuple(sorted(map(str, getattr(model, "joint_pins", None) or {}))),
+            tuple((str(case), each(items)) for case, items in cases.items()))
+
+
+def _prepared(result, mesh, model) -> _Idealised:
+    """The :class:`_Idealised` of ``model`` on ``mesh``, kept on the result's assembly (or the mesh).
+
+    Kept under what the model's supports, pins and loads are (:func:`_model_key`), so one added to the
+    model after the solve is seen as before; the trees and the nodes measured are reused otherwise.
+    """
+    key = _model_key(mesh, model)
+    owner = getattr(result, "assembly", None)
+    if owner is None or getattr(owner, "mesh", mesh) is not mesh:
+        owner = mesh
+    memo = getattr(owner, "_planar_idealised", None)
+    if memo is None:
+        memo = {}
+        try:
+            object.__setattr__(owner, "_planar_idealised", memo)
+        except (AttributeError, TypeError):  # an owner that keeps no attribute: prepared each time
+            pass
+    got = memo.get(key)
+    if got is None:
+        got = _Idealised(mesh, _idealised_trees(mesh, model))
+        if len(memo) >= _KEEP:
+            memo.pop(next(iter(memo)))
+        memo[key] = got
+    return got
+
+
+def _top_away(v: np.ndarray, ok: np.ndarray, prep: _Idealised) -> float:
+    """The largest of ``v`` over ``ok`` away from every idealisation (beyond each one's own size, what
+    ``where=Away()`` reads): NaN when every such node lies next to one (or holds no finite value and
+    one holds NaN). The largest values are taken a growing batch at a time (partitioned, not sorted),
+    so only the few next to an idealisation are measured; those measured before to lie next to one are
+    passed over."""
+    known = prep._which.get("size")
+    rest = np.flatnonzero(ok if known is None else ok & (known < 0))
+    vals = -v[rest]  # NaN sorts last, as in a sort
+    k = 256
+    while True:
+        chunk = rest if k >= rest.size else rest[np.argpartition(vals, k - 1)[:k]]
+        far = chunk[~prep.near(chunk, "size")]
+        if far.size:
+            fv = v[far]
+            fin = fv[~np.isnan(fv)]
+            return float(fin.max()) if fin.size else float("nan")
+        if k >= rest.size:
+            return float("nan")
+        k *= 4
 
 
 def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | None = None, *,
@@ -527,13 +653,14 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     mesh, model = getattr(result, "mesh", None), getattr(result, "model", None)
     if mesh is None or model is None:
         return ""
-    trees = _idealised_trees(mesh, model)  # built once for the many batches asked about below
-    near, why = _near(mesh, trees, [node], None)
-    if not near[0]:
+    prep = _prepared(result, mesh, model)  # trees and the nodes measured, kept once per assembly
+    k_node = int(prep.which([node], None)[0])
+    if k_node < 0:
         return ""
+    why = prep.words[k_node]
     v = np.abs(values) if absolute else np.asarray(values, dtype=float)
     peak = float(v[node])
-    used = np.isfinite(v) & mesh.used_nodes()
+    used = np.isfinite(v) & prep.used()
     zone = used if mask is None else np.isfinite(v) & mask
     top = float("nan")
     # within the zone; when the zone lies wholly next to idealisations (e.g. the supported edge itself,
@@ -544,37 +671,21 @@ def idealised_reason(result, node: int, values: np.ndarray, mask: np.ndarray | N
     if not np.array_equal(zone, used):
         ids = np.flatnonzero(zone)
         if ids.size:
-            from scipy.spatial import cKDTree
-
-            pz = mesh.nodes[ids]
-            reach = max(float(np.ptp(pz[:, 0])), float(np.ptp(pz[:, 1])), float(node_sizes(mesh)[ids].max()))
-            d, _ = cKDTree(pz).query(mesh.nodes, distance_upper_bound=reach * (1 + 1e-9))
-            steps.append(used & np.isfinite(v) & np.isfinite(d))
+            steps.append(used & np.isfinite(v) & prep.around(ids))
         steps.append(used)
     for k_step, ok in enumerate(steps):
         # the candidates that could beat the peak less DOMINANCE: only they need the distance test
         cand = np.flatnonzero(ok & (v >= peak - DOMINANCE * abs(peak)))
-        near_c, _ = _near(mesh, trees, cand, None)
-        if np.any(~near_c):
+        if not np.all(prep.near(cand, None)):
             return ""  # as large a value away from every idealisation: the field's own level
-        # the largest value away from every idealisation: the values in falling order, a growing batch at a time
-        rest = np.flatnonzero(ok)
-        order = rest[np.argsort(-v[rest], kind="stable")]
-        start, batch = 0, 256
-        while start < order.size:
-            chunk = order[start:start + batch]
-            near_k, _ = _near(mesh, trees, chunk, "size")  # what where=Away() reads
-            if not np.all(near_k):
-                top = float(v[chunk[np.argmin(near_k)]])
-                break
-            start, batch = start + batch, batch * 4
+        top = _top_away(v, ok, prep)  # the largest value away from every idealisation (what where=Away() reads)
         if np.isfinite(top):
             break
-        if k_step == 1 and len(steps) == 3 and not np.all(_near(mesh, trees, np.flatnonzero(ok), None)[0]):
+        if k_step == 1 and len(steps) == 3 and not np.all(prep.near(np.flatnonzero(ok), None)):
             break  # the part round a wholly held zone reads less than its peak: the idealisation's peak
     sign = -1.0 if sign_of_values < 0 else 1.0
     other = (f"; the {'largest' if sign > 0 else 'smallest'} value away from supports and concentrated loads is "
              f"{sign * top:.6g} (where=Away())" if np.isfinite(top) else "")
-    return (f"next to {why[0]}: a peak there is made by the idealisation (how the part is held or loaded), "
+    return (f"next to {why}: a peak there is made by the idealisation (how the part is held or loaded), "
             f"not by the part{other}; read the feature under check with where= (e.g. where=Away() or the "
             "feature's edge)")
