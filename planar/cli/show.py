@@ -105,10 +105,13 @@ def _show_file(args) -> int:
         f = vtu_fields(args.result, changed=changed)
         print(f"point fields: {', '.join(f['point']) or '-'}")
         print(f"cell fields:  {', '.join(f['cell']) or '-'}")
-        from ..post.files import file_units, read_result_file
+        from ..post.files import file_case, file_units, read_result_file
 
-        system = file_units(read_result_file(args.result, changed=changed), args.result)
+        m = read_result_file(args.result, changed=changed)
+        system = file_units(m, args.result)
         print(f"units:        {system.describe() if system is not None else 'not recorded in the file'}")
+        case = file_case(m)
+        print(f"load case:    {case if case is not None else 'not recorded in the file'}")
         return 0
     png = Path(args.png) if args.png else Path(args.result).with_name(
         f"{Path(args.result).stem}-{args.field}.png")

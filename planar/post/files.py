@@ -16,10 +16,12 @@ from ..core.digest import check_digest
 from ..core.errors import MeshError, OutputError, PlanarWarning, fmt_point
 
 __all__ = ["atomic_path", "atomic_write_text", "atomic_write_bytes", "read_result_file", "check_digest",
-           "non_finite_fields", "json_safe", "file_units", "UNITS_FIELD"]
+           "non_finite_fields", "json_safe", "file_units", "UNITS_FIELD", "file_case", "CASE_FIELD"]
 
 #: name of the field-data array of a .vtu file that holds the unit system's name (UTF-8 bytes)
 UNITS_FIELD = "planar_units"
+#: name of the field-data array of a .vtu file that holds the load case's (or combination's) name (UTF-8 bytes)
+CASE_FIELD = "planar_case"
 
 
 def json_safe(obj):
@@ -185,6 +187,28 @@ def file_units(m, path=None):
             f"result file {os.fspath(path) if path is not None else ''!r} names a unit system planar does not "
             f"know ({str(exc).split(';')[0]}); its figures carry no units: give them with --units "
             "(planar show) or units= (plot_vtu)", "unknown-units"), stacklevel=2)
+        return None
+
+
+def file_case(m) -> str | None:
+    """The load case (or combination) a result file states (its ``planar_case`` field data), or None.
+
+    Parameters
+    ----------
+    m : meshio.Mesh
+        The file as read (:func:`read_result_file`).
+
+    Returns
+    -------
+    str or None
+        None for a file without the entry (older, or from another program).
+    """
+    raw = getattr(m, "field_data", {}).get(CASE_FIELD)
+    if raw is None:
+        return None
+    try:
+        return bytes(np.asarray(raw).astype(np.uint8).ravel()).decode("utf-8")
+    except (ValueError, TypeError, OverflowError):
         return None
 
 

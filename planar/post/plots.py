@@ -329,6 +329,9 @@ def plot_nodal_field(nodes, cells, values=None, *, displacement=None, field: str
                            rasterized=True)
     else:
         art = ax.tripcolor(tri, facecolors=tv, cmap=cmap, norm=norm, edgecolors="none")
+    # the contour lies inside the axes: the layout need not measure it, which costs a path per triangle
+    # (minutes on a fine mesh: matplotlib's extent of a triangle mesh converts every triangle)
+    art.set_in_layout(False)
     if mesh_lines:
         segs = _outline_segments(shown, cells, etypes)
         ax.add_collection(LineCollection(segs, colors="0.15", linewidths=0.25, alpha=0.7))
@@ -563,10 +566,12 @@ def plot_vtu(path, field: str = "von_mises", *, png=None, units: str | None = No
                 "planar show --undeformed) or write the file again from the model"
             )
         disp = np.asarray(m.point_data["displacement"], float)[:, :2]
+    from .files import file_case, file_units
+
     if title is None:
-        title = f"{field_label(field)}, {Path(path).name}"
+        case = file_case(m)
+        title = f"{field_label(field)}, {Path(path).name}" + (f", load case '{case}'" if case is not None else "")
     from ..core.units import figure_units
-    from .files import file_units
 
     unit, length_, system = figure_units(field, units, file_units(m, path))
     note = None

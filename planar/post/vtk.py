@@ -23,7 +23,7 @@ from ..core.progress import step
 from ..core.fields import as_centre, names as field_names, polar_stress
 from ..core.result import as_result, stress_measures
 from ..core.units import unit_system
-from .files import UNITS_FIELD, atomic_path
+from .files import CASE_FIELD, UNITS_FIELD, atomic_path
 
 __all__ = ["write_vtu", "write_grid", "add_field_data", "CELL_TYPES"]
 
@@ -137,7 +137,7 @@ def write_vtu(path: str | os.PathLike, result, *, recovery: str = "spr",
             cdata[k] = list(np.split(v, np.cumsum(counts)[:-1]))
     table = {n: i for i, n in enumerate(names)} if len(names) > 1 else {}  # names of the region ids
     with step(f"writing {os.path.basename(path)}", 2 * mesh.n_nodes):
-        write_grid(path, pts, cells, pdata, cdata, table, compression, units=result.unit_system)
+        write_grid(path, pts, cells, pdata, cdata, table, compression, units=result.unit_system, case=result.case)
     return path
 
 
@@ -148,14 +148,15 @@ _VTK_DTYPES = {"f8": "Float64", "f4": "Float32", "i8": "Int64", "i4": "Int32", "
 def write_grid(path: Path, points: np.ndarray, cells: list[tuple],
                point_data: Mapping[str, np.ndarray], cell_data: Mapping[str, list[np.ndarray]],
                field_data: Mapping[str, int] | None = None, compression: str | None = None, *,
-               units=None) -> None:
+               units=None, case: str | None = None) -> None:
     """Write an unstructured grid as a .vtu file, atomically.
 
     Uncompressed, the arrays go into the file as raw appended binary data (VTK XML format, byte
     order and UInt64 block headers declared in the file): no base64 encoding, so the write runs at
     disk speed. With ``compression`` the file is written through meshio. ``field_data`` is a table
     name -> index (one Int32 array per name), e.g. the names of the region ids. ``units`` (a unit
-    system or its name, :mod:`planar.core.units`) is stored as the field data ``planar_units``.
+    system or its name, :mod:`planar.core.units`) is stored as the field data ``planar_units``, and
+    ``case`` (the load case or combination's name) as ``planar_case``.
 
     ``cells`` holds (meshio cell name, connectivity in the element's node order[, element type]);
     VTK's cell type and node order come from the element type that defines the name
@@ -165,6 +166,8 @@ def write_grid(path: Path, points: np.ndarray, cells: list[tuple],
     field_data = dict(field_data or {})
     if units is not None:
         field_data[UNITS_FIELD] = unit_system(units).name  # checked: an unknown name is refused
+    if case is not None and str(case):
+        field_data[CASE_FIELD] = str(case)  # the file says which load case it holds
     with atomic_path(path) as tmp:
         if compression is not None:
             import meshio

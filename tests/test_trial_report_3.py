@@ -1,0 +1,231 @@
+"""Trial of the report and command-line paths by a stress engineer checking their own parts.
+
+Each test failed before its fix. Sources of the numerical checks are named beside them.
+"""
+from __future__ import annotations
+
+import re
+import sys
+
+import numpy as np
+import pytest
+
+import planar
+from _models import solved_strip, strip_model
+from planar.core.errors import InputError
+from planar.post import combinations, grid_convergence, plot_field, render_html, stress_check_report
+from planar.post.report import reactions_table
+
+
+def _strap(**cases):
+    """A 100 x 20 x 2 mm strip (N, mm, MPa) clamped at its left end, solved for ``cases``."""
+    cases = cases or {"pull": planar.Traction("right", tx=50.0)}
+    return planar.solve(strip_model(100.0, 20.0, 10, 2, "Q8", units="N, mm, MPa", loads=cases))
+
+
+# ---------------------------------------------------------------------------------------- combinations
+def test_report_lists_the_combinations_that_combinations_returns():
+    # stress_check_report(combinations=...) took a mapping of {case: factor} or Combination objects,
+    # but not what planar.post.combinations() gives (name -> CombinedResult): a TypeError traceback
+    res = _strap(**{"dead": planar.Traction("right", tx=20.0), "live load ✓": planar.Traction("right", ty=-1.0)})
+    combos = combinations(res, {"ULT 1.5 (D+L)": {"dead": 1.5, "live load ✓": 1.5}})
+    text = render_html(stress_check_report(res["dead"], combinations=combos, picture=False, hot_spots=False))
+    assert "ULT 1.5 (D+L) = 1.5 x dead + 1.5 x live load ✓" in text
+    with pytest.raises(InputError, match="combinations="):
+        stress_check_report(res["dead"], combinations={"bad": 3.0}, picture=False, hot_spots=False)
+
+
+# ---------------------------------------------------------------------------------------- cautions
+def test_report_cannot_lose_its_cautions():
+    # omit=["cautions"] and cautions=[] gave a report without "linear elastic ... qualified engineer",
+    # whose summary still told the reader to read the cautions "in the last section"
+    r = _strap()["pull"]
+    keep = dict(picture=False, hot_spots=False, results=[])
+    with pytest.raises(InputError, match="cautions"):
+        stress_check_report(r, omit=["cautions"], **keep)
+    with pytest.raises(InputError, match="cautions"):
+        stress_check_report(r, cautions=[], **keep)
+    rep = stress_check_report(r, **keep)
+    titles = [s.title for s in rep.sections]
+    text = render_html(rep)
+    assert "qualified engineer" in text and "No buckling, fatigue, fracture or plasticity" in text
+    assert "last section" not in text and titles[-1] != "Cautions and limits"  # sign-off is last
+    assert "Cautions and limits" in titles and "the section Cautions and limits" in text
+
+
+# ---------------------------------------------------------------------------------------- the demo's folder
+def test_demo_does_not_replace_a_users_report(tmp_path, capsys):
+    # planar demo and planar run share the default folder ./planar-out; the demo wrote its report.html
+    # over the one the user's script had written there, without a word
+    from planar.cli import main
+
+    out = tmp_path / "planar-out"
+    out.mkdir()
+    mine = out / "report.html"
+    mine.write_text("<html>my bracket, revision C</html>")
+    assert main(["demo", "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert "report.html" in err and "--out" in err
+    assert mine.read_text() == "<html>my bracket, revision C</html>"
+    assert sorted(p.name for p in out.iterdir()) == ["report.html"]   # refused before any work
+
+
+def test_demo_writes_again_over_its_own_folder(tmp_path):
+    from planar.demo import _check_not_users
+
+    (tmp_path / "summary.json").write_text('{"written_by": "planar demo", "part": "x"}')
+    (tmp_path / "report.html").write_text("old demo report")
+    _check_not_users(tmp_path)          # its own earlier files: no complaint
+    (tmp_path / "summary.json").write_text('{"peak": 1}')   # a user's summary.json
+    with pytest.raises(InputError, match="not written by planar demo"):
+        _check_not_users(tmp_path)
+
+
+# ---------------------------------------------------------------------------------------- convergence
+def test_convergence_study_with_sizes_keeps_the_unknowns_solved():
+    # with sizes= the study's table and the report printed "-" for the unknowns it had solved
+    from planar.post import convergence_study
+
+    meshes = [planar.rectangle_mesh(100.0, 20.0, 5 * k, k, "Q8") for k in (1, 2, 4)]
+
+    def build(m):
+        mo = planar.Model(m, planar.Isotropic(70e3, 0.33), thickness=2.0, units="N, mm, MPa")
+        mo.add_support(planar.Fixed("left"))
+        mo.add_load(planar.Traction("right", ty=-1.0), case="tip")
+        return mo
+
+    with pytest.warns(planar.DiscretisationWarning):  # a clamped corner: it need not converge
+        g = convergence_study(build, meshes, "von_mises", sizes=[20.0, 10.0, 5.0])
+    assert g.dofs is not None
+    assert [int(n) for n in g.dofs] == sorted((m.n_dofs for m in meshes), reverse=True)  # finest first
+    assert "unknowns" in g.table().splitlines()[0]
+
+
+def test_report_summary_says_when_no_gci_is_claimed():
+    # a study not in the asymptotic range sat only in the convergence section; the summary tiles
+    # (margin, Kt) gave no hint that the discretisation error was unknown
+    r = _strap()["pull"]
+    with pytest.warns(planar.DiscretisationWarning, match="not-asymptotic|asymptotic"):
+        bad = grid_convergence([100.0, 120.0, 110.0], sizes=[4.0, 2.0, 1.0], name="peak at the fillet",
+                               unit="MPa")
+    # an oscillating series claims no GCI (P. J. Roache, Verification and Validation in Computational
+    # Science and Engineering, 1998, ch. 5: the GCI holds only in the asymptotic range)
+    good = grid_convergence([3.0 + 0.4 * h ** 2 for h in (1.0, 0.5, 0.25)], sizes=[1.0, 0.5, 0.25],
+                            name="peak at the hole")
+    rep = stress_check_report(r, convergence=[good, bad], picture=False, hot_spots=False, results=[])
+    tiles = rep.sections[0].blocks[0].items
+    labels = {t[0]: t for t in tiles}
+    assert labels["convergence, peak at the fillet"][1] == "no GCI claimed"
+    assert labels["convergence, peak at the fillet"][3] == "fail"
+    # Richardson: f = 3 + 0.4 h^2 has GCI_fine = 1.25 |f2 - f1| / f1 / (2^2 - 1) = 1.0331 % (Roache 1998, eq. of
+    # the GCI; the module's own doctest value)
+    assert labels["convergence, peak at the hole"][1] == "GCI 1.03 %"
+
+
+# ---------------------------------------------------------------------------------------- reactions
+def test_reactions_caption_is_true_with_a_loaded_pin():
+    # the caption said "with the applied loads they add up to zero", but a loaded pin's row is the
+    # whole force it passes to the part, its load included: rows + applied loads = the pin's load
+    from planar.geometry import Refine, lug, mesh
+
+    m = mesh(lug(2.0, 0.75, 1.5), size=0.3, element="T6", refine=[Refine("hole", size=0.1)])
+    model = planar.Model(m, planar.Isotropic(10.3e6, 0.33), thickness=0.25, units="lbf-in-psi")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(planar.Pin("hole", tie="spreading", hold=None, name="pin"))
+    model.add_load(planar.PinLoad("pin", fy=4000.0), case="pull")
+    r = planar.solve(model)["pull"]
+    recs = r.support_reactions()
+    applied = np.asarray(r.total_applied())
+    # statics (common practice): what the supports and the pins' reactions carry balances the loads
+    stated = sum(np.asarray(x.force if x.load is None else x.reaction[:2]) for x in recs)
+    np.testing.assert_allclose(stated + applied, 0.0, atol=1e-6 * 4000.0)
+    rows = sum(np.asarray(x.force) for x in recs)
+    assert abs((rows + applied)[1] - 4000.0) < 1e-6 * 4000.0   # the plain rows do not add up to zero
+    cap = reactions_table(r).caption
+    assert "they add up to zero." not in cap
+    assert "pins' reactions (a pin's force minus its load)" in cap and "'pin'" in cap
+    held = reactions_table(_strap()["pull"]).caption   # no pin: the plain sentence stays
+    assert "they add up to zero." in held
+
+
+# ---------------------------------------------------------------------------------------- sweeps
+_SCALE = 1.0
+
+
+def scaled(x):
+    """A sweep function reading a module constant (as a thickness or a load would be)."""
+    return {"y": _SCALE * x}
+
+
+def test_sweep_does_not_reuse_points_of_an_edited_function(tmp_path, monkeypatch):
+    # the store matched points by the function's name only: after the user changed the function (here
+    # a module constant it reads), a sweep on the same store gave the old values as "from the store"
+    from planar.studies import sweep
+
+    store = tmp_path / "store"
+    t1 = sweep(scaled, grid={"x": [1.0, 2.0, 3.0]}, store=store, workers=0)
+    assert list(t1.column("y")) == [1.0, 2.0, 3.0]
+    t2 = sweep(scaled, grid={"x": [1.0, 2.0, 3.0]}, store=store, workers=0)
+    assert t2.reused == 3 and t2.computed == 0 and t2.stale == 0     # unchanged: resumed from the store
+    monkeypatch.setattr(sys.modules[__name__], "_SCALE", 2.0)
+    t3 = sweep(scaled, grid={"x": [1.0, 2.0, 3.0]}, store=store, workers=0)
+    assert list(t3.column("y")) == [2.0, 4.0, 6.0]
+    assert t3.reused == 0 and t3.computed == 3 and t3.stale == 3
+
+
+def test_function_digest_is_the_same_in_a_fresh_process(tmp_path):
+    # the fingerprint must not depend on the process (marshal's bytes do, through reference counts)
+    import subprocess
+
+    from planar.studies.compute import function_digest
+
+    mod = tmp_path / "dsgn.py"
+    mod.write_text("T = 3.0\n\ndef helper(w):\n    return w * T\n\ndef f(w, k=2):\n    return {'y': helper(w) * k}\n")
+    code = (f"import sys; sys.path.insert(0, {str(tmp_path)!r}); import dsgn; "
+            "from planar.studies.compute import function_digest; print(function_digest(dsgn.f))")
+    runs = {subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+            for _ in range(2)}
+    assert len(runs) == 1
+    mod.write_text(mod.read_text().replace("T = 3.0", "T = 4.0"))   # a helper's constant changed
+    after = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert after not in runs
+    assert len(function_digest(scaled)) == 16
+
+
+# ---------------------------------------------------------------------------------------- result files
+def test_result_file_states_its_load_case(tmp_path, capsys):
+    # a .vtu held no word of its load case: planar show's picture and --list could not say which case
+    from planar.cli import main
+    from planar.post.files import file_case, read_result_file
+
+    case = "self weight ✓ 1g"
+    r = _strap(**{case: planar.Traction("right", tx=1.0)})[case]
+    path = planar.write_vtu(tmp_path / "w.vtu", r)
+    assert file_case(read_result_file(path)) == case
+    assert main(["show", str(path), "--list"]) == 0
+    assert f"load case:    {case}" in capsys.readouterr().out
+    assert planar.Mesh.read(path).n_nodes == r.mesh.n_nodes   # still read back as a mesh
+
+
+# ---------------------------------------------------------------------------------------- long work
+def test_contour_is_not_measured_by_the_layout():
+    # the layout measured the contour's extent, one matplotlib path per drawn triangle: 18 s of a
+    # 36 s report on a web with 36 rivet holes (115,896 T6 elements)
+    r = solved_strip(80.0, 20.0, 8, 2, "Q8", units="N, mm, MPa", case="pull",
+                     loads={"pull": planar.Traction("right", tx=10.0)})
+    fig = plot_field(r, "von_mises")
+    ax = fig.axes[0]
+    contour = [c for c in ax.collections if c.get_array() is not None]
+    assert contour and not any(c.get_in_layout() for c in contour)
+
+
+def test_report_reports_its_long_steps(monkeypatch, capsys):
+    # a report of a large model ran for tens of seconds with no line on the terminal
+    monkeypatch.setenv("PLANAR_PROGRESS", "1")
+    monkeypatch.setenv("PLANAR_PROGRESS_MIN_UNKNOWNS", "1")
+    monkeypatch.setenv("PLANAR_PROGRESS_MIN_SECONDS", "0")
+    r = _strap()["pull"]
+    capsys.readouterr()
+    stress_check_report(r, picture=False)
+    err = capsys.readouterr().err
+    assert re.search(r"report: hot spots", err) and "report: extremes and contour" in err
