@@ -24,6 +24,12 @@ Codes
     mixed units (E in Pa with lengths in mm, E in GPa with stresses in MPa).
 ``"contrast"``
     Neighbouring regions whose membrane stiffness E t differs by more than 1e6.
+``"held-load"``
+    A load case whose loads, or an edge or point load of a case, act only on unknowns the supports
+    prescribe (in the supports' own directions): they pass straight into the reactions and the part
+    carries no stress from them. Not judged for a case with a temperature change or a prescribed
+    motion. Raised before the solve by :func:`planar.core._held_loads.held_load_check`, not by
+    :func:`advise`.
 
 ``"linear-peak"``
     A stress peak read by linear elements (T3, Q4, any degree-1 type) at a stress raiser: on a

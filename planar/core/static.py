@@ -13,6 +13,7 @@ from scipy.sparse.csgraph import connected_components
 
 from .assembly import Assembly, Rotation
 from .errors import InputError, ResourceError, SolverError, SupportError, fmt_point, unknown_name
+from ._held_loads import held_load_check
 from .kinematics import _coincident_hint, _describe_free, pending_warnings, rigid_body_check, zero_energy_check  # noqa: F401
 from .result import Result
 from . import diagnose, solvers
@@ -244,6 +245,7 @@ def reduced_loads(asm, system, cons, tie, cases, free, pdofs, up):
     loads = [asm.load_vector(c) for c in cases]
     F = np.column_stack([f for f, _ in loads])
     Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
+    held_load_check(asm, cons, cases, F, pdofs, up, [e for _, e in loads], sink=pending_warnings(asm))
     coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
     rhs = Fl[free] - coupling[free][:, None]
     if tie is not None:
