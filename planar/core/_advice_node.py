@@ -8,7 +8,9 @@ and the rest is a handful of array operations on those few cells. The checks run
 """
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -19,7 +21,7 @@ from .fields import FIELD_TABLE
 from .units import length_unit, stress_unit
 
 __all__ = ["node_memo", "point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
-           "angles", "peak_words", "warn_peak", "warn_if_found"]
+           "angles", "peak_words", "warn_peak", "warn_if_found", "peak_warnings_given"]
 
 #: the parameters every check of a peak takes, for its docstring (see :func:`peak_doc`)
 PEAK_PARAMETERS = """\
@@ -175,10 +177,35 @@ def peak_words(result, node: int, field: str, values, where: str = "") -> str:
             f"(node {node}{where})")
 
 
+#: while :func:`peak_warnings_given` runs: the list each peak warning given is put in (told or not)
+_GIVEN: ContextVar[list | None] = ContextVar("planar_peak_warnings_given", default=None)
+
+
 def warn_peak(result, code: str, text: str, stacklevel: int) -> None:
     """Warn ``"<code>: <text>"`` under ``code`` and keep it in ``result.warnings``; ``stacklevel`` counted
-    from the caller of this function, as for :func:`warnings.warn`."""
-    warn(f"{code}: {text}", code, sink=result.warnings, stacklevel=stacklevel + 1)
+    from the caller of this function, as for :func:`warnings.warn`.
+
+    Told once per result: the text names the peak (field, value, node), so a peak that two queries
+    read (``Result.max`` and an edge's peak, or ``Result.max`` asked twice) warns once; another field or
+    node warns on its own.
+    """
+    w = warn(f"{code}: {text}", code, sink=result.warnings, stacklevel=stacklevel + 1, once=True)
+    given = _GIVEN.get()
+    if given is not None:
+        given.append(w)
+
+
+@contextmanager
+def peak_warnings_given() -> Iterator[list]:
+    """A list that gathers every peak warning the checks give within the block, also those not told
+    again because the result already holds them (for a caller that keeps its own list of them, e.g.
+    :class:`planar.post.EdgeStresses`)."""
+    given: list = []
+    token = _GIVEN.set(given)
+    try:
+        yield given
+    finally:
+        _GIVEN.reset(token)
 
 
 def warn_if_found(result, node: int, field: str, values, code: str, find: Callable[..., object | None],

@@ -110,16 +110,20 @@ class DiscretisationWarning(PlanarWarning):
 
 
 def warn(message: str, code: str, *, category: type = DiscretisationWarning, sink: list | None = None,
-         stacklevel: int = 2) -> PlanarWarning:
+         stacklevel: int = 2, once: bool = False) -> PlanarWarning:
     """Raise a planar warning through :mod:`warnings` and keep it in ``sink`` (e.g. ``Result.warnings``).
 
     Python's default filter prints a given warning once per place in the code; ``sink`` keeps every
-    one, so summaries and reports can carry them.
+    one, so summaries and reports can carry them. With ``once``, a warning ``sink`` already holds (the
+    same code and message) is not raised again, wherever it is asked from: the one kept is returned.
     """
     import warnings
 
     w = category(message, code)
-    if sink is not None and not any(o.code == w.code and o.message == w.message for o in sink):
+    held = None if sink is None else next((o for o in sink if o.code == w.code and o.message == w.message), None)
+    if held is not None and once:
+        return held
+    if sink is not None and held is None:
         sink.append(w)
     warnings.warn(w, stacklevel=stacklevel + 1)
     return w

@@ -6,7 +6,7 @@ The same checks :meth:`planar.Result.max` makes of its peak, ``"coarse-peak"``
 the peak: on a circular edge the polar stress about its centre (``sigma_theta`` for ``sigma_t``, ``sigma_r``
 for ``sigma_n``, ``tau_r_theta`` for ``tau_nt``); on another edge the tangential stress by the principal
 stress of its sign (on a free edge it is one; common practice) and von Mises as is. A warning the load
-case already holds for that node (the user read ``Result.max`` there first) is not told again.
+case already holds (the user read ``Result.max`` of that field there first) is not told again.
 """
 from __future__ import annotations
 
@@ -62,7 +62,7 @@ def judge(es, component: str, pk, *, stacklevel: int = 2) -> str:
         ``es.result.warnings`` and ``es.warnings``.
     """
     from ..core._advice_linear import has_linear, linear_words, raiser_at
-    from ..core._advice_node import warn_if_found
+    from ..core._advice_node import peak_warnings_given, warn_if_found
     from ..core._advice_peak import coarse_peak
 
     result = es.result
@@ -77,8 +77,9 @@ def judge(es, component: str, pk, *, stacklevel: int = 2) -> str:
         on = np.flatnonzero(es.node >= 0)
         node = int(es.node[on[np.argmin(np.hypot(*(es.points[on] - pk.point).T))]])
     values = result.field(name, recovery=es.recovery, centre=centre)
-    before = list(result.warnings)
-    with warnings.catch_warnings(record=True) as caught:  # told below, once
+    # told below from the caller's line; a peak warning the load case already holds (the user read
+    # Result.max there first) is not told again, yet it is the edge's too
+    with warnings.catch_warnings(record=True) as caught, peak_warnings_given() as given:
         warnings.simplefilter("always")
         note = coarse_peak(result, node, name, values, centre=centre)
         if not note and has_linear(result):  # linear cells have their own check (coarse-peak leaves them)
@@ -90,16 +91,13 @@ def judge(es, component: str, pk, *, stacklevel: int = 2) -> str:
                         f"{fmt_point(result.mesh.nodes[node])}, where the field falls by {100.0 * why['fall']:.0f} % "
                         "across one element: typically 5-30 % low; mesh with quadratic elements (T6 or Q8) or much "
                         "finer there")
-    told = (f"(node {node})", f"(node {node},")  # how both checks name the node in their messages
+    for w in given:
+        if w.code in _CODES and not any(o.message == w.message for o in es.warnings):
+            es.warnings.append(w)
     for rec in caught:
         w = rec.message
-        code = getattr(w, "code", None)
-        if code not in _CODES:
+        if getattr(w, "code", None) not in _CODES:
             warnings.warn_explicit(w, rec.category, rec.filename, rec.lineno)
             continue
-        if not any(o.message == w.message for o in es.warnings):
-            es.warnings.append(w)
-        if any(o.code == code and any(t in o.message for t in told) for o in before):
-            continue  # the load case already holds this judgement of this node
         warnings.warn(w, stacklevel=stacklevel + 1)
     return note
