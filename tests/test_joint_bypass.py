@@ -15,15 +15,8 @@ import pytest
 
 import planar
 
+from _joint_strips import AL, strip as _strip
 from _test_setups import heated_pair
-
-AL = planar.Isotropic(E=71e3, nu=0.33)
-
-
-def _strip(x0, x1, w, t, size, mat=AL):
-    m = planar.rectangle_mesh(x1 - x0, w, int(round((x1 - x0) / size)), int(round(w / size)), element="Q8",
-                              origin=(x0, -w / 2))
-    return planar.Model(m, mat, thickness=t, units="N, mm, MPa")
 
 
 def _holes(tab, layer):

@@ -17,15 +17,15 @@ from planar.core import _joint_solve as js
 from planar.core import solvers
 from planar.core.timing import Timer
 
+from _joint_strips import strip
+
 E, NU = 70e3, 0.33
 
 
 def _joint(held_strap: bool = False):
     """A skin held at its left end and a strap held only through three fasteners (unless ``held_strap``)."""
-    skin = planar.Model(planar.rectangle_mesh(60.0, 20.0, 48, 16), planar.Isotropic(E=E, nu=NU), thickness=2.0,
-                        units="N, mm, MPa")
-    strap = planar.Model(planar.rectangle_mesh(50.0, 20.0, 40, 16, origin=(30.0, 0.0)), planar.Isotropic(E=E, nu=NU),
-                         thickness=1.6, units="N, mm, MPa")
+    skin, strap = (strip(x0, x1, 20.0, t, 1.25, element="Q4", material=planar.Isotropic(E=E, nu=NU), y0=0.0)
+                   for x0, x1, t in ((0.0, 60.0, 2.0), (30.0, 80.0, 1.6)))
     skin.add_support(planar.Fixed("left"))
     strap.add_load(planar.Traction("right", tx=50.0, ty=10.0), case="pull")
     skin.add_load(planar.Traction("top", ty=5.0), case="side")

@@ -14,6 +14,8 @@ import pytest
 import planar
 from planar.core.errors import InputError
 
+from _joint_strips import lap
+
 
 def _holed(hole_d):
     pytest.importorskip("gmsh")
@@ -66,13 +68,7 @@ def test_composite_bolt_takes_huths_graphite_epoxy_constants():
 def test_composite_bolt_in_a_solved_joint():
     # the same constants reach the springs of a solved joint of two isotropic strips (E for E1, E2)
     d, t, E, Ef = 5.0, 2.0, 60e3, 110e3
-    strips = {}
-    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
-        m = planar.rectangle_mesh(100.0, 10.0, 40, 4, element="Q8", origin=(x0, -5.0))
-        strips[name] = planar.Model(m, planar.Isotropic(E=E, nu=0.3), thickness=t, units="N, mm, MPa")
-    strips["top"].add_support(planar.Fixed("left"))
-    strips["bottom"].add_load(planar.Traction("right", tx=50.0), case="pull")
-    joint = planar.Joint(strips)
+    joint = lap(((0.0, 100.0), (50.0, 150.0)), 10.0, t, 2.5, pull=50.0, material=planar.Isotropic(E=E, nu=0.3))
     joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=d,
                                          flexibility="huth", kind="composite-bolt", modulus=Ef, name="row"))
     tab = planar.solve(joint)["pull"].fasteners

@@ -14,6 +14,8 @@ import pytest
 import planar
 from planar.core.errors import InputError
 
+from _joint_strips import strip
+
 E1, E2, G12, NU12 = 140e3, 10e3, 5e3, 0.3
 
 
@@ -67,11 +69,8 @@ def test_orthotropic_modulus_is_read_along_the_layers_load(angle, along_y, theta
 def test_a_layer_without_loads_reads_the_joints_load_direction():
     # a UD doubler (fibres at 90 degrees to x) on a skin pulled along x: the doubler has no loads of its
     # own, so its modulus is read along the joint's loads (x): E2
-    skin = planar.Model(planar.rectangle_mesh(200.0, 10.0, 160, 8, element="Q8", origin=(0.0, -5.0)),
-                        planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    dbl = planar.Model(planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(50.0, -5.0)),
-                       planar.Orthotropic(E1=E1, E2=E2, nu12=NU12, G12=G12, angle=90.0), thickness=2.0,
-                       units="N, mm, MPa")
+    skin = strip(0.0, 200.0, 10.0, 2.0, 1.25)
+    dbl = strip(50.0, 150.0, 10.0, 2.0, 1.25, material=planar.Orthotropic(E1=E1, E2=E2, nu12=NU12, G12=G12, angle=90.0))
     skin.add_support(planar.Fixed("left"))
     skin.add_load(planar.Traction("right", tx=50.0), case="pull")
     joint = planar.Joint({"skin": skin, "ud": dbl})
@@ -92,8 +91,7 @@ def test_a_fastener_in_a_hole_not_listed_in_holes_is_named():
     g = Plate.rectangle(100.0, 20.0, corner=(0.0, -10.0)).cut(Circle((60.0, 0.0), 2.5, name="h0"))
     skin = planar.Model(mesh(g, size=2.0, element="T6", refine=[Refine(["h0"], size=0.6)]),
                         planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    strap = planar.Model(planar.rectangle_mesh(100.0, 20.0, 100, 20, element="Q8", origin=(50.0, -10.0)),
-                         planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    strap = strip(50.0, 150.0, 20.0, 2.0, 1.0)
     skin.add_support(planar.Fixed("left"))
     strap.add_load(planar.Traction("right", tx=50.0), case="pull")
     joint = planar.Joint({"skin": skin, "strap": strap})

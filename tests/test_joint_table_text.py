@@ -12,16 +12,12 @@ import numpy as np
 
 import planar
 
+from _joint_strips import lap
+
 
 def _joint(units="N, mm, MPa"):
-    def strip(x0):
-        m = planar.rectangle_mesh(100.0, 10.0, 40, 4, element="Q8", origin=(x0, -5.0))
-        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units=units)
-
-    a, b = strip(0.0), strip(50.0)
-    a.add_support(planar.Fixed("left"))
-    b.add_load(planar.Traction("right", tx=50.0), case="pull")
-    joint = planar.Joint({"forward fitting strap": a, "aft lower skin panel": b})
+    joint = lap(((0.0, 100.0), (50.0, 150.0)), 10.0, 2.0, 2.5, pull=50.0, units=units,
+                names=("forward fitting strap", "aft lower skin panel"))
     joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("forward fitting strap",
                                                                               "aft lower skin panel"),
                                          diameter=5.0, flexibility=3e-5, name="splice row forward"))

@@ -16,15 +16,15 @@ import pytest
 import planar
 from planar.core.errors import InputError, NameNotFoundError, SupportError
 
+from _joint_strips import strip
+
 E, NU = 70e3, 0.33
 W, PITCH, D = 20.0, 20.0, 5.0
 SIZE = 1.25
 
 
 def _strip(x0, x1, t, element="Q4"):
-    m = planar.rectangle_mesh(x1 - x0, W, int(round((x1 - x0) / SIZE)), int(round(W / SIZE)), element=element,
-                              origin=(x0, -W / 2))
-    return planar.Model(m, planar.Isotropic(E=E, nu=NU), thickness=t, units="N, mm, MPa")
+    return strip(x0, x1, W, t, SIZE, element=element, material=planar.Isotropic(E=E, nu=NU))
 
 
 def lap(n, t_top, t_bottom, compliance, load=1000.0, element="Q4"):

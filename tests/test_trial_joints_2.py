@@ -10,19 +10,14 @@ import pytest
 import planar
 from planar.core.errors import InputError
 
+from _joint_strips import lap, strip
 from _test_setups import heated_pair
 
 
 def _lap_two_cases():
     """Two 40 mm wide, 3 mm strips lapped and joined by a 2 x 2 bolt group; pulled along and across."""
-    def strip(x0, x1):
-        m = planar.rectangle_mesh(x1 - x0, 40.0, int((x1 - x0) / 2.0), 20, element="Q8", origin=(x0, -20.0))
-        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=3.0, units="N, mm, MPa")
-    top, bottom = strip(0.0, 140.0), strip(100.0, 240.0)
-    top.add_support(planar.Fixed("left"))
-    bottom.add_load(planar.Traction("right", tx=30.0), case="tension")
-    bottom.add_load(planar.Traction("right", ty=8.0), case="shear")
-    joint = planar.Joint({"top": top, "bottom": bottom})
+    joint = lap(((0.0, 140.0), (100.0, 240.0)), 40.0, 3.0, 2.0, pull=30.0, case="tension")
+    joint.layers["bottom"].add_load(planar.Traction("right", ty=8.0), case="shear")
     joint.add_fasteners(planar.Fasteners([(110.0, -10.0), (110.0, 10.0), (130.0, -10.0), (130.0, 10.0)],
                                          layers=("top", "bottom"), diameter=6.0, flexibility=3e-5, name="group"))
     return joint
@@ -60,14 +55,9 @@ def test_the_layer_fix_combines_as_a_direct_solve(two_cases):
 def _centre_line_lap(cases=(("pull", 50.0),), flexibility=3e-5, **fastener_kw):
     """Two 10 mm wide, 2 mm strips lapped, a row of two 5 mm fasteners on the centre line (x = 60, 90);
     the bottom strip pulled along it by a traction ``tx`` per case (N/mm). Returns the joint, unsolved."""
-    strips = {}
-    for name, x0 in (("top", 0.0), ("bottom", 50.0)):
-        m = planar.rectangle_mesh(100.0, 10.0, 80, 8, element="Q8", origin=(x0, -5.0))
-        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    strips["top"].add_support(planar.Fixed("left"))
+    joint = lap(((0.0, 100.0), (50.0, 150.0)), 10.0, 2.0, 1.25)
     for case, tx in cases:
-        strips["bottom"].add_load(planar.Traction("right", tx=tx), case=case)
-    joint = planar.Joint(strips)
+        joint.layers["bottom"].add_load(planar.Traction("right", tx=tx), case=case)
     joint.add_fasteners(planar.Fasteners([(60.0, 0.0), (90.0, 0.0)], layers=("top", "bottom"), diameter=5.0,
                                          flexibility=flexibility, name="row", **fastener_kw))
     return joint
@@ -104,11 +94,8 @@ def test_plot_joint_arrows_do_not_run_over_each_other():
     # arrow 0.8 of the pitch one ran over its neighbour's
     from planar.post.joints import _seg_distance
 
-    def strip(x0, x1, t):
-        m = planar.rectangle_mesh(x1 - x0, 10.0, int((x1 - x0) / 1.25), 8, element="Q8", origin=(x0, -5.0))
-        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=t, units="N, mm, MPa")
-
-    a, b, c = strip(0.0, 150.0, 2.0), strip(90.0, 150.0, 1.0), strip(90.0, 240.0, 1.6)
+    a, b, c = (strip(x0, x1, 10.0, t, 1.25) for x0, x1, t in ((0.0, 150.0, 2.0), (90.0, 150.0, 1.0),
+                                                              (90.0, 240.0, 1.6)))
     a.add_support(planar.Fixed("left"))
     c.add_load(planar.Traction("right", tx=150.0), case="pull")
     joint = planar.Joint({"A": a, "B": b, "C": c})

@@ -13,16 +13,12 @@ import pytest
 import planar
 from planar.core.errors import InputError
 
+from _joint_strips import lap, strip
+
 
 def _strips(element="Q4"):
     """Two 20 mm wide, 2 mm aluminium strips overlapping from x = 60 to 100 (2.5 mm Q4), one held, one pulled."""
-    def strip(x0):
-        m = planar.rectangle_mesh(100.0, 20.0, 40, 8, element=element, origin=(x0, -10.0))
-        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    a, b = strip(0.0), strip(60.0)
-    a.add_support(planar.Fixed("left"))
-    b.add_load(planar.Traction("right", tx=10.0), case="pull")
-    return planar.Joint({"a": a, "b": b})
+    return lap(((0.0, 100.0), (60.0, 160.0)), 20.0, 2.0, 2.5, names=("a", "b"), pull=10.0, element=element)
 
 
 @pytest.mark.parametrize("points", [[(70.0, 0.0), (70.0, 0.0), (90.0, 0.0)],       # a point given twice
@@ -45,8 +41,7 @@ def test_a_fastener_repeated_in_a_second_group_between_the_same_layers_is_refuse
 def test_one_fastener_given_as_two_groups_one_per_shear_plane_is_accepted():
     # a fastener through three layers with a spring per plane given as two groups at one point: no overlap
     j = _strips()
-    m = planar.rectangle_mesh(40.0, 20.0, 16, 8, element="Q4", origin=(60.0, -10.0))
-    j.layers["c"] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
+    j.layers["c"] = strip(60.0, 100.0, 20.0, 2.0, 2.5, element="Q4")
     pts = [(70.0, 0.0), (90.0, 0.0)]
     j.add_fasteners(planar.Fasteners(pts, layers=("a", "b"), diameter=5.0, flexibility=1e-5, name="upper"))
     j.add_fasteners(planar.Fasteners(pts, layers=("b", "c"), diameter=5.0, flexibility=2e-5, name="lower"))
@@ -69,15 +64,10 @@ def test_a_results_method_asked_of_a_joints_result_names_the_layer():
 def _wide_lap_inclined(angles):
     """Two 40 mm wide, 2 mm strips lapped over 60 mm, a 3 x 2 group (pitch 20 along, 30 across, d = 5), the
     one held at its left end, the other pulled at its right end at each angle (degrees) to x."""
-    def strip(x0):
-        m = planar.rectangle_mesh(140.0, 40.0, 70, 20, element="Q8", origin=(x0, -20.0))
-        return planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-    a, b = strip(0.0), strip(80.0)
-    a.add_support(planar.Fixed("left"))
+    j = lap(((0.0, 140.0), (80.0, 220.0)), 40.0, 2.0, 2.0, names=("a", "b"))
     for ang in angles:
         r = np.radians(ang)
-        b.add_load(planar.Traction("right", tx=10.0 * np.cos(r), ty=10.0 * np.sin(r)), case=f"{ang:g}")
-    j = planar.Joint({"a": a, "b": b})
+        j.layers["b"].add_load(planar.Traction("right", tx=10.0 * np.cos(r), ty=10.0 * np.sin(r)), case=f"{ang:g}")
     j.add_fasteners(planar.Fasteners([(x, y) for x in (90.0, 110.0, 130.0) for y in (-15.0, 15.0)],
                                      layers=("a", "b"), diameter=5.0, flexibility=3e-5, name="g"))
     return planar.solve(j)
@@ -131,10 +121,9 @@ def _bars_and_springs(layers, springs, stations):
     return np.array([(u[where[a, s]] - u[where[b, s]]) / C for a, b, s, C in springs])
 
 
-def _strip(x0, x1, t, E, width=10.0, size=1.25, element="Q8"):
-    m = planar.rectangle_mesh(x1 - x0, width, int(round((x1 - x0) / size)), int(round(width / size)), element=element,
-                              origin=(x0, -width / 2))
-    return planar.Model(m, planar.Isotropic(E, 0.33), thickness=t, units="N, mm, MPa")
+def _strip(x0, x1, t, E):
+    """A 10 mm wide strip of 1.25 mm Q8 (w = 2 d, as the lap-joint benchmark's strips)."""
+    return strip(x0, x1, 10.0, t, 1.25, material=planar.Isotropic(E, 0.33))
 
 
 def test_double_shear_shares_match_the_bar_model_and_are_symmetric():
@@ -203,13 +192,8 @@ def test_a_joint_in_inches_gives_the_same_answer_as_in_millimetres_with_every_un
     IN, LBF = 25.4, 4.4482216152605
     out = {}
     for units, Ls, Fs in (("N, mm, MPa", 1.0, 1.0), ("lbf, in, psi", 1 / IN, 1 / LBF)):
-        def strip(x0):
-            m = planar.rectangle_mesh(100.0 * Ls, 20.0 * Ls, 40, 8, element="Q8", origin=(x0 * Ls, -10.0 * Ls))
-            return planar.Model(m, planar.Isotropic(E=71e3 * Fs / Ls**2, nu=0.33), thickness=2.0 * Ls, units=units)
-        a, b = strip(0.0), strip(60.0)
-        a.add_support(planar.Fixed("left"))
-        b.add_load(planar.Traction("right", tx=25.0 * Fs / Ls**2), case="pull")
-        j = planar.Joint({"a": a, "b": b})
+        j = lap(((0.0, 100.0 * Ls), (60.0 * Ls, 160.0 * Ls)), 20.0 * Ls, 2.0 * Ls, 2.5 * Ls, names=("a", "b"),
+                pull=25.0 * Fs / Ls**2, material=planar.Isotropic(E=71e3 * Fs / Ls**2, nu=0.33), units=units)
         j.add_fasteners(planar.Fasteners([(70.0 * Ls, 0.0), (90.0 * Ls, 0.0)], layers=("a", "b"), diameter=5.0 * Ls,
                                          flexibility="huth", modulus=110e3 * Fs / Ls**2))
         out[units] = planar.solve(j)["pull"]
@@ -256,17 +240,11 @@ def test_a_compliance_a_thousandth_of_huths_acts_as_rigid():
 def _two_strips_at(y, half=False):
     """Two 20 mm wide strips (1.25 mm Q8) joined by 5 mm fasteners at x = 70 and 90, height y; with ``half``,
     the upper halves only (y from 0 to 10), held across the cut y = 0 as a symmetry line."""
-    def strip(x0):
-        h = 10.0 if half else 20.0
-        m = planar.rectangle_mesh(100.0, h, 80, int(h / 1.25), element="Q8", origin=(x0, 0.0 if half else -10.0))
-        mdl = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units="N, mm, MPa")
-        if half:
-            mdl.add_support(planar.Roller("bottom", fixed="y"))
-        return mdl
-    a, b = strip(0.0), strip(60.0)
-    a.add_support(planar.Fixed("left"))
-    b.add_load(planar.Traction("right", tx=10.0), case="pull")
-    j = planar.Joint({"a": a, "b": b})
+    j = lap(((0.0, 100.0), (60.0, 160.0)), 10.0 if half else 20.0, 2.0, 1.25, names=("a", "b"), pull=10.0,
+            y0=0.0 if half else -10.0)
+    if half:
+        for layer in j.layers.values():
+            layer.add_support(planar.Roller("bottom", fixed="y"))
     j.add_fasteners(planar.Fasteners([(70.0, y), (90.0, y)], layers=("a", "b"), diameter=5.0, flexibility=3e-5,
                                      name="row"))
     return planar.solve(j)["pull"]

@@ -19,16 +19,13 @@ import pytest
 import planar
 from planar.core.errors import InputError, NameNotFoundError
 
+from _joint_strips import lap as lapped
+
 
 def _lap(n=2, size=2.0, units="N, mm, MPa"):
     """Two 20 mm strips of 2 mm lapped over 40 mm, the top clamped, the bottom pulled by 1 kN."""
-    strips = {}
-    for name, x0 in (("top", 0.0), ("bottom", 60.0)):
-        m = planar.rectangle_mesh(100.0, 20.0, int(100 / size), int(20 / size), origin=(x0, -10.0))
-        strips[name] = planar.Model(m, planar.Isotropic(E=71e3, nu=0.33), thickness=2.0, units=units)
-    strips["top"].add_support(planar.Fixed("left"))
-    strips["bottom"].add_load(planar.Traction("right", tx=1000.0 / (20.0 * 2.0)), case="pull")
-    joint = planar.Joint(strips)
+    joint = lapped(((0.0, 100.0), (60.0, 160.0)), 20.0, 2.0, size, pull=1000.0 / (20.0 * 2.0), element="Q4",
+                   units=units)
     xs = np.linspace(70.0, 90.0, n)
     joint.add_fasteners(planar.Fasteners(np.column_stack([xs, np.zeros(n)]), layers=("top", "bottom"),
                                          diameter=5.0, flexibility=3e-5, name="row"))
