@@ -264,3 +264,18 @@ def test_no_edge_warning_for_a_hole_inside_tangent_to_the_edge_or_on_a_symmetry_
     # on its symmetry line (an edge held across it)
     r = _two_strips_at(y, half)
     assert not [x for x in r.warnings if x.code == "fastener-edge"]
+
+
+def test_row_normal_by_hand():
+    # hand geometry: a 2 x 2 square group pulled 10 degrees off x has its rows across x (normal (1, 0)); a
+    # single line of fasteners along the load keeps the load's direction (each fastener its own row); a
+    # line at 45 degrees to the load is taken as the row (the bound is inclusive, whatever the round-off)
+    from planar.core._joint_tables import _row_normal
+
+    square = np.array([(0.0, 0.0), (0.0, 30.0), (20.0, 0.0), (20.0, 30.0)])
+    tilt = np.array([np.cos(np.radians(10.0)), np.sin(np.radians(10.0))])
+    assert _row_normal(square, tilt).tolist() == [1.0, 0.0]
+    line = np.array([(0.0, 0.0), (20.0, 0.0), (40.0, 0.0)])
+    assert _row_normal(line, tilt).tolist() == tilt.tolist()
+    diagonal = np.array([(0.0, 0.0), (20.0, 20.0), (40.0, 40.0)])
+    assert np.allclose(_row_normal(diagonal, np.array([1.0, 0.0])), [np.sqrt(0.5), -np.sqrt(0.5)], rtol=0, atol=1e-15)

@@ -286,12 +286,12 @@ def _row_normal(points: np.ndarray, axis: np.ndarray) -> np.ndarray:
     n = np.column_stack([-v[:, 1], v[:, 0]])
     fit = np.abs(n @ axis)
     best = int(np.argmax(fit))
-    if fit[best] < np.cos(np.radians(ROW_ANGLE)):
+    if fit[best] < np.cos(np.radians(ROW_ANGLE)) - 1e-9:  # a line at 45 degrees to round-off is a row
         return axis
     nb = n[best]
     if abs(nb[0]) <= 1e-9:
         return np.array([0.0, 1.0])
-    return nb if nb[0] > 0 else -nb
+    return (nb if nb[0] > 0 else -nb) + 0.0  # no -0
 
 
 def _bypass(nodes, rest, entry, P, F, d, axes):
