@@ -143,7 +143,7 @@ def test_reactions_caption_is_true_with_a_loaded_pin():
     assert abs((rows + applied)[1] - 4000.0) < 1e-6 * 4000.0   # the plain rows do not add up to zero
     cap = reactions_table(r).caption
     assert "they add up to zero." not in cap
-    assert "pins' reactions (a pin's force minus its load)" in cap and "'pin'" in cap
+    assert "each pin's reaction (its force minus its load) in place of its row" in cap and "'pin'" in cap
     held = reactions_table(_strap()["pull"]).caption   # no pin: the plain sentence stays
     assert "they add up to zero." in held
 
@@ -229,3 +229,14 @@ def test_report_reports_its_long_steps(monkeypatch, capsys):
     stress_check_report(r, picture=False)
     err = capsys.readouterr().err
     assert re.search(r"report: hot spots", err) and "report: extremes and contour" in err
+
+
+# ---------------------------------------------------------------------------------------- bad numbers
+@pytest.mark.parametrize("kw", [dict(allowable=-5.0), dict(allowable=float("nan")), dict(nominal=0.0),
+                                dict(factor_of_safety=0.0), dict(field="ux", allowable=250.0)])
+def test_report_refuses_a_margin_it_cannot_work_out(kw):
+    # a negative or NaN allowable, a zero nominal or factor of safety, or an allowable for a displacement
+    # gave a report without any margin or Kt, saying only "No hot spots could be found: ..."
+    r = _strap()["pull"]
+    with pytest.raises(InputError):
+        stress_check_report(r, picture=False, results=[], **kw)

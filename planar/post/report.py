@@ -124,16 +124,14 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
     rows = [[n, r.kind, z(r.force[0], big), z(r.force[1], big), z(r.moment, big * span)] for n, r in zip(names, recs)]
     where = f"({recs[0].about[0]:.6g}, {recs[0].about[1]:.6g})" if recs and about != "own" else "each one's own point"
     loaded = [r.name for r in recs if r.load is not None and any(abs(float(v)) > 0.0 for v in r.load)]
+    sums = ("they add up to zero" if about != "own" else "the forces add up to zero (the moments, each about "
+            "its own point, add up only when taken about one point)")
     if loaded:  # a loaded pin's row is the whole force it passes to the part, its load included
-        sums = ("the supports' forces and the pins' reactions (a pin's force minus its load) add up to zero; "
-                f"the rows of the loaded pins ({', '.join(repr(n) for n in loaded)}) are the whole force each "
-                "passes to the part, its load (counted with the applied loads) included.")
-        if about == "own":
-            sums = sums.replace("add up to zero", "add up to zero in force (the moments, each about its own point, "
-                                                  "add up only when taken about one point)")
+        sums = (f"and each pin's reaction (its force minus its load) in place of its row, {sums}; the rows of the "
+                f"loaded pins ({', '.join(repr(n) for n in loaded)}) are the whole force each passes to the part, "
+                "its load (counted with the applied loads) included.")
     else:
-        sums = ("they add up to zero." if about != "own" else "the forces add up to zero (the moments, each about "
-                "its own point, add up only when taken about one point).")
+        sums += "."
     return Table(["support or pin", "kind", "force in x" + (f" [{force}]" if force else ""),
                   "force in y" + (f" [{force}]" if force else ""), "moment" + (f" [{moment}]" if moment else "")],
                  rows, caption=f"Reactions of each support and pin on the part, load case '{result.case}'; moments "
@@ -190,18 +188,19 @@ def _pt(p, length: str) -> str:
 
 
 def _spots(result, given, field, recovery, nominal, allowable, factor_of_safety):
-    """The hot spots to report: the caller's, none (False), or found here; with the reason when none can be."""
+    """The hot spots to report: the caller's, none (False), or found here.
+
+    A nominal, allowable or factor of safety hot_spots refuses is refused here too (a report without
+    the margins asked for is not written).
+    """
     if given is False:
-        return None, ""
+        return None
     if given is not None:
-        return given, ""
+        return given
     from .hotspots import hot_spots
 
-    try:
-        return hot_spots(result, field, recovery=recovery, nominal=nominal, allowable=allowable,
-                         factor_of_safety=factor_of_safety), ""
-    except InputError as exc:
-        return None, str(exc)
+    return hot_spots(result, field, recovery=recovery, nominal=nominal, allowable=allowable,
+                     factor_of_safety=factor_of_safety)
 
 
 def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) -> list:
@@ -631,11 +630,16 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
                          "planar's own (planar.post.CAUTIONS), or give your own list")
     if title is None:
         title = f"Stress check, load case '{result.case}'"
+    from ..core.values import number  # a margin or Kt asked for with a bad number: refused, not left out
+
+    nominal = None if nominal is None else number(nominal, "the nominal stress", positive=True)
+    allowable = None if allowable is None else number(allowable, "the allowable", positive=True)
+    factor_of_safety = number(factor_of_safety, "the factor of safety", positive=True)
     from ..core.progress import step  # each long part of the report on a terminal, as the stages of a solve
 
     dofs = int(getattr(result, "n_dofs", 0) or 0)
     with step("report: hot spots", dofs):
-        hs, no_spots = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
+        hs = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
     top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
                                                               factor_of_safety) + _convergence_tiles(convergence))]
     top.append(Notice([SCOPE_NOTE], kind="note"))
@@ -690,8 +694,6 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         sections.append(hs)
     elif hs is not None:
         sections.append(hs.section())
-    elif no_spots:
-        sections.append(Section("Hot spots", [Paragraph(f"No hot spots could be found: {no_spots}")]))
     if checks:
         sections.append(Section("Checks against handbook values and allowables", _check_blocks(checks)))
     if contact is None:
