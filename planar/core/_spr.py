@@ -181,9 +181,11 @@ def _own_patches(centres, nodes, A_en, A_es, xs, degree: int, floor: int, *, wei
         A node's value is the weighted sum of its samples (the polynomial is centred on the node,
         so its value there is its constant term).
     done : (n,) bool, False where no fit was possible
+    fitted : (n,) int, the degree of each node's fit (-1 where none)
     """
     A_ne = A_en.T.tocsr()
     done = np.zeros(nodes.size, dtype=bool)
+    fitted = np.full(nodes.size, -1)
     parts = []
     ring = _pattern(A_ne[nodes])
     need = 3 * _n_terms(degree) // 2
@@ -203,9 +205,10 @@ def _own_patches(centres, nodes, A_en, A_es, xs, degree: int, floor: int, *, wei
                 G, _, ok_ = _fit(xs, centres[r], idx[sel], deg, weighted)
                 parts.append((nodes[r[ok_]], idx[sel][ok_], G[ok_, 0, :]))
                 done[r[ok_]] = True
+                fitted[r[ok_]] = deg
         if done.all():
             break
-    return parts, done
+    return parts, done, fitted
 
 
 def _vertex_targets(samples: list[Samples], n: int) -> sp.csr_matrix:
@@ -268,12 +271,19 @@ class RecoveryOperator:
     n_nodes, n_samples : int
     valid : ndarray of bool, shape (n_nodes,)
         False at nodes outside the region or without a determined fit (their value is NaN).
+    short : ndarray of bool, shape (n_nodes,)
+        True at nodes whose own patch could only determine a polynomial of lower degree than the
+        elements' (its sampling points lie on a line: a strip of linear quadrilaterals one element
+        thick, whose centres cannot tell how the stress varies across it); :func:`planar.core.recovery.recover`
+        takes the elements' own extrapolated stresses there.
     """
 
-    def __init__(self, n_nodes: int, n_samples: int, pieces: list[_Piece], valid: np.ndarray):
+    def __init__(self, n_nodes: int, n_samples: int, pieces: list[_Piece], valid: np.ndarray,
+                 short: np.ndarray | None = None):
         self.n_nodes, self.n_samples = int(n_nodes), int(n_samples)
         self._pieces = pieces
         self.valid = valid
+        self.short = np.zeros(self.n_nodes, dtype=bool) if short is None else short
         self._node = np.concatenate([pc.node for pc in pieces]) if pieces else np.zeros(0, np.int64)
 
     def apply(self, values: np.ndarray) -> np.ndarray:
@@ -384,10 +394,13 @@ def recovery_operator(mesh, samples: list[Samples], *, degree: int | None = None
     if todo.size:
         enlarged = boundary == "enlarged"
         all_quads = all(smp.block.etype.cell == "quad" for smp in samples)
-        own, done = _own_patches(nodes_xy[todo], todo, A_en, A_es, xs,
-                                 p + 1 if enlarged and all_quads else p, p, weighted=enlarged)
+        own, done, fitted = _own_patches(nodes_xy[todo], todo, A_en, A_es, xs,
+                                         p + 1 if enlarged and all_quads else p, p, weighted=enlarged)
         parts += [_Piece(tn, cols.astype(np.int32), W) for tn, cols, W in own]
         reached[todo] = np.where(done, 1.0, 0.0)
+        short = np.zeros(n, dtype=bool)
+        short[todo[done & (fitted < p)]] = True
+        return RecoveryOperator(n, S, parts, in_region & (reached > 0), short)
     return RecoveryOperator(n, S, parts, in_region & (reached > 0))
 
 

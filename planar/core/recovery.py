@@ -56,7 +56,11 @@ Patches
   boundary nodes take the average of the interior vertex patches that contain them.
 - A node that no interior patch reaches (a corner element of a strip one element thick, say) is
   recovered from its own enlarged patch too; when that patch has too few or badly placed points
-  for the degree, the degree drops until the fit is determined.
+  for the degree, the degree drops until the fit is determined. Where it drops below the elements'
+  own degree p (the sampling points lie on a line: the centres of a strip of Q4 one element thick,
+  which cannot tell how the stress varies across the strip, so a constant fit would read the
+  bending stress of such a strip as zero), the node takes the elements' own stresses extrapolated
+  from their Gauss points and averaged (``"average"``) instead.
 
 A patch polynomial reproduces sampled values of its degree exactly, so recovery is exact for a
 stress field of degree p sampled exactly (the consistency condition), at boundary nodes too.
@@ -274,6 +278,11 @@ def recover(result, recovery: str = "spr", per_region: bool = False, *, boundary
             mine = [samples[i] for i in ids]
             op = _cached_operator(result.assembly, ids, mine, degree, boundary)
             out[name] = patch_recovery(result.mesh, mine, operator=op)
+            short = getattr(op, "short", None)
+            if short is not None and short.any():  # sampling points on a line: the elements' own stresses there
+                avg = _average_region(result, ids)
+                take = short & np.all(np.isfinite(avg), axis=1)
+                out[name][take] = avg[take]
     else:
         for name, ids in regions.items():
             out[name] = _average_region(result, ids)
