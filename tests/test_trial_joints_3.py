@@ -279,3 +279,21 @@ def test_row_normal_by_hand():
     assert _row_normal(line, tilt).tolist() == tilt.tolist()
     diagonal = np.array([(0.0, 0.0), (20.0, 20.0), (40.0, 40.0)])
     assert np.allclose(_row_normal(diagonal, np.array([1.0, 0.0])), [np.sqrt(0.5), -np.sqrt(0.5)], rtol=0, atol=1e-15)
+
+
+def test_a_bearing_contact_pin_of_a_layer_is_refused_by_the_joint():
+    # a layer holding a contact pin of its own: the joint's one linear solve has no contact iteration, and it
+    # answered with displacements of 1e10 mm and fastener loads of 46 kN under a 400 N pull, with only the
+    # 'mixed units' warnings; the pin and the fix are named
+    pytest.importorskip("gmsh")
+    from planar.geometry import Circle, Plate, mesh
+
+    g = Plate.rectangle(100.0, 20.0, corner=(0.0, -10.0)).cut(Circle((10.0, 0.0), 3.0, name="lug hole"))
+    j = lap(((0.0, 100.0), (60.0, 160.0)), 20.0, 2.0, 1.25, names=("a", "b"), pull=10.0)
+    a = planar.Model(mesh(g, size=2.0, element="T6"), planar.Isotropic(71e3, 0.33), thickness=2.0, units="N, mm, MPa")
+    a.add_pin(planar.Pin("lug hole", tie="contact", hold="both"))
+    a.add_support(planar.Roller((100.0, 10.0), fixed="y"))
+    j = planar.Joint({"a": a, "b": j.layers["b"]})
+    j.add_fasteners(planar.Fasteners([(70.0, 0.0), (90.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=3e-5))
+    with pytest.raises(InputError, match=r"layer 'a'.*pin 'lug hole'.*tie='contact'.*tie='rigid'"):
+        planar.solve(j)

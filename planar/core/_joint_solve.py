@@ -209,6 +209,12 @@ class _Layer:
         lm = copy.copy(model)
         lm.cases = {c: list(model.cases.get(c, [])) for c in cases}
         lm.pins = list(model.pins)
+        for pin in lm.pins:  # the joint is one linear solve: no contact iteration for a pin of a layer
+            if pin.tie == "contact":
+                raise InputError(f"layer {name!r} holds pin {pin.name!r} with tie='contact' (bearing contact), which "
+                                 "a joint's solve does not take (one linear solve, no contact iteration); give the "
+                                 "pin tie='rigid' or tie='spreading' in the joint, or solve that layer alone with its "
+                                 "contact pin and the joint's fastener loads on it")
         self.hole_pins: dict[tuple[int, int], str] = {}
         for g, fz in enumerate(joint.fasteners):
             edges = fz.holes.get(name)
