@@ -240,3 +240,13 @@ def test_report_refuses_a_margin_it_cannot_work_out(kw):
     r = _strap()["pull"]
     with pytest.raises(InputError):
         stress_check_report(r, picture=False, results=[], **kw)
+
+
+def test_report_names_a_wrong_headline_or_convergence_item():
+    # headline=[("a", "b")] died in the renderer with "ValueError: not enough values to unpack"; a number
+    # in convergence= was refused as "a report block must be ..." without naming convergence=
+    r = _strap()["pull"]
+    with pytest.raises(InputError, match="headline="):
+        stress_check_report(r, headline=[("peak", "61 MPa")], picture=False, results=[])
+    with pytest.raises(InputError, match="convergence="):
+        stress_check_report(r, convergence=[1.0, 2.0], picture=False, results=[])

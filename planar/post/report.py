@@ -374,6 +374,9 @@ def _convergence_blocks(convergence) -> list:
     out = []
     for c in items:
         if not hasattr(c, "verdict"):
+            if not isinstance(c, (Paragraph, Table, KeyValues, Figure, Notice, Tiles, SignOff)):
+                raise InputError(f"convergence= takes convergence studies (planar.post.grid_convergence, "
+                                 f"convergence_study) or report blocks, got {c!r}")
             out.append(c)
             continue
         u = f" {c.unit}" if c.unit else ""
@@ -618,7 +621,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     for o in omit:
         if o not in known and o not in {"checks against handbook values and allowables", "convergence evidence",
                                         "cautions and limits"}:
-            raise unknown_name("report section", o, SECTION_KEYS)
+            raise unknown_name("report section", o, [k for k in SECTION_KEYS if k != "cautions"])  # kept always
     if omit & {"cautions", "cautions and limits"}:
         raise InputError("omit=: the cautions cannot be left out of a stress-check report (they say what its "
                          "figures are not: linear elastic, no buckling, fatigue or plasticity check, review by a "
@@ -640,6 +643,10 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     dofs = int(getattr(result, "n_dofs", 0) or 0)
     with step("report: hot spots", dofs):
         hs = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
+    for item in headline or ():
+        if isinstance(item, str) or len(item) != 4:
+            raise InputError(f"headline= takes tiles as (label, value, detail, status) with status 'pass', 'fail' or "
+                             f"'', got {item!r}")
     top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
                                                               factor_of_safety) + _convergence_tiles(convergence))]
     top.append(Notice([SCOPE_NOTE], kind="note"))
