@@ -297,3 +297,13 @@ def test_a_bearing_contact_pin_of_a_layer_is_refused_by_the_joint():
     j.add_fasteners(planar.Fasteners([(70.0, 0.0), (90.0, 0.0)], layers=("a", "b"), diameter=5.0, flexibility=3e-5))
     with pytest.raises(InputError, match=r"layer 'a'.*pin 'lug hole'.*tie='contact'.*tie='rigid'"):
         planar.solve(j)
+
+
+def test_overlapping_holes_of_a_regular_pattern_name_the_first_pair_and_touching_holes_pass():
+    # a 3 x 2 pattern at a pitch of 4 mm with 5 mm fasteners: every pair along x overlaps as much; the first
+    # is named (it was whichever round-off made closest); a pitch of exactly d (holes touching) is no overlap
+    pts = [(x, y) for x in (66.0, 70.0, 74.0) for y in (-5.0, 5.0)]
+    with pytest.raises(InputError, match=r"fasteners 'g' 1 at \(66, -5\) and 3 at \(70, -5\)"):
+        _strips().add_fasteners(planar.Fasteners(pts, layers=("a", "b"), diameter=5.0, flexibility=1e-5, name="g"))
+    touching = [(x, 0.0) for x in (65.0, 70.0, 75.0)]
+    _strips().add_fasteners(planar.Fasteners(touching, layers=("a", "b"), diameter=5.0, flexibility=1e-5, name="g"))

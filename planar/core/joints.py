@@ -351,22 +351,28 @@ class Joint:
         d = fasteners.diameter
         others = [(f, f.points(self)) for f in self.fasteners if planes(f) & mine]
         found = None
-        close = cKDTree(pts).query_pairs(d, output_type="ndarray")
-        if close.size:
-            gap = np.hypot(*(pts[close[:, 0]] - pts[close[:, 1]]).T)
-            i, k = close[np.argmin(gap)]
-            i, k = min(i, k), max(i, k)
-            found = (fasteners, i, pts[i], fasteners, k, pts[k], mine, d)
+        def first(i, k, gap, r):
+            """The closest pair under ``r`` apart, the lowest numbers among pairs as close to round-off."""
+            under = gap < r * (1 - 1e-12)
+            if not under.any():
+                return None
+            i, k, gap = i[under], k[under], gap[under]
+            tie = gap <= gap.min() + 1e-9 * r
+            j = np.lexsort((k[tie], i[tie]))[0]
+            return int(i[tie][j]), int(k[tie][j])
+
+        close = np.sort(cKDTree(pts).query_pairs(d, output_type="ndarray").reshape(-1, 2), axis=1)
+        pair = first(close[:, 0], close[:, 1], np.hypot(*(pts[close[:, 0]] - pts[close[:, 1]]).T), d)
+        if pair is not None:
+            found = (fasteners, pair[0], pts[pair[0]], fasteners, pair[1], pts[pair[1]], mine, d)
         for f, q in others:
             if found is not None:
                 break
             r = 0.5 * (d + f.diameter)
             near = cKDTree(pts).sparse_distance_matrix(cKDTree(q), r, output_type="ndarray")
-            near = near[near["v"] < r]
-            if near.size:
-                m = near[np.argmin(near["v"])]
-                i, k = int(m["i"]), int(m["j"])
-                found = (fasteners, i, pts[i], f, k, q[k], planes(f) & mine, r)
+            pair = first(near["i"].astype(np.int64), near["j"].astype(np.int64), near["v"], r)
+            if pair is not None:
+                found = (fasteners, pair[0], pts[pair[0]], f, pair[1], q[pair[1]], planes(f) & mine, r)
         if found is None:
             return
         fa, i, pa, fb, k, pb, shared, r = found
