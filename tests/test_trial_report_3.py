@@ -250,3 +250,19 @@ def test_report_names_a_wrong_headline_or_convergence_item():
         stress_check_report(r, headline=[("peak", "61 MPa")], picture=False, results=[])
     with pytest.raises(InputError, match="convergence="):
         stress_check_report(r, convergence=[1.0, 2.0], picture=False, results=[])
+
+
+def test_sweep_output_reads_a_case_or_edge_name_with_spaces():
+    # "kt:sigma_xx:100 on hole in pull ✓" read the case as 'pull' (every point then failed with
+    # "unknown load case 'pull'") and left "✓" in the nominal; an edge named from a gmsh physical
+    # name with a space ("pull end") could not be named at all
+    from planar.studies.outputs import parse_output
+
+    o = parse_output("kt:sigma_xx:100 on hole in pull ✓")
+    assert (o.case, o.where, o.nominal) == ("pull ✓", "hole", 100.0)
+    o = parse_output("max:von_mises in case 2 on pull end@average")
+    assert (o.case, o.where, o.method) == ("case 2", "pull end", "average")
+    assert parse_output("margin:von_mises:290:1.5 on \"x in y\" in 'lift @ 2g'").case == "lift @ 2g"
+    assert parse_output("max:von_mises on fillet in pull").case == "pull"       # the plain form is unchanged
+    with pytest.raises(InputError, match="2 zones"):
+        parse_output("max:von_mises on a on b")

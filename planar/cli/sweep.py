@@ -61,7 +61,8 @@ def arguments(p: argparse.ArgumentParser) -> None:
                    help="an output: NAME=max:FIELD, min:FIELD, absmax:FIELD, at:X,Y:FIELD, kt:FIELD:NOMINAL or "
                         "margin:FIELD:ALLOWABLE[:FS], optionally ending in @average or @spr; a peak, kt or "
                         "margin read on one edge or region adds 'on NAME' (e.g. 'max:von_mises on fillet'), "
-                        "and one load case of several 'in CASE' (e.g. 'max:von_mises on fillet in pull')")
+                        "and one load case of several 'in CASE' (e.g. 'max:von_mises on fillet in pull'); a "
+                        "name may hold spaces ('in pull 2'); quote one holding ' on ', ' in ' or '@'")
     p.add_argument("--out", default="planar-sweep", metavar="DIR",
                    help="folder of the table (sweep.csv, sweep.json, sweep.png) and of the point store "
                         "(DIR/points); default ./planar-sweep")

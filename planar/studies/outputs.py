@@ -235,8 +235,16 @@ class SafetyMargin(_ZonedRepr, Output):
 
 _OUTPUT_FORMS = ("max:FIELD", "min:FIELD", "absmax:FIELD", "at:X,Y:FIELD", "kt:FIELD:NOMINAL",
                  "margin:FIELD:ALLOWABLE[:FS]")
-_ZONE_WORDS = re.compile(r"\s+on\s+([^\s@]+)")
-_CASE_WORDS = re.compile(r"\s+in\s+([^\s@]+)")
+# "on NAME" and "in CASE": a name runs to the next clause, the "@" of the recovery or the end, so it may hold
+# spaces and any letter ("in pull ✓", "on pull end"); a name holding " on ", " in " or "@" is quoted
+_NAME = r"""(?:'([^']*)'|"([^"]*)"|(.+?))(?=\s+on\s|\s+in\s|@|$)"""
+_ZONE_WORDS = re.compile(r"\s+on\s+" + _NAME)
+_CASE_WORDS = re.compile(r"\s+in\s+" + _NAME)
+
+
+def _clauses(words: re.Pattern, s: str) -> list[str]:
+    """The names of every ``on NAME`` (or ``in CASE``) clause of ``s``, unquoted."""
+    return [next((g for g in m if g), "") for m in words.findall(s)]
 
 
 def parse_output(text: str) -> Output:
@@ -248,6 +256,8 @@ def parse_output(text: str) -> Output:
     the function returns. A peak, Kt or margin read on one feature adds ``on NAME``, the name of an
     edge or region (``max:von_mises on fillet``, ``kt:sigma_xx:nominal on bolt_hole@average``); a
     result with several load cases is read in one named by ``in CASE`` (``max:von_mises on hole in pull``).
+    A name runs to the next clause, the ``@`` or the end, so it may hold spaces (``in pull ✓``,
+    ``on pull end``); quote one that holds `` on ``, `` in `` or ``@`` (``in 'lift @ 2g'``).
 
     Examples
     --------
@@ -259,14 +269,16 @@ def parse_output(text: str) -> Output:
     ValueAt(point=(10.0, 2.5), field='uy', method='spr', case=None)
     >>> parse_output("max:von_mises on hole in pull")
     Peak(field='von_mises', method='spr', kind='max', case='pull', where='hole')
+    >>> parse_output("kt:sigma_xx:100 on pull end in 'lift @ 2g'@average").case
+    'lift @ 2g'
     """
     s = str(text).strip()
-    zones = _ZONE_WORDS.findall(s)
+    zones = _clauses(_ZONE_WORDS, s)
     where = zones[0] if len(zones) == 1 else None
     if len(zones) > 1:
         raise InputError(f"output {text!r} names {len(zones)} zones ({', '.join(zones)}); give one: ... on NAME")
     s = _ZONE_WORDS.sub("", s).strip()
-    cases = _CASE_WORDS.findall(s)  # "... in CASE": the load case of a result with several
+    cases = _clauses(_CASE_WORDS, s)  # "... in CASE": the load case of a result with several
     if len(cases) > 1:
         raise InputError(f"output {text!r} names {len(cases)} load cases ({', '.join(cases)}); give one: ... in CASE")
     case = cases[0] if cases else None
