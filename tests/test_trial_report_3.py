@@ -266,3 +266,25 @@ def test_sweep_output_reads_a_case_or_edge_name_with_spaces():
     assert parse_output("max:von_mises on fillet in pull").case == "pull"       # the plain form is unchanged
     with pytest.raises(InputError, match="2 zones"):
         parse_output("max:von_mises on a on b")
+
+
+def halting(x):
+    """A sweep function that fails at x = 2."""
+    if x == 2:
+        raise ValueError("no convergence at x = 2")
+    return {"y": 100.0 + x}
+
+
+def test_sweep_plot_leaves_a_gap_at_a_failed_point(tmp_path):
+    # the line of computed values ran straight across a failed point (as if its value lay between its
+    # neighbours), and the failed point's cross sat at the lowest value (at 0 when every point failed)
+    from planar.studies import sweep
+
+    t = sweep(halting, grid={"x": [1.0, 2.0, 3.0]}, workers=0)
+    fig = t.plot()
+    ax = fig.axes[0]
+    line = next(ln for ln in ax.get_lines() if ln.get_label() == "computed")
+    y = np.asarray(line.get_ydata(), float)
+    assert np.isnan(y[1]) and list(y[[0, 2]]) == [101.0, 103.0]
+    cross = next(ln for ln in ax.get_lines() if ln.get_label().startswith("failed"))
+    assert cross.get_transform() != ax.transData          # along the axis, at no value

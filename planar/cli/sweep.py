@@ -115,7 +115,9 @@ def run(args: argparse.Namespace) -> int:
     table.to_csv(out / "sweep.csv")
     table.to_json(out / "sweep.json")
     written = [out / "sweep.csv", out / "sweep.json"]
-    if not args.no_plot and table.outputs and len(table) > 1:
+    if not args.no_plot and table.outputs and len(table) > 1 and len(table.failed) == len(table):
+        print("planar sweep: no plot: every point failed (the errors are in the table below)", file=sys.stderr)
+    elif not args.no_plot and table.outputs and len(table) > 1:
         try:
             table.plot(out / "sweep.png", x=args.x)
             written.append(out / "sweep.png")

@@ -222,12 +222,11 @@ class SweepTable:
                 idx = np.array(sorted(idx, key=lambda i: X[i]))
                 colour = cmap(0.15 + 0.7 * gi / max(len(groups) - 1, 1)) if len(groups) > 1 else cmap(0.25)
                 label = "computed" if not others else ", ".join(f"{p} = {v}" for p, v in zip(others, gkey))
-                ok = idx[~failed[idx]]
-                ax.plot(X[ok], Y[ok], "o-", color=colour, ms=5, lw=1.3, label=label)
-            if np.any(failed):
-                lo = np.nanmin(Y) if np.any(np.isfinite(Y)) else 0.0
-                ax.plot(X[failed], np.full(int(failed.sum()), lo), "x", color="0.35", ms=7,
-                        label=f"failed ({int(failed.sum())})")
+                # a failed point is a gap in the line (NaN), not bridged as if its value lay between its neighbours'
+                ax.plot(X[idx], np.where(failed[idx], np.nan, Y[idx]), "o-", color=colour, ms=5, lw=1.3, label=label)
+            if np.any(failed):  # along the bottom of the axes, not at a value: a failed point has none
+                ax.plot(X[failed], np.full(int(failed.sum()), 0.03), "x", color="0.35", ms=7, clip_on=False,
+                        transform=ax.get_xaxis_transform(), label=f"failed ({int(failed.sum())}, no value)")
             if reference and o in reference:
                 label, curve = reference[o]
                 if callable(curve):
