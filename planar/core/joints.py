@@ -349,14 +349,14 @@ class Joint:
 
         mine = planes(fasteners)
         d = fasteners.diameter
-        others = [(f, f.points(self)) for f in self.fasteners if planes(f) & mine]
         found = None
+
         def first(i, k, gap, r):
             """The closest pair under ``r`` apart, the lowest numbers among pairs as close to round-off."""
             under = gap < r * (1 - 1e-12)
             if not under.any():
                 return None
-            i, k, gap = i[under], k[under], gap[under]
+            i, k, gap, r = i[under], k[under], gap[under], np.broadcast_to(r, under.shape)[under]
             tie = gap <= gap.min() + 1e-9 * r
             j = np.lexsort((k[tie], i[tie]))[0]
             return int(i[tie][j]), int(k[tie][j])
@@ -365,14 +365,20 @@ class Joint:
         pair = first(close[:, 0], close[:, 1], np.hypot(*(pts[close[:, 0]] - pts[close[:, 1]]).T), d)
         if pair is not None:
             found = (fasteners, pair[0], pts[pair[0]], fasteners, pair[1], pts[pair[1]], mine, d)
-        for f, q in others:
-            if found is not None:
-                break
-            r = 0.5 * (d + f.diameter)
-            near = cKDTree(pts).sparse_distance_matrix(cKDTree(q), r, output_type="ndarray")
-            pair = first(near["i"].astype(np.int64), near["j"].astype(np.int64), near["v"], r)
+        others = [f for f in self.fasteners if planes(f) & mine]
+        if found is None and others:  # the earlier groups on a shared plane, all in one tree
+            qs = [f.points(self) for f in others]
+            Q = np.vstack(qs)
+            group = np.repeat(np.arange(len(others)), [q.shape[0] for q in qs])
+            local = np.concatenate([np.arange(q.shape[0]) for q in qs])
+            r = 0.5 * (d + np.array([f.diameter for f in others]))[group]
+            near = cKDTree(pts).sparse_distance_matrix(cKDTree(Q), float(r.max()), output_type="ndarray")
+            j = near["j"].astype(np.int64)
+            pair = first(near["i"].astype(np.int64), j, near["v"], r[j])
             if pair is not None:
-                found = (fasteners, pair[0], pts[pair[0]], f, pair[1], q[pair[1]], planes(f) & mine, r)
+                i, j = pair
+                f = others[group[j]]
+                found = (fasteners, i, pts[i], f, int(local[j]), Q[j], planes(f) & mine, float(r[j]))
         if found is None:
             return
         fa, i, pa, fb, k, pb, shared, r = found
