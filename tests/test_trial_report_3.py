@@ -288,3 +288,22 @@ def test_sweep_plot_leaves_a_gap_at_a_failed_point(tmp_path):
     assert np.isnan(y[1]) and list(y[[0, 2]]) == [101.0, 103.0]
     cross = next(ln for ln in ax.get_lines() if ln.get_label().startswith("failed"))
     assert cross.get_transform() != ax.transData          # along the axis, at no value
+
+
+def test_report_of_an_adaptive_run_that_stopped_short():
+    # convergence=adapt(...) was a TypeError traceback ('AdaptiveRun' object is not iterable); a run that
+    # stopped on its budget must say in the summary that its error target was not reached
+    from planar.post.adapt import AdaptiveRun, Cycle
+
+    r = _strap()["pull"]
+    cycles = [Cycle(i, n, n // 4, e, p, (0.0, 6.0), 0.1) for i, (n, e, p) in
+              enumerate([(1200, 0.042, 124.0), (5000, 0.012, 160.0), (13000, 0.0044, 166.0)])]
+    run = AdaptiveRun(cycles, False, "the next mesh has 27,670 unknowns, over the budget of 20,000", 0.001, 20000,
+                      "von_mises", "spr")
+    rep = stress_check_report(r, convergence=run, picture=False, hot_spots=False, results=[])
+    tiles = {t[0]: t for t in rep.sections[0].blocks[0].items}
+    assert tiles["adaptive refinement"][3] == "fail" and "not reached" in tiles["adaptive refinement"][2]
+    text = render_html(rep)
+    assert "stopped before its target" in text and "0.44 %" in text and "target reached" in text
+    with pytest.raises(InputError, match="convergence="):
+        stress_check_report(r, convergence=3.0, picture=False, hot_spots=False, results=[])

@@ -366,13 +366,51 @@ def _auto_results(result, field, recovery) -> list:
                               f"over it, load case '{result.case}'; the magnification is stated on the picture.")]
 
 
-def _convergence_blocks(convergence) -> list:
-    """Blocks of convergence evidence: given blocks as they are, a GridConvergence as a table with its verdict."""
+def _evidence(convergence) -> list:
+    """The items of ``convergence=``: a study or an adaptive run alone, or a sequence of them and of blocks."""
     if convergence is None:
         return []
-    items = [convergence] if hasattr(convergence, "verdict") else list(convergence)
+    if hasattr(convergence, "verdict") or hasattr(convergence, "cycles"):
+        return [convergence]
+    try:
+        return list(convergence)
+    except TypeError:
+        raise InputError(f"convergence= takes convergence studies (planar.post.grid_convergence, convergence_study), "
+                         f"adaptive runs (planar.post.adapt) or report blocks, got {convergence!r}") from None
+
+
+def _run_blocks(run, unit: str) -> list:
+    """An adaptive run: its cycles, whether it reached its target, and the study of its last three peaks."""
+    u = f" [{unit}]" if unit else ""
+    rows = [[str(c.index), str(c.dofs), str(c.n_elements), f"{100 * c.error:.3g}", _v(c.peak, ".6g")]
+            for c in run.cycles]
+    out: list = [Table(["cycle", "unknowns", "elements", "estimated error [%]", f"peak {run.field}{u}"], rows,
+                       caption="Adaptive refinement driven by the Zienkiewicz-Zhu error estimate (energy norm), "
+                               "each cycle remeshed from the last one's error.", numeric=[1, 2, 3, 4]),
+                  KeyValues([("target of the estimated error", f"{100 * run.target:.3g} %"),
+                             ("target reached", "yes" if run.converged else "no"), ("stopped", run.reason)],
+                            caption="Outcome of the adaptive refinement")]
+    if not run.converged:
+        out.append(Notice([f"The adaptive refinement stopped before its target ({run.reason}): the estimated error "
+                           f"of the final mesh is {100 * run.final.error:.3g} %, above the "
+                           f"{100 * run.target:.3g} % asked for."], kind="caution"))
+    if len(run.cycles) >= 3:
+        import warnings
+
+        with warnings.catch_warnings():  # its verdict is in the table below
+            warnings.simplefilter("ignore")
+            out += _convergence_blocks([run.convergence(unit=unit)])
+    return out
+
+
+def _convergence_blocks(convergence, unit: str = "") -> list:
+    """Blocks of convergence evidence: given blocks as they are, a GridConvergence as a table with its verdict,
+    an adaptive run as its cycles and outcome."""
     out = []
-    for c in items:
+    for c in _evidence(convergence):
+        if hasattr(c, "cycles") and hasattr(c, "converged"):
+            out += _run_blocks(c, unit)
+            continue
         if not hasattr(c, "verdict"):
             if not isinstance(c, (Paragraph, Table, KeyValues, Figure, Notice, Tiles, SignOff)):
                 raise InputError(f"convergence= takes convergence studies (planar.post.grid_convergence, "
@@ -403,11 +441,13 @@ def _convergence_blocks(convergence) -> list:
 
 def _convergence_tiles(convergence) -> list:
     """One summary tile per convergence study: its GCI, or that none is claimed (a study not converged)."""
-    if convergence is None:
-        return []
-    items = [convergence] if hasattr(convergence, "verdict") else list(convergence)
     tiles = []
-    for c in items:
+    for c in _evidence(convergence):
+        if hasattr(c, "cycles") and hasattr(c, "converged"):
+            err = f"estimated error {100 * c.final.error:.3g} %"
+            tiles.append(("adaptive refinement", err, f"target {100 * c.target:.3g} %: " + (
+                "reached" if c.converged else f"not reached ({c.reason})"), "pass" if c.converged else "fail"))
+            continue
         if not hasattr(c, "verdict"):
             continue
         u = f" {c.unit}" if c.unit else ""
@@ -570,9 +610,10 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         Section "Checks against handbook values and allowables" (left out when empty); a check result
         (:func:`planar.post.lug_check`, :func:`planar.post.kt`, :func:`planar.post.margin_of_safety`)
         is tabled or summarised.
-    convergence : GridConvergence, or a sequence of them or of blocks
+    convergence : GridConvergence or AdaptiveRun, or a sequence of them or of blocks
         Convergence evidence; a study is tabled with its verdict (including "not in the asymptotic
-        range"). Without it the section says that no study was made.
+        range"), an adaptive run (:func:`planar.post.adapt`) with its cycles and whether it reached its
+        target; each gets a summary tile. Without it the section says that no study was made.
     mesh_rows, run_rows : sequence of (label, value)
         More rows for the "Mesh" and "Run details" sections.
     extra_sections : sequence of Section
@@ -709,7 +750,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
         sec = _table_of(title_, thing, result.unit_system)
         if sec is not None:
             sections.append(sec)
-    sections.append(Section("Convergence evidence", _convergence_blocks(convergence) or [
+    sections.append(Section("Convergence evidence", _convergence_blocks(convergence, _units(result)[0]) or [
         Paragraph("No convergence study was made for this report: the figures above come from one "
                   "mesh, and their discretisation error is not shown.")]))
     sections.append(Section("Equilibrium", [equilibrium_table(result)]
