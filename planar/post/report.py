@@ -227,7 +227,7 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
         tiles.append((f"governing {word}" if gov is not None else f"highest {word} (every spot flagged)",
                       f"{_v(first.value)}{u}", detail, ""))
         if first.Kt is not None:
-            tiles.append((f"Kt, {first.feature}", _v(first.Kt, ".3f"), f"peak / nominal {_v(nominal)}{u}", ""))
+            tiles.append((f"Kt, {first.feature}", _v(first.Kt, ".3f"), f"peak {word} / nominal {_v(nominal)}{u}", ""))
         if first.margin is not None:
             tiles.append((f"margin of safety, {first.feature}", _v(first.margin, "+.2f"),
                           f"allowable {_v(allowable)}{u}, factor of safety {_v(factor_of_safety, 'g')}",
