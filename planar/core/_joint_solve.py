@@ -119,26 +119,29 @@ def _load_axes(layers, cases) -> None:
                                      direction=None if L.load_axis is None else [float(x) for x in L.load_axis])
 
 
-def _node_weights(asm, nodes: np.ndarray | None = None, direction: np.ndarray | None = None
-                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _node_weights(asm, nodes: np.ndarray | None = None, direction: np.ndarray | None = None, *,
+                  cells: list | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Each node's share of the area times thickness, its thickness and Young's modulus (largest of its cells;
     an orthotropic material's along ``direction``, :func:`_modulus_along`).
 
     With ``nodes``, only the cells that touch them are visited (the figures at those nodes are the same,
     summed over the same cells in the same order; elsewhere they are zero): a fastener's patch reads a few
-    nodes of a layer of a million.
+    nodes of a layer of a million. ``cells`` (one sorted index array per block of ``asm.blocks``) gives
+    those cells already found (:meth:`_Layer.cells_touching`), so the blocks are not searched again.
     """
     mesh = asm.mesh
     w = np.zeros(mesh.n_nodes)
     t = np.zeros(mesh.n_nodes)
     E = np.zeros(mesh.n_nodes)
     wanted = None
-    if nodes is not None:
+    if nodes is not None and cells is None:
         wanted = np.zeros(mesh.n_nodes, bool)
         wanted[np.asarray(nodes, dtype=np.int64)] = True
-    for b in asm.blocks:
+    for i, b in enumerate(asm.blocks):
         conn = b.conn
-        if wanted is not None:
+        if cells is not None:
+            conn = conn[cells[i]]
+        elif wanted is not None:
             conn = conn[wanted[conn].any(axis=1)]
         nv = 3 if b.etype.cell == "triangle" else 4
         xy = mesh.nodes[conn[:, :nv]]
@@ -261,7 +264,28 @@ class _Layer:
 
     def weights(self, nodes: np.ndarray | None = None):
         """:func:`_node_weights` of the layer, at ``nodes`` (all nodes by default)."""
-        return _node_weights(self.asm, nodes, getattr(self, "load_axis", None))
+        cells = None if nodes is None else self.cells_touching(nodes)
+        return _node_weights(self.asm, nodes, getattr(self, "load_axis", None), cells=cells)
+
+    def cells_touching(self, nodes: np.ndarray) -> list[np.ndarray]:
+        """The cells that touch ``nodes``: a sorted index array per block of the assembly, read from each
+        block's node-to-cell incidence (built once per layer), so a fastener's patch costs its own size and
+        not a pass over the layer's cells per group of fasteners."""
+        if not hasattr(self, "_incidence"):
+            n = self.mesh.n_nodes
+            self._incidence = [sp.csr_matrix((np.ones(b.conn.size, bool), (b.conn.ravel(),
+                                              np.repeat(np.arange(b.conn.shape[0]), b.conn.shape[1]))),
+                                             shape=(n, b.conn.shape[0])) for b in self.asm.blocks]
+        nodes = np.unique(np.asarray(nodes, dtype=np.int64))
+        return [np.unique(inc[nodes].indices) for inc in self._incidence]
+
+    def used_by_x(self) -> tuple[np.ndarray, np.ndarray]:
+        """The layer's used nodes sorted by x and their x (built once): the nodes in a box are a slice."""
+        if not hasattr(self, "_by_x"):
+            used = np.flatnonzero(self.mesh.used_nodes())
+            o = np.argsort(self.mesh.nodes[used, 0], kind="stable")
+            self._by_x = (used[o], self.mesh.nodes[used[o], 0])
+        return self._by_x
 
     def end_operator(self, g: int, fz, pts: np.ndarray) -> tuple[sp.csr_matrix, np.ndarray, np.ndarray]:
         """(S (2k, 2n): each end's mean translation from the full unknowns, thickness (k,), modulus (k,))."""
@@ -280,17 +304,17 @@ class _Layer:
             return S, np.array(tt), np.array(ee)
         from scipy.spatial import cKDTree
 
-        used = np.flatnonzero(mesh.used_nodes())
+        by_x, xs = self.used_by_x()
         pad = 2 * fz.diameter  # the nodes around the fasteners only (a tree over a band, not the whole layer)
         lo, hi = pts.min(axis=0) - pad, pts.max(axis=0) + pad
-        xy = mesh.nodes[used]
-        box = used[np.all((xy >= lo) & (xy <= hi), axis=1)]
-        if box.size:
-            used = box
+        band = by_x[np.searchsorted(xs, lo[0], side="left"):np.searchsorted(xs, hi[0], side="right")]
+        y = mesh.nodes[band, 1]
+        box = np.sort(band[(y >= lo[1]) & (y <= hi[1])])  # in node order, as the nearest node's ties were
+        used = box if box.size else np.sort(by_x)
         tree = cKDTree(mesh.nodes[used])
         dist, near = tree.query(pts)
-        if np.any(dist > pad) and used.size < mesh.n_nodes:  # a mesh coarser than the box: the nearest of all
-            used = np.flatnonzero(mesh.used_nodes())
+        if np.any(dist > pad) and used.size < by_x.size:  # a mesh coarser than the box: the nearest of all
+            used = np.sort(by_x)
             tree = cKDTree(mesh.nodes[used])
             dist, near = tree.query(pts)
         # the nodes within d / 2, a node at d / 2 to round-off among them (a patch does not hang on round-off)
@@ -321,7 +345,8 @@ class _Layer:
         if rot is not None and np.isin(nj, rot.nodes).any():
             raise InputError(f"fasteners {fz.name!r}: a fastener's patch in layer {self.name!r} takes a node held along "
                              "an inclined direction; move the fastener or hold that edge along x or y")
-        w, t, E = self.weights(nj)
+        cells = self.cells_touching(nj)
+        w, t, E = _node_weights(self.asm, nj, getattr(self, "load_axis", None), cells=cells)
         wn = w[nj]
         if few.any():
             i = int(np.argmax(few))
@@ -329,7 +354,8 @@ class _Layer:
                  f"within d/2 (first at ({pts[i, 0]:g}, {pts[i, 1]:g})): the mesh is coarser than the fastener, so "
                  "its spring acts almost at a point and its load depends on the mesh; refine near the fasteners to "
                  "an element size of d/4 or less", "fastener-patch", sink=pending_warnings(self.asm))
-        near = _edge_distance(mesh, pts, pi, nj, self.cons.rows.node)
+        near = _edge_distance(mesh, [(b.conn[c], b.etype.cell) for b, c in zip(self.asm.blocks, cells)], pts, pi, nj,
+                              self.cons.rows.node)
         out = near < fz.diameter / 2 * (1 - 1e-9)
         if out.any():
             i = int(np.argmax(out))
@@ -351,24 +377,23 @@ class _Layer:
         return S, tt, ee
 
 
-def _edge_distance(mesh, pts: np.ndarray, pi: np.ndarray, nj: np.ndarray, held: np.ndarray) -> np.ndarray:
+def _edge_distance(mesh, touching: list, pts: np.ndarray, pi: np.ndarray, nj: np.ndarray,
+                   held: np.ndarray) -> np.ndarray:
     """Each fastener's distance (k,) to the nearest free edge of the layer that meets its patch (inf for none).
 
-    ``pi``, ``nj``: the patch pairs (fastener, node). The edges are the cells' sides (corner to corner,
-    straight) of one cell only; only the cells touching a patch node are visited, which holds every cell
-    of a side with a patch node, so its count is exact. A side whose two nodes are held by supports (a
-    symmetry line, a clamped edge) is no free edge.
+    ``touching``: (connectivity, cell kind) of the cells that touch a patch node, per block; ``pi``,
+    ``nj``: the patch pairs (fastener, node). The edges are the cells' sides (corner to corner, straight)
+    of one cell only; the cells touching a patch node hold every cell of a side with a patch node, so
+    its count is exact. A side whose two nodes are held by supports (a symmetry line, a clamped edge) is
+    no free edge.
     """
-    from .registry import element_type
-
     k = pts.shape[0]
     near = np.full(k, np.inf)
     on = np.zeros(mesh.n_nodes, bool)
     on[nj] = True
-    sides = []
-    for layout, conn in mesh.cells.items():
-        c = np.asarray(conn)
-        c = c[on[c].any(axis=1)][:, :3 if element_type(layout).cell == "triangle" else 4]
+    sides = [np.zeros((0, 2), np.int64)]
+    for conn, cell in touching:
+        c = np.asarray(conn)[:, :3 if cell == "triangle" else 4]
         sides.append(np.stack([c, np.roll(c, -1, axis=1)], axis=2).reshape(-1, 2))
     s = np.sort(np.vstack(sides), axis=1)
     s, cnt = np.unique(s, axis=0, return_counts=True)
