@@ -307,3 +307,20 @@ def test_report_of_an_adaptive_run_that_stopped_short():
     assert "stopped before its target" in text and "0.44 %" in text and "target reached" in text
     with pytest.raises(InputError, match="convergence="):
         stress_check_report(r, convergence=3.0, picture=False, hot_spots=False, results=[])
+
+
+def test_equilibrium_of_a_symmetry_model_says_it_is_the_modelled_share():
+    # "Equilibrium of the whole plate" above 6 kN of a quarter model pulled with 12 kN in all: a
+    # checker comparing with the whole load found half of it
+    from planar.post.report import equilibrium_table
+
+    m = strip_model(50.0, 10.0, 10, 2, "Q8", hold=None, units="N, mm, MPa",
+                    loads={"pull": planar.Traction("right", tx=10.0)})
+    m.add_support(planar.Symmetry("left"))
+    m.add_support(planar.Roller("corner_00", fixed="y"))
+    r = planar.solve(m)["pull"]
+    cap = equilibrium_table(r).caption
+    assert "symmetry model" in cap and "'left'" in cap and "whole plate" not in cap
+    # P/A (common practice): the half strip carries 10 MPa x 10 mm x 2 mm = 200 N
+    assert abs(float(equilibrium_table(r).rows[0][1]) - 200.0) < 1e-9 * 200.0
+    assert "whole plate" in equilibrium_table(_strap()["pull"]).caption

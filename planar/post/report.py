@@ -94,8 +94,15 @@ def equilibrium_table(result) -> Table:
     err = result.equilibrium_error()
     status = "pass" if err < 1e-6 else "fail"
     rows.append(["relative equilibrium error (forces and moment)", "", "", f"{err:.2e}"])
+    from ..core.supports import Symmetry
+
+    lines = [getattr(s, "where", "") for s in getattr(getattr(result, "model", None), "supports", [])
+             if isinstance(s, Symmetry)]
+    what = "the whole plate" if not lines else (
+        f"the part modelled (a symmetry model, cut along {', '.join(repr(str(n)) for n in lines)}: the loads and "
+        "reactions are the modelled part's share, not the whole part's)")
     t = Table(["quantity", "applied loads", "reactions (supports and pins)", "sum"], rows,
-              caption=f"Equilibrium of the whole plate, load case '{result.case}': the reactions must "
+              caption=f"Equilibrium of {what}, load case '{result.case}': the reactions must "
                       f"balance the applied loads ({status}: relative error {err:.1e}, limit 1e-6).",
               numeric=[1, 2, 3])
     return t
