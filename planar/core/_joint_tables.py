@@ -308,6 +308,11 @@ def _bypass(nodes, rest, entry, P, F, d, axes):
     count = np.zeros(H, np.int64)
     span = max(float(np.ptp(nodes, axis=0).max()), 1e-300)
     eps = 1e-9 * span
+    # only the nodes with a force of their own or where the load enters weigh in the sums (the others add
+    # nothing), so each cut direction sorts those few and not the whole layer: groups of one fastener, each
+    # with its own direction, sorted the layer once each
+    keep = np.flatnonzero(np.any(rest != 0, axis=1) | entry)
+    nodes, rest, entry = nodes[keep], rest[keep], entry[keep]
     for k in np.unique(key):  # one sort per cut direction (usually one)
         sel = np.flatnonzero(key == k)
         nv = axes[sel[0]]
