@@ -324,3 +324,20 @@ def test_equilibrium_of_a_symmetry_model_says_it_is_the_modelled_share():
     # P/A (common practice): the half strip carries 10 MPa x 10 mm x 2 mm = 200 N
     assert abs(float(equilibrium_table(r).rows[0][1]) - 200.0) < 1e-9 * 200.0
     assert "whole plate" in equilibrium_table(_strap()["pull"]).caption
+
+
+class _Scaled:
+    """A callable sweep function object."""
+
+    def __init__(self, k):
+        self.k = k
+
+    def __call__(self, x):
+        return {"y": self.k * x}
+
+
+def test_function_digest_of_a_callable_object_follows_its_attributes():
+    from planar.studies.compute import function_digest
+
+    assert function_digest(_Scaled(1.0)) == function_digest(_Scaled(1.0))
+    assert function_digest(_Scaled(1.0)) != function_digest(_Scaled(2.0))

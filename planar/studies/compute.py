@@ -136,8 +136,12 @@ def _feed_function(fn, h, seen: set) -> None:
     import inspect
 
     code = getattr(fn, "__code__", None)
-    if code is None:  # a callable object: its class's name stands for it
+    if code is None:  # a callable object: its class, its __call__ and its plain attributes
         h.update(f"{type(fn).__module__}.{type(fn).__qualname__}".encode())
+        call = getattr(type(fn), "__call__", None)
+        if inspect.isfunction(call):
+            _feed_function(call, h, seen)
+        h.update(repr(_plain_repr(dict(sorted(getattr(fn, "__dict__", {}).items())))).encode())
         return
     if id(code) in seen:
         return
@@ -163,8 +167,9 @@ def function_digest(function) -> str:
     SHA-256 over the function's compiled code (its instructions, names and constants; not its
     file or line numbers), its default arguments, the plain module constants
     it reads (numbers, text, and tuples, lists and dicts of them) and, the same way, the functions
-    of its own module it calls. Editing any of them changes the fingerprint; helpers in other
-    modules, and data read from files, are not followed.
+    of its own module it calls (a callable object: its class's ``__call__`` and its plain
+    attributes). Editing any of them changes the fingerprint; helpers in other modules, and data
+    read from files, are not followed.
 
     Parameters
     ----------
