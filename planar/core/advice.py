@@ -16,7 +16,7 @@ Codes
     isotropic material. Plane stress never locks (the thickness is free).
 ``"slender"``
     A slender part (length / depth > 5) in bending, meshed with too few linear elements through its
-    depth: fewer than 6 T3, 4 Q4 (full rule), or 2 elements free of shear locking.
+    depth: fewer than 6 T3 or 4 Q4 (full rule); an element free of shear locking bends right with one.
 ``"units"``
     Displacements above 5 % of the part's size, mechanical strains above 2e-2 in one cell in a
     hundred, a modulus beyond any solid in the declared units, or (units not declared) a modulus of
