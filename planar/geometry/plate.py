@@ -36,6 +36,24 @@ from .shapes import Outline, Polygon, Rectangle, Shape, _check_name, _positive
 __all__ = ["Plate"]
 
 
+def _sdf_slack(shape: Shape) -> float:
+    """How many times the distance to ``shape`` its distance function may read low, away from it: 1 for a
+    circle, slot, rounded rectangle, and a shape of straight and circular sides (their distance is
+    exact); ``2 a / b`` for an ellipse (its first-order distance F / |grad F| reads down to b / 2a of the
+    distance outside it); NaN for any other shape (not known: always measured)."""
+    from ._curves import _Arc
+    from ._round import Circle, Ellipse, RoundedRectangle, Slot
+
+    kind = type(shape)
+    if kind._sdf in (Circle._sdf, Slot._sdf, RoundedRectangle._sdf):
+        return 1.0
+    if kind._sdf is Ellipse._sdf and isinstance(shape, Ellipse):
+        return 2.0 * max(shape.a, shape.b) / min(shape.a, shape.b)
+    if kind._sdf is Shape._sdf and all(isinstance(p, (_Line, _Arc)) for p in shape._pieces()):
+        return 1.0
+    return float("nan")
+
+
 @dataclass(frozen=True)
 class _Op:
     kind: str  # "union", "difference", "hole", "notch"
@@ -236,23 +254,44 @@ class Plate:
                 "name of its own"
             )
 
+    def _hole_table(self) -> tuple[list, np.ndarray]:
+        """(the hole operations in order, an (n, 5) array of their bounding boxes and how far each one's
+        distance function may read below the distance to it, :func:`_sdf_slack`), kept with the plate's
+        operations so a pattern of many holes is not scanned again for every new one."""
+        kept = self.__dict__.get("_holes_kept")
+        if kept is not None and kept[0] is self._ops:
+            return kept[1], kept[2]
+        holes = [op for op in self._ops if op.kind == "hole"]
+        table = np.array([[*op.shape.bounding_box(), _sdf_slack(op.shape)] for op in holes]).reshape(-1, 5)
+        self.__dict__["_holes_kept"] = (self._ops, holes, table)
+        return holes, table
+
     def _cut_one(self, shape: Shape) -> "Plate":
         if not isinstance(shape, Shape):
             raise InputError(f"a hole must be a shape (Circle, Ellipse, Slot, ...), got {type(shape).__name__}")
-        k = self._count("hole") + 1
+        all_holes, table = self._hole_table()
+        k = len(all_holes) + 1
         name = shape.name or f"hole_{k}"
         label = f"hole {name!r}" + (f" (hole {k})" if shape.name else "")
         self._check_own_name(name, "hole", label)
         tol = self._tol()
         pts = shape._samples()
         outer = self._sdf(pts, holes=False, symmetry=False)
-        holes = [op for op in self._ops if op.kind == "hole"]
+        # only the holes that come near this one can overlap or touch it, or be near enough to make it
+        # sampled finely: those whose bounding boxes lie farther apart than either distance function can
+        # read low (one batched test on the boxes) are left out; the others are measured one by one
+        box = shape.bounding_box()
+        slack = _sdf_slack(shape)
+        feat = shape._min_feature()
+        gap_box = np.hypot(np.maximum(0.0, np.maximum(table[:, 0] - box[2], box[0] - table[:, 2])),
+                           np.maximum(0.0, np.maximum(table[:, 1] - box[3], box[1] - table[:, 3])))
+        reach = 2.0 * np.maximum(np.maximum(table[:, 4] * max(tol, 0.1 * feat), slack * tol), 0.01 * feat) + tol
+        holes = [all_holes[i] for i in np.flatnonzero(~(gap_box > reach))]  # NaN (a slack not known): measured
         closest = [float(op.shape._sdf(pts).min()) for op in holes]  # each hole's least value on this one's edge
         gap = min([-float(outer.max())] + closest)
-        if 0.0 < gap < 0.1 * shape._min_feature():
+        if 0.0 < gap < 0.1 * feat:
             # a hole close to the edge or to another hole: sample it finely enough (the sag between
             # samples below the tolerance) to tell a thin ligament from a hole that touches at a point
-            feat = shape._min_feature()
             pts = np.vstack([p.sample(int(min(max(math.ceil(p.length / math.sqrt(8.0 * tol * feat)), 64),
                                                   200_000)) + 1)[:-1] for p in shape._pieces(name)])
             outer = self._sdf(pts, holes=False, symmetry=False)
@@ -275,7 +314,9 @@ class Plate:
                     "combined shape (an Outline) instead"
                 )
         op = _Op("hole", shape, tuple(shape._pieces(name)), label)
-        return self._copy(_ops=self._ops + (op,))
+        out = self._copy(_ops=self._ops + (op,))
+        out.__dict__["_holes_kept"] = (out._ops, all_holes + [op], np.vstack([table, [*box, slack]]))
+        return out
 
     def difference(self, shape: Shape, *, name: str | None = None) -> "Plate":
         """Remove ``shape`` from the plate; unlike :meth:`cut` it may cross the plate's edge.
