@@ -38,6 +38,13 @@ a peak is taken as one at a stress raiser, where linear elements under-read it, 
   fillet above is 4 % low at a fall of 21 %: a linear mesh refined enough to read the peak is not
   warned about.
 
+The rule misses a peak whose field does not fall across the node's cells: a ligament between two
+holes crossed by one or two linear elements is stressed almost evenly across, and its peak read 22 %
+low (T3, ligament 2 wide between holes of radius 10, elements of 2) with a fall of 6 %. Such peaks
+are judged by ``"coarse-peak"`` (:mod:`planar.core._advice_peak`), which for linear cells sets the
+cells' stresses at their own stress points against the recovered field and counts the elements
+across a ligament; where this rule holds that check leaves the peak to it (one warning per peak).
+
 The cost is that of a comparison over the corner connectivity of the blocks (to find the node's
 cells, about 1 ms at 10^6 unknowns of T3), and one median over the nodes only when the node sits
 in linear cells on a concave boundary with a steep fall (about 10 ms in all at 10^6 unknowns).

@@ -35,7 +35,8 @@ Codes
     A stress peak read by linear elements (T3, Q4, any degree-1 type) at a stress raiser: on a
     concave boundary (hole, fillet, notch, re-entrant corner), 1.5 times the median of the field or
     more, and falling by a fifth or more across the cells around it. Raised by the peak queries
-    through :func:`planar.core._advice_linear.linear_peak`, not by :func:`advise`.
+    through :func:`planar.core._advice_linear.linear_peak`, not by :func:`advise`. Linear peaks this
+    rule misses (a thin ligament stressed evenly across) are ``"coarse-peak"``'s.
 ``"sharp-corner"``
     A stress peak at, or one node off, a sharp re-entrant corner of the boundary (more than 195 degrees
     of material between the tangents of its sides, no radius): singular, so set by the mesh. Raised by
@@ -49,11 +50,14 @@ Codes
     rises by 5 % or more per tenfold refinement. Raised by the peak queries and the hot spots through
     :func:`planar.core._advice_interface.interface_edge_peak`.
 ``"coarse-peak"``
-    A stress peak read by quadratic (or higher) elements that the mesh does not resolve where it sits:
+    A stress peak that the mesh does not resolve where it sits: with quadratic (or higher) elements
     the cells round the peak node disagree with the recovered field by 12 % of the peak or more (a
     local recovery error indicator; on a pin-loaded hole with a dozen element sides, or one element
-    across a thin ligament, the peak reads 25-40 % low). Not judged at a sharp corner, an interface
-    edge, next to an idealised support or load, nor for linear cells (``"linear-peak"``). Raised by
+    across a thin ligament, the peak reads 25-40 % low); with linear elements (T3, Q4) their stresses
+    at their own stress points differ on average from the recovered field by 3 % of the peak or more,
+    or the peak sits on a ligament crossed by fewer than 1.5 of them (measured 4-52 % low). Not judged
+    at a sharp corner, an interface edge, next to an idealised support or load, nor where
+    ``"linear-peak"`` already holds. Raised by
     the peak queries, the hot spots and the lug check through
     :func:`planar.core._advice_peak.coarse_peak`; the hot-spot and lug tables show it.
 
