@@ -91,6 +91,19 @@ def _say_override(args, changed: str) -> None:
               "--units asks (the numbers are not converted)", file=sys.stderr)
 
 
+def _points_in(path) -> int:
+    """The points of a .vtu file from its head (0 when it does not say), to announce a long drawing."""
+    import re
+
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(1 << 16)
+    except OSError:
+        return 0
+    m = re.search(rb'NumberOfPoints="(\d+)"', head)
+    return int(m.group(1)) if m else 0
+
+
 def _show_file(args) -> int:
     from ..core.units import figure_units
     from ..post.plots import MAX_LEVELS, plot_vtu, vtu_fields
@@ -122,8 +135,11 @@ def _show_file(args) -> int:
         _say_override(args, changed)
     if args.scale is not None and args.scale < 0:
         raise InputError(f"--scale must not be negative, got {args.scale:g}")
-    plot_vtu(args.result, args.field, png=png, units=args.units or None, deformed=not args.undeformed,
-             scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands,
-             changed=changed)
+    from ..core.progress import step
+
+    with step(f"drawing {png.name}", 2 * _points_in(args.result)):  # announced for a large file, timed if long
+        plot_vtu(args.result, args.field, png=png, units=args.units or None, deformed=not args.undeformed,
+                 scale="auto" if args.scale is None else args.scale, mesh_lines=args.mesh, levels=args.bands,
+                 changed=changed)
     print(f"wrote {png}")
     return 0
