@@ -88,7 +88,9 @@ class Fasteners:
         published formula (:func:`planar.core.fastener_flexibility.fastener_compliance`, e.g.
         ``"huth"``), evaluated for each fastener from the joined layers' thicknesses and moduli. In
         double shear (three layers, the middle one between two outer ones) each of the two springs
-        is one shear plane: the formula's fastener compliance times two. An orthotropic layer's
+        is one shear plane: the formula's fastener compliance times two; a number is each spring's
+        compliance as given (``shear`` does not change it), so for a double-shear fastener whose whole
+        compliance (slip per whole load) is ``C``, give ``2 C``. An orthotropic layer's
         modulus in a formula is the one along the layer's load direction (its own loads', else the
         joint's), with its fibre angle; the fastener table states it.
     kind : {"bolt", "rivet", "composite-bolt"}
