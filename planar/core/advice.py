@@ -54,8 +54,9 @@ Codes
     the cells round the peak node disagree with the recovered field by 12 % of the peak or more (a
     local recovery error indicator; on a pin-loaded hole with a dozen element sides, or one element
     across a thin ligament, the peak reads 25-40 % low); with linear elements (T3, Q4), at a concave
-    stretch of the boundary (hole, fillet, notch, ligament), their stresses at their own stress points differ on average from the recovered field by 3 % of the peak or more,
-    or the peak sits on a ligament crossed by fewer than 1.5 of them (measured 4-52 % low). Not judged
+    stretch of the boundary (hole, fillet, notch, ligament), their stresses at their own stress points
+    differ on average from the recovered field by 3 % of the peak or more, or the peak sits on a
+    ligament crossed by fewer than 1.5 of them (measured 4-52 % low). Not judged
     at a sharp corner, an interface edge, next to an idealised support or load, nor where
     ``"linear-peak"`` already holds. Raised by
     the peak queries, the hot spots and the lug check through
