@@ -268,17 +268,19 @@ def test_no_edge_warning_for_a_hole_inside_tangent_to_the_edge_or_on_a_symmetry_
 
 def test_row_normal_by_hand():
     # hand geometry: a 2 x 2 square group pulled 10 degrees off x has its rows across x (normal (1, 0)); a
-    # single line of fasteners along the load keeps the load's direction (each fastener its own row); a
-    # line at 45 degrees to the load is taken as the row (the bound is inclusive, whatever the round-off)
+    # single line of fasteners along the load keeps the load's direction (each fastener its own row), and so
+    # do a line at 45 degrees and a zig-zag line along the load (no line under 45 degrees to the load's normal)
     from planar.core._joint_tables import _row_normal
 
-    square = np.array([(0.0, 0.0), (0.0, 30.0), (20.0, 0.0), (20.0, 30.0)])
+    square = np.array([(0.0, 0.0), (0.0, 30.0), (20.0, 0.0), (20.0, 30.0)])  # rows 20 apart, 30 across
     tilt = np.array([np.cos(np.radians(10.0)), np.sin(np.radians(10.0))])
     assert _row_normal(square, tilt).tolist() == [1.0, 0.0]
     line = np.array([(0.0, 0.0), (20.0, 0.0), (40.0, 0.0)])
     assert _row_normal(line, tilt).tolist() == tilt.tolist()
-    diagonal = np.array([(0.0, 0.0), (20.0, 20.0), (40.0, 40.0)])
-    assert np.allclose(_row_normal(diagonal, np.array([1.0, 0.0])), [np.sqrt(0.5), -np.sqrt(0.5)], rtol=0, atol=1e-15)
+    x = np.array([1.0, 0.0])
+    for line in (np.array([(0.0, 0.0), (20.0, 20.0), (40.0, 40.0)]),
+                 np.array([(0.0, -10.0), (10.0, 0.0), (20.0, -10.0), (30.0, 0.0)])):
+        assert _row_normal(line, x).tolist() == [1.0, 0.0]
 
 
 def test_a_bearing_contact_pin_of_a_layer_is_refused_by_the_joint():

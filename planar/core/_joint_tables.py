@@ -5,7 +5,7 @@ along the group's row of holes most nearly square to the principal direction of 
 passes into that layer in the load case (the axis of the largest eigenvalue of ``sum F F^T`` over the
 group's ends: a line, not an arrow, so reversing or scaling the load keeps the cut; where the loads
 have no principal direction, the x axis): the rows are the lines from each fastener to its nearest
-neighbours, and the one whose normal is within :data:`ROW_ANGLE` of that axis is taken, so a load a
+neighbours, and the one whose normal is under :data:`ROW_ANGLE` from that axis is taken, so a load a
 little off the rows keeps the cut on the line of holes (:func:`_row_normal`); with none (one fastener,
 or a single line of fasteners along the load), the cut is square to the axis. A row's holes share one
 cut. The free body read is the layer on one side of the
@@ -254,9 +254,9 @@ def _axis(F: np.ndarray) -> np.ndarray:
     return n if n[0] > 0 else -n
 
 
-#: the largest angle between the load's principal direction and a row's normal for the row to be taken as
-#: the line of holes across the load (beyond it, as for a single line of fasteners along the load, the
-#: load's direction is kept)
+#: the angle between the load's principal direction and a row's normal below which the row is taken as the
+#: line of holes across the load (at or beyond it, as for a single line of fasteners along the load or
+#: a zig-zag line at 45 degrees, the load's direction is kept)
 ROW_ANGLE = 45.0
 
 
@@ -264,7 +264,7 @@ def _row_normal(points: np.ndarray, axis: np.ndarray) -> np.ndarray:
     """The normal of the group's row of holes most nearly square to the load's principal direction ``axis``.
 
     The candidate rows are the lines from each fastener to its nearest neighbours (up to eight) in the
-    group; the one whose normal is closest to ``axis`` is taken, when within :data:`ROW_ANGLE`, so the
+    group; the one whose normal is closest to ``axis`` is taken, when under :data:`ROW_ANGLE`, so the
     cuts and rows run along the lines of holes as laid out, not across them at the small angle a
     transverse part of the load gives (a tilted cut misses the other holes of the row and splits it).
     A group of one fastener, or with no line within the angle, keeps ``axis``. The sense is fixed as
@@ -286,7 +286,7 @@ def _row_normal(points: np.ndarray, axis: np.ndarray) -> np.ndarray:
     n = np.column_stack([-v[:, 1], v[:, 0]])
     fit = np.abs(n @ axis)
     best = int(np.argmax(fit))
-    if fit[best] < np.cos(np.radians(ROW_ANGLE)) - 1e-9:  # a line at 45 degrees to round-off is a row
+    if fit[best] <= np.cos(np.radians(ROW_ANGLE)) + 1e-9:  # a line at 45 degrees (a zig-zag's) is no row
         return axis
     nb = n[best]
     if abs(nb[0]) <= 1e-9:
