@@ -106,3 +106,20 @@ def test_the_box_test_leaves_out_no_hole_that_matters(monkeypatch, seed):
         every = outcomes(start)
     assert picked == every
     assert "cut" in picked and any("overlaps or touches" in s for s in picked)  # both outcomes covered
+
+
+def test_the_distance_function_is_the_operations_one_by_one():
+    # the plate's distance function, round holes taken as one array, against the operations applied one
+    # at a time (constructive solid geometry: a hole takes the larger of the two values, a union the smaller)
+    plate = (Plate.rectangle(200.0, 100.0).cut(Circle((0.0, 0.0), 2.0), at=_pattern(4, 2))
+             .cut(Ellipse((30.0, 50.0), 6.0, 3.0)).cut(Circle((60.0, 50.0), 5.0), Circle((80.0, 50.0), 5.0))
+             .union(RoundedRectangle((200.0, 50.0), 40.0, 30.0, 5.0)).cut(Circle((205.0, 50.0), 4.0)))
+    pts = np.random.default_rng(7).uniform((-10.0, -10.0), (230.0, 110.0), size=(5000, 2))
+    for holes in (True, False):
+        ref = plate._base._sdf(pts)
+        for op in plate._ops:
+            if op.kind == "union":
+                ref = np.minimum(ref, op.shape._sdf(pts))
+            elif holes or op.kind != "hole":
+                ref = np.maximum(ref, -op.shape._sdf(pts))
+        assert np.array_equal(plate._sdf(pts, holes=holes), ref)

@@ -1,4 +1,5 @@
-"""Helpers of the plate recipe on boundary pieces: sampling, scales, unions' names and fillet corners."""
+"""Helpers of the plate recipe: sampling of boundary pieces, scales, unions' names, fillet corners, and the
+shapes' distance functions as the plate's checks use them."""
 from __future__ import annotations
 
 import math
@@ -8,6 +9,66 @@ import numpy as np
 from ..core.errors import GeometryError
 from ._curves import _Arc, _as_point, _Line
 from .shapes import Outline, Polygon, Shape, _fmt
+
+
+def _sdf_slack(shape: Shape) -> float:
+    """How many times the distance to ``shape`` its distance function may read low, away from it: 1 for a
+    circle, slot, rounded rectangle, and a shape of straight and circular sides (their distance is
+    exact); ``2 a / b`` for an ellipse (its first-order distance F / |grad F| reads down to b / 2a of the
+    distance outside it); NaN for any other shape (not known: always measured)."""
+    from ._round import Circle, Ellipse, RoundedRectangle, Slot
+
+    kind = type(shape)
+    if kind._sdf in (Circle._sdf, Slot._sdf, RoundedRectangle._sdf):
+        return 1.0
+    if kind._sdf is Ellipse._sdf and isinstance(shape, Ellipse):
+        return 2.0 * max(shape.a, shape.b) / min(shape.a, shape.b)
+    if kind._sdf is Shape._sdf and all(isinstance(p, (_Line, _Arc)) for p in shape._pieces()):
+        return 1.0
+    return float("nan")
+
+
+def _circles_sdf(table: np.ndarray):
+    """The least of the distance functions of the circles ``table`` (k, 3: x, y, radius) at points, as
+    one array operation (the points taken a block at a time, to bound the memory): each value as
+    :meth:`Circle._sdf` gives it."""
+    cx, cy, r = table[:, 0], table[:, 1], table[:, 2]
+
+    def least(pts: np.ndarray) -> np.ndarray:
+        out = np.empty(pts.shape[0])
+        step = max(1, 2_000_000 // len(r))
+        for i in range(0, pts.shape[0], step):
+            p = pts[i:i + step]
+            out[i:i + step] = (np.hypot(p[:, 0, None] - cx, p[:, 1, None] - cy) - r).min(axis=1)
+        return out
+
+    return least
+
+
+def _csg_steps(ops) -> list:
+    """The plate's operations for its distance function: (kind, whether a hole, the shape's distance
+    function), with each run of two or more round holes one after another made one step
+    (:func:`_circles_sdf`), so a pattern of many holes is one array operation, not one per hole."""
+    from ._round import Circle
+
+    steps: list = []
+    run: list = []
+
+    def close():
+        if len(run) == 1:
+            steps.append(("hole", True, run[0]._sdf))
+        elif run:
+            steps.append(("hole", True, _circles_sdf(np.array([[*c.centre, c.radius] for c in run], float))))
+        run.clear()
+
+    for op in ops:
+        if op.kind == "hole" and type(op.shape) is Circle:
+            run.append(op.shape)
+            continue
+        close()
+        steps.append((op.kind, op.kind == "hole", op.shape._sdf))
+    close()
+    return steps
 
 
 def _samples_of(pieces, per_piece: int | None = None) -> np.ndarray:

@@ -29,29 +29,11 @@ import numpy as np
 from ..core.errors import GeometryError, InputError, unknown_name
 from ._curves import _as_point, _AxisLine, _Line, _pieces_distance
 from ._tolerance import REL_TOL
-from ._plate_pieces import (_fillet_corner, _is_name_pair, _is_point_like, _named_as_union,  # noqa: F401
-                            _piece_scale, _samples_of)
+from ._plate_pieces import (_csg_steps, _fillet_corner, _is_name_pair, _is_point_like,  # noqa: F401
+                            _named_as_union, _piece_scale, _samples_of, _sdf_slack)
 from .shapes import Outline, Polygon, Rectangle, Shape, _check_name, _positive
 
 __all__ = ["Plate"]
-
-
-def _sdf_slack(shape: Shape) -> float:
-    """How many times the distance to ``shape`` its distance function may read low, away from it: 1 for a
-    circle, slot, rounded rectangle, and a shape of straight and circular sides (their distance is
-    exact); ``2 a / b`` for an ellipse (its first-order distance F / |grad F| reads down to b / 2a of the
-    distance outside it); NaN for any other shape (not known: always measured)."""
-    from ._curves import _Arc
-    from ._round import Circle, Ellipse, RoundedRectangle, Slot
-
-    kind = type(shape)
-    if kind._sdf in (Circle._sdf, Slot._sdf, RoundedRectangle._sdf):
-        return 1.0
-    if kind._sdf is Ellipse._sdf and isinstance(shape, Ellipse):
-        return 2.0 * max(shape.a, shape.b) / min(shape.a, shape.b)
-    if kind._sdf is Shape._sdf and all(isinstance(p, (_Line, _Arc)) for p in shape._pieces()):
-        return 1.0
-    return float("nan")
 
 
 @dataclass(frozen=True)
@@ -161,11 +143,14 @@ class Plate:
         """Signed distance-like value of the plate (negative inside), by constructive solid geometry."""
         pts = np.atleast_2d(np.asarray(pts, float))
         s = self._base._sdf(pts)
-        for op in self._ops:
-            if op.kind == "union":
-                s = np.minimum(s, op.shape._sdf(pts))
-            elif holes or op.kind != "hole":
-                s = np.maximum(s, -op.shape._sdf(pts))
+        kept = self.__dict__.get("_csg_kept")
+        if kept is None or kept[0] is not self._ops:  # the operations, runs of round holes as one array
+            kept = self.__dict__["_csg_kept"] = (self._ops, _csg_steps(self._ops))
+        for kind, hole, step in kept[1]:
+            if kind == "union":
+                s = np.minimum(s, step(pts))
+            elif holes or not hole:
+                s = np.maximum(s, -step(pts))
         if symmetry:
             for axis, at, sign in self._keep:
                 s = np.maximum(s, sign * (at - pts[:, axis]))
