@@ -42,6 +42,47 @@ def cell_graph(n: int, blocks: Sequence[np.ndarray]):
     return pairs_graph(n, np.concatenate(rows), np.concatenate(cols))
 
 
+def rises_to(g, v: np.ndarray, start: int, floor: float, top: float, stop: np.ndarray) -> tuple[bool, int]:
+    """Whether the nodes reachable from ``start`` without going below ``floor`` include one above ``top``
+    or one of ``stop`` (a mask); else, how many they are.
+
+    A breadth-first search over the sparse graph, a level at a time (each level vectorized), that ends
+    at the first such node: the same answer as the connected component of the nodes at or above
+    ``floor`` that holds ``start``, without building that subgraph (which costs a pass over the
+    whole mesh for each peak).
+
+    Returns
+    -------
+    (bool, int)
+        True and the nodes seen so far when such a node is reached; False and the size of the
+        component otherwise.
+    """
+    if stop[start]:
+        return True, 1
+    indptr, indices = g.indptr, g.indices
+    seen = np.zeros(g.shape[0], dtype=bool)
+    seen[start] = True
+    frontier = np.array([start], dtype=np.int64)
+    count = 1
+    while frontier.size:
+        first, lens = indptr[frontier], indptr[frontier + 1] - indptr[frontier]
+        total = int(lens.sum())
+        if total == 0:
+            break
+        at = np.repeat(first - np.cumsum(lens) + lens, lens) + np.arange(total)
+        nb = indices[at]
+        nb = np.unique(nb[~seen[nb]])
+        nb = nb[v[nb] >= floor]
+        if nb.size == 0:
+            break
+        seen[nb] = True
+        count += nb.size
+        if (v[nb] > top).any() or stop[nb].any():
+            return True, count
+        frontier = nb
+    return False, count
+
+
 def mesh_graph(mesh):
     g = getattr(mesh, "_planarcell_graph", None)
     if g is None or g.shape[0] != mesh.n_nodes:

@@ -66,7 +66,7 @@ from ..core.errors import InputError, fmt_point, unknown_name
 from ..core.fields import FIELD_TABLE
 from ..core.result import POLAR_FIELDS, STRESS_FIELDS, as_result
 from ..core.values import number
-from ._peaks import cell_graph, chain_maxima, edge_chains, mesh_graph, neighbour_max
+from ._peaks import cell_graph, chain_maxima, edge_chains, mesh_graph, neighbour_max, rises_to
 
 __all__ = ["HotSpot", "HotSpots", "hot_spots", "plot_hot_spots", "hot_spot_section", "PROMINENCE", "FLOOR",
            "MERGE_ELEMENTS", "TWIN"]
@@ -440,6 +440,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
     part_size = np.bincount(part)
     h = node_sizes(mesh)
     kept: list[int] = []          # candidate indices kept
+    kept_mask = np.zeros(n, dtype=bool)  # their nodes
     twins: dict[int, list[int]] = {}
     for c in order:  # one pass per candidate maximum (a few dozen), each a vectorized sparse search
         i = int(nodes[c])
@@ -449,16 +450,12 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
             near = d <= merge * np.maximum(h[k_nodes], h[i]) * (1 + 1e-9)
             if near.any():
                 continue
-        sub = np.flatnonzero(v >= v[i] - delta)
-        _, lab = connected_components(graph[sub][:, sub], directed=False)
-        comp = sub[lab == lab[np.searchsorted(sub, i)]]
-        twin_of = None
-        if kept:
-            hit = np.flatnonzero(np.isin(nodes[kept], comp))
-            if hit.size:  # a kept (higher) spot reachable without descending delta: the same peak
-                continue
-        if v[comp].max() > v[i] + tol or comp.size >= part_size[part[i]]:
+        # a kept (higher) spot, or a higher node, reachable without descending delta: the same peak or
+        # not a peak; the component of the part above v[i] - delta searched from i only as far as needed
+        higher, size = rises_to(graph, v, i, v[i] - delta, v[i] + tol, kept_mask)
+        if higher or size >= part_size[part[i]]:
             continue
+        twin_of = None
         for k in kept:
             if piece[k] == piece[c] and v[i] >= v[nodes[k]] - TWIN * abs(v[nodes[k]]):
                 twin_of = k
@@ -467,6 +464,7 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
             twins.setdefault(twin_of, []).append(i)
             continue
         kept.append(int(c))
+        kept_mask[i] = True
 
     # -- zone, rank, Kt, margin, flag ----------------------------------------------------------
     if keep_mask is not None:
