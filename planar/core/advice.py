@@ -15,7 +15,7 @@ Codes
     terms. Nearly incompressible: bulk-to-shear ratio 1 / (1 - 2 nu) >= 25, nu >= 0.48 for an
     isotropic material. Plane stress never locks (the thickness is free).
 ``"slender"``
-    A slender part (length / depth > 5) in bending, meshed with too few linear elements through its
+    A slender part (length / depth > 2) in bending, meshed with too few linear elements through its
     depth: fewer than 6 T3 or 4 Q4 (full rule); an element free of shear locking bends right with one.
 ``"units"``
     Displacements above 5 % of the part's size, mechanical strains above 2e-2 in one cell in a
