@@ -273,25 +273,36 @@ class Assembly:
         return [_BlockView(b, self.mesh.nodes) for b in self.blocks if region is None or b.region == region]
 
     # ------------------------------------------------------------------ edges
+    def _cell_edges(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Every cell side of the mesh, sorted once per assembly for the named edges' lookups (a joint
+        with hundreds of modelled holes asks for each): (sorted keys min * n + max of its end nodes, the
+        order that sorts them, each side's nodes in its cell's order, -1 padded, and its cell's block)."""
+        got = getattr(self, "_cell_edge_index", None)
+        if got is not None:
+            return got
+        n = self.mesh.n_nodes
+        keys, owner_nodes, owner_b = [], [], []
+        for i, b in enumerate(self.blocks):
+            ed = b.etype.edges  # (ne, 2|3)
+            cn = b.conn[:, ed]  # (e, ne, 2|3)
+            a, c = cn[..., 0].astype(np.int64), cn[..., 1].astype(np.int64)
+            keys.append((np.minimum(a, c) * n + np.maximum(a, c)).ravel())
+            owner_nodes.append(cn.reshape(-1, ed.shape[1]).astype(np.int32))
+            owner_b.append(np.full(cn.shape[0] * cn.shape[1], i, dtype=np.int32))
+        keys = np.concatenate(keys)
+        width = max(o.shape[1] for o in owner_nodes)
+        owner = np.vstack([np.pad(o, ((0, 0), (0, width - o.shape[1])), constant_values=-1) for o in owner_nodes])
+        block = np.concatenate(owner_b)
+        order = np.argsort(keys, kind="stable")
+        self._cell_edge_index = (keys[order], order, owner, block)
+        return self._cell_edge_index
+
     def _edge_geometry(self, name: str) -> EdgeGeometry:
         if name in self._edge_cache:
             return self._edge_cache[name]
         seg = self.mesh.edge(name)
         n = self.mesh.n_nodes
-        keys, owner_nodes, owner_t = [], [], []
-        for b in self.blocks:
-            ed = b.etype.edges  # (ne, 2|3)
-            cn = b.conn[:, ed]  # (e, ne, 2|3)
-            a, c = cn[..., 0].astype(np.int64), cn[..., 1].astype(np.int64)
-            keys.append((np.minimum(a, c) * n + np.maximum(a, c)).ravel())
-            owner_nodes.append(cn.reshape(-1, ed.shape[1]))
-            owner_t.append(np.full(cn.shape[0] * cn.shape[1], b.thickness))
-        keys = np.concatenate(keys)
-        width = max(o.shape[1] for o in owner_nodes)
-        owner = np.vstack([np.pad(o, ((0, 0), (0, width - o.shape[1])), constant_values=-1) for o in owner_nodes])
-        thick = np.concatenate(owner_t)
-        order = np.argsort(keys, kind="stable")
-        ks = keys[order]
+        ks, order, owner, block = self._cell_edges()
         a, c = seg[:, 0].astype(np.int64), seg[:, 1].astype(np.int64)
         want = np.minimum(a, c) * n + np.maximum(a, c)
         pos = np.searchsorted(ks, want)
@@ -304,10 +315,11 @@ class Assembly:
                 f"{fmt_point(self.mesh.nodes[seg[bad[0], 0]])}); the edge set does not belong to this mesh"
             )
         idx = order[pos]
-        nodes = owner[idx][:, : seg.shape[1]]
+        nodes = owner[idx][:, : seg.shape[1]].astype(np.int64)
         if seg.shape[1] != nodes.shape[1] or np.any(nodes < 0):
             raise MeshError(f"edge set {name!r} has {seg.shape[1]} nodes per segment but the cells it bounds have other edges")
-        eg = EdgeGeometry(name, nodes, self.mesh.nodes[nodes], thick[idx])
+        thick = np.array([float(b.thickness) for b in self.blocks])[block[idx]]
+        eg = EdgeGeometry(name, nodes, self.mesh.nodes[nodes], thick)
         self._edge_cache[name] = eg
         return eg
 
