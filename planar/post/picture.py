@@ -158,11 +158,14 @@ def _draw_outline(sc: _Scene) -> None:
     from ._outline import outline_path
 
     suffix = f":{sc.layer}" if sc.layer else ""
-    path = outline_path(sc.outline, sc.mesh.nodes) if sc.layer else None
-    if path is not None:  # a translucent layer: one filled path (its cells' seams would show through)
+    # one filled path of the outline, holes open: a translucent layer's cells would show their seams, and
+    # an opaque part drawn cell by cell costs a polygon per drawn triangle (seconds on a fine mesh)
+    path = outline_path(sc.outline, sc.mesh.nodes)
+    if path is not None:
         from matplotlib.patches import PathPatch
 
-        fill = PathPatch(path, facecolor="#c9d3dd", edgecolor="none", alpha=0.45, zorder=0)
+        fill = PathPatch(path, facecolor="#c9d3dd" if sc.layer else "#eceff2", edgecolor="none",
+                         alpha=0.45 if sc.layer else 1.0, zorder=0)
     else:
         pts, tris, _, _ = subdivide(sc.mesh.nodes, {k: v for k, v in sc.mesh.cells.items() if np.asarray(v).size},
                                     subdivisions=2)
