@@ -4,6 +4,7 @@ Each test failed before its fix. Sources of the numerical checks are named besid
 """
 from __future__ import annotations
 
+import contextlib
 import re
 import sys
 
@@ -409,3 +410,33 @@ def test_model_picture_fills_the_part_once_holes_open():
 
     assert tuple(colour(30.0, 10.0)) == (255, 255, 255)          # the hole is open
     assert tuple(colour(45.0, 5.0)) == (0xEC, 0xEF, 0xF2)        # the part is filled
+
+
+@pytest.mark.parametrize("radius", [None, 6.0])
+def test_hot_spot_at_a_sharp_corner_is_marked_singular(radius):
+    # the spot at a sharp re-entrant corner was "governing" with a margin, no word in its row or tile
+    # that its value is the mesh's (the elastic stress there is unbounded: M. L. Williams, "Stress
+    # singularities resulting from various boundary conditions in angular corners of plates in
+    # extension", J. Appl. Mech. 19, 1952; from memory); a filleted corner is not singular
+    from planar.geometry import Plate, Refine, mesh
+    from planar.post import hot_spots
+
+    p = Plate.polygon([(0, 0), (120, 0), (120, 25), (30, 25), (30, 80), (0, 80)],
+                      names=["base", "tip", "upper", "inner", "top", "back"])
+    if radius:
+        p = p.fillet((30, 25), radius=radius, name="root")
+    m = mesh(p, size=5.0, element="T6", refine=[Refine(["upper", "inner"], size=1.0)])
+    model = planar.Model(m, planar.Isotropic(205e3, 0.29), thickness=5.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("top"))
+    model.add_load(planar.Traction("tip", ty=-8.0), case="down")
+    r = planar.solve(model)["down"]
+    with pytest.warns(planar.DiscretisationWarning) if radius is None else contextlib.nullcontext():
+        hs = hot_spots(r, allowable=250.0)
+    corner = min(hs.spots, key=lambda s: np.hypot(s.location[0] - 30.0, s.location[1] - 25.0))
+    assert np.hypot(corner.location[0] - 30.0, corner.location[1] - 25.0) < (1.0 if radius is None else 8.0)
+    if radius is None:
+        assert corner.singular == "sharp-corner"
+        text = render_html(stress_check_report(r, hot_spots=hs, picture=False, results=[]))
+        assert "singular point (sharp-corner)" in text
+    else:
+        assert corner.singular == ""

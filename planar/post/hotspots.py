@@ -126,13 +126,16 @@ class HotSpot:
     also: tuple = ()
     #: set when the mesh does not resolve this peak (the ``"coarse-peak"`` warning, short)
     mesh_note: str = ""
+    #: the code of the singular point the spot sits at (``"sharp-corner"``, ``"interface-edge"``): its
+    #: elastic stress is unbounded, so its value is set by the mesh
+    singular: str = ""
 
     def as_dict(self) -> dict[str, Any]:
         return {"rank": self.rank, "feature": self.feature, "kind": self.kind,
                 "x": self.location[0], "y": self.location[1], "node": self.node, "value": self.value,
                 "kt": self.Kt, "margin_of_safety": self.margin, "flagged": self.flagged,
                 "next_to": self.next_to, "reason": self.reason, "also": [list(p) for p in self.also],
-                "mesh_note": self.mesh_note}
+                "mesh_note": self.mesh_note, "singular": self.singular}
 
 
 def _g(v: float | None, spec: str = ".4g") -> str:
@@ -213,6 +216,8 @@ class HotSpots:
                 remark = "; ".join(filter(None, ["governing", remark]))
             if s.mesh_note:
                 remark = "; ".join(filter(None, [remark, "COARSE MESH: refine (coarse-peak)"]))
+            if s.singular:
+                remark = "; ".join(filter(None, [remark, f"SINGULAR: value set by the mesh ({s.singular})"]))
             row.append(remark)
             rows.append(row)
         title = f"hot spots of {self.field} ({self.recovery} recovery), load case {self.case!r}" + \
@@ -508,9 +513,30 @@ def hot_spots(result, field: str = "von_mises", *, recovery: str = "spr", nomina
         # a spot made by an idealisation is not refined away; the others: is the mesh fine enough there?
         mesh_note = "" if reason else coarse_peak(result, i, field, raw, centre=centre, stacklevel=3)
         spots.append(HotSpot(r + 1, str(feats[k]), str(kinds[k]), _at(mesh, i), i, value, kt_, ms, bool(reason),
-                             reason, next_to, also, mesh_note))
+                             reason, next_to, also, mesh_note, _singular(result, i, field)))
     return HotSpots(spots, field, recovery, result.case, unit, length, nom, allow, fs, said, float(delta), rule,
                     result, None if centre is None else tuple(float(c) for c in centre))
+
+
+#: the singular points a spot may sit at, in words
+_SINGULAR = {"sharp-corner": "a sharp re-entrant corner with no radius",
+             "interface-edge": "where an interface between regions of different stiffness meets a free edge"}
+
+
+def _singular(result, node: int, field: str) -> str:
+    """The code of the singular point at ``node`` (a sharp re-entrant corner, an interface meeting a free
+    edge), or "" (and "" for a field that is not a stress)."""
+    from ..core._advice_corner import sharp_corner_near
+    from ..core._advice_interface import interface_edge_near
+    from ..core._advice_node import is_stress
+
+    if not is_stress(field):
+        return ""
+    if sharp_corner_near(result, node) is not None:
+        return "sharp-corner"
+    if interface_edge_near(result, node) is not None:
+        return "interface-edge"
+    return ""
 
 
 def _at(mesh, i: int) -> tuple[float, float]:
@@ -634,6 +660,8 @@ def hot_spot_section(hs: HotSpots, *, figure: bytes | str | os.PathLike | None =
     for s in hs.spots:
         remark = f"next to {s.next_to}: made by the idealisation" if s.flagged else \
             ("governing" if s is gov else "")
+        if s.singular:
+            remark = "; ".join(filter(None, [remark, f"singular point ({s.singular}): its value is set by the mesh"]))
         rows.append([str(s.rank), f"{s.feature} ({s.kind})", fmt_point(s.location), f"{s.value:.5g}",
                      _g(s.Kt), _g(s.margin, "+.3f"), remark])
     caption = (f"Local peaks of {hs.field} ({hs.recovery} recovery) along the named edges and inside the regions, "
@@ -650,6 +678,12 @@ def hot_spot_section(hs: HotSpots, *, figure: bytes | str | os.PathLike | None =
     coarse = [s for s in hs.spots if s.mesh_note]
     if coarse:
         blocks.append(Notice([f"Spot {s.rank} ({s.feature}): {s.mesh_note}." for s in coarse], kind="caution"))
+    singular = [s for s in hs.spots if s.singular]
+    if singular:
+        blocks.append(Notice([f"Spot {s.rank} ({s.feature}) sits at a singular point ({s.singular}: "
+                              f"{_SINGULAR.get(s.singular, s.singular)}): the elastic stress there has no finite "
+                              "value, so the figure is the mesh's and grows as it is refined; see the warnings "
+                              "for where to read the stress instead." for s in singular], kind="caution"))
     if figure is not None:
         blocks.append(Figure(figure, "Hot spots: numbered markers; grey squares are flagged spots."))
     return Section("Hot spots", blocks)

@@ -231,6 +231,8 @@ def _tiles(result, hs, field, recovery, nominal, allowable, factor_of_safety) ->
         detail = f"{first.feature}, at {_pt(first.location, length)}"
         if first.flagged:
             detail += f"; made by the idealisation next to it ({first.next_to})"
+        if getattr(first, "singular", ""):
+            detail += f"; at a singular point ({first.singular}): the value is set by the mesh, see the warnings"
         tiles.append((f"governing {word}" if gov is not None else f"highest {word} (every spot flagged)",
                       f"{_v(first.value)}{u}", detail, ""))
         if first.Kt is not None:
