@@ -440,3 +440,16 @@ def test_hot_spot_at_a_sharp_corner_is_marked_singular(radius):
         assert "singular point (sharp-corner)" in text
     else:
         assert corner.singular == ""
+
+
+def test_sweep_cli_refuses_a_parameter_or_output_given_twice(tmp_path, capsys):
+    # "--param d=8 --param d=9" swept d = 9 alone, and two outputs of one name kept the last, both
+    # without a word
+    from planar.cli import main
+
+    args = ["sweep", "planar.studies:example_strap", "--out", str(tmp_path), "--workers", "0"]
+    assert main(args + ["-p", "width=20", "-p", "width=30"]) == 2
+    assert "given twice" in capsys.readouterr().err
+    assert main(args + ["-p", "width=20", "-o", "s=max:von_mises", "-o", "s=min:von_mises"]) == 2
+    assert "two outputs are named 's'" in capsys.readouterr().err
+    assert not (tmp_path / "sweep.csv").exists()

@@ -98,7 +98,13 @@ def run(args: argparse.Namespace) -> int:
             raise InputError(f"points file {args.points!r} must hold a JSON list of objects")
         kw = {"points": pts}
     elif args.param:
-        axes = dict(_parse_param(t) for t in args.param)
+        axes, given = {}, {}
+        for t in args.param:
+            name, values = _parse_param(t)
+            if name in axes:  # a second --param of the same name would replace the first without a word
+                raise InputError(f"parameter {name!r} is given twice (--param {given[name]} and --param {t}); give "
+                                 f"all its values in one: --param {name}=V1,V2,... or {name}=START:STOP:COUNT")
+            axes[name], given[name] = values, t
         kw = {"grid": axes}
     else:
         raise InputError("give the parameters to sweep with --param NAME=START:STOP:COUNT (or --points FILE.json)")
@@ -107,6 +113,8 @@ def run(args: argparse.Namespace) -> int:
         name, sep, spec = t.partition("=")
         if not sep:
             spec, name = t, "_".join(t.replace(":", "_").replace("@", "_").replace(",", "_").split())
+        if name.strip() in outputs:  # a second output of the same name would replace the first without a word
+            raise InputError(f"two outputs are named {name.strip()!r}; give each --output its own NAME=SPEC")
         outputs[name.strip()] = parse_output(spec)
     out = Path(args.out)
     table = sweep(args.function, **kw, outputs=outputs or None, store=args.store or out / "points",
