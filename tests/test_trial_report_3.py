@@ -453,3 +453,12 @@ def test_sweep_cli_refuses_a_parameter_or_output_given_twice(tmp_path, capsys):
     assert main(args + ["-p", "width=20", "-o", "s=max:von_mises", "-o", "s=min:von_mises"]) == 2
     assert "two outputs are named 's'" in capsys.readouterr().err
     assert not (tmp_path / "sweep.csv").exists()
+
+
+def test_report_of_a_case_that_moves_nothing_says_so():
+    # a case whose only load was zero (or whose loads went to another case) gave a report of zeros, its
+    # summary "peak von Mises stress 0 MPa" and no word of doubt
+    r = _strap(**{"nothing": planar.Traction("right", tx=0.0)})["nothing"]
+    text = render_html(stress_check_report(r, picture=False, results=[]))
+    assert "moves nothing" in text
+    assert "moves nothing" not in render_html(stress_check_report(_strap()["pull"], picture=False, results=[]))

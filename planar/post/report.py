@@ -700,6 +700,12 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     top: list = [Tiles(list(headline) if headline else _tiles(result, hs, field, recovery, nominal, allowable,
                                                               factor_of_safety) + _convergence_tiles(convergence))]
     top.append(Notice([SCOPE_NOTE], kind="note"))
+    import numpy as np
+
+    if not np.any(np.asarray(result.u, float)):  # nothing moved: a case with no load, or its loads on another case
+        top.append(Notice([f"Load case '{result.case}' moves nothing: every displacement, and so every stress, is "
+                           "zero. Check that its loads were given to this case (model.add_load(..., case=...)) and "
+                           "are not zero."], kind="caution"))
     layer = getattr(model, "joint_layer", None)  # a joint's layer: fasteners tied where no hole is modelled
     unholed = [fz.name for fz in getattr(model, "joint_fasteners", None) or [] if layer not in fz.holes]
     if unholed:
