@@ -36,6 +36,10 @@ def output_dir(default: str | os.PathLike = DEFAULT_OUT) -> Path:
     p = Path(os.environ.get(OUT_ENV) or default)
     try:
         p.mkdir(parents=True, exist_ok=True)
+    except (FileExistsError, NotADirectoryError):
+        raise InputError(f"cannot create the output folder {str(p)!r}: a file of that name (or of a folder above it) "
+                         "is in the way; give the path of a folder (a new one is made), e.g. --out results") from None
     except OSError as exc:
-        raise InputError(f"cannot create the output folder {str(p)!r}: {exc.strerror}") from None
+        raise InputError(f"cannot create the output folder {str(p)!r}: {exc.strerror}; give a folder you can write "
+                         "to (--out, or the PLANAR_OUT environment variable)") from None
     return p

@@ -462,3 +462,14 @@ def test_report_of_a_case_that_moves_nothing_says_so():
     text = render_html(stress_check_report(r, picture=False, results=[]))
     assert "moves nothing" in text
     assert "moves nothing" not in render_html(stress_check_report(_strap()["pull"], picture=False, results=[]))
+
+
+def test_an_output_path_that_is_a_file_says_how_to_fix_it(tmp_path, monkeypatch):
+    # a file where the output folder should be: the message names the clash and asks for a folder
+    from planar.paths import OUT_ENV, output_dir
+    f = tmp_path / "afile"
+    f.write_text("keep")
+    monkeypatch.setenv(OUT_ENV, str(f))
+    with pytest.raises(planar.InputError, match="a file of that name .* is in the way; give the path of a folder"):
+        output_dir()
+    assert f.read_text() == "keep"

@@ -9,7 +9,9 @@ row the reaction is along that row's direction; at a node held by two rows of di
 Moments are counter-clockwise positive, about the origin (0, 0) unless another point is asked for
 (``about=(x, y)``, or ``about="own"``: each support about the centre of its held nodes, each pin
 about its reference point). With one common point the records add up:
-``sum of supports + sum of pins + applied loads = 0`` (to round-off).
+``sum of supports' forces + sum of pins' reactions + applied loads = 0`` (to round-off), the applied loads
+counting the loads on pins; a loaded pin's force on the part includes its own load, so the pins' forces
+balance the supports and the loads on the part's edges and body alone.
 """
 from __future__ import annotations
 

@@ -91,8 +91,9 @@ def joint_section(joint_result) -> Section:
                               _f(h["bearing_stress"]), _f(h["bypass"]), _f(h["diameter"], ".4g"),
                               _f(h["thickness"], ".4g")] for h in tab.holes],
                             caption="Bearing and bypass load at each hole of each layer. Bypass: the load the layer "
-                                    "carries past the hole across a cut through it square to the fastener load "
-                                    "(tension positive), per fastener on that cut.", numeric=[2, 3, 4, 5, 6]))
+                                    "carries past the hole across a cut through it along its row of holes (square "
+                                    "to the fastener load where the holes stand in no such row; tension positive), "
+                                    "per fastener on that cut.", numeric=[2, 3, 4, 5, 6]))
     if tab.rows:
         blocks.append(Table(["fastener group", "row", "layers", "fasteners", "load" + f, "share"],
                             [[str(r["group"]), str(r["row"]), f"{r['layers'][0]} to {r['layers'][1]}", str(r["count"]),

@@ -306,8 +306,8 @@ def _describe_fasteners(fz, model, units: UnitSystem) -> str:
         k = len(fz.names or [])
     flex = (f"flexibility by {fz.flexibility!r} (fastener E = {_num(fz.modulus)}{_u(units, 'stress')})"
             if isinstance(fz.flexibility, str) else
-            f"compliance {_num(fz.flexibility)}{length}/{units.force}" if units.stated else
-            f"compliance {_num(fz.flexibility)} (length/force)")
+            f"compliance {_num(fz.flexibility)}{length}/{units.force} per shear plane" if units.stated else
+            f"compliance {_num(fz.flexibility)} (length/force) per shear plane")
     name = getattr(model, "joint_layer", None)
     tie = (f"{fz.tie} ties at holes {', '.join(repr(e) for e in fz.holes[name])}" if name in fz.holes else
            "spread over the nodes within d/2 of each point (no hole modelled)")
