@@ -473,3 +473,14 @@ def test_an_output_path_that_is_a_file_says_how_to_fix_it(tmp_path, monkeypatch)
     with pytest.raises(planar.InputError, match="a file of that name .* is in the way; give the path of a folder"):
         output_dir()
     assert f.read_text() == "keep"
+
+
+def test_many_warnings_of_one_kind_are_counted_not_listed():
+    # the same concern at many holes: three listed in full, the rest counted in one row; the notice counts all
+    from planar.post.report import warnings_section
+    ws = [{"code": "coarse-peak", "message": f"peak at hole {i}"} for i in range(10)] + [{"code": "units", "message": "u"}]
+    sec = warnings_section(ws)
+    notice, table = sec.blocks[0], sec.blocks[1]
+    assert "11 warning(s)" in " ".join(notice.items)
+    assert [r[1] for r in table.rows[:3]] == ["peak at hole 0", "peak at hole 1", "peak at hole 2"]
+    assert "7 more 'coarse-peak'" in table.rows[3][1] and table.rows[4] == ["units", "u"]

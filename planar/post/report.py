@@ -146,14 +146,30 @@ def reactions_table(result, about=(0.0, 0.0)) -> Table:
                  numeric=[2, 3, 4])
 
 
-def warnings_section(warnings: Sequence[Any]) -> Section:
-    """A "Warnings" section listing planar warnings (code and message), e.g. ``result.warnings``."""
-    rows = []
+#: warnings of one code listed in full in the report; the rest of that code are counted in one row
+WARNINGS_SHOWN_PER_CODE = 3
+
+
+def warnings_section(warnings: Sequence[Any], per_code: int = WARNINGS_SHOWN_PER_CODE) -> Section:
+    """A "Warnings" section listing planar warnings (code and message), e.g. ``result.warnings``.
+
+    The first ``per_code`` warnings of each code are listed in full; further ones of that code (the
+    same concern at many holes, say) are counted in one row after them, so the list stays readable.
+    """
+    by_code: dict[str, list[str]] = {}
     for w in warnings:
         d = w.as_dict() if hasattr(w, "as_dict") else dict(w)
-        rows.append([str(d.get("code", "general")), str(d.get("message", ""))])
+        by_code.setdefault(str(d.get("code", "general")), []).append(str(d.get("message", "")))
+    rows = []
+    total = 0
+    for code, msgs in by_code.items():
+        total += len(msgs)
+        rows += [[code, m] for m in msgs[:per_code]]
+        if len(msgs) > per_code:
+            rows.append([code, f"... and {len(msgs) - per_code} more {code!r} warning(s) of the same kind at other "
+                               "places (all are kept in the result's warnings and in summary.json)"])
     return Section("Warnings", [
-        Notice([f"planar raised {len(rows)} warning(s) about this result: read them before using its figures."],
+        Notice([f"planar raised {total} warning(s) about this result: read them before using its figures."],
                kind="caution"),
         Table(["code", "message"], rows, caption="Each warning names the concern, where it is and the fix.")])
 
