@@ -259,6 +259,9 @@ def _segments(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def _size_at(plate, refine, H: float, xy: np.ndarray) -> np.ndarray:
     """The size field at the points ``xy``: the global size and every refinement's growth law."""
     h = np.full(xy.shape[0], float(H))
+    # refinements of one size, growth and reach (the default one round each hole of a pattern) are one
+    # search: their law rises with the distance, so the least over them is the law at the nearest target
+    alike: dict[tuple[float, float, float], list[np.ndarray]] = {}
     for r in refine:
         if not r.size < H:
             continue
@@ -268,10 +271,11 @@ def _size_at(plate, refine, H: float, xy: np.ndarray) -> np.ndarray:
             mid, _ = _segments(samples)
             tp.append(samples[:-1][keep(mid)])
         tp = np.vstack(tp) if tp else np.empty((0, 2))
-        if tp.shape[0] == 0:
-            continue
-        d, _ = cKDTree(tp).query(xy)
-        h = np.minimum(h, r.size + (r.growth - 1.0) * np.maximum(d - r.within, 0.0))
+        if tp.shape[0]:
+            alike.setdefault((float(r.size), float(r.growth), float(r.within)), []).append(tp)
+    for (size, growth, within), tps in alike.items():
+        d, _ = cKDTree(np.vstack(tps)).query(xy)
+        h = np.minimum(h, size + (growth - 1.0) * np.maximum(d - within, 0.0))
     return h
 
 
