@@ -123,3 +123,20 @@ def test_the_distance_function_is_the_operations_one_by_one():
             elif holes or op.kind != "hole":
                 ref = np.maximum(ref, -op.shape._sdf(pts))
         assert np.array_equal(plate._sdf(pts, holes=holes), ref)
+
+
+def test_the_gmsh_build_still_names_a_hole_at_fault():
+    # the build cuts a run of holes at once; should the plate not come out with exactly their area
+    # removed, each is cut on its own and the one at fault named (here two holes that overlap, put in
+    # the recipe past Plate.cut's own checks, as only a bug could)
+    from planar.geometry._build import build_geometry
+    from planar.geometry.plate import _Op
+
+    plate = Plate.rectangle(200.0, 100.0).cut(Circle((0.0, 0.0), 2.0, name="rivet"), at=_pattern(4, 2))
+    built = build_geometry(plate)
+    assert abs(built.area - (200.0 * 100.0 - 8 * np.pi * 4.0)) < 1e-6 * built.area  # the holes' area, pi r^2
+    x, y = _pattern(4, 2)[5]
+    bad = Circle((x + 1.0, y), 2.0)
+    wrong = plate._copy(_ops=plate._ops + (_Op("hole", bad, tuple(bad._pieces("extra")), "hole 'extra'"),))
+    with pytest.raises(GeometryError, match="hole 'extra' is not wholly inside the plate or overlaps another cut-out"):
+        build_geometry(wrong)

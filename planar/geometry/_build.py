@@ -49,6 +49,32 @@ def _mass(occ, dimtags) -> float:
     return float(sum(occ.getMass(d, t) for d, t in dimtags if d == 2))
 
 
+def _hole_run(ops: list) -> list:
+    """The holes at the head of ``ops``, up to the first operation of another kind."""
+    run = []
+    for op in ops:
+        if op.kind != "hole":
+            break
+        run.append(op)
+    return run
+
+
+def _cut_holes(occ, S: list, run: list) -> list | None:
+    """Cut the holes ``run`` from the plate ``S`` at once; None (``S`` left as it was) when the plate
+    does not come out whole with exactly the holes' area removed, so that each hole is then cut and
+    judged on its own and the one at fault named. The plate's own checks found them inside it and
+    apart, so this is the rule."""
+    T = [(2, op.shape._occ(occ)) for op in run]
+    a_before, a_tools = _mass(occ, S), _mass(occ, T)
+    out, _ = occ.cut(S, T, removeObject=False, removeTool=False)
+    out = [d for d in out if d[0] == 2]
+    if out and len(out) == len(S) and abs(a_before - a_tools - _mass(occ, out)) <= 1e-9 * max(a_before, 1e-300):
+        occ.remove(S + T, recursive=True)
+        return out
+    occ.remove(out + T, recursive=True)
+    return None
+
+
 def _build(plate: Plate, session: _Session,
            pieces: Callable[[float, tuple[float, float, float, float]], tuple[int, float]] | None = None) -> _Built:
     """Build the plate in ``session``'s model.
@@ -63,7 +89,18 @@ def _build(plate: Plate, session: _Session,
     tol = REL_TOL * scale
     with _stage("build the plate outline", session, "check the outline's points and arcs"):
         S = [(2, plate._base._occ(occ))]
-    for op in plate._ops:
+    ops, alone = list(plate._ops), 0  # alone: how many operations to apply one by one
+    while ops:
+        run = _hole_run(ops) if not alone else []
+        if len(run) > 1:  # many holes one after another (a fastener pattern): one cut, not one per hole
+            with _stage(f"apply {run[0].label} to {run[-1].label}", session):
+                done = _cut_holes(occ, S, run)
+            if done is not None:
+                S, ops = done, ops[len(run):]
+                continue
+            alone = len(run)  # each judged on its own, to name the one at fault
+        op = ops.pop(0)
+        alone = max(0, alone - 1)
         with _stage(f"apply {op.label}", session):
             T = [(2, op.shape._occ(occ))]
             n0 = len(S)
