@@ -63,7 +63,7 @@ def held_load_check(asm, cons, cases: list[str], F: np.ndarray, pdofs: np.ndarra
         The supports as the solve applies them (prescribed unknowns, local bases).
     cases : list of str
     F : ndarray, shape (2n, m)
-        Each case's nodal forces, in the global basis.
+        Each case's nodal forces, in the supports' local bases (as the solve splits them).
     pdofs : ndarray of int
         The prescribed unknowns (in the supports' bases).
     up : ndarray, shape (2n,)
@@ -79,12 +79,11 @@ def held_load_check(asm, cons, cases: list[str], F: np.ndarray, pdofs: np.ndarra
     held[pdofs] = True
     if np.any(up[pdofs] != 0.0):
         return  # an imposed motion strains the part whatever the loads
-    Fl = _to_local(cons, F)
     for j, case in enumerate(cases):
         if any(e is not None for e in e0s[j]):
             continue  # a temperature change stresses a held part
         loads = list(asm.model.cases.get(case, []))
-        if _held(Fl[:, j], held):
+        if _held(F[:, j], held):
             what = (f"the load {_name(loads[0])} acts only on nodes whose motion the supports hold, so it "
                     "passes" if len(loads) == 1 else
                     f"all {len(loads)} loads ({', '.join(_name(ld) for ld in loads)}) act only on nodes whose "

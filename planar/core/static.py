@@ -245,7 +245,7 @@ def reduced_loads(asm, system, cons, tie, cases, free, pdofs, up):
     loads = [asm.load_vector(c) for c in cases]
     F = np.column_stack([f for f, _ in loads])
     Fl = F if cons.rotation is None else cons.rotation.to_local(F.reshape(-1, 2, len(cases))).reshape(ndof, -1)
-    held_load_check(asm, cons, cases, F, pdofs, up, [e for _, e in loads], sink=pending_warnings(asm))
+    held_load_check(asm, cons, cases, Fl, pdofs, up, [e for _, e in loads], sink=pending_warnings(asm))
     coupling = system.prescribed_rows.T @ up[pdofs]  # K_fp u_p, over all unknowns
     rhs = Fl[free] - coupling[free][:, None]
     if tie is not None:
