@@ -111,10 +111,15 @@ def test_the_box_test_leaves_out_no_hole_that_matters(monkeypatch, seed):
 def test_the_distance_function_is_the_operations_one_by_one():
     # the plate's distance function, round holes taken as one array, against the operations applied one
     # at a time (constructive solid geometry: a hole takes the larger of the two values, a union the smaller)
-    plate = (Plate.rectangle(200.0, 100.0).cut(Circle((0.0, 0.0), 2.0), at=_pattern(4, 2))
+    grid = [(10.0 + 12.0 * i, 10.0 + 12.0 * j) for j in range(3) for i in range(10)]  # 30 holes in a run
+    plate = (Plate.rectangle(200.0, 100.0).cut([Circle(c, 1.0 + 0.5 * (k % 4)) for k, c in enumerate(grid)])
              .cut(Ellipse((30.0, 50.0), 6.0, 3.0)).cut(Circle((60.0, 50.0), 5.0), Circle((80.0, 50.0), 5.0))
              .union(RoundedRectangle((200.0, 50.0), 40.0, 30.0, 5.0)).cut(Circle((205.0, 50.0), 4.0)))
-    pts = np.random.default_rng(7).uniform((-10.0, -10.0), (230.0, 110.0), size=(5000, 2))
+    pts = np.vstack([np.random.default_rng(7).uniform((-10.0, -10.0), (230.0, 110.0), size=(5000, 2)),
+                     np.asarray(grid) + (6.0, 0.0),  # halfway between two holes: two nearest alike
+                     np.asarray(grid)])               # the centres
+    plate._sdf(pts[:1])
+    assert len(plate._csg_kept[1]) == 5  # the steps: 30 round holes as one, the ellipse, 2 round holes, union, hole
     for holes in (True, False):
         ref = plate._base._sdf(pts)
         for op in plate._ops:

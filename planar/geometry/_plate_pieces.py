@@ -29,17 +29,33 @@ def _sdf_slack(shape: Shape) -> float:
 
 
 def _circles_sdf(table: np.ndarray):
-    """The least of the distance functions of the circles ``table`` (k, 3: x, y, radius) at points, as
-    one array operation (the points taken a block at a time, to bound the memory): each value as
-    :meth:`Circle._sdf` gives it."""
-    cx, cy, r = table[:, 0], table[:, 1], table[:, 2]
+    """The least of the distance functions of the circles ``table`` (k, 3: x, y, radius) at points, each
+    value as :meth:`Circle._sdf` gives it. Each point is measured against its nearest few circles (found
+    by a search tree of the centres); against every circle only where a circle beyond those few could
+    still read less, a block of points at a time to bound the memory."""
+    from scipy.spatial import cKDTree
 
-    def least(pts: np.ndarray) -> np.ndarray:
+    cx, cy, r = table[:, 0], table[:, 1], table[:, 2]
+    tree, few, rmax = cKDTree(table[:, :2]), min(8, len(r)), float(r.max())
+    span = float(np.ptp(table[:, :2], axis=0).max() + rmax)
+
+    def every(pts: np.ndarray) -> np.ndarray:
         out = np.empty(pts.shape[0])
         step = max(1, 2_000_000 // len(r))
         for i in range(0, pts.shape[0], step):
             p = pts[i:i + step]
             out[i:i + step] = (np.hypot(p[:, 0, None] - cx, p[:, 1, None] - cy) - r).min(axis=1)
+        return out
+
+    def least(pts: np.ndarray) -> np.ndarray:
+        if pts.shape[0] == 0 or few == len(r):
+            return every(pts)
+        d, k = tree.query(pts, k=few)
+        out = (np.hypot(pts[:, 0, None] - cx[k], pts[:, 1, None] - cy[k]) - r[k]).min(axis=1)
+        # a circle beyond the few nearest lies at least d[:, -1] away, so reads at least d[:, -1] - rmax
+        doubt = ~(d[:, -1] - rmax > out + 1e-9 * (span + np.abs(pts).max(axis=1)))
+        if doubt.any():
+            out[doubt] = every(pts[doubt])
         return out
 
     return least
