@@ -20,7 +20,7 @@ from .errors import InputError, fmt_point, warn
 from .fields import FIELD_TABLE
 from .units import length_unit, stress_unit
 
-__all__ = ["node_memo", "point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
+__all__ = ["ROUND_OFF_STRAIN", "round_off", "node_memo", "point_source", "clear_distance", "PEAK_PARAMETERS", "PEAK_STACKLEVEL", "peak_doc", "is_stress", "units_of", "cells_at", "Fan", "fan",
            "angles", "peak_words", "warn_peak", "warn_if_found", "peak_warnings_given"]
 
 #: the parameters every check of a peak takes, for its docstring (see :func:`peak_doc`)
@@ -208,13 +208,41 @@ def peak_warnings_given() -> Iterator[list]:
         _GIVEN.reset(token)
 
 
+#: a stress below this share of the stiffest material's largest modulus (a strain of 1e-12) is round-off
+ROUND_OFF_STRAIN = 1e-12
+
+
+def round_off(result, value: float) -> bool:
+    """True when a stress ``value`` of ``result`` is round-off: no larger than :data:`ROUND_OFF_STRAIN` times
+    the largest entry of its blocks' elasticity matrices (a load case with no load, a field zero by
+    symmetry). The checks of a peak do not judge such a peak: its place and shape are noise."""
+    asm = getattr(result, "assembly", None)
+    if asm is None:
+        return False
+    scale = getattr(asm, "_planar_stiffest", None)
+    if scale is None:
+        scale = max((float(np.abs(np.asarray(b.D, dtype=float)).max()) for b in asm.blocks), default=0.0)
+        try:
+            object.__setattr__(asm, "_planar_stiffest", scale)
+        except (AttributeError, TypeError):
+            pass
+    v = abs(float(value))
+    return scale > 0.0 and v <= ROUND_OFF_STRAIN * scale
+
+
 def warn_if_found(result, node: int, field: str, values, code: str, find: Callable[..., object | None],
                   words: Callable[..., str], stacklevel: int) -> None:
-    """The frame of a check of a peak: nothing for a field that is not a stress, nor where
-    ``find(result, node)`` finds no cause (None); else warn ``code`` naming the peak, followed by
-    ``words(found, node)``. ``stacklevel`` counted from the caller of this function."""
+    """The frame of a check of a peak: nothing for a field that is not a stress, nor for a peak of
+    round-off (:func:`round_off`), nor where ``find(result, node)`` finds no cause (None); else warn
+    ``code`` naming the peak, followed by ``words(found, node)``. ``stacklevel`` counted from the
+    caller of this function."""
     if not is_stress(field):
         return None
+    try:
+        if round_off(result, np.asarray(values, dtype=float).reshape(-1)[int(node)]):
+            return None
+    except (IndexError, TypeError, ValueError):
+        pass
     got = find(result, node)
     if got is None:
         return None

@@ -187,6 +187,10 @@ def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre
     node = int(node)
     if f is None or not (0 <= node < v.size) or not math.isfinite(v[node]) or v[node] == 0.0:
         return None
+    from ._advice_node import round_off
+
+    if round_off(result, v[node]):  # a field of round-off (a case with no load): its peak's place is noise
+        return None
     finite = np.abs(v[np.isfinite(v)])
     # a small extreme (the least compressive stress of a part in tension, a minor local peak) is judged
     # against half the field's largest magnitude: its error is small beside the stresses that govern
