@@ -465,9 +465,10 @@ class Result(CaseResult):
         Parameters
         ----------
         about : (x, y) or "own"
-            The point moments are taken about: the origin by default (then the records add up with
-            the applied loads to zero), or ``"own"``: each support about the centre of the nodes it
-            holds, each pin about its reference point.
+            The point moments are taken about: the origin by default (then the supports' forces and
+            moments, the pins' reactions and the applied loads, the pins' loads among them, add up to
+            zero), or ``"own"``: each support about the centre of the nodes it holds, each pin about
+            its reference point.
 
         Returns
         -------
