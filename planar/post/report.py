@@ -167,7 +167,7 @@ def warnings_section(warnings: Sequence[Any], per_code: int = WARNINGS_SHOWN_PER
         rows += [[code, m] for m in msgs[:per_code]]
         if len(msgs) > per_code:
             rows.append([code, f"... and {len(msgs) - per_code} more {code!r} warning(s) of the same kind at other "
-                               "places (all are kept in the result's warnings and in summary.json)"])
+                               "places (all are kept in the result's warnings, Result.warnings)"])
     return Section("Warnings", [
         Notice([f"planar raised {total} warning(s) about this result: read them before using its figures."],
                kind="caution"),
