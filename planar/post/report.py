@@ -704,6 +704,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     nominal = None if nominal is None else number(nominal, "the nominal stress", positive=True)
     allowable = None if allowable is None else number(allowable, "the allowable", positive=True)
     factor_of_safety = number(factor_of_safety, "the factor of safety", positive=True)
+    convergence = _evidence(convergence)  # once: a generator given would be used up by the tiles below
     from ..core.progress import step  # each long part of the report on a terminal, as the stages of a solve
 
     dofs = int(getattr(result, "n_dofs", 0) or 0)
