@@ -229,7 +229,7 @@ def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre
             "size": size, "degree": int(degree), "basis": "half the field's largest magnitude" if small else "the peak"}
 
 
-def ligament_across(result, node: int) -> float | None:
+def ligament_across(result, node: int) -> dict | None:
     """How many elements lie across the material from a boundary node to the boundary facing it.
 
     The node's inward normal (square to the chord between its two neighbours along the boundary,
