@@ -710,6 +710,7 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     dofs = int(getattr(result, "n_dofs", 0) or 0)
     with step("report: hot spots", dofs):
         hs = _spots(result, hot_spots, field, recovery, nominal, allowable, factor_of_safety)
+    headline = None if headline is None else list(headline)  # once: a generator is checked and then shown
     for item in headline or ():
         if isinstance(item, str) or len(item) != 4:
             raise InputError(f"headline= takes tiles as (label, value, detail, status) with status 'pass', 'fail' or "
