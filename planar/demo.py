@@ -204,6 +204,13 @@ def run_demo(out: str | os.PathLike = DEFAULT_OUT, *, part: SpliceStrap | None =
     say = Progress(verbose, "planar demo")
     out = output_dir(out)
     _check_not_users(out)
+    from .post.files import atomic_write_text
+
+    # the folder marked the demo's before its first file: a run stopped half-way (Ctrl-C, an error) leaves
+    # files that the next run knows for its own, not a user's; the full summary replaces this at the end
+    atomic_write_text(out / "summary.json", json.dumps({"written_by": _WRITTEN_BY, "part": part.name,
+                                                        "status": "incomplete: the demo stopped before its end"},
+                                                       indent=2) + "\n")
     t_start = time.perf_counter()
     r = part.hole_diameter / 2
 

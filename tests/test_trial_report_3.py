@@ -5,6 +5,7 @@ Each test failed before its fix. Sources of the numerical checks are named besid
 from __future__ import annotations
 
 import contextlib
+import json
 import re
 import sys
 
@@ -80,6 +81,26 @@ def test_demo_writes_again_over_its_own_folder(tmp_path):
     (tmp_path / "summary.json").write_text('{"peak": 1}')   # a user's summary.json
     with pytest.raises(InputError, match="not written by planar demo"):
         _check_not_users(tmp_path)
+
+
+def test_a_demo_stopped_half_way_does_not_refuse_its_own_files_next_time(tmp_path, monkeypatch):
+    # the folder is marked the demo's before its first file, so the files of a run stopped half-way
+    # (Ctrl-C, an error) are not taken for a user's by the next run
+    from planar import demo
+    from planar.demo import _check_not_users, run_demo
+
+    def stop(self, h):
+        (tmp_path / "report.html").write_text("half a demo report")  # as if a file were written already
+        raise KeyboardInterrupt
+
+    from planar.paths import OUT_ENV
+
+    monkeypatch.delenv(OUT_ENV, raising=False)
+    monkeypatch.setattr(demo.SpliceStrap, "mesh", stop)
+    with pytest.raises(KeyboardInterrupt):
+        run_demo(tmp_path)
+    assert json.loads((tmp_path / "summary.json").read_text())["written_by"] == "planar demo"
+    _check_not_users(tmp_path)  # no complaint
 
 
 # ---------------------------------------------------------------------------------------- convergence
