@@ -214,6 +214,29 @@ def test_function_digest_is_the_same_in_a_fresh_process(tmp_path):
     assert len(function_digest(scaled)) == 16
 
 
+def test_function_digest_follows_a_decorated_function_and_a_closure():
+    # a function behind functools.wraps, or one a factory made, was fingerprinted by its wrapper alone:
+    # editing what it computes left the stored points "from the store"
+    import functools
+
+    from planar.studies.compute import function_digest
+
+    def logged(f):
+        @functools.wraps(f)
+        def wrapper(**kw):
+            return f(**kw)
+        return wrapper
+
+    def make(scale):
+        def g(x):
+            return {"y": scale * x}
+        return g
+
+    assert function_digest(logged(lambda x: {"y": x})) != function_digest(logged(lambda x: {"y": 2 * x}))
+    assert function_digest(make(1.0)) != function_digest(make(2.0))
+    assert function_digest(make(1.0)) == function_digest(make(1.0))
+
+
 # ---------------------------------------------------------------------------------------- result files
 def test_result_file_states_its_load_case(tmp_path, capsys):
     # a .vtu held no word of its load case: planar show's picture and --list could not say which case

@@ -149,6 +149,18 @@ def _feed_function(fn, h, seen: set) -> None:
     _feed_code(code, h)
     h.update(repr((_plain_repr(getattr(fn, "__defaults__", None)),
                    _plain_repr(getattr(fn, "__kwdefaults__", None)))).encode())
+    for cell in getattr(fn, "__closure__", None) or ():  # what a decorator or a factory closed over
+        try:
+            v = cell.cell_contents
+        except ValueError:  # an empty cell
+            continue
+        text = _plain_repr(v)
+        if text is not None:
+            h.update(f"cell={text};".encode())
+        elif inspect.isfunction(v):
+            _feed_function(v, h, seen)
+    if inspect.isfunction(getattr(fn, "__wrapped__", None)):  # functools.wraps: the function wrapped
+        _feed_function(fn.__wrapped__, h, seen)
     g = getattr(fn, "__globals__", {})
     for name in sorted(_code_names(code)):
         if name not in g:
@@ -167,7 +179,8 @@ def function_digest(function) -> str:
     SHA-256 over the function's compiled code (its instructions, names and constants; not its
     file or line numbers), its default arguments, the plain module constants
     it reads (numbers, text, and tuples, lists and dicts of them) and, the same way, the functions
-    of its own module it calls (a callable object: its class's ``__call__`` and its plain
+    of its own module it calls, the values and functions it closes over, and the function a
+    decorator wrapped (``__wrapped__``) (a callable object: its class's ``__call__`` and its plain
     attributes). Editing any of them changes the fingerprint; helpers in other modules, and data
     read from files, are not followed.
 
