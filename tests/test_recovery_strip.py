@@ -43,3 +43,13 @@ def test_deeper_meshes_keep_their_patch_fit():
     # two elements through the depth: the patches see the gradient; the values are SPR's own (not averaged)
     r, _ = _cantilever(40, 2, "Q4")
     assert not np.allclose(recover(r, "spr"), recover(r, "average"))
+
+
+def test_a_higher_degree_asked_for_keeps_a_fit_of_the_elements_own_degree():
+    # T3 one element thick, degree=2 asked for: the patches fit a linear field (the elements' own
+    # degree), which reads the bending stress; only a fit below that takes the elements' own stresses
+    r, (L, H, t) = _cantilever(40, 1, "T3")
+    s = recover(r, "spr", degree=2)
+    x = 25.0
+    want = (H * t) * (L - x) * (H / 2) / (t * H ** 3 / 12)  # M c / I
+    assert abs(s[_at(r, (x, H)), 0]) == pytest.approx(want, rel=0.03)

@@ -398,8 +398,9 @@ def recovery_operator(mesh, samples: list[Samples], *, degree: int | None = None
                                          p + 1 if enlarged and all_quads else p, p, weighted=enlarged)
         parts += [_Piece(tn, cols.astype(np.int32), W) for tn, cols, W in own]
         reached[todo] = np.where(done, 1.0, 0.0)
-        short = np.zeros(n, dtype=bool)
-        short[todo[done & (fitted < p)]] = True
+        short = np.zeros(n, dtype=bool)  # below the elements' own degree (not a higher one asked for)
+        own_p = min(p, max(int(smp.block.etype.degree) for smp in samples))
+        short[todo[done & (fitted < own_p)]] = True
         return RecoveryOperator(n, S, parts, in_region & (reached > 0), short)
     return RecoveryOperator(n, S, parts, in_region & (reached > 0))
 
