@@ -380,7 +380,8 @@ def interface_edge_near(result, node: int) -> dict | None:
     -------
     dict or None
         ``point`` (node of the junction), ``lam`` (complex exponent), ``angles`` (degrees, per wedge),
-        ``regions`` (names per wedge), ``alpha``, ``beta`` (of the first interface), or None.
+        ``regions`` (names per wedge), ``alpha``, ``beta`` (of the first interface), ``inside`` (True for
+        a corner of an interface inside the part, False where it meets the free edge), or None.
 
     Examples
     --------
