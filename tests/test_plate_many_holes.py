@@ -145,3 +145,16 @@ def test_the_gmsh_build_still_names_a_hole_at_fault():
     wrong = plate._copy(_ops=plate._ops + (_Op("hole", bad, tuple(bad._pieces("extra")), "hole 'extra'"),))
     with pytest.raises(GeometryError, match="hole 'extra' is not wholly inside the plate or overlaps another cut-out"):
         build_geometry(wrong)
+
+
+def test_a_plate_whose_distance_function_was_read_still_pickles():
+    # the distance function keeps its steps on the plate, a run of round holes as a closure: pickling the
+    # plate (to a worker process) failed with "Can't pickle local object"
+    import pickle
+
+    plate = _skin(3, 2)
+    pts = np.array([[5.0, 5.0], [110.0, 60.0 + D]])
+    before = plate._sdf(pts)
+    again = pickle.loads(pickle.dumps(plate))
+    assert np.array_equal(again._sdf(pts), before)
+    assert len(_holes(again.cut(Circle((500.0, 300.0), D / 2)))) == 7

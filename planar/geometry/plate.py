@@ -115,6 +115,11 @@ class Plate:
         """
         return cls(Polygon(points, names=names))
 
+    def __getstate__(self) -> dict:
+        # the kept look-ups of the distance function and of the holes are remade on demand; the first holds
+        # closures, which do not pickle (a plate sent to a worker process)
+        return {k: v for k, v in self.__dict__.items() if k not in ("_csg_kept", "_holes_kept")}
+
     def _copy(self, **changes) -> "Plate":
         out = Plate.__new__(Plate)
         out.__dict__.update(self.__dict__)
