@@ -113,7 +113,7 @@ import math
 
 import numpy as np
 
-from ._advice_node import cells_at, fan, is_stress, peak_doc, peak_words, units_of, warn_peak
+from ._advice_node import cells_at, fan, is_stress, peak_doc, peak_words, round_off, units_of, warn_peak
 from .fields import polar_stress
 from .stress import extrapolation_matrix, stress_measures
 
@@ -187,8 +187,6 @@ def peak_resolution(result, node: int, field: str, values: np.ndarray, *, centre
     node = int(node)
     if f is None or not (0 <= node < v.size) or not math.isfinite(v[node]) or v[node] == 0.0:
         return None
-    from ._advice_node import round_off
-
     if round_off(result, v[node]):  # a field of round-off (a case with no load): its peak's place is noise
         return None
     finite = np.abs(v[np.isfinite(v)])
