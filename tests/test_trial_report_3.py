@@ -235,6 +235,8 @@ def test_function_digest_follows_a_decorated_function_and_a_closure():
     assert function_digest(logged(lambda x: {"y": x})) != function_digest(logged(lambda x: {"y": 2 * x}))
     assert function_digest(make(1.0)) != function_digest(make(2.0))
     assert function_digest(make(1.0)) == function_digest(make(1.0))
+    # a set of words in the code ("x in {...}", a frozenset constant) is part of what it computes
+    assert function_digest(lambda m: m in {"a", "b"}) != function_digest(lambda m: m in {"a", "c"})
 
 
 # ---------------------------------------------------------------------------------------- result files

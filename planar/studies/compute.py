@@ -106,6 +106,9 @@ def _plain_repr(v, depth: int = 0) -> str | None:
     if depth < 4 and isinstance(v, (tuple, list)):
         parts = [_plain_repr(x, depth + 1) for x in v]
         return None if None in parts else f"{type(v).__name__}({', '.join(parts)})"
+    if depth < 4 and isinstance(v, (set, frozenset)):  # sorted: a set's order changes with the process's hashing
+        parts = [_plain_repr(x, depth + 1) for x in v]
+        return None if None in parts else f"{type(v).__name__}({', '.join(sorted(parts))})"
     if depth < 4 and isinstance(v, dict):
         parts = [(_plain_repr(k, depth + 1), _plain_repr(x, depth + 1)) for k, x in v.items()]
         return None if any(None in kv for kv in parts) else "{" + ", ".join(f"{k}: {x}" for k, x in parts) + "}"
