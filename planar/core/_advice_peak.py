@@ -361,13 +361,13 @@ def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=Non
         return ""
     linear = got["degree"] < 2
     eta, limit = (got["eta_points"], LINEAR_ETA) if linear else (got["eta"], COARSE_ETA)
-    thin = None
+    thin, linear_names = None, []
     if linear:
         # linear cells are judged at a stress raiser only (a concave stretch of the boundary: a hole, fillet,
         # notch, ligament); a bending peak on a straight edge is the "slender" check's (too few through the depth)
         from ._advice_linear import _concave, _fan
 
-        _, angle, ends, _ = _fan(result.assembly, int(node))
+        linear_names, angle, ends, _ = _fan(result.assembly, int(node))
         if _concave(result.assembly, int(node), angle, ends) is None:
             return ""
     if eta < limit:
@@ -401,7 +401,7 @@ def coarse_peak(result, node: int, field: str, values: np.ndarray, *, centre=Non
     edge = _edge_of(mesh, node)
     at = f"{edge!r}" if edge is not None else f"({mesh.nodes[node, 0]:.4g}, {mesh.nodes[node, 1]:.4g})"
     where = f"on edge {edge!r}" if edge is not None else "inside the part"
-    names = ", ".join(_linear_names(result, node)) if linear else ""
+    names = ", ".join(sorted(set(linear_names)))  # the linear element types round the node
     if thin is not None:
         why = (f"it lies on a ligament {thin['width']:.3g}{lu} wide that the linear elements ({names}) cross in "
                f"{thin['across']:.1f} (fewer than {THIN_LIGAMENT:g}), so the rise of the stress across the ligament "
@@ -438,12 +438,3 @@ def _thin_ligament(result, node: int, values: np.ndarray) -> dict | None:
     level = v[asm.mesh.used_nodes() & np.isfinite(v)]
     med = float(np.median(level)) if level.size else 0.0
     return got if med == 0.0 or v[int(node)] >= CONCENTRATION * med else None
-
-
-def _linear_names(result, node: int) -> list[str]:
-    """The names of the linear element types among the cells at ``node``."""
-    from ._advice_linear import is_linear
-
-    blocks = result.assembly.blocks
-    return sorted({str(getattr(blocks[i].etype, "name", blocks[i].layout)) for i, _ in cells_at(result.assembly, node)
-                   if is_linear(blocks[i].etype)})
