@@ -53,6 +53,9 @@ def test_pull_along_a_rollers_held_direction_warns_and_across_it_does_not():
     held = _strap(planar.Traction("left", tx=10.0), support=planar.Roller("left", fixed="x"))
     held.add_support(planar.Roller("corner_00", fixed="y"))
     assert len(_codes(held)[1]) == 1
+    across = _strap(planar.Traction("left", ty=1.0), support=planar.Roller("left", fixed="x"))
+    across.add_support(planar.Roller("corner_00", fixed="y"))
+    assert _codes(across)[1] == []
     free = _strap(planar.Traction("right", ty=1.0))
     assert _codes(free)[1] == []
 
