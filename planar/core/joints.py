@@ -387,7 +387,8 @@ class Joint:
         us = self.unit_system
         lu = f" {us.unit_of('length')}" if us.stated else ""
         gap = float(np.hypot(*(pa - pb)))
-        pair = sorted(next(iter(shared)), key=list(self.layers).index)
+        order = list(self.layers).index  # the first shared pair in the joint's order of layers (a set has none)
+        pair = min((sorted(p, key=order) for p in shared), key=lambda q: [order(x) for x in q])
         other = f"{k + 1}" if fb is fa else f"{fb.name!r} {k + 1}"
         raise InputError(f"fasteners {fa.name!r} {i + 1} at ({pa[0]:g}, {pa[1]:g}) and {other} at "
                          f"({pb[0]:g}, {pb[1]:g}) both join layers {pair[0]!r} and {pair[1]!r}, {gap:.4g}{lu} apart, "
