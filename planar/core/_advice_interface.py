@@ -270,14 +270,10 @@ def _junctions(asm, ids) -> np.ndarray:
     n = asm.mesh.n_nodes
     lo = np.full(n, np.iinfo(np.int64).max)
     hi = np.full(n, -1)
-    a_l, b_l = [], []
     for b, s in zip(asm.blocks, ids):
-        k = b.etype.corner_count()
-        c = np.asarray(b.conn[:, :k], dtype=np.int64)
-        np.minimum.at(lo, c.ravel(), s)
-        np.maximum.at(hi, c.ravel(), s)
-        a_l.append(c.ravel())
-        b_l.append(np.roll(c, -1, axis=1).ravel())
+        c = np.asarray(b.conn[:, :b.etype.corner_count()], dtype=np.int64).ravel()
+        np.minimum.at(lo, c, s)
+        np.maximum.at(hi, c, s)
     return np.flatnonzero((hi >= 0) & (lo != hi))
 
 
