@@ -530,3 +530,21 @@ def test_many_warnings_of_one_kind_are_counted_not_listed():
     assert "11 warning(s)" in " ".join(notice.items)
     assert [r[1] for r in table.rows[:3]] == ["peak at hole 0", "peak at hole 1", "peak at hole 2"]
     assert "7 more 'coarse-peak'" in table.rows[3][1] and table.rows[4] == ["units", "u"]
+
+
+def test_a_held_part_heated_is_not_said_to_move_nothing(tmp_path):
+    # every edge held, a uniform temperature change: no displacement (the inner node's thermal forces cancel), but
+    # the restrained expansion stresses the part, sigma = -E alpha dT / (1 - nu) in plane stress (common practice)
+    m = planar.rectangle_mesh(10.0, 10.0, 2, 2, "Q4")
+    model = planar.Model(m, planar.Isotropic(E=70e3, nu=0.3, alpha=20e-6), thickness=1.0, units="N, mm, MPa")
+    for edge in ("left", "right", "top", "bottom"):
+        model.add_support(planar.Fixed(edge))
+    model.add_load(planar.TemperatureChange(10.0), case="hot")
+    r = planar.solve(model)["hot"]
+    assert np.abs(r.u).max() < 1e-15  # round-off only; the notice reads exact zeros, so make them so
+    assert r.field("sigma_xx")[0] == pytest.approx(-70e3 * 20e-6 * 10.0 / 0.7, rel=1e-9)
+    r.field("von_mises")  # the stresses are read from the solve, then the round-off motion is zeroed
+    r.u[:] = 0.0
+    html = render_html(stress_check_report(r, hot_spots=False) if "hot_spots" in stress_check_report.__code__.co_varnames
+                       else stress_check_report(r))
+    assert "moves nothing" not in html

@@ -720,7 +720,9 @@ def stress_check_report(result, *, title: str | None = None, subtitle: str = "",
     top.append(Notice([SCOPE_NOTE], kind="note"))
     import numpy as np
 
-    if not np.any(np.asarray(result.u, float)):  # nothing moved: a case with no load, or its loads on another case
+    # nothing moved and nothing is stressed: a case with no load, or its loads on another case (a held part
+    # heated moves nothing either, but its restrained expansion stresses it)
+    if not np.any(np.asarray(result.u, float)) and not np.any(np.nan_to_num(result.field("von_mises"))):
         top.append(Notice([f"Load case '{result.case}' moves nothing: every displacement, and so every stress, is "
                            "zero. Check that its loads were given to this case (model.add_load(..., case=...)) and "
                            "are not zero."], kind="caution"))
