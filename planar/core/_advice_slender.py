@@ -126,7 +126,7 @@ def _slender_region(asm, res, region, bl) -> list[tuple[str, str, list]]:
             across, along = _cell_extent(nodes, conns, member, labels, z, tx[z], ty[z])
             out.append(("slender",
                         f"slender part with too few elements through its depth: region {region!r}, a part about "
-                        f"{L[z]:.4g} long and {h[z]:.3g} deep (length/depth {L[z] / h[z]:.0f}) around "
+                        f"{L[z]:.4g} long and {h[z]:.3g} deep (length/depth {L[z] / h[z]:.1f}) around "
                         f"{_point(cx[z], cy[z], L[z])}, meshed with about {h[z] / across:.1f} {kinds} elements "
                         f"through its depth (cells about {along:.3g} long and {across:.3g} deep), carries bending in "
                         f"load case(s) {names}; "
