@@ -31,6 +31,7 @@ def demo_run(tmp_path_factory):
     return code, buf.getvalue(), out
 
 
+@pytest.mark.slow
 def test_demo_writes_result_figures_and_report(demo_run):
     code, printed, out = demo_run
     assert code == 0
@@ -263,6 +264,7 @@ def test_commands_are_the_modules_of_the_cli_package(tmp_path, monkeypatch, caps
         cli.__dict__.pop("hello", None)
 
 
+@pytest.mark.slow
 def test_library_modules_do_not_import_the_command_line():
     # read the source (not run it): only planar/cli/ and ``python -m planar`` may import planar.cli
     import ast

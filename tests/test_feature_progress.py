@@ -81,6 +81,7 @@ def _run_pipe(env: dict, *args: str) -> subprocess.CompletedProcess:
 LOW = {"PLANAR_PROGRESS_MIN_UNKNOWNS": "100", "PLANAR_PROGRESS_MIN_SECONDS": "0"}
 
 
+@pytest.mark.slow
 def test_terminal_shows_the_stages():
     out = _run_pty(_env(**LOW))
     assert "done" in out

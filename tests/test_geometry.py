@@ -967,6 +967,7 @@ def test_100k_quadratic_elements_in_a_few_seconds():
     assert dt < 10.0
 
 
+@pytest.mark.slow
 def test_meshing_leaves_broken_pipes_harmless(tmp_path):
     # gmsh's initialize resets SIGPIPE to its default (terminate); after meshing, a write to a closed
     # pipe must still raise BrokenPipeError as Python promises (common practice for CPython)

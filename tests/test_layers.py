@@ -90,11 +90,13 @@ def shortfalls(graph: dict[str, set[str]]) -> list[str]:
     return out
 
 
+@pytest.mark.slow
 def test_planar_layers_point_only_down():
     problems = shortfalls(import_graph(ROOT))
     assert not problems, "\n".join(problems)
 
 
+@pytest.mark.slow
 def test_no_core_module_imports_post_or_the_command_line():
     graph = import_graph(ROOT)
     bad = [f"{a} -> {b}" for a, bs in graph.items() if a.startswith("planar.core")

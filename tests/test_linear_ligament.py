@@ -76,6 +76,7 @@ def _peak(result, field: str, where: str):
     return pk, [w.message.code for w in caught if getattr(w.message, "code", None) in PEAK_CODES]
 
 
+@pytest.mark.slow
 def test_t3_one_element_across_two_holes_warns_and_a_refined_mesh_does_not():
     ref = _converged(_two_holes, "sigma_yy", "hole_a", finer=5.0)
     coarse = _two_holes(GAP, "T3")  # about one element across the ligament

@@ -34,6 +34,7 @@ def _holes(plate: Plate) -> list:
     return [op for op in plate._ops if op.kind == "hole"]
 
 
+@pytest.mark.slow
 def test_a_thousand_holes_are_cut(skin):
     holes = _holes(skin)
     assert len(holes) == 1000 and {op.pieces[0].name for op in holes} == {"fastener"}

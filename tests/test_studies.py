@@ -330,6 +330,7 @@ def test_dask_table_equals_serial(dask_client, tmp_path):
     assert all(r["worker"].split(":")[1] != str(os.getpid()) for r in dask.records)
 
 
+@pytest.mark.slow
 def test_dask_worker_killed_mid_sweep_loses_no_point(dask_client, tmp_path):
     markers = tmp_path / "m"
     markers.mkdir()

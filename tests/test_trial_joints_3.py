@@ -219,6 +219,7 @@ def _double_shear_strips(C):
     return j
 
 
+@pytest.mark.slow
 def test_a_joint_too_stiff_to_solve_names_the_fasteners_compliance():
     # compliance 1e-14 mm/N (stiffness 1e14 N/mm against the strips' E t ~ 1e5): the iterative solve
     # failed with 'a layer may be free to move: check its supports', which sent the user to the wrong place

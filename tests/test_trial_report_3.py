@@ -195,6 +195,7 @@ def test_sweep_does_not_reuse_points_of_an_edited_function(tmp_path, monkeypatch
     assert t3.reused == 0 and t3.computed == 3 and t3.stale == 3
 
 
+@pytest.mark.slow
 def test_function_digest_is_the_same_in_a_fresh_process(tmp_path):
     # the fingerprint must not depend on the process (marshal's bytes do, through reference counts)
     import subprocess
