@@ -1,4 +1,4 @@
-"""Report sections for contact pins and bolted joints, with the units of the model.
+"""Report sections for contact pins and bolted joints, with the units of the model, and the warnings.
 
 :func:`contact_section` tables the state of each contact pin of a result (its contact arc, peak
 pressure, force, clearance); :func:`joint_section` the fasteners of a solved joint (the shear each
@@ -8,11 +8,11 @@ it is.
 """
 from __future__ import annotations
 
-from typing import Any, Mapping
+from typing import Any, Mapping, Sequence
 
-from ._blocks import Paragraph, Section, Table
+from ._blocks import Notice, Paragraph, Section, Table
 
-__all__ = ["contact_section", "joint_section", "records_section"]
+__all__ = ["contact_section", "joint_section", "records_section", "warnings_section", "WARNINGS_SHOWN_PER_CODE"]
 
 
 def _f(v, spec: str = ".5g") -> str:
@@ -125,3 +125,31 @@ def records_section(title: str, thing: Any) -> Section | None:
         return "-" if v is None else str(v)
 
     return Section(title, [Table(heads, [[cell(r.get(h)) for h in heads] for r in rows])])
+
+
+#: warnings of one code listed in full in the report; the rest of that code are counted in one row
+WARNINGS_SHOWN_PER_CODE = 3
+
+
+def warnings_section(warnings: Sequence[Any], per_code: int = WARNINGS_SHOWN_PER_CODE) -> Section:
+    """A "Warnings" section listing planar warnings (code and message), e.g. ``result.warnings``.
+
+    The first ``per_code`` warnings of each code are listed in full; further ones of that code (the
+    same concern at many holes, say) are counted in one row after them, so the list stays readable.
+    """
+    by_code: dict[str, list[str]] = {}
+    for w in warnings:
+        d = w.as_dict() if hasattr(w, "as_dict") else dict(w)
+        by_code.setdefault(str(d.get("code", "general")), []).append(str(d.get("message", "")))
+    rows = []
+    total = 0
+    for code, msgs in by_code.items():
+        total += len(msgs)
+        rows += [[code, m] for m in msgs[:per_code]]
+        if len(msgs) > per_code:
+            rows.append([code, f"... and {len(msgs) - per_code} more {code!r} warning(s) of the same kind at other "
+                               "places (all are kept in the result's warnings, Result.warnings)"])
+    return Section("Warnings", [
+        Notice([f"planar raised {total} warning(s) about this result: read them before using its figures."],
+               kind="caution"),
+        Table(["code", "message"], rows, caption="Each warning names the concern, where it is and the fix.")])
