@@ -549,3 +549,11 @@ def test_a_held_part_heated_is_not_said_to_move_nothing(tmp_path):
     html = render_html(stress_check_report(r, hot_spots=False) if "hot_spots" in stress_check_report.__code__.co_varnames
                        else stress_check_report(r))
     assert "moves nothing" not in html
+
+
+def test_convergence_takes_a_section_of_the_callers_blocks():
+    from planar.post.report import Paragraph, Section
+    r = solved_strip(80.0, 20.0, 8, 2, "Q8", units="N, mm, MPa", case="pull",
+                     loads={"pull": planar.Traction("right", tx=10.0)})
+    html = render_html(stress_check_report(r, convergence=[Section("my study", [Paragraph("hand-made evidence 42")])]))
+    assert "hand-made evidence 42" in html

@@ -4,7 +4,7 @@ verdict, an adaptive run as its cycles and outcome, and a summary tile for each 
 from __future__ import annotations
 
 from ..core.errors import InputError
-from ._blocks import Figure, KeyValues, Notice, Paragraph, SignOff, Table, Tiles
+from ._blocks import Figure, KeyValues, Notice, Paragraph, Section, SignOff, Table, Tiles
 
 __all__ = ["convergence_blocks", "convergence_tiles"]
 
@@ -60,6 +60,9 @@ def _convergence_blocks(convergence, unit: str = "") -> list:
     for c in _evidence(convergence):
         if hasattr(c, "cycles") and hasattr(c, "converged"):
             out += _run_blocks(c, unit)
+            continue
+        if isinstance(c, Section):  # a section of the caller's: its blocks, under the convergence heading
+            out += list(c.blocks)
             continue
         if not hasattr(c, "verdict"):
             if not isinstance(c, (Paragraph, Table, KeyValues, Figure, Notice, Tiles, SignOff)):
