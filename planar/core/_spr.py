@@ -430,7 +430,11 @@ def patch_recovery(mesh, samples: list[Samples], *, degree: int | None = None,
     Returns
     -------
     ndarray, shape (n_nodes, c)
-        Recovered nodal values; NaN at nodes that no element of the samples touches.
+        Recovered nodal values; NaN at nodes that no element of the samples touches. At the nodes the
+        operator marks ``short`` (their own patch could only fit a lower degree than the elements':
+        a strip of Q4 one element thick, whose centres lie on one line) the value is that lower fit;
+        :func:`planar.core.recovery.recover` (what results use) puts the elements' extrapolated Gauss
+        stresses there instead, as this function has the sampled values only.
 
     Notes
     -----
