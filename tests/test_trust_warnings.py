@@ -224,6 +224,13 @@ def test_slender_strip_in_pure_tension_is_quiet():
     _solve_quiet(_cantilever("Q4", 40, 2, 40.0, 1.0, tip=0.0, axial=10.0))
 
 
+def test_t3_strip_one_deep_in_tension_is_not_taken_as_bent():
+    # one T3 through the depth, one-way diagonals, clamped and pulled: the clamp's Poisson restraint reads as a
+    # gradient across the strip in the piece at the clamp only; uniform tension is exact in T3 (common practice)
+    _solve_without(_cantilever("T3", 6, 1, 6.0, 2.0, tip=0.0, axial=10.0), "slender")
+    _solve_warned(_cantilever("T3", 6, 1, 6.0, 2.0, tip=-1.0), "slender")  # the same strip bent: too few T3
+
+
 @pytest.mark.parametrize("size", [5.0, 2.5])
 def test_perforated_l_bracket_in_t3_is_slender_only_where_too_coarse(size):
     # an L bracket (100 x 30 and 60 x 80 arms) with three holes, T3. Measured against Q8 at size 0.6 (a

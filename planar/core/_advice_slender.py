@@ -277,7 +277,9 @@ def _bending(asm, res, bl, conns, labels, member, shape, slender) -> list[np.nda
     Along the zone's long axis t (from the second moments of its cells) the zone is cut into pieces
     about one depth long; in each piece the axial strain e_tt at the Gauss points is fitted as
     a + b eta (eta across the zone). Bending counts when |b| h / 2 exceeds 10 % of the largest
-    |a| + |b| h / 2 of the zone, and that strain is at least 1e-3 of the largest in the model. A
+    |a| + |b| h / 2 of the zone, and that strain is at least 1e-3 of the largest in the model, in two
+    pieces or more (the one piece of a short zone): a strip in tension held at one end shows a gradient
+    at the clamp only. A
     curved zone (its cells' spread across t over twice its depth) uses the sign test instead:
     tension and compression side by side, each above 10 % of the zone's largest strain.
     """
@@ -340,7 +342,11 @@ def _bending(asm, res, bl, conns, labels, member, shape, slender) -> list[np.nda
         bmax = np.zeros(nz); tmax = np.zeros(nz)
         np.maximum.at(bmax, zone_of_bin, bend)
         np.maximum.at(tmax, zone_of_bin, both)
-        straight_hit = (bmax > 0.1 * tmax) & (bmax > 1e-3 * gmax)
+        # bending along the zone, not in one piece only: a held end's Poisson restraint of a strip in tension
+        # reads as a gradient across it in the piece at the clamp (with one-way triangle diagonals)
+        bent = (bend > 0.1 * tmax[zone_of_bin]) & (bend > 1e-3 * gmax)
+        pieces = np.bincount(zone_of_bin, bent.astype(np.int64), minlength=nz)
+        straight_hit = (bmax > 0.1 * tmax) & (bmax > 1e-3 * gmax) & (pieces >= np.minimum(nb, 2))
         curved_hit = (np.minimum(tr_pos, tr_neg) > 0.1 * tr_max) & (tr_max > 1e-3 * gmax)
         out.append(np.where(curved, curved_hit, straight_hit) & slender)
     return out
