@@ -292,6 +292,7 @@ class ContactSet:
         """
         rhs = np.asarray(rhs).reshape(self.n_new, -1)
         nc = rhs.shape[1]
+        self._cases, self._load_scale = list(cases), np.abs(rhs).max(axis=0, initial=0.0)
         Bs = self._schur_rows(fac)
         if Bs is not None:  # the Schur complement on B's unknowns: W over every row, no solve for it
             h = Bs @ fac.schur_part(rhs)  # the relative motions with mu = 0, by the forward half of a solve
@@ -407,17 +408,9 @@ class ContactSet:
                           f"{self.g0[row] + self.d0[row]:.3g}); move the pin (at=) or the supports")
 
     def _refuse_free(self, case: str, active: np.ndarray):
-        from .pins import pin_loads
-
-        loads = pin_loads(self.tie.model, case)
-        idle = [p["d"]["pin"].name for p in self.parts if p["d"]["free_comp"].size and not np.any(
-                (p["d"]["Q"].T @ loads.get(p["d"]["pin"].name, np.zeros(3)))[p["d"]["free_comp"]])]
+        idle = [p["d"]["pin"].name for p in self._idle_parts(case)]
         if idle:
-            raise SolverError(
-                f"load case {case!r} puts no load on the contact pin(s) {', '.join(map(repr, idle))} where nothing "
-                "holds them (hold=None, or across their held direction), so nothing places them in their holes and the case has no unique "
-                "answer. A free contact pin needs a load in every load case: solve the cases that do not load it with "
-                "a model without the pin, or hold the pin (hold=)")
+            self._refuse_idle(case, idle)
         names = ", ".join(repr(p["d"]["pin"].name) for p in self.parts)
         loaded = [p["d"]["pin"].name for p in self.parts if not p["d"]["pin"].held[:2].all()]
         what = "the part" + (f" or the loaded pin(s) {', '.join(map(repr, loaded))}" if loaded else "")
@@ -427,6 +420,39 @@ class ContactSet:
             "A contact pin only pushes (no tension, no friction): check the direction of the loads, reduce the "
             "clearance, or hold the part with a support (or use tie='rigid' for a bonded pin)")
 
+    def _idle_parts(self, case: str) -> list[dict]:
+        """The contact pins that some direction leaves free and that ``case`` does not load along it."""
+        from .pins import pin_loads
+
+        loads = pin_loads(self.tie.model, case)
+        return [p for p in self.parts if p["d"]["free_comp"].size and not np.any(
+                (p["d"]["Q"].T @ loads.get(p["d"]["pin"].name, np.zeros(3)))[p["d"]["free_comp"]])]
+
+    @staticmethod
+    def _refuse_idle(case: str, idle: list[str], touching: bool = False):
+        how = (" (it only touches its edge, with no more than round-off of force, at a place the "
+               "active set happened to pick)") if touching else ""
+        raise SolverError(
+            f"load case {case!r} puts no load on the contact pin(s) {', '.join(map(repr, idle))} where nothing "
+            "holds them (hold=None, or across their held direction), so nothing places them in their holes and the case has no unique "
+            f"answer{how}. A free contact pin needs a load in every load case: solve the cases that do not load it with "
+            "a model without the pin, or hold the pin (hold=)")
+
+    def _refuse_touching_idle(self) -> None:
+        """Refuse an unloaded free pin that bears nothing but round-off: its place and contact arc are arbitrary.
+
+        The active set may close a node at zero force; for a free pin that nothing loads, those closed nodes
+        are all that places it (the system is regular, the answer is not unique). A pin squeezed by its hole
+        (no clearance, the hole closing on it) bears real forces and is kept.
+        """
+        for j, case in enumerate(getattr(self, "_cases", [])):
+            scale = max(float(self._load_scale[j]) if j < self._load_scale.size else 0.0,
+                        float(np.abs(self.lam[:, j]).max(initial=0.0)))
+            idle = [p["d"]["pin"].name for p in self._idle_parts(case)
+                    if np.abs(self.lam[p["rows"], j]).sum() <= 1e-9 * scale]
+            if idle:
+                self._refuse_idle(case, idle, touching=True)
+
     # ------------------------------------------------------------------ after the solve
     def forces(self, sol: np.ndarray, ncases: int) -> np.ndarray:
         """The contact forces on the part's edge nodes (2n, m) from the final solution; keeps lambda and the gaps."""
@@ -435,6 +461,7 @@ class ContactSet:
         self.gap = self.g0[:, None] + self.d0[:, None] + By
         self.lam = self.mu - self.k[:, None] * By
         self.lam[~self.live[:, None] | ~self.active] = 0.0  # open nodes: exactly no force (their round-off dropped)
+        self._refuse_touching_idle()
         self.motion = y[self.nO:]
         P = np.zeros((2 * self.tie.mesh.n_nodes, ncases))
         for p in self.parts:
