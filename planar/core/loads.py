@@ -301,6 +301,33 @@ class _OldNameWord:
         return owner.name
 
 
+_TEXT_HOOKS = ("describe", "describe_plain", "short_name")
+
+
+def _guarded_text_hook(fn: Callable, hook: str) -> Callable:
+    """A load kind's text hook whose failure or non-text answer is a PluginError naming the kind and hook.
+
+    The report, the model picture and the inputs table call these hooks far from the plugin; an
+    exception raised inside one (or a None returned) would otherwise surface there as a bare
+    traceback or the word "None".
+    """
+    import functools
+
+    @functools.wraps(fn)
+    def guarded(self, *args, **kwargs):
+        from .registry import describe_provider, plugin_call
+
+        with plugin_call("load", self, f"{hook}()"):
+            text = fn(self, *args, **kwargs)
+        if not isinstance(text, str):
+            raise PluginError(f"{describe_provider('load', self)}: {hook}() returned {type(text).__name__} "
+                              f"{text!r}, not a str; make it return the load in a few words")
+        return text
+
+    guarded._planar_guarded = True
+    return guarded
+
+
 class LoadKind:
     """Base of every load kind.
 
@@ -320,6 +347,10 @@ class LoadKind:
             warnings.warn(f"load kind {own['kind']!r}: the class attribute `kind` is now `name`; the old word works "
                           "for one release", DeprecationWarning, stacklevel=2)
             cls.name = own["kind"]
+        for hook in _TEXT_HOOKS:  # a load kind's own plain-words hooks, guarded wherever they are called
+            fn = own.get(hook)
+            if callable(fn) and not getattr(fn, "_planar_guarded", False):
+                setattr(cls, hook, _guarded_text_hook(fn, hook))
 
     def nodal_forces(self, ctx: LoadContext) -> np.ndarray:
         """Consistent nodal forces, shape (n_nodes, 2)."""

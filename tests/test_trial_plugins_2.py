@@ -1,0 +1,116 @@
+"""Plugins written by an outside engineer: a load kind whose plain-words hooks fail or return nonsense.
+
+The plugin classes are made into throwaway distributions (``*.dist-info`` on a temporary sys.path
+entry, as in tests/test_plugins.py) and found through their ``planar.loads`` entry points.
+"""
+from __future__ import annotations
+
+import sys
+import textwrap
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import planar
+from planar.core.errors import PluginError
+from planar.core.registry import reload_plugins
+
+PLUGIN = """
+    import numpy as np
+    from planar.plugin import LoadKind
+
+    class _Edge(LoadKind):
+        def __init__(self, where="top", p0=0.0, p1=0.0, x0=0.0, x1=1.0):
+            self.where, self.p0, self.p1, self.x0, self.x1 = where, float(p0), float(p1), float(x0), float(x1)
+
+        def names_used(self):
+            return [("edge", self.where)]
+
+        def nodal_forces(self, ctx):
+            def traction(x, normal):
+                p = self.p0 + (self.p1 - self.p0) * (x[..., 0] - self.x0) / (self.x1 - self.x0)
+                return -p[..., None] * normal
+            return ctx.integrate_traction(self.where, traction)
+
+    class LinearPressure(_Edge):
+        name = "trial-linear-pressure"
+
+        def describe(self):
+            return f"linear pressure on '{self.where}', {self.p0:g} to {self.p1:g}"
+
+    class RaisingDescribe(_Edge):
+        name = "trial-raising-describe"
+
+        def describe(self):
+            raise RuntimeError("describe not written yet")
+
+    class RaisingPlain(_Edge):
+        name = "trial-raising-plain"
+
+        def describe_plain(self, units):
+            return self.no_such_attribute
+
+    class NoneDescribe(_Edge):
+        name = "trial-none-describe"
+
+        def describe(self):
+            return None
+"""
+
+KINDS = {"trial-linear-pressure": "LinearPressure", "trial-raising-describe": "RaisingDescribe",
+         "trial-raising-plain": "RaisingPlain", "trial-none-describe": "NoneDescribe"}
+
+
+@pytest.fixture
+def trial_loads(monkeypatch, tmp_path):
+    """A distribution 'planar-trial-loads' with the load kinds above, discovered; undone afterwards."""
+    info = tmp_path / "planar_trial_loads-0.1.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-loads\nVersion: 0.1.0\n")
+    (info / "entry_points.txt").write_text(
+        "[planar.loads]\n" + "".join(f"{k} = planar_trial_loads_2:{v}\n" for k, v in KINDS.items()))
+    (tmp_path / "planar_trial_loads_2.py").write_text(textwrap.dedent(PLUGIN))
+    monkeypatch.syspath_prepend(str(tmp_path))
+    reload_plugins()
+    yield
+    monkeypatch.undo()
+    sys.modules.pop("planar_trial_loads_2", None)
+    reload_plugins()
+
+
+def _model(kind, **kw):
+    model = planar.Model(planar.rectangle_mesh(4.0, 1.0, 8, 2, "Q8"), planar.Isotropic(E=200e3, nu=0.3),
+                         thickness=0.5)
+    model.add_support(planar.Fixed("bottom"))
+    model.add_load(kind, case="c", where="top", p0=10.0, p1=30.0, x0=0.0, x1=4.0, **kw)
+    return model
+
+
+def test_linear_pressure_plugin_resultant_and_moment_by_statics(trial_loads):
+    # p = 10 + 5 x on the top edge (0 <= x <= 4), thickness 0.5: resultant -(p0 + p1)/2 L t in y and
+    # moment about the origin -t (p0 L^2/2 + (p1 - p0) L^2/3) (statics, common practice)
+    result = planar.solve(_model("trial-linear-pressure"))["c"]
+    assert np.allclose(result.total_applied(), [0.0, -40.0], rtol=0, atol=1e-12)
+    applied, reaction = result.total_moment((0.0, 0.0))
+    assert applied == pytest.approx(-0.5 * (10.0 * 16.0 / 2 + 20.0 * 16.0 / 3), rel=1e-12)
+    assert reaction == pytest.approx(-applied, rel=1e-9)
+
+
+@pytest.mark.parametrize("kind, hook", [("trial-raising-describe", "describe"),
+                                        ("trial-raising-plain", "describe_plain"),
+                                        ("trial-none-describe", "describe")])
+def test_plain_words_hook_that_fails_is_a_plugin_error_naming_plugin_and_hook(trial_loads, kind, hook):
+    from planar.post.inputs import describe_load
+
+    model = _model(kind)
+    load = model.cases["c"][0]
+    with pytest.raises(PluginError) as err:
+        describe_load(load, model.unit_system)
+    text = str(err.value)
+    assert kind in text and "planar-trial-loads" in text and f"{hook}()" in text
+    # the report, which draws the loads and lists them, stops with the same error, not a traceback
+    from planar.post.report import stress_check_report
+
+    with pytest.raises(PluginError, match=kind):
+        stress_check_report(planar.solve(model)["c"])
