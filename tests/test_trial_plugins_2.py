@@ -56,6 +56,21 @@ PLUGIN = """
 
         def describe(self):
             return None
+
+    from planar.plugin import Q4
+
+    class LopsidedQ4(Q4):
+        # a Q4 whose own stiffness has a stray term above the diagonal (a transposition slip)
+        name = "trial-lopsided-q4"
+
+        @classmethod
+        def stiffness(cls, coords, D, thickness, rule):
+            from planar.plugin import jacobian, strain_matrix
+            detj, dndx = jacobian(cls, coords, rule.points)
+            B = strain_matrix(dndx)
+            K = np.einsum("eqai,ab,eqbj,eq,q->eij", B, D, B, detj, rule.weights) * thickness
+            K[:, 0, 3] += 0.5 * K[:, 0, 0]
+            return K
 """
 
 KINDS = {"trial-linear-pressure": "LinearPressure", "trial-raising-describe": "RaisingDescribe",
@@ -69,7 +84,8 @@ def trial_loads(monkeypatch, tmp_path):
     info.mkdir()
     (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-loads\nVersion: 0.1.0\n")
     (info / "entry_points.txt").write_text(
-        "[planar.loads]\n" + "".join(f"{k} = planar_trial_loads_2:{v}\n" for k, v in KINDS.items()))
+        "[planar.loads]\n" + "".join(f"{k} = planar_trial_loads_2:{v}\n" for k, v in KINDS.items())
+        + "[planar.elements]\ntrial-lopsided-q4 = planar_trial_loads_2:LopsidedQ4\n")
     (tmp_path / "planar_trial_loads_2.py").write_text(textwrap.dedent(PLUGIN))
     monkeypatch.syspath_prepend(str(tmp_path))
     reload_plugins()
@@ -114,3 +130,14 @@ def test_plain_words_hook_that_fails_is_a_plugin_error_naming_plugin_and_hook(tr
 
     with pytest.raises(PluginError, match=kind):
         stress_check_report(planar.solve(model)["c"])
+
+
+def test_element_stiffness_not_symmetric_is_a_plugin_error_not_a_units_alarm(trial_loads):
+    # a linear-elastic stiffness is symmetric (Maxwell-Betti reciprocity, common practice); a plugin's
+    # lopsided matrix used to reach the solver and come back as "units mixed up" blaming the user
+    model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 4, 2, "Q4"), planar.Isotropic(E=1000.0, nu=0.25),
+                         elements={"Q4": "trial-lopsided-q4"})
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=1.0), case="pull")
+    with pytest.raises(PluginError, match=r"trial-lopsided-q4.*planar-trial-loads.*stiffness.*not symmetric"):
+        planar.solve(model)

@@ -342,4 +342,20 @@ def check_plugin_array(kind: str, obj: Any, what: str, value, shape: tuple) -> n
                           f"expected {tuple(shape)}")
     if not np.all(np.isfinite(arr)):
         raise PluginError(f"{describe_provider(kind, obj)}: {what} returned NaN or infinite values")
+    if (kind, what) in _SYMMETRIC and arr.size:
+        # a linear-elastic stiffness is symmetric (reciprocity); a lopsided one otherwise reaches the
+        # solver and comes back as an out-of-balance answer blamed on the user's units
+        scale = np.abs(arr).max(axis=(-2, -1))
+        gap = np.abs(arr - np.swapaxes(arr, -1, -2)).max(axis=(-2, -1))
+        bad = np.flatnonzero(gap > 1e-8 * np.where(scale > 0, scale, 1.0))
+        if bad.size:
+            e = int(bad[0])
+            raise PluginError(f"{describe_provider(kind, obj)}: {what} returned matrices that are not symmetric "
+                              f"({bad.size} of {arr.shape[0]} in the batch; the first, batch element {e}, off by "
+                              f"{gap[e]:.3g} against its largest term {scale[e]:.3g}); an elastic stiffness is "
+                              "symmetric: check the plugin for a transposed product or a term added on one side "
+                              "of the diagonal only")
     return arr
+
+
+_SYMMETRIC = {("element", "stiffness")}  # hooks whose (e, m, m) answer must be symmetric
