@@ -141,3 +141,47 @@ def test_element_stiffness_not_symmetric_is_a_plugin_error_not_a_units_alarm(tri
     model.add_load(planar.Traction("right", tx=1.0), case="pull")
     with pytest.raises(PluginError, match=r"trial-lopsided-q4.*planar-trial-loads.*stiffness.*not symmetric"):
         planar.solve(model)
+
+
+@pytest.mark.parametrize("free", ['"shear"', '("shear", "volumentric")', '["sheer"]'])
+def test_free_of_locking_misspelt_is_refused_at_discovery(monkeypatch, tmp_path, free):
+    # planar.core.advice reads free_of_locking as a set of words; "shear" alone became {'s', 'h', ...}
+    # and a misspelt word counted as not free, so the locking and slender warnings fired on an element
+    # that had declared itself free of them
+    info = tmp_path / "planar_trial_locking-0.1.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-locking\nVersion: 0.1.0\n")
+    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-free-q8 = planar_trial_locking_2:FreeQ8\n")
+    (tmp_path / "planar_trial_locking_2.py").write_text(
+        f"from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n    free_of_locking = {free}\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    try:
+        reg = reload_plugins()
+        problems = [p for p in reg.problems if p.name == "trial-free-q8"]
+        assert problems and "free_of_locking" in problems[0].error and "'volumetric', 'shear'" in problems[0].error
+        with pytest.raises(planar.PlanarError, match="free_of_locking"):
+            planar.Model(planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q8"), planar.Isotropic(E=1.0, nu=0.3),
+                         elements={"Q8": "trial-free-q8"})
+    finally:
+        monkeypatch.undo()
+        sys.modules.pop("planar_trial_locking_2", None)
+        reload_plugins()
+
+
+def test_free_of_locking_declared_right_still_loads(monkeypatch, tmp_path):
+    info = tmp_path / "planar_trial_locking-0.1.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-locking\nVersion: 0.1.0\n")
+    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-free-q8 = planar_trial_locking_3:FreeQ8\n")
+    (tmp_path / "planar_trial_locking_3.py").write_text(
+        "from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n"
+        "    free_of_locking = ('volumetric', 'shear')\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    try:
+        reg = reload_plugins()
+        assert "trial-free-q8" in reg.names("element")
+        assert not [p for p in reg.problems if p.name == "trial-free-q8"]
+    finally:
+        monkeypatch.undo()
+        sys.modules.pop("planar_trial_locking_3", None)
+        reload_plugins()

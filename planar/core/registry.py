@@ -27,6 +27,7 @@ __all__ = ["Registry", "Entry", "PluginProblem", "element_type", "load_kind", "r
 
 GROUPS = {"element": "planar.elements", "load": "planar.loads"}
 KIND_WORDS = {"element": "element type", "load": "load kind"}
+LOCKING_WORDS = ("volumetric", "shear")  # the words of an element's free_of_locking
 
 
 @dataclass
@@ -105,6 +106,12 @@ def _validate_element(obj: Any, name: str) -> None:
         h = getattr(obj, hook, None)
         if h is not None and not callable(h):
             raise PluginError(f"the optional hook {hook} must be callable or None, not {h!r}")
+    free = getattr(obj, "free_of_locking", None)
+    if free is not None and (isinstance(free, str) or not isinstance(free, (tuple, list, set, frozenset))
+                             or any(w not in LOCKING_WORDS for w in free)):
+        raise PluginError(f"free_of_locking must be a tuple of the words {', '.join(map(repr, LOCKING_WORDS))} "
+                          f"(or left out), not {free!r}: a misspelt or bare word would be read as not free and "
+                          "set off locking warnings that do not apply")
     k = int(obj.n_nodes)
     ref = np.asarray(obj.ref_nodes, dtype=float)
     if ref.shape != (k, 2):
