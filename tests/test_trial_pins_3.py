@@ -47,3 +47,36 @@ def test_a_free_pin_squeezed_by_its_hole_is_still_solved():
     assert np.hypot(*st.force) < 1e-6 * 10e3
     pa = next(x for x in r.support_reactions() if x.name == "pA")
     assert pa.reaction[0] == pytest.approx(-10e3, rel=1e-9)  # statics: the held pin takes the whole pull
+
+
+# trial: a lug checked with a thickness or hole diameter that is not the model's
+@pytest.fixture(scope="module")
+def steel_lug():
+    from planar.geometry import lug
+
+    m = mesh(lug(40.0, 16.0, 40.0, end="round"), size=6.0, element="T6", refine=[Refine("hole", size=1.5)])
+    model = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    model.add_support(planar.Fixed("base"))
+    model.add_pin(Pin("hole", tie="contact", clearance=0.02, hold="x", name="pin"))
+    model.add_load(PinLoad("pin", fy=15e3), case="c")
+    return planar.solve(model)["c"]
+
+
+@pytest.mark.parametrize("D, t, says", [(16.0, 8.0 / 25.4, "thickness given, t = 0.315 mm, is not the model's at the hole (8 mm)"),
+                                        (12.0, 8.0, "hole diameter given, D = 12 mm, is not the diameter of the edge 'hole'")])
+def test_a_lug_check_given_another_thickness_or_diameter_says_so(steel_lug, D, t, says):
+    # bearing P / (D t) and net section P / ((W - D) t) (common practice, Bruhn sec. D1) are of the D and t given,
+    # the peak of the model: t in inches on a model in mm read bearing 4.7 kMPa and Kt on bearing 0.04 with no word
+    from planar.post import lug_check
+
+    c = lug_check(steel_lug, 15e3, 40.0, D, t, edge_distance=40.0)
+    assert c.bearing == pytest.approx(15e3 / (D * t), rel=1e-12)  # P / (D t)
+    assert says in c.size_note and f"CAUTION: {c.size_note}." in c.table() and c.as_dict()["size_note"] == c.size_note
+
+
+def test_a_lug_check_on_the_pin_diameter_within_its_clearance_is_quiet(steel_lug):
+    # a 0.02 mm radial clearance: the pin's 15.96 mm is the hole's within 0.3 %, no caution (no false alarm)
+    from planar.post import lug_check
+
+    c = lug_check(steel_lug, 15e3, 40.0, 15.96, 8.0, edge_distance=40.0)
+    assert c.size_note == "" and "CAUTION" not in c.table()

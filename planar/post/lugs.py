@@ -230,6 +230,8 @@ class LugCheck:
     #: set when the mesh does not resolve the peak hoop stress (the ``"coarse-peak"`` or ``"linear-peak"``
     #: warning, short)
     mesh_note: str = ""
+    #: set when the thickness or hole diameter given is not the model's at the hole (see :func:`lug_check`)
+    size_note: str = ""
 
     @property
     def stress_unit(self) -> str:
@@ -269,6 +271,8 @@ class LugCheck:
             lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {_plain(value):>10} {unit}{tail}")
         if self.margins:
             lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
+        if self.size_note:
+            lines.append(f"  CAUTION: {self.size_note}.")
         if self.load_note:
             lines.append(f"  CAUTION: {self.load_note}.")
         if self.direction_note:
@@ -296,6 +300,7 @@ class LugCheck:
             "kt_net": self.kt_net, "kt_bearing": self.kt_bearing, "margins": dict(self.margins),
             "factor_of_safety": self.factor_of_safety, "note": self.concentration.note,
             "direction_note": self.direction_note, "load_note": self.load_note, "mesh_note": self.mesh_note,
+            "size_note": self.size_note,
         })
 
 
@@ -347,7 +352,9 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     (the pin's force, or the loads on the hole's nodes; twice that on a half model) differs from
     P, and from its component along the lug's axis, by more than :data:`LOAD_TOLERANCE`, the
     table says so (``load_note``): the nominal stresses are of P while the peak and Kt are of
-    the result.
+    the result. When the thickness of the elements on the hole, or the diameter of a circular hole
+    in the mesh, differs from t or D by more than :data:`SIZE_TOLERANCE`, the table says so too
+    (``size_note``).
     """
     result = as_result(result, "lug_check")
     if shear_allowable is not None and edge_distance is None:
@@ -386,7 +393,44 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
                     direction_note="; ".join(notes), load_note=_load_mismatch(result, edge, P),
-                    mesh_note=mesh_note)
+                    mesh_note=mesh_note, size_note=_size_mismatch(result, edge, D, t))
+
+
+#: the share by which the thickness or hole diameter given may differ from the model's before the check says so
+SIZE_TOLERANCE = 0.02
+
+
+def _size_mismatch(result, edge: str, D: float, t: float) -> str:
+    """A caution when ``t`` is not the thickness of the elements on the hole, or ``D`` not the hole's diameter.
+
+    The nominal stresses are of the D and t given; the peak (and so Kt) is of the model: a t or D not the
+    model's (a length unit mixed up, a pin's diameter for the hole's) makes Kt wrong by their ratio. The
+    diameter is compared only where the edge is a circular arc (a circle fitted through its nodes, I. Kasa,
+    1976); a D that differs on purpose (a bushed hole checked on the lug's bore) is said, not refused.
+    """
+    from ..core._circle import fit_circle
+
+    mesh = result.mesh
+    if edge not in mesh.edge_sets:
+        return ""
+    hole = np.unique(mesh.edge(edge))
+    lu = length_unit(result.units)
+    unit = f" {lu}" if lu else ""
+    out = []
+    blocks = getattr(getattr(result, "assembly", None), "blocks", None) or []
+    ts = sorted({float(b.thickness) for b in blocks if np.isin(np.asarray(b.conn), hole).any()})
+    if ts and all(abs(t - tm) > SIZE_TOLERANCE * tm for tm in ts):
+        have = f"{_plain(ts[0])} to {_plain(ts[-1])}" if len(ts) > 1 else _plain(ts[0])
+        out.append(f"the thickness given, t = {_plain(t)}{unit}, is not the model's at the hole ({have}{unit})")
+    if hole.size >= 3:
+        _, r, res = fit_circle(mesh.nodes[hole])
+        if np.isfinite(r) and res < 0.01 and abs(D - 2 * r) > SIZE_TOLERANCE * 2 * r:
+            out.append(f"the hole diameter given, D = {_plain(D)}{unit}, is not the diameter of the edge {edge!r} "
+                       f"in the mesh ({_plain(2 * r)}{unit})")
+    if not out:
+        return ""
+    return ("; ".join(out) + ": the nominal stresses are of the t and D given, but the peak and Kt are of the model; "
+            "give the model's")
 
 
 def _resolution(result, pk, es: EdgeStresses, recovery: str) -> str:
