@@ -57,6 +57,18 @@ PLUGIN = """
         def describe(self):
             return None
 
+    class Strict(_Edge):
+        name = "trial-strict"
+
+        def __init__(self, where="top", p="0"):
+            self.where, self.p = where, float(p)          # float("ten") raises ValueError
+
+    class Fussy(_Edge):
+        name = "trial-fussy"
+
+        def __init__(self, where="top"):
+            self.where = {"top": "top"}[where]         # a KeyError from inside the plugin
+
     from planar.plugin import Q4
 
     class LopsidedQ4(Q4):
@@ -74,7 +86,8 @@ PLUGIN = """
 """
 
 KINDS = {"trial-linear-pressure": "LinearPressure", "trial-raising-describe": "RaisingDescribe",
-         "trial-raising-plain": "RaisingPlain", "trial-none-describe": "NoneDescribe"}
+         "trial-raising-plain": "RaisingPlain", "trial-none-describe": "NoneDescribe",
+         "trial-strict": "Strict", "trial-fussy": "Fussy"}
 
 
 @pytest.fixture
@@ -185,3 +198,14 @@ def test_free_of_locking_declared_right_still_loads(monkeypatch, tmp_path):
         monkeypatch.undo()
         sys.modules.pop("planar_trial_locking_3", None)
         reload_plugins()
+
+
+def test_plugin_load_parameters_refused_is_a_planar_error_naming_the_kind(trial_loads):
+    # a ValueError raised by the plugin's __init__ used to escape add_load as a bare traceback
+    model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4"), planar.Isotropic(E=1.0, nu=0.3))
+    with pytest.raises(planar.InputError, match=r"trial-strict.*planar-trial-loads.*could not convert"):
+        model.add_load("trial-strict", where="top", p="ten")
+    with pytest.raises(PluginError, match=r"trial-fussy.*planar-trial-loads.*__init__.*KeyError"):
+        model.add_load("trial-fussy", where="left")
+    model.add_load("trial-strict", where="top", p="2.5")       # good parameters still work
+    assert model.cases["load case 1"][0].p == 2.5

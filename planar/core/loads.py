@@ -328,6 +328,34 @@ def _guarded_text_hook(fn: Callable, hook: str) -> Callable:
     return guarded
 
 
+def _guarded_init(fn: Callable) -> Callable:
+    """A plugin load kind's ``__init__`` whose failure is a planar error naming the kind.
+
+    A TypeError or ValueError (a missing or unknown parameter, a value that is not a number) is an
+    InputError about the parameters; anything else is a PluginError about the plugin.
+    """
+    import functools
+
+    @functools.wraps(fn)
+    def guarded(self, *args, **kwargs):
+        from .registry import describe_provider
+
+        try:
+            fn(self, *args, **kwargs)
+        except (PlanarError, MemoryError, KeyboardInterrupt):
+            raise
+        except (TypeError, ValueError) as exc:
+            raise InputError(f"{describe_provider('load', self)}: its parameters were refused: "
+                             f"{type(exc).__name__}: {exc}; give the parameters the load kind's documentation "
+                             "asks for, with numbers where numbers are expected") from None
+        except Exception as exc:
+            raise PluginError(f"{describe_provider('load', self)} failed in __init__: {type(exc).__name__}: {exc}; "
+                              "report it to the plugin's authors, or use another load kind") from exc
+
+    guarded._planar_guarded = True
+    return guarded
+
+
 class LoadKind:
     """Base of every load kind.
 
@@ -347,6 +375,9 @@ class LoadKind:
             warnings.warn(f"load kind {own['kind']!r}: the class attribute `kind` is now `name`; the old word works "
                           "for one release", DeprecationWarning, stacklevel=2)
             cls.name = own["kind"]
+        if "__init__" in own and not cls.__module__.startswith("planar.") and \
+                not getattr(own["__init__"], "_planar_guarded", False):
+            cls.__init__ = _guarded_init(own["__init__"])  # a plugin's parameters, refused in planar's words
         for hook in _TEXT_HOOKS:  # a load kind's own plain-words hooks, guarded wherever they are called
             fn = own.get(hook)
             if callable(fn) and not getattr(fn, "_planar_guarded", False):
