@@ -80,3 +80,37 @@ def test_a_lug_check_on_the_pin_diameter_within_its_clearance_is_quiet(steel_lug
 
     c = lug_check(steel_lug, 15e3, 40.0, 15.96, 8.0, edge_distance=40.0)
     assert c.size_note == "" and "CAUTION" not in c.table()
+
+
+# trial: a rigid pin moved along x (move=) in every load case, the cases combined
+def _moved_pin_cases(move):
+    g = Plate.rectangle(100.0, 40.0).cut(Circle((70.0, 20.0), 8.0, name="hole"))
+    md = planar.Model(mesh(g, 4.0, element="Q8"), planar.Isotropic(E=200e3, nu=0.3), thickness=5.0,
+                      units="N, mm, MPa")
+    md.add_support(planar.Fixed("left"))
+    md.add_pin(Pin("hole", tie="rigid", hold="x", move=move, name="p"))
+    md.add_load(planar.Traction("top", ty=1.0), case="a")
+    md.add_load(planar.Traction("top", tx=1.0), case="b")
+    return planar.solve(md)
+
+
+def test_a_combination_that_scales_a_pins_prescribed_move_says_so():
+    # superposition (Timoshenko and Goodier, Theory of Elasticity, 1970, sec. 6): a move that is part of
+    # both cases counts 1.5 - 1 = 0.5 times; a support's prescribed displacement was warned of, a pin's not
+    from planar.post.combine import combine
+
+    rr = _moved_pin_cases((0.02, 0.0, 0.0))
+    with pytest.warns(UserWarning, match=r"a pin's move=\) prescribe a non-zero displacement.*applies it 0.5 times"):
+        c = combine(rr, {"a": 1.5, "b": -1.0})
+    assert c.pin_states[0]["motion"][0] == pytest.approx(0.5 * 0.02, rel=1e-9)
+
+
+def test_a_combination_of_an_unmoved_pin_is_quiet():
+    import warnings
+
+    from planar.post.combine import combine
+
+    rr = _moved_pin_cases(None)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        combine(rr, {"a": 1.5, "b": -1.0})

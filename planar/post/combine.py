@@ -101,9 +101,12 @@ def _check_compatible(parts: Sequence[tuple[str, Result]], what: str) -> None:
 
 
 def _prescribed_nonzero(result: Result) -> bool:
-    """Whether the model's supports prescribe any non-zero displacement."""
+    """Whether the model's supports, or its pins' ``move=``, prescribe any non-zero displacement."""
     from ..core.static import constrain
 
+    pins = getattr(result.model, "pins", None) or []
+    if any(np.any(np.asarray(getattr(p, "values", 0.0)) != 0.0) for p in pins):
+        return True  # a pin's prescribed motion is part of every load case too
     try:
         cons = constrain(result.mesh, result.model.supports)
     except Exception:  # pragma: no cover - the model was solved, so its supports are sound
@@ -136,7 +139,7 @@ class CombinedResult(Result):
     Elasticity, 3rd ed., 1970, section 6): for K u_i = F_i, K (sum f_i u_i) = sum f_i F_i. Strains,
     stresses, sigma_zz and initial strains are combined at the Gauss points with the same factors;
     von Mises, Tresca and principal values are computed afterwards from the combined stress. A
-    prescribed displacement is part of every case, so in a combination it counts with the sum of
+    prescribed displacement (a support's, or a pin's ``move=``) is part of every case, so in a combination it counts with the sum of
     the factors (a warning says so when that sum is not 1 and the prescribed value is not zero).
     Results with bearing contact (a pin with ``tie="contact"``) are refused: the contact arc
     depends on the load, so they do not superpose; a load case with the combined loads, solved anew,
@@ -260,8 +263,8 @@ def combine(results: Mapping[str, Result], factors: Mapping[str, float], *,
     total = sum(f for f, _ in parts)
     if abs(total - 1.0) > 1e-12 and _prescribed_nonzero(parts[0][1]):
         warnings.warn(
-            f"combination {name!r}: the supports prescribe a non-zero displacement, which is part of every "
-            f"load case, so the combination applies it {total:g} times; make the factors add up to 1, or "
+            f"combination {name!r}: the supports (or a pin's move=) prescribe a non-zero displacement, which is "
+            f"part of every load case, so the combination applies it {total:g} times; make the factors add up to 1, or "
             "put the prescribed displacement in a model of its own", UserWarning, stacklevel=2)
     return CombinedResult(name, parts)
 
