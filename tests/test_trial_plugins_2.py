@@ -63,6 +63,12 @@ PLUGIN = """
         def __init__(self, where="top", p="0"):
             self.where, self.p = where, float(p)          # float("ten") raises ValueError
 
+    class WideTraction(_Edge):
+        name = "trial-wide-traction"
+
+        def nodal_forces(self, ctx):      # three components per point where the helper wants two
+            return ctx.integrate_traction(self.where, lambda x, n: np.zeros(x.shape[:-1] + (3,)))
+
     class Fussy(_Edge):
         name = "trial-fussy"
 
@@ -87,7 +93,8 @@ PLUGIN = """
 
 KINDS = {"trial-linear-pressure": "LinearPressure", "trial-raising-describe": "RaisingDescribe",
          "trial-raising-plain": "RaisingPlain", "trial-none-describe": "NoneDescribe",
-         "trial-strict": "Strict", "trial-fussy": "Fussy"}
+         "trial-strict": "Strict", "trial-fussy": "Fussy",
+         "trial-wide-traction": "WideTraction"}
 
 
 @pytest.fixture
@@ -209,3 +216,20 @@ def test_plugin_load_parameters_refused_is_a_planar_error_naming_the_kind(trial_
         model.add_load("trial-fussy", where="left")
     model.add_load("trial-strict", where="top", p="2.5")       # good parameters still work
     assert model.cases["load case 1"][0].p == 2.5
+
+
+def test_helper_error_inside_a_plugin_names_the_plugin_and_hook(trial_loads):
+    # ctx.integrate_traction refuses the plugin's traction function; the message used to read as if
+    # the user's own traction were at fault, naming no plugin
+    model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4"), planar.Isotropic(E=1.0, nu=0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load("trial-wide-traction", case="c", where="right")
+    with pytest.raises(planar.InputError, match=r"trial-wide-traction.*planar-trial-loads.*in nodal_forces.*shape"):
+        planar.solve(model)
+    # a built-in load kind's message is left as it was
+    model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 2, 1, "Q4"), planar.Isotropic(E=1.0, nu=0.3))
+    model.add_support(planar.Fixed("left"))
+    model.add_load(planar.Traction("right", tx=lambda x, y: np.zeros((2, 2))), case="c")
+    with pytest.raises(planar.PlanarError) as err:
+        planar.solve(model)
+    assert "load kind" not in str(err.value)

@@ -319,6 +319,12 @@ def describe_provider(kind: str, obj: Any) -> str:
     return f"{word} {name!r} (class {cls.__module__}.{cls.__qualname__}, not a registered plugin)"
 
 
+def _builtin(kind: str, obj: Any) -> bool:
+    """Whether ``obj`` (a class or an instance) is one of planar's own element types or load kinds."""
+    cls = obj if isinstance(obj, type) else type(obj)
+    return cls.__module__ == "planar" or cls.__module__.startswith("planar.")
+
+
 @contextmanager
 def plugin_call(kind: str, obj: Any, what: str):
     """Turn an unexpected exception raised inside an element type or load kind into a PluginError.
@@ -328,7 +334,15 @@ def plugin_call(kind: str, obj: Any, what: str):
     """
     try:
         yield
-    except (PlanarError, MemoryError, KeyboardInterrupt):
+    except PlanarError as exc:
+        # raised by planar's helpers on the plugin's behalf: the message gains the plugin's name and
+        # hook, since what it blames (a traction function, a name) may be the plugin's, not the user's
+        if not _builtin(kind, obj) and not getattr(exc, "_plugin_named", False) and exc.args \
+                and isinstance(exc.args[0], str):
+            exc.args = (f"{describe_provider(kind, obj)}, in {what}: {exc.args[0]}",) + exc.args[1:]
+            exc._plugin_named = True
+        raise
+    except (MemoryError, KeyboardInterrupt):
         raise
     except Exception as exc:
         raise PluginError(
