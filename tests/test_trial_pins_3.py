@@ -114,3 +114,17 @@ def test_a_combination_of_an_unmoved_pin_is_quiet():
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         combine(rr, {"a": 1.5, "b": -1.0})
+
+
+def test_a_free_pin_with_no_clearance_in_a_part_moved_rigidly_is_still_solved():
+    # the link carried by pin A alone, moved 0.01 mm along x: no strain, the pin in the middle hole touches
+    # all round with no clearance and bears nothing, yet cannot move but with its hole (rigid motion, common
+    # practice); an unloaded pin is refused only when it could slide off the nodes that hold it
+    g = Plate.rectangle(120.0, 30.0).cut(Circle((20.0, 15.0), 6.0, name="A")).cut(Circle((60.0, 15.0), 6.0, name="C"))
+    md = planar.Model(mesh(g, 3.0, element="T6"), planar.Isotropic(E=200e3, nu=0.3), thickness=5.0, units="N, mm, MPa")
+    md.add_pin(Pin("A", tie="rigid", hold="both", rotation="held", move=(0.01, 0.0, 0.0), name="pA"))
+    md.add_pin(Pin("C", tie="contact", hold=None, name="pC", clearance=0.0))
+    md.add_load(planar.Traction("top", ty=0.0), case="moved")
+    r = planar.solve(md)["moved"]
+    s = next(x for x in r.pin_states if x["name"] == "pC")
+    assert s["motion"][0] == pytest.approx(0.01, rel=1e-6) and abs(s["motion"][1]) < 1e-9

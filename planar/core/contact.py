@@ -439,19 +439,36 @@ class ContactSet:
             "a model without the pin, or hold the pin (hold=)")
 
     def _refuse_touching_idle(self) -> None:
-        """Refuse an unloaded free pin that bears nothing but round-off: its place and contact arc are arbitrary.
+        """Refuse an unloaded free pin that bears nothing but round-off and could slide off its closed nodes.
 
         The active set may close a node at zero force; for a free pin that nothing loads, those closed nodes
-        are all that places it (the system is regular, the answer is not unique). A pin squeezed by its hole
-        (no clearance, the hole closing on it) bears real forces and is kept.
+        may be all that places it (the system is regular, the answer is not unique): it is so when the pin
+        can move along some free direction ``v`` without closing any of them further (every closed node's
+        normal ``e`` with ``e . v <= 0``). A pin squeezed by its hole bears real forces, and one closed in
+        all round (no clearance, the hole unstrained there) cannot move; both are kept.
         """
         for j, case in enumerate(getattr(self, "_cases", [])):
             scale = max(float(self._load_scale[j]) if j < self._load_scale.size else 0.0,
                         float(np.abs(self.lam[:, j]).max(initial=0.0)))
             idle = [p["d"]["pin"].name for p in self._idle_parts(case)
-                    if np.abs(self.lam[p["rows"], j]).sum() <= 1e-9 * scale]
+                    if np.abs(self.lam[p["rows"], j]).sum() <= 1e-9 * scale and self._can_slide(p, j)]
             if idle:
                 self._refuse_idle(case, idle, touching=True)
+
+    def _can_slide(self, p: dict, j: int) -> bool:
+        """Whether part ``p``'s pin can move along a free direction without closing its closed nodes in case j."""
+        closed = self.active[p["rows"], j] & self.live[p["rows"]]
+        e = p["e"][closed]
+        if not e.shape[0]:
+            return True
+        d = p["d"]
+        free = d["Q"][:2, :2][:, d["free_comp"]]  # (2, 1 or 2): the free directions
+        if free.shape[1] == 1:
+            s = e @ free[:, 0]
+            return not (s.max() > 1e-6 and s.min() < -1e-6)
+        a = np.sort(np.arctan2(e[:, 1], e[:, 0]))
+        gaps = np.diff(np.r_[a, a[0] + 2 * np.pi])
+        return bool(gaps.max() >= np.pi - 1e-6)  # the normals lie in a half-plane: the pin moves off them
 
     # ------------------------------------------------------------------ after the solve
     def forces(self, sol: np.ndarray, ncases: int) -> np.ndarray:
