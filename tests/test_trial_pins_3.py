@@ -63,14 +63,17 @@ def steel_lug():
 
 
 @pytest.mark.parametrize("D, t, says", [(16.0, 8.0 / 25.4, "thickness given, t = 0.315 mm, is not the model's at the hole (8 mm)"),
-                                        (12.0, 8.0, "hole diameter given, D = 12 mm, is not the diameter of the edge 'hole'")])
+                                        (12.0, 8.0, "hole diameter given, D = 12 mm, is not the diameter of the edge 'hole'"),
+                                        (16.0, 8.0, "width given, W = 50 mm, is not the lug's across the hole in the mesh (40 mm)")])
 def test_a_lug_check_given_another_thickness_or_diameter_says_so(steel_lug, D, t, says):
     # bearing P / (D t) and net section P / ((W - D) t) (common practice, Bruhn sec. D1) are of the D and t given,
     # the peak of the model: t in inches on a model in mm read bearing 4.7 kMPa and Kt on bearing 0.04 with no word
     from planar.post import lug_check
 
-    c = lug_check(steel_lug, 15e3, 40.0, D, t, edge_distance=40.0)
+    W = 50.0 if "width" in says else 40.0
+    c = lug_check(steel_lug, 15e3, W, D, t, edge_distance=40.0)
     assert c.bearing == pytest.approx(15e3 / (D * t), rel=1e-12)  # P / (D t)
+    assert c.net_section == pytest.approx(15e3 / ((W - D) * t), rel=1e-12)  # P / ((W - D) t)
     assert says in c.size_note and f"CAUTION: {c.size_note}." in c.table() and c.as_dict()["size_note"] == c.size_note
 
 

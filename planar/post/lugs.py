@@ -352,8 +352,9 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
     (the pin's force, or the loads on the hole's nodes; twice that on a half model) differs from
     P, and from its component along the lug's axis, by more than :data:`LOAD_TOLERANCE`, the
     table says so (``load_note``): the nominal stresses are of P while the peak and Kt are of
-    the result. When the thickness of the elements on the hole, or the diameter of a circular hole
-    in the mesh, differs from t or D by more than :data:`SIZE_TOLERANCE`, the table says so too
+    the result. When the thickness of the elements on the hole, the diameter of a circular hole in
+    the mesh, or the lug's width across the hole (a lug with an ``"end"`` edge, not cut by a symmetry
+    line) differs from t, D or W by more than :data:`SIZE_TOLERANCE`, the table says so too
     (``size_note``).
     """
     result = as_result(result, "lug_check")
@@ -393,15 +394,39 @@ def lug_check(result, load: float, width: float, hole_diameter: float, thickness
                     pk.value, pk.theta, pk.point, pk.value / net, pk.value / brg, conc, es,
                     units=result.units, case=result.case, factor_of_safety=fs, margins=margins,
                     direction_note="; ".join(notes), load_note=_load_mismatch(result, edge, P),
-                    mesh_note=mesh_note, size_note=_size_mismatch(result, edge, D, t))
+                    mesh_note=mesh_note, size_note=_size_mismatch(result, edge, D, t, W))
 
 
 #: the share by which the thickness or hole diameter given may differ from the model's before the check says so
 SIZE_TOLERANCE = 0.02
 
 
-def _size_mismatch(result, edge: str, D: float, t: float) -> str:
-    """A caution when ``t`` is not the thickness of the elements on the hole, or ``D`` not the hole's diameter.
+def _width(result, edge: str) -> float | None:
+    """The lug's width across its hole's centre, square to its axis (:func:`_load_and_axis`), from the mesh's outline.
+
+    None without an axis, or on a model cut by a symmetry line through the hole (its width is not the whole lug's).
+    """
+    mesh = result.mesh
+    got = _load_and_axis(result, edge)
+    if got is None or _symmetry_normals(result, np.unique(mesh.edge(edge))):
+        return None
+    centre = _hole_load(result, edge)[2]
+    axis = got[1]
+    across = np.array([-axis[1], axis[0]])
+    segs = np.concatenate([np.asarray(mesh.edge(n))[:, :2] for n in mesh.edge_sets if n != edge])
+    x = mesh.nodes[segs] - centre  # (k, 2 ends, 2)
+    a, s = x @ axis, x @ across
+    hit = (a[:, 0] * a[:, 1] <= 0) & (a[:, 0] != a[:, 1])
+    if not hit.any():
+        return None
+    f = a[hit, 0] / (a[hit, 0] - a[hit, 1])
+    where = s[hit, 0] + f * (s[hit, 1] - s[hit, 0])
+    return float(where.max() - where.min())
+
+
+def _size_mismatch(result, edge: str, D: float, t: float, W: float | None = None) -> str:
+    """A caution when ``t`` is not the thickness of the elements on the hole, ``D`` not the hole's diameter, or
+    ``W`` not the lug's width across the hole (a lug with an ``"end"`` edge, not cut by symmetry).
 
     The nominal stresses are of the D and t given; the peak (and so Kt) is of the model: a t or D not the
     model's (a length unit mixed up, a pin's diameter for the hole's) makes Kt wrong by their ratio. The
@@ -427,9 +452,13 @@ def _size_mismatch(result, edge: str, D: float, t: float) -> str:
         if np.isfinite(r) and res < 0.01 and abs(D - 2 * r) > SIZE_TOLERANCE * 2 * r:
             out.append(f"the hole diameter given, D = {_plain(D)}{unit}, is not the diameter of the edge {edge!r} "
                        f"in the mesh ({_plain(2 * r)}{unit})")
+    wm = None if W is None else _width(result, edge)
+    if wm is not None and abs(W - wm) > SIZE_TOLERANCE * wm:
+        out.append(f"the width given, W = {_plain(W)}{unit}, is not the lug's across the hole in the mesh "
+                   f"({_plain(wm)}{unit})")
     if not out:
         return ""
-    return ("; ".join(out) + ": the nominal stresses are of the t and D given, but the peak and Kt are of the model; "
+    return ("; ".join(out) + ": the nominal stresses are of the W, t and D given, but the peak and Kt are of the model; "
             "give the model's")
 
 
