@@ -233,3 +233,32 @@ def test_helper_error_inside_a_plugin_names_the_plugin_and_hook(trial_loads):
     with pytest.raises(planar.PlanarError) as err:
         planar.solve(model)
     assert "load kind" not in str(err.value)
+
+
+def test_a_plugin_loads_own_description_keeps_its_values_in_the_report():
+    # a load kind with describe() written like a call (as docs/plugins.md's HydrostaticPressure) and no
+    # describe_plain: the report's inputs show that text, values and all, not a short name without them
+    from planar.plugin import LoadKind
+    from planar.post import render_html, stress_check_report
+
+    class _Liquid(LoadKind):
+        name = "trial-liquid"
+
+        def __init__(self, where, w, level):
+            self.where, self.w, self.level = str(where), float(w), float(level)
+
+        def names_used(self):
+            return [("edge", self.where)]
+
+        def nodal_forces(self, ctx):
+            return ctx.integrate_traction(self.where, lambda x, n: -(self.w * np.maximum(self.level - x[..., 1], 0.0))[..., None] * n)
+
+        def describe(self):
+            return f"TrialLiquid({self.where!r}, w={self.w:g}, level={self.level:g})"
+
+    m = planar.rectangle_mesh(1.0, 3.0, 2, 6, "Q8")
+    model = planar.Model(m, planar.Isotropic(E=30e3, nu=0.2), thickness=0.5)
+    model.add_support(planar.Fixed("bottom"))
+    model.add_load(_Liquid("left", 10.0, 3.0), case="full")
+    html = render_html(stress_check_report(planar.solve(model)["full"]))
+    assert "w=10, level=3" in html

@@ -359,10 +359,16 @@ def plain_names(model) -> dict[str, str]:
     units = model.unit_system
     things = list(model.supports) + list(getattr(model, "pins", []) or []) + \
         [load for loads in model.cases.values() for load in loads]
+    loads = {id(load) for loads in model.cases.values() for load in loads}
     out: dict[str, str] = {}
     for t in things:
         short = short_name(t, units)
+        # a plugin's load without describe_plain is shown in the inputs by its describe(): that text, values and
+        # all, stays as it is there (replacing it by the short name would lose the values)
+        shown = describe_load(t, units) if id(t) in loads else None
         for text in (repr(t), str(t.describe()) if callable(getattr(t, "describe", None)) else ""):
+            if shown and text and text in shown:
+                continue
             if text and "(" in text and text.endswith(")") and text != short:
                 out.setdefault(text, short)
                 if type(t).__name__ == "Pin":  # "the pin Pin('hole', ...)" reads "the pin 'hole'"
