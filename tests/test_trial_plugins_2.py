@@ -262,3 +262,27 @@ def test_a_plugin_loads_own_description_keeps_its_values_in_the_report():
     model.add_load(_Liquid("left", 10.0, 3.0), case="full")
     html = render_html(stress_check_report(planar.solve(model)["full"]))
     assert "w=10, level=3" in html
+
+
+def test_a_plugin_element_whose_own_rule_is_too_weak_is_told_to_declare_a_higher_one(monkeypatch, tmp_path):
+    # a Q8 declared with a 2 x 2 rule as its full rule has a zero-energy (hourglass) mode of its own: the
+    # advice to "use the full rule" was already the case; the fix is the element's rule_degree
+    info = tmp_path / "planar_trial_weak-0.1.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-weak\nVersion: 0.1.0\n")
+    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-q8r = planar_trial_weak:Q8R\n")
+    (tmp_path / "planar_trial_weak.py").write_text(
+        "from planar.plugin import Q8\n\nclass Q8R(Q8):\n    name = 'trial-q8r'\n    rule_degree = 3\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    try:
+        reload_plugins()
+        model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 1, 1, "Q8"), planar.Isotropic(E=1.0, nu=0.3),
+                             elements={"Q8": "trial-q8r"})
+        model.add_support(planar.Fixed("left"))
+        model.add_load(planar.Traction("right", tx=1.0), case="pull")
+        with pytest.raises(planar.SolverError, match="declare a higher rule_degree"):
+            planar.solve(model)
+    finally:
+        monkeypatch.undo()
+        sys.modules.pop("planar_trial_weak", None)
+        reload_plugins()

@@ -299,6 +299,13 @@ def _zero_energy_fix(block, neg) -> str:
         return (f"; the element's own stiffness ({describe_provider('element', et)}) is at fault: use another "
                 "element type or report it to the plugin's authors" + ("" if neg else
                 "; Model(..., zero_energy='warn' or 'stabilise') goes on at your own risk"))
+    if block.rule_mode == "full":  # the element's own full rule is too weak: a plugin's rule_degree
+        from .registry import describe_provider
+
+        return (f"; the element's own full rule ({describe_provider('element', et)}: rule_degree "
+                f"{getattr(et, 'rule_degree', '?')}) under-integrates it: declare a higher rule_degree for the element "
+                "type, or use another element type; or, knowing the risk, Model(..., zero_energy='stabilise') (a "
+                "small stiffness on those modes only) or zero_energy='warn'")
     alt = ""
     if block.rule_mode != "selective" and _selective_clean(block):
         alt = f", or quadrature={{{et.name!r}: 'selective'}} (full normal terms, reduced shear terms)"
