@@ -131,3 +131,26 @@ def test_a_free_pin_with_no_clearance_in_a_part_moved_rigidly_is_still_solved():
     r = planar.solve(md)["moved"]
     s = next(x for x in r.pin_states if x["name"] == "pC")
     assert s["motion"][0] == pytest.approx(0.01, rel=1e-6) and abs(s["motion"][1]) < 1e-9
+
+
+def test_a_lug_checks_cautions_reach_the_report():
+    # a lug check whose thickness is not the model's, and whose load is off the lug's axis: its CAUTION lines
+    # are carried into the report next to its table (they were dropped: only the Kt note reached the caption)
+    import warnings as _w
+
+    from planar.geometry import Refine, lug, mesh
+    from planar.post import lug_check
+    from planar.post.report import Notice, _check_blocks
+    m = mesh(lug(40.0, 16.0, 40.0, end="round"), size=6.0, element="T6", refine=[Refine("hole", size=1.5)])
+    md = planar.Model(m, planar.Isotropic(E=200e3, nu=0.3), thickness=8.0, units="N, mm, MPa")
+    md.add_support(planar.Fixed("base"))
+    md.add_pin(planar.Pin("hole", tie="contact", clearance=0.02, hold=None, name="pin"))
+    md.add_load(planar.PinLoad("pin", fx=10e3, fy=10e3), case="c")
+    with _w.catch_warnings():
+        _w.simplefilter("ignore")
+        r = planar.solve(md)["c"]
+        c = lug_check(r, 10e3, 40.0, 16.0, 8.0 / 25.4, edge_distance=40.0, bearing_allowable=400.0)
+    blocks = _check_blocks([c])
+    notes = " ".join(i for b in blocks if isinstance(b, Notice) for i in b.items)
+    assert c.size_note and c.direction_note
+    assert c.size_note.split(":")[0][1:] in notes and c.direction_note.split(":")[0][1:] in notes
