@@ -154,3 +154,19 @@ def test_a_lug_checks_cautions_reach_the_report():
     notes = " ".join(i for b in blocks if isinstance(b, Notice) for i in b.items)
     assert c.size_note and c.direction_note
     assert c.size_note.split(":")[0][1:] in notes and c.direction_note.split(":")[0][1:] in notes
+
+
+def test_a_model_moved_by_a_pin_alone_is_told_to_add_a_case():
+    # no load case at all, a pin's move= the only action: the message names model.add_case
+    from planar.geometry import Circle, Plate, mesh
+    p = Plate.rectangle(40.0, 20.0).cut(Circle((20.0, 10.0), 4.0, name="hole"))
+    md = planar.Model(mesh(p, 4.0, element="T6"), planar.Isotropic(E=70e3, nu=0.3), thickness=2.0, units="N, mm, MPa")
+    md.add_support(planar.Fixed("left"))
+    md.add_pin(planar.Pin("hole", tie="rigid", hold="both", move=(0.01, 0.0, 0.0)))
+    with pytest.raises(planar.PlanarError, match=r"model.add_case\('name'\)"):
+        planar.solve(md)
+    md.add_case("push")
+    r = planar.solve(md)["push"]
+    hole = r.mesh.nodes_of("hole")
+    # the pin's prescribed translation, the edge tied rigidly to it (turning a little: its rotation is free)
+    assert r.u[hole, 0].mean() == pytest.approx(0.01, rel=1e-6)

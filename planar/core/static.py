@@ -178,7 +178,11 @@ def _case_names(model, cases) -> list[str]:
         raise InputError(f"solve() needs a planar Model, got {type(model).__name__}; build one with "
                          "planar.Model(mesh, material, thickness=...)")
     if not model.cases:
-        raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)")
+        moves = any(getattr(p, "move", None) is not None for p in getattr(model, "pins", []) or []) or any(
+            type(sp).__name__ == "Prescribed" for sp in model.supports)
+        raise unknown_name("load case", "(none)", [], "Add a load first with model.add_load(...)" + (
+            "; a case driven by prescribed motions alone (a pin's move=, Prescribed supports) is made with "
+            "model.add_case('name')" if moves else ", or a case with no load with model.add_case('name')"))
     return case_list(cases, list(model.cases))
 
 
