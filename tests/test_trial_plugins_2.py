@@ -123,6 +123,17 @@ def _model(kind, **kw):
     return model
 
 
+
+def _throwaway(monkeypatch, tmp_path, dist: str, module: str, entry: str, source: str) -> None:
+    """A throwaway distribution ``dist`` of one module ``module`` (its ``source``) declaring the entry
+    point line ``entry`` (e.g. ``"[planar.elements]\\nname = module:Class"``), put on sys.path."""
+    info = tmp_path / f"{dist.replace('-', '_')}-0.1.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text(f"Metadata-Version: 2.1\nName: {dist}\nVersion: 0.1.0\n")
+    (info / "entry_points.txt").write_text(entry + "\n")
+    (tmp_path / f"{module}.py").write_text(source)
+    monkeypatch.syspath_prepend(str(tmp_path))
+
 def test_linear_pressure_plugin_resultant_and_moment_by_statics(trial_loads):
     # p = 10 + 5 x on the top edge (0 <= x <= 4), thickness 0.5: resultant -(p0 + p1)/2 L t in y and
     # moment about the origin -t (p0 L^2/2 + (p1 - p0) L^2/3) (statics, common practice)
@@ -168,13 +179,9 @@ def test_free_of_locking_misspelt_is_refused_at_discovery(monkeypatch, tmp_path,
     # planar.core.advice reads free_of_locking as a set of words; "shear" alone became {'s', 'h', ...}
     # and a misspelt word counted as not free, so the locking and slender warnings fired on an element
     # that had declared itself free of them
-    info = tmp_path / "planar_trial_locking-0.1.0.dist-info"
-    info.mkdir()
-    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-locking\nVersion: 0.1.0\n")
-    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-free-q8 = planar_trial_locking_2:FreeQ8\n")
-    (tmp_path / "planar_trial_locking_2.py").write_text(
-        f"from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n    free_of_locking = {free}\n")
-    monkeypatch.syspath_prepend(str(tmp_path))
+    _throwaway(monkeypatch, tmp_path, "planar-trial-locking", "planar_trial_locking_2",
+               "[planar.elements]\ntrial-free-q8 = planar_trial_locking_2:FreeQ8",
+               f"from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n    free_of_locking = {free}\n")
     try:
         reg = reload_plugins()
         problems = [p for p in reg.problems if p.name == "trial-free-q8"]
@@ -189,14 +196,10 @@ def test_free_of_locking_misspelt_is_refused_at_discovery(monkeypatch, tmp_path,
 
 
 def test_free_of_locking_declared_right_still_loads(monkeypatch, tmp_path):
-    info = tmp_path / "planar_trial_locking-0.1.0.dist-info"
-    info.mkdir()
-    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-locking\nVersion: 0.1.0\n")
-    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-free-q8 = planar_trial_locking_3:FreeQ8\n")
-    (tmp_path / "planar_trial_locking_3.py").write_text(
-        "from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n"
-        "    free_of_locking = ('volumetric', 'shear')\n")
-    monkeypatch.syspath_prepend(str(tmp_path))
+    _throwaway(monkeypatch, tmp_path, "planar-trial-locking", "planar_trial_locking_3",
+               "[planar.elements]\ntrial-free-q8 = planar_trial_locking_3:FreeQ8",
+               "from planar.plugin import Q8\n\nclass FreeQ8(Q8):\n    name = 'trial-free-q8'\n"
+               "    free_of_locking = ('volumetric', 'shear')\n")
     try:
         reg = reload_plugins()
         assert "trial-free-q8" in reg.names("element")
@@ -267,13 +270,8 @@ def test_a_plugin_loads_own_description_keeps_its_values_in_the_report():
 def test_a_plugin_element_whose_own_rule_is_too_weak_is_told_to_declare_a_higher_one(monkeypatch, tmp_path):
     # a Q8 declared with a 2 x 2 rule as its full rule has a zero-energy (hourglass) mode of its own: the
     # advice to "use the full rule" was already the case; the fix is the element's rule_degree
-    info = tmp_path / "planar_trial_weak-0.1.0.dist-info"
-    info.mkdir()
-    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: planar-trial-weak\nVersion: 0.1.0\n")
-    (info / "entry_points.txt").write_text("[planar.elements]\ntrial-q8r = planar_trial_weak:Q8R\n")
-    (tmp_path / "planar_trial_weak.py").write_text(
-        "from planar.plugin import Q8\n\nclass Q8R(Q8):\n    name = 'trial-q8r'\n    rule_degree = 3\n")
-    monkeypatch.syspath_prepend(str(tmp_path))
+    _throwaway(monkeypatch, tmp_path, "planar-trial-weak", "planar_trial_weak", "[planar.elements]\ntrial-q8r = planar_trial_weak:Q8R",
+               "from planar.plugin import Q8\n\nclass Q8R(Q8):\n    name = 'trial-q8r'\n    rule_degree = 3\n")
     try:
         reload_plugins()
         model = planar.Model(planar.rectangle_mesh(2.0, 1.0, 1, 1, "Q8"), planar.Isotropic(E=1.0, nu=0.3),
