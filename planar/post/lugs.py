@@ -271,19 +271,18 @@ class LugCheck:
             lines.append(f"  {name:<{w0}}  {formula:<{w1}}  {_plain(value):>10} {unit}{tail}")
         if self.margins:
             lines.append(f"  margins: allowable / ({self.factor_of_safety:g} x stress) - 1")
-        if self.size_note:
-            lines.append(f"  CAUTION: {self.size_note}.")
-        if self.load_note:
-            lines.append(f"  CAUTION: {self.load_note}.")
-        if self.direction_note:
-            lines.append(f"  CAUTION: {self.direction_note}.")
-        if self.concentration.note:
-            lines.append(f"  CAUTION: the peak sits {self.concentration.note}.")
-        if self.mesh_note:
-            lines.append(f"  CAUTION: {self.mesh_note}.")
+        lines += [f"  CAUTION: {c}." for c in self.cautions()]
         return "\n".join(lines)
 
     __str__ = table
+
+    def cautions(self, peak: bool = True) -> list[str]:
+        """The check's cautions, in words: sizes that are not the model's, a load that is not the hole's or
+        is off the lug's axis, where the peak sits (``peak``), a mesh that does not resolve it."""
+        notes = [self.size_note, self.load_note, self.direction_note,
+                 f"the peak sits {self.concentration.note}" if peak and self.concentration.note else "",
+                 self.mesh_note]
+        return [n for n in notes if n]
 
     def as_dict(self) -> dict[str, Any]:
         """The check as plain numbers (for JSON), units stated."""

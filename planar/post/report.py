@@ -397,8 +397,8 @@ def _check_blocks(checks) -> list:
                                      f"margins = allowable / ({fs:g} x stress) - 1"
                                      + (f". The peak sits {note}." if note else "."), numeric=[3]))
             # the check's own cautions (sizes not the model's, a load off the axis or not the hole's, the mesh)
-            cautions = [str(getattr(c, k, "") or "") for k in ("size_note", "load_note", "direction_note", "mesh_note")]
-            cautions = [t[0].upper() + t[1:] + ("" if t.endswith(".") else ".") for t in cautions if t]
+            own = c.cautions(peak=False) if callable(getattr(c, "cautions", None)) else []  # the peak's: in the caption
+            cautions = [t[0].upper() + t[1:] + ("" if t.endswith(".") else ".") for t in own]
             if cautions:
                 out.append(Notice(cautions, kind="caution"))
         elif callable(getattr(c, "summary", None)):
